@@ -46,7 +46,9 @@ export const meResponseSchema = z.object({ user: meSchema });
 export type MeResponse = z.infer<typeof meResponseSchema>;
 
 /** Asking for a reset link: always answered 202, whether or not the address is known. */
-export const passwordResetRequestSchema = z.object({ email: z.string().trim().email('Enter an e-mail address') });
+export const passwordResetRequestSchema = z.object({
+  email: z.string().trim().email('Enter an e-mail address'),
+});
 
 /** Completing an invitation or a reset: the single-use token from the e-mail and the new password. */
 export const setPasswordSchema = z.object({

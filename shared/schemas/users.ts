@@ -53,7 +53,8 @@ export const createUserSchema = z
         message: 'Set a password, a badge and PIN, or send an invitation',
       });
     }
-    if (v.badgeCode && !v.pin) ctx.addIssue({ code: 'custom', path: ['pin'], message: 'A badge needs a PIN' });
+    if (v.badgeCode && !v.pin)
+      ctx.addIssue({ code: 'custom', path: ['pin'], message: 'A badge needs a PIN' });
   });
 export type CreateUser = z.input<typeof createUserSchema>;
 

@@ -1,0 +1,76 @@
+import PgBoss from 'pg-boss';
+import type pg from 'pg';
+import { queues } from './queues';
+
+/** Where pg-boss keeps its tables, in the application's database. */
+export const BOSS_SCHEMA = 'pgboss';
+
+export interface QueueStats {
+  queued: number;
+  active: number;
+  failed: number;
+}
+
+/** What the HTTP side needs of the job queue: sending jobs and reporting depth. */
+export interface JobQueue {
+  send<K extends keyof typeof queues>(
+    queue: K,
+    payload: unknown,
+    opts?: { singletonKey?: string },
+  ): Promise<string | null>;
+  stats(): Promise<QueueStats>;
+  boss: PgBoss;
+  stop(): Promise<void>;
+}
+
+export function createBoss(
+  url: string,
+  opts: { max?: number; supervise?: boolean; schedule?: boolean } = {},
+): PgBoss {
+  const boss = new PgBoss({
+    connectionString: url,
+    schema: BOSS_SCHEMA,
+    max: opts.max ?? 4,
+    supervise: opts.supervise ?? false,
+    schedule: opts.schedule ?? false,
+    application_name: 'phasewright-queue',
+  });
+  return boss;
+}
+
+/** Starts pg-boss (creating its schema on first use) and makes sure every queue exists. */
+export async function startJobQueue(
+  url: string,
+  pool: pg.Pool,
+  opts: { supervise?: boolean; schedule?: boolean } = {},
+): Promise<JobQueue> {
+  const boss = createBoss(url, opts);
+  boss.on('error', () => {});
+  await boss.start();
+  for (const q of Object.values(queues)) await ensureQueue(boss, q.name);
+  return {
+    boss,
+    async send(queue, payload, sendOpts) {
+      const def = queues[queue];
+      const data = def.payload.parse(payload);
+      return boss.send(def.name, data, { singletonKey: sendOpts?.singletonKey });
+    },
+    async stats() {
+      const { rows } = await pool.query<{ state: string; n: number }>(
+        `select state::text as state, count(*)::int as n from ${BOSS_SCHEMA}.job group by state`,
+      );
+      const by = Object.fromEntries(rows.map((r) => [r.state, r.n]));
+      return {
+        queued: (by.created ?? 0) + (by.retry ?? 0),
+        active: by.active ?? 0,
+        failed: by.failed ?? 0,
+      };
+    },
+    stop: () => boss.stop({ graceful: true, wait: true }),
+  };
+}
+
+export async function ensureQueue(boss: PgBoss, name: string): Promise<void> {
+  const existing = await boss.getQueue(name);
+  if (!existing) await boss.createQueue(name);
+}

@@ -1,0 +1,25 @@
+import pg from 'pg';
+import { drizzle, type NodePgDatabase } from 'drizzle-orm/node-postgres';
+import * as schema from './schema';
+
+export type Db = NodePgDatabase<typeof schema>;
+/** A database handle or an open transaction: repositories accept either. */
+export type DbOrTx = Db | Parameters<Parameters<Db['transaction']>[0]>[0];
+
+export interface Database {
+  db: Db;
+  pool: pg.Pool;
+  close(): Promise<void>;
+}
+
+export function createDatabase(url: string, opts: { max?: number; applicationName?: string } = {}): Database {
+  const pool = new pg.Pool({
+    connectionString: url,
+    max: opts.max ?? 10,
+    application_name: opts.applicationName ?? 'phasewright',
+  });
+  // An idle client that errors (server restart) must not crash the process; the pool replaces it.
+  pool.on('error', () => {});
+  const db = drizzle(pool, { schema, casing: 'snake_case' });
+  return { db, pool, close: () => pool.end() };
+}

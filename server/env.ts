@@ -1,0 +1,51 @@
+import { z } from 'zod';
+
+/**
+ * Configuration, parsed once from the environment. Every variable is documented in the README
+ * ("Configuration"). Anything wrong stops the process with a message naming the variable.
+ */
+const envSchema = z.object({
+  NODE_ENV: z.enum(['development', 'production', 'test']).default('development'),
+  PORT: z.coerce.number().int().min(0).max(65535).default(3000),
+  HOST: z.string().default('127.0.0.1'),
+  DATABASE_URL: z.string().url('DATABASE_URL must be a postgres:// URL'),
+  /** Secret for signing session tokens; required outside development and tests. */
+  SESSION_SECRET: z.string().min(32, 'SESSION_SECRET must be at least 32 characters').optional(),
+  /** Send session cookies only over HTTPS (set when a TLS proxy fronts the server). */
+  COOKIE_SECURE: z
+    .enum(['true', 'false'])
+    .default('false')
+    .transform((v) => v === 'true'),
+  /** SMTP relay for outgoing mail; defaults to the local fake mail server. */
+  SMTP_URL: z.string().default('smtp://127.0.0.1:2525'),
+  /** HTTP endpoint of the local fake mail server's mailbox (admin outbox); empty when a real relay is used. */
+  MAILBOX_URL: z.string().default('http://127.0.0.1:2580'),
+  MAIL_FROM: z.string().default('Phasewright <no-reply@phasewright.local>'),
+  /** Public base URL used in e-mailed links. */
+  PUBLIC_URL: z.string().url().optional(),
+  LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
+  /** Where the built client lives; served with a single-page fallback when present. */
+  CLIENT_DIST: z.string().default('dist/client'),
+  BCRYPT_COST: z.coerce.number().int().min(10).max(15).default(10),
+});
+
+export type Env = z.infer<typeof envSchema> & { SESSION_SECRET: string; PUBLIC_URL: string };
+
+const DEV_SECRET = 'phasewright-development-secret-not-for-production-use';
+
+export function parseEnv(source: NodeJS.ProcessEnv = process.env): Env {
+  const parsed = envSchema.safeParse(source);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join('.')}: ${i.message}`);
+    throw new Error(`Configuration is invalid:\n${lines.join('\n')}`);
+  }
+  const env = parsed.data;
+  if (!env.SESSION_SECRET && env.NODE_ENV === 'production') {
+    throw new Error('Configuration is invalid:\n  SESSION_SECRET: required in production (32+ characters)');
+  }
+  return {
+    ...env,
+    SESSION_SECRET: env.SESSION_SECRET ?? DEV_SECRET,
+    PUBLIC_URL: env.PUBLIC_URL ?? `http://localhost:${env.PORT}`,
+  };
+}

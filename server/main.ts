@@ -1,0 +1,65 @@
+import type { AddressInfo } from 'node:net';
+import { parseEnv } from './env';
+import { createApp } from './app';
+import { createDatabase } from './db/client';
+import { runMigrations } from './db/migrate';
+import { seedDemoAccounts } from './db/seed';
+import { createLogger } from './lib/logger';
+import { createSmtpMailer } from './modules/mail/mail.service';
+import { startJobQueue } from '../jobs/queue-client';
+import type { AppDeps } from './deps';
+
+/**
+ * The API + client server. Wires real dependencies, applies migrations, optionally seeds the demo,
+ * and listens. `npm start` runs this next to the worker (jobs/worker.ts).
+ */
+export async function startServer(source: NodeJS.ProcessEnv = process.env) {
+  const env = parseEnv(source);
+  const logger = createLogger(env.LOG_LEVEL, 'phasewright-server');
+  const database = createDatabase(env.DATABASE_URL, { max: 20, applicationName: 'phasewright-server' });
+  await runMigrations(database.db);
+  if (source.SEED_DEMO === 'true') {
+    if (await seedDemoAccounts(database.db, env.BCRYPT_COST)) logger.info('demo accounts created');
+  }
+  const queue = await startJobQueue(env.DATABASE_URL, database.pool);
+  const mailer = createSmtpMailer(env.SMTP_URL, env.MAIL_FROM);
+  const deps: AppDeps = {
+    env,
+    db: database.db,
+    pool: database.pool,
+    logger,
+    clock: () => new Date(),
+    mailer,
+    queue,
+  };
+  const app = createApp(deps);
+  const server = app.listen(env.PORT, env.HOST);
+  await new Promise<void>((resolve, reject) => {
+    server.once('listening', () => resolve());
+    server.once('error', reject);
+  });
+  const port = (server.address() as AddressInfo).port;
+  logger.info({ port }, 'server listening');
+  return {
+    port,
+    deps,
+    async stop() {
+      await new Promise<void>((r) => server.close(() => r()));
+      await queue.stop();
+      mailer.close();
+      await database.close();
+    },
+  };
+}
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+  try {
+    const s = await startServer();
+    const stop = () => void s.stop().then(() => process.exit(0));
+    process.on('SIGINT', stop);
+    process.on('SIGTERM', stop);
+  } catch (e) {
+    console.error((e as Error).message);
+    process.exit(1);
+  }
+}

@@ -1,0 +1,120 @@
+import type { Request } from 'express';
+import type { AppDeps } from '../../deps';
+import { clearSessionCookie, setSessionCookie, signSession } from '../../lib/auth';
+import { route } from '../../lib/http';
+import {
+  badgeSignInSchema,
+  passwordResetRequestSchema,
+  passwordSignInSchema,
+  setPasswordSchema,
+} from '../../../shared/schemas/auth';
+import { insertAudit } from '../audit/audit.repository';
+import { findUserByEmail } from '../users/users.repository';
+import type { UserRecord } from '../users/users.table';
+import {
+  completeLinkToken,
+  requestPasswordReset,
+  signInWithBadge,
+  signInWithPassword,
+  toSessionUser,
+  type AuthContext,
+} from './auth.service';
+import { FailureThrottle } from './throttle';
+
+/** Failed sign-ins allowed per client address in 15 minutes before it is refused for a while. */
+export const IP_FAILURE_LIMIT = 20;
+
+export function authRoutes(deps: AppDeps) {
+  const throttle = new FailureThrottle(IP_FAILURE_LIMIT, 15 * 60_000);
+  const ctx = (req: Request): AuthContext => ({ db: deps.db, clock: deps.clock, throttle, ip: req.ip ?? '' });
+  const startSession = (res: Parameters<Parameters<typeof route>[0]['handler']>[1], user: UserRecord) => {
+    setSessionCookie(
+      res,
+      signSession(deps.env.SESSION_SECRET, user.id, user.tokenVersion, deps.clock()),
+      deps.env.COOKIE_SECURE,
+    );
+    res.json({ user: toSessionUser(user) });
+  };
+  return [
+    route({
+      method: 'post',
+      path: '/api/auth/sign-in',
+      access: 'anyone',
+      summary: 'Sign in with user name and password',
+      handler: async (req, res) => {
+        const { username, password } = passwordSignInSchema.parse(req.body);
+        startSession(res, await signInWithPassword(ctx(req), username, password));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/auth/badge-sign-in',
+      access: 'anyone',
+      summary: 'Sign in at a station with badge code and PIN',
+      handler: async (req, res) => {
+        const { badgeCode, pin } = badgeSignInSchema.parse(req.body);
+        startSession(res, await signInWithBadge(ctx(req), badgeCode, pin));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/auth/sign-out',
+      access: 'anyone',
+      summary: 'End this session',
+      handler: async (req, res) => {
+        if (req.user) {
+          await insertAudit(deps.db, {
+            actorId: req.user.id,
+            actorName: req.user.displayName,
+            action: 'auth.signed_out',
+            subjectType: 'user',
+            subjectId: req.user.id,
+            ip: req.ip ?? null,
+          });
+        }
+        clearSessionCookie(res, deps.env.COOKIE_SECURE);
+        res.status(204).end();
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/me',
+      access: 'signed-in',
+      summary: 'The signed-in person',
+      handler: (req, res) => {
+        res.json({ user: req.user });
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/auth/password-reset',
+      access: 'anyone',
+      summary: 'E-mail a reset link (answered the same whether or not the address is known)',
+      handler: async (req, res) => {
+        const { email } = passwordResetRequestSchema.parse(req.body);
+        const user = await findUserByEmail(deps.db, email);
+        await requestPasswordReset(deps.db, deps.mailer, user, {
+          now: deps.clock(),
+          publicUrl: deps.env.PUBLIC_URL,
+          ip: req.ip ?? '',
+        });
+        res.status(202).json({ accepted: true });
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/auth/set-password',
+      access: 'anyone',
+      summary: 'Choose a password with an invitation or reset link',
+      handler: async (req, res) => {
+        const { token, password } = setPasswordSchema.parse(req.body);
+        const user = await completeLinkToken(deps.db, token, password, {
+          now: deps.clock(),
+          bcryptCost: deps.env.BCRYPT_COST,
+          ip: req.ip ?? '',
+        });
+        startSession(res, user);
+      },
+    }),
+  ];
+}
