@@ -1,0 +1,42 @@
+import type { Access } from '../../shared/schemas/roles';
+
+export type NavItem = {
+  to: string;
+  label: string;
+  /** One line for the overview card. */
+  summary: string;
+  access: Access;
+};
+
+/**
+ * Every area that exists, with who may open it. Navigation, overview cards and route guards all read
+ * this list, so a role never sees a link to a page it would be refused. Areas join the list when they
+ * are built, not before.
+ */
+export const NAV_ITEMS: readonly NavItem[] = [
+  { to: '/', label: 'Overview', summary: 'Your account and the state of the system.', access: 'signed-in' },
+  {
+    to: '/admin/people',
+    label: 'People',
+    summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',
+    access: ['admin'],
+  },
+  {
+    to: '/admin/outbox',
+    label: 'Outbox',
+    summary: 'Every e-mail Phasewright has sent: invitations and password links.',
+    access: ['admin'],
+  },
+  {
+    to: '/admin/audit',
+    label: 'Audit log',
+    summary: 'Who changed what, when and why, with the values before and after.',
+    access: ['admin'],
+  },
+  {
+    to: '/admin/system',
+    label: 'System',
+    summary: 'Database and job queue health, and the running version.',
+    access: ['admin'],
+  },
+];

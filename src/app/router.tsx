@@ -1,0 +1,58 @@
+import { createBrowserRouter, Outlet, RouterProvider } from 'react-router';
+import { setSessionLostHandler } from '../lib/api-client';
+import { queryClient } from '../lib/query-client';
+import { authKeys } from '../features/auth/api/auth-keys';
+import { RequireAccess } from './require-access';
+import { RouteErrorPage } from './routes/route-error-page';
+import { LoadingScreen } from './routes/loading-screen';
+
+/**
+ * One lazy module per area: the sign-in pages, the signed-in shell, and each screen inside it. Every
+ * admin screen sits under one guard, so a role that may not open it sees the not-allowed view (the
+ * server refuses the data anyway).
+ */
+export const router = createBrowserRouter([
+  {
+    id: 'root',
+    element: <Outlet />,
+    ErrorBoundary: RouteErrorPage,
+    HydrateFallback: LoadingScreen,
+    children: [
+      { path: 'sign-in', lazy: () => import('./routes/sign-in') },
+      { path: 'forgot-password', lazy: () => import('./routes/forgot-password') },
+      { path: 'set-password', lazy: () => import('./routes/set-password') },
+      {
+        id: 'shell',
+        lazy: () => import('./routes/app-shell'),
+        children: [
+          { index: true, lazy: () => import('./routes/home') },
+          {
+            path: 'admin',
+            element: <RequireAccess access={['admin']} />,
+            children: [
+              { index: true, lazy: () => import('./routes/admin-index') },
+              { path: 'outbox', lazy: () => import('./routes/admin-outbox') },
+              { path: 'audit', lazy: () => import('./routes/admin-audit') },
+              { path: 'system', lazy: () => import('./routes/admin-system') },
+            ],
+          },
+          { path: '*', lazy: () => import('./routes/not-found') },
+        ],
+      },
+    ],
+  },
+]);
+
+// A 401 on a signed-in call means the session ended elsewhere (expired after the shift, revoked by an
+// admin): forget the identity and go to the sign-in page, then come back here afterwards.
+setSessionLostHandler(() => {
+  queryClient.setQueryData(authKeys.me(), null);
+  const { pathname, search } = window.location;
+  if (pathname.startsWith('/sign-in')) return;
+  const next = encodeURIComponent(pathname + search);
+  void router.navigate(`/sign-in?expired=1&next=${next}`, { replace: true });
+});
+
+export function AppRouter() {
+  return <RouterProvider router={router} />;
+}

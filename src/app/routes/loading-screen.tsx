@@ -1,0 +1,9 @@
+import { Loading } from '../../components/ui/alert';
+
+export function LoadingScreen() {
+  return (
+    <div className="flex min-h-dvh items-center justify-center">
+      <Loading label="Starting Phasewright…" />
+    </div>
+  );
+}

@@ -1,0 +1,16 @@
+import { StrictMode } from 'react';
+import { createRoot } from 'react-dom/client';
+import './styles.css';
+import { Providers } from './app/providers';
+import { AppRouter } from './app/router';
+
+const container = document.getElementById('root');
+if (!container) throw new Error('index.html must contain <div id="root">');
+
+createRoot(container).render(
+  <StrictMode>
+    <Providers>
+      <AppRouter />
+    </Providers>
+  </StrictMode>,
+);
