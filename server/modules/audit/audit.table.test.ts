@@ -1,0 +1,33 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestDatabase, type TestDatabase } from '../../../tests/harness/db';
+import { insertAudit } from './audit.repository';
+
+let d: TestDatabase;
+beforeAll(async () => {
+  d = await createTestDatabase();
+});
+afterAll(async () => {
+  await d?.drop();
+});
+
+describe('the audit log is append-only in the database itself', () => {
+  it('accepts new entries', async () => {
+    await insertAudit(d.db, { action: 'test.entry', reason: 'why', before: { a: 1 }, after: { a: 2 } });
+    const { rows } = await d.pool.query('select action, before, after from audit_log');
+    expect(rows).toEqual([{ action: 'test.entry', before: { a: 1 }, after: { a: 2 } }]);
+  });
+
+  it('refuses UPDATE', async () => {
+    await expect(d.pool.query(`update audit_log set reason = 'rewritten'`)).rejects.toThrow(/append-only/);
+  });
+
+  it('refuses DELETE', async () => {
+    await expect(d.pool.query('delete from audit_log')).rejects.toThrow(/append-only/);
+  });
+
+  it('refuses TRUNCATE', async () => {
+    await expect(d.pool.query('truncate audit_log')).rejects.toThrow(/append-only/);
+    const { rows } = await d.pool.query('select count(*)::int as n from audit_log');
+    expect(rows[0].n).toBe(1);
+  });
+});

@@ -1,0 +1,64 @@
+import { parseEnv } from '../../server/env';
+import { createApp } from '../../server/app';
+import type { AppDeps } from '../../server/deps';
+import { createLogger } from '../../server/lib/logger';
+import { createSmtpMailer } from '../../server/modules/mail/mail.service';
+import { startFakeMailServer, type FakeMailServer } from '../../server/modules/mail/fake-mail-server';
+import { seedDemoAccounts } from '../../server/db/seed';
+import { startJobQueue } from '../../jobs/queue-client';
+import { createTestDatabase, type TestDatabase } from './db';
+
+export interface TestApp {
+  app: ReturnType<typeof createApp>;
+  deps: AppDeps;
+  database: TestDatabase;
+  mail: FakeMailServer;
+  /** Moves the app's clock (lockouts, token expiry, sessions). */
+  setNow(d: Date): void;
+  close(): Promise<void>;
+}
+
+/**
+ * The real app on a private database, with the demo accounts, a real pg-boss queue and the local
+ * fake mail server on free ports. Only the clock is controllable.
+ */
+export async function createTestApp(opts: { seed?: boolean } = {}): Promise<TestApp> {
+  const database = await createTestDatabase();
+  const mail = await startFakeMailServer({});
+  const env = parseEnv({
+    NODE_ENV: 'test',
+    DATABASE_URL: database.url,
+    SMTP_URL: `smtp://127.0.0.1:${mail.smtpPort}`,
+    MAILBOX_URL: `http://127.0.0.1:${mail.httpPort}`,
+    PUBLIC_URL: 'http://phasewright.test',
+    LOG_LEVEL: 'silent',
+    CLIENT_DIST: '/nonexistent',
+  });
+  if (opts.seed ?? true) await seedDemoAccounts(database.db, env.BCRYPT_COST);
+  const queue = await startJobQueue(database.url, database.pool);
+  let now: Date | null = null;
+  const deps: AppDeps = {
+    env,
+    db: database.db,
+    pool: database.pool,
+    logger: createLogger('silent'),
+    clock: () => now ?? new Date(),
+    mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
+    queue,
+  };
+  return {
+    app: createApp(deps),
+    deps,
+    database,
+    mail,
+    setNow(d) {
+      now = d;
+    },
+    async close() {
+      deps.mailer.close();
+      await queue.stop();
+      await mail.close();
+      await database.drop();
+    },
+  };
+}
