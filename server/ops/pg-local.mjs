@@ -15,22 +15,14 @@ import {
   readlinkSync,
   rmSync,
   statSync,
+  unlinkSync,
+  writeSync,
 } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import { performance } from 'node:perf_hooks';
-import {
-  isMain,
-  isRoot,
-  prefixedLog,
-  repoRoot,
-  run,
-  runOrThrow,
-  sha256Text,
-  sleep,
-  aptInstall,
-} from './proc.mjs';
+import { isMain, isRoot, prefixedLog, repoRoot, run, sha256Text, sleep, aptInstall } from './proc.mjs';
 
 /** @typedef {import('./proc.mjs').Log} Log */
 
@@ -405,6 +397,7 @@ async function initCluster({ binDir, dataDir, logFile, runAs }, log) {
  * @param {{ binDir: string, dataDir: string, socketDir: string, logFile: string, runAs: string | undefined, port: number, portVar: string, instance: string }} ctx
  * @param {number} timeoutMs
  * @param {Log} log
+ * @returns {Promise<boolean>} whether this call started it (false when another process did meanwhile)
  */
 async function startServer(ctx, timeoutMs, log) {
   const { binDir, dataDir, socketDir, logFile, runAs, port, portVar, instance } = ctx;
@@ -423,6 +416,9 @@ async function startServer(ctx, timeoutMs, log) {
     rmSync(join(dataDir, 'postmaster.pid'), { force: true });
   }
   if (!(await portIsFree(port))) {
+    // Another process (a second `npm start`, a test run) may be starting this very server.
+    if (serverProcessesIn(dataDir) && (await waitUntilReady(binDir, socketDir, port, timeoutMs)))
+      return false;
     throw new Error(
       `Port ${port} on 127.0.0.1 is in use by another program, so the ${instance} database cannot start there. ` +
         `Free the port or choose another with ${portVar}=<port>.`,
@@ -446,7 +442,9 @@ async function startServer(ctx, timeoutMs, log) {
     attempt += 1;
     const result = await run(join(binDir, 'pg_ctl'), args, { asUser: runAs, env: toolEnv(), detached: true });
     const remaining = Math.max(0, deadline - performance.now());
-    if (await waitUntilReady(binDir, socketDir, port, result.code === 0 ? remaining : 300)) return;
+    // Ready after a failed pg_ctl means another process won the race to start it.
+    if (await waitUntilReady(binDir, socketDir, port, result.code === 0 ? remaining : 300))
+      return result.code === 0;
     if (performance.now() >= deadline) {
       throw new Error(
         `PostgreSQL (${instance}) did not become ready on port ${port} within ${timeoutMs} ms after ${attempt} attempt(s).\n` +
@@ -486,12 +484,89 @@ async function ensureRoleAndDatabase({ binDir, socketDir, runAs, port, database,
     '-d',
     'postgres',
   ];
-  await runOrThrow(`Creating the ${APP_ROLE} role and the ${database} database`, join(binDir, 'psql'), args, {
-    asUser: runAs,
-    env: toolEnv(),
-    input: sql,
-    timeoutMs: 30_000,
-  });
+  // Two processes ensuring the same instance at once can both see the role or database missing;
+  // the loser gets a unique violation, and a second pass finds them present.
+  for (let attempt = 1; ; attempt += 1) {
+    const result = await run(join(binDir, 'psql'), args, {
+      asUser: runAs,
+      env: toolEnv(),
+      input: sql,
+      timeoutMs: 30_000,
+    });
+    if (result.code === 0) return;
+    const output = `${result.stderr}\n${result.stdout}`.trim();
+    if (attempt < 5 && /already exists|duplicate key value/.test(output)) {
+      await sleep(100 * attempt);
+      continue;
+    }
+    throw new Error(
+      `Creating the ${APP_ROLE} role and the ${database} database failed (psql exit code ${result.code}):\n${output}`,
+    );
+  }
+}
+
+/**
+ * Runs `task` while holding a lock file for the instance, so two processes starting (or one starting
+ * and one stopping) the same instance take turns instead of racing through initdb. A lock left by a
+ * process that died is taken over.
+ * @template T
+ * @param {string} lockFile
+ * @param {number} timeoutMs
+ * @param {Log} log
+ * @param {() => Promise<T>} task
+ * @returns {Promise<T>}
+ */
+async function withInstanceLock(lockFile, timeoutMs, log, task) {
+  const deadline = performance.now() + timeoutMs;
+  let announced = false;
+  for (;;) {
+    try {
+      const fd = openSync(lockFile, 'wx', 0o644);
+      writeSync(fd, String(process.pid));
+      closeSync(fd);
+      break;
+    } catch (error) {
+      if (/** @type {NodeJS.ErrnoException} */ (error).code !== 'EEXIST') throw error;
+    }
+    /** @type {number} */
+    let holder;
+    try {
+      holder = Number(readFileSync(lockFile, 'utf8'));
+    } catch {
+      continue;
+    }
+    if (!Number.isInteger(holder) || holder <= 0 || !processIsAlive(holder)) {
+      rmSync(lockFile, { force: true });
+      continue;
+    }
+    if (performance.now() >= deadline) {
+      throw new Error(
+        `Another process (pid ${holder}) has been starting or stopping this database for too long (lock ${lockFile}).`,
+      );
+    }
+    if (!announced) log(`waiting for process ${holder}, which is starting or stopping this database`);
+    announced = true;
+    await sleep(100);
+  }
+  try {
+    return await task();
+  } finally {
+    try {
+      unlinkSync(lockFile);
+    } catch {
+      // Already gone: nothing to release.
+    }
+  }
+}
+
+/** @param {number} pid */
+function processIsAlive(pid) {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (error) {
+    return /** @type {NodeJS.ErrnoException} */ (error).code === 'EPERM';
+  }
 }
 
 /**
@@ -528,35 +603,38 @@ export async function ensurePostgres({
 
   await ensureBinaries(env, log);
   const layout = await resolveLayout(instance, config.port, { create: true, log });
-  const versionFile = join(layout.dataDir, 'PG_VERSION');
-  const clusterMajor = existsSync(versionFile) ? readFileSync(versionFile, 'utf8').trim() : undefined;
-  const bin = findPgBinDir(env, clusterMajor);
-  if (!bin) throw new Error('PostgreSQL server binaries disappeared while starting.');
-  if (clusterMajor !== undefined && bin.major !== '' && bin.major !== clusterMajor) {
-    throw new Error(
-      `${layout.dataDir} was created by PostgreSQL ${clusterMajor}, but only version ${bin.major} is installed. ` +
-        `Install postgresql-${clusterMajor}, or move the folder away to start with an empty database.`,
-    );
-  }
-  if (clusterMajor === undefined) {
-    if (readdirSync(layout.dataDir).some((name) => !name.startsWith('.s.PGSQL.'))) {
+  const lockFile = join(dirname(layout.dataDir), `pg-${instance}.lock`);
+  const { ctx, startedByUs } = await withInstanceLock(lockFile, timeoutMs, log, async () => {
+    const versionFile = join(layout.dataDir, 'PG_VERSION');
+    const clusterMajor = existsSync(versionFile) ? readFileSync(versionFile, 'utf8').trim() : undefined;
+    const bin = findPgBinDir(env, clusterMajor);
+    if (!bin) throw new Error('PostgreSQL server binaries disappeared while starting.');
+    if (clusterMajor !== undefined && bin.major !== '' && bin.major !== clusterMajor) {
       throw new Error(
-        `${layout.dataDir} is not empty but holds no PostgreSQL cluster (no PG_VERSION). Move it away and start again.`,
+        `${layout.dataDir} was created by PostgreSQL ${clusterMajor}, but only version ${bin.major} is installed. ` +
+          `Install postgresql-${clusterMajor}, or move the folder away to start with an empty database.`,
       );
     }
-    await initCluster({ binDir: bin.binDir, ...layout }, log);
-  }
+    if (clusterMajor === undefined) {
+      if (readdirSync(layout.dataDir).some((name) => !name.startsWith('.s.PGSQL.'))) {
+        throw new Error(
+          `${layout.dataDir} is not empty but holds no PostgreSQL cluster (no PG_VERSION). Move it away and start again.`,
+        );
+      }
+      await initCluster({ binDir: bin.binDir, ...layout }, log);
+    }
 
-  const ctx = { ...layout, ...config, binDir: bin.binDir };
-  let startedByUs = false;
-  if (await isReady(bin.binDir, layout.socketDir, config.port)) {
-    log(`already running on 127.0.0.1:${config.port}`);
-  } else {
-    log(`starting PostgreSQL ${bin.major} on 127.0.0.1:${config.port} (log: ${layout.logFile})`);
-    await startServer(ctx, timeoutMs, log);
-    startedByUs = true;
-  }
-  await ensureRoleAndDatabase(ctx);
+    const ctx = { ...layout, ...config, binDir: bin.binDir };
+    let started = false;
+    if (await isReady(bin.binDir, layout.socketDir, config.port)) {
+      log(`already running on 127.0.0.1:${config.port}`);
+    } else {
+      log(`starting PostgreSQL ${bin.major} on 127.0.0.1:${config.port} (log: ${layout.logFile})`);
+      started = await startServer(ctx, timeoutMs, log);
+    }
+    await ensureRoleAndDatabase(ctx);
+    return { ctx, startedByUs: started };
+  });
   const elapsedMs = Math.round(performance.now() - started);
   log(`ready in ${elapsedMs} ms: database ${config.database} on 127.0.0.1:${config.port}`);
   return {
@@ -571,7 +649,7 @@ export async function ensurePostgres({
     external: false,
     startedByUs,
     elapsedMs,
-    stop: () => stopLocal(ctx, log),
+    stop: () => withInstanceLock(lockFile, 60_000, log, () => stopLocal(ctx, log)),
   };
 }
 
@@ -605,7 +683,11 @@ export async function stopPostgres({
   const bin = findPgBinDir(env);
   if (!bin) return;
   const layout = await resolveLayout(instance, config.port, { create: false, log });
-  await stopLocal({ ...layout, ...config, binDir: bin.binDir }, log);
+  if (!existsSync(join(layout.dataDir, 'postmaster.pid'))) return;
+  const lockFile = join(dirname(layout.dataDir), `pg-${instance}.lock`);
+  await withInstanceLock(lockFile, 60_000, log, () =>
+    stopLocal({ ...layout, ...config, binDir: bin.binDir }, log),
+  );
 }
 
 /**
