@@ -1,0 +1,92 @@
+import { z } from 'zod';
+
+/**
+ * The measurement a test station uploads: for each segment of the run (one direction at one speed),
+ * the hall edges and the back-EMF zero crossings it timed. Times are microseconds from capture start.
+ * Angle conventions and the crossing table are in the project's domain notes (θ = 0 with the rotor
+ * d-axis on phase A, forward = A→B→C).
+ */
+
+/** A hall sensor, named as in the recipe's `hallRiseDeg`. */
+export const hallSensorSchema = z.enum(['A', 'B', 'C']);
+export type HallSensor = z.infer<typeof hallSensorSchema>;
+
+/** Edge kind as seen on the wire: rise = low→high, fall = high→low. */
+export const edgeKindSchema = z.enum(['rise', 'fall']);
+export type EdgeKind = z.infer<typeof edgeKindSchema>;
+
+/** Back-EMF channel: phase to neutral (A, B, C; real or virtual neutral) or line to line (AB, BC, CA). */
+export const bemfChannelSchema = z.enum(['A', 'B', 'C', 'AB', 'BC', 'CA']);
+export type BemfChannel = z.infer<typeof bemfChannelSchema>;
+
+/** Direction of rotation the station drove the rotor in; forward = θ increasing = A→B→C. */
+export const directionSchema = z.enum(['forward', 'reverse']);
+export type Direction = z.infer<typeof directionSchema>;
+
+const timeUs = z.number({ error: 'must be a finite number of microseconds' });
+
+export const hallEdgeSchema = z.object({
+  sensor: hallSensorSchema,
+  edge: edgeKindSchema,
+  /** Microseconds from capture start. */
+  us: timeUs,
+});
+export type HallEdge = z.infer<typeof hallEdgeSchema>;
+
+export const bemfCrossingSchema = z.object({
+  channel: bemfChannelSchema,
+  /** rise = the channel voltage goes from negative to positive. */
+  edge: edgeKindSchema,
+  /** Microseconds from capture start, as reported by the detector (its delay is removed by the engine). */
+  us: timeUs,
+});
+export type BemfCrossing = z.infer<typeof bemfCrossingSchema>;
+
+function checkSorted(
+  items: readonly { us: number }[],
+  key: 'hallEdges' | 'bemfCrossings',
+  ctx: z.core.$RefinementCtx,
+): void {
+  for (let i = 1; i < items.length; i++) {
+    if (items[i].us < items[i - 1].us) {
+      ctx.addIssue({
+        code: 'custom',
+        path: [key, i, 'us'],
+        message: `times must not decrease (${items[i].us} µs comes after ${items[i - 1].us} µs)`,
+      });
+      return;
+    }
+  }
+}
+
+export const measurementSegmentSchema = z
+  .object({
+    direction: directionSchema,
+    /** Hall edges of all three sensors, merged and sorted by time (non-decreasing). */
+    hallEdges: z.array(hallEdgeSchema).min(1, 'needs at least one hall edge'),
+    /** Back-EMF zero crossings of all channels, merged and sorted by time (non-decreasing). */
+    bemfCrossings: z
+      .array(bemfCrossingSchema)
+      .min(4, 'needs at least four back-EMF crossings to fit the angle'),
+    /** Optional free label from the station, e.g. "fwd-3000rpm". */
+    label: z.string().max(200).optional(),
+  })
+  .superRefine((segment, ctx) => {
+    checkSorted(segment.hallEdges, 'hallEdges', ctx);
+    checkSorted(segment.bemfCrossings, 'bemfCrossings', ctx);
+  });
+export type MeasurementSegment = z.infer<typeof measurementSegmentSchema>;
+
+export const measurementSchema = z.object({
+  /** Chosen by the station; the idempotency key of the upload. */
+  measurementId: z.string().min(1).max(200),
+  /** Unit serial as scanned. */
+  serial: z.string().min(1).max(200),
+  /** One or more segments: directions and speeds may differ between segments. */
+  segments: z.array(measurementSegmentSchema).min(1, 'needs at least one segment'),
+  /** ISO 8601 time the capture was taken, when the station knows it. */
+  capturedAt: z.string().optional(),
+  /** Free-form station identifier. */
+  stationId: z.string().max(200).optional(),
+});
+export type Measurement = z.infer<typeof measurementSchema>;
