@@ -31,6 +31,7 @@ export const router = createBrowserRouter([
             element: <RequireAccess access={['admin']} />,
             children: [
               { index: true, lazy: () => import('./routes/admin-index') },
+              { path: 'people', lazy: () => import('./routes/admin-people') },
               { path: 'outbox', lazy: () => import('./routes/admin-outbox') },
               { path: 'audit', lazy: () => import('./routes/admin-audit') },
               { path: 'system', lazy: () => import('./routes/admin-system') },

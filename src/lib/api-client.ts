@@ -44,7 +44,7 @@ type RequestOptions = {
 };
 
 async function readError(response: Response): Promise<ApiError> {
-  let body: unknown = null;
+  let body: unknown;
   try {
     body = await response.json();
   } catch {

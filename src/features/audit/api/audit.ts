@@ -15,6 +15,8 @@ export const auditKeys = {
 export const auditListQueryOptions = (filters: AuditFilters) =>
   queryOptions({
     queryKey: auditKeys.list(filters),
+    // Every admin action adds entries; opening the log always asks again.
+    staleTime: 0,
     queryFn: () =>
       apiRequest<{ entries: AuditEntry[] }>(`/api/admin/audit?limit=${filters.limit}`).then(
         (body) => body.entries,

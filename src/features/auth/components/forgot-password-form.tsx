@@ -1,7 +1,7 @@
 import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { z } from 'zod';
+import type { z } from 'zod';
 import { passwordResetRequestSchema } from '../../../../shared/schemas/auth';
 import { Alert } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
