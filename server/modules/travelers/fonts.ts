@@ -1,0 +1,136 @@
+import { readFileSync } from 'node:fs';
+import { createRequire } from 'node:module';
+import { dirname, join } from 'node:path';
+
+// The traveler embeds Barlow as TrueType: pdfkit cannot read WOFF2, and WOFF costs 40–50 ms per face
+// per PDF. The files come from @expo-google-fonts/barlow (SIL Open Font License 1.1).
+export const BARLOW_FACES = {
+  regular: '400Regular/Barlow_400Regular.ttf',
+  semiBold: '600SemiBold/Barlow_600SemiBold.ttf',
+  bold: '700Bold/Barlow_700Bold.ttf',
+} as const;
+
+export type BarlowFace = keyof typeof BARLOW_FACES;
+
+export function barlowFontDirectory(): string {
+  const require = createRequire(import.meta.url);
+  try {
+    return dirname(require.resolve('@expo-google-fonts/barlow/package.json'));
+  } catch (cause) {
+    throw new Error('Barlow TTF files not found: the traveler needs the @expo-google-fonts/barlow package.', {
+      cause,
+    });
+  }
+}
+
+export function barlowFontPath(face: BarlowFace): string {
+  return join(barlowFontDirectory(), BARLOW_FACES[face]);
+}
+
+let buffers: Readonly<Record<BarlowFace, Buffer>> | undefined;
+
+// Read once per process: every render reuses the same bytes.
+export function loadBarlowFonts(): Readonly<Record<BarlowFace, Buffer>> {
+  if (buffers) return buffers;
+  const directory = barlowFontDirectory();
+  const entries = Object.entries(BARLOW_FACES).map(([face, file]) => {
+    const path = join(directory, file);
+    try {
+      return [face, readFileSync(path)] as const;
+    } catch (cause) {
+      throw new Error(`Barlow face "${face}" could not be read from ${path}.`, { cause });
+    }
+  });
+  buffers = Object.freeze(Object.fromEntries(entries) as Record<BarlowFace, Buffer>);
+  return buffers;
+}
+
+// ---- Parsed faces shared across documents ---------------------------------------------------------------
+//
+// Given bytes, pdfkit parses the font again for every document and shapes every word from a cold start
+// (GSUB/GPOS decoding): about 75 ms of a 100 ms traveler. pdfkit also accepts an already parsed font
+// object (anything with a layout() method), so we parse each face once with the font engine pdfkit itself
+// depends on, and memoise the shaping of words, which repeat from traveler to traveler (labels, cautions,
+// check sentences). pdfkit scales the positions of a run in place, so each call gets its own copy.
+
+interface ShapedGlyph {
+  readonly id: number;
+  readonly advanceWidth: number;
+  readonly codePoints: readonly number[];
+}
+type Position = Record<string, number>;
+interface GlyphRun {
+  glyphs: ShapedGlyph[];
+  positions: Position[];
+  readonly advanceWidth: number;
+}
+interface ParsedFont {
+  layout(text: string, features?: unknown): GlyphRun;
+}
+interface FontEngine {
+  create(bytes: Uint8Array): ParsedFont;
+}
+
+// Words per face before the memo starts again; a traveler uses a few hundred.
+const SHAPING_MEMO_LIMIT = 5000;
+
+class CopiedRun implements GlyphRun {
+  constructor(
+    readonly glyphs: ShapedGlyph[],
+    readonly positions: Position[],
+  ) {}
+  // Read after pdfkit has scaled the positions, like the engine's own run.
+  get advanceWidth(): number {
+    let width = 0;
+    for (const p of this.positions) width += p.xAdvance;
+    return width;
+  }
+}
+
+function memoiseShaping(font: ParsedFont): ParsedFont {
+  const memo = new Map<string, { glyphs: ShapedGlyph[]; positions: Position[] }>();
+  const layout = (text: string, features?: unknown): GlyphRun => {
+    if (features !== undefined) return font.layout(text, features);
+    let shaped = memo.get(text);
+    if (!shaped) {
+      const run = font.layout(text);
+      shaped = { glyphs: run.glyphs, positions: run.positions.map((p) => ({ ...p })) };
+      if (memo.size >= SHAPING_MEMO_LIMIT) memo.clear();
+      memo.set(text, shaped);
+    }
+    return new CopiedRun(
+      shaped.glyphs,
+      shaped.positions.map((p) => ({ ...p })),
+    );
+  };
+  return new Proxy(font, {
+    get: (target, prop) => (prop === 'layout' ? layout : Reflect.get(target, prop, target)),
+  });
+}
+
+function fontEngine(): FontEngine | undefined {
+  try {
+    const fromPdfkit = createRequire(createRequire(import.meta.url).resolve('pdfkit'));
+    const engine = fromPdfkit('fontkit') as Partial<FontEngine>;
+    return typeof engine.create === 'function' ? (engine as FontEngine) : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
+export type PdfFontSource = Buffer | ParsedFont;
+let parsed: Readonly<Record<BarlowFace, PdfFontSource>> | undefined;
+
+// What to hand to doc.registerFont(): parsed, shared faces when pdfkit's font engine can be reached,
+// otherwise the bytes (correct, only slower).
+export function barlowFontSources(): Readonly<Record<BarlowFace, PdfFontSource>> {
+  if (parsed) return parsed;
+  const bytes = loadBarlowFonts();
+  const engine = fontEngine();
+  const entries = Object.entries(bytes).map(([face, buffer]) => {
+    const font = engine?.create(buffer);
+    return [face, font && typeof font.layout === 'function' ? memoiseShaping(font) : buffer] as const;
+  });
+  parsed = Object.freeze(Object.fromEntries(entries) as Record<BarlowFace, PdfFontSource>);
+  return parsed;
+}

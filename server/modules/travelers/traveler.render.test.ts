@@ -1,0 +1,285 @@
+import {
+  BarcodeFormat,
+  BinaryBitmap,
+  DecodeHintType,
+  HybridBinarizer,
+  MultiFormatReader,
+  RGBLuminanceSource,
+} from '@zxing/library';
+import { PDFParse } from 'pdf-parse';
+import { PNG } from 'pngjs';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { formatTravelerCode, parseTravelerCode, renderTravelerPdf, SAFETY_CAUTIONS } from './traveler.render';
+import type { TravelerDataInput } from './traveler.types';
+import { TravelerDataError, parseTravelerData } from './traveler.types';
+
+// Each test builds its unit from this invented demo scenario and changes what it is about.
+function unit(overrides: Partial<TravelerDataInput> = {}): TravelerDataInput {
+  return {
+    companyName: 'Corvane Motion Ltd',
+    plantName: 'Hollin Ridge Works',
+    lineName: 'Line 2',
+    serial: 'CM57-24-008143',
+    model: { name: 'BL57-4 Servo 400 W', polePairs: 4 },
+    lots: { hallBoard: 'HB-2411-07', magnetRing: 'MR-2410-22', stator: 'ST-2411-03' },
+    verdict: 'pass',
+    offsetDeg: 3.42,
+    // 3.42 / 360 × 65536 = 622.6 → 623
+    offsetCounts: 623,
+    countsPerTurn: 65536,
+    lagDeg: 0.41,
+    edges: [
+      { sensor: 'A', edge: 'rise', residualDeg: 0.38 },
+      { sensor: 'A', edge: 'fall', residualDeg: -0.21 },
+      { sensor: 'B', edge: 'rise', residualDeg: -0.55 },
+      { sensor: 'B', edge: 'fall', residualDeg: 0.12 },
+      { sensor: 'C', edge: 'rise', residualDeg: 0.29 },
+      { sensor: 'C', edge: 'fall', residualDeg: -0.03 },
+    ],
+    speedRpm: 1480,
+    electricalTurns: 48,
+    checks: [
+      {
+        code: 'offset.within_limits',
+        passed: true,
+        value: 3.42,
+        limit: [-15, 15],
+        unit: '°e',
+        sentence: 'The hall offset lies inside the window the recipe allows.',
+      },
+      {
+        code: 'edges.residual_spread',
+        passed: true,
+        value: 0.93,
+        limit: 2,
+        unit: '°e',
+        sentence: 'Every hall edge sits within the allowed distance of the common offset.',
+      },
+      {
+        code: 'speed.window',
+        passed: true,
+        value: 1480,
+        limit: [1200, 1800],
+        unit: 'rpm',
+        sentence: 'The rotor speed stayed within the measuring window.',
+      },
+    ],
+    stationName: 'EOL-2A Hall calibration',
+    operatorName: 'Priya Okafor',
+    measuredAt: '2026-12-02T14:03:11.204Z',
+    computedAt: '2026-12-02T14:03:11.402Z',
+    generatedAt: '2026-12-02T14:03:12.000Z',
+    recipe: { name: 'BL57-4 hall 120', version: 3 },
+    engineVersion: 'engine 1.0.0',
+    programming: {
+      status: 'confirmed',
+      writtenCounts: 623,
+      readBackCounts: 623,
+      checksum: '0x5A3C',
+      confirmedAt: '2026-12-02T14:03:14.950Z',
+    },
+    printNumber: 1,
+    pageSize: 'A4',
+    ...overrides,
+  };
+}
+
+async function readBack(pdf: Buffer) {
+  const parser = new PDFParse({ data: new Uint8Array(pdf) });
+  try {
+    const text = await parser.getText();
+    const info = await parser.getInfo({ parsePageInfo: true });
+    // imageThreshold 0: keep every image, however small (the default drops anything ≤ 80 px).
+    const images = await parser.getImage({ imageThreshold: 0, imageDataUrl: false });
+    return { text: text.text, info, images: images.pages.flatMap((p) => p.images) };
+  } finally {
+    await parser.destroy();
+  }
+}
+
+// Decodes an extracted image with the general-purpose zxing decoder, restricted to one symbology.
+function decode(pngBytes: Uint8Array, format: BarcodeFormat): string | null {
+  const png = PNG.sync.read(Buffer.from(pngBytes));
+  const luminance = new Uint8ClampedArray(png.width * png.height);
+  for (let i = 0; i < luminance.length; i += 1) {
+    const [r, g, b] = [png.data[4 * i], png.data[4 * i + 1], png.data[4 * i + 2]];
+    luminance[i] = (r * 299 + g * 587 + b * 114) / 1000;
+  }
+  const reader = new MultiFormatReader();
+  const hints = new Map<DecodeHintType, unknown>([
+    [DecodeHintType.POSSIBLE_FORMATS, [format]],
+    [DecodeHintType.TRY_HARDER, true],
+  ]);
+  try {
+    const bitmap = new BinaryBitmap(
+      new HybridBinarizer(new RGBLuminanceSource(luminance, png.width, png.height)),
+    );
+    return reader.decode(bitmap, hints).getText();
+  } catch {
+    return null;
+  }
+}
+
+function decodeAny(images: { data: Uint8Array }[], format: BarcodeFormat): string[] {
+  return images.map((i) => decode(i.data, format)).filter((t): t is string => t !== null);
+}
+
+describe('unit traveler PDF', () => {
+  let passing: Awaited<ReturnType<typeof readBack>>;
+
+  beforeAll(async () => {
+    passing = await readBack(await renderTravelerPdf(unit()));
+  });
+
+  it('prints the serial, verdict, offset in degrees and counts, and the demo plant', () => {
+    expect(passing.text).toContain('CM57-24-008143');
+    expect(passing.text).toContain('PASS');
+    expect(passing.text).toContain('+3.42°');
+    expect(passing.text).toContain('+623');
+    expect(passing.text).toContain('65536');
+    expect(passing.text).toContain('Corvane Motion Ltd');
+    expect(passing.text).toContain('Hollin Ridge Works');
+    expect(passing.text).toContain('HB-2411-07');
+    expect(passing.text).toContain('ORIGINAL');
+    expect(passing.text).not.toContain('REPRINT');
+  });
+
+  it('carries the back-driven motor cautions, naming IEC 60204-1', () => {
+    const flat = passing.text.replace(/\s+/g, ' ');
+    for (const caution of SAFETY_CAUTIONS) expect(flat).toContain(caution);
+    expect(flat).toContain('IEC 60204-1');
+    expect(flat).toMatch(/guards/i);
+    expect(flat).toMatch(/back-EMF/);
+  });
+
+  it('prints times in UTC unless told otherwise, and in the zone it names when told', async () => {
+    expect(passing.text).toContain('2026-12-02 14:03:11 UTC');
+    // Europe/London is on GMT (UTC+0) in December and on BST (UTC+1) in July: IANA tz database.
+    const summer = await readBack(
+      await renderTravelerPdf(
+        unit({
+          timeZone: 'Europe/London',
+          measuredAt: '2026-07-02T14:03:11Z',
+          computedAt: '2026-07-02T14:03:12Z',
+        }),
+      ),
+    );
+    expect(summer.text).toContain('2026-07-02 15:03:11 UTC+01:00');
+    expect(summer.text).toContain('Europe/London');
+  });
+
+  it('encodes the serial in a Code 128 symbol that a general-purpose decoder reads back', () => {
+    // Code 128 per ISO/IEC 15417, decoded by @zxing/library from the image embedded in the PDF.
+    expect(decodeAny(passing.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
+  });
+
+  it('encodes serial, offset and recipe version in a Data Matrix that a general-purpose decoder reads back', () => {
+    // Data Matrix (ECC 200) per ISO/IEC 16022, decoded by @zxing/library from the embedded image.
+    const texts = decodeAny(passing.images, BarcodeFormat.DATA_MATRIX);
+    expect(texts).toHaveLength(1);
+    const code = parseTravelerCode(texts[0]);
+    expect(code.serial).toBe('CM57-24-008143');
+    expect(code.offsetDeg).toBe(3.42);
+    expect(code.offsetCounts).toBe(623);
+    expect(code.countsPerTurn).toBe(65536);
+    expect(code.recipeVersion).toBe(3);
+    expect(code.verdict).toBe('pass');
+  });
+
+  it('marks a reprint with its print number and keeps both barcodes readable', async () => {
+    const reprint = await readBack(await renderTravelerPdf(unit({ printNumber: 3 })));
+    expect(reprint.text).toContain('REPRINT 3');
+    expect(reprint.text).not.toContain('ORIGINAL');
+    expect(decodeAny(reprint.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
+    expect(decodeAny(reprint.images, BarcodeFormat.DATA_MATRIX)).toHaveLength(1);
+  });
+
+  it('prints on A4 and on US Letter at their standard sizes', async () => {
+    // A4 is 210 × 297 mm (ISO 216) = 595.28 × 841.89 pt; Letter is 8.5 × 11 in (ANSI/ASME Y14.1) = 612 × 792 pt.
+    const a4 = passing.info.pages[0];
+    expect(a4.width).toBeCloseTo(595.28, 1);
+    expect(a4.height).toBeCloseTo(841.89, 1);
+    const letter = await readBack(await renderTravelerPdf(unit({ pageSize: 'LETTER' })));
+    expect(letter.info.total).toBe(1);
+    expect(letter.info.pages[0].width).toBeCloseTo(612, 1);
+    expect(letter.info.pages[0].height).toBeCloseTo(792, 1);
+    expect(letter.text).toContain('Page 1 of 1');
+    expect(decodeAny(letter.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
+  });
+
+  it('shows a failed unit as FAIL with each failed check named and explained', async () => {
+    const failing = unit({
+      verdict: 'fail',
+      offsetDeg: -17.85,
+      // −17.85 / 360 × 65536 = −3249.5 → −3250 (round half away from zero; the schema allows ±1 count)
+      offsetCounts: -3250,
+      programming: { status: 'pending' },
+    });
+    failing.checks = [
+      {
+        code: 'offset.within_limits',
+        passed: false,
+        value: -17.85,
+        limit: [-15, 15],
+        unit: '°e',
+        sentence: 'The hall offset lies outside the window the recipe allows.',
+      },
+      ...failing.checks.slice(1),
+    ];
+    const { text: raw, images } = await readBack(await renderTravelerPdf(failing));
+    const text = raw.replace(/\s+/g, ' ');
+    expect(text).toContain('FAIL');
+    expect(text).toContain('1 of 3 checks failed');
+    expect(text).toContain('offset.within_limits');
+    expect(text).toContain('The hall offset lies outside the window the recipe allows.');
+    expect(text).toContain('-17.85°');
+    expect(text).toContain('-17.85 °e');
+    expect(text).toContain('PENDING');
+    expect(parseTravelerCode(decodeAny(images, BarcodeFormat.DATA_MATRIX)[0]).verdict).toBe('fail');
+  });
+
+  it('gives the same bytes for the same data, so a stored sha256 can be reproduced', async () => {
+    const [a, b] = [await renderTravelerPdf(unit()), await renderTravelerPdf(unit())];
+    expect(a.equals(b)).toBe(true);
+    const later = await renderTravelerPdf(unit({ generatedAt: '2026-12-02T15:00:00Z' }));
+    expect(later.equals(a)).toBe(false);
+  });
+
+  it('continues onto a second page when the checks do not fit, numbering the pages', async () => {
+    const many = unit();
+    many.checks = Array.from({ length: 24 }, (_, i) => ({
+      code: `extra.check_${i + 1}`,
+      passed: i % 5 !== 0,
+      value: i,
+      limit: 30,
+      sentence:
+        'A check with a sentence long enough to wrap onto a second line inside its table cell, as some do.',
+    }));
+    many.verdict = 'fail';
+    const { text, info } = await readBack(await renderTravelerPdf(many));
+    expect(info.total).toBe(2);
+    expect(text).toContain('Page 2 of 2');
+    expect(text).toContain('extra.check_24');
+  });
+
+  it('rejects bad input with an error that names each bad field, before drawing anything', async () => {
+    const bad = unit({ serial: 'CM57|24', offsetDeg: Number.NaN });
+    bad.edges = bad.edges.slice(0, 5);
+    await expect(renderTravelerPdf(bad)).rejects.toThrow(TravelerDataError);
+    await expect(renderTravelerPdf(bad)).rejects.toThrow(/serial: serial may hold only/);
+    await expect(renderTravelerPdf(bad)).rejects.toThrow(/offsetDeg/);
+    await expect(renderTravelerPdf(bad)).rejects.toThrow(/edges/);
+  });
+
+  it('rejects an offset in counts that does not match the offset in degrees', () => {
+    expect(() => parseTravelerData(unit({ offsetCounts: 1623 }))).toThrow(/offsetCounts 1623 does not match/);
+    expect(() => parseTravelerData(unit({ timeZone: 'Mars/Olympus' }))).toThrow(/unknown time zone/);
+  });
+
+  it('writes and reads back its own Data Matrix text format', () => {
+    const text = formatTravelerCode(parseTravelerData(unit({ offsetDeg: -0.004, offsetCounts: -1 })));
+    expect(text).toBe('PW1|SN=CM57-24-008143|OFS=0.00|CNT=-1/65536|RCP=BL57-4 hall 120@3|V=P');
+    expect(parseTravelerCode(text).offsetCounts).toBe(-1);
+    expect(() => parseTravelerCode('XX9|SN=1')).toThrow(/not a PW1 traveler code/);
+  });
+});
