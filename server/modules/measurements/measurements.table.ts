@@ -1,0 +1,118 @@
+import {
+  boolean,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from 'drizzle-orm/pg-core';
+import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import { recipes } from '../catalog/catalog.table';
+import { stations } from '../stations/stations.table';
+import { units } from '../units/units.table';
+import { users } from '../users/users.table';
+
+export const measurementSourceEnum = pgEnum('measurement_source', ['timings', 'capture']);
+
+/**
+ * Raw measurements exactly as the station posted them (`payloadRaw` is the body's text, `payloadSha256`
+ * its hash). Never updated or deleted: a trigger refuses it.
+ */
+export const measurements = pgTable(
+  'measurements',
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    /** The station's idempotency key. */
+    measurementId: text().notNull(),
+    stationId: uuid()
+      .notNull()
+      .references(() => stations.id),
+    unitId: uuid()
+      .notNull()
+      .references(() => units.id),
+    serial: text().notNull(),
+    source: measurementSourceEnum().notNull(),
+    payload: jsonb().notNull(),
+    payloadRaw: text().notNull(),
+    payloadSha256: text().notNull(),
+    operatorId: uuid().references(() => users.id),
+    receivedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    uniqueIndex('measurements_measurement_id_key').on(t.measurementId),
+    index('measurements_unit_idx').on(t.unitId),
+    index('measurements_station_received_idx').on(t.stationId, t.receivedAt),
+  ],
+);
+
+export const calibrationVerdictEnum = pgEnum('calibration_verdict', ['pass', 'fail', 'unusable']);
+
+/**
+ * One computation of a measurement with one recipe version. Never updated or deleted; a
+ * recomputation is a new row. At most one row per (measurement, recipe version): a retried job
+ * cannot add a second.
+ */
+export const calibrations = pgTable(
+  'calibrations',
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    measurementPk: uuid()
+      .notNull()
+      .references(() => measurements.id),
+    recipeId: uuid()
+      .notNull()
+      .references(() => recipes.id),
+    unitId: uuid()
+      .notNull()
+      .references(() => units.id),
+    stationId: uuid()
+      .notNull()
+      .references(() => stations.id),
+    engineVersion: text().notNull(),
+    verdict: calibrationVerdictEnum().notNull(),
+    offsetDeg: doublePrecision(),
+    offsetCounts: integer(),
+    /** Attempt number of this unit (1-based) when it counted; null for unusable input. */
+    attempt: integer(),
+    result: jsonb().$type<CalibrationResult | { error: { code: string; message: string; issues?: unknown } }>().notNull(),
+    computeMs: doublePrecision(),
+    computedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    uniqueIndex('calibrations_measurement_recipe_key').on(t.measurementPk, t.recipeId),
+    index('calibrations_unit_idx').on(t.unitId, t.computedAt),
+    index('calibrations_station_idx').on(t.stationId, t.computedAt),
+  ],
+);
+
+/** What the station wrote into the unit and read back. Append-only. */
+export const programmingConfirmations = pgTable(
+  'programming_confirmations',
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    calibrationId: uuid()
+      .notNull()
+      .references(() => calibrations.id),
+    unitId: uuid()
+      .notNull()
+      .references(() => units.id),
+    stationId: uuid()
+      .notNull()
+      .references(() => stations.id),
+    expectedCounts: integer().notNull(),
+    writtenCounts: integer().notNull(),
+    readBackCounts: integer().notNull(),
+    checksum: text(),
+    matches: boolean().notNull(),
+    confirmedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index('programming_calibration_idx').on(t.calibrationId)],
+);
+
+export type MeasurementRecord = typeof measurements.$inferSelect;
+export type CalibrationRecord = typeof calibrations.$inferSelect;
