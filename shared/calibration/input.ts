@@ -73,6 +73,17 @@ export function validateCalibrationInput(measurement: unknown, recipe: unknown):
   if (!m.success) issues.push(...zodIssues('measurement', m.error));
   if (!r.success) issues.push(...zodIssues('recipe', r.error));
   if (r.success) issues.push(...recipeIssues(r.data));
+  if (m.success) {
+    m.data.segments.forEach((seg, i) => {
+      const c = seg.bemfCrossings;
+      if (!(c[c.length - 1].us > c[0].us)) {
+        issues.push({
+          path: `measurement.segments[${i}].bemfCrossings`,
+          message: 'the crossings must spread over time: all of them fall on one instant',
+        });
+      }
+    });
+  }
   if (issues.length > 0 || !m.success || !r.success) return { ok: false, issues };
   return { ok: true, measurement: m.data, recipe: r.data };
 }
