@@ -66,6 +66,7 @@ interface GlyphRun {
 }
 interface ParsedFont {
   layout(text: string, features?: unknown): GlyphRun;
+  getGlyph(id: number, codePoints?: number[]): unknown;
 }
 interface FontEngine {
   create(bytes: Uint8Array): ParsedFont;
@@ -87,6 +88,24 @@ class CopiedRun implements GlyphRun {
   }
 }
 
+// The subsetter decodes every glyph's outline again for each document (a tenth of a traveler's time),
+// though a static font's outlines never change. The engine keeps one glyph object per id for the life of
+// the parsed font, so we remember each one's decoded outline on it. Nothing changes if the engine's
+// internals differ from what this expects: the glyph is left as it is.
+const memoised = new WeakSet<object>();
+function memoiseOutlineDecoding(glyph: unknown): void {
+  if (typeof glyph !== 'object' || glyph === null || memoised.has(glyph)) return;
+  memoised.add(glyph);
+  const target = glyph as { _decode?: () => unknown };
+  const decode = target._decode;
+  if (typeof decode !== 'function') return;
+  let decoded: { value: unknown } | undefined;
+  target._decode = function memoisedDecode(this: unknown) {
+    decoded ??= { value: decode.call(this) };
+    return decoded.value;
+  };
+}
+
 function memoiseShaping(font: ParsedFont): ParsedFont {
   const memo = new Map<string, { glyphs: ShapedGlyph[]; positions: Position[] }>();
   const layout = (text: string, features?: unknown): GlyphRun => {
@@ -103,8 +122,17 @@ function memoiseShaping(font: ParsedFont): ParsedFont {
       shaped.positions.map((p) => ({ ...p })),
     );
   };
+  const getGlyph = (id: number, codePoints?: number[]): unknown => {
+    const glyph = font.getGlyph(id, codePoints);
+    memoiseOutlineDecoding(glyph);
+    return glyph;
+  };
   return new Proxy(font, {
-    get: (target, prop) => (prop === 'layout' ? layout : Reflect.get(target, prop, target)),
+    get: (target, prop) => {
+      if (prop === 'layout') return layout;
+      if (prop === 'getGlyph') return getGlyph;
+      return Reflect.get(target, prop, target);
+    },
   });
 }
 

@@ -291,7 +291,8 @@ class Page {
       .fillColor(options.color ?? INK);
     let line = str;
     const width = options.width;
-    if (width !== undefined) {
+    // No Barlow glyph is wider than 1 em, so short left-aligned text needs no measuring.
+    if (width !== undefined && ((options.align ?? 'left') !== 'left' || str.length * size > width)) {
       let measured = doc.widthOfString(line);
       if (measured > width) {
         while (line.length > 1 && doc.widthOfString(`${line}…`) > width) line = line.slice(0, -1).trimEnd();

@@ -32,7 +32,10 @@ export const travelers = pgTable(
     requestedBy: uuid().references(() => users.id),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [index('travelers_unit_idx').on(t.unitId, t.createdAt), index('travelers_calibration_idx').on(t.calibrationId)],
+  (t) => [
+    index('travelers_unit_idx').on(t.unitId, t.createdAt),
+    index('travelers_calibration_idx').on(t.calibrationId),
+  ],
 );
 
 export type TravelerRecord = typeof travelers.$inferSelect;
