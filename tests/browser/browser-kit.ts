@@ -48,7 +48,7 @@ export async function freshPage(browser: Browser, viewport = { width: 1280, heig
 
 export async function signInWithPassword(page: Page, username: string, password: string): Promise<void> {
   await page.goto('/sign-in');
-  await page.getByLabel('User name').fill(username);
+  await page.getByLabel('User name', { exact: true }).fill(username);
   await page.getByLabel('Password', { exact: true }).fill(password);
   await page.getByRole('button', { name: 'Sign in', exact: true }).click();
   await page.getByTestId('signed-in-as').waitFor();

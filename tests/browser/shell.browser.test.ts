@@ -71,13 +71,15 @@ describe('the signed-in shell', { timeout: 45_000 }, () => {
     const { context, page, pageErrors } = await freshPage(browser);
     await page.goto('/sign-in');
     await page.getByRole('button', { name: 'Badge and PIN' }).click();
-    const badge = page.getByLabel('Badge');
+    const badge = page.getByLabel('Badge', { exact: true });
     await badge.waitFor();
     expect(await badge.evaluate((el) => el === document.activeElement)).toBe(true);
     // A keyboard-wedge scanner types fast and ends with Enter; Enter must move on to the PIN, not submit.
     await page.keyboard.type(DEMO.operator.badge, { delay: 5 });
     await page.keyboard.press('Enter');
-    expect(await page.getByLabel('PIN').evaluate((el) => el === document.activeElement)).toBe(true);
+    expect(
+      await page.getByLabel('PIN', { exact: true }).evaluate((el) => el === document.activeElement),
+    ).toBe(true);
     await page.keyboard.type(DEMO.operator.pin);
     await page.keyboard.press('Enter');
     await page.getByTestId('signed-in-as').waitFor();
@@ -89,7 +91,7 @@ describe('the signed-in shell', { timeout: 45_000 }, () => {
   it('refuses a wrong password with a message and stays on the sign-in page', async () => {
     const { context, page } = await freshPage(browser);
     await page.goto('/sign-in');
-    await page.getByLabel('User name').fill('nobody.at.all');
+    await page.getByLabel('User name', { exact: true }).fill('nobody.at.all');
     await page.getByLabel('Password', { exact: true }).fill('not-the-password');
     await page.getByRole('button', { name: 'Sign in', exact: true }).click();
     const alert = page.getByRole('alert').first();

@@ -38,7 +38,7 @@ export function Dialog({ open, title, description, onClose, children, wide = fal
       className={`chamfer chamfer-lg m-auto max-h-[92dvh] w-[calc(100%-2rem)] overflow-visible bg-transparent p-0 text-graphite-100 [--ch-edge:var(--color-copper-600)] [--ch-fill:var(--color-graphite-850)] ${wide ? 'max-w-3xl' : 'max-w-xl'}`}
     >
       {open ? (
-        <div className="flex max-h-[92dvh] flex-col overflow-y-auto p-6">
+        <div className="flex max-h-[92dvh] flex-col overflow-y-auto p-6 pb-8">
           <div className="mb-5 flex items-start justify-between gap-4">
             <div className="flex flex-col gap-2">
               <h2 id={titleId} className="text-2xl font-bold tracking-wide text-graphite-50">

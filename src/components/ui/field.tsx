@@ -24,14 +24,17 @@ type FieldShellProps = {
 function FieldShell({ id, label, hint, error, required, children }: FieldShellProps) {
   return (
     <div className="flex flex-col gap-1.5">
-      <label htmlFor={id} className="text-sm font-semibold tracking-wide text-graphite-200 uppercase">
-        {label}
+      <div className="flex items-baseline gap-1">
+        <label htmlFor={id} className="text-sm font-semibold tracking-wide text-graphite-200 uppercase">
+          {label}
+        </label>
+        {/* The control carries aria-required; the mark is for the eye and stays out of the label's name. */}
         {required ? (
-          <span className="ml-1 text-copper-300" aria-hidden>
+          <span className="text-sm text-copper-300" aria-hidden>
             *
           </span>
         ) : null}
-      </label>
+      </div>
       {children}
       {hint && !error ? (
         <p id={`${id}-hint`} className="text-sm text-graphite-400">

@@ -34,18 +34,11 @@ export function PeopleAdmin({ currentUserId }: { currentUserId: string }) {
 
   return (
     <div className="flex flex-col gap-5">
-      <div className="flex flex-wrap items-center justify-between gap-3">
-        <div className="min-w-0 flex-1">
-          {notice ? (
-            <Alert tone={notice.tone} title={notice.title}>
-              {notice.body}
-            </Alert>
-          ) : null}
-        </div>
-        <Button variant="primary" size="lg" onClick={() => setCreating(true)}>
-          Add a person
-        </Button>
-      </div>
+      {notice ? (
+        <Alert tone={notice.tone} title={notice.title}>
+          {notice.body}
+        </Alert>
+      ) : null}
       {users.isPending ? <Loading label="Fetching accounts…" /> : null}
       {users.isError ? (
         <Alert tone="fault" title="Accounts could not be read">
@@ -59,6 +52,11 @@ export function PeopleAdmin({ currentUserId }: { currentUserId: string }) {
           onEdit={onEdit}
           onUnlock={onUnlock}
           unlockingId={unlock.isPending ? (unlock.variables ?? null) : null}
+          addButton={
+            <Button variant="primary" size="lg" onClick={() => setCreating(true)}>
+              Add a person
+            </Button>
+          }
         />
       ) : null}
       <CreateUserDialog

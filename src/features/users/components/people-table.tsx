@@ -1,4 +1,4 @@
-import { useMemo, useState } from 'react';
+import { useMemo, useState, type ReactNode } from 'react';
 import {
   columnFilteringFeature,
   createColumnHelper,
@@ -52,11 +52,20 @@ type PeopleTableProps = {
   onEdit: (user: UserRow) => void;
   onUnlock: (user: UserRow) => void;
   unlockingId: string | null;
+  /** Sits at the end of the filter row. */
+  addButton?: ReactNode;
 };
 
 const ALL = '';
 
-export function PeopleTable({ users, currentUserId, onEdit, onUnlock, unlockingId }: PeopleTableProps) {
+export function PeopleTable({
+  users,
+  currentUserId,
+  onEdit,
+  onUnlock,
+  unlockingId,
+  addButton,
+}: PeopleTableProps) {
   const [globalFilter, setGlobalFilter] = useState('');
 
   const columns = useMemo(
@@ -192,7 +201,7 @@ export function PeopleTable({ users, currentUserId, onEdit, onUnlock, unlockingI
 
   return (
     <div className="flex flex-col gap-4">
-      <div className="grid gap-4 sm:grid-cols-[minmax(0,2fr)_minmax(0,1fr)_minmax(0,1fr)]">
+      <div className="grid items-end gap-4 sm:grid-cols-2 lg:grid-cols-[minmax(0,2fr)_minmax(0,1fr)_minmax(0,1fr)_auto]">
         <TextField
           label="Search people"
           type="search"
