@@ -1,3 +1,4 @@
+// @ts-check
 // Finds the browser the browser tests drive: CHROMIUM_PATH when set, else Debian's chromium, which
 // is installed with apt-get when missing and we are root. No browser is ever downloaded by a test tool.
 //

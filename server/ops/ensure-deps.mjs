@@ -1,3 +1,4 @@
+// @ts-check
 // Installs the npm packages when they are missing, or when package-lock.json or the dependency
 // fields of package.json changed since the last install.
 // Standard library only: this is what makes the packages available in the first place.

@@ -1,3 +1,4 @@
+// @ts-check
 // Process helpers for the operations scripts. These run before `npm ci` on a fresh machine, so they
 // use Node's standard library only.
 import { spawn } from 'node:child_process';
