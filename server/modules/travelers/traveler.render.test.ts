@@ -211,8 +211,8 @@ describe('unit traveler PDF', () => {
     const failing = unit({
       verdict: 'fail',
       offsetDeg: -17.85,
-      // −17.85 / 360 × 65536 = −3249.5 → −3250 (round half away from zero; the schema allows ±1 count)
-      offsetCounts: -3250,
+      // −17.85 / 360 × 65536 = −3249.49 → −3249 counts (arithmetic)
+      offsetCounts: -3249,
       programming: { status: 'pending' },
     });
     failing.checks = [
@@ -236,6 +236,24 @@ describe('unit traveler PDF', () => {
     expect(text).toContain('-17.85 °e');
     expect(text).toContain('PENDING');
     expect(parseTravelerCode(decodeAny(images, BarcodeFormat.DATA_MATRIX)[0]).verdict).toBe('fail');
+  });
+
+  it('flags a programming mismatch with both values, so the unit is not shipped', async () => {
+    const { text } = await readBack(
+      await renderTravelerPdf(
+        unit({
+          programming: {
+            status: 'mismatch',
+            writtenCounts: 623,
+            readBackCounts: 591,
+            confirmedAt: '2026-12-02T14:03:14.950Z',
+          },
+        }),
+      ),
+    );
+    expect(text).toContain('MISMATCH');
+    expect(text).toMatch(/READ BACK \(COUNTS\)\s+591/);
+    expect(text).toContain('do not ship this unit');
   });
 
   it('gives the same bytes for the same data, so a stored sha256 can be reproduced', async () => {

@@ -479,7 +479,7 @@ function drawIdentity(page: Page, code128: GreyImage, matrix: GreyImage): void {
   page.field('Hall board lot', data.lots.hallBoard, mx, y + 48, colW);
   page.field('Magnet ring lot', data.lots.magnetRing, mx + colW, y + 48, colW);
   page.field('Stator lot', data.lots.stator, mx, y + 72, colW);
-  page.field('Station', data.stationName, mx + colW, y + 72, colW);
+  page.field('Line', data.lineName ?? '—', mx + colW, y + 72, colW);
 
   // Data Matrix on the right: 2-module quiet zone inside the image.
   doc.image(matrix.png, dmX, y - 2, { width: dmSize, height: dmSize });
@@ -746,6 +746,21 @@ function drawSafety(page: Page): void {
   page.y = y + h + 8;
 }
 
+// Hand-written release fields, printed only where the page has room for them: travelers are signed
+// at the end of the line before they are filed.
+function drawSignOff(page: Page): void {
+  const { left, right } = page;
+  if (page.y + 44 > page.bottom) return;
+  const y = page.heading('Release', page.y + 2);
+  const w = (right - left) / 3;
+  ['Released by (name)', 'Signature', 'Date'].forEach((label, i) => {
+    const x = left + i * w;
+    page.rule(y + 24, 0.5, INK, x, x + w - 14);
+    page.label(label, x, y + 27);
+  });
+  page.y = y + 40;
+}
+
 function drawFooters(doc: Doc, data: TravelerData): void {
   const range = doc.bufferedPageRange();
   const generated = formatTime(data.generatedAt, data.timeZone);
@@ -830,6 +845,7 @@ export async function renderTravelerPdf(input: TravelerDataInput): Promise<Buffe
   drawChecks(page);
   drawProgramming(page);
   drawSafety(page);
+  drawSignOff(page);
   drawFooters(doc, data);
 
   doc.end();
