@@ -441,13 +441,13 @@ function readLockPid(file) {
  * Starts the server and waits on pg_isready. After a kill -9 the old postmaster.pid stays behind and
  * the dead server's children may hold its shared memory for a moment: PostgreSQL refuses to start
  * until they are gone, so failed starts are retried until the deadline; it then runs crash recovery.
- * @param {{ binDir: string, dataDir: string, socketDir: string, logFile: string, runAs: string | undefined, port: number, portVar: string, instance: string }} ctx
+ * @param {{ binDir: string, dataDir: string, socketDir: string, logFile: string, runAs: string | undefined, port: number, portVar: string, instance: string, durable: boolean }} ctx
  * @param {number} timeoutMs
  * @param {Log} log
  * @returns {Promise<boolean>} whether this call started it (false when another process did meanwhile)
  */
 async function startServer(ctx, timeoutMs, log) {
-  const { binDir, dataDir, socketDir, logFile, runAs, port, portVar, instance } = ctx;
+  const { binDir, dataDir, socketDir, logFile, runAs, port, portVar, instance, durable } = ctx;
   const deadline = performance.now() + timeoutMs;
   const running = readPidFile(dataDir);
   if (running && running.port !== port && isPostgresProcess(running.pid) && running.port > 0) {
@@ -466,7 +466,12 @@ async function startServer(ctx, timeoutMs, log) {
         `Free the port or choose another with ${portVar}=<port>.`,
     );
   }
-  const options = `-p ${port} -c listen_addresses=127.0.0.1 -c unix_socket_directories=${socketDir}`;
+  // Throwaway instances run without fsync: a crashed server still recovers from the WAL in the
+  // operating system's cache (only a crash of the machine could lose data), creating a database per
+  // test worker no longer waits on the disk, and crash recovery skips its data-directory fsync pass.
+  const options =
+    `-p ${port} -c listen_addresses=127.0.0.1 -c unix_socket_directories=${socketDir}` +
+    (durable ? '' : ' -c fsync=off');
   const args = [
     '-D',
     dataDir,
@@ -647,6 +652,8 @@ export async function ensurePostgres({
   await ensureBinaries(env, log);
   const layout = await resolveLayout(instance, config.port, { create: true, log });
   const lockFile = join(dirname(layout.dataDir), `pg-${instance}.lock`);
+  // Only the dev instance keeps data worth an fsync; test instances are rebuilt at will.
+  const durable = instance === 'dev';
   const { ctx, startedByUs } = await withInstanceLock(lockFile, timeoutMs, log, async () => {
     const versionFile = join(layout.dataDir, 'PG_VERSION');
     const clusterMajor = existsSync(versionFile) ? readFileSync(versionFile, 'utf8').trim() : undefined;
@@ -664,10 +671,10 @@ export async function ensurePostgres({
           `${layout.dataDir} is not empty but holds no PostgreSQL cluster (no PG_VERSION). Move it away and start again.`,
         );
       }
-      await initCluster({ binDir: bin.binDir, ...layout, durable: instance === 'dev' }, log);
+      await initCluster({ binDir: bin.binDir, ...layout, durable }, log);
     }
 
-    const ctx = { ...layout, ...config, binDir: bin.binDir };
+    const ctx = { ...layout, ...config, binDir: bin.binDir, durable };
     let started = false;
     if (await isReady(bin.binDir, layout.socketDir, config.port)) {
       log(`already running on 127.0.0.1:${config.port}`);
