@@ -230,6 +230,7 @@ export function PeopleTable({
             })),
           ]}
         />
+        {addButton ? <div className="flex justify-end">{addButton}</div> : null}
       </div>
       <p className="text-graphite-400" aria-live="polite">
         {rows.length === users.length
