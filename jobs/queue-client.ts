@@ -1,6 +1,6 @@
 import PgBoss from 'pg-boss';
 import type pg from 'pg';
-import { queues } from './queues';
+import { JOBS_WAKE_CHANNEL, queues } from './queues';
 
 /** Where pg-boss keeps its tables, in the application's database. */
 export const BOSS_SCHEMA = 'pgboss';
@@ -13,10 +13,14 @@ export interface QueueStats {
 
 /** What the HTTP side needs of the job queue: sending jobs and reporting depth. */
 export interface JobQueue {
+  /**
+   * Sends a job. With `db` the job is inserted through that connection, i.e. inside the caller's
+   * transaction: it exists exactly when the transaction commits. Workers are woken at commit.
+   */
   send<K extends keyof typeof queues>(
     queue: K,
     payload: unknown,
-    opts?: { singletonKey?: string },
+    opts?: { singletonKey?: string; db?: PgBoss.Db },
   ): Promise<string | null>;
   stats(): Promise<QueueStats>;
   boss: PgBoss;
@@ -53,7 +57,11 @@ export async function startJobQueue(
     async send(queue, payload, sendOpts) {
       const def = queues[queue];
       const data = def.payload.parse(payload);
-      return boss.send(def.name, data, { singletonKey: sendOpts?.singletonKey });
+      const id = await boss.send(def.name, data, { singletonKey: sendOpts?.singletonKey, db: sendOpts?.db });
+      const wake = `select pg_notify('${JOBS_WAKE_CHANNEL}', $1)`;
+      if (sendOpts?.db) await sendOpts.db.executeSql(wake, [def.name]);
+      else await pool.query(wake, [def.name]);
+      return id;
     },
     async stats() {
       const { rows } = await pool.query<{ state: string; n: number }>(

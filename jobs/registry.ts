@@ -1,25 +1,52 @@
 import type { z } from 'zod';
-import { queues } from './queues';
+import type { queues } from './queues';
 import type { WorkerDeps } from './worker-deps';
 import { runHousekeeping } from './housekeeping.job';
+import { runCalibrationCompute } from './calibration-compute.job';
+import { runTravelerRender } from './traveler-render.job';
 
 export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
   queue: K;
   /** Cron expression (UTC) when the job also runs on a schedule. */
   schedule?: string;
-  /** Retry policy for a failed run. */
+  /** Retry policy for a failed run (exponential backoff from the first delay). */
   retryLimit: number;
   retryDelaySeconds: number;
+  /** Jobs fetched per poll, and parallel fetch loops in one worker process. */
+  batchSize: number;
+  concurrency: number;
   handler: (deps: WorkerDeps, payload: z.infer<(typeof queues)[K]['payload']>) => Promise<unknown>;
+}
+
+function job<K extends keyof typeof queues>(def: JobDef<K>): JobDef {
+  return def as unknown as JobDef;
 }
 
 /** Every job the worker runs, one line each. */
 export const jobRegistry: JobDef[] = [
-  {
+  job({
+    queue: 'calibrationCompute',
+    retryLimit: 5,
+    retryDelaySeconds: 1,
+    batchSize: 8,
+    concurrency: 4,
+    handler: runCalibrationCompute,
+  }),
+  job({
+    queue: 'travelerRender',
+    retryLimit: 5,
+    retryDelaySeconds: 2,
+    batchSize: 8,
+    concurrency: 2,
+    handler: runTravelerRender,
+  }),
+  job({
     queue: 'housekeeping',
     schedule: '*/10 * * * *',
     retryLimit: 2,
     retryDelaySeconds: 30,
+    batchSize: 1,
+    concurrency: 1,
     handler: (deps) => runHousekeeping(deps),
-  },
+  }),
 ];

@@ -1,19 +1,27 @@
+import pg from 'pg';
 import { createDatabase } from '../server/db/client';
-import { createLogger } from '../server/lib/logger';
-import { startJobQueue } from './queue-client';
-import { queues } from './queues';
+import { createLogger, type Logger } from '../server/lib/logger';
+import { startJobQueue, type JobQueue } from './queue-client';
+import { JOBS_WAKE_CHANNEL, queues } from './queues';
 import { jobRegistry } from './registry';
 import type { WorkerDeps } from './worker-deps';
 
 /**
  * The worker process: serves every queue in the registry. Each job's payload is validated against
- * its queue schema; a handler that throws is retried by pg-boss with the registry's policy.
+ * its queue schema; a job that throws is failed alone (the rest of its batch completes) and pg-boss
+ * retries it with the registry's policy. Producers NOTIFY on JOBS_WAKE_CHANNEL at commit, and the
+ * worker wakes the matching fetch loops at once instead of waiting for the next poll.
  */
-export async function startWorker(opts: { databaseUrl: string; logLevel?: string }) {
-  const logger = createLogger(opts.logLevel ?? 'info', 'phasewright-worker');
-  const database = createDatabase(opts.databaseUrl, { max: 6, applicationName: 'phasewright-worker' });
-  const queue = await startJobQueue(opts.databaseUrl, database.pool, { supervise: true, schedule: true });
+export async function startWorker(opts: { databaseUrl: string; logLevel?: string; logger?: Logger }) {
+  const logger = opts.logger ?? createLogger(opts.logLevel ?? 'info', 'phasewright-worker');
+  const database = createDatabase(opts.databaseUrl, { max: 10, applicationName: 'phasewright-worker' });
+  const queue: JobQueue = await startJobQueue(opts.databaseUrl, database.pool, {
+    supervise: true,
+    schedule: true,
+  });
   const deps: WorkerDeps = { db: database.db, pool: database.pool, logger, clock: () => new Date(), queue };
+  const loops = new Map<string, string[]>();
+
   for (const job of jobRegistry) {
     const def = queues[job.queue];
     await queue.boss.updateQueue(def.name, {
@@ -22,18 +30,65 @@ export async function startWorker(opts: { databaseUrl: string; logLevel?: string
       retryDelay: job.retryDelaySeconds,
       retryBackoff: true,
     });
-    await queue.boss.work(def.name, { pollingIntervalSeconds: 2 }, async (jobs) => {
-      for (const j of jobs) {
-        const payload = def.payload.parse(j.data ?? {});
-        await job.handler(deps, payload as never);
-      }
-    });
+    const ids: string[] = [];
+    for (let i = 0; i < job.concurrency; i++) {
+      ids.push(
+        await queue.boss.work(
+          def.name,
+          { pollingIntervalSeconds: 2, batchSize: job.batchSize },
+          async (jobs) => {
+            for (const j of jobs) {
+              try {
+                const payload = def.payload.parse(j.data ?? {});
+                await job.handler(deps, payload as never);
+              } catch (err) {
+                logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
+                await queue.boss.fail(def.name, j.id, { message: (err as Error).message ?? String(err) });
+              }
+            }
+          },
+        ),
+      );
+    }
+    loops.set(def.name, ids);
     if (job.schedule) await queue.boss.schedule(def.name, job.schedule, {}, { tz: 'UTC' });
   }
+
+  // Wake-ups: one LISTEN connection; reconnects if the database restarts.
+  let listener: pg.Client | null = null;
+  let stopped = false;
+  const listen = async () => {
+    if (stopped) return;
+    const c = new pg.Client({
+      connectionString: opts.databaseUrl,
+      application_name: 'phasewright-worker-wake',
+    });
+    c.on('notification', (msg) => {
+      for (const id of loops.get(msg.payload ?? '') ?? []) queue.boss.notifyWorker(id);
+    });
+    c.on('error', () => {
+      listener = null;
+      c.end().catch(() => {});
+      setTimeout(() => void listen(), 500);
+    });
+    try {
+      await c.connect();
+      await c.query(`LISTEN ${JOBS_WAKE_CHANNEL}`);
+      listener = c;
+      // Anything sent while we were not listening is picked up by the regular poll.
+    } catch {
+      c.end().catch(() => {});
+      setTimeout(() => void listen(), 1000);
+    }
+  };
+  await listen();
+
   logger.info({ jobs: jobRegistry.map((j) => j.queue) }, 'worker started');
   return {
     deps,
     async stop() {
+      stopped = true;
+      await listener?.end().catch(() => {});
       await queue.stop();
       await database.close();
     },

@@ -9,7 +9,9 @@ import { buildRoutes } from './routes';
 import { AppError } from './lib/errors';
 import { SESSION_COOKIE, requireAccess, verifySession } from './lib/auth';
 import type { RouteDef } from './lib/http';
+import multer from 'multer';
 import { loadSessionUser } from './modules/auth/auth.service';
+import { authenticateStationKey, stationErrors } from './modules/stations/stations.service';
 
 /** Largest JSON body accepted (a 500-turn measurement with every edge is ~250 KB). */
 export const JSON_BODY_LIMIT = '2mb';
@@ -31,7 +33,14 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       hsts: deps.env.COOKIE_SECURE,
     }),
   );
-  app.use(express.json({ limit: JSON_BODY_LIMIT }));
+  app.use(
+    express.json({
+      limit: JSON_BODY_LIMIT,
+      verify: (req, _res, buf) => {
+        (req as Request).rawBody = buf.toString('utf8');
+      },
+    }),
+  );
   app.use(cookieParser());
 
   // Identify the caller once: a session cookie names a person (checked against the account's
@@ -47,6 +56,16 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
     const loaded = await loadSessionUser(deps.db, verified.claims.sub, verified.claims.tv);
     if ('user' in loaded) req.user = loaded.user;
     else req.sessionProblem = loaded.problem;
+    next();
+  });
+
+  // A station identifies itself with its key; a wrong or revoked key is refused outright.
+  app.use(async (req: Request, _res: Response, next: NextFunction) => {
+    const key = req.get('x-station-key');
+    if (!key) return next();
+    const station = await authenticateStationKey(deps.db, key.trim(), deps.clock());
+    if (!station) return next(stationErrors.keyInvalid());
+    req.station = station;
     next();
   });
 
@@ -95,12 +114,20 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       return;
     }
     const e = err as { type?: string; status?: number; message?: string };
+    if (err instanceof multer.MulterError) {
+      const tooLarge = err.code === 'LIMIT_FILE_SIZE';
+      res.status(tooLarge ? 413 : 400).json({
+        error: {
+          code: tooLarge ? 'upload.too_large' : 'upload.invalid',
+          message: tooLarge ? 'The file is larger than this upload allows.' : err.message,
+        },
+      });
+      return;
+    }
     if (e?.type === 'entity.too.large') {
-      res
-        .status(413)
-        .json({
-          error: { code: 'request.too_large', message: `The body is larger than ${JSON_BODY_LIMIT}.` },
-        });
+      res.status(413).json({
+        error: { code: 'request.too_large', message: `The body is larger than ${JSON_BODY_LIMIT}.` },
+      });
       return;
     }
     if (e?.type === 'entity.parse.failed') {
@@ -110,14 +137,12 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       return;
     }
     deps.logger.error({ err, method: req.method, url: req.originalUrl }, 'unhandled error');
-    res
-      .status(500)
-      .json({
-        error: {
-          code: 'server.internal',
-          message: 'Something went wrong on the server. It has been logged.',
-        },
-      });
+    res.status(500).json({
+      error: {
+        code: 'server.internal',
+        message: 'Something went wrong on the server. It has been logged.',
+      },
+    });
   });
 
   return app;

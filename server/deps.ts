@@ -4,6 +4,7 @@ import type { Db } from './db/client';
 import type { Logger } from './lib/logger';
 import type { Mailer } from './modules/mail/mail.service';
 import type { JobQueue } from '../jobs/queue-client';
+import type { EventHub } from './modules/events/event-hub';
 
 /**
  * Everything the HTTP app needs, passed in explicitly (tests build their own).
@@ -17,4 +18,6 @@ export interface AppDeps {
   clock: () => Date;
   mailer: Mailer;
   queue: JobQueue;
+  /** Line events from PostgreSQL LISTEN/NOTIFY (long-polls, Server-Sent Events). */
+  events: EventHub;
 }

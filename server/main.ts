@@ -8,6 +8,7 @@ import { createLogger } from './lib/logger';
 import { createSmtpMailer } from './modules/mail/mail.service';
 import { startJobQueue } from '../jobs/queue-client';
 import type { AppDeps } from './deps';
+import { createEventHub } from './modules/events/event-hub';
 
 /**
  * The API + client server. Wires real dependencies, applies migrations, optionally seeds the demo,
@@ -23,7 +24,10 @@ export async function startServer(source: NodeJS.ProcessEnv = process.env) {
   }
   const queue = await startJobQueue(env.DATABASE_URL, database.pool);
   const mailer = createSmtpMailer(env.SMTP_URL, env.MAIL_FROM);
+  const events = createEventHub(env.DATABASE_URL, logger);
+  await events.ready;
   const deps: AppDeps = {
+    events,
     env,
     db: database.db,
     pool: database.pool,
@@ -46,6 +50,7 @@ export async function startServer(source: NodeJS.ProcessEnv = process.env) {
     async stop() {
       await new Promise<void>((r) => server.close(() => r()));
       await queue.stop();
+      await events.close();
       mailer.close();
       await database.close();
     },

@@ -5,6 +5,7 @@ import { createTestApp, type TestApp } from '../tests/harness/test-app';
 import { DEMO_ACCOUNTS } from './db/seed';
 import { buildRoutes } from './routes';
 import type { RouteDef } from './lib/http';
+import { createLineFixture } from '../tests/harness/line-fixtures';
 
 /**
  * Walks every registered route for every kind of caller. A new route is covered the moment it is
@@ -12,6 +13,7 @@ import type { RouteDef } from './lib/http';
  */
 let t: TestApp;
 const cookies = new Map<Role, string>();
+let stationKey = '';
 
 beforeAll(async () => {
   t = await createTestApp();
@@ -26,6 +28,7 @@ beforeAll(async () => {
       (res.headers['set-cookie'] as unknown as string[]).map((c) => c.split(';')[0]).join('; '),
     );
   }
+  stationKey = (await createLineFixture(t.deps.db)).key;
 });
 afterAll(async () => {
   await t?.close();
@@ -38,14 +41,19 @@ function concretePath(path: string): string {
   );
 }
 
-type Caller = 'anonymous' | Role;
-const callers: Caller[] = ['anonymous', ...ROLES];
+type Caller = 'anonymous' | 'station' | Role;
+const callers: Caller[] = ['anonymous', 'station', ...ROLES];
 
 function expectation(r: RouteDef, caller: Caller): 'allowed' | 401 | 403 {
   if (r.access === 'anyone') return 'allowed';
-  if (r.access === 'station') return 401; // people never pass as a station
-  if (caller === 'anonymous') return 401;
-  return roleAllows(r.access, caller) ? 'allowed' : 403;
+  const stationToo = typeof r.access === 'object' && 'people' in r.access;
+  if (r.access === 'station' || stationToo) {
+    if (caller === 'station') return 'allowed';
+    if (r.access === 'station') return 401; // people never pass as a station
+  }
+  if (caller === 'anonymous' || caller === 'station') return 401; // a station key is no person
+  const people = typeof r.access === 'object' && 'people' in r.access ? r.access.people : r.access;
+  return roleAllows(people as Exclude<typeof people, 'station'>, caller) ? 'allowed' : 403;
 }
 
 describe('every route answers each caller as its declared access says', () => {
@@ -60,12 +68,16 @@ describe('every route answers each caller as its declared access says', () => {
         if (r.path === '/api/auth/sign-out') continue; // would end the session the walk relies on
         const path = concretePath(r.path);
         let req = request(t.app)[r.method](path);
-        if (caller !== 'anonymous') req = req.set('Cookie', cookies.get(caller)!);
+        if (caller === 'station') req = req.set('X-Station-Key', stationKey);
+        else if (caller !== 'anonymous') req = req.set('Cookie', cookies.get(caller)!);
         if (r.method !== 'get' && r.method !== 'delete') req = req.send({});
         const res = await req;
         const want = expectation(r, caller);
         const ok = want === 'allowed' ? res.status !== 401 && res.status !== 403 : res.status === want;
-        if (!ok) mismatches.push(`${r.method.toUpperCase()} ${r.path}: wanted ${want}, got ${res.status}`);
+        if (!ok)
+          mismatches.push(
+            `${r.method.toUpperCase()} ${r.path}: wanted ${want}, got ${res.status} ${res.body?.error?.code ?? ''}`,
+          );
         if (res.status === 500)
           mismatches.push(`${r.method.toUpperCase()} ${r.path}: 500 for an empty request`);
       }

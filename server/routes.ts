@@ -1,21 +1,47 @@
 import type { AppDeps } from './deps';
-import type { RouteDef } from './lib/http';
+import { route, type RouteDef } from './lib/http';
+import { buildOpenApi } from './lib/openapi';
 import { auditRoutes } from './modules/audit/audit.routes';
 import { authRoutes } from './modules/auth/auth.routes';
-import { healthRoutes } from './modules/health/health.routes';
+import { catalogRoutes } from './modules/catalog/catalog.routes';
+import { APP_VERSION, healthRoutes } from './modules/health/health.routes';
+import { jobsRoutes } from './modules/jobs/jobs.routes';
 import { mailRoutes } from './modules/mail/mail.routes';
+import { measurementsRoutes } from './modules/measurements/measurements.routes';
+import { stationsRoutes } from './modules/stations/stations.routes';
+import { unitsRoutes } from './modules/units/units.routes';
+import { travelersRoutes } from './modules/travelers/travelers.routes';
 import { usersRoutes } from './modules/users/users.routes';
 
 /**
  * Every HTTP route the server has, in one list. Each declares who may call it; the app mounts
- * them in this order and the role × route test walks this same list.
+ * them in this order, the role × route test walks this same list, and the OpenAPI document at
+ * /api/openapi.json is generated from it.
  */
 export function buildRoutes(deps: AppDeps): RouteDef[] {
-  return [
+  const routes: RouteDef[] = [
     ...healthRoutes(deps),
     ...authRoutes(deps),
     ...usersRoutes(deps),
     ...mailRoutes(deps),
     ...auditRoutes(deps),
+    ...catalogRoutes(deps),
+    ...unitsRoutes(deps),
+    ...stationsRoutes(deps),
+    ...measurementsRoutes(deps),
+    ...travelersRoutes(deps),
+    ...jobsRoutes(deps),
   ];
+  routes.push(
+    route({
+      method: 'get',
+      path: '/api/openapi.json',
+      access: 'anyone',
+      summary: 'This API as an OpenAPI 3.1 document',
+      handler: (_req, res) => {
+        res.json(buildOpenApi(routes, APP_VERSION));
+      },
+    }),
+  );
+  return routes;
 }

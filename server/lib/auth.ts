@@ -28,6 +28,8 @@ declare module 'express-serve-static-core' {
     station?: StationPrincipal;
     /** Why a presented session was not accepted (expired, revoked, ...), for a clear 401. */
     sessionProblem?: 'expired' | 'revoked' | 'invalid';
+    /** The body's text as received (JSON routes), kept for records that must store it verbatim. */
+    rawBody?: string;
   }
 }
 
@@ -82,9 +84,15 @@ export function clearSessionCookie(res: Response, secure: boolean): void {
  * Enforces a route's declared access. 401 when nobody (or no valid station key) is identified,
  * 403 when someone is identified but their role does not fit.
  */
-export function requireAccess(access: RouteAccess) {
+export function requireAccess(
+  access: RouteAccess,
+): (req: Request, res: Response, next: NextFunction) => void {
   return (req: Request, _res: Response, next: NextFunction) => {
     if (access === 'anyone') return next();
+    if (typeof access === 'object' && !Array.isArray(access) && 'people' in access) {
+      if (req.station) return next();
+      return requireAccess(access.people)(req, _res, next);
+    }
     if (access === 'station') {
       if (!req.station) {
         return next(

@@ -12,11 +12,15 @@ export async function checkMigrationsMatchSchema() {
   try {
     cpSync(join(repoRoot, 'drizzle'), scratch, { recursive: true });
     const before = new Set(readdirSync(scratch).filter((f) => f.endsWith('.sql')));
-    const result = await run(join(repoRoot, 'node_modules', '.bin', 'drizzle-kit'), ['generate', '--name', 'drift'], {
-      cwd: repoRoot,
-      env: { ...process.env, DRIZZLE_OUT: scratch },
-      timeoutMs: 120_000,
-    });
+    const result = await run(
+      join(repoRoot, 'node_modules', '.bin', 'drizzle-kit'),
+      ['generate', '--name', 'drift'],
+      {
+        cwd: repoRoot,
+        env: { ...process.env, DRIZZLE_OUT: scratch },
+        timeoutMs: 120_000,
+      },
+    );
     if (result.code !== 0) {
       return { ok: false, message: `drizzle-kit generate failed:\n${result.stdout}\n${result.stderr}` };
     }

@@ -75,8 +75,18 @@ async function browserSuite(pg, chromiumPath) {
     services.push(startService('worker', TSX, ['jobs/worker.ts'], { env, quiet: true }));
     const code = await runStep(
       bin('vitest'),
-      ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${join(resultsDir, 'browser.json')}`],
-      { ...env, PHASEWRIGHT_SUITE: 'browser', PHASEWRIGHT_BASE_URL: `http://127.0.0.1:${port}`, CHROMIUM_PATH: chromiumPath },
+      [
+        'run',
+        '--reporter=default',
+        '--reporter=json',
+        `--outputFile.json=${join(resultsDir, 'browser.json')}`,
+      ],
+      {
+        ...env,
+        PHASEWRIGHT_SUITE: 'browser',
+        PHASEWRIGHT_BASE_URL: `http://127.0.0.1:${port}`,
+        CHROMIUM_PATH: chromiumPath,
+      },
     );
     return count(join(resultsDir, 'browser.json')) && code === 0;
   } finally {

@@ -7,6 +7,7 @@ import { startFakeMailServer, type FakeMailServer } from '../../server/modules/m
 import { seedDemoAccounts } from '../../server/db/seed';
 import { startJobQueue } from '../../jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
+import { createEventHub } from '../../server/modules/events/event-hub';
 
 export interface TestApp {
   app: ReturnType<typeof createApp>;
@@ -36,6 +37,8 @@ export async function createTestApp(opts: { seed?: boolean } = {}): Promise<Test
   });
   if (opts.seed ?? true) await seedDemoAccounts(database.db, env.BCRYPT_COST);
   const queue = await startJobQueue(database.url, database.pool);
+  const events = createEventHub(database.url, createLogger('silent'));
+  await events.ready;
   let now: Date | null = null;
   const deps: AppDeps = {
     env,
@@ -45,6 +48,7 @@ export async function createTestApp(opts: { seed?: boolean } = {}): Promise<Test
     clock: () => now ?? new Date(),
     mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
     queue,
+    events,
   };
   return {
     app: createApp(deps),
@@ -57,6 +61,7 @@ export async function createTestApp(opts: { seed?: boolean } = {}): Promise<Test
     async close() {
       deps.mailer.close();
       await queue.stop();
+      await events.close();
       await mail.close();
       await database.drop();
     },

@@ -1,5 +1,15 @@
 import { sql } from 'drizzle-orm';
-import { integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid, type AnyPgColumn } from 'drizzle-orm/pg-core';
+import {
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+  type AnyPgColumn,
+} from 'drizzle-orm/pg-core';
 import type { Recipe } from '../../../shared/schemas/recipe';
 import { users } from '../users/users.table';
 

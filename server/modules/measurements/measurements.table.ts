@@ -79,7 +79,9 @@ export const calibrations = pgTable(
     offsetCounts: integer(),
     /** Attempt number of this unit (1-based) when it counted; null for unusable input. */
     attempt: integer(),
-    result: jsonb().$type<CalibrationResult | { error: { code: string; message: string; issues?: unknown } }>().notNull(),
+    result: jsonb()
+      .$type<CalibrationResult | { error: { code: string; message: string; issues?: unknown } }>()
+      .notNull(),
     computeMs: doublePrecision(),
     computedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },

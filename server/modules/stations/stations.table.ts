@@ -40,7 +40,10 @@ export const stationKeys = pgTable(
     lastUsedAt: timestamp({ withTimezone: true }),
     revokedAt: timestamp({ withTimezone: true }),
   },
-  (t) => [uniqueIndex('station_keys_hash_key').on(t.keyHash), index('station_keys_station_idx').on(t.stationId)],
+  (t) => [
+    uniqueIndex('station_keys_hash_key').on(t.keyHash),
+    index('station_keys_station_idx').on(t.stationId),
+  ],
 );
 
 export type StationRecord = typeof stations.$inferSelect;

@@ -1,5 +1,16 @@
 import { sql } from 'drizzle-orm';
-import { boolean, doublePrecision, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from 'drizzle-orm/pg-core';
+import {
+  boolean,
+  doublePrecision,
+  index,
+  integer,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from 'drizzle-orm/pg-core';
 import { models } from '../catalog/catalog.table';
 
 export const unitStatusEnum = pgEnum('unit_status', ['new', 'calibrated', 'failed', 'on_hold']);

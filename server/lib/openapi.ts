@@ -1,0 +1,99 @@
+import { z } from 'zod';
+import type { RouteDef } from './http';
+
+/**
+ * The OpenAPI 3.1 document, generated from the registered routes and their zod contracts, so the
+ * station integrators' reference can never drift from what the server accepts.
+ */
+export function buildOpenApi(routes: RouteDef[], version: string) {
+  const paths: Record<string, Record<string, unknown>> = {};
+  for (const r of routes) {
+    const path = r.path.replace(/:(\w+)/g, '{$1}');
+    const params = [...r.path.matchAll(/:(\w+)/g)].map((m) => ({
+      name: m[1],
+      in: 'path',
+      required: true,
+      schema: { type: 'string' },
+    }));
+    const query = r.query ? toQueryParams(r.query) : [];
+    const security =
+      r.access === 'anyone'
+        ? []
+        : r.access === 'station'
+          ? [{ stationKey: [] }]
+          : typeof r.access === 'object' && 'people' in r.access
+            ? [{ sessionCookie: [] }, { stationKey: [] }]
+            : [{ sessionCookie: [] }];
+    const op: Record<string, unknown> = {
+      summary: r.summary,
+      'x-access': r.access,
+      parameters: [...params, ...query],
+      security,
+      responses: {
+        '200': { description: 'Success' },
+        '400': {
+          description: 'Invalid request: `{ error: { code, message, issues: [{ path, message }] } }`',
+        },
+        ...(r.access === 'anyone' ? {} : { '401': { description: 'Not signed in / no valid station key' } }),
+        ...(Array.isArray(r.access) ? { '403': { description: 'Role not allowed' } } : {}),
+      },
+    };
+    if (r.body) {
+      op.requestBody = {
+        required: true,
+        content: {
+          'application/json': { schema: z.toJSONSchema(r.body, { io: 'input', unrepresentable: 'any' }) },
+        },
+      };
+    }
+    if (r.multipart) {
+      op.requestBody = {
+        required: true,
+        content: {
+          'multipart/form-data': {
+            schema: {
+              type: 'object',
+              properties: {
+                [r.multipart.fileField]: { type: 'string', format: 'binary' },
+                ...Object.fromEntries(
+                  Object.entries(r.multipart.fields).map(([k, d]) => [k, { type: 'string', description: d }]),
+                ),
+              },
+              required: [r.multipart.fileField],
+            },
+          },
+        },
+      };
+    }
+    paths[path] = { ...(paths[path] ?? {}), [r.method]: op };
+  }
+  return {
+    openapi: '3.1.0',
+    info: {
+      title: 'Phasewright API',
+      version,
+      description:
+        'Stations authenticate with `X-Station-Key: <key>` (created by an administrator, shown once). People use the session cookie set by sign-in. Errors are `{ error: { code, message, issues? } }` with stable dotted codes.',
+    },
+    components: {
+      securitySchemes: {
+        stationKey: { type: 'apiKey', in: 'header', name: 'X-Station-Key' },
+        sessionCookie: { type: 'apiKey', in: 'cookie', name: 'pw_session' },
+      },
+    },
+    paths,
+  };
+}
+
+function toQueryParams(schema: z.ZodType) {
+  const json = z.toJSONSchema(schema, { io: 'input', unrepresentable: 'any' }) as {
+    properties?: Record<string, object>;
+    required?: string[];
+  };
+  return Object.entries(json.properties ?? {}).map(([name, s]) => ({
+    name,
+    in: 'query',
+    required: json.required?.includes(name) ?? false,
+    schema: s,
+  }));
+}

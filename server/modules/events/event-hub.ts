@@ -1,0 +1,78 @@
+import { EventEmitter } from 'node:events';
+import pg from 'pg';
+import { sql } from 'drizzle-orm';
+import type { DbOrTx } from '../../db/client';
+import type { Logger } from '../../lib/logger';
+import { lineEventSchema, type LineEvent } from '../../../shared/schemas/events';
+
+/** The PostgreSQL channel every line event travels on (NOTIFY is delivered at commit). */
+export const EVENTS_CHANNEL = 'phasewright_events';
+
+/**
+ * Queues a line event inside the caller's transaction: listeners see it only if, and as soon as,
+ * the transaction commits. Works across processes (the worker commits, the server hears it).
+ */
+export async function notifyLineEvent(db: DbOrTx, event: LineEvent): Promise<void> {
+  await db.execute(sql`select pg_notify(${EVENTS_CHANNEL}, ${JSON.stringify(event)})`);
+}
+
+export interface EventHub {
+  subscribe(listener: (e: LineEvent) => void): () => void;
+  /** Resolves once the LISTEN connection is up. */
+  ready: Promise<void>;
+  close(): Promise<void>;
+}
+
+/**
+ * One LISTEN connection per process, fanned out to in-process subscribers (long-polls, SSE streams).
+ * Reconnects after a lost connection; events sent while it was down are not replayed, so every
+ * consumer re-reads the database after subscribing rather than trusting events alone.
+ */
+export function createEventHub(url: string, logger: Logger): EventHub {
+  const emitter = new EventEmitter();
+  emitter.setMaxListeners(0);
+  let client: pg.Client | null = null;
+  let closed = false;
+  let resolveReady!: () => void;
+  const ready = new Promise<void>((r) => (resolveReady = r));
+
+  const connect = async (): Promise<void> => {
+    if (closed) return;
+    const c = new pg.Client({ connectionString: url, application_name: 'phasewright-events' });
+    c.on('notification', (msg) => {
+      if (msg.channel !== EVENTS_CHANNEL || !msg.payload) return;
+      const parsed = lineEventSchema.safeParse(JSON.parse(msg.payload));
+      if (parsed.success) emitter.emit('event', parsed.data);
+    });
+    c.on('error', (err) => {
+      logger.warn({ err: err.message }, 'event connection lost; reconnecting');
+      client = null;
+      c.end().catch(() => {});
+      setTimeout(() => void connect(), 500);
+    });
+    try {
+      await c.connect();
+      await c.query(`LISTEN ${EVENTS_CHANNEL}`);
+      client = c;
+      resolveReady();
+    } catch (err) {
+      logger.warn({ err: (err as Error).message }, 'event connection failed; retrying');
+      c.end().catch(() => {});
+      setTimeout(() => void connect(), 1000);
+    }
+  };
+  void connect();
+
+  return {
+    ready,
+    subscribe(listener) {
+      emitter.on('event', listener);
+      return () => emitter.off('event', listener);
+    },
+    async close() {
+      closed = true;
+      emitter.removeAllListeners();
+      await client?.end().catch(() => {});
+    },
+  };
+}

@@ -1,0 +1,77 @@
+import { z } from 'zod';
+import type { AppDeps } from '../../deps';
+import { AppError } from '../../lib/errors';
+import { route } from '../../lib/http';
+import { insertAudit } from '../audit/audit.repository';
+import { BOSS_SCHEMA } from '../../../jobs/queue-client';
+
+const replayParams = z.object({ id: z.string().uuid('Not a job id') });
+
+interface FailedJobRow {
+  id: string;
+  name: string;
+  data: unknown;
+  output: unknown;
+  retry_count: number;
+  created_on: Date;
+  completed_on: Date | null;
+}
+
+/** Jobs that used up their retries, for an administrator to read and replay. */
+export function jobsRoutes(deps: AppDeps) {
+  return [
+    route({
+      method: 'get',
+      path: '/api/admin/jobs/failed',
+      access: ['admin'],
+      summary: 'Jobs that failed after their retries, newest first, with the error',
+      handler: async (_req, res) => {
+        const { rows } = await deps.pool.query<FailedJobRow>(
+          `select id, name, data, output, retry_count, created_on, completed_on
+             from ${BOSS_SCHEMA}.job where state = 'failed' order by completed_on desc nulls last limit 200`,
+        );
+        res.json({
+          jobs: rows.map((r) => ({
+            id: r.id,
+            queue: r.name,
+            payload: r.data,
+            error: (r.output as { message?: string } | null)?.message ?? JSON.stringify(r.output),
+            retries: r.retry_count,
+            createdAt: r.created_on.toISOString(),
+            failedAt: r.completed_on?.toISOString() ?? null,
+          })),
+        });
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/admin/jobs/:id/replay',
+      access: ['admin'],
+      summary: 'Run a failed job again',
+      handler: async (req, res) => {
+        const { id } = replayParams.parse(req.params);
+        const { rows } = await deps.pool.query<{ name: string }>(
+          `select name from ${BOSS_SCHEMA}.job where id = $1 and state = 'failed'`,
+          [id],
+        );
+        if (!rows[0])
+          throw new AppError(
+            404,
+            'jobs.not_failed',
+            'No failed job with this id (it may have been replayed already).',
+          );
+        await deps.queue.boss.retry(rows[0].name, id);
+        await deps.pool.query(`select pg_notify('phasewright_jobs', $1)`, [rows[0].name]);
+        await insertAudit(deps.db, {
+          actorId: req.user!.id,
+          actorName: req.user!.displayName,
+          action: 'jobs.replayed',
+          subjectType: 'job',
+          subjectId: id,
+          after: { queue: rows[0].name },
+        });
+        res.status(202).json({ id, queue: rows[0].name, state: 'retry' });
+      },
+    }),
+  ];
+}

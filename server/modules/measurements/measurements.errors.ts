@@ -1,0 +1,57 @@
+import { AppError } from '../../lib/errors';
+
+export const measurementErrors = {
+  idConflict: (id: string) =>
+    new AppError(
+      409,
+      'measurements.id_conflict',
+      `Measurement id "${id}" was already used for a different body. Use a new id for a new measurement.`,
+    ),
+  unknownSerial: (serial: string) =>
+    new AppError(
+      422,
+      'units.unknown_serial',
+      `Serial "${serial}" is not registered and this station builds more than one model: register it at the station screen first.`,
+    ),
+  modelNotAllowed: (serial: string, model: string, station: string) =>
+    new AppError(
+      422,
+      'stations.model_not_allowed',
+      `Unit ${serial} is a ${model}; station ${station} is not set up for that model.`,
+    ),
+  onHold: (serial: string, reason: string | null) =>
+    new AppError(
+      409,
+      'units.on_hold',
+      `Unit ${serial} is on hold${reason ? ` (${reason})` : ''}: it must not be measured until quality releases it.`,
+    ),
+  noActiveRecipe: (model: string) =>
+    new AppError(
+      409,
+      'recipes.none_active',
+      `Model ${model} has no released recipe: an engineer must release one first.`,
+    ),
+  unusable: (issues: { path: string; message: string }[]) =>
+    new AppError(
+      400,
+      'measurements.unusable',
+      `The measurement cannot be used: ${issues[0]?.path}: ${issues[0]?.message}`,
+      {
+        issues,
+      },
+    ),
+  notFound: (id: string) =>
+    new AppError(404, 'measurements.not_found', `No measurement "${id}" from this station.`),
+  notCalibrated: (id: string) =>
+    new AppError(
+      409,
+      'measurements.not_computed',
+      `Measurement "${id}" has no result yet; confirm programming after the result.`,
+    ),
+  unusableResult: (id: string) =>
+    new AppError(
+      409,
+      'measurements.unusable_result',
+      `Measurement "${id}" could not be used, so there is nothing to program.`,
+    ),
+};

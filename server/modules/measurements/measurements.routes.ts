@@ -1,0 +1,119 @@
+import { z } from 'zod';
+import type { AppDeps } from '../../deps';
+import { route } from '../../lib/http';
+import { programmingConfirmationSchema, resultQuerySchema } from '../../../shared/schemas/line';
+import { measurementSchema } from '../../../shared/schemas/measurement';
+import { recordHeartbeat } from '../stations/stations.service';
+import { notifyLineEvent } from '../events/event-hub';
+import {
+  acceptMeasurement,
+  confirmProgramming,
+  measurementResult,
+  type LineContext,
+} from './measurements.service';
+
+const idParams = z.object({ measurementId: z.string().min(1).max(200) });
+
+/** The station protocol: what a test station's software calls with its own key. */
+export function measurementsRoutes(deps: AppDeps) {
+  const ctx: LineContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
+  return [
+    route({
+      method: 'post',
+      path: '/api/station/measurements',
+      access: 'station',
+      summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
+      body: measurementSchema,
+      handler: async (req, res) => {
+        const accepted = await acceptMeasurement(ctx, req.station!, req.body, { raw: req.rawBody });
+        res
+          .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
+          .location(accepted.resultUrl)
+          .json(accepted);
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/station/measurements/:measurementId/result',
+      access: 'station',
+      summary: 'The calibration of a measurement; waitMs long-polls until it commits',
+      query: resultQuerySchema,
+      handler: async (req, res) => {
+        const { measurementId } = idParams.parse(req.params);
+        const { waitMs } = resultQuerySchema.parse(req.query);
+        const view = await waitForResult(deps, req.station!.stationId, measurementId, waitMs, req);
+        res.json({ measurementId, status: view ? 'computed' : 'pending', calibration: view });
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/station/measurements/:measurementId/programming',
+      access: 'station',
+      summary: 'Confirm the value written into the unit and read back',
+      body: programmingConfirmationSchema,
+      handler: async (req, res) => {
+        const { measurementId } = idParams.parse(req.params);
+        const body = programmingConfirmationSchema.parse(req.body);
+        res.json(await confirmProgramming(ctx, req.station!, measurementId, body));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/station/heartbeat',
+      access: 'station',
+      summary: 'Tell the server the station is alive',
+      handler: async (req, res) => {
+        const now = deps.clock();
+        await recordHeartbeat(deps.db, req.station!.stationId, now);
+        await notifyLineEvent(deps.db, {
+          type: 'station.heartbeat',
+          stationId: req.station!.stationId,
+          at: now.toISOString(),
+        });
+        res.json({
+          stationId: req.station!.stationId,
+          stationName: req.station!.stationName,
+          at: now.toISOString(),
+        });
+      },
+    }),
+  ];
+}
+
+/**
+ * Returns the calibration at once if it exists; otherwise waits (up to waitMs) for its commit event
+ * and reads it then. Subscribes before the first read, so a commit between the two is not missed.
+ */
+export async function waitForResult(
+  deps: AppDeps,
+  stationId: string | null,
+  measurementId: string,
+  waitMs: number,
+  req: { on(event: 'close', cb: () => void): unknown },
+) {
+  let wake: () => void = () => {};
+  const woke = new Promise<void>((r) => (wake = r));
+  const unsubscribe = deps.events.subscribe((e) => {
+    if (e.type === 'calibration.committed' && e.measurementId === measurementId) wake();
+  });
+  try {
+    const first = await measurementResult(
+      deps.db,
+      stationId ? { stationId, stationName: '', keyId: '' } : null,
+      measurementId,
+    );
+    if (first.view || waitMs === 0) return first.view;
+    let timer: NodeJS.Timeout | undefined;
+    await Promise.race([
+      woke,
+      new Promise<void>((r) => {
+        timer = setTimeout(r, waitMs);
+        req.on('close', () => r());
+      }),
+    ]);
+    clearTimeout(timer);
+    return (await measurementResult(deps.db, null, measurementId)).view;
+  } finally {
+    unsubscribe();
+  }
+}

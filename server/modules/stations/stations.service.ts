@@ -1,0 +1,229 @@
+import { createHash, randomBytes } from 'node:crypto';
+import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
+import type { z } from 'zod';
+import type { Db, DbOrTx } from '../../db/client';
+import type { SessionUser, StationPrincipal } from '../../lib/auth';
+import { AppError } from '../../lib/errors';
+import { insertAudit } from '../audit/audit.repository';
+import { models } from '../catalog/catalog.table';
+import { users } from '../users/users.table';
+import type { StationView } from '../../../shared/schemas/line';
+import { createStationSchema, updateStationSchema } from '../../../shared/schemas/line';
+import { stationKeys, stations, type StationRecord } from './stations.table';
+
+export const STATION_KEY_PREFIX = 'pwsk_';
+
+export const stationErrors = {
+  notFound: () => new AppError(404, 'stations.not_found', 'No such station.'),
+  keyNotFound: () => new AppError(404, 'stations.key_not_found', 'No such key for this station.'),
+  nameTaken: (n: string) =>
+    new AppError(409, 'stations.name_taken', `A station named "${n}" already exists.`),
+  keyInvalid: () =>
+    new AppError(
+      401,
+      'station.key_invalid',
+      'The station key is not valid or was revoked. Ask an administrator for a new key.',
+    ),
+  unknownModels: () =>
+    new AppError(400, 'stations.unknown_model', 'One of the allowed models does not exist.'),
+};
+
+export function hashStationKey(key: string): string {
+  return createHash('sha256').update(key).digest('hex');
+}
+
+/** Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the key used. */
+export async function authenticateStationKey(
+  db: Db,
+  key: string,
+  now: Date,
+): Promise<StationPrincipal | null> {
+  const [row] = await db
+    .select({
+      keyId: stationKeys.id,
+      stationId: stations.id,
+      stationName: stations.name,
+      lastSeenAt: stations.lastSeenAt,
+    })
+    .from(stationKeys)
+    .innerJoin(stations, eq(stations.id, stationKeys.stationId))
+    .where(and(eq(stationKeys.keyHash, hashStationKey(key)), isNull(stationKeys.revokedAt)));
+  if (!row) return null;
+  // "Last seen" is written at most every 5 s per station, so busy stations do not write on every call.
+  if (!row.lastSeenAt || now.getTime() - row.lastSeenAt.getTime() > 5000) {
+    await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, row.stationId));
+    await db.update(stationKeys).set({ lastUsedAt: now }).where(eq(stationKeys.id, row.keyId));
+  }
+  return { stationId: row.stationId, stationName: row.stationName, keyId: row.keyId };
+}
+
+export async function recordHeartbeat(db: DbOrTx, stationId: string, now: Date): Promise<void> {
+  await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, stationId));
+}
+
+export async function findStation(db: DbOrTx, id: string): Promise<StationRecord | undefined> {
+  const [row] = await db.select().from(stations).where(eq(stations.id, id));
+  return row;
+}
+
+export async function listStationViews(db: DbOrTx): Promise<StationView[]> {
+  const rows = await db.select().from(stations).orderBy(asc(stations.line), asc(stations.name));
+  const keys = await db.select().from(stationKeys).orderBy(asc(stationKeys.createdAt));
+  const modelRows = await db.select({ id: models.id, code: models.code }).from(models);
+  const userIds = rows.map((r) => r.attendedBy).filter((x): x is string => !!x);
+  const people = userIds.length
+    ? await db
+        .select({ id: users.id, displayName: users.displayName })
+        .from(users)
+        .where(inArray(users.id, userIds))
+    : [];
+  return rows.map((s) => ({
+    id: s.id,
+    name: s.name,
+    line: s.line,
+    allowedModels: modelRows.filter((m) => s.allowedModelIds.includes(m.id)),
+    lastSeenAt: s.lastSeenAt?.toISOString() ?? null,
+    attendedBy: people.find((p) => p.id === s.attendedBy) ?? null,
+    keys: keys
+      .filter((k) => k.stationId === s.id)
+      .map((k) => ({
+        id: k.id,
+        label: k.label,
+        prefix: k.prefix,
+        createdAt: k.createdAt.toISOString(),
+        lastUsedAt: k.lastUsedAt?.toISOString() ?? null,
+        revokedAt: k.revokedAt?.toISOString() ?? null,
+      })),
+  }));
+}
+
+async function checkModels(db: DbOrTx, ids: string[]) {
+  if (ids.length === 0) return;
+  const found = await db.select({ id: models.id }).from(models).where(inArray(models.id, ids));
+  if (found.length !== new Set(ids).size) throw stationErrors.unknownModels();
+}
+
+function mapNameConflict(e: unknown, name: string): never {
+  const err = e as { code?: string; cause?: { code?: string } };
+  if ((err.code ?? err.cause?.code) === '23505') throw stationErrors.nameTaken(name);
+  throw e;
+}
+
+export async function createStation(
+  db: Db,
+  actor: SessionUser | null,
+  input: z.input<typeof createStationSchema>,
+) {
+  const v = createStationSchema.parse(input);
+  await checkModels(db, v.allowedModelIds);
+  return db
+    .transaction(async (tx) => {
+      const [row] = await tx.insert(stations).values(v).returning();
+      await insertAudit(tx, {
+        actorId: actor?.id,
+        actorName: actor?.displayName,
+        action: 'stations.created',
+        subjectType: 'station',
+        subjectId: row.id,
+        after: row,
+      });
+      return row;
+    })
+    .catch((e: unknown) => mapNameConflict(e, v.name));
+}
+
+export async function updateStation(
+  db: Db,
+  actor: SessionUser,
+  id: string,
+  input: z.input<typeof updateStationSchema>,
+) {
+  const v = updateStationSchema.parse(input);
+  if (v.allowedModelIds) await checkModels(db, v.allowedModelIds);
+  return db
+    .transaction(async (tx) => {
+      const before = await findStation(tx, id);
+      if (!before) throw stationErrors.notFound();
+      const [after] = await tx.update(stations).set(v).where(eq(stations.id, id)).returning();
+      await insertAudit(tx, {
+        actorId: actor.id,
+        actorName: actor.displayName,
+        action: 'stations.updated',
+        subjectType: 'station',
+        subjectId: id,
+        before,
+        after,
+      });
+      return after;
+    })
+    .catch((e: unknown) => mapNameConflict(e, v.name ?? ''));
+}
+
+/** Creates a key and returns it in clear this once. */
+export async function createStationKey(db: Db, actor: SessionUser | null, stationId: string, label: string) {
+  const station = await findStation(db, stationId);
+  if (!station) throw stationErrors.notFound();
+  const key = STATION_KEY_PREFIX + randomBytes(32).toString('base64url');
+  const prefix = key.slice(0, STATION_KEY_PREFIX.length + 6);
+  return db.transaction(async (tx) => {
+    const [row] = await tx
+      .insert(stationKeys)
+      .values({ stationId, label, prefix, keyHash: hashStationKey(key), createdBy: actor?.id ?? null })
+      .returning();
+    await insertAudit(tx, {
+      actorId: actor?.id,
+      actorName: actor?.displayName,
+      action: 'stations.key_created',
+      subjectType: 'station',
+      subjectId: stationId,
+      after: { keyId: row.id, label, prefix },
+    });
+    return { id: row.id, label, prefix, key };
+  });
+}
+
+export async function revokeStationKey(
+  db: Db,
+  actor: SessionUser,
+  stationId: string,
+  keyId: string,
+  now: Date,
+) {
+  return db.transaction(async (tx) => {
+    const [row] = await tx
+      .update(stationKeys)
+      .set({ revokedAt: sql`coalesce(${stationKeys.revokedAt}, ${now.toISOString()}::timestamptz)` })
+      .where(and(eq(stationKeys.id, keyId), eq(stationKeys.stationId, stationId)))
+      .returning();
+    if (!row) throw stationErrors.keyNotFound();
+    await insertAudit(tx, {
+      actorId: actor.id,
+      actorName: actor.displayName,
+      action: 'stations.key_revoked',
+      subjectType: 'station',
+      subjectId: stationId,
+      after: { keyId, prefix: row.prefix },
+    });
+  });
+}
+
+/** The operator at a station's panel takes it over; measurements from now on name them. */
+export async function attendStation(db: Db, user: SessionUser, stationId: string, now: Date) {
+  const station = await findStation(db, stationId);
+  if (!station) throw stationErrors.notFound();
+  await db
+    .update(stations)
+    .set({ attendedBy: user.id, attendedSince: now })
+    .where(eq(stations.id, stationId));
+  if (station.attendedBy !== user.id) {
+    await insertAudit(db, {
+      actorId: user.id,
+      actorName: user.displayName,
+      action: 'stations.attended',
+      subjectType: 'station',
+      subjectId: stationId,
+      before: { attendedBy: station.attendedBy },
+      after: { attendedBy: user.id },
+    });
+  }
+}

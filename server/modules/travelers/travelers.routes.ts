@@ -1,0 +1,91 @@
+import { and, eq } from 'drizzle-orm';
+import type { Response } from 'express';
+import { z } from 'zod';
+import type { AppDeps } from '../../deps';
+import { errors } from '../../lib/errors';
+import { route } from '../../lib/http';
+import { calibrations } from '../measurements/measurements.table';
+import { findUnitBySerial, unitErrors } from '../units/units.service';
+import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
+import { travelers, type TravelerRecord } from './travelers.table';
+
+const serialParams = z.object({ serial: z.string().min(1).max(64) });
+const docParams = z.object({ serial: z.string().min(1).max(64), id: z.string().uuid('Not a traveler id') });
+const printBody = z.object({ pageSize: z.enum(['A4', 'LETTER']).default('A4') });
+
+function sendPdf(res: Response, doc: TravelerRecord, serial: string) {
+  res.setHeader('content-type', 'application/pdf');
+  res.setHeader('content-disposition', `inline; filename="traveler-${serial}-print${doc.printNumber}.pdf"`);
+  res.setHeader('x-content-sha256', doc.sha256);
+  res.setHeader('cache-control', 'no-store');
+  res.end(doc.pdf);
+}
+
+export function travelersRoutes(deps: AppDeps) {
+  /** A station key may read only the travelers of units it measured. */
+  async function checkStationScope(stationId: string | undefined, unitId: string) {
+    if (!stationId) return;
+    const [own] = await deps.db
+      .select({ id: calibrations.id })
+      .from(calibrations)
+      .where(and(eq(calibrations.unitId, unitId), eq(calibrations.stationId, stationId)))
+      .limit(1);
+    if (!own) throw errors.forbidden();
+  }
+  return [
+    route({
+      method: 'get',
+      path: '/api/units/:serial/traveler.pdf',
+      access: { people: ['operator', 'engineer', 'quality'], station: true },
+      summary: 'The current traveler PDF of a unit (people, or the station that measured it)',
+      handler: async (req, res) => {
+        const { serial } = serialParams.parse(req.params);
+        const unit = await findUnitBySerial(deps.db, serial);
+        if (!unit) throw unitErrors.notFound(serial);
+        await checkStationScope(req.station?.stationId, unit.id);
+        const doc = await currentTraveler(deps.db, unit.id);
+        if (!doc) throw travelerErrors.none(unit.serial);
+        sendPdf(res, doc, unit.serial);
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/units/:serial/travelers/:id',
+      access: { people: ['operator', 'engineer', 'quality'], station: true },
+      summary: 'One earlier traveler document of a unit',
+      handler: async (req, res) => {
+        const { serial, id } = docParams.parse(req.params);
+        const unit = await findUnitBySerial(deps.db, serial);
+        if (!unit) throw unitErrors.notFound(serial);
+        await checkStationScope(req.station?.stationId, unit.id);
+        const [doc] = await deps.db
+          .select()
+          .from(travelers)
+          .where(and(eq(travelers.id, id), eq(travelers.unitId, unit.id)));
+        if (!doc) throw travelerErrors.notFound();
+        sendPdf(res, doc, unit.serial);
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/units/:serial/traveler/print',
+      access: ['operator', 'quality'],
+      summary: 'Print (or reprint, marked with its number) the current traveler; audited',
+      body: printBody,
+      handler: async (req, res) => {
+        const { serial } = serialParams.parse(req.params);
+        const { pageSize } = printBody.parse(req.body ?? {});
+        const unit = await findUnitBySerial(deps.db, serial);
+        if (!unit) throw unitErrors.notFound(serial);
+        const doc = await printTraveler(deps.db, req.user!, unit.id, unit.serial, pageSize, deps.clock());
+        res.status(201).json({
+          travelerId: doc.id,
+          printNumber: doc.printNumber,
+          pageSize: doc.pageSize,
+          sha256: doc.sha256,
+          url: `/api/units/${encodeURIComponent(unit.serial)}/travelers/${doc.id}`,
+        });
+      },
+    }),
+  ];
+}

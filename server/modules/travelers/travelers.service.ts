@@ -1,0 +1,287 @@
+import { createHash } from 'node:crypto';
+import { and, count, desc, eq, inArray } from 'drizzle-orm';
+import type { Db, DbOrTx } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
+import { AppError } from '../../lib/errors';
+import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import { auditLog } from '../audit/audit.table';
+import { insertAudit } from '../audit/audit.repository';
+import { models, recipes } from '../catalog/catalog.table';
+import { notifyLineEvent } from '../events/event-hub';
+import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
+import { stations } from '../stations/stations.table';
+import { units } from '../units/units.table';
+import { users } from '../users/users.table';
+import { renderTravelerPdf } from './traveler.render';
+import type { TravelerDataInput } from './traveler.types';
+import { travelers, type TravelerRecord } from './travelers.table';
+
+/** The demo scenario's company and plant; a plant sets its own with TRAVELER_COMPANY / TRAVELER_PLANT. */
+export const TRAVELER_HEADER = {
+  companyName: process.env.TRAVELER_COMPANY ?? 'Corvane Motion Ltd',
+  plantName: process.env.TRAVELER_PLANT ?? 'Hollin Ridge Works',
+};
+
+export const travelerErrors = {
+  none: (serial: string) =>
+    new AppError(
+      404,
+      'travelers.none',
+      `Unit ${serial} has no traveler yet: it appears once a calibration has a verdict.`,
+    ),
+  notFound: () => new AppError(404, 'travelers.not_found', 'No such traveler document for this unit.'),
+  notPrintable: () =>
+    new AppError(
+      409,
+      'travelers.not_printable',
+      'This calibration could not use its data, so it has no traveler.',
+    ),
+};
+
+const lotText = (v: string | null) => (v && /^[A-Za-z0-9]/.test(v) ? v : 'n/a');
+
+/** Gathers everything the traveler prints for one calibration. */
+export async function travelerData(
+  db: DbOrTx,
+  calibrationId: string,
+  printNumber: number,
+  pageSize: 'A4' | 'LETTER',
+  generatedAt: Date,
+): Promise<TravelerDataInput> {
+  const [row] = await db
+    .select({
+      cal: calibrations,
+      m: measurements,
+      unit: units,
+      model: models,
+      recipe: recipes,
+      station: stations,
+    })
+    .from(calibrations)
+    .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
+    .innerJoin(units, eq(units.id, calibrations.unitId))
+    .innerJoin(models, eq(models.id, units.modelId))
+    .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
+    .innerJoin(stations, eq(stations.id, calibrations.stationId))
+    .where(eq(calibrations.id, calibrationId));
+  if (!row || row.cal.verdict === 'unusable') throw travelerErrors.notPrintable();
+  const result = row.cal.result as CalibrationResult;
+  const [operator] = row.m.operatorId
+    ? await db.select().from(users).where(eq(users.id, row.m.operatorId))
+    : [];
+  const [conf] = await db
+    .select()
+    .from(programmingConfirmations)
+    .where(eq(programmingConfirmations.calibrationId, calibrationId))
+    .orderBy(desc(programmingConfirmations.confirmedAt))
+    .limit(1);
+  return {
+    ...TRAVELER_HEADER,
+    lineName: row.station.line,
+    serial: row.unit.serial,
+    model: { name: `${row.model.code} ${row.model.name}`, polePairs: row.model.polePairs },
+    lots: {
+      hallBoard: lotText(row.unit.hallBoardLot),
+      magnetRing: lotText(row.unit.magnetRingLot),
+      stator: lotText(row.unit.statorLot),
+    },
+    verdict: row.cal.verdict as 'pass' | 'fail',
+    offsetDeg: result.offsetDeg ?? 0,
+    offsetCounts: result.offsetCounts ?? 0,
+    countsPerTurn: row.recipe.body.countsPerTurn,
+    lagDeg: result.lagDeg ?? undefined,
+    edges: result.edges.map((e) => ({ sensor: e.sensor, edge: e.edge, residualDeg: e.residualDeg ?? 0 })),
+    speedRpm: result.speedRpm,
+    electricalTurns: result.electricalTurns,
+    checks: result.checks.slice(0, 24).map((c) => ({
+      code: c.code,
+      passed: c.passed,
+      value: typeof c.value === 'string' ? c.value.slice(0, 60) : c.value,
+      limit: typeof c.limit === 'string' ? c.limit.slice(0, 60) : c.limit,
+      unit: c.unit.slice(0, 16) || undefined,
+      sentence: c.message.slice(0, 240),
+    })),
+    stationName: row.station.name,
+    operatorName: operator?.displayName ?? 'not recorded',
+    measuredAt: row.m.receivedAt.toISOString(),
+    computedAt: row.cal.computedAt.toISOString(),
+    generatedAt: generatedAt.toISOString(),
+    timeZone: process.env.TRAVELER_TIME_ZONE ?? 'UTC',
+    recipe: {
+      name: (row.recipe.body.name ?? row.model.code).replace(/[^A-Za-z0-9 ._\-/#+:]/g, '-'),
+      version: row.recipe.version,
+    },
+    engineVersion: row.cal.engineVersion,
+    programming: conf
+      ? conf.matches
+        ? {
+            status: 'confirmed',
+            writtenCounts: conf.writtenCounts,
+            readBackCounts: conf.readBackCounts,
+            checksum: conf.checksum || 'not given',
+            confirmedAt: conf.confirmedAt.toISOString(),
+          }
+        : {
+            status: 'mismatch',
+            writtenCounts: conf.writtenCounts,
+            readBackCounts: conf.readBackCounts,
+            checksum: conf.checksum || undefined,
+            confirmedAt: conf.confirmedAt.toISOString(),
+          }
+      : { status: 'pending' },
+    printNumber,
+    pageSize,
+  };
+}
+
+async function store(
+  db: DbOrTx,
+  calibrationId: string,
+  unitId: string,
+  printNumber: number,
+  pageSize: 'A4' | 'LETTER',
+  requestedBy: string | null,
+  now: Date,
+): Promise<TravelerRecord> {
+  const t0 = performance.now();
+  const pdf = await renderTravelerPdf(await travelerData(db, calibrationId, printNumber, pageSize, now));
+  const renderMs = Math.round(performance.now() - t0);
+  const [row] = await db
+    .insert(travelers)
+    .values({
+      unitId,
+      calibrationId,
+      printNumber,
+      pageSize,
+      pdf,
+      sha256: createHash('sha256').update(pdf).digest('hex'),
+      bytes: pdf.length,
+      renderMs,
+      requestedBy,
+      createdAt: now,
+    })
+    .returning();
+  return row;
+}
+
+/** The job: print 1 of a committed calibration's traveler, once (a second run finds it and stops). */
+export async function renderFirstTraveler(
+  db: Db,
+  calibrationId: string,
+  now: Date,
+  pageSize: 'A4' | 'LETTER' = 'A4',
+) {
+  const [cal] = await db.select().from(calibrations).where(eq(calibrations.id, calibrationId));
+  if (!cal) throw new Error(`calibration ${calibrationId} does not exist`);
+  if (cal.verdict === 'unusable') return null;
+  const [existing] = await db
+    .select({ id: travelers.id })
+    .from(travelers)
+    .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
+  if (existing) return existing.id;
+  return db.transaction(async (tx) => {
+    // Serialise concurrent runs of the same job on the calibration row's lock.
+    await tx
+      .select({ id: calibrations.id })
+      .from(calibrations)
+      .where(eq(calibrations.id, calibrationId))
+      .for('update');
+    const [again] = await tx
+      .select({ id: travelers.id })
+      .from(travelers)
+      .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
+    if (again) return again.id;
+    const row = await store(tx, calibrationId, cal.unitId, 1, pageSize, null, now);
+    const [unit] = await tx.select().from(units).where(eq(units.id, cal.unitId));
+    await notifyLineEvent(tx, {
+      type: 'traveler.ready',
+      stationId: cal.stationId,
+      unitId: cal.unitId,
+      serial: unit.serial,
+      calibrationId,
+      travelerId: row.id,
+      at: now.toISOString(),
+    });
+    return row.id;
+  });
+}
+
+/** The traveler of the unit's latest calibration with a verdict, newest document first. */
+export async function currentTraveler(db: DbOrTx, unitId: string): Promise<TravelerRecord | undefined> {
+  const [latest] = await db
+    .select({ id: calibrations.id })
+    .from(calibrations)
+    .where(and(eq(calibrations.unitId, unitId), inArray(calibrations.verdict, ['pass', 'fail'])))
+    .orderBy(desc(calibrations.computedAt))
+    .limit(1);
+  if (!latest) return undefined;
+  const [doc] = await db
+    .select()
+    .from(travelers)
+    .where(eq(travelers.calibrationId, latest.id))
+    .orderBy(desc(travelers.createdAt))
+    .limit(1);
+  return doc;
+}
+
+/**
+ * Prints the traveler of the unit's latest calibration: the first print uses (or renders) print 1,
+ * every later one renders a reprint marked with its number. Every print is audited.
+ */
+export async function printTraveler(
+  db: Db,
+  actor: SessionUser,
+  unitId: string,
+  serial: string,
+  pageSize: 'A4' | 'LETTER',
+  now: Date,
+): Promise<TravelerRecord> {
+  const [latest] = await db
+    .select()
+    .from(calibrations)
+    .where(and(eq(calibrations.unitId, unitId), inArray(calibrations.verdict, ['pass', 'fail'])))
+    .orderBy(desc(calibrations.computedAt))
+    .limit(1);
+  if (!latest) throw travelerErrors.none(serial);
+  return db.transaction(async (tx) => {
+    await tx
+      .select({ id: calibrations.id })
+      .from(calibrations)
+      .where(eq(calibrations.id, latest.id))
+      .for('update');
+    const [{ n }] = await tx
+      .select({ n: count() })
+      .from(auditLog)
+      .where(
+        and(
+          eq(auditLog.subjectType, 'calibration'),
+          eq(auditLog.subjectId, latest.id),
+          inArray(auditLog.action, ['travelers.printed', 'travelers.reprinted']),
+        ),
+      );
+    const printNumber = n + 1;
+    let doc: TravelerRecord | undefined;
+    if (printNumber === 1) {
+      [doc] = await tx
+        .select()
+        .from(travelers)
+        .where(
+          and(
+            eq(travelers.calibrationId, latest.id),
+            eq(travelers.printNumber, 1),
+            eq(travelers.pageSize, pageSize),
+          ),
+        );
+    }
+    doc ??= await store(tx, latest.id, unitId, printNumber, pageSize, actor.id, now);
+    await insertAudit(tx, {
+      actorId: actor.id,
+      actorName: actor.displayName,
+      action: printNumber === 1 ? 'travelers.printed' : 'travelers.reprinted',
+      subjectType: 'calibration',
+      subjectId: latest.id,
+      after: { serial, travelerId: doc.id, printNumber, pageSize, sha256: doc.sha256 },
+    });
+    return doc;
+  });
+}

@@ -1,0 +1,68 @@
+import multer from 'multer';
+import { z } from 'zod';
+import type { AppDeps } from '../../deps';
+import { AppError } from '../../lib/errors';
+import { route } from '../../lib/http';
+import { holdUnitSchema, registerUnitSchema } from '../../../shared/schemas/line';
+import { importUnits, registerUnit, setHold, unitDetail } from './units.service';
+
+const serialParams = z.object({ serial: z.string().min(1).max(64) });
+/** Work-order CSVs up to 5 MB (about 80,000 rows). */
+export const IMPORT_LIMIT_BYTES = 5 * 1024 * 1024;
+const upload = multer({
+  storage: multer.memoryStorage(),
+  limits: { fileSize: IMPORT_LIMIT_BYTES, files: 1 },
+});
+
+export function unitsRoutes(deps: AppDeps) {
+  return [
+    route({
+      method: 'get',
+      path: '/api/units/:serial',
+      access: 'signed-in',
+      summary: 'A unit with its calibrations, programming status and travelers',
+      handler: async (req, res) => {
+        const { serial } = serialParams.parse(req.params);
+        res.json(await unitDetail(deps.db, serial));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/units',
+      access: ['operator', 'engineer', 'quality'],
+      summary: 'Register a unit against a model',
+      body: registerUnitSchema,
+      handler: async (req, res) => {
+        res
+          .status(201)
+          .json({ unit: await registerUnit(deps.db, req.user!, registerUnitSchema.parse(req.body)) });
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/units/import',
+      access: ['engineer', 'quality'],
+      summary: 'Import units from a work-order CSV (all rows or none)',
+      multipart: { fileField: 'file', fields: {} },
+      before: [upload.single('file')],
+      handler: async (req, res) => {
+        if (!req.file)
+          throw new AppError(400, 'units.import_no_file', 'Attach the CSV as the form field "file".');
+        const report = await importUnits(deps.db, req.user!, req.file.buffer.toString('utf8'));
+        res.status(report.errors.length ? 422 : 201).json(report);
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/units/:serial/hold',
+      access: ['quality', 'engineer'],
+      summary: 'Put a unit on hold or release it, with a reason',
+      body: holdUnitSchema,
+      handler: async (req, res) => {
+        const { serial } = serialParams.parse(req.params);
+        const { hold, reason } = holdUnitSchema.parse(req.body);
+        res.json({ unit: await setHold(deps.db, req.user!, serial, hold, reason) });
+      },
+    }),
+  ];
+}

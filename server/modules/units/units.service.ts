@@ -1,0 +1,275 @@
+import Papa from 'papaparse';
+import { eq, inArray, sql } from 'drizzle-orm';
+import type { Db, DbOrTx } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
+import { AppError } from '../../lib/errors';
+import { insertAudit } from '../audit/audit.repository';
+import { models, recipes } from '../catalog/catalog.table';
+import { calibrationViews } from '../measurements/measurements.service';
+import { calibrations } from '../measurements/measurements.table';
+import { travelers } from '../travelers/travelers.table';
+import {
+  registerUnitSchema,
+  serialSchema,
+  type ImportReport,
+  type RegisterUnit,
+  type UnitDetail,
+  type UnitView,
+} from '../../../shared/schemas/line';
+import { units, type UnitRecord } from './units.table';
+
+export const unitErrors = {
+  notFound: (serial: string) =>
+    new AppError(
+      404,
+      'units.not_found',
+      `No unit with serial "${serial}". Register it against a model first.`,
+    ),
+  exists: (serial: string) =>
+    new AppError(409, 'units.exists', `A unit with serial "${serial}" already exists.`),
+  unknownModel: () => new AppError(400, 'units.unknown_model', 'No such model.'),
+  holdUnchanged: (hold: boolean) =>
+    new AppError(
+      409,
+      'units.hold_unchanged',
+      hold ? 'The unit is already on hold.' : 'The unit is not on hold.',
+    ),
+};
+
+export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<UnitRecord | undefined> {
+  const [row] = await db
+    .select()
+    .from(units)
+    .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`);
+  return row;
+}
+
+export async function unitView(db: DbOrTx, unit: UnitRecord): Promise<UnitView> {
+  const [model] = await db.select().from(models).where(eq(models.id, unit.modelId));
+  const [recipe] = model.activeRecipeId
+    ? await db.select().from(recipes).where(eq(recipes.id, model.activeRecipeId))
+    : [];
+  return {
+    id: unit.id,
+    serial: unit.serial,
+    model: { id: model.id, code: model.code, name: model.name, polePairs: model.polePairs },
+    workOrder: unit.workOrder,
+    lots: { hallBoard: unit.hallBoardLot, magnetRing: unit.magnetRingLot, stator: unit.statorLot },
+    status: unit.status,
+    holdReason: unit.holdReason,
+    attempts: unit.attempts,
+    maxAttempts: recipe?.body.maxAttempts ?? null,
+    currentOffsetDeg: unit.currentOffsetDeg,
+    currentOffsetCounts: unit.currentOffsetCounts,
+    programmingMismatch: unit.programmingMismatch,
+    createdAt: unit.createdAt.toISOString(),
+    updatedAt: unit.updatedAt.toISOString(),
+  };
+}
+
+export async function unitDetail(db: DbOrTx, serial: string): Promise<UnitDetail> {
+  const unit = await findUnitBySerial(db, serial);
+  if (!unit) throw unitErrors.notFound(serial);
+  const docs = await db
+    .select({
+      id: travelers.id,
+      printNumber: travelers.printNumber,
+      pageSize: travelers.pageSize,
+      sha256: travelers.sha256,
+      createdAt: travelers.createdAt,
+    })
+    .from(travelers)
+    .where(eq(travelers.unitId, unit.id))
+    .orderBy(travelers.createdAt);
+  return {
+    unit: await unitView(db, unit),
+    calibrations: await calibrationViews(db, eq(calibrations.unitId, unit.id), 100),
+    travelers: docs.map((d) => ({ ...d, createdAt: d.createdAt.toISOString() })),
+  };
+}
+
+export async function registerUnit(db: Db, actor: SessionUser, input: RegisterUnit): Promise<UnitView> {
+  const v = registerUnitSchema.parse(input);
+  const [model] = await db.select().from(models).where(eq(models.id, v.modelId));
+  if (!model) throw unitErrors.unknownModel();
+  return db
+    .transaction(async (tx) => {
+      const [row] = await tx
+        .insert(units)
+        .values({
+          serial: v.serial,
+          modelId: v.modelId,
+          workOrder: v.workOrder || null,
+          hallBoardLot: v.hallBoardLot || null,
+          magnetRingLot: v.magnetRingLot || null,
+          statorLot: v.statorLot || null,
+        })
+        .returning();
+      await insertAudit(tx, {
+        actorId: actor.id,
+        actorName: actor.displayName,
+        action: 'units.registered',
+        subjectType: 'unit',
+        subjectId: row.id,
+        after: { serial: row.serial, model: model.code },
+      });
+      return unitView(tx, row);
+    })
+    .catch((e: unknown) => {
+      const err = e as { code?: string; cause?: { code?: string } };
+      if ((err.code ?? err.cause?.code) === '23505') throw unitErrors.exists(v.serial);
+      throw e;
+    });
+}
+
+export async function setHold(
+  db: Db,
+  actor: SessionUser,
+  serial: string,
+  hold: boolean,
+  reason: string,
+): Promise<UnitView> {
+  return db.transaction(async (tx) => {
+    const [unit] = await tx
+      .select()
+      .from(units)
+      .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`)
+      .for('update');
+    if (!unit) throw unitErrors.notFound(serial);
+    if ((unit.status === 'on_hold') === hold) throw unitErrors.holdUnchanged(hold);
+    // Released units go back to what their calibrations say; attempts restart so a retest is possible.
+    const released: UnitRecord['status'] = unit.currentCalibrationId
+      ? 'calibrated'
+      : unit.attempts > 0
+        ? 'failed'
+        : 'new';
+    const [after] = await tx
+      .update(units)
+      .set(
+        hold
+          ? { status: 'on_hold', holdReason: reason, updatedAt: new Date() }
+          : { status: released, holdReason: null, attempts: 0, updatedAt: new Date() },
+      )
+      .where(eq(units.id, unit.id))
+      .returning();
+    await insertAudit(tx, {
+      actorId: actor.id,
+      actorName: actor.displayName,
+      action: hold ? 'units.held' : 'units.released',
+      subjectType: 'unit',
+      subjectId: unit.id,
+      reason,
+      before: { status: unit.status, holdReason: unit.holdReason, attempts: unit.attempts },
+      after: { status: after.status, holdReason: after.holdReason, attempts: after.attempts },
+    });
+    return unitView(tx, after);
+  });
+}
+
+const IMPORT_COLUMNS = [
+  'serial',
+  'model',
+  'work_order',
+  'hall_board_lot',
+  'magnet_ring_lot',
+  'stator_lot',
+] as const;
+
+/**
+ * Imports units from a work-order CSV (header row; columns serial, model (code), and optionally
+ * work_order, hall_board_lot, magnet_ring_lot, stator_lot). All or nothing: with any bad row the
+ * report lists every bad row and nothing is imported.
+ */
+export async function importUnits(db: Db, actor: SessionUser, csvText: string): Promise<ImportReport> {
+  const parsed = Papa.parse<Record<string, string>>(csvText.replace(/^\uFEFF/, ''), {
+    header: true,
+    skipEmptyLines: 'greedy',
+    transformHeader: (h) =>
+      h
+        .trim()
+        .toLowerCase()
+        .replace(/[\s-]+/g, '_'),
+  });
+  const headers = parsed.meta.fields ?? [];
+  const missing = ['serial', 'model'].filter((c) => !headers.includes(c));
+  if (missing.length) {
+    throw new AppError(
+      400,
+      'units.import_columns',
+      `The CSV lacks the column${missing.length > 1 ? 's' : ''} ${missing.join(', ')}. Expected: ${IMPORT_COLUMNS.join(', ')}.`,
+    );
+  }
+  const errors: ImportReport['errors'] = [];
+  for (const e of parsed.errors) errors.push({ row: (e.row ?? 0) + 2, serial: null, message: e.message });
+  const modelRows = await db.select().from(models);
+  const byCode = new Map(modelRows.map((m) => [m.code.toUpperCase(), m]));
+  const seen = new Map<string, number>();
+  const values: (typeof units.$inferInsert)[] = [];
+  parsed.data.forEach((r, i) => {
+    const line = i + 2;
+    const serial = serialSchema.safeParse(r.serial ?? '');
+    if (!serial.success) {
+      errors.push({
+        row: line,
+        serial: r.serial || null,
+        message: `serial: ${serial.error.issues[0].message}`,
+      });
+      return;
+    }
+    const key = serial.data.toUpperCase();
+    if (seen.has(key)) {
+      errors.push({ row: line, serial: serial.data, message: `serial repeats row ${seen.get(key)}` });
+      return;
+    }
+    seen.set(key, line);
+    const model = byCode.get((r.model ?? '').trim().toUpperCase());
+    if (!model) {
+      errors.push({
+        row: line,
+        serial: serial.data,
+        message: `model "${r.model ?? ''}" is not a known model code`,
+      });
+      return;
+    }
+    const lot = (v: string | undefined) => (v && v.trim() ? v.trim().slice(0, 64) : null);
+    values.push({
+      serial: serial.data,
+      modelId: model.id,
+      workOrder: lot(r.work_order),
+      hallBoardLot: lot(r.hall_board_lot),
+      magnetRingLot: lot(r.magnet_ring_lot),
+      statorLot: lot(r.stator_lot),
+    });
+  });
+  if (values.length) {
+    const existing = await db
+      .select({ serial: units.serial })
+      .from(units)
+      .where(
+        inArray(
+          sql`upper(${units.serial})`,
+          values.map((v) => v.serial.toUpperCase()),
+        ),
+      );
+    for (const e of existing) {
+      errors.push({
+        row: seen.get(e.serial.toUpperCase()) ?? 0,
+        serial: e.serial,
+        message: 'a unit with this serial already exists',
+      });
+    }
+  }
+  errors.sort((a, b) => a.row - b.row);
+  if (errors.length > 0) return { imported: 0, rows: parsed.data.length, errors };
+  await db.transaction(async (tx) => {
+    for (let i = 0; i < values.length; i += 500) await tx.insert(units).values(values.slice(i, i + 500));
+    await insertAudit(tx, {
+      actorId: actor.id,
+      actorName: actor.displayName,
+      action: 'units.imported',
+      subjectType: 'unit',
+      after: { count: values.length, first: values[0]?.serial, last: values.at(-1)?.serial },
+    });
+  });
+  return { imported: values.length, rows: parsed.data.length, errors: [] };
+}
