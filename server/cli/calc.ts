@@ -47,7 +47,8 @@ function parseArgs(argv: string[]): Args {
       args.format = f;
     } else if (a === '--direction') {
       const d = value();
-      if (d !== 'forward' && d !== 'reverse') throw new UsageError(`--direction must be forward or reverse, not "${d}"`);
+      if (d !== 'forward' && d !== 'reverse')
+        throw new UsageError(`--direction must be forward or reverse, not "${d}"`);
       args.direction = d;
     } else if (a === '--serial') args.serial = value();
     else if (a === '--measurement-id') args.measurementId = value();
@@ -66,7 +67,9 @@ function readText(path: string, what: string): string {
     return readFileSync(path, 'utf8');
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code;
-    throw new UsageError(`cannot read the ${what} ${path}${code === 'ENOENT' ? ': no such file' : `: ${code ?? String(e)}`}`);
+    throw new UsageError(
+      `cannot read the ${what} ${path}${code === 'ENOENT' ? ': no such file' : `: ${code ?? String(e)}`}`,
+    );
   }
 }
 
@@ -85,8 +88,12 @@ function table(r: CalibrationResult): string {
   const lines: string[] = [];
   lines.push(`Unit ${r.serial}   measurement ${r.measurementId}   engine ${r.engineVersion}`);
   lines.push(`Verdict: ${r.verdict.toUpperCase()}`);
-  lines.push(`Offset ${n(r.offsetDeg, 3)}° e  (${r.offsetCounts ?? '—'} counts)` + (r.lagDeg !== null ? `   lag ${n(r.lagDeg, 3)}°` : ''));
-  if (r.hysteresisDeg !== null || r.latencyUs !== null) lines.push(`Hysteresis ${n(r.hysteresisDeg, 3)}°   latency ${n(r.latencyUs, 2)} µs`);
+  lines.push(
+    `Offset ${n(r.offsetDeg, 3)}° e  (${r.offsetCounts ?? '—'} counts)` +
+      (r.lagDeg !== null ? `   lag ${n(r.lagDeg, 3)}°` : ''),
+  );
+  if (r.hysteresisDeg !== null || r.latencyUs !== null)
+    lines.push(`Hysteresis ${n(r.hysteresisDeg, 3)}°   latency ${n(r.latencyUs, 2)} µs`);
   lines.push(
     `Speed ${n(r.speedRpm, 0)} rpm (${n(r.electricalHz, 1)} Hz e), variation ${n(r.speedVariationPct, 1)} %, ${n(r.electricalTurns, 1)} turns, fit residual ${n(r.fitResidualDeg, 3)}°`,
   );
@@ -98,10 +105,13 @@ function table(r: CalibrationResult): string {
   }
   lines.push('', 'Edge     count  residual°  spread°');
   for (const e of r.edges) {
-    lines.push(`${`${e.sensor} ${e.edge}`.padEnd(8)} ${String(e.count).padStart(5)}  ${n(e.residualDeg, 3).padStart(9)}  ${n(e.spreadDeg, 3).padStart(7)}`);
+    lines.push(
+      `${`${e.sensor} ${e.edge}`.padEnd(8)} ${String(e.count).padStart(5)}  ${n(e.residualDeg, 3).padStart(9)}  ${n(e.spreadDeg, 3).padStart(7)}`,
+    );
   }
   lines.push('', 'Sensor  duty %  placement°');
-  for (const s of r.sensors) lines.push(`${s.sensor.padEnd(7)} ${n(s.dutyPct, 2).padStart(6)}  ${n(s.placementDeg, 3).padStart(9)}`);
+  for (const s of r.sensors)
+    lines.push(`${s.sensor.padEnd(7)} ${n(s.dutyPct, 2).padStart(6)}  ${n(s.placementDeg, 3).padStart(9)}`);
   if (r.drive) {
     lines.push(
       '',
@@ -157,11 +167,15 @@ function main(argv: string[]): number {
       const measurement = readJson(args.input, 'measurement');
       result = calibrate(measurement as never, recipe as never);
     }
-    process.stdout.write(args.format === 'table' ? `${table(result)}\n` : `${JSON.stringify(result, null, 2)}\n`);
+    process.stdout.write(
+      args.format === 'table' ? `${table(result)}\n` : `${JSON.stringify(result, null, 2)}\n`,
+    );
     return 0;
   } catch (e) {
     if (e instanceof CalibrationInputError) {
-      process.stderr.write(`calc: unusable input (${e.issues.length} problem${e.issues.length === 1 ? '' : 's'}):\n`);
+      process.stderr.write(
+        `calc: unusable input (${e.issues.length} problem${e.issues.length === 1 ? '' : 's'}):\n`,
+      );
       for (const i of e.issues) process.stderr.write(`  ${i.path}: ${i.message}\n`);
       return 2;
     }
@@ -169,7 +183,9 @@ function main(argv: string[]): number {
       process.stderr.write(`calc: ${e.message}\n\n${USAGE}\n`);
       return 2;
     }
-    process.stderr.write(`calc: unexpected failure: ${e instanceof Error ? (e.stack ?? e.message) : String(e)}\n`);
+    process.stderr.write(
+      `calc: unexpected failure: ${e instanceof Error ? (e.stack ?? e.message) : String(e)}\n`,
+    );
     return 1;
   }
 }

@@ -42,39 +42,38 @@ export const bemfCrossingSchema = z.object({
 });
 export type BemfCrossing = z.infer<typeof bemfCrossingSchema>;
 
-function checkSorted(
-  items: readonly { us: number }[],
-  key: 'hallEdges' | 'bemfCrossings',
-  ctx: z.core.$RefinementCtx,
-): void {
-  for (let i = 1; i < items.length; i++) {
-    if (items[i].us < items[i - 1].us) {
-      ctx.addIssue({
-        code: 'custom',
-        path: [key, i, 'us'],
-        message: `times must not decrease (${items[i].us} µs comes after ${items[i - 1].us} µs)`,
-      });
-      return;
-    }
-  }
+/** Times in a list must not decrease; the refinement sits on each list so it runs even when a sibling list is bad. */
+function sortedByTime<T extends z.ZodType<{ us: number }>>(item: T, minimum: number, tooFew: string) {
+  return z
+    .array(item)
+    .min(minimum, tooFew)
+    .superRefine((items, ctx) => {
+      for (let i = 1; i < items.length; i++) {
+        if (items[i].us < items[i - 1].us) {
+          ctx.addIssue({
+            code: 'custom',
+            path: [i, 'us'],
+            message: `times must not decrease (${items[i].us} µs comes after ${items[i - 1].us} µs)`,
+          });
+          return;
+        }
+      }
+    });
 }
 
-export const measurementSegmentSchema = z
-  .object({
-    direction: directionSchema,
-    /** Hall edges of all three sensors, merged and sorted by time (non-decreasing). */
-    hallEdges: z.array(hallEdgeSchema).min(1, 'needs at least one hall edge'),
-    /** Back-EMF zero crossings of all channels, merged and sorted by time (non-decreasing). */
-    bemfCrossings: z
-      .array(bemfCrossingSchema)
-      .min(4, 'needs at least four back-EMF crossings to fit the angle'),
-    /** Optional free label from the station, e.g. "fwd-3000rpm". */
-    label: z.string().max(200).optional(),
-  })
-  .superRefine((segment, ctx) => {
-    checkSorted(segment.hallEdges, 'hallEdges', ctx);
-    checkSorted(segment.bemfCrossings, 'bemfCrossings', ctx);
-  });
+export const measurementSegmentSchema = z.object({
+  direction: directionSchema,
+  /** Hall edges of all three sensors, merged and sorted by time (non-decreasing). */
+  hallEdges: sortedByTime(hallEdgeSchema, 1, 'needs at least one hall edge'),
+  /** Back-EMF zero crossings of all channels, merged and sorted by time (non-decreasing). */
+  bemfCrossings: sortedByTime(
+    bemfCrossingSchema,
+    4,
+    'needs at least four back-EMF crossings to fit the angle',
+  ),
+  /** Optional free label from the station, e.g. "fwd-3000rpm". */
+  label: z.string().max(200).optional(),
+});
 export type MeasurementSegment = z.infer<typeof measurementSegmentSchema>;
 
 export const measurementSchema = z.object({
