@@ -38,6 +38,8 @@ export function createBoss(
     supervise: opts.supervise ?? false,
     schedule: opts.schedule ?? false,
     application_name: 'phasewright-queue',
+    // How often the supervisor looks for jobs whose worker died (their expiry passed) and retries them.
+    maintenanceIntervalSeconds: Number(process.env.QUEUE_MAINTENANCE_SECONDS ?? 30),
   });
   return boss;
 }
@@ -51,7 +53,7 @@ export async function startJobQueue(
   const boss = createBoss(url, opts);
   boss.on('error', () => {});
   await boss.start();
-  for (const q of Object.values(queues)) await ensureQueue(boss, q.name);
+  for (const q of Object.values(queues)) await ensureQueue(boss, q.name, q.policy);
   return {
     boss,
     async send(queue, payload, sendOpts) {
@@ -78,7 +80,20 @@ export async function startJobQueue(
   };
 }
 
-export async function ensureQueue(boss: PgBoss, name: string): Promise<void> {
+/** Creates the queue with its policy, or brings an existing queue's policy up to date. */
+export async function ensureQueue(
+  boss: PgBoss,
+  name: string,
+  policy: Omit<PgBoss.Queue, 'name'>,
+): Promise<void> {
   const existing = await boss.getQueue(name);
-  if (!existing) await boss.createQueue(name);
+  if (!existing) await boss.createQueue(name, { name, ...policy });
+  else if (
+    existing.retryLimit !== policy.retryLimit ||
+    existing.retryDelay !== policy.retryDelay ||
+    existing.retryBackoff !== policy.retryBackoff ||
+    existing.expireInSeconds !== policy.expireInSeconds
+  ) {
+    await boss.updateQueue(name, { name, ...policy });
+  }
 }

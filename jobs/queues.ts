@@ -1,23 +1,28 @@
 import { z } from 'zod';
 
 /**
- * Every queue the worker serves, with the schema its payload must satisfy. Producers and the worker
- * both validate against these.
+ * Every queue the worker serves, with the schema its payload must satisfy (producers and the worker
+ * both validate against it) and its policy: retries with exponential backoff from `retryDelay`
+ * seconds, and `expireInSeconds` after which a job still active is taken as abandoned by a dead
+ * worker and retried.
  */
 export const queues = {
   housekeeping: {
     name: 'housekeeping',
     payload: z.object({}).strict(),
+    policy: { retryLimit: 2, retryDelay: 30, retryBackoff: true, expireInSeconds: 300 },
   },
   /** Compute one measurement with one recipe version (enqueued in the transaction that stores the measurement). */
   calibrationCompute: {
     name: 'calibration-compute',
     payload: z.object({ measurementPk: z.string().uuid(), recipeId: z.string().uuid() }).strict(),
+    policy: { retryLimit: 5, retryDelay: 1, retryBackoff: true, expireInSeconds: 60 },
   },
   /** Render print 1 of the traveler for a committed calibration (enqueued with the calibration). */
   travelerRender: {
     name: 'traveler-render',
     payload: z.object({ calibrationId: z.string().uuid() }).strict(),
+    policy: { retryLimit: 5, retryDelay: 2, retryBackoff: true, expireInSeconds: 120 },
   },
 } as const;
 

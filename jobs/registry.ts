@@ -9,9 +9,6 @@ export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
   queue: K;
   /** Cron expression (UTC) when the job also runs on a schedule. */
   schedule?: string;
-  /** Retry policy for a failed run (exponential backoff from the first delay). */
-  retryLimit: number;
-  retryDelaySeconds: number;
   /** Jobs fetched per poll, and parallel fetch loops in one worker process. */
   batchSize: number;
   concurrency: number;
@@ -23,30 +20,9 @@ function job<K extends keyof typeof queues>(def: JobDef<K>): JobDef {
 }
 
 /** Every job the worker runs, one line each. */
+// prettier-ignore
 export const jobRegistry: JobDef[] = [
-  job({
-    queue: 'calibrationCompute',
-    retryLimit: 5,
-    retryDelaySeconds: 1,
-    batchSize: 8,
-    concurrency: 4,
-    handler: runCalibrationCompute,
-  }),
-  job({
-    queue: 'travelerRender',
-    retryLimit: 5,
-    retryDelaySeconds: 2,
-    batchSize: 8,
-    concurrency: 2,
-    handler: runTravelerRender,
-  }),
-  job({
-    queue: 'housekeeping',
-    schedule: '*/10 * * * *',
-    retryLimit: 2,
-    retryDelaySeconds: 30,
-    batchSize: 1,
-    concurrency: 1,
-    handler: (deps) => runHousekeeping(deps),
-  }),
+  job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
+  job({ queue: 'travelerRender', batchSize: 8, concurrency: 2, handler: runTravelerRender }),
+  job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];

@@ -24,12 +24,6 @@ export async function startWorker(opts: { databaseUrl: string; logLevel?: string
 
   for (const job of jobRegistry) {
     const def = queues[job.queue];
-    await queue.boss.updateQueue(def.name, {
-      name: def.name,
-      retryLimit: job.retryLimit,
-      retryDelay: job.retryDelaySeconds,
-      retryBackoff: true,
-    });
     const ids: string[] = [];
     for (let i = 0; i < job.concurrency; i++) {
       ids.push(

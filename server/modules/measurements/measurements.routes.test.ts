@@ -1,0 +1,342 @@
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createLineFixture } from '../../../tests/harness/line-fixtures';
+import { simulatedMeasurement } from '../../../tests/harness/measurements';
+import type { Recipe } from '../../../shared/schemas/recipe';
+import { computeCalibration, type LineContext } from './measurements.service';
+
+let t: TestApp;
+let line: Awaited<ReturnType<typeof createLineFixture>>;
+let other: Awaited<ReturnType<typeof createLineFixture>>;
+let ctx: LineContext;
+let recipe: Recipe;
+
+beforeAll(async () => {
+  t = await createTestApp();
+  line = await createLineFixture(t.deps.db, { code: 'TM-40', polePairs: 4 });
+  other = await createLineFixture(t.deps.db, { code: 'TM-60', polePairs: 6, stationName: 'EOL-OTHER' });
+  ctx = { db: t.deps.db, pool: t.deps.pool, queue: t.deps.queue, clock: t.deps.clock };
+  recipe = line.recipe.body;
+});
+afterAll(async () => {
+  await t?.close();
+});
+
+const post = (key: string, body: unknown) =>
+  request(t.app)
+    .post('/api/station/measurements')
+    .set('X-Station-Key', key)
+    .send(body as object);
+
+async function count(table: string, where = 'true', params: unknown[] = []): Promise<number> {
+  const { rows } = await t.database.pool.query(
+    `select count(*)::int as n from ${table} where ${where}`,
+    params,
+  );
+  return rows[0].n;
+}
+
+/** Runs the queued compute job for a measurement the way the worker would. */
+async function computeQueued(measurementId: string) {
+  const { rows } = await t.database.pool.query(
+    `select m.id as pk, mo.active_recipe_id as recipe from measurements m join units u on u.id = m.unit_id join models mo on mo.id = u.model_id where m.measurement_id = $1`,
+    [measurementId],
+  );
+  return computeCalibration(ctx, { measurementPk: rows[0].pk, recipeId: rows[0].recipe });
+}
+
+describe('posting a measurement', () => {
+  it('stores it and enqueues its computation together, and answers 202 with the result URL', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-POST-1');
+    const res = await post(line.key, m);
+    expect(res.status).toBe(202);
+    expect(res.body).toMatchObject({ measurementId: m.measurementId, status: 'queued', repeated: false });
+    expect(res.headers.location).toBe(res.body.resultUrl);
+    expect(await count('measurements', 'measurement_id = $1', [m.measurementId])).toBe(1);
+    const [pk] = (
+      await t.database.pool.query('select id from measurements where measurement_id = $1', [m.measurementId])
+    ).rows;
+    expect(
+      await count('pgboss.job', `name = 'calibration-compute' and data->>'measurementPk' = $1`, [pk.id]),
+    ).toBe(1);
+  });
+
+  it('registers an unknown serial at a single-model station', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-NEW-AT-STATION');
+    expect((await post(line.key, m)).status).toBe(202);
+    expect(await count('units', `serial = 'SN-NEW-AT-STATION' and model_id = $1`, [line.model.id])).toBe(1);
+  });
+
+  it('answers a repeated post of the same body with the same answer and stores nothing new', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-REPEAT');
+    const first = await post(line.key, m);
+    // The same JSON with its keys in another order is the same body.
+    const reordered = Object.fromEntries(Object.entries(m).reverse());
+    const again = await post(line.key, reordered);
+    expect(again.status).toBe(202);
+    expect(again.body).toEqual({ ...first.body, repeated: true });
+    expect(await count('measurements', 'measurement_id = $1', [m.measurementId])).toBe(1);
+    expect(
+      await count(
+        'pgboss.job',
+        `name = 'calibration-compute' and data->>'measurementPk' = (select id::text from measurements where measurement_id = $1)`,
+        [m.measurementId],
+      ),
+    ).toBe(1);
+  });
+
+  it('rejects a repeated measurement id with a different body with 409 and keeps the first', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-CONFLICT');
+    await post(line.key, m);
+    const changed = { ...m, serial: 'SN-CONFLICT-2' };
+    const res = await post(line.key, changed);
+    expect(res.status).toBe(409);
+    expect(res.body.error.code).toBe('measurements.id_conflict');
+    const { rows } = await t.database.pool.query(
+      'select serial from measurements where measurement_id = $1',
+      [m.measurementId],
+    );
+    expect(rows).toEqual([{ serial: 'SN-CONFLICT' }]);
+  });
+
+  it('stores exactly one measurement when two posts of the same id race on two connections', async () => {
+    for (let round = 0; round < 5; round++) {
+      const m = simulatedMeasurement(recipe, `SN-RACE-${round}`, { seed: round });
+      const [a, b] = await Promise.all([post(line.key, m), post(line.key, m)]);
+      expect([a.status, b.status]).toEqual([202, 202]);
+      expect(a.body.measurementId).toBe(b.body.measurementId);
+      expect(a.body.resultUrl).toBe(b.body.resultUrl);
+      expect([a.body.repeated, b.body.repeated].sort()).toEqual([false, true]);
+      expect(await count('measurements', 'measurement_id = $1', [m.measurementId])).toBe(1);
+    }
+  });
+
+  it('names every problem of a malformed body with its path (400)', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-BAD');
+    const bad = structuredClone(m) as unknown as {
+      segments: { hallEdges: object[]; bemfCrossings: object[] }[];
+    };
+    bad.segments[0].hallEdges[0] = { sensor: 'D', edge: 'rise', us: 'soon' };
+    bad.segments[0].bemfCrossings[1] = { channel: 'XY', edge: 'fall', us: 5 };
+    const res = await post(line.key, bad);
+    expect(res.status).toBe(400);
+    const paths = res.body.error.issues.map((i: { path: string }) => i.path);
+    expect(paths).toEqual(
+      expect.arrayContaining([
+        'segments.0.hallEdges.0.sensor',
+        'segments.0.hallEdges.0.us',
+        'segments.0.bemfCrossings.1.channel',
+      ]),
+    );
+    expect(await count('measurements', `serial = 'SN-BAD'`)).toBe(0);
+  });
+
+  it('refuses unsorted times as unusable input, not as a unit failure', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-UNSORTED');
+    const edges = m.segments[0].hallEdges;
+    [edges[2], edges[3]] = [edges[3], edges[2]];
+    const res = await post(line.key, m);
+    expect(res.status).toBe(400);
+    expect(res.body.error.issues.length).toBeGreaterThan(0);
+    expect(await count('units', `serial = 'SN-UNSORTED'`)).toBe(0);
+  });
+
+  it('refuses a body over 2 MB with 413', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-HUGE');
+    const res = await post(line.key, { ...m, padding: 'x'.repeat(2.2 * 1024 * 1024) });
+    expect(res.status).toBe(413);
+    expect(res.body.error.code).toBe('request.too_large');
+  });
+
+  it('refuses a wrong or revoked key with 401', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-KEY');
+    expect((await post('pwsk_not-a-key', m)).status).toBe(401);
+    const admin = await request(t.app)
+      .post('/api/auth/sign-in')
+      .send({ username: 'ada.admin', password: 'demo-admin-pass' });
+    const cookie = (admin.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
+    const created = await request(t.app)
+      .post(`/api/admin/stations/${line.station.id}/keys`)
+      .set('Cookie', cookie)
+      .send({ label: 'rotation' });
+    expect(created.status).toBe(201);
+    expect((await post(created.body.key, simulatedMeasurement(recipe, 'SN-KEY-2'))).status).toBe(202);
+    const revoked = await request(t.app)
+      .post(`/api/admin/stations/${line.station.id}/keys/${created.body.id}/revoke`)
+      .set('Cookie', cookie);
+    expect(revoked.status).toBe(204);
+    const after = await post(created.body.key, simulatedMeasurement(recipe, 'SN-KEY-3'));
+    expect(after.status).toBe(401);
+    expect(after.body.error.code).toBe('station.key_invalid');
+    // The station's other key still works during the rotation.
+    expect((await post(line.key, simulatedMeasurement(recipe, 'SN-KEY-4'))).status).toBe(202);
+  });
+});
+
+describe('stations stay in their own lane', () => {
+  it('station B cannot post for a unit of a model it is not set up for', async () => {
+    await post(line.key, simulatedMeasurement(recipe, 'SN-LANE-A'));
+    const res = await post(other.key, simulatedMeasurement(other.recipe.body, 'SN-LANE-A'));
+    expect(res.status).toBe(422);
+    expect(res.body.error.code).toBe('stations.model_not_allowed');
+  });
+
+  it("station B cannot read or confirm station A's measurement", async () => {
+    const m = simulatedMeasurement(recipe, 'SN-LANE-B');
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    const read = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', other.key);
+    expect(read.status).toBe(404);
+    const confirm = await request(t.app)
+      .post(`/api/station/measurements/${m.measurementId}/programming`)
+      .set('X-Station-Key', other.key)
+      .send({ writtenCounts: 1, readBackCounts: 1 });
+    expect(confirm.status).toBe(404);
+    const own = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', line.key);
+    expect(own.status).toBe(200);
+    expect(own.body.status).toBe('computed');
+  });
+});
+
+describe('results', () => {
+  it('recovers the simulated offset and reports it in degrees and counts', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-RESULT', { offsetDeg: 4.2 });
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    const res = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', line.key);
+    const cal = res.body.calibration;
+    expect(cal.verdict).toBe('pass');
+    expect(cal.offsetDeg).toBeCloseTo(4.2, 1);
+    // 65536 counts per electrical turn: counts = round(deg / 360 × 65536).
+    expect(cal.offsetCounts).toBe(Math.round((cal.offsetDeg / 360) * 65536));
+    const unit = await request(t.app)
+      .get('/api/units/SN-RESULT')
+      .set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
+    expect(unit.body.unit).toMatchObject({
+      status: 'calibrated',
+      currentOffsetCounts: cal.offsetCounts,
+      attempts: 1,
+    });
+  });
+
+  it('long-polls: the result arrives the moment the calibration commits', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-LONGPOLL');
+    await post(line.key, m);
+    const started = Date.now();
+    const waiting = request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result?waitMs=15000`)
+      .set('X-Station-Key', line.key);
+    const pending = waiting.then((r) => r);
+    await new Promise((r) => setTimeout(r, 400));
+    await computeQueued(m.measurementId);
+    const res = await pending;
+    const elapsed = Date.now() - started;
+    expect(res.body.status).toBe('computed');
+    expect(elapsed).toBeGreaterThanOrEqual(400);
+    expect(elapsed).toBeLessThan(5000);
+  });
+
+  it('answers pending when nothing commits within waitMs', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-PENDING');
+    await post(line.key, m);
+    const res = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result?waitMs=300`)
+      .set('X-Station-Key', line.key);
+    expect(res.body).toEqual({ measurementId: m.measurementId, status: 'pending', calibration: null });
+  });
+
+  it('computes a measurement once even when the job runs twice at the same time', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-TWICE');
+    await post(line.key, m);
+    const [a, b] = await Promise.all([computeQueued(m.measurementId), computeQueued(m.measurementId)]);
+    expect(a.calibrationId).toBe(b.calibrationId);
+    expect([a.created, b.created].sort()).toEqual([false, true]);
+    expect(
+      await count('calibrations c join measurements m on m.id = c.measurement_pk', 'm.measurement_id = $1', [
+        m.measurementId,
+      ]),
+    ).toBe(1);
+    expect(await count('units', `serial = 'SN-TWICE' and attempts = 1`)).toBe(1);
+  });
+
+  it('flags the unit when the value read back differs from the one computed', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-PROGRAM');
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    const res = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', line.key);
+    const counts = res.body.calibration.offsetCounts as number;
+    const ok = await request(t.app)
+      .post(`/api/station/measurements/${m.measurementId}/programming`)
+      .set('X-Station-Key', line.key)
+      .send({ writtenCounts: counts, readBackCounts: counts, checksum: 'A1B2' });
+    expect(ok.body.matches).toBe(true);
+    expect(await count('units', `serial = 'SN-PROGRAM' and not programming_mismatch`)).toBe(1);
+    const bad = await request(t.app)
+      .post(`/api/station/measurements/${m.measurementId}/programming`)
+      .set('X-Station-Key', line.key)
+      .send({ writtenCounts: counts, readBackCounts: counts + 7 });
+    expect(bad.body.matches).toBe(false);
+    expect(await count('units', `serial = 'SN-PROGRAM' and programming_mismatch`)).toBe(1);
+    const after = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', line.key);
+    expect(after.body.calibration.programming.status).toBe('mismatch');
+  });
+
+  it("puts a unit on hold after the recipe's maximum failed attempts and refuses further measurements", async () => {
+    // Offset 40° is outside the test recipe's ±15° window: a unit failure, not unusable input.
+    for (let i = 1; i <= recipe.maxAttempts; i++) {
+      const m = simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 40, seed: 100 + i });
+      expect((await post(line.key, m)).status).toBe(202);
+      await computeQueued(m.measurementId);
+    }
+    const { rows } = await t.database.pool.query(
+      `select status, attempts, hold_reason from units where serial = 'SN-HOLD'`,
+    );
+    expect(rows[0]).toMatchObject({ status: 'on_hold', attempts: recipe.maxAttempts });
+    expect(rows[0].hold_reason).toMatch(/3 calibration attempts/);
+    const refused = await post(
+      line.key,
+      simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 2, seed: 999 }),
+    );
+    expect(refused.status).toBe(409);
+    expect(refused.body.error.code).toBe('units.on_hold');
+  });
+});
+
+describe('records that must not change', () => {
+  it('the database refuses UPDATE and DELETE on measurements and calibrations', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-IMMUTABLE');
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    for (const table of ['measurements', 'calibrations']) {
+      await expect(t.database.pool.query(`update ${table} set id = id`)).rejects.toThrow(/append-only/);
+      await expect(t.database.pool.query(`delete from ${table}`)).rejects.toThrow(/append-only/);
+    }
+  });
+
+  it('a released recipe version cannot be edited, only retired', async () => {
+    await expect(
+      t.database.pool.query(`update recipes set body = jsonb_set(body, '{maxAttempts}', '9') where id = $1`, [
+        line.recipe.id,
+      ]),
+    ).rejects.toThrow(/immutable/);
+    await expect(
+      t.database.pool.query('delete from recipes where id = $1', [line.recipe.id]),
+    ).rejects.toThrow(/cannot be deleted/);
+  });
+});
+
+async function cookieOf(username: string, password: string) {
+  const res = await request(t.app).post('/api/auth/sign-in').send({ username, password });
+  return (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
+}
