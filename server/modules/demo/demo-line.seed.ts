@@ -1,0 +1,456 @@
+import { randomUUID } from 'node:crypto';
+import type pg from 'pg';
+import { and, eq, inArray, isNull, sql } from 'drizzle-orm';
+import type { Db } from '../../db/client';
+import type { SessionUser, StationPrincipal } from '../../lib/auth';
+import type { JobQueue } from '../../../jobs/queue-client';
+import { queues } from '../../../jobs/queues';
+import { createRng, type Rng } from '../../../shared/simulation/rng';
+import { insertAudit } from '../audit/audit.repository';
+import { models, recipes } from '../catalog/catalog.table';
+import {
+  acceptMeasurement,
+  computeCalibration,
+  confirmProgramming,
+  type LineContext,
+} from '../measurements/measurements.service';
+import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
+import { createStation, createStationKey } from '../stations/stations.service';
+import { stationKeys, stations } from '../stations/stations.table';
+import { importUnits } from '../units/units.service';
+import { units } from '../units/units.table';
+import { users } from '../users/users.table';
+import {
+  DEMO_HALL_BOARD_LOTS,
+  DEMO_KEY_LABEL,
+  DEMO_LINE,
+  DEMO_MAGNET_RING_LOTS,
+  DEMO_MODELS,
+  DEMO_SIM_STATION,
+  DEMO_STATIONS,
+  DEMO_STATOR_LOTS,
+  type DemoModel,
+  type DemoStation,
+} from './demo-line.scenario';
+import { calibrationBlockChecksum, drawUnit, simulateRun, type UnitTruth } from './demo-physics';
+
+export interface SeedDeps {
+  db: Db;
+  pool: pg.Pool;
+  queue: JobQueue;
+}
+
+export interface SeedOptions {
+  /** Units produced over the fortnight (default 2,500). */
+  units?: number;
+  /** Seed of the scenario's random draws (default 2446). */
+  seed?: number;
+  /** The moment the seed runs; production covers the 14 days before today's midnight (UTC). */
+  now?: Date;
+  /** Units computed at the same time (default 6). */
+  concurrency?: number;
+  onProgress?: (done: number, total: number) => void;
+}
+
+export interface SeedReport {
+  seeded: boolean;
+  units: number;
+  measurements: number;
+  calibrations: { pass: number; fail: number; unusable: number };
+  onHold: number;
+  confirmations: number;
+  mismatches: number;
+  firstComputedAt: string | null;
+  lastComputedAt: string | null;
+  ms: number;
+}
+
+/** Jobs the seed enqueues go behind every live job (pg-boss fetches higher priority first). */
+export const SEED_JOB_PRIORITY = -10;
+/**
+ * The seed computes its measurements in-process with the simulated clock; the compute jobs it
+ * enqueues wait this long before the worker may take them (by then they find their calibration and
+ * stop, or, after a crash mid-seed, compute what the seed left), and the traveler renders wait until
+ * the seed is done instead of competing with it for the two cores.
+ */
+export const SEED_JOB_DELAY_SECONDS = 90;
+
+const DAY_MS = 86_400_000;
+const SHIFT_START_H = 6;
+const SHIFT_END_H = 22;
+/** Read-back differs from what was written (a flash write that did not take): rare, for the demo. */
+const MISMATCH_RATE = 0.002;
+const BAD_UNIT_RATE = 0.03;
+
+/**
+ * The queue the seed hands to the line services: the same jobs in the same transactions, sent with
+ * a low priority and a start delay (see SEED_JOB_DELAY_SECONDS), and without the wake-up NOTIFY.
+ */
+export function deferredSeedQueue(queue: JobQueue, delaySeconds = SEED_JOB_DELAY_SECONDS): JobQueue {
+  return {
+    ...queue,
+    async send(name, payload, opts) {
+      const def = queues[name];
+      return queue.boss.send(def.name, def.payload.parse(payload) as object, {
+        db: opts?.db,
+        singletonKey: opts?.singletonKey,
+        priority: SEED_JOB_PRIORITY,
+        startAfter: delaySeconds,
+      });
+    },
+  };
+}
+
+/** The two demo models with their released recipe v1 each; returns code → ids. */
+export async function createDemoCatalog(db: Db, actor: { id: string } | null, releasedAt: Date) {
+  const out = new Map<string, { modelId: string; recipeId: string; model: DemoModel }>();
+  await db.transaction(async (tx) => {
+    for (const m of DEMO_MODELS) {
+      const [model] = await tx
+        .insert(models)
+        .values({ code: m.code, name: m.name, polePairs: m.polePairs })
+        .returning();
+      const [recipe] = await tx
+        .insert(recipes)
+        .values({
+          modelId: model.id,
+          version: 1,
+          status: 'released',
+          body: m.recipe,
+          notes: 'First release for Line 2 end-of-line calibration.',
+          createdBy: actor?.id ?? null,
+          releasedBy: actor?.id ?? null,
+          releasedAt,
+        })
+        .returning();
+      await tx.update(models).set({ activeRecipeId: recipe.id }).where(eq(models.id, model.id));
+      out.set(m.code, { modelId: model.id, recipeId: recipe.id, model: m });
+    }
+    await insertAudit(tx, {
+      actorId: actor?.id,
+      action: 'demo.catalog_seeded',
+      after: { models: DEMO_MODELS.map((m) => m.code) },
+    });
+  });
+  return out;
+}
+
+/** The person the demo's work-order import is recorded under: the demo engineer, else any engineer or admin. */
+async function importActor(db: Db): Promise<SessionUser> {
+  const rows = await db
+    .select({
+      id: users.id,
+      username: users.username,
+      displayName: users.displayName,
+      email: users.email,
+      role: users.role,
+    })
+    .from(users)
+    .where(inArray(users.role, ['engineer', 'admin']));
+  const actor = rows.find((r) => r.username === 'evan.engineer') ?? rows[0];
+  if (!actor) {
+    throw new Error(
+      'The demo line needs the demo accounts (an engineer records the work-order import): start the server with SEED_DEMO=true first.',
+    );
+  }
+  return actor;
+}
+
+interface PlannedUnit {
+  index: number;
+  serial: string;
+  model: DemoModel;
+  workOrder: string;
+  hallBoardLot: string;
+  magnetRingLot: string;
+  statorLot: string;
+  station: DemoStation;
+  at: Date;
+  truth: UnitTruth;
+}
+
+/** Working time of the fortnight: Monday to Friday, two shifts from 06:00 to 22:00 UTC. */
+function workingWindows(end: Date): { start: number; end: number }[] {
+  const windows: { start: number; end: number }[] = [];
+  for (let d = 14; d >= 1; d--) {
+    const day = new Date(end.getTime() - d * DAY_MS);
+    const weekday = day.getUTCDay();
+    if (weekday === 0 || weekday === 6) continue;
+    windows.push({
+      start: day.getTime() + SHIFT_START_H * 3_600_000,
+      end: day.getTime() + SHIFT_END_H * 3_600_000,
+    });
+  }
+  return windows;
+}
+
+function pick<T>(rng: Rng, items: readonly T[]): T {
+  return items[Math.min(items.length - 1, Math.floor(rng.next() * items.length))];
+}
+
+/** A window of two consecutive lots that moves through the list as production goes on. */
+function lotAt<T>(rng: Rng, lots: readonly T[], fraction: number): T {
+  const first = Math.min(lots.length - 2, Math.floor(fraction * (lots.length - 1)));
+  return lots[first + (rng.next() < 0.5 ? 0 : 1)];
+}
+
+function planProduction(count: number, seed: number, end: Date): PlannedUnit[] {
+  const rng = createRng(seed);
+  const windows = workingWindows(end);
+  const working = windows.reduce((s, w) => s + (w.end - w.start), 0);
+  const timeAt = (fraction: number) => {
+    let left = fraction * working;
+    for (const w of windows) {
+      if (left <= w.end - w.start) return new Date(w.start + left);
+      left -= w.end - w.start;
+    }
+    return new Date(windows[windows.length - 1].end);
+  };
+  const woSize = Math.max(10, Math.round(count / 24));
+  const serialNo = new Map<string, number>();
+  const planned: PlannedUnit[] = [];
+  let wo = 0;
+  while (planned.length < count) {
+    wo++;
+    const fraction = planned.length / count;
+    const model = rng.next() < 0.6 ? DEMO_MODELS[0] : DEMO_MODELS[1];
+    const hallLot = lotAt(rng, DEMO_HALL_BOARD_LOTS, fraction);
+    const magnetRingLot = lotAt(rng, DEMO_MAGNET_RING_LOTS, fraction);
+    const statorLot = lotAt(rng, DEMO_STATOR_LOTS, fraction);
+    const candidates = DEMO_STATIONS.filter((s) => s.modelCodes.includes(model.code));
+    for (let k = 0; k < woSize && planned.length < count; k++) {
+      const i = planned.length;
+      const n = (serialNo.get(model.code) ?? 0) + 1;
+      serialNo.set(model.code, n);
+      let r = rng.next() * candidates.reduce((s, c) => s + c.share[model.code], 0);
+      const station = candidates.find((c) => (r -= c.share[model.code]) < 0) ?? candidates[0];
+      planned.push({
+        index: i,
+        serial: `${model.code.replace('-', '')}-24-${String(100000 + n)}`,
+        model,
+        workOrder: `WO-24${String(5100 + wo)}`,
+        hallBoardLot: hallLot.code,
+        magnetRingLot,
+        statorLot,
+        station,
+        at: timeAt((i + 0.2 + 0.6 * rng.next()) / count),
+        truth: drawUnit(model, rng, { lotShiftDeg: hallLot.shiftDeg, badRate: BAD_UNIT_RATE }),
+      });
+    }
+  }
+  return planned;
+}
+
+function toCsv(planned: PlannedUnit[]): string {
+  const lines = ['serial,model,work_order,hall_board_lot,magnet_ring_lot,stator_lot'];
+  for (const u of planned) {
+    lines.push([u.serial, u.model.code, u.workOrder, u.hallBoardLot, u.magnetRingLot, u.statorLot].join(','));
+  }
+  return lines.join('\n') + '\n';
+}
+
+/** Runs `task` over `items` with at most `limit` running at once. */
+async function inParallel<T>(items: T[], limit: number, task: (item: T) => Promise<void>) {
+  let next = 0;
+  const runners = Array.from({ length: Math.min(limit, items.length) }, async () => {
+    while (next < items.length) await task(items[next++]);
+  });
+  await Promise.all(runners);
+}
+
+/**
+ * Seeds the demo line when the database has no models yet: catalog, stations, a work-order import of
+ * the fortnight's units, then every station run through the line services (acceptMeasurement,
+ * computeCalibration, confirmProgramming) with a clock that walks over the fortnight. Returns
+ * `seeded: false` and touches nothing when models exist.
+ */
+export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Promise<SeedReport> {
+  const t0 = performance.now();
+  const count = opts.units ?? 2500;
+  if (!Number.isInteger(count) || count < 1)
+    throw new Error(`The demo line needs at least 1 unit (got ${count}).`);
+  const now = opts.now ?? new Date();
+  const empty: SeedReport = {
+    seeded: false,
+    units: 0,
+    measurements: 0,
+    calibrations: { pass: 0, fail: 0, unusable: 0 },
+    onHold: 0,
+    confirmations: 0,
+    mismatches: 0,
+    firstComputedAt: null,
+    lastComputedAt: null,
+    ms: 0,
+  };
+  const [{ n }] = await deps.db.select({ n: sql<number>`count(*)::int` }).from(models);
+  if (n > 0) return { ...empty, ms: performance.now() - t0 };
+
+  const actor = await importActor(deps.db);
+  const end = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()));
+  const fortnightStart = end.getTime() - 14 * DAY_MS;
+  let catalog: Awaited<ReturnType<typeof createDemoCatalog>>;
+  try {
+    catalog = await createDemoCatalog(deps.db, actor, new Date(fortnightStart - DAY_MS));
+  } catch (e) {
+    // Another process seeded the catalog between our check and our insert: it owns the seed.
+    const err = e as { code?: string; cause?: { code?: string } };
+    if ((err.code ?? err.cause?.code) === '23505') return { ...empty, ms: performance.now() - t0 };
+    throw e;
+  }
+
+  const principals = new Map<string, StationPrincipal>();
+  for (const s of DEMO_STATIONS) {
+    const row = await createStation(deps.db, actor, {
+      name: s.name,
+      line: DEMO_LINE,
+      allowedModelIds: s.modelCodes.map((c) => catalog.get(c)!.modelId),
+    });
+    // The rig's own key; its text is not kept (the rig software of the demo is this seed).
+    const key = await createStationKey(deps.db, actor, row.id, 'rig software');
+    principals.set(s.name, { stationId: row.id, stationName: row.name, keyId: key.id });
+  }
+
+  const seed = opts.seed ?? 2446;
+  const planned = planProduction(count, seed, end);
+  const report = await importUnits(deps.db, actor, toCsv(planned));
+  if (report.errors.length > 0) {
+    throw new Error(`The demo work-order import was refused: ${JSON.stringify(report.errors.slice(0, 3))}`);
+  }
+
+  const queue = deferredSeedQueue(deps.queue);
+  const span = 14 * DAY_MS;
+  let done = 0;
+  await inParallel(planned, opts.concurrency ?? 6, async (u) => {
+    const rng = createRng((seed * 7919 + u.index * 104729) >>> 0);
+    const principal = principals.get(u.station.name)!;
+    const recipeId = catalog.get(u.model.code)!.recipeId;
+    const maxAttempts = u.model.recipe.maxAttempts;
+    let t = u.at.getTime();
+    const at = (ms: number): LineContext => ({ ...deps, queue, clock: () => new Date(ms) });
+    let attempts = 0;
+    for (let run = 1; run <= maxAttempts + 2 && attempts < maxAttempts; run++) {
+      const measurementId = randomUUID();
+      const measurement = simulateRun(
+        u.model,
+        u.truth,
+        { rig: u.station.rig, driftFraction: (t - fortnightStart) / span, attempt: run },
+        rng,
+        { measurementId, serial: u.serial },
+      );
+      await acceptMeasurement(at(t), principal, measurement);
+      const [stored] = await deps.db
+        .select({ id: measurements.id })
+        .from(measurements)
+        .where(eq(measurements.measurementId, measurementId));
+      const computedAt = t + 40 + 200 * rng.next();
+      const { calibrationId } = await computeCalibration(at(computedAt), {
+        measurementPk: stored.id,
+        recipeId,
+      });
+      const [cal] = await deps.db
+        .select({ verdict: calibrations.verdict, offsetCounts: calibrations.offsetCounts })
+        .from(calibrations)
+        .where(eq(calibrations.id, calibrationId));
+      if (cal.verdict !== 'unusable') attempts++;
+      if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
+        const readBack =
+          rng.next() < MISMATCH_RATE ? cal.offsetCounts + 1 + Math.floor(rng.next() * 40) : cal.offsetCounts;
+        await confirmProgramming(at(computedAt + 2500 + 2000 * rng.next()), principal, measurementId, {
+          writtenCounts: cal.offsetCounts,
+          readBackCounts: readBack,
+          checksum: calibrationBlockChecksum(u.serial, readBack),
+        });
+        break;
+      }
+      // The operator reseats the unit and spins it again a few minutes later.
+      t = computedAt + (4 + 5 * rng.next()) * 60_000;
+    }
+    done++;
+    if (opts.onProgress && (done % 250 === 0 || done === planned.length))
+      opts.onProgress(done, planned.length);
+  });
+
+  return { ...(await seedCounts(deps.db)), seeded: true, ms: performance.now() - t0 };
+}
+
+/** What the line holds now, for the seed's report. */
+export async function seedCounts(db: Db): Promise<Omit<SeedReport, 'seeded' | 'ms'>> {
+  const [u] = await db
+    .select({
+      units: sql<number>`count(*)::int`,
+      onHold: sql<number>`count(*) filter (where ${units.status} = 'on_hold')::int`,
+    })
+    .from(units);
+  const [m] = await db.select({ n: sql<number>`count(*)::int` }).from(measurements);
+  const byVerdict = await db
+    .select({ verdict: calibrations.verdict, n: sql<number>`count(*)::int` })
+    .from(calibrations)
+    .groupBy(calibrations.verdict);
+  const [span] = await db
+    .select({
+      first: sql<string | null>`min(${calibrations.computedAt})::text`,
+      last: sql<string | null>`max(${calibrations.computedAt})::text`,
+    })
+    .from(calibrations);
+  const [c] = await db
+    .select({
+      n: sql<number>`count(*)::int`,
+      mismatches: sql<number>`count(*) filter (where not ${programmingConfirmations.matches})::int`,
+    })
+    .from(programmingConfirmations);
+  const verdicts = Object.fromEntries(byVerdict.map((r) => [r.verdict, r.n]));
+  const iso = (v: string | null) => (v ? new Date(v).toISOString() : null);
+  return {
+    units: u.units,
+    measurements: m.n,
+    calibrations: { pass: verdicts.pass ?? 0, fail: verdicts.fail ?? 0, unusable: verdicts.unusable ?? 0 },
+    onHold: u.onHold,
+    confirmations: c.n,
+    mismatches: c.mismatches,
+    firstComputedAt: iso(span.first),
+    lastComputedAt: iso(span.last),
+  };
+}
+
+export interface DemoStationKey {
+  stationId: string;
+  stationName: string;
+  modelCode: string;
+  key: string;
+}
+
+/**
+ * A fresh key for the station the station simulator posts as. Keys are stored hashed, so every start
+ * makes a new one; the previous demo keys of that station are revoked (audited) so they do not pile up.
+ */
+export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStationKey> {
+  const [station] = await db
+    .select()
+    .from(stations)
+    .where(sql`upper(${stations.name}) = ${DEMO_SIM_STATION.toUpperCase()}`);
+  if (!station)
+    throw new Error(`The demo station ${DEMO_SIM_STATION} does not exist: the demo line was not seeded.`);
+  const [model] = await db.select().from(models).where(eq(models.id, station.allowedModelIds[0]));
+  const revoked = await db
+    .update(stationKeys)
+    .set({ revokedAt: now })
+    .where(
+      and(
+        eq(stationKeys.stationId, station.id),
+        eq(stationKeys.label, DEMO_KEY_LABEL),
+        isNull(stationKeys.revokedAt),
+      ),
+    )
+    .returning({ id: stationKeys.id, prefix: stationKeys.prefix });
+  if (revoked.length > 0) {
+    await insertAudit(db, {
+      action: 'stations.key_revoked',
+      subjectType: 'station',
+      subjectId: station.id,
+      reason: 'replaced by the demo key of a new start',
+      after: { keys: revoked },
+    });
+  }
+  const key = await createStationKey(db, null, station.id, DEMO_KEY_LABEL);
+  return { stationId: station.id, stationName: station.name, modelCode: model.code, key: key.key };
+}
