@@ -1,0 +1,69 @@
+import type { CalibrationView, UnitStatus } from '../../../../shared/schemas/line';
+import type { Tone } from '../../../components/ui/status-chip';
+
+export const UNIT_STATUS_LABELS: Record<UnitStatus, string> = {
+  new: 'Not calibrated yet',
+  calibrated: 'Calibrated',
+  failed: 'Failed, retest allowed',
+  on_hold: 'On hold',
+};
+
+export const UNIT_STATUS_TONES: Record<UnitStatus, Tone> = {
+  new: 'neutral',
+  calibrated: 'ok',
+  failed: 'fault',
+  on_hold: 'warn',
+};
+
+export type Verdict = CalibrationView['verdict'];
+
+export const VERDICT_LABELS: Record<Verdict, string> = {
+  pass: 'Pass',
+  fail: 'Fail',
+  unusable: 'No result',
+};
+
+export const VERDICT_TONES: Record<Verdict, Tone> = {
+  pass: 'ok',
+  fail: 'fault',
+  unusable: 'warn',
+};
+
+/** Electrical degrees with an explicit sign, two decimals: "+4.21 °e". */
+export function formatOffsetDeg(deg: number | null | undefined): string {
+  if (deg === null || deg === undefined) return '—';
+  const sign = deg > 0 ? '+' : deg < 0 ? '−' : '±';
+  return `${sign}${Math.abs(deg).toFixed(2)} °e`;
+}
+
+/** Firmware counts as the unit stores them, with thousands grouped: "766 counts". */
+export function formatCounts(counts: number | null | undefined): string {
+  if (counts === null || counts === undefined) return '—';
+  return `${counts.toLocaleString('en-GB')} counts`;
+}
+
+export function formatDeg(deg: number | null | undefined, digits = 2): string {
+  if (deg === null || deg === undefined) return '—';
+  const sign = deg > 0 ? '+' : deg < 0 ? '−' : '±';
+  return `${sign}${Math.abs(deg).toFixed(digits)}°`;
+}
+
+/** The checks that failed, in the engine's own plain words. */
+export function failedChecks(calibration: CalibrationView): string[] {
+  const checks = calibration.result?.checks ?? [];
+  const failed = checks.filter((c) => !c.passed).map((c) => c.message);
+  if (failed.length === 0 && calibration.error) failed.push(calibration.error.message);
+  return failed;
+}
+
+export const PROGRAMMING_LABELS: Record<CalibrationView['programming']['status'], string> = {
+  pending: 'Waiting for the station to confirm programming',
+  confirmed: 'Programmed and read back',
+  mismatch: 'Programming mismatch: read-back differs',
+};
+
+export const PROGRAMMING_TONES: Record<CalibrationView['programming']['status'], Tone> = {
+  pending: 'neutral',
+  confirmed: 'ok',
+  mismatch: 'fault',
+};

@@ -1,0 +1,423 @@
+import { useCallback, useEffect, useRef, useState } from 'react';
+import { useQueryClient } from '@tanstack/react-query';
+import { Link } from 'react-router';
+import type { LineEvent } from '../../../../shared/schemas/events';
+import type { StationView, UnitDetail } from '../../../../shared/schemas/line';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { Kbd } from '../../../components/ui/kbd';
+import {
+  useAttendStation,
+  useModels,
+  usePrintTraveler,
+  useUnit,
+  type PageSize,
+  type PrintedTraveler,
+} from '../api/line';
+import { lineKeys } from '../api/line-keys';
+import { useStationEvents } from '../api/use-station-events';
+import { CalibrationResult } from './calibration-result';
+import type { Verdict } from './line-format';
+import { LiveProgress, type ProgressPhase } from './live-progress';
+import { RecentUnits } from './recent-units';
+import { RegisterUnitDialog } from './register-unit-dialog';
+import { SafetyCautions } from './safety-cautions';
+import { ScanField } from './scan-field';
+import { StationHealth } from './station-health';
+import { UnitCard } from './unit-card';
+
+const PAGE_SIZE_KEY = 'phasewright.station.pageSize';
+
+type Progress = { serial: string; phase: ProgressPhase; calibrationId?: string; verdict?: Verdict };
+
+const sameSerial = (a: string | null | undefined, b: string | null | undefined) =>
+  !!a && !!b && a.toUpperCase() === b.toUpperCase();
+
+function dialogOpen(): boolean {
+  return document.querySelector('dialog[open]') !== null;
+}
+
+function storedPageSize(): PageSize {
+  try {
+    return window.localStorage.getItem(PAGE_SIZE_KEY) === 'LETTER' ? 'LETTER' : 'A4';
+  } catch {
+    return 'A4';
+  }
+}
+
+/** Whether the traveler of the unit's latest result exists yet, and whether it has been printed. */
+function travelerState(detail: UnitDetail | null | undefined, readyForLatest: boolean) {
+  const latest = detail?.calibrations.find((c) => c.verdict !== 'unusable');
+  if (!detail || !latest) return { latest: undefined, ready: false, reprint: false };
+  const docs = detail.travelers.filter((t) => t.createdAt >= latest.computedAt);
+  return {
+    latest,
+    ready: readyForLatest || docs.length > 0,
+    reprint: docs.some((t) => t.printNumber > 1),
+  };
+}
+
+/**
+ * The operator's station screen: scan, watch the unit's measurement arrive and compute, read the verdict
+ * and print the traveler. Everything works from the keyboard; the scan field keeps the focus.
+ */
+export function StationScreen({ station }: { station: StationView }) {
+  const queryClient = useQueryClient();
+  const scanRef = useRef<HTMLInputElement>(null);
+  const [serial, setSerial] = useState<string | null>(null);
+  const [progress, setProgress] = useState<Progress | null>(null);
+  const [registering, setRegistering] = useState<string | null>(null);
+  const [elsewhere, setElsewhere] = useState<string | null>(null);
+  const [readyFor, setReadyFor] = useState<string | null>(null);
+  const [pageSize, setPageSizeState] = useState<PageSize>(storedPageSize);
+  const [lastPrint, setLastPrint] = useState<(PrintedTraveler & { serial: string; blocked: boolean }) | null>(
+    null,
+  );
+  const unit = useUnit(serial);
+  const models = useModels();
+  const print = usePrintTraveler();
+  const { mutate: attend, error: attendError } = useAttendStation();
+
+  useEffect(() => {
+    attend(station.id);
+  }, [attend, station.id]);
+
+  const show = useCallback(
+    (next: string) => {
+      setSerial(next);
+      setElsewhere(null);
+      setLastPrint(null);
+      setProgress((p) =>
+        sameSerial(p?.serial, next) && p?.phase !== 'result' ? p : { serial: next, phase: 'waiting' },
+      );
+      void queryClient.invalidateQueries({ queryKey: lineKeys.unit(next) });
+    },
+    [queryClient],
+  );
+
+  const onEvent = (e: LineEvent) => {
+    void queryClient.invalidateQueries({ queryKey: lineKeys.stationHealth(station.id) });
+    if (e.type === 'station.heartbeat') return;
+    if (e.type === 'calibration.committed' || e.type === 'programming.confirmed')
+      void queryClient.invalidateQueries({ queryKey: lineKeys.stationRecent(station.id) });
+    void queryClient.invalidateQueries({ queryKey: lineKeys.unit(e.serial) });
+    if (!sameSerial(e.serial, serial)) {
+      // With nothing on screen, follow the station; otherwise offer the other unit without switching.
+      if (serial === null && e.type !== 'traveler.ready') {
+        setSerial(e.serial);
+      } else {
+        if (e.type !== 'traveler.ready') setElsewhere(e.serial);
+        return;
+      }
+    }
+    switch (e.type) {
+      case 'measurement.received':
+        setProgress({ serial: e.serial, phase: 'received' });
+        setLastPrint(null);
+        setReadyFor(null);
+        break;
+      case 'calibration.computing':
+        setProgress({ serial: e.serial, phase: 'computing' });
+        break;
+      case 'calibration.committed':
+        setProgress({
+          serial: e.serial,
+          phase: 'result',
+          calibrationId: e.calibrationId,
+          verdict: e.verdict,
+        });
+        break;
+      case 'traveler.ready':
+        setReadyFor(e.serial.toUpperCase());
+        break;
+      default:
+        break;
+    }
+  };
+
+  const connection = useStationEvents(station.id, onEvent, () => {
+    void queryClient.invalidateQueries({ queryKey: lineKeys.station(station.id) });
+    if (serial) void queryClient.invalidateQueries({ queryKey: lineKeys.unit(serial) });
+  });
+
+  const detail = unit.data;
+  const live = progress && sameSerial(progress.serial, serial) ? progress : null;
+  const trav = travelerState(detail, sameSerial(readyFor, serial));
+  const allowedModels = (models.data ?? []).filter((m) => station.allowedModels.some((a) => a.id === m.id));
+  const notFound = serial !== null && unit.isSuccess && detail === null;
+  const printBlocked = !detail
+    ? 'Scan a unit first.'
+    : !trav.latest
+      ? 'Nothing to print: this unit has no result yet.'
+      : !trav.ready
+        ? 'The traveler is being made; it can be printed in a moment.'
+        : null;
+  const isReprint = trav.reprint || sameSerial(lastPrint?.serial, serial);
+
+  const setPageSize = (size: PageSize) => {
+    setPageSizeState(size);
+    try {
+      window.localStorage.setItem(PAGE_SIZE_KEY, size);
+    } catch {
+      // A locked-down browser keeps the choice for this session only.
+    }
+  };
+
+  const doPrint = () => {
+    if (!serial || printBlocked || print.isPending) return;
+    // Open the tab inside the key press or click, or the browser's pop-up blocker refuses it later.
+    const tab = window.open('about:blank', '_blank');
+    print.mutate(
+      { serial, pageSize },
+      {
+        onSuccess: (doc) => {
+          if (tab) tab.location.href = doc.url;
+          setLastPrint({ ...doc, serial, blocked: !tab });
+        },
+        onError: () => tab?.close(),
+      },
+    );
+  };
+
+  const keys = useRef({ doPrint, notFound, serial, pageSize, setPageSize });
+  useEffect(() => {
+    keys.current = { doPrint, notFound, serial, pageSize, setPageSize };
+  });
+  useEffect(() => {
+    const onKey = (event: KeyboardEvent) => {
+      if (dialogOpen()) return;
+      const k = keys.current;
+      if (event.key === 'F2' && k.notFound && k.serial) {
+        event.preventDefault();
+        setRegistering(k.serial);
+      } else if (event.key === 'F8') {
+        event.preventDefault();
+        k.doPrint();
+      } else if (event.key === 'F9') {
+        event.preventDefault();
+        k.setPageSize(k.pageSize === 'A4' ? 'LETTER' : 'A4');
+      }
+    };
+    document.addEventListener('keydown', onKey);
+    return () => document.removeEventListener('keydown', onKey);
+  }, []);
+
+  const freshCalibration =
+    live?.phase === 'result'
+      ? detail?.calibrations.find((c) => c.calibrationId === live.calibrationId)
+      : undefined;
+  const busyPhase = live && (live.phase === 'received' || live.phase === 'computing');
+  const historyCalibration = !live || live.phase === 'waiting' ? detail?.calibrations[0] : undefined;
+  const unitModel = detail ? (models.data?.find((m) => m.id === detail.unit.model.id) ?? null) : null;
+
+  return (
+    <div className="flex flex-col gap-4" data-testid="station-screen">
+      <div className="flex flex-wrap items-center justify-between gap-3">
+        <div className="flex items-baseline gap-3">
+          <h1 className="text-3xl font-bold tracking-wide text-graphite-50">
+            Station <span className="text-copper-300">{station.name}</span>
+          </h1>
+          <span className="text-lg text-graphite-400">{station.line}</span>
+          <span className="text-graphite-400">
+            · makes {station.allowedModels.map((m) => m.code).join(', ') || 'no model yet'}
+          </span>
+        </div>
+        <Link to="/station?choose=1" className="inline-flex min-h-target items-center px-2 font-semibold">
+          Change station
+        </Link>
+      </div>
+      {attendError ? (
+        <Alert tone="fault" title="You are not recorded at this station">
+          {attendError.message} Measurements will not name you until this works; sign in again or ask an
+          administrator.
+        </Alert>
+      ) : null}
+      <div className="grid items-start gap-5 lg:grid-cols-[minmax(0,1fr)_21rem]">
+        <div className="flex min-w-0 flex-col gap-4">
+          <ScanField inputRef={scanRef} onScan={show} busy={unit.isFetching} />
+          {elsewhere ? (
+            <div
+              className="flex flex-wrap items-center justify-between gap-3 border-l-4 border-copper-400 bg-graphite-850 p-3"
+              role="status"
+            >
+              <p>
+                The station is measuring <span className="font-mono font-semibold">{elsewhere}</span>, not the
+                unit on screen.
+              </p>
+              <Button onClick={() => show(elsewhere)}>Show {elsewhere}</Button>
+            </div>
+          ) : null}
+          {serial === null ? <IdleGuide /> : null}
+          {serial !== null && unit.isPending ? <Loading label={`Looking up ${serial}…`} /> : null}
+          {unit.isError ? (
+            <Alert tone="fault" title={`Could not look up ${serial}`}>
+              {unit.error.message}
+            </Alert>
+          ) : null}
+          {notFound ? (
+            <div
+              className="chamfer chamfer-lg flex flex-col gap-3 p-5 [--ch-edge:var(--color-warn)]"
+              data-testid="unit-unknown"
+            >
+              <p className="flex items-center gap-2 text-sm font-semibold tracking-widest text-warn uppercase">
+                <svg width="14" height="14" viewBox="0 0 12 12" aria-hidden>
+                  <path d="M6 0.8 11.4 11H0.6Z" fill="currentColor" />
+                </svg>
+                Unknown serial
+              </p>
+              <p className="text-2xl text-graphite-50">
+                <span className="font-mono font-bold">{serial}</span> is not registered.
+              </p>
+              <p className="text-graphite-300">
+                Check the label. If the serial is right, register it against its model, then spin the unit.
+                {station.allowedModels.length === 1
+                  ? ` This station makes only ${station.allowedModels[0].code}: it also registers the unit by itself when it measures it.`
+                  : ''}
+              </p>
+              <div>
+                <Button
+                  variant="primary"
+                  size="lg"
+                  onClick={() => setRegistering(serial)}
+                  aria-keyshortcuts="F2"
+                >
+                  Register {serial} <Kbd>F2</Kbd>
+                </Button>
+              </div>
+            </div>
+          ) : null}
+          {detail && live ? <LiveProgress phase={live.phase} verdict={live.verdict} /> : null}
+          {busyPhase ? (
+            <div
+              className="chamfer chamfer-lg flex min-h-48 items-center justify-center gap-5 p-6"
+              role="status"
+              data-testid="computing"
+            >
+              <span
+                aria-hidden
+                className="inline-block size-14 animate-spin border-6 border-copper-400 border-t-transparent"
+              />
+              <span className="text-4xl font-bold tracking-wide text-graphite-50">
+                {live?.phase === 'received' ? 'Measurement received' : 'Computing the offset…'}
+              </span>
+            </div>
+          ) : null}
+          {live?.phase === 'result' && !freshCalibration ? <Loading label="Fetching the result…" /> : null}
+          {freshCalibration ? (
+            <CalibrationResult calibration={freshCalibration} model={unitModel} fresh />
+          ) : null}
+          {historyCalibration ? (
+            <CalibrationResult calibration={historyCalibration} model={unitModel} fresh={false} />
+          ) : null}
+          {detail && detail.calibrations.length === 0 && live?.phase === 'waiting' ? (
+            <p className="text-lg text-graphite-300">
+              No measurement yet. Close the guard and start the station; the result appears here by itself.
+            </p>
+          ) : null}
+        </div>
+        <aside className="flex flex-col gap-4" aria-label="Unit, traveler and station">
+          {detail ? <UnitCard unit={detail.unit} compact /> : null}
+          {detail ? (
+            <section aria-labelledby="print-title" className="flex flex-col gap-2" data-testid="print-panel">
+              <h2
+                id="print-title"
+                className="text-sm font-semibold tracking-widest text-graphite-400 uppercase"
+              >
+                Traveler
+              </h2>
+              <div role="group" aria-label="Paper size" className="grid grid-cols-2 gap-2">
+                {(['A4', 'LETTER'] as const).map((size) => (
+                  <button
+                    key={size}
+                    type="button"
+                    aria-pressed={pageSize === size}
+                    aria-keyshortcuts="F9"
+                    onClick={() => setPageSize(size)}
+                    className={`flex min-h-target items-center justify-center gap-2 border-2 font-semibold ${
+                      pageSize === size
+                        ? 'border-copper-400 bg-graphite-800 text-graphite-50'
+                        : 'border-graphite-700 text-graphite-300 hover:border-graphite-500'
+                    }`}
+                  >
+                    <span
+                      aria-hidden
+                      className={`inline-block size-3 rounded-full border-2 ${pageSize === size ? 'border-copper-300 bg-copper-300' : 'border-graphite-500'}`}
+                    />
+                    {size === 'A4' ? 'A4' : 'US Letter'}
+                  </button>
+                ))}
+              </div>
+              <Button
+                variant="primary"
+                size="lg"
+                onClick={doPrint}
+                disabled={printBlocked !== null}
+                busy={print.isPending}
+                aria-keyshortcuts="F8"
+                aria-describedby={printBlocked ? 'print-blocked' : undefined}
+              >
+                {isReprint ? 'Reprint traveler' : 'Print traveler'} <Kbd>F8</Kbd>
+              </Button>
+              {printBlocked ? (
+                <p id="print-blocked" className="text-sm text-graphite-300">
+                  {printBlocked}
+                </p>
+              ) : (
+                <p className="text-sm text-graphite-400">Paper size: press F9 to switch.</p>
+              )}
+              {print.isError ? (
+                <Alert tone="fault" title="Not printed">
+                  {print.error.message}
+                </Alert>
+              ) : null}
+              {lastPrint && sameSerial(lastPrint.serial, serial) ? (
+                <p className="text-graphite-100" role="status" data-testid="print-result">
+                  {lastPrint.printNumber === 1
+                    ? 'Print 1'
+                    : `Reprint ${lastPrint.printNumber - 1} (print ${lastPrint.printNumber})`}{' '}
+                  · {lastPrint.pageSize === 'A4' ? 'A4' : 'US Letter'} ·{' '}
+                  <a href={lastPrint.url} target="_blank" rel="noreferrer" data-testid="print-link">
+                    {lastPrint.blocked
+                      ? 'open the PDF (the browser blocked the new tab)'
+                      : 'open the PDF again'}
+                  </a>
+                </p>
+              ) : null}
+            </section>
+          ) : null}
+          <SafetyCautions />
+          <StationHealth stationId={station.id} connection={connection} />
+          <RecentUnits stationId={station.id} onPick={show} />
+        </aside>
+      </div>
+      <RegisterUnitDialog
+        serial={registering}
+        models={allowedModels}
+        onClose={() => setRegistering(null)}
+        onRegistered={(s) => {
+          setRegistering(null);
+          show(s);
+        }}
+      />
+    </div>
+  );
+}
+
+function IdleGuide() {
+  const steps = [
+    ['Scan', 'the serial label on the unit'],
+    ['Spin', 'with the guard closed: the station measures'],
+    ['Read', 'the verdict here, then print the traveler'],
+  ];
+  return (
+    <ol className="grid gap-3 sm:grid-cols-3" data-testid="idle-guide">
+      {steps.map(([verb, rest], i) => (
+        <li key={verb} className="chamfer chamfer-lg flex min-h-36 flex-col justify-center gap-1 p-5">
+          <span className="font-mono text-copper-300">{i + 1}</span>
+          <span className="text-3xl font-bold text-graphite-50">{verb}</span>
+          <span className="text-graphite-300">{rest}</span>
+        </li>
+      ))}
+    </ol>
+  );
+}
