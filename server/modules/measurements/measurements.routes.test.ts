@@ -5,6 +5,8 @@ import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import type { Recipe } from '../../../shared/schemas/recipe';
 import { computeCalibration, type LineContext } from './measurements.service';
+import { simulateCapture } from '../../../shared/simulation/capture-sim';
+import { createRng } from '../../../shared/simulation/rng';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
@@ -340,3 +342,54 @@ async function cookieOf(username: string, password: string) {
   const res = await request(t.app).post('/api/auth/sign-in').send({ username, password });
   return (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
 }
+
+describe('sampled captures', () => {
+  it('turns an uploaded CSV capture into a measurement, keeps the CSV verbatim and recovers the offset', async () => {
+    const { csv } = simulateCapture(
+      {
+        polePairs: recipe.polePairs,
+        hallRiseDeg: recipe.hallRiseDeg,
+        offsetDeg: -5,
+        direction: 'forward',
+        profile: { kind: 'constant', speedRpm: 1500 },
+        electricalTurns: 12,
+        keVPerKrpm: 6,
+        sampleRateHz: 200_000,
+        noiseV: 0.01,
+        channels: 'line',
+      },
+      createRng(11),
+    );
+    const res = await request(t.app)
+      .post('/api/station/captures')
+      .set('X-Station-Key', line.key)
+      .field('measurementId', 'cap-1')
+      .field('serial', 'SN-CAPTURE')
+      .attach('capture', Buffer.from(csv), 'capture.csv');
+    expect(res.status).toBe(202);
+    const { rows } = await t.database.pool.query(
+      `select source, payload_raw from measurements where measurement_id = 'cap-1'`,
+    );
+    expect(rows[0].source).toBe('capture');
+    expect(rows[0].payload_raw).toBe(csv);
+    await computeQueued('cap-1');
+    const result = await request(t.app)
+      .get('/api/station/measurements/cap-1/result')
+      .set('X-Station-Key', line.key);
+    expect(result.body.calibration.verdict).toBe('pass');
+    expect(result.body.calibration.offsetDeg).toBeCloseTo(-5, 0);
+    expect(result.body.calibration.result.capture.keVPerKrpmPeak).toBeGreaterThan(0);
+  });
+
+  it('rejects a CSV without the needed columns with a clear 400 and stores nothing', async () => {
+    const res = await request(t.app)
+      .post('/api/station/captures')
+      .set('X-Station-Key', line.key)
+      .field('measurementId', 'cap-bad')
+      .field('serial', 'SN-CAPTURE-BAD')
+      .attach('capture', Buffer.from('time_s,foo\n0,1\n1,2\n'), 'capture.csv');
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toMatch(/column|header|time_s/i);
+    expect(await count('measurements', `measurement_id = 'cap-bad'`)).toBe(0);
+  });
+});

@@ -5,12 +5,27 @@ import { programmingConfirmationSchema, resultQuerySchema } from '../../../share
 import { measurementSchema } from '../../../shared/schemas/measurement';
 import { recordHeartbeat } from '../stations/stations.service';
 import { notifyLineEvent } from '../events/event-hub';
+import multer from 'multer';
+import { AppError } from '../../lib/errors';
 import {
   acceptMeasurement,
   confirmProgramming,
+  measurementFromCapture,
   measurementResult,
   type LineContext,
 } from './measurements.service';
+
+/** Sampled captures up to 32 MB (about 400,000 rows of seven channels). */
+export const CAPTURE_LIMIT_BYTES = 32 * 1024 * 1024;
+const captureUpload = multer({
+  storage: multer.memoryStorage(),
+  limits: { fileSize: CAPTURE_LIMIT_BYTES, files: 1, fields: 10 },
+});
+const captureFields = z.object({
+  measurementId: z.string().min(1).max(200),
+  serial: z.string().min(1).max(200),
+  direction: z.enum(['forward', 'reverse']).optional(),
+});
 
 const idParams = z.object({ measurementId: z.string().min(1).max(200) });
 
@@ -26,6 +41,36 @@ export function measurementsRoutes(deps: AppDeps) {
       body: measurementSchema,
       handler: async (req, res) => {
         const accepted = await acceptMeasurement(ctx, req.station!, req.body, { raw: req.rawBody });
+        res
+          .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
+          .location(accepted.resultUrl)
+          .json(accepted);
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/station/captures',
+      access: 'station',
+      summary: 'Post a sampled capture (CSV: time_s, va,vb,vc or vab,vbc,vca, ha,hb,hc) as a measurement',
+      multipart: {
+        fileField: 'capture',
+        fields: {
+          measurementId: 'idempotency key chosen by the station',
+          serial: 'unit serial as scanned',
+          direction: 'forward | reverse (optional: taken from the hall sequence)',
+        },
+      },
+      before: [captureUpload.single('capture')],
+      handler: async (req, res) => {
+        const fields = captureFields.parse(req.body ?? {});
+        if (!req.file)
+          throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
+        const csv = req.file.buffer.toString('utf8');
+        const measurement = await measurementFromCapture(ctx, req.station!, fields, csv);
+        const accepted = await acceptMeasurement(ctx, req.station!, measurement, {
+          source: 'capture',
+          raw: csv,
+        });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
           .location(accepted.resultUrl)

@@ -19,6 +19,8 @@ import {
   validateCalibrationInput,
 } from '../../../shared/calibration';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import { calibrateCapture, captureSignals, captureToMeasurement } from '../../../shared/capture/capture';
+import { parseNumericCsv } from '../../../shared/capture/csv';
 import { insertAudit } from '../audit/audit.repository';
 import { models, recipes, type RecipeRecord } from '../catalog/catalog.table';
 import { notifyLineEvent } from '../events/event-hub';
@@ -194,6 +196,44 @@ export async function acceptMeasurement(
   }
 }
 
+/**
+ * Turns a sampled capture (CSV text) into a measurement with the unit's active recipe, so it can be
+ * accepted like posted timings. The CSV itself is stored verbatim and the calibration recomputes from it.
+ */
+export async function measurementFromCapture(
+  ctx: LineContext,
+  station: StationPrincipal,
+  fields: { measurementId: string; serial: string; direction?: 'forward' | 'reverse' },
+  csvText: string,
+): Promise<Measurement> {
+  const recipe = await recipeForSerial(ctx.db, station.stationId, fields.serial);
+  try {
+    return captureToMeasurement(captureSignals(parseNumericCsv(csvText)), recipe, fields);
+  } catch (e) {
+    if (e instanceof CalibrationInputError) throw measurementErrors.unusable(e.issues);
+    throw e;
+  }
+}
+
+/** The recipe a measurement of this serial at this station would be judged by (same rules as posting). */
+async function recipeForSerial(db: Db, stationId: string, serial: string) {
+  const [stationRow] = await db.select().from(stations).where(eq(stations.id, stationId));
+  const [unit] = await db
+    .select()
+    .from(units)
+    .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`);
+  if (!unit && stationRow.allowedModelIds.length !== 1) throw measurementErrors.unknownSerial(serial);
+  const [model] = await db
+    .select()
+    .from(models)
+    .where(eq(models.id, unit?.modelId ?? stationRow.allowedModelIds[0]));
+  if (!stationRow.allowedModelIds.includes(model.id))
+    throw measurementErrors.modelNotAllowed(serial, model.code, stationRow.name);
+  if (!model.activeRecipeId) throw measurementErrors.noActiveRecipe(model.code);
+  const [recipe] = await db.select().from(recipes).where(eq(recipes.id, model.activeRecipeId));
+  return recipe.body;
+}
+
 /** Operator wording for what to do next with the unit after this calibration. */
 export function nextActionFor(
   verdict: 'pass' | 'fail' | 'unusable',
@@ -247,7 +287,14 @@ export async function computeCalibration(
   let stored: CalibrationRecord['result'];
   let result: CalibrationResult | null = null;
   try {
-    result = calibrate(measurement.payload as Measurement, recipe.body);
+    result =
+      measurement.source === 'capture'
+        ? calibrateCapture(measurement.payloadRaw, recipe.body, {
+            measurementId: measurement.measurementId,
+            serial: measurement.serial,
+            direction: (measurement.payload as Measurement).segments[0]?.direction,
+          }).result
+        : calibrate(measurement.payload as Measurement, recipe.body);
     verdict = result.verdict;
     stored = result;
   } catch (e) {
