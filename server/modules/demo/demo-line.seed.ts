@@ -50,6 +50,8 @@ export interface SeedOptions {
   /** Units computed at the same time (default 6). */
   concurrency?: number;
   onProgress?: (done: number, total: number) => void;
+  /** Called as each step ends, with the milliseconds since the seed began. */
+  onPhase?: (step: string, ms: number) => void;
 }
 
 export interface SeedReport {
@@ -184,10 +186,6 @@ function workingWindows(end: Date): { start: number; end: number }[] {
   return windows;
 }
 
-function pick<T>(rng: Rng, items: readonly T[]): T {
-  return items[Math.min(items.length - 1, Math.floor(rng.next() * items.length))];
-}
-
 /** A window of two consecutive lots that moves through the list as production goes on. */
 function lotAt<T>(rng: Rng, lots: readonly T[], fraction: number): T {
   const first = Math.min(lots.length - 2, Math.floor(fraction * (lots.length - 1)));
@@ -312,11 +310,13 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
 
   const seed = opts.seed ?? 2446;
   const planned = planProduction(count, seed, end);
+  opts.onPhase?.('catalog and stations', performance.now() - t0);
   const report = await importUnits(deps.db, actor, toCsv(planned));
   if (report.errors.length > 0) {
     throw new Error(`The demo work-order import was refused: ${JSON.stringify(report.errors.slice(0, 3))}`);
   }
 
+  opts.onPhase?.('work-order import', performance.now() - t0);
   const queue = deferredSeedQueue(deps.queue);
   const span = 14 * DAY_MS;
   let done = 0;

@@ -1,0 +1,97 @@
+// Seeds the demo line on first start (the database has no models yet) and, on every start, writes a
+// fresh key of the simulator's station to the git-ignored .data/demo-station-key.json that
+// `npm run station:sim` reads. `npm start` runs this after the server and the worker are up.
+//
+//   DATABASE_URL=postgres://… [DEMO_LINE_UNITS=2500] [DEMO_BASE_URL=http://localhost:3000] tsx server/cli/seed-demo.ts
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { createDatabase } from '../db/client';
+import { startJobQueue } from '../../jobs/queue-client';
+import { createDemoStationKey, seedDemoLine } from '../modules/demo/demo-line.seed';
+
+const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
+export const DEMO_KEY_FILE = join(repoRoot, '.data', 'demo-station-key.json');
+
+function say(line: string) {
+  process.stdout.write(`${line}\n`);
+}
+
+const url = process.env.DATABASE_URL;
+if (!url) {
+  process.stderr.write('DATABASE_URL is not set. `npm start` sets it for the private database.\n');
+  process.exit(2);
+}
+const rawUnits = process.env.DEMO_LINE_UNITS ?? '2500';
+const count = Number(rawUnits);
+if (!Number.isInteger(count) || count < 1 || count > 100_000) {
+  process.stderr.write(
+    `DEMO_LINE_UNITS="${rawUnits}" is not a whole number of units between 1 and 100000.\n`,
+  );
+  process.exit(2);
+}
+const baseUrl = process.env.DEMO_BASE_URL ?? `http://localhost:${process.env.PORT ?? 3000}`;
+
+// Demo history, written once: a crash loses at most the last few commits of it, and not waiting for
+// the disk on each of the ~8,000 commits keeps the first start short.
+const seedUrl = new URL(url);
+seedUrl.searchParams.set('options', '-c synchronous_commit=off');
+const database = createDatabase(seedUrl.toString(), { max: 10, applicationName: 'phasewright-seed' });
+const queue = await startJobQueue(url, database.pool);
+let code = 0;
+try {
+  const t0 = performance.now();
+  let lastLine = t0;
+  const report = await seedDemoLine(
+    { db: database.db, pool: database.pool, queue },
+    {
+      units: count,
+      onPhase(step, ms) {
+        say(`demo line: ${step} done (${(ms / 1000).toFixed(1)} s)`);
+      },
+      onProgress(done, total) {
+        const now = performance.now();
+        if (done === total || now - lastLine > 2000) {
+          say(`demo line: ${done} of ${total} units through the line (${((now - t0) / 1000).toFixed(1)} s)`);
+          lastLine = now;
+        }
+      },
+    },
+  );
+  if (report.seeded) {
+    const c = report.calibrations;
+    say(
+      `demo line seeded in ${(report.ms / 1000).toFixed(1)} s: ${report.units} units, ${report.measurements} measurements, ` +
+        `calibrations ${c.pass} pass / ${c.fail} fail / ${c.unusable} unusable, ${report.onHold} on hold, ` +
+        `${report.confirmations} programming confirmations (${report.mismatches} mismatches), ` +
+        `${report.firstComputedAt?.slice(0, 10)} to ${report.lastComputedAt?.slice(0, 10)}`,
+    );
+  } else {
+    say('demo line: the database already has models; nothing seeded');
+  }
+  const key = await createDemoStationKey(database.db, new Date());
+  mkdirSync(dirname(DEMO_KEY_FILE), { recursive: true });
+  writeFileSync(
+    DEMO_KEY_FILE,
+    JSON.stringify(
+      {
+        stationId: key.stationId,
+        stationName: key.stationName,
+        modelCode: key.modelCode,
+        key: key.key,
+        baseUrl,
+      },
+      null,
+      2,
+    ) + '\n',
+    { mode: 0o600 },
+  );
+  say(`demo station key for ${key.stationName} written to .data/demo-station-key.json`);
+} catch (e) {
+  process.stderr.write(`demo line: ${e instanceof Error ? e.message : String(e)}\n`);
+  code = 1;
+} finally {
+  await queue.stop();
+  await database.close();
+}
+process.exit(code);
