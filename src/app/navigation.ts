@@ -16,6 +16,18 @@ export type NavItem = {
 export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/', label: 'Overview', summary: 'Your account and the state of the system.', access: 'signed-in' },
   {
+    to: '/station',
+    label: 'Station',
+    summary: 'Scan a unit, watch it calibrate, read the verdict and print its traveler.',
+    access: ['operator'],
+  },
+  {
+    to: '/units',
+    label: 'Units',
+    summary: 'Look a unit up by serial: its calibrations, offset, travelers and hold.',
+    access: 'signed-in',
+  },
+  {
     to: '/admin/people',
     label: 'People',
     summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',
@@ -37,6 +49,18 @@ export const NAV_ITEMS: readonly NavItem[] = [
     to: '/admin/system',
     label: 'System',
     summary: 'Database and job queue health, and the running version.',
+    access: ['admin'],
+  },
+  {
+    to: '/admin/stations',
+    label: 'Stations',
+    summary: 'Calibration stations, the models they may measure, and their keys.',
+    access: ['admin'],
+  },
+  {
+    to: '/admin/jobs',
+    label: 'Failed jobs',
+    summary: 'Background jobs that failed after their retries; read the error and replay.',
     access: ['admin'],
   },
 ];

@@ -27,6 +27,16 @@ export const router = createBrowserRouter([
         children: [
           { index: true, lazy: () => import('./routes/home') },
           {
+            path: 'station',
+            element: <RequireAccess access={['operator']} />,
+            children: [
+              { index: true, lazy: () => import('./routes/station') },
+              { path: ':stationId', lazy: () => import('./routes/station') },
+            ],
+          },
+          { path: 'units', lazy: () => import('./routes/units') },
+          { path: 'units/:serial', lazy: () => import('./routes/unit') },
+          {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,
             children: [
@@ -35,6 +45,8 @@ export const router = createBrowserRouter([
               { path: 'outbox', lazy: () => import('./routes/admin-outbox') },
               { path: 'audit', lazy: () => import('./routes/admin-audit') },
               { path: 'system', lazy: () => import('./routes/admin-system') },
+              { path: 'stations', lazy: () => import('./routes/admin-stations') },
+              { path: 'jobs', lazy: () => import('./routes/admin-jobs') },
             ],
           },
           { path: '*', lazy: () => import('./routes/not-found') },

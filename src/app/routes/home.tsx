@@ -2,6 +2,7 @@ import { Link } from 'react-router';
 import { ROLE_LABELS, roleAllows, type Role } from '../../../shared/schemas/roles';
 import { Panel, PageHeader } from '../../components/ui/panel';
 import { useMe } from '../../features/auth/api/me';
+import { UnitSearch } from '../../features/line/components/unit-search';
 import { HealthSummary } from '../../features/system/components/health-view';
 import { NAV_ITEMS } from '../navigation';
 
@@ -36,6 +37,9 @@ export function Component() {
         </Panel>
         <Panel title="System" titleId="system-title">
           <HealthSummary />
+        </Panel>
+        <Panel title="Find a unit" titleId="find-unit-title">
+          <UnitSearch />
         </Panel>
       </div>
       {areas.length > 0 ? (

@@ -1,0 +1,62 @@
+import { Navigate, useParams, useSearchParams } from 'react-router';
+import { Alert, Loading } from '../../components/ui/alert';
+import { LinkButton } from '../../components/ui/button';
+import { PageHeader } from '../../components/ui/panel';
+import { useStations } from '../../features/line/api/line';
+import {
+  rememberedStationId,
+  rememberStation,
+  StationPicker,
+} from '../../features/line/components/station-picker';
+import { StationScreen } from '../../features/line/components/station-screen';
+
+/** /station picks the panel's station (or goes to the remembered one); /station/:id runs it. */
+export function Component() {
+  const { stationId } = useParams();
+  const [search] = useSearchParams();
+  const stations = useStations();
+
+  if (stations.isPending) return <Loading label="Fetching stations…" />;
+  if (stations.isError)
+    return (
+      <Alert tone="fault" title="Stations could not be read">
+        {stations.error.message}
+      </Alert>
+    );
+
+  if (!stationId) {
+    const remembered = rememberedStationId();
+    if (remembered && search.get('choose') !== '1' && stations.data.some((s) => s.id === remembered))
+      return <Navigate to={`/station/${remembered}`} replace />;
+    return (
+      <div>
+        <title>Choose the station · Phasewright</title>
+        <PageHeader
+          title="Which station is this?"
+          lead="Choose the station this panel stands at. The choice is remembered on this panel."
+        />
+        <StationPicker stations={stations.data} />
+      </div>
+    );
+  }
+
+  const station = stations.data.find((s) => s.id === stationId);
+  if (!station)
+    return (
+      <div className="flex flex-col items-start gap-4">
+        <Alert tone="fault" title="No such station">
+          This address names a station that does not exist (any more). Choose the station again.
+        </Alert>
+        <LinkButton to="/station?choose=1" variant="primary">
+          Choose the station
+        </LinkButton>
+      </div>
+    );
+  rememberStation(station.id);
+  return (
+    <>
+      <title>{`${station.name} · Station · Phasewright`}</title>
+      <StationScreen key={station.id} station={station} />
+    </>
+  );
+}

@@ -1,0 +1,17 @@
+import { PageHeader, Panel } from '../../components/ui/panel';
+import { UnitSearch } from '../../features/line/components/unit-search';
+
+export function Component() {
+  return (
+    <div>
+      <title>Units · Phasewright</title>
+      <PageHeader
+        title="Units"
+        lead="Look a unit up by its serial: its model and lots, every calibration, and its travelers."
+      />
+      <Panel className="max-w-2xl">
+        <UnitSearch autoFocus />
+      </Panel>
+    </div>
+  );
+}
