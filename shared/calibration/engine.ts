@@ -15,9 +15,8 @@ import type {
   SensorResult,
   SpacingResult,
 } from '../schemas/calibration-result';
-import { circularMeanDeg, circularSummary, wrapDeg180, wrapDeg360 } from './angles';
+import { circularMeanDeg, wrapDeg180, wrapDeg360 } from './angles';
 import {
-  CROSSING_ANGLE_DEG,
   DEFAULT_ANGLE_FIT,
   crossingDirection,
   fitAngle,
@@ -48,6 +47,8 @@ export const EDGE_TYPES: ReadonlyArray<{ sensor: HallSensor; edge: EdgeKind }> =
   { sensor: 'C', edge: 'fall' },
 ];
 
+const RAD = Math.PI / 180;
+
 const typeIndex = (sensor: HallSensor, edge: EdgeKind): number =>
   SENSORS.indexOf(sensor) * 2 + (edge === 'rise' ? 0 : 1);
 
@@ -61,8 +62,8 @@ export interface SegmentWork {
   sign: 1 | -1;
   typeResiduals: (number | null)[];
   typeCounts: number[];
-  /** Single-edge offsets minus the segment offset, per type. */
-  deviations: number[][];
+  /** Per type: Σcos, Σsin of the single-edge offsets and their number. */
+  typeSums: { c: number; s: number; n: number }[];
   sensorEdges: Record<HallSensor, number>;
   bounce: Record<HallSensor, number>;
   dutyPct: Record<HallSensor, number | null>;
@@ -80,7 +81,7 @@ function processSegment(
   const declared: 1 | -1 = segment.direction === 'forward' ? 1 : -1;
   const debounced = debounceHallEdges(segment.hallEdges, recipe.debounceUs);
   const walk = walkHallStates(debounced.edges, layout);
-  const bemfDir = crossingDirection(segment.bemfCrossings.map((c) => CROSSING_ANGLE_DEG[c.channel][c.edge]));
+  const bemfDir = crossingDirection(segment.bemfCrossings);
   const hallDir = walk.direction;
   // Nominal angles follow the direction the rotor demonstrably turned; the checks flag any disagreement.
   let sign: 1 | -1 = declared;
@@ -98,9 +99,16 @@ function processSegment(
   const fit = fitAngle(track, fitOptions);
   const direction = dirName(sign);
 
-  const offsets: number[][] = [[], [], [], [], [], []];
+  // Per edge type (and per pole pair and type) the sums of cos/sin of the single-edge offsets: every
+  // circular mean and spread below comes from these, one cos/sin pair per edge.
   const pp = recipe.polePairs;
-  const ppOffsets: number[][][] = Array.from({ length: pp }, () => [[], [], [], [], [], []]);
+  const sumC = new Float64Array(6);
+  const sumS = new Float64Array(6);
+  const count = new Int32Array(6);
+  const ppC = new Float64Array(pp * 6);
+  const ppS = new Float64Array(pp * 6);
+  const ppN = new Int32Array(pp * 6);
+  const nominal = EDGE_TYPES.map((et) => nominalEdgeDeg(recipe.hallRiseDeg, et.sensor, et.edge, direction));
   const sensorEdges: Record<HallSensor, number> = { A: 0, B: 0, C: 0 };
   const lastRise: Record<HallSensor, number> = { A: NaN, B: NaN, C: NaN };
   const highTurns: Record<HallSensor, number[]> = { A: [], B: [], C: [] };
@@ -113,11 +121,18 @@ function processSegment(
       lastRise[e.sensor] = NaN;
       continue;
     }
-    const off = wrapDeg180(theta - nominalEdgeDeg(recipe.hallRiseDeg, e.sensor, e.edge, direction));
     const k = typeIndex(e.sensor, e.edge);
-    offsets[k].push(off);
+    const off = (theta - nominal[k]) * RAD;
+    const c = Math.cos(off);
+    const sn = Math.sin(off);
+    sumC[k] += c;
+    sumS[k] += sn;
+    count[k]++;
     const turn = Math.floor(theta / 360);
-    ppOffsets[((turn % pp) + pp) % pp][k].push(off);
+    const g = (((turn % pp) + pp) % pp) * 6 + k;
+    ppC[g] += c;
+    ppS[g] += sn;
+    ppN[g]++;
     if (e.edge === 'rise') lastRise[e.sensor] = theta;
     else {
       if (!Number.isNaN(lastRise[e.sensor]))
@@ -125,15 +140,21 @@ function processSegment(
       lastRise[e.sensor] = NaN;
     }
   }
-  const typeMeans = offsets.map((o) => circularMeanDeg(o));
+  const meanOf = (c: number, sn: number, n: number) =>
+    n > 0 && Math.hypot(c, sn) > 1e-12 * n ? wrapDeg180(Math.atan2(sn, c) / RAD) : null;
+  const typeMeans = EDGE_TYPES.map((_, k) => meanOf(sumC[k], sumS[k], count[k]));
   const present = typeMeans.filter((m): m is number => m !== null);
   const offsetDeg = circularMeanDeg(present);
   const typeResiduals = typeMeans.map((m) =>
     m === null || offsetDeg === null ? null : wrapDeg180(m - offsetDeg),
   );
-  const deviations = offsets.map((o) => (offsetDeg === null ? [] : o.map((v) => wrapDeg180(v - offsetDeg))));
-  const polePairOffsetsDeg = ppOffsets.map((group) => {
-    const means = group.map((o) => circularMeanDeg(o)).filter((m): m is number => m !== null);
+  const typeSums = EDGE_TYPES.map((_, k) => ({ c: sumC[k], s: sumS[k], n: count[k] }));
+  const polePairOffsetsDeg = Array.from({ length: pp }, (_, g) => {
+    const means: number[] = [];
+    for (let k = 0; k < 6; k++) {
+      const m = meanOf(ppC[g * 6 + k], ppS[g * 6 + k], ppN[g * 6 + k]);
+      if (m !== null) means.push(m);
+    }
     return means.length > 0 ? circularMeanDeg(means) : null;
   });
   const dutyPct = {} as Record<HallSensor, number | null>;
@@ -179,8 +200,8 @@ function processSegment(
     result,
     sign,
     typeResiduals,
-    typeCounts: offsets.map((o) => o.length),
-    deviations,
+    typeCounts: Array.from(count),
+    typeSums,
     sensorEdges,
     bounce: debounced.bounce,
     dutyPct,
@@ -321,14 +342,27 @@ export function calibrate(
   const offsetDeg = split.offsetDeg;
 
   const edges: EdgeTypeResult[] = EDGE_TYPES.map((et, k) => {
-    const pooled = works.flatMap((w) => w.deviations[k]);
-    const spread = circularSummary(pooled);
+    // Spread of single edges about their segment's offset: rotate each segment's sums by −offset, pool.
+    let c = 0;
+    let sn = 0;
+    let n = 0;
+    for (const w of works) {
+      const o = w.result.offsetDeg;
+      const t = w.typeSums[k];
+      if (o === null || t.n === 0) continue;
+      const cr = Math.cos(o * RAD);
+      const sr = Math.sin(o * RAD);
+      c += t.c * cr + t.s * sr;
+      sn += t.s * cr - t.c * sr;
+      n += t.n;
+    }
+    const r = n > 0 ? Math.min(1, Math.hypot(c, sn) / n) : 0;
     return {
       sensor: et.sensor,
       edge: et.edge,
       count: works.reduce((a, w) => a + w.typeCounts[k], 0),
       residualDeg: circMeanOrNull(works.map((w) => w.typeResiduals[k])),
-      spreadDeg: pooled.length > 1 && Number.isFinite(spread.stdDeg) ? spread.stdDeg : null,
+      spreadDeg: n > 1 && r > 0 ? Math.sqrt(Math.max(0, -2 * Math.log(r))) / RAD : null,
     };
   });
 

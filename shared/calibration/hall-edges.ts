@@ -52,22 +52,25 @@ export function walkHallStates(edges: readonly HallEdge[], layout: HallLayout): 
   for (const e of edges) if (level[e.sensor] === -1) level[e.sensor] = e.edge === 'rise' ? 0 : 1;
   const silentSensors = (['A', 'B', 'C'] as const).filter((s) => level[s] === -1);
   if (silentSensors.length > 0) return { invalidStates: [], direction: 0, silentSensors };
-  const index = new Map(layout.states.map((s, i) => [s, i]));
-  const invalid = new Set<string>();
+  // States as 3-bit numbers (A = 4, B = 2, C = 1); index −1 marks a state the layout never produces.
+  const index = new Int8Array(8).fill(-1);
+  layout.states.forEach((s, i) => (index[parseInt(s, 2)] = i));
+  const invalid = new Set<number>();
   let fwd = 0;
   let rev = 0;
-  let prev = `${level.A}${level.B}${level.C}`;
+  const bit = { A: 4, B: 2, C: 1 } as const;
+  let state = level.A * 4 + level.B * 2 + level.C;
+  let prev = state;
   for (let i = 0; i < edges.length; i++) {
     const e = edges[i];
-    level[e.sensor] = e.edge === 'rise' ? 1 : 0;
+    state = e.edge === 'rise' ? state | bit[e.sensor] : state & ~bit[e.sensor];
     // Edges at the same instant change the state together.
     if (i + 1 < edges.length && edges[i + 1].us === e.us) continue;
-    const state = `${level.A}${level.B}${level.C}`;
     if (state === prev) continue;
-    const a = index.get(prev);
-    const b = index.get(state);
-    if (b === undefined) invalid.add(state);
-    else if (a !== undefined) {
+    const a = index[prev];
+    const b = index[state];
+    if (b < 0) invalid.add(state);
+    else if (a >= 0) {
       const step = (b - a + 6) % 6;
       if (step === 1) fwd++;
       else if (step === 5) rev++;
@@ -76,5 +79,9 @@ export function walkHallStates(edges: readonly HallEdge[], layout: HallLayout): 
   }
   const total = fwd + rev;
   const direction = total >= 2 && fwd >= 0.8 * total ? 1 : total >= 2 && rev >= 0.8 * total ? -1 : 0;
-  return { invalidStates: [...invalid].sort(), direction, silentSensors };
+  return {
+    invalidStates: [...invalid].map((v) => v.toString(2).padStart(3, '0')).sort(),
+    direction,
+    silentSensors,
+  };
 }

@@ -11,13 +11,7 @@ import type { CalibrationResult, CaptureFigures, Check } from '../schemas/calibr
 import { CalibrationInputError, type InputIssue } from '../calibration/input';
 import { calibrate, type EngineOptions } from '../calibration/engine';
 import { verdictOf } from '../calibration/checks';
-import {
-  DEFAULT_ANGLE_FIT,
-  crossingDirection,
-  fitAngle,
-  unwrapCrossings,
-  CROSSING_ANGLE_DEG,
-} from '../calibration/angle-fit';
+import { DEFAULT_ANGLE_FIT, crossingDirection, fitAngle, unwrapCrossings } from '../calibration/angle-fit';
 import { deriveHallLayout } from '../calibration/hall-layout';
 import { walkHallStates } from '../calibration/hall-edges';
 import { recipeSchema } from '../schemas/recipe';
@@ -217,7 +211,7 @@ export function captureToMeasurement(
   let direction = options.direction;
   if (!direction) {
     const walk = walkHallStates(hallEdges, deriveHallLayout(recipe.hallRiseDeg));
-    const bemf = crossingDirection(bemfCrossings.map((c) => CROSSING_ANGLE_DEG[c.channel][c.edge]));
+    const bemf = crossingDirection(bemfCrossings);
     direction = (walk.direction || bemf) < 0 ? 'reverse' : 'forward';
   }
   return {
@@ -241,9 +235,7 @@ export function captureFigures(
   maxHarmonic = 15,
 ): CaptureFigures | null {
   const seg = measurement.segments[0];
-  const sign =
-    crossingDirection(seg.bemfCrossings.map((c) => CROSSING_ANGLE_DEG[c.channel][c.edge])) ||
-    (seg.direction === 'forward' ? 1 : -1);
+  const sign = crossingDirection(seg.bemfCrossings) || (seg.direction === 'forward' ? 1 : -1);
   const track = unwrapCrossings(seg.bemfCrossings, 0, sign);
   if (track.tUs.length < 8) return null;
   const fit = fitAngle(track, DEFAULT_ANGLE_FIT);

@@ -77,6 +77,8 @@ export interface SimulationTruth {
 export interface SimulatedMeasurement {
   measurement: Measurement;
   truth: SimulationTruth;
+  /** True rotor speed per segment, electrical degrees per µs at a measurement time (for error bounds). */
+  speedAt: ((us: number) => number)[];
 }
 
 const RAD = Math.PI / 180;
@@ -167,6 +169,7 @@ export function simulateMeasurement(spec: SimulationSpec, rng: Rng): SimulatedMe
   const riseErr = (s: HallSensor) => spec.riseErrorDeg?.[s] ?? 0;
   const segmentsOut: Measurement['segments'] = [];
   const truths: SegmentTruth[] = [];
+  const speedAt: ((us: number) => number)[] = [];
 
   for (const seg of spec.segments) {
     const sign = seg.direction === 'forward' ? 1 : -1;
@@ -174,6 +177,7 @@ export function simulateMeasurement(spec: SimulationSpec, rng: Rng): SimulatedMe
     const total = seg.electricalTurns * 360;
     const theta0 = seg.startAngleDeg ?? rng.next() * 360;
     const startUs = 500 + rng.next() * 500;
+    speedAt.push((us) => motion.speed(Math.max(0, us - startUs)));
 
     const crossings: BemfCrossing[] = [];
     for (const channel of channels) {
@@ -241,5 +245,6 @@ export function simulateMeasurement(spec: SimulationSpec, rng: Rng): SimulatedMe
       segments: segmentsOut,
     },
     truth: { offsetDeg: wrap180(circMean(typeStatic)), hysteresisDeg: h, latencyUs: tau, segments: truths },
+    speedAt,
   };
 }
