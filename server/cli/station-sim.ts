@@ -1,0 +1,197 @@
+// A simulated end-of-line test station: spins units (the shared physical simulator makes their hall
+// and back-EMF timings), posts each measurement with its station key, waits for the result, programs
+// and confirms passes, retests fails up to the recipe's attempts. Exit 0 when nothing went wrong
+// with the protocol (failing units are not errors), 1 on errors, 2 on bad arguments or setup.
+import { existsSync, readFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { parseArgs } from 'node:util';
+import { DEMO_STATIONS, demoModel, type DemoRig } from '../modules/demo/demo-line.scenario';
+import { percentile, runStationSim, StationHttp, StationHttpError } from '../modules/demo/station-client';
+
+const USAGE = `Usage:
+  npm run station:sim -- --units N [--rate R] [--concurrency C] [--seed S] [--json]
+                         [--base-url http://localhost:3000] [--key KEY] [--model CV-57B|CV-86S]
+                         [--bad-rate 0.03] [--serial-prefix P]
+
+  --units N         units to test (default 20)
+  --rate R          largest measurement posts per second, retests included (default 10; 0 = no limit)
+  --concurrency C   units in the rig at the same time (default 2)
+  --seed S          seed of the units' physics (default: from the clock)
+  --json            print one JSON object at the end:
+                    { posted, calibrated, passed, failed, errors, latencyMs: { p50, p95, max } }
+                    posted = measurements posted (retests included); calibrated = units whose
+                    calibration came back; passed/failed = units that ended with a pass / with the
+                    recipe's attempts used up (on hold); errors = protocol or connection errors;
+                    latencyMs = post → result.
+  --key KEY         the station key (default: the demo station key npm start writes to
+                    .data/demo-station-key.json)
+  --model CODE      the motor model the station tests (default: the demo station's model)
+  --bad-rate F      share of units with a fault: magnet ring rotated, dead hall sensor, or poorly
+                    seated on the first attempt (default 0.03)`;
+
+const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
+const KEY_FILE = join(repoRoot, '.data', 'demo-station-key.json');
+
+class SetupError extends Error {
+  constructor(
+    message: string,
+    readonly showUsage = false,
+  ) {
+    super(message);
+  }
+}
+
+function numberArg(name: string, raw: string | undefined, fallback: number, min: number, max: number) {
+  if (raw === undefined) return fallback;
+  const v = Number(raw);
+  if (!Number.isFinite(v) || v < min || v > max) {
+    throw new SetupError(`--${name} must be a number from ${min} to ${max} (got "${raw}").`, true);
+  }
+  return v;
+}
+
+interface KeyFile {
+  stationId: string;
+  stationName: string;
+  modelCode?: string;
+  key: string;
+  baseUrl?: string;
+}
+
+function readKeyFile(): KeyFile {
+  if (!existsSync(KEY_FILE)) {
+    throw new SetupError(
+      'No demo station key: .data/demo-station-key.json does not exist. Run `npm start` first (it seeds the demo line and writes the key), or pass --key.',
+    );
+  }
+  try {
+    const k = JSON.parse(readFileSync(KEY_FILE, 'utf8')) as KeyFile;
+    if (typeof k.key !== 'string') throw new Error('no key');
+    return k;
+  } catch {
+    throw new SetupError(
+      `.data/demo-station-key.json is unreadable; restart \`npm start\` to write it again.`,
+    );
+  }
+}
+
+async function main(): Promise<number> {
+  const { values } = parseArgs({
+    options: {
+      units: { type: 'string' },
+      rate: { type: 'string' },
+      concurrency: { type: 'string' },
+      seed: { type: 'string' },
+      json: { type: 'boolean', default: false },
+      'base-url': { type: 'string' },
+      key: { type: 'string' },
+      model: { type: 'string' },
+      'bad-rate': { type: 'string' },
+      'serial-prefix': { type: 'string' },
+      help: { type: 'boolean', default: false },
+    },
+    strict: true,
+  });
+  if (values.help) {
+    process.stdout.write(`${USAGE}\n`);
+    return 0;
+  }
+  const units = numberArg('units', values.units, 20, 1, 1_000_000);
+  if (!Number.isInteger(units)) throw new SetupError('--units must be a whole number.', true);
+  const rate = numberArg('rate', values.rate, 10, 0, 100_000);
+  const concurrency = Math.round(numberArg('concurrency', values.concurrency, 2, 1, 256));
+  const seed = Math.round(numberArg('seed', values.seed, Date.now() % 2 ** 31, 0, 2 ** 32 - 1));
+  const badRate = numberArg('bad-rate', values['bad-rate'], 0.03, 0, 1);
+  const file = values.key ? null : readKeyFile();
+  const key = values.key ?? file!.key;
+  const baseUrl = values['base-url'] ?? file?.baseUrl ?? 'http://localhost:3000';
+  const model = demoModel(values.model ?? file?.modelCode ?? 'CV-57B');
+  const log = (line: string) => process.stderr.write(`${line}\n`);
+
+  try {
+    const health = await fetch(new URL('/api/health', baseUrl), { signal: AbortSignal.timeout(5000) });
+    if (!health.ok) throw new Error(`health check answered ${health.status}`);
+  } catch (e) {
+    throw new SetupError(
+      `The server at ${baseUrl} is not reachable (${(e as Error).message}). Start it with \`npm start\`, or pass --base-url.`,
+    );
+  }
+  const http = new StationHttp(baseUrl, key);
+  let stationName: string;
+  try {
+    stationName = (await http.heartbeat()).stationName;
+  } catch (e) {
+    if (e instanceof StationHttpError && e.status === 401) {
+      throw new SetupError(
+        `The server refused the station key (${e.code}). Restart \`npm start\` for a fresh demo key, or pass a valid --key.`,
+      );
+    }
+    throw e;
+  }
+  // The rig's timing behaviour: the demo station's own, else a steady both-direction rig.
+  const rig: DemoRig = DEMO_STATIONS.find((s) => s.name === stationName && s.rig.detectorDriftUs === 0)
+    ?.rig ?? { directions: 'both', detectorDelayUs: 3, detectorDriftUs: 0, jitterUs: 0.6 };
+  const runTag = Date.now().toString(36).toUpperCase();
+  const serialPrefix = values['serial-prefix'] ?? `${model.code.replace('-', '')}-SIM-${runTag}`;
+  log(
+    `station:sim: ${stationName} (${model.code}) at ${baseUrl}: ${units} units, ≤ ${rate || '∞'} posts/s, ${concurrency} at a time, seed ${seed}`,
+  );
+
+  let shown = 0;
+  const t0 = performance.now();
+  const report = await runStationSim({
+    http,
+    model,
+    rig,
+    units,
+    ratePerSecond: rate,
+    concurrency,
+    seed,
+    badRate,
+    serialPrefix,
+    onError: (message) => {
+      if (shown++ < 10) log(`error: ${message}`);
+    },
+  });
+  const seconds = (performance.now() - t0) / 1000;
+  const latencyMs = {
+    p50: Math.round(percentile(report.latenciesMs, 50) * 10) / 10,
+    p95: Math.round(percentile(report.latenciesMs, 95) * 10) / 10,
+    max: Math.round(Math.max(0, ...report.latenciesMs) * 10) / 10,
+  };
+  const summary = {
+    posted: report.posted,
+    calibrated: report.calibrated,
+    passed: report.passed,
+    failed: report.failed,
+    errors: report.errors,
+    latencyMs,
+  };
+  if (values.json) process.stdout.write(`${JSON.stringify(summary)}\n`);
+  else {
+    process.stdout.write(
+      [
+        `${report.posted} measurements posted in ${seconds.toFixed(1)} s`,
+        `${report.calibrated} of ${units} units calibrated: ${report.passed} passed, ${report.failed} failed (on hold)`,
+        `${report.errors} errors`,
+        `post → result: p50 ${latencyMs.p50} ms, p95 ${latencyMs.p95} ms, max ${latencyMs.max} ms`,
+      ].join('\n') + '\n',
+    );
+  }
+  return report.errors > 0 ? 1 : 0;
+}
+
+try {
+  process.exitCode = await main();
+} catch (e) {
+  const argsError = (e as { code?: string }).code?.startsWith('ERR_PARSE_ARGS') ?? false;
+  if (e instanceof SetupError || argsError) {
+    const usage = argsError || (e as SetupError).showUsage ? `\n${USAGE}\n` : '';
+    process.stderr.write(`station:sim: ${(e as Error).message}\n${usage}`);
+    process.exitCode = 2;
+  } else {
+    process.stderr.write(`station:sim: ${e instanceof Error ? e.message : String(e)}\n`);
+    process.exitCode = 1;
+  }
+}

@@ -1,0 +1,222 @@
+import type { CalibrationView } from '../../../shared/schemas/line';
+import type { Measurement } from '../../../shared/schemas/measurement';
+import { createRng } from '../../../shared/simulation/rng';
+import type { DemoModel, DemoRig } from './demo-line.scenario';
+import { calibrationBlockChecksum, drawUnit, simulateRun } from './demo-physics';
+
+/**
+ * A test station's side of the station protocol over HTTP, and a simulated station that drives it
+ * like a rig on the line: spin a unit, post its timings, wait for the result, program and confirm a
+ * pass, retest a fail while the recipe allows. Used by `npm run station:sim` and the line benchmark.
+ */
+
+export class StationHttpError extends Error {
+  constructor(
+    message: string,
+    readonly status: number | null,
+    readonly code: string | null,
+  ) {
+    super(message);
+  }
+}
+
+interface ErrorBody {
+  error?: { code?: string; message?: string };
+}
+
+export class StationHttp {
+  constructor(
+    readonly baseUrl: string,
+    private readonly key: string,
+  ) {}
+
+  private async call<T>(method: string, path: string, body?: unknown, timeoutMs = 35_000): Promise<T> {
+    let res: Response;
+    try {
+      res = await fetch(new URL(path, this.baseUrl), {
+        method,
+        headers: {
+          'x-station-key': this.key,
+          ...(body === undefined ? {} : { 'content-type': 'application/json' }),
+        },
+        body: body === undefined ? undefined : JSON.stringify(body),
+        signal: AbortSignal.timeout(timeoutMs),
+      });
+    } catch (e) {
+      const cause = (e as { cause?: { code?: string } }).cause?.code ?? (e as Error).name;
+      throw new StationHttpError(`${method} ${path}: no answer from ${this.baseUrl} (${cause})`, null, null);
+    }
+    const text = await res.text();
+    if (!res.ok) {
+      let parsed: ErrorBody = {};
+      try {
+        parsed = JSON.parse(text) as ErrorBody;
+      } catch {
+        // not JSON: report the status alone
+      }
+      throw new StationHttpError(
+        `${method} ${path}: ${res.status} ${parsed.error?.code ?? ''} ${parsed.error?.message ?? text.slice(0, 200)}`.trim(),
+        res.status,
+        parsed.error?.code ?? null,
+      );
+    }
+    return JSON.parse(text) as T;
+  }
+
+  heartbeat() {
+    return this.call<{ stationId: string; stationName: string; at: string }>(
+      'POST',
+      '/api/station/heartbeat',
+    );
+  }
+
+  post(m: Measurement) {
+    return this.call<{ measurementId: string; status: 'queued' | 'computed'; resultUrl: string }>(
+      'POST',
+      '/api/station/measurements',
+      m,
+    );
+  }
+
+  /** Long-polls until the calibration commits or `timeoutMs` passes. */
+  async result(resultUrl: string, timeoutMs = 30_000): Promise<CalibrationView | null> {
+    const deadline = Date.now() + timeoutMs;
+    for (;;) {
+      const waitMs = Math.max(0, Math.min(10_000, deadline - Date.now()));
+      const r = await this.call<{ status: string; calibration: CalibrationView | null }>(
+        'GET',
+        `${resultUrl}?waitMs=${waitMs}`,
+      );
+      if (r.calibration) return r.calibration;
+      if (Date.now() >= deadline) return null;
+    }
+  }
+
+  confirm(measurementId: string, body: { writtenCounts: number; readBackCounts: number; checksum?: string }) {
+    return this.call<{ matches: boolean }>(
+      'POST',
+      `/api/station/measurements/${encodeURIComponent(measurementId)}/programming`,
+      body,
+    );
+  }
+}
+
+export interface StationSimOptions {
+  http: StationHttp;
+  model: DemoModel;
+  rig: DemoRig;
+  units: number;
+  /** Largest measurement posts per second (retests included); 0 = no limit. */
+  ratePerSecond: number;
+  /** Units in the rig at the same time. */
+  concurrency: number;
+  seed: number;
+  /** Share of units with a fault (default 3 %). */
+  badRate?: number;
+  serialPrefix: string;
+  /** Stop starting new posts once this many have been made by all simulators sharing `budget`. */
+  budget?: { left: number };
+  onError?: (message: string) => void;
+}
+
+export interface StationSimReport {
+  posted: number;
+  /** Units whose calibration came back (pass or fail). */
+  calibrated: number;
+  /** Units that ended with a passing calibration (programmed and confirmed). */
+  passed: number;
+  /** Units that used up the recipe's attempts without a pass (the server puts them on hold). */
+  failed: number;
+  errors: number;
+  /** Post → result times, ms, in the order they completed. */
+  latenciesMs: number[];
+}
+
+/** A pacer shared by all posts of a simulator: at most `rate` starts per second. */
+function pacer(rate: number) {
+  let next = 0;
+  return async () => {
+    if (rate <= 0) return;
+    const now = performance.now();
+    const at = Math.max(now, next);
+    next = at + 1000 / rate;
+    if (at > now) await new Promise((r) => setTimeout(r, at - now));
+  };
+}
+
+/** Runs one simulated station over `units` units and reports what happened. */
+export async function runStationSim(o: StationSimOptions): Promise<StationSimReport> {
+  const report: StationSimReport = {
+    posted: 0,
+    calibrated: 0,
+    passed: 0,
+    failed: 0,
+    errors: 0,
+    latenciesMs: [],
+  };
+  const pace = pacer(o.ratePerSecond);
+  const unitRng = createRng(o.seed);
+  const truths = Array.from({ length: o.units }, () =>
+    drawUnit(o.model, unitRng, { badRate: o.badRate ?? 0.03 }),
+  );
+  let next = 0;
+
+  const runUnit = async (index: number) => {
+    const rng = createRng((o.seed * 7919 + index * 104729 + 1) >>> 0);
+    const serial = `${o.serialPrefix}-${String(index + 1).padStart(5, '0')}`;
+    let gotResult = false;
+    for (let run = 1; run <= o.model.recipe.maxAttempts + 2; run++) {
+      if (o.budget) {
+        if (o.budget.left <= 0) break;
+        o.budget.left--;
+      }
+      await pace();
+      const m = simulateRun(o.model, truths[index], { rig: o.rig, attempt: run }, rng, {
+        measurementId: crypto.randomUUID(),
+        serial,
+      });
+      try {
+        const t0 = performance.now();
+        const accepted = await o.http.post(m);
+        report.posted++;
+        const cal = await o.http.result(accepted.resultUrl);
+        if (!cal) throw new StationHttpError(`${serial}: no result within 30 s`, null, null);
+        report.latenciesMs.push(performance.now() - t0);
+        if (cal.verdict === 'unusable') continue;
+        gotResult = true;
+        if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
+          await o.http.confirm(m.measurementId, {
+            writtenCounts: cal.offsetCounts,
+            readBackCounts: cal.offsetCounts,
+            checksum: calibrationBlockChecksum(serial, cal.offsetCounts),
+          });
+          report.passed++;
+          break;
+        }
+        if ((cal.attempt ?? 0) >= cal.maxAttempts) {
+          report.failed++;
+          break;
+        }
+      } catch (e) {
+        report.errors++;
+        o.onError?.(e instanceof Error ? e.message : String(e));
+        break;
+      }
+    }
+    if (gotResult) report.calibrated++;
+  };
+
+  await Promise.all(
+    Array.from({ length: Math.max(1, Math.min(o.concurrency, o.units)) }, async () => {
+      while (next < o.units) await runUnit(next++);
+    }),
+  );
+  return report;
+}
+
+/** Nearest-rank percentile of a list of numbers (0 for an empty list). */
+export function percentile(values: number[], p: number): number {
+  if (values.length === 0) return 0;
+  const sorted = [...values].sort((a, b) => a - b);
+  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))];
+}
