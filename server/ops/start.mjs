@@ -130,6 +130,18 @@ try {
     services.push(vite);
   }
 
+  // Demo line: seeded through the line services on first start; a fresh simulator key every start.
+  let demoStation = null;
+  if (env.SEED_DEMO !== 'false') {
+    const code = await runStep(TSX, ['server/cli/seed-demo.ts'], {
+      ...env,
+      DEMO_BASE_URL: `http://localhost:${port}`,
+    });
+    if (code === 0) {
+      demoStation = JSON.parse(readFileSync(join(dataDir, 'demo-station-key.json'), 'utf8')).stationName;
+    } else log('the demo line could not be seeded (output above); the product runs without it');
+  }
+
   const url = dev ? 'http://localhost:5173' : `http://localhost:${port}`;
   const banner = [
     '',
@@ -143,6 +155,12 @@ try {
     '',
     `  Database: ${pg.external ? 'DATABASE_URL (external)' : `private PostgreSQL on 127.0.0.1:${pg.port}`}`,
     `  Mail: ${process.env.SMTP_URL ? 'SMTP_URL relay' : `local fake mail server (SMTP 127.0.0.1:${smtpPort}); see Admin → Outbox`}`,
+    ...(demoStation
+      ? [
+          `  Demo station: ${demoStation} (Line 2); its key is in .data/demo-station-key.json.`,
+          '  Simulate it in another terminal: npm run station:sim -- --units 50 --json',
+        ]
+      : []),
     '  Press Ctrl-C to stop everything.',
     '',
   ];
