@@ -58,6 +58,8 @@ async function browserSuite(pg, chromiumPath) {
     DATABASE_URL: url.toString(),
     PORT: String(port),
     SEED_DEMO: 'true',
+    // A small demo line is enough for the browser tests and keeps the suite fast.
+    DEMO_LINE_UNITS: process.env.DEMO_LINE_UNITS ?? '60',
     LOG_LEVEL: 'warn',
     SMTP_URL: `smtp://127.0.0.1:${smtpPort}`,
     MAILBOX_URL: `http://127.0.0.1:${mailHttpPort}`,
