@@ -75,6 +75,16 @@ async function browserSuite(pg, chromiumPath) {
     services.push(server);
     await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
     services.push(startService('worker', TSX, ['jobs/worker.ts'], { env, quiet: true }));
+    // The demo line (models, released recipes, stations, a little production) through the real pipeline.
+    const seeded = await runStep(TSX, ['server/cli/seed-demo.ts'], {
+      ...env,
+      DEMO_BASE_URL: `http://127.0.0.1:${port}`,
+      DEMO_KEY_FILE: join(resultsDir, 'demo-station-key.json'),
+    });
+    if (seeded !== 0) {
+      log('seeding the demo line failed (output above)');
+      return false;
+    }
     const code = await runStep(
       bin('vitest'),
       [
