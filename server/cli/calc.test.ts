@@ -26,7 +26,8 @@ function calc(...args: string[]) {
 
 const recipe = write('recipe.json', exampleRecipe());
 
-describe('calc command line', () => {
+// Each case starts a process; on a busy machine that takes seconds.
+describe('calc command line', { timeout: 120_000 }, () => {
   it('prints the result JSON and exits 0 for a measurement', () => {
     const out = calc('--recipe', recipe, write('m.json', exampleMeasurement()));
     expect(out.stderr).toBe('');

@@ -1,8 +1,10 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
+import { measurementSchema } from '../schemas/measurement';
 import { createRng } from '../simulation/rng';
 import { simulateMeasurement } from '../simulation/simulate';
 import { calibrate } from './engine';
-import { CalibrationInputError, validateCalibrationInput } from './input';
+import { CalibrationInputError, isWellFormedMeasurement, validateCalibrationInput } from './input';
 
 const recipe = {
   polePairs: 2,
@@ -108,5 +110,66 @@ describe('unusable input is rejected with every problem and its path', () => {
     const m = good();
     m.segments[0].bemfCrossings = [0, 1, 2, 3].map(() => ({ channel: 'A', edge: 'rise', us: 10 }));
     expect(issuesOf(m).map((i) => i.path)).toContain('measurement.segments[0].bemfCrossings');
+  });
+});
+
+describe('the quick well-formedness walk', () => {
+  // Every mutation turns a good measurement into something the schema may or may not accept; the walk
+  // must agree with the schema (zod) every time, since good input skips the schema parse.
+  const mutations: ((
+    m: Record<string, unknown> & { segments: Record<string, unknown[]>[] },
+    i: number,
+  ) => void)[] = [
+    () => {},
+    (m) => delete m.measurementId,
+    (m) => (m.measurementId = ''),
+    (m) => (m.serial = 'x'.repeat(201)),
+    (m) => (m.serial = 42),
+    (m) => (m.capturedAt = 5),
+    (m) => (m.capturedAt = '2026-12-02T10:00:00Z'),
+    (m) => (m.stationId = ''),
+    (m) => (m.stationId = null),
+    (m) => (m.extra = { anything: true }),
+    (m) => (m.segments = []),
+    (m) => (m.segments = {} as never),
+    (m) => ((m.segments[0] as Record<string, unknown>).direction = 'sideways'),
+    (m) => ((m.segments[0] as Record<string, unknown>).label = 'fwd'),
+    (m) => ((m.segments[0] as Record<string, unknown>).label = 3),
+    (m) => (m.segments[0].hallEdges = []),
+    (m) => (m.segments[0].bemfCrossings = m.segments[0].bemfCrossings.slice(0, 3)),
+    (m, i) =>
+      ((m.segments[0].hallEdges[i % m.segments[0].hallEdges.length] as Record<string, unknown>).us = NaN),
+    (m, i) =>
+      ((m.segments[0].hallEdges[i % m.segments[0].hallEdges.length] as Record<string, unknown>).us =
+        -Infinity),
+    (m, i) =>
+      ((m.segments[0].hallEdges[i % m.segments[0].hallEdges.length] as Record<string, unknown>).us = '5'),
+    (m, i) => ((m.segments[0].bemfCrossings[1 + (i % 20)] as Record<string, unknown>).us = -1),
+    (m, i) => ((m.segments[0].bemfCrossings[i % 20] as Record<string, unknown>).channel = 'AC'),
+    (m, i) => ((m.segments[0].bemfCrossings[i % 20] as Record<string, unknown>).edge = 'up'),
+    (m, i) => ((m.segments[0].hallEdges[i % 20] as Record<string, unknown>).sensor = 'a'),
+    (m, i) => (m.segments[0].hallEdges[i % 20] = null as never),
+    (m, i) => (m.segments[0].hallEdges[i % 20] = [] as never),
+    (m) => (m.segments[0].hallEdges[1] = { ...(m.segments[0].hallEdges[0] as object) }),
+  ];
+
+  it('accepts exactly what the measurement schema accepts', () => {
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 0, max: mutations.length - 1 }),
+        fc.integer({ min: 0, max: 1000 }),
+        (k, i) => {
+          const m = good();
+          mutations[k](m, i);
+          expect(isWellFormedMeasurement(m)).toBe(measurementSchema.safeParse(m).success);
+        },
+      ),
+      { numRuns: 150 },
+    );
+    for (let k = 0; k < mutations.length; k++) {
+      const m = good();
+      mutations[k](m, k);
+      expect(isWellFormedMeasurement(m), `mutation ${k}`).toBe(measurementSchema.safeParse(m).success);
+    }
   });
 });

@@ -62,12 +62,60 @@ export function recipeIssues(recipe: Recipe): InputIssue[] {
   return issues;
 }
 
+const SENSOR_SET = new Set(['A', 'B', 'C']);
+const CHANNEL_SET = new Set(['A', 'B', 'C', 'AB', 'BC', 'CA']);
+const EDGE_SET = new Set(['rise', 'fall']);
+const DIRECTION_SET = new Set(['forward', 'reverse']);
+
+const isObject = (v: unknown): v is Record<string, unknown> =>
+  typeof v === 'object' && v !== null && !Array.isArray(v);
+const shortString = (v: unknown, min: number) => typeof v === 'string' && v.length >= min && v.length <= 200;
+
+function timedList(list: unknown, min: number, kind: Set<string>, key: 'sensor' | 'channel'): boolean {
+  if (!Array.isArray(list) || list.length < min) return false;
+  let prev = -Infinity;
+  for (const item of list) {
+    if (!isObject(item)) return false;
+    const us = item.us;
+    if (typeof us !== 'number' || !Number.isFinite(us) || us < prev) return false;
+    if (typeof item[key] !== 'string' || !kind.has(item[key] as string)) return false;
+    if (typeof item.edge !== 'string' || !EDGE_SET.has(item.edge)) return false;
+    prev = us;
+  }
+  return true;
+}
+
+/**
+ * True only when `measurementSchema` would accept the value. A plain walk over the data (no copies), so
+ * the common case of good input skips the schema's object-by-object parse; anything it rejects goes
+ * through the schema for the full list of issues. Kept equivalent by a property test.
+ */
+export function isWellFormedMeasurement(value: unknown): value is Measurement {
+  if (!isObject(value)) return false;
+  if (!shortString(value.measurementId, 1) || !shortString(value.serial, 1)) return false;
+  if (value.capturedAt !== undefined && typeof value.capturedAt !== 'string') return false;
+  if (value.stationId !== undefined && !shortString(value.stationId, 0)) return false;
+  const segments = value.segments;
+  if (!Array.isArray(segments) || segments.length < 1) return false;
+  for (const seg of segments) {
+    if (!isObject(seg)) return false;
+    if (typeof seg.direction !== 'string' || !DIRECTION_SET.has(seg.direction)) return false;
+    if (seg.label !== undefined && !shortString(seg.label, 0)) return false;
+    if (!timedList(seg.hallEdges, 1, SENSOR_SET, 'sensor')) return false;
+    if (!timedList(seg.bemfCrossings, 4, CHANNEL_SET, 'channel')) return false;
+  }
+  return true;
+}
+
 /**
  * Validates raw (parsed JSON) measurement and recipe without throwing. On success the typed, parsed values
  * are returned; otherwise every problem found, each with a path rooted at "measurement" or "recipe".
  */
 export function validateCalibrationInput(measurement: unknown, recipe: unknown): ValidationOutcome {
-  const m = measurementSchema.safeParse(measurement);
+  const m: { success: true; data: Measurement } | ReturnType<typeof measurementSchema.safeParse> =
+    isWellFormedMeasurement(measurement)
+      ? { success: true, data: measurement }
+      : measurementSchema.safeParse(measurement);
   const r = recipeSchema.safeParse(recipe);
   const issues: InputIssue[] = [];
   if (!m.success) issues.push(...zodIssues('measurement', m.error));
