@@ -12,13 +12,15 @@ afterAll(async () => {
 
 // The role rules come from issue 2: admin can do everything, the other roles see their own areas only,
 // and no role gets a link to a screen it would be refused.
-const ADMIN_AREAS = ['Overview', 'People', 'Outbox', 'Audit log', 'System'];
+const ADMIN_AREAS = ['Overview', 'People', 'Outbox', 'Audit log', 'System', 'Stations', 'Failed jobs'];
+// Areas every role (or the operator as well as the admin) opens, between Overview and the admin areas.
+const SHARED_AREAS = ['Station', 'Units'];
 
 describe('the signed-in shell', { timeout: 45_000 }, () => {
   it('shows an administrator every admin area, with name and role in the header', async () => {
     const { context, page, pageErrors } = await freshPage(browser);
     await signInWithPassword(page, DEMO.admin.username, DEMO.admin.password);
-    expect(await navLabels(page)).toEqual(ADMIN_AREAS);
+    expect(await navLabels(page)).toEqual([ADMIN_AREAS[0], ...SHARED_AREAS, ...ADMIN_AREAS.slice(1)]);
     expect(await page.getByTestId('signed-in-as').textContent()).toContain(DEMO.admin.name);
     expect(pageErrors).toEqual([]);
     await context.close();
@@ -30,6 +32,9 @@ describe('the signed-in shell', { timeout: 45_000 }, () => {
       await signInWithPassword(page, DEMO[role].username, DEMO[role].password);
       const labels = await navLabels(page);
       expect(labels).toContain('Overview');
+      expect(labels).toContain('Units');
+      if (role === 'operator') expect(labels).toContain('Station');
+      else expect(labels).not.toContain('Station');
       for (const adminArea of ADMIN_AREAS.slice(1)) expect(labels).not.toContain(adminArea);
       expect(await page.getByTestId('home-role').textContent()).toBe(DEMO[role].name);
       expect(pageErrors).toEqual([]);

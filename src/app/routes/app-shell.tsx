@@ -94,7 +94,7 @@ export function Component() {
       >
         <Outlet />
       </main>
-      <footer className="border-t border-graphite-800 px-6 py-4 text-sm text-graphite-500">
+      <footer className="border-t border-graphite-800 px-6 py-4 text-sm text-graphite-400">
         <div className="mx-auto flex max-w-[1400px] flex-wrap justify-between gap-2">
           <span>Phasewright · end-of-line hall-offset calibration</span>
           <span>

@@ -3,9 +3,9 @@ import type { ReactNode } from 'react';
 export type Tone = 'ok' | 'warn' | 'fault' | 'neutral' | 'accent';
 
 const toneClass: Record<Tone, string> = {
-  ok: 'border-ok text-ok bg-ok-deep',
-  warn: 'border-warn text-warn bg-warn-deep',
-  fault: 'border-fault text-fault bg-fault-deep',
+  ok: 'border-ok text-ok-bright bg-ok-deep',
+  warn: 'border-warn text-warn-bright bg-warn-deep',
+  fault: 'border-fault text-fault-bright bg-fault-deep',
   neutral: 'border-graphite-500 text-graphite-200 bg-graphite-800',
   accent: 'border-copper-400 text-copper-200 bg-copper-800/40',
 };
