@@ -1,0 +1,271 @@
+// npm run bench:line: the station line end to end on loopback. Starts a private PostgreSQL ('bench'
+// instance, port PGPORT_BENCH, default 55437), a fresh database, the server and the worker as child
+// processes, seeds two models and 32 stations, then:
+//   1. raw PostgreSQL: single-row INSERT + COMMIT of a ~1 KB JSONB row on one connection (the yardstick);
+//   2. closed loop: 32 simulated stations, each one unit at a time, for a fixed count of posts;
+//      sustained calibrations per second and post → result latency;
+//   3. open loop: posts at a fixed 50 per second whatever the answers, post → result latency.
+// Targets (issue 4): p95 post → result ≤ 50 ms at 50 posts/s; throughput ≥ 0.3 × the raw commit rate.
+// Prints figures; exits non-zero only when a post or result failed. Stops everything it started.
+import { availableParallelism, loadavg } from 'node:os';
+import pg from 'pg';
+import { ensurePostgres } from '../../server/ops/pg-local.mjs';
+import { prefixedLog } from '../../server/ops/proc.mjs';
+import { TSX, freePort, startService, waitForHttp, type Service } from '../../server/ops/services.mjs';
+import { createDatabase } from '../../server/db/client';
+import { createStation, createStationKey } from '../../server/modules/stations/stations.service';
+import { createDemoCatalog } from '../../server/modules/demo/demo-line.seed';
+import { DEMO_MODELS, type DemoRig } from '../../server/modules/demo/demo-line.scenario';
+import { drawUnit, simulateRun, calibrationBlockChecksum } from '../../server/modules/demo/demo-physics';
+import {
+  percentile,
+  runStationSim,
+  StationHttp,
+  type StationSimReport,
+} from '../../server/modules/demo/station-client';
+import { createRng } from '../../shared/simulation/rng';
+import type { Measurement } from '../../shared/schemas/measurement';
+
+process.env.PGPORT_BENCH ??= '55437';
+const STATIONS = 32;
+const CLOSED_POSTS = Number(process.env.BENCH_LINE_POSTS ?? 2000);
+const OPEN_RATE = 50;
+const OPEN_SECONDS = Number(process.env.BENCH_LINE_OPEN_SECONDS ?? 20);
+const RAW_ROWS = 2000;
+const PHASE_LIMIT_MS = 180_000;
+const DB_NAME = 'phasewright_bench_line';
+const RIG: DemoRig = { directions: 'both', detectorDelayUs: 3, detectorDriftUs: 0, jitterUs: 0.6 };
+
+const log = prefixedLog('bench:line');
+const services: Service[] = [];
+const started: { pg: Awaited<ReturnType<typeof ensurePostgres>> | null } = { pg: null };
+
+const ms = (v: number) => `${v.toFixed(1)} ms`;
+
+/** ~1 KB of JSON like a small record: nested object, numbers and text. */
+function rawRow(i: number) {
+  return {
+    serial: `RAW-${i}`,
+    edges: Array.from({ length: 12 }, (_, k) => ({
+      sensor: 'ABC'[k % 3],
+      edge: k % 2 ? 'fall' : 'rise',
+      us: i * 10 + k * 83.25,
+    })),
+    note: 'x'.repeat(500),
+  };
+}
+
+async function rawInsertRate(url: string): Promise<number> {
+  const c = new pg.Client({ connectionString: url });
+  await c.connect();
+  try {
+    await c.query('create table if not exists bench_raw (id bigserial primary key, body jsonb not null)');
+    const size = JSON.stringify(rawRow(1)).length;
+    if (size < 900 || size > 1300) throw new Error(`raw row is ${size} bytes, not ~1 KB`);
+    for (let i = 0; i < 100; i++) await c.query('insert into bench_raw (body) values ($1)', [rawRow(i)]);
+    const t0 = performance.now();
+    for (let i = 0; i < RAW_ROWS; i++) await c.query('insert into bench_raw (body) values ($1)', [rawRow(i)]);
+    return RAW_ROWS / ((performance.now() - t0) / 1000);
+  } finally {
+    await c.end();
+  }
+}
+
+interface BenchStation {
+  http: StationHttp;
+  modelIndex: number;
+}
+
+async function closedLoop(stations: BenchStation[], posts: number, tag: string) {
+  const budget = { left: posts };
+  const timer = setTimeout(() => (budget.left = 0), PHASE_LIMIT_MS);
+  const errors: string[] = [];
+  const t0 = performance.now();
+  const reports: StationSimReport[] = await Promise.all(
+    stations.map((s, i) =>
+      runStationSim({
+        http: s.http,
+        model: DEMO_MODELS[s.modelIndex],
+        rig: RIG,
+        units: posts,
+        ratePerSecond: 0,
+        concurrency: 1,
+        seed: 1000 + i,
+        serialPrefix: `${tag}-${String(i + 1).padStart(2, '0')}`,
+        budget,
+        onError: (m) => errors.push(m),
+      }),
+    ),
+  );
+  clearTimeout(timer);
+  const seconds = (performance.now() - t0) / 1000;
+  const latencies = reports.flatMap((r) => r.latenciesMs);
+  return {
+    seconds,
+    posted: reports.reduce((s, r) => s + r.posted, 0),
+    results: latencies.length,
+    errors: reports.reduce((s, r) => s + r.errors, 0),
+    errorSamples: errors.slice(0, 5),
+    latencies,
+  };
+}
+
+async function openLoop(stations: BenchStation[]) {
+  const count = OPEN_RATE * OPEN_SECONDS;
+  const rng = createRng(77);
+  const planned: { station: BenchStation; m: Measurement }[] = [];
+  for (let i = 0; i < count; i++) {
+    const station = stations[i % stations.length];
+    const model = DEMO_MODELS[station.modelIndex];
+    const unit = drawUnit(model, rng, { badRate: 0 });
+    planned.push({
+      station,
+      m: simulateRun(model, unit, { rig: RIG, attempt: 1 }, rng, {
+        measurementId: crypto.randomUUID(),
+        serial: `OPEN-${String(i + 1).padStart(5, '0')}`,
+      }),
+    });
+  }
+  const latencies: number[] = [];
+  const errors: string[] = [];
+  const t0 = performance.now();
+  const inFlight: Promise<void>[] = [];
+  for (let i = 0; i < planned.length; i++) {
+    const due = t0 + (i * 1000) / OPEN_RATE;
+    const wait = due - performance.now();
+    if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+    const { station, m } = planned[i];
+    inFlight.push(
+      (async () => {
+        try {
+          const start = performance.now();
+          const accepted = await station.http.post(m);
+          const cal = await station.http.result(accepted.resultUrl);
+          if (!cal) throw new Error(`${m.serial}: no result within 30 s`);
+          latencies.push(performance.now() - start);
+          if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
+            await station.http.confirm(m.measurementId, {
+              writtenCounts: cal.offsetCounts,
+              readBackCounts: cal.offsetCounts,
+              checksum: calibrationBlockChecksum(m.serial, cal.offsetCounts),
+            });
+          }
+        } catch (e) {
+          errors.push((e as Error).message);
+        }
+      })(),
+    );
+  }
+  const offeredSeconds = (performance.now() - t0) / 1000;
+  await Promise.all(inFlight);
+  return { posted: planned.length, offeredRate: planned.length / offeredSeconds, latencies, errors };
+}
+
+async function main(): Promise<number> {
+  log(`${availableParallelism()} cores, load average ${loadavg()[0].toFixed(2)} at start`);
+  const pgHandle = await ensurePostgres({ instance: 'bench', log: prefixedLog('postgres') });
+  started.pg = pgHandle;
+  const admin = new pg.Client({ connectionString: pgHandle.adminUrl });
+  await admin.connect();
+  await admin.query(`drop database if exists "${DB_NAME}" with (force)`);
+  await admin.query(`create database "${DB_NAME}"`);
+  await admin.end();
+  const url = new URL(pgHandle.adminUrl);
+  url.pathname = `/${DB_NAME}`;
+  const databaseUrl = url.toString();
+
+  const port = await freePort();
+  const env = {
+    ...process.env,
+    NODE_ENV: 'test' as const,
+    DATABASE_URL: databaseUrl,
+    PORT: String(port),
+    SEED_DEMO: 'false',
+    LOG_LEVEL: 'warn',
+    CLIENT_DIST: '/nonexistent',
+    SMTP_URL: `smtp://127.0.0.1:${await freePort()}`,
+    MAILBOX_URL: '',
+  };
+  const server = startService('server', TSX, ['server/main.ts'], { env, quiet: true });
+  services.push(server);
+  await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
+  services.push(startService('worker', TSX, ['jobs/worker.ts'], { env, quiet: true }));
+
+  const database = createDatabase(databaseUrl, { max: 4, applicationName: 'phasewright-bench' });
+  const stations: BenchStation[] = [];
+  try {
+    const catalog = await createDemoCatalog(database.db, null, new Date());
+    for (let i = 0; i < STATIONS; i++) {
+      const modelIndex = i % DEMO_MODELS.length;
+      const station = await createStation(database.db, null, {
+        name: `BENCH-${String(i + 1).padStart(2, '0')}`,
+        line: 'Bench line',
+        allowedModelIds: [catalog.get(DEMO_MODELS[modelIndex].code)!.modelId],
+      });
+      const key = await createStationKey(database.db, null, station.id, 'bench');
+      stations.push({ http: new StationHttp(`http://127.0.0.1:${port}`, key.key), modelIndex });
+    }
+  } finally {
+    await database.close();
+  }
+  // The worker announces itself by creating its queues' policies; give it a moment to start polling.
+  await new Promise((r) => setTimeout(r, 3000));
+
+  const rawRate = await rawInsertRate(databaseUrl);
+  log(`raw PostgreSQL single-row INSERT+COMMIT (~1 KB JSONB, 1 connection): ${rawRate.toFixed(0)} rows/s`);
+
+  const warm = await closedLoop(stations, 2 * STATIONS, 'WARM');
+  log(`warm-up: ${warm.results} results, ${warm.errors} errors`);
+
+  const closed = await closedLoop(stations, CLOSED_POSTS, 'LOAD');
+  const throughput = closed.results / closed.seconds;
+  log(
+    `closed loop, ${STATIONS} stations one unit at a time: ${closed.posted} posts, ${closed.results} results in ${closed.seconds.toFixed(1)} s → ${throughput.toFixed(0)} calibrations/s; ` +
+      `post → result p50 ${ms(percentile(closed.latencies, 50))}, p95 ${ms(percentile(closed.latencies, 95))}, p99 ${ms(percentile(closed.latencies, 99))}; ${closed.errors} errors`,
+  );
+
+  const open = await openLoop(stations);
+  log(
+    `open loop at ${OPEN_RATE} posts/s (offered ${open.offeredRate.toFixed(1)}/s, ${open.posted} posts): post → result ` +
+      `p50 ${ms(percentile(open.latencies, 50))}, p95 ${ms(percentile(open.latencies, 95))}, p99 ${ms(percentile(open.latencies, 99))}, ` +
+      `max ${ms(Math.max(0, ...open.latencies))}; ${open.errors.length} errors (target p95 ≤ 50 ms)`,
+  );
+
+  const ratio = throughput / rawRate;
+  log(
+    `throughput / raw commit rate = ${throughput.toFixed(0)} / ${rawRate.toFixed(0)} = ${ratio.toFixed(2)} (target ≥ 0.3); load average ${loadavg()[0].toFixed(2)} at the end`,
+  );
+  process.stdout.write(
+    `${JSON.stringify({
+      rawInsertsPerSecond: Math.round(rawRate),
+      calibrationsPerSecond: Math.round(throughput * 10) / 10,
+      ratio: Math.round(ratio * 1000) / 1000,
+      closedLatencyMs: {
+        p50: percentile(closed.latencies, 50),
+        p95: percentile(closed.latencies, 95),
+        p99: percentile(closed.latencies, 99),
+      },
+      openLoop: {
+        ratePerSecond: OPEN_RATE,
+        p50: percentile(open.latencies, 50),
+        p95: percentile(open.latencies, 95),
+        p99: percentile(open.latencies, 99),
+      },
+      errors: warm.errors + closed.errors + open.errors.length,
+    })}\n`,
+  );
+  for (const e of [...warm.errorSamples, ...closed.errorSamples, ...open.errors.slice(0, 5)])
+    log(`error: ${e}`);
+  return warm.errors + closed.errors + open.errors.length > 0 ? 1 : 0;
+}
+
+let code = 1;
+try {
+  code = await main();
+} catch (e) {
+  log(`failed: ${e instanceof Error ? e.message : String(e)}`);
+} finally {
+  for (const s of services.reverse()) await s.stop();
+  if (started.pg?.startedByUs) await started.pg.stop();
+}
+process.exit(code);
