@@ -30,19 +30,39 @@ export interface AngleFitOptions {
 // over many edges still reaches the jitter bound.
 export const DEFAULT_ANGLE_FIT: AngleFitOptions = { degree: 3, windowTurns: 4 };
 
+/** Crossing angle by channel and edge without nested property lookups (hot path). */
+export function crossingAngleDeg(c: BemfCrossing): number {
+  const rise = c.edge === 'rise';
+  switch (c.channel) {
+    case 'A':
+      return rise ? 180 : 0;
+    case 'B':
+      return rise ? 300 : 120;
+    case 'C':
+      return rise ? 60 : 240;
+    case 'AB':
+      return rise ? 150 : 330;
+    case 'BC':
+      return rise ? 270 : 90;
+    default:
+      return rise ? 30 : 210;
+  }
+}
+
 /** Direction implied by the crossing order: +1 forward, −1 reverse, 0 when it cannot tell (e.g. one channel). */
 export function crossingDirection(crossings: readonly BemfCrossing[]): -1 | 0 | 1 {
   let fwd = 0;
   let rev = 0;
-  let prev = crossings.length > 0 ? CROSSING_ANGLE_DEG[crossings[0].channel][crossings[0].edge] : 0;
+  let prev = crossings.length > 0 ? crossingAngleDeg(crossings[0]) : 0;
   for (let k = 1; k < crossings.length; k++) {
-    const a = CROSSING_ANGLE_DEG[crossings[k].channel][crossings[k].edge];
-    const d = a - prev;
+    const a = crossingAngleDeg(crossings[k]);
+    let f = a - prev;
     prev = a;
-    const f = ((d % 360) + 360) % 360;
-    const r = ((-d % 360) + 360) % 360;
+    // Table angles lie in [0, 360): one correction brings the difference into range.
+    if (f < 0) f += 360;
+    const r = f === 0 ? 360 : 360 - f;
     fwd += f === 0 ? 360 : f;
-    rev += r === 0 ? 360 : r;
+    rev += r;
   }
   if (fwd < 0.9 * rev) return 1;
   if (rev < 0.9 * fwd) return -1;
@@ -71,7 +91,7 @@ export function unwrapCrossings(
   const tUs = new Float64Array(n);
   const thetaDeg = new Float64Array(n);
   const base = new Float64Array(n);
-  for (let k = 0; k < n; k++) base[k] = CROSSING_ANGLE_DEG[crossings[k].channel][crossings[k].edge];
+  for (let k = 0; k < n; k++) base[k] = crossingAngleDeg(crossings[k]);
   // A robust speed to start from: median of the smallest-advance rates (deg/µs) over the first steps.
   const rates: number[] = [];
   for (let k = 1; k < n && rates.length < 24; k++) {
@@ -220,7 +240,18 @@ export function fitAngle(track: UnwrappedTrack, options: AngleFitOptions = DEFAU
     for (let e = 1; e < 4; e++) coef[k * 4 + e] = e < q ? b[e] : 0;
   }
   // Anchor lookup: the anchor whose centre is nearest to the time asked for.
+  // Queries usually come in time order: try the previous answer's neighbourhood before bisecting.
+  let hint = 0;
   const nearest = (tu: number): number => {
+    const k = hint;
+    if (centre[k] <= tu && (k + 1 >= na || centre[k + 1] > tu)) {
+      hint = k + 1 < na && centre[k + 1] - tu < tu - centre[k] ? k + 1 : k;
+      return hint;
+    }
+    if (k + 1 < na && centre[k + 1] <= tu && (k + 2 >= na || centre[k + 2] > tu)) {
+      hint = k + 2 < na && centre[k + 2] - tu < tu - centre[k + 1] ? k + 2 : k + 1;
+      return hint;
+    }
     let l = 0;
     let h = na - 1;
     while (h - l > 1) {
@@ -228,7 +259,8 @@ export function fitAngle(track: UnwrappedTrack, options: AngleFitOptions = DEFAU
       if (centre[mid] <= tu) l = mid;
       else h = mid;
     }
-    return Math.abs(centre[h] - tu) < Math.abs(tu - centre[l]) ? h : l;
+    hint = Math.abs(centre[h] - tu) < Math.abs(tu - centre[l]) ? h : l;
+    return hint;
   };
   const meanGap = n > 1 ? (t[n - 1] - t[0]) / (n - 1) : 0;
   const startUs = t[0] - meanGap / 2;

@@ -62,24 +62,23 @@ export function recipeIssues(recipe: Recipe): InputIssue[] {
   return issues;
 }
 
-const SENSOR_SET = new Set(['A', 'B', 'C']);
-const CHANNEL_SET = new Set(['A', 'B', 'C', 'AB', 'BC', 'CA']);
-const EDGE_SET = new Set(['rise', 'fall']);
-const DIRECTION_SET = new Set(['forward', 'reverse']);
+const isSensor = (v: unknown) => v === 'A' || v === 'B' || v === 'C';
+const isChannel = (v: unknown) => isSensor(v) || v === 'AB' || v === 'BC' || v === 'CA';
+const isEdge = (v: unknown) => v === 'rise' || v === 'fall';
 
 const isObject = (v: unknown): v is Record<string, unknown> =>
   typeof v === 'object' && v !== null && !Array.isArray(v);
 const shortString = (v: unknown, min: number) => typeof v === 'string' && v.length >= min && v.length <= 200;
 
-function timedList(list: unknown, min: number, kind: Set<string>, key: 'sensor' | 'channel'): boolean {
+function timedList(list: unknown, min: number, key: 'sensor' | 'channel'): boolean {
+  const kind = key === 'sensor' ? isSensor : isChannel;
   if (!Array.isArray(list) || list.length < min) return false;
   let prev = -Infinity;
   for (const item of list) {
     if (!isObject(item)) return false;
     const us = item.us;
     if (typeof us !== 'number' || !Number.isFinite(us) || us < prev) return false;
-    if (typeof item[key] !== 'string' || !kind.has(item[key] as string)) return false;
-    if (typeof item.edge !== 'string' || !EDGE_SET.has(item.edge)) return false;
+    if (!kind(item[key]) || !isEdge(item.edge)) return false;
     prev = us;
   }
   return true;
@@ -99,10 +98,10 @@ export function isWellFormedMeasurement(value: unknown): value is Measurement {
   if (!Array.isArray(segments) || segments.length < 1) return false;
   for (const seg of segments) {
     if (!isObject(seg)) return false;
-    if (typeof seg.direction !== 'string' || !DIRECTION_SET.has(seg.direction)) return false;
+    if (seg.direction !== 'forward' && seg.direction !== 'reverse') return false;
     if (seg.label !== undefined && !shortString(seg.label, 0)) return false;
-    if (!timedList(seg.hallEdges, 1, SENSOR_SET, 'sensor')) return false;
-    if (!timedList(seg.bemfCrossings, 4, CHANNEL_SET, 'channel')) return false;
+    if (!timedList(seg.hallEdges, 1, 'sensor')) return false;
+    if (!timedList(seg.bemfCrossings, 4, 'channel')) return false;
   }
   return true;
 }

@@ -256,13 +256,14 @@ function csvThroughput() {
       parseTimes.push(performance.now() - t0);
       sampleMemory();
     }
-    const t1 = performance.now();
-    Papa.parse(text, { header: true, dynamicTyping: true, skipEmptyLines: true });
-    const papaMs = performance.now() - t1;
-    sampleMemory();
     const t2 = performance.now();
     const { result } = calibrateCapture(text, recipeFor(pp));
     const fullMs = performance.now() - t2;
+    sampleMemory();
+    const enginePeakMb = peakRss / 1e6;
+    const t1 = performance.now();
+    Papa.parse(text, { header: true, dynamicTyping: true, skipEmptyLines: true });
+    const papaMs = performance.now() - t1;
     sampleMemory();
     return {
       rows,
@@ -270,6 +271,7 @@ function csvThroughput() {
       parseMs: Math.min(...parseTimes),
       papaMs,
       fullMs,
+      enginePeakMb,
       offsetErr: wrapDeg180(result.offsetDeg! - cap.truth.segments[0].offsetDeg),
     };
   } finally {
