@@ -177,6 +177,23 @@ function processSegment(
     if (hz < rMin) rMin = hz;
     if (hz > rMax) rMax = hz;
   }
+  const finite = [
+    electricalHz,
+    fit.residualRmsDeg ** 2 * n,
+    durationUs,
+    turns,
+    rMin,
+    rMax,
+    ...typeMeans.map((m) => m ?? 0),
+  ];
+  if (!(electricalHz > 0) || !finite.every(Number.isFinite)) {
+    throw new CalibrationInputError([
+      {
+        path: `measurement.segments[${index}].bemfCrossings`,
+        message: 'the crossings do not give a usable rotor speed (are the times in microseconds?)',
+      },
+    ]);
+  }
   const result: SegmentResult = {
     index,
     direction: segment.direction,

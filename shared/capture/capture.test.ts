@@ -1,4 +1,5 @@
 import FFT from 'fft.js';
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import type { Recipe } from '../schemas/recipe';
 import { calibrationResultSchema } from '../schemas/calibration-result';
@@ -134,5 +135,38 @@ describe('sampled captures end to end', () => {
     expect(() =>
       calibrateCapture('time_s,va,vb,vc,ha,hb,hc\n0,1,2,3,0,0,1\n0,1,2,3,0,0,1\n', recipe),
     ).toThrow(/must increase/);
+  });
+});
+
+describe('captures of anything numeric', () => {
+  it('give a schema-valid result or a typed input error, never anything else', () => {
+    fc.assert(
+      fc.property(
+        fc.array(fc.array(fc.double({ min: -10, max: 10, noNaN: true }), { minLength: 6, maxLength: 6 }), {
+          minLength: 0,
+          maxLength: 400,
+        }),
+        fc.boolean(),
+        (rows, line) => {
+          const header = line ? 'time_s,vab,vbc,vca,ha,hb,hc' : 'time_s,va,vb,vc,ha,hb,hc';
+          const csv = [
+            header,
+            ...rows.map((r, i) =>
+              [(i * 1e-5).toFixed(6), ...r.slice(0, 3), ...r.slice(3).map((h) => (h > 0 ? 1 : 0))].join(','),
+            ),
+          ].join('\n');
+          let result: unknown;
+          try {
+            result = calibrateCapture(csv, recipe).result;
+          } catch (e) {
+            expect(e).toBeInstanceOf(CalibrationInputError);
+            return;
+          }
+          const parsed = calibrationResultSchema.safeParse(result);
+          expect(parsed.success, JSON.stringify(parsed.error?.issues.slice(0, 3))).toBe(true);
+        },
+      ),
+      { numRuns: 60, seed: 3 },
+    );
   });
 });
