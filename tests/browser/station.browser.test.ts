@@ -65,6 +65,10 @@ describe('the station screen', { timeout: 90_000 }, () => {
     await page.getByTestId('unit-card').waitFor();
     expect(await page.getByTestId('unit-serial').textContent()).toBe(serial);
     expect(await page.getByTestId('live-progress').getAttribute('data-phase')).toBe('waiting');
+    // After the dialog the scanner's keys land in the scan field again.
+    await page.keyboard.type('ZZ', { delay: 8 });
+    expect(await scanInput.inputValue()).toBe('ZZ');
+    await page.keyboard.press('Escape');
     expect(await page.getByRole('button', { name: /Print traveler/ }).isDisabled()).toBe(true);
 
     const loadsBefore = await page.evaluate(() => performance.getEntriesByType('navigation').length);

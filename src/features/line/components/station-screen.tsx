@@ -82,6 +82,16 @@ export function StationScreen({ station }: { station: StationView }) {
     attend(station.id);
   }, [attend, station.id]);
 
+  // After a modal dialog closes, Chrome reports the scan field as focused but inserts no typed text
+  // until the field is focused afresh; so give it the focus again once the dialog is gone.
+  const refocusScan = () =>
+    window.setTimeout(() => {
+      const input = scanRef.current;
+      if (!input || dialogOpen()) return;
+      input.blur();
+      input.focus({ preventScroll: true });
+    }, 50);
+
   const show = useCallback(
     (next: string) => {
       setSerial(next);
@@ -393,10 +403,14 @@ export function StationScreen({ station }: { station: StationView }) {
       <RegisterUnitDialog
         serial={registering}
         models={allowedModels}
-        onClose={() => setRegistering(null)}
+        onClose={() => {
+          setRegistering(null);
+          refocusScan();
+        }}
         onRegistered={(s) => {
           setRegistering(null);
           show(s);
+          refocusScan();
         }}
       />
     </div>
