@@ -73,6 +73,17 @@ function readText(path: string, what: string): string {
   }
 }
 
+function readBytes(path: string, what: string): Uint8Array {
+  try {
+    return readFileSync(path);
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new UsageError(
+      `cannot read the ${what} ${path}${code === 'ENOENT' ? ': no such file' : `: ${code ?? String(e)}`}`,
+    );
+  }
+}
+
 function readJson(path: string, what: string): unknown {
   const text = readText(path, what);
   try {
@@ -157,7 +168,8 @@ function main(argv: string[]): number {
     const recipe = readJson(args.recipe, 'recipe');
     let result: CalibrationResult;
     if (extname(args.input).toLowerCase() === '.csv') {
-      const text = readText(args.input, 'capture');
+      // Bytes, not text: the capture reader works on UTF-8 bytes directly.
+      const text = readBytes(args.input, 'capture');
       result = calibrateCapture(text, recipe as never, {
         direction: args.direction,
         serial: args.serial,

@@ -338,7 +338,7 @@ export interface CaptureCalibration {
  * figures (and the Ke check when the recipe sets a Ke window). Throws CalibrationInputError for unusable input.
  */
 export function calibrateCapture(
-  csvText: string,
+  csvText: string | Uint8Array,
   recipe: Recipe,
   options: CaptureOptions = {},
   engineOptions: EngineOptions = {},

@@ -32,6 +32,10 @@ describe('numeric CSV reader (cross-checked against papaparse, a general-purpose
       }
     });
     expect(mismatches).toEqual([]);
+    // The UTF-8 bytes of the same file read identically.
+    const fromBytes = parseNumericCsv(new TextEncoder().encode(`\ufeff${text}`));
+    expect(fromBytes.columns).toEqual(ours.columns);
+    fromBytes.data.forEach((col, c) => expect(col).toEqual(ours.data[c]));
   });
 
   it('reads files without a header, with semicolons or a trailing newline', () => {
