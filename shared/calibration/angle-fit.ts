@@ -211,7 +211,7 @@ export function fitAngle(track: UnwrappedTrack, options: AngleFitOptions = DEFAU
   const coef = new Float64Array(na * 4);
   const a = new Float64Array(q * q);
   const b = new Float64Array(q);
-  const mom = new Float64Array(2 * q - 1);
+  const mom = new Float64Array(7);
   for (let k = 0; k < na; k++) {
     const c = options.globalLine ? n >> 1 : anchors[k];
     let start = c - (window >> 1);
@@ -222,18 +222,47 @@ export function fitAngle(track: UnwrappedTrack, options: AngleFitOptions = DEFAU
     centre[k] = tc;
     scale[k] = s;
     const yc = y[c];
-    mom.fill(0);
-    b.fill(0);
+    // Power sums up to x⁶ and x³·v, unrolled (degree ≤ 3); lower degrees use a prefix of them.
+    let m0 = 0,
+      m1 = 0,
+      m2 = 0,
+      m3 = 0,
+      m4 = 0,
+      m5 = 0,
+      m6 = 0;
+    let b0 = 0,
+      b1 = 0,
+      b2 = 0,
+      b3 = 0;
+    const inv = 1 / s;
     for (let i = start; i < start + window; i++) {
-      const x = (t[i] - tc) / s;
+      const x = (t[i] - tc) * inv;
       const v = y[i] - yc;
-      let xp = 1;
-      for (let e = 0; e < 2 * q - 1; e++) {
-        mom[e] += xp;
-        if (e < q) b[e] += xp * v;
-        xp *= x;
-      }
+      const x2 = x * x;
+      const x3 = x2 * x;
+      m0 += 1;
+      m1 += x;
+      m2 += x2;
+      m3 += x3;
+      m4 += x2 * x2;
+      m5 += x2 * x3;
+      m6 += x3 * x3;
+      b0 += v;
+      b1 += x * v;
+      b2 += x2 * v;
+      b3 += x3 * v;
     }
+    mom[0] = m0;
+    mom[1] = m1;
+    mom[2] = m2;
+    mom[3] = m3;
+    mom[4] = m4;
+    mom[5] = m5;
+    mom[6] = m6;
+    b[0] = b0;
+    if (q > 1) b[1] = b1;
+    if (q > 2) b[2] = b2;
+    if (q > 3) b[3] = b3;
     for (let r = 0; r < q; r++) for (let cc = 0; cc < q; cc++) a[r * q + cc] = mom[r + cc];
     if (!solveSmall(a, b, q)) b.fill(0);
     coef[k * 4] = b[0] + yc;

@@ -109,19 +109,25 @@ function processSegment(
   const ppS = new Float64Array(pp * 6);
   const ppN = new Int32Array(pp * 6);
   const nominal = EDGE_TYPES.map((et) => nominalEdgeDeg(recipe.hallRiseDeg, et.sensor, et.edge, direction));
-  const sensorEdges: Record<HallSensor, number> = { A: 0, B: 0, C: 0 };
-  const lastRise: Record<HallSensor, number> = { A: NaN, B: NaN, C: NaN };
-  const highTurns: Record<HallSensor, number[]> = { A: [], B: [], C: [] };
+  // Per sensor (A, B, C = 0, 1, 2): edges seen, angle of the last rise, and the high spans for the duty.
+  const edgeCount = new Int32Array(3);
+  const lastRise = new Float64Array(3).fill(NaN);
+  const highSum = new Float64Array(3);
+  const highN = new Int32Array(3);
   let outside = 0;
-  for (const e of debounced.edges) {
-    sensorEdges[e.sensor]++;
+  const edgesIn = debounced.edges;
+  for (let i = 0; i < edgesIn.length; i++) {
+    const e = edgesIn[i];
+    const si = e.sensor === 'A' ? 0 : e.sensor === 'B' ? 1 : 2;
+    const rise = e.edge === 'rise';
+    edgeCount[si]++;
     const theta = fit.thetaAt(e.us);
     if (Number.isNaN(theta)) {
       outside++;
-      lastRise[e.sensor] = NaN;
+      lastRise[si] = NaN;
       continue;
     }
-    const k = typeIndex(e.sensor, e.edge);
+    const k = si * 2 + (rise ? 0 : 1);
     const off = (theta - nominal[k]) * RAD;
     const c = Math.cos(off);
     const sn = Math.sin(off);
@@ -133,13 +139,16 @@ function processSegment(
     ppC[g] += c;
     ppS[g] += sn;
     ppN[g]++;
-    if (e.edge === 'rise') lastRise[e.sensor] = theta;
+    if (rise) lastRise[si] = theta;
     else {
-      if (!Number.isNaN(lastRise[e.sensor]))
-        highTurns[e.sensor].push((sign * (theta - lastRise[e.sensor])) / 360);
-      lastRise[e.sensor] = NaN;
+      if (!Number.isNaN(lastRise[si])) {
+        highSum[si] += (sign * (theta - lastRise[si])) / 360;
+        highN[si]++;
+      }
+      lastRise[si] = NaN;
     }
   }
+  const sensorEdges: Record<HallSensor, number> = { A: edgeCount[0], B: edgeCount[1], C: edgeCount[2] };
   const meanOf = (c: number, sn: number, n: number) =>
     n > 0 && Math.hypot(c, sn) > 1e-12 * n ? wrapDeg180(Math.atan2(sn, c) / RAD) : null;
   const typeMeans = EDGE_TYPES.map((_, k) => meanOf(sumC[k], sumS[k], count[k]));
@@ -158,10 +167,7 @@ function processSegment(
     return means.length > 0 ? circularMeanDeg(means) : null;
   });
   const dutyPct = {} as Record<HallSensor, number | null>;
-  for (const s of SENSORS) {
-    const h = highTurns[s];
-    dutyPct[s] = h.length > 0 ? (100 * h.reduce((a, b) => a + b, 0)) / h.length : null;
-  }
+  SENSORS.forEach((s, si) => (dutyPct[s] = highN[si] > 0 ? (100 * highSum[si]) / highN[si] : null));
 
   const t = track.tUs;
   const th = track.thetaDeg;
