@@ -12,7 +12,13 @@ import type { WorkerDeps } from './worker-deps';
  * retries it with the registry's policy. Producers NOTIFY on JOBS_WAKE_CHANNEL at commit, and the
  * worker wakes the matching fetch loops at once instead of waiting for the next poll.
  */
-export async function startWorker(opts: { databaseUrl: string; logLevel?: string; logger?: Logger }) {
+export async function startWorker(opts: {
+  databaseUrl: string;
+  logLevel?: string;
+  logger?: Logger;
+  /** Queue names to serve (default: every queue in the registry). */
+  queues?: string[];
+}) {
   const logger = opts.logger ?? createLogger(opts.logLevel ?? 'info', 'phasewright-worker');
   const database = createDatabase(opts.databaseUrl, { max: 10, applicationName: 'phasewright-worker' });
   const queue: JobQueue = await startJobQueue(opts.databaseUrl, database.pool, {
@@ -22,7 +28,8 @@ export async function startWorker(opts: { databaseUrl: string; logLevel?: string
   const deps: WorkerDeps = { db: database.db, pool: database.pool, logger, clock: () => new Date(), queue };
   const loops = new Map<string, string[]>();
 
-  for (const job of jobRegistry) {
+  const served = jobRegistry.filter((j) => !opts.queues || opts.queues.includes(queues[j.queue].name));
+  for (const job of served) {
     const def = queues[job.queue];
     const ids: string[] = [];
     for (let i = 0; i < job.concurrency; i++) {
@@ -77,7 +84,7 @@ export async function startWorker(opts: { databaseUrl: string; logLevel?: string
   };
   await listen();
 
-  logger.info({ jobs: jobRegistry.map((j) => j.queue) }, 'worker started');
+  logger.info({ jobs: served.map((j) => queues[j.queue].name) }, 'worker started');
   return {
     deps,
     async stop() {
@@ -95,7 +102,17 @@ if (import.meta.url === `file://${process.argv[1]}`) {
     console.error('DATABASE_URL is not set.');
     process.exit(2);
   }
-  const worker = await startWorker({ databaseUrl: url, logLevel: process.env.LOG_LEVEL });
+  // WORKER_QUEUES=a,b serves only those queues, so CPU-heavy renders can run in a process of their own.
+  const only = process.env.WORKER_QUEUES?.split(',')
+    .map((q) => q.trim())
+    .filter(Boolean);
+  const known = Object.values(queues).map((q) => q.name as string);
+  const unknown = only?.filter((q) => !known.includes(q)) ?? [];
+  if (unknown.length) {
+    console.error(`WORKER_QUEUES names unknown queues: ${unknown.join(', ')} (known: ${known.join(', ')})`);
+    process.exit(2);
+  }
+  const worker = await startWorker({ databaseUrl: url, logLevel: process.env.LOG_LEVEL, queues: only });
   const stop = () => void worker.stop().then(() => process.exit(0));
   process.on('SIGINT', stop);
   process.on('SIGTERM', stop);

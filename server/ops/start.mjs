@@ -111,11 +111,19 @@ try {
   services.push(server);
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
 
-  const worker = startService('worker', TSX, dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'], {
-    env,
-    onExit: onUnexpectedExit('worker'),
-  });
-  services.push(worker);
+  // Two worker processes: calibrations and housekeeping in one, the CPU-heavy traveler renders in the
+  // other, so a burst of renders never delays a result an operator is waiting for.
+  const workerArgs = dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'];
+  services.push(
+    startService('worker', TSX, workerArgs, {
+      env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
+      onExit: onUnexpectedExit('worker'),
+    }),
+    startService('renderer', TSX, workerArgs, {
+      env: { ...env, WORKER_QUEUES: 'traveler-render' },
+      onExit: onUnexpectedExit('renderer'),
+    }),
+  );
 
   if (dev) {
     const vite = startService(

@@ -189,7 +189,16 @@ async function main(): Promise<number> {
   const server = startService('server', TSX, ['server/main.ts'], { env, quiet: true });
   services.push(server);
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
-  services.push(startService('worker', TSX, ['jobs/worker.ts'], { env, quiet: true }));
+  services.push(
+    startService('worker', TSX, ['jobs/worker.ts'], {
+      env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
+      quiet: true,
+    }),
+    startService('renderer', TSX, ['jobs/worker.ts'], {
+      env: { ...env, WORKER_QUEUES: 'traveler-render' },
+      quiet: true,
+    }),
+  );
 
   const database = createDatabase(databaseUrl, { max: 4, applicationName: 'phasewright-bench' });
   const stations: BenchStation[] = [];

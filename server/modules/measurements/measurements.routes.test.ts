@@ -306,6 +306,11 @@ describe('results', () => {
     );
     expect(rows[0]).toMatchObject({ status: 'on_hold', attempts: recipe.maxAttempts });
     expect(rows[0].hold_reason).toMatch(/3 calibration attempts/);
+    const view = await request(t.app)
+      .get('/api/units/SN-HOLD')
+      .set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
+    expect(view.body.calibrations[0].nextAction).toMatch(/No attempts left \(3 of 3\).*on hold/);
+    expect(view.body.calibrations[1].nextAction).toMatch(/attempt 3 of 3/);
     const refused = await post(
       line.key,
       simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 2, seed: 999 }),

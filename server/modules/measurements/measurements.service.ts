@@ -26,7 +26,6 @@ import { models, recipes, type RecipeRecord } from '../catalog/catalog.table';
 import { notifyLineEvent } from '../events/event-hub';
 import { stations } from '../stations/stations.table';
 import { units, type UnitRecord } from '../units/units.table';
-import { canonicalJson } from './canonical-json';
 import { measurementErrors } from './measurements.errors';
 import {
   calibrations,
@@ -101,7 +100,9 @@ export async function acceptMeasurement(
   opts: { source?: 'timings' | 'capture'; raw?: string } = {},
 ): Promise<MeasurementAccepted> {
   const measurement: Measurement = measurementSchema.parse(body);
-  const canonical = canonicalJson(body);
+  // zod's output has the schema's key order whatever the station's JSON library did, so its text is a
+  // canonical form of the body (unknown keys, which the contract ignores, drop out).
+  const canonical = JSON.stringify(measurement);
   const digest = sha256(canonical);
 
   const existing = await findMeasurement(ctx.db, measurement.measurementId);
@@ -153,7 +154,7 @@ export async function acceptMeasurement(
         unitId: unit.id,
         serial: unit.serial,
         source: opts.source ?? 'timings',
-        payload: body,
+        payload: measurement,
         payloadRaw: opts.raw ?? canonical,
         payloadSha256: digest,
         operatorId: stationRow.attendedBy,
@@ -234,20 +235,25 @@ async function recipeForSerial(db: Db, stationId: string, serial: string) {
   return recipe.body;
 }
 
-/** Operator wording for what to do next with the unit after this calibration. */
+/**
+ * Operator wording for what to do next with the unit after this calibration. A fail that used the
+ * recipe's last attempt is the retest policy's hold; `unitHoldReason` is any hold the unit is under now.
+ */
 export function nextActionFor(
   verdict: 'pass' | 'fail' | 'unusable',
-  unitStatus: UnitRecord['status'],
   attempt: number | null,
   maxAttempts: number,
+  unitHoldReason: string | null,
 ): string {
   if (verdict === 'unusable')
     return 'The station data could not be used (not a unit failure): run the measurement again.';
   if (verdict === 'pass')
     return 'Program the offset, let the station confirm it, print the traveler and send the unit on.';
-  if (unitStatus === 'on_hold') {
+  if ((attempt ?? 0) >= maxAttempts) {
     return `No attempts left (${attempt} of ${maxAttempts}): the unit is on hold. Tag it and put it in the hold area for quality.`;
   }
+  if (unitHoldReason)
+    return `The unit is on hold (${unitHoldReason}): tag it and put it in the hold area for quality.`;
   return `Retest: reseat the unit and check the coupling, then spin it again (attempt ${(attempt ?? 0) + 1} of ${maxAttempts}).`;
 }
 
@@ -483,7 +489,17 @@ export async function calibrationViews(
     .orderBy(desc(calibrations.computedAt))
     .limit(limit);
   const out: CalibrationView[] = [];
+  const newestOfUnit = new Map<string, string>();
   for (const r of rows) {
+    if (!newestOfUnit.has(r.unit.id)) {
+      const [newest] = await db
+        .select({ id: calibrations.id })
+        .from(calibrations)
+        .where(eq(calibrations.unitId, r.unit.id))
+        .orderBy(desc(calibrations.computedAt))
+        .limit(1);
+      newestOfUnit.set(r.unit.id, newest.id);
+    }
     const [conf] = await db
       .select()
       .from(programmingConfirmations)
@@ -509,9 +525,12 @@ export async function calibrationViews(
       computeMs: r.cal.computeMs,
       nextAction: nextActionFor(
         r.cal.verdict,
-        r.unit.currentCalibrationId === r.cal.id || r.unit.status !== 'on_hold' ? r.unit.status : 'failed',
         r.cal.attempt,
         r.recipe.body.maxAttempts,
+        // A hold the unit is under now matters for its newest calibration, not for its history.
+        r.unit.status === 'on_hold' && newestOfUnit.get(r.unit.id) === r.cal.id
+          ? (r.unit.holdReason ?? 'no reason given')
+          : null,
       ),
       result: isError ? null : (r.cal.result as CalibrationResult),
       error: isError ? (r.cal.result as { error: CalibrationView['error'] }).error : null,
