@@ -51,7 +51,7 @@ export function CalibrationResult({ calibration, model, fresh }: CalibrationResu
           data-testid="offset"
         >
           <dt className="col-span-2 text-sm font-semibold tracking-widest text-graphite-400 uppercase">
-            Offset to program
+            {calibration.verdict === 'pass' ? 'Offset to program' : 'Measured offset (do not program)'}
           </dt>
           <dd className="col-span-2 font-mono text-5xl font-bold text-graphite-50" data-testid="offset-deg">
             {formatOffsetDeg(calibration.offsetDeg)}
