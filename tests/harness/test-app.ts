@@ -67,3 +67,16 @@ export async function createTestApp(opts: { seed?: boolean } = {}): Promise<Test
     },
   };
 }
+
+/** Signs a demo account in and returns its session cookie ("pw_session=…") for supertest. */
+export async function sessionCookie(
+  app: TestApp['app'],
+  username: string,
+  password: string,
+): Promise<string> {
+  const { default: request } = await import('supertest');
+  const res = await request(app).post('/api/auth/sign-in').send({ username, password });
+  if (res.status !== 200)
+    throw new Error(`sign-in of ${username} failed: ${res.status} ${JSON.stringify(res.body)}`);
+  return (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
+}

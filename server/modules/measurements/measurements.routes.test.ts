@@ -1,6 +1,6 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import type { Recipe } from '../../../shared/schemas/recipe';
@@ -343,10 +343,7 @@ describe('records that must not change', () => {
   });
 });
 
-async function cookieOf(username: string, password: string) {
-  const res = await request(t.app).post('/api/auth/sign-in').send({ username, password });
-  return (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
-}
+const cookieOf = (username: string, password: string) => sessionCookie(t.app, username, password);
 
 describe('sampled captures', () => {
   it('turns an uploaded CSV capture into a measurement, keeps the CSV verbatim and recovers the offset', async () => {

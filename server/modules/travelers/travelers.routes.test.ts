@@ -1,7 +1,7 @@
 import request from 'supertest';
 import { PDFParse } from 'pdf-parse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import { computeCalibration } from '../measurements/measurements.service';
@@ -12,10 +12,7 @@ let line: Awaited<ReturnType<typeof createLineFixture>>;
 let other: Awaited<ReturnType<typeof createLineFixture>>;
 let operator = '';
 
-async function cookieOf(username: string, password: string) {
-  const res = await request(t.app).post('/api/auth/sign-in').send({ username, password });
-  return (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
-}
+const cookieOf = (username: string, password: string) => sessionCookie(t.app, username, password);
 
 /** Posts a measurement, computes it and renders print 1, as the station and the worker would. */
 async function calibratedUnit(serial: string, offsetDeg = 2.5) {

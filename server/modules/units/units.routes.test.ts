@@ -2,7 +2,7 @@ import http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 
@@ -11,10 +11,7 @@ let line: Awaited<ReturnType<typeof createLineFixture>>;
 let engineer = '';
 let quality = '';
 
-async function cookieOf(username: string, password: string) {
-  const res = await request(t.app).post('/api/auth/sign-in').send({ username, password });
-  return (res.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
-}
+const cookieOf = (username: string, password: string) => sessionCookie(t.app, username, password);
 
 beforeAll(async () => {
   t = await createTestApp();
