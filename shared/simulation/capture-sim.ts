@@ -55,7 +55,15 @@ function fixed(x: number, digits: number): string {
   return x < 0 && n !== 0 ? `-${text}` : text;
 }
 
-export function simulateCapture(spec: CaptureSimSpec, rng: Rng): SimulatedCapture {
+/**
+ * Simulates a sampled capture. With `sink`, the CSV text is handed over in chunks (header first) and the
+ * returned `csv` is empty, so very large files need not sit in memory twice.
+ */
+export function simulateCapture(
+  spec: CaptureSimSpec,
+  rng: Rng,
+  sink?: (chunk: string) => void,
+): SimulatedCapture {
   const theta0 = spec.startAngleDeg ?? rng.next() * 360;
   // Ground truth from the event simulator (same physics, noise-free events).
   const { truth } = simulateMeasurement(
@@ -90,7 +98,14 @@ export function simulateCapture(spec: CaptureSimSpec, rng: Rng): SimulatedCaptur
   const gain = (x: HallSensor) => spec.phaseGain?.[x] ?? 1;
   const ePhasePerKrpm = spec.keVPerKrpm / Math.sqrt(3);
   const header = spec.channels === 'phase' ? 'time_s,va,vb,vc,ha,hb,hc' : 'time_s,vab,vbc,vca,ha,hb,hc';
-  const lines: string[] = [header];
+  let lines: string[] = [header];
+  const chunks: string[] = [];
+  const flush = () => {
+    const chunk = lines.join('\n') + '\n';
+    if (sink) sink(chunk);
+    else chunks.push(chunk);
+    lines = [];
+  };
   const sensors: HallSensor[] = ['A', 'B', 'C'];
   const thetaAt = (t: number) => theta0 + sign * motion.travelled(Math.max(0, t));
   for (let i = 0; i < rows; i++) {
@@ -117,6 +132,8 @@ export function simulateCapture(spec: CaptureSimSpec, rng: Rng): SimulatedCaptur
     lines.push(
       `${fixed(t / 1e6, 9)},${fixed(v[0] + noise * rng.normal(), 5)},${fixed(v[1] + noise * rng.normal(), 5)},${fixed(v[2] + noise * rng.normal(), 5)},${hall[0]},${hall[1]},${hall[2]}`,
     );
+    if (lines.length >= 10_000) flush();
   }
-  return { csv: lines.join('\n') + '\n', rows, truth };
+  if (lines.length > 0) flush();
+  return { csv: chunks.join(''), rows, truth };
 }
