@@ -20,7 +20,14 @@ export interface JobQueue {
   send<K extends keyof typeof queues>(
     queue: K,
     payload: unknown,
-    opts?: { singletonKey?: string; db?: PgBoss.Db },
+    opts?: {
+      singletonKey?: string;
+      db?: PgBoss.Db;
+      /** Further notifications to send in the same statement as the workers' wake-up (saves a round trip). */
+      notify?: { channel: string; payload: string }[];
+      /** false when the caller sends the wake-up itself, in a statement of its own choosing. */
+      wake?: boolean;
+    },
   ): Promise<string | null>;
   stats(): Promise<QueueStats>;
   boss: PgBoss;
@@ -60,9 +67,14 @@ export async function startJobQueue(
       const def = queues[queue];
       const data = def.payload.parse(payload);
       const id = await boss.send(def.name, data, { singletonKey: sendOpts?.singletonKey, db: sendOpts?.db });
-      const wake = `select pg_notify('${JOBS_WAKE_CHANNEL}', $1)`;
-      if (sendOpts?.db) await sendOpts.db.executeSql(wake, [def.name]);
-      else await pool.query(wake, [def.name]);
+      if (sendOpts?.wake === false) return id;
+      const extra = sendOpts?.notify ?? [];
+      const wake =
+        `select pg_notify('${JOBS_WAKE_CHANNEL}', $1)` +
+        extra.map((_, i) => `, pg_notify($${2 * i + 2}, $${2 * i + 3})`).join('');
+      const values = [def.name, ...extra.flatMap((n) => [n.channel, n.payload])];
+      if (sendOpts?.db) await sendOpts.db.executeSql(wake, values);
+      else await pool.query(wake, values);
       return id;
     },
     async stats() {

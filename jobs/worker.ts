@@ -64,8 +64,15 @@ export async function startWorker(opts: {
       connectionString: opts.databaseUrl,
       application_name: 'phasewright-worker-wake',
     });
+    // One notification, one job: wake one fetch loop, in turn, rather than all of them (each wake-up
+    // is a fetch query). A loop that finds more work than its batch keeps fetching without waiting.
+    const turn = new Map<string, number>();
     c.on('notification', (msg) => {
-      for (const id of loops.get(msg.payload ?? '') ?? []) queue.boss.notifyWorker(id);
+      const ids = loops.get(msg.payload ?? '');
+      if (!ids?.length) return;
+      const i = turn.get(msg.payload!) ?? 0;
+      turn.set(msg.payload!, (i + 1) % ids.length);
+      queue.boss.notifyWorker(ids[i]);
     });
     c.on('error', () => {
       listener = null;

@@ -1,11 +1,12 @@
 import { createHash } from 'node:crypto';
 import type pg from 'pg';
-import { and, desc, eq, sql } from 'drizzle-orm';
+import { and, desc, eq, sql, type SQL } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/node-postgres';
 import type { Db, DbOrTx } from '../../db/client';
 import * as schema from '../../db/schema';
 import type { StationPrincipal } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
+import { JOBS_WAKE_CHANNEL, queues } from '../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
 import type {
   CalibrationView,
@@ -23,7 +24,8 @@ import { calibrateCapture, captureSignals, captureToMeasurement } from '../../..
 import { parseNumericCsv } from '../../../shared/capture/csv';
 import { insertAudit } from '../audit/audit.repository';
 import { models, recipes, type RecipeRecord } from '../catalog/catalog.table';
-import { notifyLineEvent } from '../events/event-hub';
+import { EVENTS_CHANNEL, notifyLineEvent } from '../events/event-hub';
+import type { LineEvent } from '../../../shared/schemas/events';
 import { stations } from '../stations/stations.table';
 import { units, type UnitRecord } from '../units/units.table';
 import { measurementErrors } from './measurements.errors';
@@ -32,7 +34,6 @@ import {
   measurements,
   programmingConfirmations,
   type CalibrationRecord,
-  type MeasurementRecord,
 } from './measurements.table';
 
 export interface LineContext {
@@ -50,8 +51,18 @@ function sha256(text: string): string {
   return createHash('sha256').update(text).digest('hex');
 }
 
-async function findMeasurement(db: DbOrTx, measurementId: string): Promise<MeasurementRecord | undefined> {
-  const [row] = await db.select().from(measurements).where(eq(measurements.measurementId, measurementId));
+/** A measurement's identity and hash (not its body). */
+async function findMeasurement(db: DbOrTx, measurementId: string) {
+  const [row] = await db
+    .select({
+      id: measurements.id,
+      measurementId: measurements.measurementId,
+      stationId: measurements.stationId,
+      serial: measurements.serial,
+      payloadSha256: measurements.payloadSha256,
+    })
+    .from(measurements)
+    .where(eq(measurements.measurementId, measurementId));
   return row;
 }
 
@@ -68,10 +79,57 @@ async function latestCalibrationFor(
   return row;
 }
 
+interface IntakeContext {
+  station_name: string;
+  allowed_model_ids: string[];
+  attended_by: string | null;
+  unit_id: string | null;
+  unit_serial: string | null;
+  unit_status: UnitRecord['status'] | null;
+  hold_reason: string | null;
+  model_id: string | null;
+  model_code: string | null;
+  active_recipe_id: string | null;
+  ex_id: string | null;
+  ex_measurement_id: string | null;
+  ex_station_id: string | null;
+  ex_serial: string | null;
+  ex_sha256: string | null;
+  ex_computed: boolean | null;
+}
+
+function repeatedAnswerFrom(
+  c: IntakeContext,
+  digest: string,
+  station: StationPrincipal,
+): MeasurementAccepted {
+  if (c.ex_sha256 !== digest || c.ex_station_id !== station.stationId)
+    throw measurementErrors.idConflict(c.ex_measurement_id!);
+  return {
+    measurementId: c.ex_measurement_id!,
+    serial: c.ex_serial!,
+    status: c.ex_computed ? 'computed' : 'queued',
+    resultUrl: resultUrlFor(c.ex_measurement_id!),
+    repeated: true,
+  };
+}
+
+/** Released recipe versions never change (the database refuses it), so they are read once per process. */
+const releasedRecipes = new Map<string, RecipeRecord>();
+
+export async function releasedRecipe(db: DbOrTx, id: string): Promise<RecipeRecord> {
+  const cached = releasedRecipes.get(id);
+  if (cached) return cached;
+  const [row] = await db.select().from(recipes).where(eq(recipes.id, id));
+  if (!row) throw new Error(`recipe ${id} does not exist`);
+  if (row.status !== 'draft') releasedRecipes.set(id, row);
+  return row;
+}
+
 /** The answer to a repeated post: same id and same body → the same answer; different body → 409. */
 async function repeatedAnswer(
   db: DbOrTx,
-  existing: MeasurementRecord,
+  existing: NonNullable<Awaited<ReturnType<typeof findMeasurement>>>,
   digest: string,
   station: StationPrincipal,
 ): Promise<MeasurementAccepted> {
@@ -105,26 +163,33 @@ export async function acceptMeasurement(
   const canonical = JSON.stringify(measurement);
   const digest = sha256(canonical);
 
-  const existing = await findMeasurement(ctx.db, measurement.measurementId);
-  if (existing) return repeatedAnswer(ctx.db, existing, digest, station);
-
-  const [stationRow] = await ctx.db.select().from(stations).where(eq(stations.id, station.stationId));
-  let [unit] = await ctx.db
-    .select()
-    .from(units)
-    .where(sql`upper(${units.serial}) = ${measurement.serial.trim().toUpperCase()}`);
-  let modelId = unit?.modelId;
-  if (!unit) {
-    if (stationRow.allowedModelIds.length !== 1) throw measurementErrors.unknownSerial(measurement.serial);
-    modelId = stationRow.allowedModelIds[0];
+  // One round trip gathers everything the rules need: a repeat of this id, the station, the unit
+  // (if known) and its model (or the station's only model).
+  const serialKey = measurement.serial.trim().toUpperCase();
+  const { rows } = await ctx.pool.query<IntakeContext>(
+    `select s.name as station_name, s.allowed_model_ids, s.attended_by,
+            u.id as unit_id, u.serial as unit_serial, u.status as unit_status, u.hold_reason,
+            mo.id as model_id, mo.code as model_code, mo.active_recipe_id,
+            ex.id as ex_id, ex.measurement_id as ex_measurement_id, ex.station_id as ex_station_id,
+            ex.serial as ex_serial, ex.payload_sha256 as ex_sha256,
+            exists (select 1 from calibrations c where c.measurement_pk = ex.id) as ex_computed
+       from stations s
+       left join units u on upper(u.serial) = $2
+       left join models mo on mo.id = coalesce(u.model_id,
+            case when jsonb_array_length(s.allowed_model_ids) = 1 then (s.allowed_model_ids->>0)::uuid end)
+       left join measurements ex on ex.measurement_id = $3
+      where s.id = $1`,
+    [station.stationId, serialKey, measurement.measurementId],
+  );
+  const c = rows[0];
+  if (c.ex_id) return repeatedAnswerFrom(c, digest, station);
+  if (!c.model_id) throw measurementErrors.unknownSerial(measurement.serial);
+  if (!c.allowed_model_ids.includes(c.model_id)) {
+    throw measurementErrors.modelNotAllowed(measurement.serial, c.model_code!, c.station_name);
   }
-  const [model] = await ctx.db.select().from(models).where(eq(models.id, modelId!));
-  if (!stationRow.allowedModelIds.includes(model.id)) {
-    throw measurementErrors.modelNotAllowed(measurement.serial, model.code, stationRow.name);
-  }
-  if (unit?.status === 'on_hold') throw measurementErrors.onHold(unit.serial, unit.holdReason);
-  if (!model.activeRecipeId) throw measurementErrors.noActiveRecipe(model.code);
-  const [recipe] = await ctx.db.select().from(recipes).where(eq(recipes.id, model.activeRecipeId));
+  if (c.unit_status === 'on_hold') throw measurementErrors.onHold(c.unit_serial!, c.hold_reason);
+  if (!c.active_recipe_id) throw measurementErrors.noActiveRecipe(c.model_code!);
+  const recipe = await releasedRecipe(ctx.db, c.active_recipe_id);
   const usable = validateCalibrationInput(measurement, recipe.body);
   if (!usable.ok) throw measurementErrors.unusable(usable.issues);
 
@@ -132,18 +197,19 @@ export async function acceptMeasurement(
   try {
     await client.query('BEGIN');
     const tx = drizzle(client, { schema, casing: 'snake_case' });
+    let unit = c.unit_id ? { id: c.unit_id, serial: c.unit_serial! } : undefined;
     if (!unit) {
       // First sight of this serial at a single-model station: register it now.
       [unit] = await tx
         .insert(units)
-        .values({ serial: measurement.serial.trim(), modelId: model.id })
+        .values({ serial: measurement.serial.trim(), modelId: c.model_id })
         .onConflictDoNothing()
-        .returning();
+        .returning({ id: units.id, serial: units.serial });
       unit ??= (
         await tx
-          .select()
+          .select({ id: units.id, serial: units.serial })
           .from(units)
-          .where(sql`upper(${units.serial}) = ${measurement.serial.trim().toUpperCase()}`)
+          .where(sql`upper(${units.serial}) = ${serialKey}`)
       )[0];
     }
     const [inserted] = await tx
@@ -157,30 +223,37 @@ export async function acceptMeasurement(
         payload: measurement,
         payloadRaw: opts.raw ?? canonical,
         payloadSha256: digest,
-        operatorId: stationRow.attendedBy,
+        operatorId: c.attended_by,
         receivedAt: ctx.clock(),
       })
       .onConflictDoNothing()
-      .returning();
+      .returning({
+        id: measurements.id,
+        measurementId: measurements.measurementId,
+        receivedAt: measurements.receivedAt,
+      });
     if (!inserted) {
       // Another post with this id committed while we were checking: answer as for a repeat.
       await client.query('ROLLBACK');
       const winner = await findMeasurement(ctx.db, measurement.measurementId);
       return repeatedAnswer(ctx.db, winner!, digest, station);
     }
-    await ctx.queue.send(
-      'calibrationCompute',
-      { measurementPk: inserted.id, recipeId: recipe.id },
-      { db: { executeSql: (text, values) => client.query(text, values) } },
-    );
-    await notifyLineEvent(tx, {
+    const event: LineEvent = {
       type: 'measurement.received',
       stationId: station.stationId,
       unitId: unit.id,
       serial: unit.serial,
       measurementId: inserted.measurementId,
       at: inserted.receivedAt.toISOString(),
-    });
+    };
+    await ctx.queue.send(
+      'calibrationCompute',
+      { measurementPk: inserted.id, recipeId: recipe.id },
+      {
+        db: { executeSql: (text, values) => client.query(text, values) },
+        notify: [{ channel: EVENTS_CHANNEL, payload: JSON.stringify(event) }],
+      },
+    );
     await client.query('COMMIT');
     return {
       measurementId: inserted.measurementId,
@@ -261,32 +334,38 @@ export function nextActionFor(
  * Computes one measurement with one recipe version and commits the calibration, the unit's new
  * status, the follow-on traveler job and the event in one transaction. Safe to run twice: a second
  * run finds the calibration (unique per measurement and recipe version) and does nothing.
+ * Round trips are kept few on purpose (each costs more than the computation itself).
  */
 export async function computeCalibration(
   ctx: LineContext,
   job: { measurementPk: string; recipeId: string },
 ): Promise<{ calibrationId: string; created: boolean }> {
-  const [measurement] = await ctx.db
-    .select()
-    .from(measurements)
-    .where(eq(measurements.id, job.measurementPk));
+  // The measurement, whether this job already ran, and the "computing" event, in one statement.
+  const { rows } = await ctx.pool.query<{
+    id: string;
+    measurement_id: string;
+    station_id: string;
+    unit_id: string;
+    serial: string;
+    source: 'timings' | 'capture';
+    payload: Measurement;
+    payload_raw: string | null;
+    done_id: string | null;
+  }>(
+    `with d as (select id from calibrations where measurement_pk = $1 and recipe_id = $2)
+     select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source, m.payload,
+            case when m.source = 'capture' then m.payload_raw end as payload_raw,
+            (select id from d) as done_id,
+            case when not exists (select 1 from d) then pg_notify($3, json_build_object(
+              'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
+              'serial', m.serial, 'measurementId', m.measurement_id, 'at', $4::text)::text) end as notified
+       from measurements m where m.id = $1`,
+    [job.measurementPk, job.recipeId, EVENTS_CHANNEL, ctx.clock().toISOString()],
+  );
+  const measurement = rows[0];
   if (!measurement) throw new Error(`measurement ${job.measurementPk} does not exist`);
-  const [done] = await ctx.db
-    .select({ id: calibrations.id })
-    .from(calibrations)
-    .where(and(eq(calibrations.measurementPk, job.measurementPk), eq(calibrations.recipeId, job.recipeId)));
-  if (done) return { calibrationId: done.id, created: false };
-  const [recipe] = await ctx.db.select().from(recipes).where(eq(recipes.id, job.recipeId));
-  if (!recipe) throw new Error(`recipe ${job.recipeId} does not exist`);
-
-  await notifyLineEvent(ctx.db, {
-    type: 'calibration.computing',
-    stationId: measurement.stationId,
-    unitId: measurement.unitId,
-    serial: measurement.serial,
-    measurementId: measurement.measurementId,
-    at: ctx.clock().toISOString(),
-  });
+  if (measurement.done_id) return { calibrationId: measurement.done_id, created: false };
+  const recipe = await releasedRecipe(ctx.db, job.recipeId);
 
   const t0 = performance.now();
   let verdict: 'pass' | 'fail' | 'unusable';
@@ -295,12 +374,12 @@ export async function computeCalibration(
   try {
     result =
       measurement.source === 'capture'
-        ? calibrateCapture(measurement.payloadRaw, recipe.body, {
-            measurementId: measurement.measurementId,
+        ? calibrateCapture(measurement.payload_raw!, recipe.body, {
+            measurementId: measurement.measurement_id,
             serial: measurement.serial,
-            direction: (measurement.payload as Measurement).segments[0]?.direction,
+            direction: measurement.payload.segments[0]?.direction,
           }).result
-        : calibrate(measurement.payload as Measurement, recipe.body);
+        : calibrate(measurement.payload, recipe.body);
     verdict = result.verdict;
     stored = result;
   } catch (e) {
@@ -309,110 +388,127 @@ export async function computeCalibration(
     stored = { error: { code: e.code, message: e.message, issues: e.issues } };
   }
   const computeMs = performance.now() - t0;
+  const now = ctx.clock();
 
-  return ctx.db.transaction(async (tx) => {
-    const [unit] = await tx.select().from(units).where(eq(units.id, measurement.unitId)).for('update');
+  const client = await ctx.pool.connect();
+  try {
+    await client.query('BEGIN');
+    const { rows: unitRows } = await client.query<{
+      attempts: number;
+      status: UnitRecord['status'];
+      serial: string;
+    }>('select attempts, status, serial from units where id = $1 for update', [measurement.unit_id]);
+    const unit = unitRows[0];
     const counts = verdict !== 'unusable';
     const attempt = counts ? unit.attempts + 1 : null;
-    const [row] = await tx
-      .insert(calibrations)
-      .values({
-        measurementPk: measurement.id,
-        recipeId: recipe.id,
-        unitId: unit.id,
-        stationId: measurement.stationId,
-        engineVersion: ENGINE_VERSION,
+    const next = counts ? nextUnitState(verdict as 'pass' | 'fail', unit.attempts, recipe) : null;
+    // Calibration, unit status and the commit event in one statement; nothing changes if this
+    // (measurement, recipe) pair was computed meanwhile.
+    const { rows: inserted } = await client.query<{ id: string }>(
+      `with c as (
+         insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict,
+                                   offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
+         values ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12)
+         on conflict do nothing returning id
+       ), u as (
+         update units set
+           attempts = $13, status = $14, hold_reason = $15, updated_at = $12,
+           current_calibration_id = case when $16 then (select id from c) else current_calibration_id end,
+           current_offset_deg = case when $16 then $7 else current_offset_deg end,
+           current_offset_counts = case when $16 then $8 else current_offset_counts end,
+           programming_mismatch = case when $16 then false else programming_mismatch end
+         where id = $3 and $17 and exists (select 1 from c)
+         returning id
+       )
+       select c.id,
+              pg_notify($18, json_build_object('type', 'calibration.committed', 'stationId', $4::text,
+                'unitId', $3::text, 'serial', $19::text, 'measurementId', $20::text, 'calibrationId', c.id,
+                'verdict', $6::text, 'at', $21::text)::text),
+              case when $17 then pg_notify($22, $23) end
+         from c left join u on true`,
+      [
+        measurement.id,
+        recipe.id,
+        measurement.unit_id,
+        measurement.station_id,
+        ENGINE_VERSION,
         verdict,
-        offsetDeg: result?.offsetDeg ?? null,
-        offsetCounts: result?.offsetCounts ?? null,
+        result?.offsetDeg ?? null,
+        result?.offsetCounts ?? null,
         attempt,
-        result: stored,
+        JSON.stringify(stored),
         computeMs,
-        computedAt: ctx.clock(),
-      })
-      .onConflictDoNothing()
-      .returning();
-    if (!row) {
-      const [winner] = await tx
+        now,
+        next?.attempts ?? 0,
+        next?.status ?? 'new',
+        next?.holdReason ?? null,
+        verdict === 'pass',
+        counts,
+        EVENTS_CHANNEL,
+        unit.serial,
+        measurement.measurement_id,
+        now.toISOString(),
+        JOBS_WAKE_CHANNEL,
+        queues.travelerRender.name,
+      ],
+    );
+    if (!inserted[0]) {
+      await client.query('ROLLBACK');
+      const [winner] = await ctx.db
         .select({ id: calibrations.id })
         .from(calibrations)
         .where(and(eq(calibrations.measurementPk, measurement.id), eq(calibrations.recipeId, recipe.id)));
       return { calibrationId: winner.id, created: false };
     }
-    if (counts) await applyRetestPolicy(tx, unit, row, recipe, ctx.clock());
-    await notifyLineEvent(tx, {
-      type: 'calibration.committed',
-      stationId: measurement.stationId,
-      unitId: unit.id,
-      serial: unit.serial,
-      measurementId: measurement.measurementId,
-      calibrationId: row.id,
-      verdict,
-      at: row.computedAt.toISOString(),
-    });
-    if (counts) {
-      await ctx.queue.send('travelerRender', { calibrationId: row.id }, { db: txSql(tx) });
+    const calibrationId = inserted[0].id;
+    const tx = drizzle(client, { schema, casing: 'snake_case' });
+    if (next?.status === 'on_hold') {
+      await insertAudit(tx, {
+        action: 'units.held_by_retest_policy',
+        subjectType: 'unit',
+        subjectId: measurement.unit_id,
+        reason: next.holdReason,
+        before: { status: unit.status, attempts: unit.attempts },
+        after: { status: 'on_hold', attempts: next.attempts },
+      });
     }
-    return { calibrationId: row.id, created: true };
-  });
-}
-
-/** pg-boss's connection adapter over a Drizzle transaction, so a job is inserted inside it. */
-function txSql(tx: DbOrTx) {
-  return {
-    executeSql: async (text: string, values: unknown[]) => {
-      const session = (tx as unknown as { session: { client: pg.PoolClient } }).session;
-      return session.client.query(text, values);
-    },
-  };
+    if (counts) {
+      await ctx.queue.send(
+        'travelerRender',
+        { calibrationId },
+        { db: { executeSql: (text, values) => client.query(text, values) }, wake: false },
+      );
+    }
+    await client.query('COMMIT');
+    return { calibrationId, created: true };
+  } catch (e) {
+    await client.query('ROLLBACK').catch(() => {});
+    throw e;
+  } finally {
+    client.release();
+  }
 }
 
 /**
- * A pass makes the unit calibrated with this offset. A fail leaves it failed for a retest while
- * attempts remain; at the recipe's maximum it goes on hold, with the reason, audited.
+ * The retest policy. A pass makes the unit calibrated with this offset. A fail leaves it failed for a
+ * retest while attempts remain; at the recipe's maximum it goes on hold, with the reason (audited).
  */
-async function applyRetestPolicy(
-  tx: DbOrTx,
-  unit: UnitRecord,
-  cal: CalibrationRecord,
-  recipe: RecipeRecord,
-  now: Date,
-) {
-  const attempts = unit.attempts + 1;
-  if (cal.verdict === 'pass') {
-    await tx
-      .update(units)
-      .set({
-        attempts,
-        status: 'calibrated',
-        holdReason: null,
-        currentCalibrationId: cal.id,
-        currentOffsetDeg: cal.offsetDeg,
-        currentOffsetCounts: cal.offsetCounts,
-        programmingMismatch: false,
-        updatedAt: now,
-      })
-      .where(eq(units.id, unit.id));
-    return;
-  }
+export function nextUnitState(
+  verdict: 'pass' | 'fail',
+  attemptsBefore: number,
+  recipe: Pick<RecipeRecord, 'version' | 'body'>,
+): { attempts: number; status: UnitRecord['status']; holdReason: string | null } {
+  const attempts = attemptsBefore + 1;
+  if (verdict === 'pass') return { attempts, status: 'calibrated', holdReason: null };
   const max = recipe.body.maxAttempts;
   if (attempts >= max) {
-    const reason = `${attempts} calibration attempts without a pass (recipe v${recipe.version} allows ${max})`;
-    await tx
-      .update(units)
-      .set({ attempts, status: 'on_hold', holdReason: reason, updatedAt: now })
-      .where(eq(units.id, unit.id));
-    await insertAudit(tx, {
-      action: 'units.held_by_retest_policy',
-      subjectType: 'unit',
-      subjectId: unit.id,
-      reason,
-      before: { status: unit.status, attempts: unit.attempts },
-      after: { status: 'on_hold', attempts },
-    });
-    return;
+    return {
+      attempts,
+      status: 'on_hold',
+      holdReason: `${attempts} calibration attempts without a pass (recipe v${recipe.version} allows ${max})`,
+    };
   }
-  await tx.update(units).set({ attempts, status: 'failed', updatedAt: now }).where(eq(units.id, unit.id));
+  return { attempts, status: 'failed', holdReason: null };
 }
 
 /** Records what the station wrote and read back; a mismatch flags the unit everywhere it is shown. */
@@ -472,14 +568,44 @@ export async function confirmProgramming(
   });
 }
 
-/** Builds the view of calibrations (newest first) for a set of rows. */
+interface ConfirmationJson {
+  matches: boolean;
+  expected_counts: number;
+  written_counts: number;
+  read_back_counts: number;
+  checksum: string | null;
+  confirmed_at: string;
+}
+
+/**
+ * Builds the views of calibrations (newest first) matching `where`, in one query: the unit's newest
+ * calibration and the latest programming confirmation come from subqueries, and the raw measurement
+ * body is not read.
+ */
 export async function calibrationViews(
   db: DbOrTx,
-  where: ReturnType<typeof eq>,
+  where: SQL | undefined,
   limit = 50,
 ): Promise<CalibrationView[]> {
   const rows = await db
-    .select({ cal: calibrations, m: measurements, recipe: recipes, station: stations, unit: units })
+    .select({
+      cal: calibrations,
+      measurementId: measurements.measurementId,
+      receivedAt: measurements.receivedAt,
+      recipeVersion: recipes.version,
+      recipeBody: recipes.body,
+      stationName: stations.name,
+      unitSerial: units.serial,
+      unitStatus: units.status,
+      unitHoldReason: units.holdReason,
+      newestOfUnit: sql<string>`(select c2.id from calibrations c2 where c2.unit_id = ${calibrations.unitId}
+        order by c2.computed_at desc limit 1)`,
+      confirmation: sql<ConfirmationJson | null>`(select row_to_json(p) from (
+        select matches, expected_counts, written_counts, read_back_counts, checksum,
+               to_char(confirmed_at at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') as confirmed_at
+          from programming_confirmations pc where pc.calibration_id = ${calibrations.id}
+         order by pc.confirmed_at desc limit 1) p)`,
+    })
     .from(calibrations)
     .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
     .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
@@ -488,48 +614,32 @@ export async function calibrationViews(
     .where(where)
     .orderBy(desc(calibrations.computedAt))
     .limit(limit);
-  const out: CalibrationView[] = [];
-  const newestOfUnit = new Map<string, string>();
-  for (const r of rows) {
-    if (!newestOfUnit.has(r.unit.id)) {
-      const [newest] = await db
-        .select({ id: calibrations.id })
-        .from(calibrations)
-        .where(eq(calibrations.unitId, r.unit.id))
-        .orderBy(desc(calibrations.computedAt))
-        .limit(1);
-      newestOfUnit.set(r.unit.id, newest.id);
-    }
-    const [conf] = await db
-      .select()
-      .from(programmingConfirmations)
-      .where(eq(programmingConfirmations.calibrationId, r.cal.id))
-      .orderBy(desc(programmingConfirmations.confirmedAt))
-      .limit(1);
+  return rows.map((r) => {
     const isError = 'error' in r.cal.result;
-    out.push({
+    const conf = r.confirmation;
+    return {
       calibrationId: r.cal.id,
-      measurementId: r.m.measurementId,
-      serial: r.unit.serial,
-      stationId: r.station.id,
-      stationName: r.station.name,
-      recipe: { id: r.recipe.id, version: r.recipe.version, name: r.recipe.body.name ?? null },
+      measurementId: r.measurementId,
+      serial: r.unitSerial,
+      stationId: r.cal.stationId,
+      stationName: r.stationName,
+      recipe: { id: r.cal.recipeId, version: r.recipeVersion, name: r.recipeBody.name ?? null },
       engineVersion: r.cal.engineVersion,
       verdict: r.cal.verdict,
       offsetDeg: r.cal.offsetDeg,
       offsetCounts: r.cal.offsetCounts,
       attempt: r.cal.attempt,
-      maxAttempts: r.recipe.body.maxAttempts,
+      maxAttempts: r.recipeBody.maxAttempts,
       computedAt: r.cal.computedAt.toISOString(),
-      receivedAt: r.m.receivedAt.toISOString(),
+      receivedAt: r.receivedAt.toISOString(),
       computeMs: r.cal.computeMs,
       nextAction: nextActionFor(
         r.cal.verdict,
         r.cal.attempt,
-        r.recipe.body.maxAttempts,
+        r.recipeBody.maxAttempts,
         // A hold the unit is under now matters for its newest calibration, not for its history.
-        r.unit.status === 'on_hold' && newestOfUnit.get(r.unit.id) === r.cal.id
-          ? (r.unit.holdReason ?? 'no reason given')
+        r.unitStatus === 'on_hold' && r.newestOfUnit === r.cal.id
+          ? (r.unitHoldReason ?? 'no reason given')
           : null,
       ),
       result: isError ? null : (r.cal.result as CalibrationResult),
@@ -537,11 +647,11 @@ export async function calibrationViews(
       programming: conf
         ? {
             status: conf.matches ? 'confirmed' : 'mismatch',
-            expectedCounts: conf.expectedCounts,
-            writtenCounts: conf.writtenCounts,
-            readBackCounts: conf.readBackCounts,
+            expectedCounts: conf.expected_counts,
+            writtenCounts: conf.written_counts,
+            readBackCounts: conf.read_back_counts,
             checksum: conf.checksum,
-            confirmedAt: conf.confirmedAt.toISOString(),
+            confirmedAt: conf.confirmed_at,
           }
         : {
             status: 'pending',
@@ -551,14 +661,20 @@ export async function calibrationViews(
             checksum: null,
             confirmedAt: null,
           },
-    });
-  }
-  return out;
+    };
+  });
 }
 
+/**
+ * The newest calibration of a station's measurement (null while it is computing). One query when it
+ * exists; a second only to tell "not computed yet" from "no such measurement here".
+ */
 export async function measurementResult(db: DbOrTx, station: StationPrincipal | null, measurementId: string) {
-  const m = await findMeasurement(db, measurementId);
-  if (!m || (station && m.stationId !== station.stationId)) throw measurementErrors.notFound(measurementId);
-  const [view] = await calibrationViews(db, eq(calibrations.measurementPk, m.id), 1);
-  return { measurement: m, view: view ?? null };
+  const [view] = await calibrationViews(db, eq(measurements.measurementId, measurementId), 1);
+  if (view && (!station || view.stationId === station.stationId)) return { view };
+  if (!view) {
+    const m = await findMeasurement(db, measurementId);
+    if (m && (!station || m.stationId === station.stationId)) return { view: null };
+  }
+  throw measurementErrors.notFound(measurementId);
 }

@@ -32,29 +32,47 @@ export function hashStationKey(key: string): string {
   return createHash('sha256').update(key).digest('hex');
 }
 
-/** Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the key used. */
+/**
+ * Keys seen recently, so a busy station's every request does not cost a lookup. An entry lives
+ * KEY_CACHE_MS; revoking a key clears this process's cache at once (other server processes notice
+ * within KEY_CACHE_MS).
+ */
+const KEY_CACHE_MS = 10_000;
+const keyCache = new Map<string, { principal: StationPrincipal; fetchedAt: number; seenWrittenAt: number }>();
+
+export function forgetCachedStationKeys(): void {
+  keyCache.clear();
+}
+
+/** Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the station seen. */
 export async function authenticateStationKey(
   db: Db,
   key: string,
   now: Date,
 ): Promise<StationPrincipal | null> {
-  const [row] = await db
-    .select({
-      keyId: stationKeys.id,
-      stationId: stations.id,
-      stationName: stations.name,
-      lastSeenAt: stations.lastSeenAt,
-    })
-    .from(stationKeys)
-    .innerJoin(stations, eq(stations.id, stationKeys.stationId))
-    .where(and(eq(stationKeys.keyHash, hashStationKey(key)), isNull(stationKeys.revokedAt)));
-  if (!row) return null;
-  // "Last seen" is written at most every 5 s per station, so busy stations do not write on every call.
-  if (!row.lastSeenAt || now.getTime() - row.lastSeenAt.getTime() > 5000) {
-    await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, row.stationId));
-    await db.update(stationKeys).set({ lastUsedAt: now }).where(eq(stationKeys.id, row.keyId));
+  const hash = hashStationKey(key);
+  const t = now.getTime();
+  let entry = keyCache.get(hash);
+  if (!entry || t - entry.fetchedAt > KEY_CACHE_MS || t < entry.fetchedAt) {
+    const [row] = await db
+      .select({ keyId: stationKeys.id, stationId: stations.id, stationName: stations.name })
+      .from(stationKeys)
+      .innerJoin(stations, eq(stations.id, stationKeys.stationId))
+      .where(and(eq(stationKeys.keyHash, hash), isNull(stationKeys.revokedAt)));
+    if (!row) {
+      keyCache.delete(hash);
+      return null;
+    }
+    entry = { principal: row, fetchedAt: t, seenWrittenAt: entry?.seenWrittenAt ?? 0 };
+    keyCache.set(hash, entry);
   }
-  return { stationId: row.stationId, stationName: row.stationName, keyId: row.keyId };
+  // "Last seen" is written at most every 5 s per key, so busy stations do not write on every call.
+  if (t - entry.seenWrittenAt > 5000 || t < entry.seenWrittenAt) {
+    entry.seenWrittenAt = t;
+    await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, entry.principal.stationId));
+    await db.update(stationKeys).set({ lastUsedAt: now }).where(eq(stationKeys.id, entry.principal.keyId));
+  }
+  return entry.principal;
 }
 
 export async function recordHeartbeat(db: DbOrTx, stationId: string, now: Date): Promise<void> {
@@ -196,6 +214,7 @@ export async function revokeStationKey(
       .where(and(eq(stationKeys.id, keyId), eq(stationKeys.stationId, stationId)))
       .returning();
     if (!row) throw stationErrors.keyNotFound();
+    forgetCachedStationKeys();
     await insertAudit(tx, {
       actorId: actor.id,
       actorName: actor.displayName,
