@@ -119,7 +119,8 @@ try {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
       onExit: onUnexpectedExit('worker'),
     }),
-    startService('renderer', TSX, workerArgs, {
+    // Renders yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
+    startService('renderer', 'nice', ['-n', '10', TSX, ...workerArgs], {
       env: { ...env, WORKER_QUEUES: 'traveler-render' },
       onExit: onUnexpectedExit('renderer'),
     }),

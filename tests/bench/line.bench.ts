@@ -194,7 +194,8 @@ async function main(): Promise<number> {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
       quiet: true,
     }),
-    startService('renderer', TSX, ['jobs/worker.ts'], {
+    // Renders yield the CPU to calibrations (nice 10), as under `npm start`.
+    startService('renderer', 'nice', ['-n', '10', TSX, 'jobs/worker.ts'], {
       env: { ...env, WORKER_QUEUES: 'traveler-render' },
       quiet: true,
     }),

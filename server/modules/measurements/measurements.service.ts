@@ -24,17 +24,12 @@ import { calibrateCapture, captureSignals, captureToMeasurement } from '../../..
 import { parseNumericCsv } from '../../../shared/capture/csv';
 import { insertAudit } from '../audit/audit.repository';
 import { models, recipes, type RecipeRecord } from '../catalog/catalog.table';
-import { EVENTS_CHANNEL, notifyLineEvent } from '../events/event-hub';
+import { EVENTS_CHANNEL } from '../events/event-hub';
 import type { LineEvent } from '../../../shared/schemas/events';
 import { stations } from '../stations/stations.table';
 import { units, type UnitRecord } from '../units/units.table';
 import { measurementErrors } from './measurements.errors';
-import {
-  calibrations,
-  measurements,
-  programmingConfirmations,
-  type CalibrationRecord,
-} from './measurements.table';
+import { calibrations, measurements, type CalibrationRecord } from './measurements.table';
 
 export interface LineContext {
   db: Db;
@@ -518,54 +513,68 @@ export async function confirmProgramming(
   measurementId: string,
   body: ProgrammingConfirmation,
 ) {
-  const measurement = await findMeasurement(ctx.db, measurementId);
-  if (!measurement || measurement.stationId !== station.stationId)
-    throw measurementErrors.notFound(measurementId);
-  const cal = await latestCalibrationFor(ctx.db, measurement.id);
-  if (!cal) throw measurementErrors.notCalibrated(measurementId);
-  if (cal.offsetCounts === null) throw measurementErrors.unusableResult(measurementId);
-  const matches = body.writtenCounts === cal.offsetCounts && body.readBackCounts === cal.offsetCounts;
-  return ctx.db.transaction(async (tx) => {
-    const [row] = await tx
-      .insert(programmingConfirmations)
-      .values({
-        calibrationId: cal.id,
-        unitId: cal.unitId,
-        stationId: station.stationId,
-        expectedCounts: cal.offsetCounts!,
-        writtenCounts: body.writtenCounts,
-        readBackCounts: body.readBackCounts,
-        checksum: body.checksum ?? null,
-        matches,
-        confirmedAt: ctx.clock(),
-      })
-      .returning();
-    const [unit] = await tx.select().from(units).where(eq(units.id, cal.unitId)).for('update');
-    if (unit.currentCalibrationId === cal.id || !matches) {
-      await tx
-        .update(units)
-        .set({ programmingMismatch: !matches, updatedAt: ctx.clock() })
-        .where(eq(units.id, unit.id));
-    }
-    if (!matches) {
-      await insertAudit(tx, {
-        action: 'units.programming_mismatch',
-        subjectType: 'unit',
-        subjectId: unit.id,
-        reason: `expected ${cal.offsetCounts}, written ${body.writtenCounts}, read back ${body.readBackCounts}`,
-      });
-    }
-    await notifyLineEvent(tx, {
-      type: 'programming.confirmed',
-      stationId: station.stationId,
-      unitId: unit.id,
-      serial: unit.serial,
-      calibrationId: cal.id,
+  // The measurement and its newest calibration in one query.
+  const { rows } = await ctx.pool.query<{
+    station_id: string;
+    cal_id: string | null;
+    unit_id: string | null;
+    offset_counts: number | null;
+    serial: string;
+  }>(
+    `select m.station_id, m.serial, c.id as cal_id, c.unit_id, c.offset_counts
+       from measurements m
+       left join lateral (select id, unit_id, offset_counts from calibrations
+                           where measurement_pk = m.id order by computed_at desc limit 1) c on true
+      where m.measurement_id = $1`,
+    [measurementId],
+  );
+  const m = rows[0];
+  if (!m || m.station_id !== station.stationId) throw measurementErrors.notFound(measurementId);
+  if (!m.cal_id) throw measurementErrors.notCalibrated(measurementId);
+  if (m.offset_counts === null) throw measurementErrors.unusableResult(measurementId);
+  const expected = m.offset_counts;
+  const matches = body.writtenCounts === expected && body.readBackCounts === expected;
+  const now = ctx.clock();
+  // One atomic statement: the confirmation, the unit's flag (a mismatch always flags; a match clears
+  // the flag only when it confirms the unit's current calibration), the audit entry and the event.
+  const reason = `expected ${expected}, written ${body.writtenCounts}, read back ${body.readBackCounts}`;
+  await ctx.pool.query(
+    `with p as (
+       insert into programming_confirmations (calibration_id, unit_id, station_id, expected_counts,
+                                              written_counts, read_back_counts, checksum, matches, confirmed_at)
+       values ($1, $2, $3, $4, $5, $6, $7, $8, $9) returning id
+     ), u as (
+       update units set programming_mismatch = not $8, updated_at = $9
+        where id = $2 and (current_calibration_id = $1 or not $8) returning id
+     ), a as (
+       insert into audit_log (action, subject_type, subject_id, reason)
+       select 'units.programming_mismatch', 'unit', $2::text, $10 where not $8 returning id
+     )
+     select pg_notify($11, $12) from p`,
+    [
+      m.cal_id,
+      m.unit_id,
+      station.stationId,
+      expected,
+      body.writtenCounts,
+      body.readBackCounts,
+      body.checksum ?? null,
       matches,
-      at: row.confirmedAt.toISOString(),
-    });
-    return { matches, expectedCounts: cal.offsetCounts!, confirmedAt: row.confirmedAt.toISOString() };
-  });
+      now,
+      reason,
+      EVENTS_CHANNEL,
+      JSON.stringify({
+        type: 'programming.confirmed',
+        stationId: station.stationId,
+        unitId: m.unit_id!,
+        serial: m.serial,
+        calibrationId: m.cal_id,
+        matches,
+        at: now.toISOString(),
+      } satisfies LineEvent),
+    ],
+  );
+  return { matches, expectedCounts: expected, confirmedAt: now.toISOString() };
 }
 
 interface ConfirmationJson {
