@@ -36,7 +36,7 @@ export function Component() {
         Skip to content
       </a>
       <header className="border-b border-graphite-800 bg-graphite-900">
-        <div className="mx-auto flex max-w-[1400px] flex-wrap items-center gap-x-8 gap-y-3 px-4 py-3 sm:px-6">
+        <div className="mx-auto flex max-w-[1400px] flex-wrap items-center gap-x-6 gap-y-3 px-4 py-3 sm:px-6">
           <NavLink
             to="/"
             className="flex min-h-target items-center gap-3 no-underline"
@@ -53,7 +53,7 @@ export function Component() {
                     to={item.to}
                     end={item.to === '/'}
                     className={({ isActive }) =>
-                      `inline-flex min-h-target items-center border-b-4 px-4 text-base font-semibold tracking-wide no-underline ${
+                      `inline-flex min-h-target items-center border-b-4 px-3 text-base font-semibold tracking-wide no-underline ${
                         isActive
                           ? 'border-copper-400 bg-graphite-800 text-graphite-50'
                           : 'border-transparent text-graphite-300 hover:border-graphite-600 hover:text-graphite-50'
