@@ -460,16 +460,20 @@ function drawIdentity(page: Page, code128: GreyImage, matrix: GreyImage): void {
   const height = 92;
 
   // Serial, large, with its Code 128 beneath: X = 0.9 pt (0.32 mm), bars 34 pt tall.
-  page.label('Serial number', left, y);
-  page.text('bold', 22, data.serial, left, y + 8);
   const moduleX = 0.9;
   const barW = code128.modulesWide * moduleX;
   const barTop = y + 36;
+  // Model and component lots in the middle, right of the serial and its barcode.
+  const mx = left + Math.max(200, barW - 10 * moduleX) + 14;
+
+  // The serial is printed as large as fits its column (22 pt at most), so long serials never overlap.
+  page.label('Serial number', left, y);
+  const serialWidth22 = doc.font('bold').fontSize(22).widthOfString(data.serial);
+  const serialSize = Math.max(11, Math.min(22, (22 * (mx - left - 10)) / serialWidth22));
+  page.text('bold', serialSize, data.serial, left, y + 8 + (22 - serialSize) * 0.6);
   doc.image(code128.png, left - 10 * moduleX, barTop, { width: barW, height: 34 });
   page.text('semiBold', 8, data.serial, left, barTop + 36, {});
 
-  // Model and component lots in the middle.
-  const mx = left + Math.max(200, barW - 10 * moduleX) + 14;
   const dmSize = 74;
   const dmX = right - dmSize;
   const colW = (dmX - 14 - mx) / 2;
@@ -512,7 +516,9 @@ function drawResult(page: Page): void {
   page.text('bold', 38, pass ? 'PASS' : 'FAIL', left + 58, y + 17, { color: paper });
   const summary =
     failed.length === 0
-      ? `All ${data.checks.length} checks passed`
+      ? data.checks.length === 1
+        ? 'The one check passed'
+        : `All ${data.checks.length} checks passed`
       : `${failed.length} of ${data.checks.length} checks failed (see below)`;
   page.text('semiBold', 9, summary, left + 10, y + 68, { width: vw - 20, color: paper });
 

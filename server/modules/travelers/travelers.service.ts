@@ -79,7 +79,12 @@ export async function travelerData(
     ...TRAVELER_HEADER,
     lineName: row.station.line,
     serial: row.unit.serial,
-    model: { name: `${row.model.code} ${row.model.name}`, polePairs: row.model.polePairs },
+    model: {
+      name: row.model.name.toUpperCase().startsWith(row.model.code.toUpperCase())
+        ? row.model.name
+        : `${row.model.code} ${row.model.name}`,
+      polePairs: row.model.polePairs,
+    },
     lots: {
       hallBoard: lotText(row.unit.hallBoardLot),
       magnetRing: lotText(row.unit.magnetRingLot),
