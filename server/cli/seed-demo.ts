@@ -11,7 +11,8 @@ import { startJobQueue } from '../../jobs/queue-client';
 import { createDemoStationKey, seedDemoLine } from '../modules/demo/demo-line.seed';
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
-export const DEMO_KEY_FILE = join(repoRoot, '.data', 'demo-station-key.json');
+// DEMO_KEY_FILE moves it (`npm test` does, so a test run never replaces the key of a developer's demo line).
+export const DEMO_KEY_FILE = process.env.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
 
 function say(line: string) {
   process.stdout.write(`${line}\n`);
