@@ -19,13 +19,20 @@ const codeText = (what: string, max: number) =>
 
 const isoTime = z.iso.datetime({ offset: true, message: 'expected an ISO 8601 date-time with a zone' });
 
+// Building a DateTimeFormat is slow next to a render, and a plant uses one or two zones: remember answers.
+const knownZones = new Map<string, boolean>();
 function isTimeZone(zone: string): boolean {
-  try {
-    new Intl.DateTimeFormat('en-GB', { timeZone: zone });
-    return true;
-  } catch {
-    return false;
+  let ok = knownZones.get(zone);
+  if (ok === undefined) {
+    try {
+      new Intl.DateTimeFormat('en-GB', { timeZone: zone });
+      ok = true;
+    } catch {
+      ok = false;
+    }
+    if (knownZones.size < 100) knownZones.set(zone, ok);
   }
+  return ok;
 }
 
 export const SENSORS = ['A', 'B', 'C'] as const;
