@@ -4,7 +4,7 @@
 //
 //   DATABASE_URL=postgres://… [DEMO_LINE_UNITS=2500] [DEMO_BASE_URL=http://localhost:3000] tsx server/cli/seed-demo.ts
 import { mkdirSync, writeFileSync } from 'node:fs';
-import { dirname, join, resolve } from 'node:path';
+import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createDatabase } from '../db/client';
 import { startJobQueue } from '../../jobs/queue-client';
@@ -87,7 +87,7 @@ try {
     ) + '\n',
     { mode: 0o600 },
   );
-  say(`demo station key for ${key.stationName} written to .data/demo-station-key.json`);
+  say(`demo station key for ${key.stationName} written to ${relative(repoRoot, DEMO_KEY_FILE) || DEMO_KEY_FILE}`);
 } catch (e) {
   process.stderr.write(`demo line: ${e instanceof Error ? e.message : String(e)}\n`);
   code = 1;
