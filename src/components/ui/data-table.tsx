@@ -1,4 +1,12 @@
 import type { ReactNode, ThHTMLAttributes, TdHTMLAttributes } from 'react';
+import { FlexRender, type RowData, type Table, type TableFeatures } from '@tanstack/react-table';
+
+/** What a sortable column offers (present whenever the table has the row-sorting feature). */
+interface SortableColumn {
+  getIsSorted(): SortState;
+  getCanSort(): boolean;
+  toggleSorting(): void;
+}
 
 /** Table markup shared by every list: dense enough for admins, rows tall enough for a finger. */
 export function TableFrame({ caption, children }: { caption: string; children: ReactNode }) {
@@ -59,5 +67,69 @@ export function SortButton({
         {sorted === 'asc' ? '(sorted ascending)' : sorted === 'desc' ? '(sorted descending)' : '(not sorted)'}
       </span>
     </button>
+  );
+}
+
+/**
+ * Header row and body of a sortable TanStack table in the product's table markup: sortable columns get
+ * a SortButton and aria-sort; an empty table shows `empty` across all columns.
+ */
+export function SortableTableContent<TFeatures extends TableFeatures, TData extends RowData>({
+  table,
+  bodyTestId,
+  empty,
+}: {
+  table: Pick<Table<TFeatures, TData>, 'getHeaderGroups' | 'getRowModel' | 'getAllLeafColumns'>;
+  bodyTestId?: string;
+  empty: ReactNode;
+}) {
+  const rows = table.getRowModel().rows;
+  return (
+    <>
+      <thead>
+        {table.getHeaderGroups().map((group) => (
+          <tr key={group.id}>
+            {group.headers.map((header) => {
+              const column = header.column as unknown as SortableColumn;
+              const sorted = column.getIsSorted();
+              return (
+                <Th
+                  key={header.id}
+                  aria-sort={sorted === 'asc' ? 'ascending' : sorted === 'desc' ? 'descending' : undefined}
+                >
+                  {header.isPlaceholder ? null : column.getCanSort() ? (
+                    <SortButton
+                      label={<FlexRender header={header} />}
+                      sorted={sorted}
+                      onToggle={() => column.toggleSorting()}
+                    />
+                  ) : (
+                    <FlexRender header={header} />
+                  )}
+                </Th>
+              );
+            })}
+          </tr>
+        ))}
+      </thead>
+      <tbody data-testid={bodyTestId}>
+        {rows.map((row) => (
+          <tr key={row.id} className="hover:bg-graphite-850">
+            {row.getAllCells().map((cell) => (
+              <Td key={cell.id}>
+                <FlexRender cell={cell} />
+              </Td>
+            ))}
+          </tr>
+        ))}
+        {rows.length === 0 ? (
+          <tr>
+            <Td colSpan={table.getAllLeafColumns().length} className="py-8 text-center text-graphite-400">
+              {empty}
+            </Td>
+          </tr>
+        ) : null}
+      </tbody>
+    </>
   );
 }

@@ -9,7 +9,7 @@ import {
   useTable,
 } from '@tanstack/react-table';
 import type { CalibrationView } from '../../../../shared/schemas/line';
-import { SortButton, TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';
 import { StatusChip } from '../../../components/ui/status-chip';
 import { formatDateTime } from '../../../lib/format';
 import { PROGRAMMING_TONES, failedChecks, formatCounts, formatOffsetDeg } from './line-format';
@@ -119,53 +119,14 @@ export function CalibrationHistory({ calibrations }: { calibrations: Calibration
     data: calibrations,
     initialState: { sorting: [{ id: 'computedAt', desc: true }] },
   });
-  const rows = table.getRowModel().rows;
 
   return (
     <TableFrame caption="Calibrations of this unit, newest first">
-      <thead>
-        {table.getHeaderGroups().map((group) => (
-          <tr key={group.id}>
-            {group.headers.map((header) => {
-              const sorted = header.column.getIsSorted();
-              return (
-                <Th
-                  key={header.id}
-                  aria-sort={sorted === 'asc' ? 'ascending' : sorted === 'desc' ? 'descending' : undefined}
-                >
-                  {header.isPlaceholder ? null : header.column.getCanSort() ? (
-                    <SortButton
-                      label={<table.FlexRender header={header} />}
-                      sorted={sorted}
-                      onToggle={() => header.column.toggleSorting()}
-                    />
-                  ) : (
-                    <table.FlexRender header={header} />
-                  )}
-                </Th>
-              );
-            })}
-          </tr>
-        ))}
-      </thead>
-      <tbody data-testid="calibration-rows">
-        {rows.map((row) => (
-          <tr key={row.id} className="hover:bg-graphite-850">
-            {row.getAllCells().map((cell) => (
-              <Td key={cell.id}>
-                <table.FlexRender cell={cell} />
-              </Td>
-            ))}
-          </tr>
-        ))}
-        {rows.length === 0 ? (
-          <tr>
-            <Td colSpan={columns.length} className="py-8 text-center text-graphite-400">
-              This unit has not been measured yet.
-            </Td>
-          </tr>
-        ) : null}
-      </tbody>
+      <SortableTableContent
+        table={table}
+        bodyTestId="calibration-rows"
+        empty="This unit has not been measured yet."
+      />
     </TableFrame>
   );
 }

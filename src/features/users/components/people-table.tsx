@@ -16,7 +16,7 @@ import {
 import { ROLE_LABELS, ROLES } from '../../../../shared/schemas/roles';
 import type { UserRow } from '../../../../shared/schemas/users';
 import { Button } from '../../../components/ui/button';
-import { SortButton, TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';
 import { SelectField, TextField } from '../../../components/ui/field';
 import { StatusChip } from '../../../components/ui/status-chip';
 import { formatDateTime, formatRelative } from '../../../lib/format';
@@ -238,49 +238,7 @@ export function PeopleTable({
           : `${rows.length} of ${users.length} people match`}
       </p>
       <TableFrame caption="People with a Phasewright account">
-        <thead>
-          {table.getHeaderGroups().map((group) => (
-            <tr key={group.id}>
-              {group.headers.map((header) => {
-                const sorted = header.column.getIsSorted();
-                return (
-                  <Th
-                    key={header.id}
-                    aria-sort={sorted === 'asc' ? 'ascending' : sorted === 'desc' ? 'descending' : undefined}
-                  >
-                    {header.isPlaceholder ? null : header.column.getCanSort() ? (
-                      <SortButton
-                        label={<table.FlexRender header={header} />}
-                        sorted={sorted}
-                        onToggle={() => header.column.toggleSorting()}
-                      />
-                    ) : (
-                      <table.FlexRender header={header} />
-                    )}
-                  </Th>
-                );
-              })}
-            </tr>
-          ))}
-        </thead>
-        <tbody data-testid="people-rows">
-          {rows.map((row) => (
-            <tr key={row.id} className="hover:bg-graphite-850">
-              {row.getAllCells().map((cell) => (
-                <Td key={cell.id}>
-                  <table.FlexRender cell={cell} />
-                </Td>
-              ))}
-            </tr>
-          ))}
-          {rows.length === 0 ? (
-            <tr>
-              <Td colSpan={columns.length} className="py-8 text-center text-graphite-400">
-                Nobody matches these filters.
-              </Td>
-            </tr>
-          ) : null}
-        </tbody>
+        <SortableTableContent table={table} bodyTestId="people-rows" empty="Nobody matches these filters." />
       </TableFrame>
     </div>
   );
