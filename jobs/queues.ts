@@ -15,7 +15,14 @@ export const queues = {
   /** Compute one measurement with one recipe version (enqueued in the transaction that stores the measurement). */
   calibrationCompute: {
     name: 'calibration-compute',
-    payload: z.object({ measurementPk: z.string().uuid(), recipeId: z.string().uuid() }).strict(),
+    payload: z
+      .object({
+        measurementPk: z.string().uuid(),
+        recipeId: z.string().uuid(),
+        /** Present for an engineer's recomputation (analysis only; the unit is not changed). */
+        recompute: z.object({ requestedBy: z.string().uuid(), reason: z.string().max(500) }).optional(),
+      })
+      .strict(),
     policy: { retryLimit: 5, retryDelay: 1, retryBackoff: true, expireInSeconds: 60 },
   },
   /** Render print 1 of the traveler for a committed calibration (enqueued with the calibration). */

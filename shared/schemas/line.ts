@@ -50,6 +50,10 @@ export const calibrationViewSchema = z.object({
   recipe: z.object({ id: z.string(), version: z.number().int(), name: z.string().nullable() }),
   engineVersion: z.string(),
   verdict: z.enum(['pass', 'fail', 'unusable']),
+  /** 'station': the result the station got (it judged the unit); 'recompute': an engineer's later analysis. */
+  purpose: z.enum(['station', 'recompute']),
+  /** Why a recomputation was asked for. */
+  reason: z.string().nullable(),
   offsetDeg: z.number().nullable(),
   offsetCounts: z.number().int().nullable(),
   attempt: z.number().int().nullable(),
@@ -133,6 +137,13 @@ export const registerUnitSchema = z.object({
   statorLot: z.string().trim().max(64).optional(),
 });
 export type RegisterUnit = z.infer<typeof registerUnitSchema>;
+
+/** An engineer's recomputation of a stored measurement (default: the model's active recipe version). */
+export const recomputeSchema = z.object({
+  recipeId: z.string().uuid().optional(),
+  reason: z.string().trim().min(3, 'Give a reason (at least 3 characters)').max(500),
+});
+export type Recompute = z.infer<typeof recomputeSchema>;
 
 export const holdUnitSchema = z.object({
   hold: z.boolean(),

@@ -40,6 +40,13 @@ export const measurementErrors = {
         issues,
       },
     ),
+  notFoundAnywhere: (id: string) => new AppError(404, 'measurements.not_found', `No measurement "${id}".`),
+  recipeNotUsable: (why: string) =>
+    new AppError(
+      422,
+      'recipes.not_usable',
+      `That recipe version cannot be used for this measurement: ${why}.`,
+    ),
   notFound: (id: string) =>
     new AppError(404, 'measurements.not_found', `No measurement "${id}" from this station.`),
   notCalibrated: (id: string) =>

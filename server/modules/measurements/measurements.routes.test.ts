@@ -395,3 +395,64 @@ describe('sampled captures', () => {
     expect(await count('measurements', `measurement_id = 'cap-bad'`)).toBe(0);
   });
 });
+
+describe('recomputation by an engineer', () => {
+  it('adds an analysis-only calibration with another recipe version and leaves the unit as it was', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-RECOMPUTE', { offsetDeg: 4.2 });
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    // Version 2 of the recipe tightens the offset window to ±2°: the same unit would now fail.
+    const v2body = { ...recipe, limits: { ...recipe.limits, offsetDeg: [-2, 2] as [number, number] } };
+    const { rows: v2 } = await t.database.pool.query(
+      `insert into recipes (model_id, version, status, body, released_at) values ($1, 2, 'released', $2, now()) returning id`,
+      [line.model.id, JSON.stringify(v2body)],
+    );
+    const engineer = await cookieOf('evan.engineer', 'demo-engineer-pass');
+    const asked = await request(t.app)
+      .post(`/api/measurements/${m.measurementId}/recompute`)
+      .set('Cookie', engineer)
+      .send({ recipeId: v2[0].id, reason: 'what if the window were ±2°' });
+    expect(asked.status).toBe(202);
+    expect(asked.body).toMatchObject({ status: 'queued', recipe: { version: 2 } });
+    const { rows: jobs } = await t.database.pool.query(
+      `select data from pgboss.job where name = 'calibration-compute' and data ? 'recompute' order by created_on desc limit 1`,
+    );
+    const ctxNow = { db: t.deps.db, pool: t.deps.pool, queue: t.deps.queue, clock: t.deps.clock };
+    await computeCalibration(ctxNow, jobs[0].data);
+    await computeCalibration(ctxNow, jobs[0].data); // a retry adds nothing
+
+    const unit = await request(t.app).get('/api/units/SN-RECOMPUTE').set('Cookie', engineer);
+    const purposes = unit.body.calibrations.map(
+      (c: { purpose: string; verdict: string }) => `${c.purpose}:${c.verdict}`,
+    );
+    expect(purposes.sort()).toEqual(['recompute:fail', 'station:pass']);
+    expect(unit.body.unit).toMatchObject({ status: 'calibrated', attempts: 1 });
+    const station = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', line.key);
+    expect(station.body.calibration).toMatchObject({ purpose: 'station', verdict: 'pass' });
+
+    const again = await request(t.app)
+      .post(`/api/measurements/${m.measurementId}/recompute`)
+      .set('Cookie', engineer)
+      .send({ recipeId: v2[0].id, reason: 'once more' });
+    expect(again.status).toBe(200);
+    expect(again.body.status).toBe('computed');
+    const { rows: audit } = await t.database.pool.query(
+      `select reason from audit_log where action = 'calibrations.recomputed'`,
+    );
+    expect(audit).toEqual([{ reason: 'what if the window were ±2°' }]);
+  });
+
+  it('refuses a recipe of another model', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-RECOMPUTE-2');
+    await post(line.key, m);
+    const engineer = await cookieOf('evan.engineer', 'demo-engineer-pass');
+    const res = await request(t.app)
+      .post(`/api/measurements/${m.measurementId}/recompute`)
+      .set('Cookie', engineer)
+      .send({ recipeId: other.recipe.id, reason: 'wrong model' });
+    expect(res.status).toBe(422);
+    expect(res.body.error.code).toBe('recipes.not_usable');
+  });
+});

@@ -1,7 +1,11 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { route } from '../../lib/http';
-import { programmingConfirmationSchema, resultQuerySchema } from '../../../shared/schemas/line';
+import {
+  programmingConfirmationSchema,
+  recomputeSchema,
+  resultQuerySchema,
+} from '../../../shared/schemas/line';
 import { measurementSchema } from '../../../shared/schemas/measurement';
 import { recordHeartbeat } from '../stations/stations.service';
 import { notifyLineEvent } from '../events/event-hub';
@@ -12,6 +16,7 @@ import {
   confirmProgramming,
   measurementFromCapture,
   measurementResult,
+  requestRecompute,
   type LineContext,
 } from './measurements.service';
 
@@ -100,6 +105,20 @@ export function measurementsRoutes(deps: AppDeps) {
         const { measurementId } = idParams.parse(req.params);
         const body = programmingConfirmationSchema.parse(req.body);
         res.json(await confirmProgramming(ctx, req.station!, measurementId, body));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/measurements/:measurementId/recompute',
+      access: ['engineer'],
+      summary:
+        'Recompute a stored measurement with a released recipe version (analysis only; the unit is unchanged)',
+      body: recomputeSchema,
+      handler: async (req, res) => {
+        const { measurementId } = idParams.parse(req.params);
+        const input = recomputeSchema.parse(req.body);
+        const out = await requestRecompute(ctx, req.user!, measurementId, input);
+        res.status(out.status === 'queued' ? 202 : 200).json(out);
       },
     }),
     route({

@@ -4,7 +4,7 @@ import { and, desc, eq, sql, type SQL } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/node-postgres';
 import type { Db, DbOrTx } from '../../db/client';
 import * as schema from '../../db/schema';
-import type { StationPrincipal } from '../../lib/auth';
+import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
 import { JOBS_WAKE_CHANNEL, queues } from '../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
@@ -333,8 +333,9 @@ export function nextActionFor(
  */
 export async function computeCalibration(
   ctx: LineContext,
-  job: { measurementPk: string; recipeId: string },
+  job: { measurementPk: string; recipeId: string; recompute?: { requestedBy: string; reason: string } },
 ): Promise<{ calibrationId: string; created: boolean }> {
+  if (job.recompute) return recomputeCalibration(ctx, job as Required<typeof job>);
   // The measurement, whether this job already ran, and the "computing" event, in one statement.
   const { rows } = await ctx.pool.query<{
     id: string;
@@ -347,7 +348,7 @@ export async function computeCalibration(
     payload_raw: string | null;
     done_id: string | null;
   }>(
-    `with d as (select id from calibrations where measurement_pk = $1 and recipe_id = $2)
+    `with d as (select id from calibrations where measurement_pk = $1 and recipe_id = $2 and engine_version = $5)
      select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source, m.payload,
             case when m.source = 'capture' then m.payload_raw end as payload_raw,
             (select id from d) as done_id,
@@ -355,7 +356,7 @@ export async function computeCalibration(
               'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
               'serial', m.serial, 'measurementId', m.measurement_id, 'at', $4::text)::text) end as notified
        from measurements m where m.id = $1`,
-    [job.measurementPk, job.recipeId, EVENTS_CHANNEL, ctx.clock().toISOString()],
+    [job.measurementPk, job.recipeId, EVENTS_CHANNEL, ctx.clock().toISOString(), ENGINE_VERSION],
   );
   const measurement = rows[0];
   if (!measurement) throw new Error(`measurement ${job.measurementPk} does not exist`);
@@ -452,7 +453,13 @@ export async function computeCalibration(
       const [winner] = await ctx.db
         .select({ id: calibrations.id })
         .from(calibrations)
-        .where(and(eq(calibrations.measurementPk, measurement.id), eq(calibrations.recipeId, recipe.id)));
+        .where(
+          and(
+            eq(calibrations.measurementPk, measurement.id),
+            eq(calibrations.recipeId, recipe.id),
+            eq(calibrations.engineVersion, ENGINE_VERSION),
+          ),
+        );
       return { calibrationId: winner.id, created: false };
     }
     const calibrationId = inserted[0].id;
@@ -482,6 +489,139 @@ export async function computeCalibration(
   } finally {
     client.release();
   }
+}
+
+/** Asks for a recomputation of a stored measurement with a released recipe version of its model. */
+export async function requestRecompute(
+  ctx: LineContext,
+  actor: SessionUser,
+  measurementId: string,
+  input: { recipeId?: string; reason: string },
+) {
+  const [row] = await ctx.db
+    .select({
+      m: { id: measurements.id, serial: measurements.serial },
+      modelId: units.modelId,
+      activeRecipeId: models.activeRecipeId,
+    })
+    .from(measurements)
+    .innerJoin(units, eq(units.id, measurements.unitId))
+    .innerJoin(models, eq(models.id, units.modelId))
+    .where(eq(measurements.measurementId, measurementId));
+  if (!row) throw measurementErrors.notFoundAnywhere(measurementId);
+  const recipeId = input.recipeId ?? row.activeRecipeId;
+  if (!recipeId) throw measurementErrors.recipeNotUsable('the model has no released recipe');
+  const [recipe] = await ctx.db.select().from(recipes).where(eq(recipes.id, recipeId));
+  if (!recipe || recipe.modelId !== row.modelId)
+    throw measurementErrors.recipeNotUsable("it is not a recipe of this unit's model");
+  if (recipe.status === 'draft') throw measurementErrors.recipeNotUsable('it is a draft; release it first');
+  const [done] = await ctx.db
+    .select({ id: calibrations.id })
+    .from(calibrations)
+    .where(
+      and(
+        eq(calibrations.measurementPk, row.m.id),
+        eq(calibrations.recipeId, recipe.id),
+        eq(calibrations.engineVersion, ENGINE_VERSION),
+      ),
+    );
+  if (!done) {
+    await ctx.queue.send('calibrationCompute', {
+      measurementPk: row.m.id,
+      recipeId: recipe.id,
+      recompute: { requestedBy: actor.id, reason: input.reason },
+    });
+  }
+  return {
+    measurementId,
+    serial: row.m.serial,
+    recipe: { id: recipe.id, version: recipe.version },
+    engineVersion: ENGINE_VERSION,
+    status: done ? ('computed' as const) : ('queued' as const),
+    calibrationId: done?.id ?? null,
+  };
+}
+
+/**
+ * An engineer's recomputation: the stored measurement with a chosen released recipe version and this
+ * engine. It adds a calibration row (purpose 'recompute') and an audit entry, and changes nothing
+ * else: the unit's status, attempts and programmed offset stay what the station's calibration made
+ * them. Once per (measurement, recipe version, engine version).
+ */
+async function recomputeCalibration(
+  ctx: LineContext,
+  job: { measurementPk: string; recipeId: string; recompute: { requestedBy: string; reason: string } },
+): Promise<{ calibrationId: string; created: boolean }> {
+  const [m] = await ctx.db.select().from(measurements).where(eq(measurements.id, job.measurementPk));
+  if (!m) throw new Error(`measurement ${job.measurementPk} does not exist`);
+  const recipe = await releasedRecipe(ctx.db, job.recipeId);
+  const sameKey = and(
+    eq(calibrations.measurementPk, m.id),
+    eq(calibrations.recipeId, recipe.id),
+    eq(calibrations.engineVersion, ENGINE_VERSION),
+  );
+  const [done] = await ctx.db.select({ id: calibrations.id }).from(calibrations).where(sameKey);
+  if (done) return { calibrationId: done.id, created: false };
+  const t0 = performance.now();
+  let result: CalibrationResult | null = null;
+  let stored: CalibrationRecord['result'];
+  try {
+    result =
+      m.source === 'capture'
+        ? calibrateCapture(m.payloadRaw, recipe.body, {
+            measurementId: m.measurementId,
+            serial: m.serial,
+            direction: (m.payload as Measurement).segments[0]?.direction,
+          }).result
+        : calibrate(m.payload as Measurement, recipe.body);
+    stored = result;
+  } catch (e) {
+    if (!(e instanceof CalibrationInputError)) throw e;
+    stored = { error: { code: e.code, message: e.message, issues: e.issues } };
+  }
+  const computeMs = performance.now() - t0;
+  return ctx.db.transaction(async (tx) => {
+    const [row] = await tx
+      .insert(calibrations)
+      .values({
+        measurementPk: m.id,
+        recipeId: recipe.id,
+        unitId: m.unitId,
+        stationId: m.stationId,
+        engineVersion: ENGINE_VERSION,
+        verdict: result?.verdict ?? 'unusable',
+        purpose: 'recompute',
+        requestedBy: job.recompute.requestedBy,
+        reason: job.recompute.reason,
+        offsetDeg: result?.offsetDeg ?? null,
+        offsetCounts: result?.offsetCounts ?? null,
+        attempt: null,
+        result: stored,
+        computeMs,
+        computedAt: ctx.clock(),
+      })
+      .onConflictDoNothing()
+      .returning({ id: calibrations.id });
+    if (!row) {
+      const [winner] = await tx.select({ id: calibrations.id }).from(calibrations).where(sameKey);
+      return { calibrationId: winner.id, created: false };
+    }
+    await insertAudit(tx, {
+      actorId: job.recompute.requestedBy,
+      action: 'calibrations.recomputed',
+      subjectType: 'measurement',
+      subjectId: m.measurementId,
+      reason: job.recompute.reason,
+      after: {
+        calibrationId: row.id,
+        recipeVersion: recipe.version,
+        engineVersion: ENGINE_VERSION,
+        verdict: result?.verdict ?? 'unusable',
+        offsetDeg: result?.offsetDeg ?? null,
+      },
+    });
+    return { calibrationId: row.id, created: true };
+  });
 }
 
 /**
@@ -608,7 +748,7 @@ export async function calibrationViews(
       unitStatus: units.status,
       unitHoldReason: units.holdReason,
       newestOfUnit: sql<string>`(select c2.id from calibrations c2 where c2.unit_id = ${calibrations.unitId}
-        order by c2.computed_at desc limit 1)`,
+        and c2.purpose = 'station' order by c2.computed_at desc limit 1)`,
       confirmation: sql<ConfirmationJson | null>`(select row_to_json(p) from (
         select matches, expected_counts, written_counts, read_back_counts, checksum,
                to_char(confirmed_at at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') as confirmed_at
@@ -635,6 +775,8 @@ export async function calibrationViews(
       recipe: { id: r.cal.recipeId, version: r.recipeVersion, name: r.recipeBody.name ?? null },
       engineVersion: r.cal.engineVersion,
       verdict: r.cal.verdict,
+      purpose: r.cal.purpose,
+      reason: r.cal.reason,
       offsetDeg: r.cal.offsetDeg,
       offsetCounts: r.cal.offsetCounts,
       attempt: r.cal.attempt,
@@ -642,15 +784,18 @@ export async function calibrationViews(
       computedAt: r.cal.computedAt.toISOString(),
       receivedAt: r.receivedAt.toISOString(),
       computeMs: r.cal.computeMs,
-      nextAction: nextActionFor(
-        r.cal.verdict,
-        r.cal.attempt,
-        r.recipeBody.maxAttempts,
-        // A hold the unit is under now matters for its newest calibration, not for its history.
-        r.unitStatus === 'on_hold' && r.newestOfUnit === r.cal.id
-          ? (r.unitHoldReason ?? 'no reason given')
-          : null,
-      ),
+      nextAction:
+        r.cal.purpose === 'recompute'
+          ? 'A recomputation for analysis: it does not change the unit or what is programmed into it.'
+          : nextActionFor(
+              r.cal.verdict,
+              r.cal.attempt,
+              r.recipeBody.maxAttempts,
+              // A hold the unit is under now matters for its newest calibration, not for its history.
+              r.unitStatus === 'on_hold' && r.newestOfUnit === r.cal.id
+                ? (r.unitHoldReason ?? 'no reason given')
+                : null,
+            ),
       result: isError ? null : (r.cal.result as CalibrationResult),
       error: isError ? (r.cal.result as { error: CalibrationView['error'] }).error : null,
       programming: conf
@@ -679,7 +824,11 @@ export async function calibrationViews(
  * exists; a second only to tell "not computed yet" from "no such measurement here".
  */
 export async function measurementResult(db: DbOrTx, station: StationPrincipal | null, measurementId: string) {
-  const [view] = await calibrationViews(db, eq(measurements.measurementId, measurementId), 1);
+  const [view] = await calibrationViews(
+    db,
+    and(eq(measurements.measurementId, measurementId), eq(calibrations.purpose, 'station')),
+    1,
+  );
   if (view && (!station || view.stationId === station.stationId)) return { view };
   if (!view) {
     const m = await findMeasurement(db, measurementId);

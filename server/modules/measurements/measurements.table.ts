@@ -53,9 +53,15 @@ export const measurements = pgTable(
 export const calibrationVerdictEnum = pgEnum('calibration_verdict', ['pass', 'fail', 'unusable']);
 
 /**
- * One computation of a measurement with one recipe version. Never updated or deleted; a
- * recomputation is a new row. At most one row per (measurement, recipe version): a retried job
- * cannot add a second.
+ * Why a calibration was computed: for the station that posted the measurement (it judges the unit),
+ * or as a later recomputation by an engineer (analysis only: it never changes the unit).
+ */
+export const calibrationPurposeEnum = pgEnum('calibration_purpose', ['station', 'recompute']);
+
+/**
+ * One computation of a measurement with one recipe version by one engine version. Never updated or
+ * deleted; a recomputation is a new row. At most one row per (measurement, recipe version, engine
+ * version): a retried job cannot add a second.
  */
 export const calibrations = pgTable(
   'calibrations',
@@ -75,6 +81,10 @@ export const calibrations = pgTable(
       .references(() => stations.id),
     engineVersion: text().notNull(),
     verdict: calibrationVerdictEnum().notNull(),
+    purpose: calibrationPurposeEnum().notNull().default('station'),
+    /** Who asked for a recomputation, and why. */
+    requestedBy: uuid().references(() => users.id),
+    reason: text(),
     offsetDeg: doublePrecision(),
     offsetCounts: integer(),
     /** Attempt number of this unit (1-based) when it counted; null for unusable input. */
@@ -86,7 +96,11 @@ export const calibrations = pgTable(
     computedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
-    uniqueIndex('calibrations_measurement_recipe_key').on(t.measurementPk, t.recipeId),
+    uniqueIndex('calibrations_measurement_recipe_engine_key').on(
+      t.measurementPk,
+      t.recipeId,
+      t.engineVersion,
+    ),
     index('calibrations_unit_idx').on(t.unitId, t.computedAt),
     index('calibrations_station_idx').on(t.stationId, t.computedAt),
   ],

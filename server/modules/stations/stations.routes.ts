@@ -1,4 +1,4 @@
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { route } from '../../lib/http';
@@ -49,7 +49,13 @@ export function stationsRoutes(deps: AppDeps) {
         const { id } = idParams.parse(req.params);
         const { limit } = recentQuery.parse(req.query);
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
-        res.json({ calibrations: await calibrationViews(deps.db, eq(calibrations.stationId, id), limit) });
+        res.json({
+          calibrations: await calibrationViews(
+            deps.db,
+            and(eq(calibrations.stationId, id), eq(calibrations.purpose, 'station')),
+            limit,
+          ),
+        });
       },
     }),
     route({

@@ -216,7 +216,13 @@ export async function currentTraveler(db: DbOrTx, unitId: string): Promise<Trave
   const [latest] = await db
     .select({ id: calibrations.id })
     .from(calibrations)
-    .where(and(eq(calibrations.unitId, unitId), inArray(calibrations.verdict, ['pass', 'fail'])))
+    .where(
+      and(
+        eq(calibrations.unitId, unitId),
+        eq(calibrations.purpose, 'station'),
+        inArray(calibrations.verdict, ['pass', 'fail']),
+      ),
+    )
     .orderBy(desc(calibrations.computedAt))
     .limit(1);
   if (!latest) return undefined;
@@ -244,7 +250,13 @@ export async function printTraveler(
   const [latest] = await db
     .select()
     .from(calibrations)
-    .where(and(eq(calibrations.unitId, unitId), inArray(calibrations.verdict, ['pass', 'fail'])))
+    .where(
+      and(
+        eq(calibrations.unitId, unitId),
+        eq(calibrations.purpose, 'station'),
+        inArray(calibrations.verdict, ['pass', 'fail']),
+      ),
+    )
     .orderBy(desc(calibrations.computedAt))
     .limit(1);
   if (!latest) throw travelerErrors.none(serial);

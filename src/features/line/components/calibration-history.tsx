@@ -57,7 +57,10 @@ export function CalibrationHistory({ calibrations }: { calibrations: Calibration
           id: 'attempt',
           header: 'Attempt',
           sortFn: 'alphanumeric',
-          cell: (info) => `${info.row.original.attempt ?? '—'} of ${info.row.original.maxAttempts}`,
+          cell: (info) =>
+            info.row.original.purpose === 'recompute'
+              ? `Recomputed: ${info.row.original.reason ?? ''}`
+              : `${info.row.original.attempt ?? '—'} of ${info.row.original.maxAttempts}`,
         }),
         helper.accessor('stationName', { header: 'Station', sortFn: 'text' }),
         helper.accessor((c) => c.recipe.version, {

@@ -47,7 +47,7 @@ function storedPageSize(): PageSize {
 
 /** Whether the traveler of the unit's latest result exists yet, and whether it has been printed. */
 function travelerState(detail: UnitDetail | null | undefined, readyForLatest: boolean) {
-  const latest = detail?.calibrations.find((c) => c.verdict !== 'unusable');
+  const latest = detail?.calibrations.find((c) => c.purpose === 'station' && c.verdict !== 'unusable');
   if (!detail || !latest) return { latest: undefined, ready: false, reprint: false };
   const docs = detail.travelers.filter((t) => t.createdAt >= latest.computedAt);
   return {
@@ -217,7 +217,8 @@ export function StationScreen({ station }: { station: StationView }) {
       ? detail?.calibrations.find((c) => c.calibrationId === live.calibrationId)
       : undefined;
   const busyPhase = live && (live.phase === 'received' || live.phase === 'computing');
-  const historyCalibration = !live || live.phase === 'waiting' ? detail?.calibrations[0] : undefined;
+  const historyCalibration =
+    !live || live.phase === 'waiting' ? detail?.calibrations.find((c) => c.purpose === 'station') : undefined;
   const unitModel = detail ? (models.data?.find((m) => m.id === detail.unit.model.id) ?? null) : null;
 
   return (

@@ -59,7 +59,7 @@ export function UnitPage({ serial }: { serial: string }) {
       </div>
     );
   const model = models.data?.find((m) => m.id === detail.unit.model.id) ?? null;
-  const latest = detail.calibrations[0];
+  const latest = detail.calibrations.find((c) => c.purpose === 'station');
   return (
     <div className="flex flex-col gap-6">
       <div className="grid items-start gap-6 lg:grid-cols-[22rem_minmax(0,1fr)]">
