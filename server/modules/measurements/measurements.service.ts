@@ -4,6 +4,7 @@ import { and, desc, eq, sql, type SQL } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/node-postgres';
 import type { Db, DbOrTx } from '../../db/client';
 import * as schema from '../../db/schema';
+import { prepared } from '../../db/prepared';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
 import { JOBS_WAKE_CHANNEL, queues } from '../../../jobs/queues';
@@ -162,7 +163,8 @@ export async function acceptMeasurement(
   // (if known) and its model (or the station's only model).
   const serialKey = measurement.serial.trim().toUpperCase();
   const { rows } = await ctx.pool.query<IntakeContext>(
-    `select s.name as station_name, s.allowed_model_ids, s.attended_by,
+    prepared(
+      `select s.name as station_name, s.allowed_model_ids, s.attended_by,
             u.id as unit_id, u.serial as unit_serial, u.status as unit_status, u.hold_reason,
             mo.id as model_id, mo.code as model_code, mo.active_recipe_id,
             ex.id as ex_id, ex.measurement_id as ex_measurement_id, ex.station_id as ex_station_id,
@@ -174,7 +176,8 @@ export async function acceptMeasurement(
             case when jsonb_array_length(s.allowed_model_ids) = 1 then (s.allowed_model_ids->>0)::uuid end)
        left join measurements ex on ex.measurement_id = $3
       where s.id = $1`,
-    [station.stationId, serialKey, measurement.measurementId],
+      [station.stationId, serialKey, measurement.measurementId],
+    ),
   );
   const c = rows[0];
   if (c.ex_id) return repeatedAnswerFrom(c, digest, station);
@@ -207,26 +210,37 @@ export async function acceptMeasurement(
           .where(sql`upper(${units.serial}) = ${serialKey}`)
       )[0];
     }
-    const [inserted] = await tx
-      .insert(measurements)
-      .values({
-        measurementId: measurement.measurementId,
-        stationId: station.stationId,
-        unitId: unit.id,
-        serial: unit.serial,
-        source: opts.source ?? 'timings',
-        payload: measurement,
-        payloadRaw: opts.raw ?? canonical,
-        payloadSha256: digest,
-        operatorId: c.attended_by,
-        receivedAt: ctx.clock(),
-      })
-      .onConflictDoNothing()
-      .returning({
-        id: measurements.id,
-        measurementId: measurements.measurementId,
-        receivedAt: measurements.receivedAt,
-      });
+    const { rows: insertedRows } = await client.query<{
+      id: string;
+      measurement_id: string;
+      received_at: Date;
+    }>(
+      prepared(
+        `insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw,
+                                   payload_sha256, operator_id, received_at)
+         values ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)
+         on conflict do nothing returning id, measurement_id, received_at`,
+        [
+          measurement.measurementId,
+          station.stationId,
+          unit.id,
+          unit.serial,
+          opts.source ?? 'timings',
+          canonical,
+          opts.raw ?? canonical,
+          digest,
+          c.attended_by,
+          ctx.clock(),
+        ],
+      ),
+    );
+    const inserted = insertedRows[0]
+      ? {
+          id: insertedRows[0].id,
+          measurementId: insertedRows[0].measurement_id,
+          receivedAt: insertedRows[0].received_at,
+        }
+      : undefined;
     if (!inserted) {
       // Another post with this id committed while we were checking: answer as for a repeat.
       await client.query('ROLLBACK');
@@ -245,7 +259,7 @@ export async function acceptMeasurement(
       'calibrationCompute',
       { measurementPk: inserted.id, recipeId: recipe.id },
       {
-        db: { executeSql: (text, values) => client.query(text, values) },
+        db: { executeSql: (text, values) => client.query(prepared(text, values)) },
         notify: [{ channel: EVENTS_CHANNEL, payload: JSON.stringify(event) }],
       },
     );
@@ -348,7 +362,8 @@ export async function computeCalibration(
     payload_raw: string | null;
     done_id: string | null;
   }>(
-    `with d as (select id from calibrations where measurement_pk = $1 and recipe_id = $2 and engine_version = $5)
+    prepared(
+      `with d as (select id from calibrations where measurement_pk = $1 and recipe_id = $2 and engine_version = $5)
      select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source, m.payload,
             case when m.source = 'capture' then m.payload_raw end as payload_raw,
             (select id from d) as done_id,
@@ -356,7 +371,8 @@ export async function computeCalibration(
               'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
               'serial', m.serial, 'measurementId', m.measurement_id, 'at', $4::text)::text) end as notified
        from measurements m where m.id = $1`,
-    [job.measurementPk, job.recipeId, EVENTS_CHANNEL, ctx.clock().toISOString(), ENGINE_VERSION],
+      [job.measurementPk, job.recipeId, EVENTS_CHANNEL, ctx.clock().toISOString(), ENGINE_VERSION],
+    ),
   );
   const measurement = rows[0];
   if (!measurement) throw new Error(`measurement ${job.measurementPk} does not exist`);
@@ -393,7 +409,9 @@ export async function computeCalibration(
       attempts: number;
       status: UnitRecord['status'];
       serial: string;
-    }>('select attempts, status, serial from units where id = $1 for update', [measurement.unit_id]);
+    }>(
+      prepared('select attempts, status, serial from units where id = $1 for update', [measurement.unit_id]),
+    );
     const unit = unitRows[0];
     const counts = verdict !== 'unusable';
     const attempt = counts ? unit.attempts + 1 : null;
@@ -401,7 +419,8 @@ export async function computeCalibration(
     // Calibration, unit status and the commit event in one statement; nothing changes if this
     // (measurement, recipe) pair was computed meanwhile.
     const { rows: inserted } = await client.query<{ id: string }>(
-      `with c as (
+      prepared(
+        `with c as (
          insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict,
                                    offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
          values ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12)
@@ -422,31 +441,32 @@ export async function computeCalibration(
                 'verdict', $6::text, 'at', $21::text)::text),
               case when $17 then pg_notify($22, $23) end
          from c left join u on true`,
-      [
-        measurement.id,
-        recipe.id,
-        measurement.unit_id,
-        measurement.station_id,
-        ENGINE_VERSION,
-        verdict,
-        result?.offsetDeg ?? null,
-        result?.offsetCounts ?? null,
-        attempt,
-        JSON.stringify(stored),
-        computeMs,
-        now,
-        next?.attempts ?? 0,
-        next?.status ?? 'new',
-        next?.holdReason ?? null,
-        verdict === 'pass',
-        counts,
-        EVENTS_CHANNEL,
-        unit.serial,
-        measurement.measurement_id,
-        now.toISOString(),
-        JOBS_WAKE_CHANNEL,
-        queues.travelerRender.name,
-      ],
+        [
+          measurement.id,
+          recipe.id,
+          measurement.unit_id,
+          measurement.station_id,
+          ENGINE_VERSION,
+          verdict,
+          result?.offsetDeg ?? null,
+          result?.offsetCounts ?? null,
+          attempt,
+          JSON.stringify(stored),
+          computeMs,
+          now,
+          next?.attempts ?? 0,
+          next?.status ?? 'new',
+          next?.holdReason ?? null,
+          verdict === 'pass',
+          counts,
+          EVENTS_CHANNEL,
+          unit.serial,
+          measurement.measurement_id,
+          now.toISOString(),
+          JOBS_WAKE_CHANNEL,
+          queues.travelerRender.name,
+        ],
+      ),
     );
     if (!inserted[0]) {
       await client.query('ROLLBACK');
@@ -478,7 +498,7 @@ export async function computeCalibration(
       await ctx.queue.send(
         'travelerRender',
         { calibrationId },
-        { db: { executeSql: (text, values) => client.query(text, values) }, wake: false },
+        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
       );
     }
     await client.query('COMMIT');
@@ -661,12 +681,14 @@ export async function confirmProgramming(
     offset_counts: number | null;
     serial: string;
   }>(
-    `select m.station_id, m.serial, c.id as cal_id, c.unit_id, c.offset_counts
+    prepared(
+      `select m.station_id, m.serial, c.id as cal_id, c.unit_id, c.offset_counts
        from measurements m
        left join lateral (select id, unit_id, offset_counts from calibrations
                            where measurement_pk = m.id order by computed_at desc limit 1) c on true
       where m.measurement_id = $1`,
-    [measurementId],
+      [measurementId],
+    ),
   );
   const m = rows[0];
   if (!m || m.station_id !== station.stationId) throw measurementErrors.notFound(measurementId);
@@ -679,7 +701,8 @@ export async function confirmProgramming(
   // the flag only when it confirms the unit's current calibration), the audit entry and the event.
   const reason = `expected ${expected}, written ${body.writtenCounts}, read back ${body.readBackCounts}`;
   await ctx.pool.query(
-    `with p as (
+    prepared(
+      `with p as (
        insert into programming_confirmations (calibration_id, unit_id, station_id, expected_counts,
                                               written_counts, read_back_counts, checksum, matches, confirmed_at)
        values ($1, $2, $3, $4, $5, $6, $7, $8, $9) returning id
@@ -691,28 +714,29 @@ export async function confirmProgramming(
        select 'units.programming_mismatch', 'unit', $2::text, $10 where not $8 returning id
      )
      select pg_notify($11, $12) from p`,
-    [
-      m.cal_id,
-      m.unit_id,
-      station.stationId,
-      expected,
-      body.writtenCounts,
-      body.readBackCounts,
-      body.checksum ?? null,
-      matches,
-      now,
-      reason,
-      EVENTS_CHANNEL,
-      JSON.stringify({
-        type: 'programming.confirmed',
-        stationId: station.stationId,
-        unitId: m.unit_id!,
-        serial: m.serial,
-        calibrationId: m.cal_id,
+      [
+        m.cal_id,
+        m.unit_id,
+        station.stationId,
+        expected,
+        body.writtenCounts,
+        body.readBackCounts,
+        body.checksum ?? null,
         matches,
-        at: now.toISOString(),
-      } satisfies LineEvent),
-    ],
+        now,
+        reason,
+        EVENTS_CHANNEL,
+        JSON.stringify({
+          type: 'programming.confirmed',
+          stationId: station.stationId,
+          unitId: m.unit_id!,
+          serial: m.serial,
+          calibrationId: m.cal_id,
+          matches,
+          at: now.toISOString(),
+        } satisfies LineEvent),
+      ],
+    ),
   );
   return { matches, expectedCounts: expected, confirmedAt: now.toISOString() };
 }
