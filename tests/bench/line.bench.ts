@@ -29,7 +29,8 @@ import type { Measurement } from '../../shared/schemas/measurement';
 process.env.PGPORT_BENCH ??= '55437';
 const STATIONS = 32;
 const CLOSED_POSTS = Number(process.env.BENCH_LINE_POSTS ?? 2000);
-const OPEN_RATE = 50;
+// The target rate; BENCH_LINE_OPEN_RATE runs the open loop at another rate (e.g. one the machine can sustain).
+const OPEN_RATE = Number(process.env.BENCH_LINE_OPEN_RATE ?? 50);
 const OPEN_SECONDS = Number(process.env.BENCH_LINE_OPEN_SECONDS ?? 20);
 const RAW_ROWS = 2000;
 const PHASE_LIMIT_MS = 180_000;
