@@ -379,27 +379,17 @@ export async function computeCalibration(
   if (measurement.done_id) return { calibrationId: measurement.done_id, created: false };
   const recipe = await releasedRecipe(ctx.db, job.recipeId);
 
-  const t0 = performance.now();
-  let verdict: 'pass' | 'fail' | 'unusable';
-  let stored: CalibrationRecord['result'];
-  let result: CalibrationResult | null = null;
-  try {
-    result =
-      measurement.source === 'capture'
-        ? calibrateCapture(measurement.payload_raw!, recipe.body, {
-            measurementId: measurement.measurement_id,
-            serial: measurement.serial,
-            direction: measurement.payload.segments[0]?.direction,
-          }).result
-        : calibrate(measurement.payload, recipe.body);
-    verdict = result.verdict;
-    stored = result;
-  } catch (e) {
-    if (!(e instanceof CalibrationInputError)) throw e;
-    verdict = 'unusable';
-    stored = { error: { code: e.code, message: e.message, issues: e.issues } };
-  }
-  const computeMs = performance.now() - t0;
+  const { result, stored, computeMs } = runEngine(
+    {
+      source: measurement.source,
+      payload: measurement.payload,
+      payloadRaw: measurement.payload_raw,
+      measurementId: measurement.measurement_id,
+      serial: measurement.serial,
+    },
+    recipe,
+  );
+  const verdict = result?.verdict ?? 'unusable';
   const now = ctx.clock();
 
   const client = await ctx.pool.connect();
@@ -511,6 +501,41 @@ export async function computeCalibration(
   }
 }
 
+/**
+ * Runs the engine on a stored measurement: a capture is recomputed from its CSV, posted timings from
+ * their JSON. Unusable input is a stored outcome ('unusable'), not a failure of the job.
+ */
+function runEngine(
+  m: {
+    source: 'timings' | 'capture';
+    payload: Measurement;
+    payloadRaw: string | null;
+    measurementId: string;
+    serial: string;
+  },
+  recipe: RecipeRecord,
+): { result: CalibrationResult | null; stored: CalibrationRecord['result']; computeMs: number } {
+  const t0 = performance.now();
+  try {
+    const result =
+      m.source === 'capture'
+        ? calibrateCapture(m.payloadRaw!, recipe.body, {
+            measurementId: m.measurementId,
+            serial: m.serial,
+            direction: m.payload.segments[0]?.direction,
+          }).result
+        : calibrate(m.payload, recipe.body);
+    return { result, stored: result, computeMs: performance.now() - t0 };
+  } catch (e) {
+    if (!(e instanceof CalibrationInputError)) throw e;
+    return {
+      result: null,
+      stored: { error: { code: e.code, message: e.message, issues: e.issues } },
+      computeMs: performance.now() - t0,
+    };
+  }
+}
+
 /** Asks for a recomputation of a stored measurement with a released recipe version of its model. */
 export async function requestRecompute(
   ctx: LineContext,
@@ -582,24 +607,7 @@ async function recomputeCalibration(
   );
   const [done] = await ctx.db.select({ id: calibrations.id }).from(calibrations).where(sameKey);
   if (done) return { calibrationId: done.id, created: false };
-  const t0 = performance.now();
-  let result: CalibrationResult | null = null;
-  let stored: CalibrationRecord['result'];
-  try {
-    result =
-      m.source === 'capture'
-        ? calibrateCapture(m.payloadRaw, recipe.body, {
-            measurementId: m.measurementId,
-            serial: m.serial,
-            direction: (m.payload as Measurement).segments[0]?.direction,
-          }).result
-        : calibrate(m.payload as Measurement, recipe.body);
-    stored = result;
-  } catch (e) {
-    if (!(e instanceof CalibrationInputError)) throw e;
-    stored = { error: { code: e.code, message: e.message, issues: e.issues } };
-  }
-  const computeMs = performance.now() - t0;
+  const { result, stored, computeMs } = runEngine({ ...m, payload: m.payload as Measurement }, recipe);
   return ctx.db.transaction(async (tx) => {
     const [row] = await tx
       .insert(calibrations)
