@@ -8,6 +8,10 @@ import { simulateMeasurement, type SimulationSpec } from '../simulation/simulate
 import { wrapDeg180 } from './angles';
 import { calibrate, ENGINE_VERSION, offsetToCounts } from './engine';
 
+// Ground truth comes from shared/simulation, a physical generator that shares no code with the engine:
+// crossing angles follow from the winding flux λx = ψ·cos(θ − φx) (textbook machine theory, e.g. Krause et
+// al., Analysis of Electric Machinery and Drive Systems), hall edges from the hall model of the domain notes.
+// Test layouts (0/120/240°, 0/60/120°) and limits are chosen for the tests: common practice, no source.
 const LAYOUT_120 = { A: 0, B: 120, C: 240 };
 const LAYOUT_60 = { A: 0, B: 60, C: 120 };
 
