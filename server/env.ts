@@ -26,6 +26,11 @@ const envSchema = z.object({
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
   /** Where the built client lives; served with a single-page fallback when present. */
   CLIENT_DIST: z.string().default('dist/client'),
+  /** Plant setting: `true` lets one engineer submit and approve their own recipe draft (default: two people). */
+  RECIPE_SINGLE_PERSON_RELEASE: z
+    .enum(['true', 'false'])
+    .default('false')
+    .transform((v) => v === 'true'),
   BCRYPT_COST: z.coerce.number().int().min(10).max(15).default(10),
 });
 

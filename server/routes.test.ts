@@ -85,3 +85,15 @@ describe('every route answers each caller as its declared access says', () => {
     });
   }
 });
+
+describe('recipe desk access', () => {
+  it('every route that changes a model or a recipe is for engineers only (admins included out)', () => {
+    const changing = buildRoutes(t.deps).filter(
+      (r) => r.method !== 'get' && /^\/api\/(models|recipes|what-if)/.test(r.path),
+    );
+    expect(changing.length).toBeGreaterThan(5);
+    for (const r of changing)
+      expect([r.method, r.path, r.access]).toEqual([r.method, r.path, { only: ['engineer'] }]);
+    expect(roleAllows({ only: ['engineer'] }, 'admin')).toBe(false);
+  });
+});

@@ -3,10 +3,10 @@ import { route, type RouteDef } from './lib/http';
 import { buildOpenApi } from './lib/openapi';
 import { auditRoutes } from './modules/audit/audit.routes';
 import { authRoutes } from './modules/auth/auth.routes';
-import { catalogRoutes } from './modules/catalog/catalog.routes';
 import { APP_VERSION, healthRoutes } from './modules/health/health.routes';
 import { jobsRoutes } from './modules/jobs/jobs.routes';
 import { mailRoutes } from './modules/mail/mail.routes';
+import { recipesRoutes } from './modules/recipes/recipes.routes';
 import { measurementsRoutes } from './modules/measurements/measurements.routes';
 import { stationsRoutes } from './modules/stations/stations.routes';
 import { unitsRoutes } from './modules/units/units.routes';
@@ -25,7 +25,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...usersRoutes(deps),
     ...mailRoutes(deps),
     ...auditRoutes(deps),
-    ...catalogRoutes(deps),
+    ...recipesRoutes(deps),
     ...unitsRoutes(deps),
     ...stationsRoutes(deps),
     ...measurementsRoutes(deps),

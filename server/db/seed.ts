@@ -33,6 +33,14 @@ export const DEMO_ACCOUNTS: {
     password: 'demo-engineer-pass',
   },
   {
+    // A second engineer, so a recipe change can be reviewed by someone other than its author.
+    username: 'rosa.engineer',
+    displayName: 'Rosa Kettleby',
+    email: 'rosa.engineer@corvane.example',
+    role: 'engineer',
+    password: 'demo-engineer2-pass',
+  },
+  {
     username: 'quinn.quality',
     displayName: 'Quinn Abernethy',
     email: 'quinn.quality@corvane.example',

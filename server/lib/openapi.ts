@@ -35,7 +35,9 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
           description: 'Invalid request: `{ error: { code, message, issues: [{ path, message }] } }`',
         },
         ...(r.access === 'anyone' ? {} : { '401': { description: 'Not signed in / no valid station key' } }),
-        ...(Array.isArray(r.access) ? { '403': { description: 'Role not allowed' } } : {}),
+        ...(Array.isArray(r.access) || (typeof r.access === 'object' && 'only' in r.access)
+          ? { '403': { description: 'Role not allowed' } }
+          : {}),
       },
     };
     if (r.body) {

@@ -1,5 +1,5 @@
 import type { Db } from '../../server/db/client';
-import { models, recipes } from '../../server/modules/catalog/catalog.table';
+import { models, recipes } from '../../server/modules/recipes/recipes.table';
 import { createStation, createStationKey } from '../../server/modules/stations/stations.service';
 import { eq } from 'drizzle-orm';
 import type { Recipe } from '../../shared/schemas/recipe';

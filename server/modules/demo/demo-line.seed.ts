@@ -7,7 +7,7 @@ import type { JobQueue } from '../../../jobs/queue-client';
 import { queues } from '../../../jobs/queues';
 import { createRng, type Rng } from '../../../shared/simulation/rng';
 import { insertAudit } from '../audit/audit.repository';
-import { models, recipes } from '../catalog/catalog.table';
+import { models, recipes } from '../recipes/recipes.table';
 import {
   acceptMeasurement,
   computeCalibration,

@@ -24,7 +24,8 @@ import type { CalibrationResult } from '../../../shared/schemas/calibration-resu
 import { calibrateCapture, captureSignals, captureToMeasurement } from '../../../shared/capture/capture';
 import { parseNumericCsv } from '../../../shared/capture/csv';
 import { insertAudit } from '../audit/audit.repository';
-import { models, recipes, type RecipeRecord } from '../catalog/catalog.table';
+import { models, recipes, type RecipeRecord } from '../recipes/recipes.table';
+import { releasedRecipe } from '../recipes/recipes.repository';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import type { LineEvent } from '../../../shared/schemas/events';
 import { stations } from '../stations/stations.table';
@@ -108,18 +109,6 @@ function repeatedAnswerFrom(
     resultUrl: resultUrlFor(c.ex_measurement_id!),
     repeated: true,
   };
-}
-
-/** Released recipe versions never change (the database refuses it), so they are read once per process. */
-const releasedRecipes = new Map<string, RecipeRecord>();
-
-export async function releasedRecipe(db: DbOrTx, id: string): Promise<RecipeRecord> {
-  const cached = releasedRecipes.get(id);
-  if (cached) return cached;
-  const [row] = await db.select().from(recipes).where(eq(recipes.id, id));
-  if (!row) throw new Error(`recipe ${id} does not exist`);
-  if (row.status !== 'draft') releasedRecipes.set(id, row);
-  return row;
 }
 
 /** The answer to a repeated post: same id and same body → the same answer; different body → 409. */
@@ -505,7 +494,7 @@ export async function computeCalibration(
  * Runs the engine on a stored measurement: a capture is recomputed from its CSV, posted timings from
  * their JSON. Unusable input is a stored outcome ('unusable'), not a failure of the job.
  */
-function runEngine(
+export function runEngine(
   m: {
     source: 'timings' | 'capture';
     payload: Measurement;
@@ -867,4 +856,33 @@ export async function measurementResult(db: DbOrTx, station: StationPrincipal | 
     if (m && (!station || m.stationId === station.stationId)) return { view: null };
   }
   throw measurementErrors.notFound(measurementId);
+}
+
+/**
+ * First-pass yield per model since `since`: of the units whose first station measurement (attempt 1)
+ * was computed since then, how many passed it. Model id → counts.
+ */
+export async function firstPassYieldByModel(
+  db: DbOrTx,
+  since: Date,
+): Promise<Map<string, { firstMeasured: number; passedFirst: number }>> {
+  const rows = await db
+    .select({
+      modelId: units.modelId,
+      firstMeasured: sql<number>`count(*)::int`,
+      passedFirst: sql<number>`count(*) filter (where ${calibrations.verdict} = 'pass')::int`,
+    })
+    .from(calibrations)
+    .innerJoin(units, eq(units.id, calibrations.unitId))
+    .where(
+      and(
+        eq(calibrations.purpose, 'station'),
+        eq(calibrations.attempt, 1),
+        sql`${calibrations.computedAt} >= ${since.toISOString()}`,
+      ),
+    )
+    .groupBy(units.modelId);
+  return new Map(
+    rows.map((r) => [r.modelId, { firstMeasured: r.firstMeasured, passedFirst: r.passedFirst }]),
+  );
 }

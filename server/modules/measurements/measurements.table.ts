@@ -12,7 +12,7 @@ import {
   uuid,
 } from 'drizzle-orm/pg-core';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
-import { recipes } from '../catalog/catalog.table';
+import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';

@@ -5,7 +5,7 @@ import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import { insertAudit } from '../audit/audit.repository';
-import { models } from '../catalog/catalog.table';
+import { models } from '../recipes/recipes.table';
 import { users } from '../users/users.table';
 import type { StationView } from '../../../shared/schemas/line';
 import { createStationSchema, updateStationSchema } from '../../../shared/schemas/line';
@@ -245,4 +245,12 @@ export async function attendStation(db: Db, user: SessionUser, stationId: string
       after: { attendedBy: user.id },
     });
   }
+}
+
+/** Every station with the models it may test (id, name, allowed model ids), by name. */
+export async function listStationsAllowingModels(db: DbOrTx) {
+  return db
+    .select({ id: stations.id, name: stations.name, allowedModelIds: stations.allowedModelIds })
+    .from(stations)
+    .orderBy(asc(stations.name));
 }

@@ -6,7 +6,7 @@ import { AppError } from '../../lib/errors';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
 import { auditLog } from '../audit/audit.table';
 import { insertAudit } from '../audit/audit.repository';
-import { models, recipes } from '../catalog/catalog.table';
+import { models, recipes } from '../recipes/recipes.table';
 import { notifyLineEvent } from '../events/event-hub';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
 import { stations } from '../stations/stations.table';

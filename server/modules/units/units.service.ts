@@ -4,7 +4,7 @@ import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import { insertAudit } from '../audit/audit.repository';
-import { models, recipes } from '../catalog/catalog.table';
+import { models, recipes } from '../recipes/recipes.table';
 import { calibrationViews } from '../measurements/measurements.service';
 import { calibrations } from '../measurements/measurements.table';
 import { travelers } from '../travelers/travelers.table';
@@ -272,4 +272,13 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
     });
   });
   return { imported: values.length, rows: parsed.data.length, errors: [] };
+}
+
+/** Units registered per model (model id → count), for the recipe desk's model list. */
+export async function countUnitsByModel(db: DbOrTx): Promise<Map<string, number>> {
+  const rows = await db
+    .select({ modelId: units.modelId, n: sql<number>`count(*)::int` })
+    .from(units)
+    .groupBy(units.modelId);
+  return new Map(rows.map((r) => [r.modelId, r.n]));
 }

@@ -11,7 +11,7 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core';
-import { models } from '../catalog/catalog.table';
+import { models } from '../recipes/recipes.table';
 
 export const unitStatusEnum = pgEnum('unit_status', ['new', 'calibrated', 'failed', 'on_hold']);
 

@@ -1,0 +1,173 @@
+import { z } from 'zod';
+import type { AppDeps } from '../../deps';
+import { route } from '../../lib/http';
+import type { Access } from '../../../shared/schemas/roles';
+import {
+  approveSchema,
+  createDraftSchema,
+  modelInputSchema,
+  saveDraftSchema,
+  sendBackSchema,
+  submitDraftSchema,
+} from '../../../shared/schemas/recipes';
+import {
+  approveVersion,
+  createDraft,
+  createModel,
+  diffVersions,
+  getVersion,
+  listModels,
+  modelDetail,
+  saveDraft,
+  sendBackVersion,
+  submitDraft,
+  updateModel,
+  type RecipeDeskContext,
+} from './recipes.service';
+
+const modelParams = z.object({ id: z.string().uuid('Not a model id') });
+const recipeParams = z.object({ id: z.string().uuid('Not a recipe version id') });
+const diffQuery = z.object({ against: z.string().uuid('Name the version to compare with (against=<id>).') });
+
+/** Recipes are the process engineers' trade: they change them; everyone signed in reads them. */
+const ENGINEERS_ONLY: Access = { only: ['engineer'] };
+
+export function recipeDeskContext(deps: AppDeps): RecipeDeskContext {
+  return {
+    db: deps.db,
+    clock: deps.clock,
+    mailer: deps.mailer,
+    logger: deps.logger,
+    publicUrl: deps.env.PUBLIC_URL,
+    singlePersonRelease: deps.env.RECIPE_SINGLE_PERSON_RELEASE,
+  };
+}
+
+export function recipesRoutes(deps: AppDeps) {
+  const ctx = recipeDeskContext(deps);
+  return [
+    route({
+      method: 'get',
+      path: '/api/models',
+      access: 'signed-in',
+      summary: 'Motor models with the recipe version in force, stations, units built and first-pass yield',
+      handler: async (_req, res) => {
+        res.json({ models: await listModels(ctx) });
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/models',
+      access: ENGINEERS_ONLY,
+      summary: 'Create a motor model (audited with a reason)',
+      body: modelInputSchema,
+      handler: async (req, res) => {
+        res.status(201).json(await createModel(ctx, req.user!, modelInputSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/models/:id',
+      access: 'signed-in',
+      summary: 'One model with all its recipe versions',
+      handler: async (req, res) => {
+        res.json(await modelDetail(ctx, modelParams.parse(req.params).id));
+      },
+    }),
+    route({
+      method: 'put',
+      path: '/api/models/:id',
+      access: ENGINEERS_ONLY,
+      summary: 'Change a model: code, name, pole pairs (audited with before, after and a reason)',
+      body: modelInputSchema,
+      handler: async (req, res) => {
+        const { id } = modelParams.parse(req.params);
+        res.json(await updateModel(ctx, req.user!, id, modelInputSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/models/:id/recipes',
+      access: ENGINEERS_ONLY,
+      summary: 'Create a draft recipe version by copying any version of the model',
+      body: createDraftSchema,
+      handler: async (req, res) => {
+        const { id } = modelParams.parse(req.params);
+        res.status(201).json(await createDraft(ctx, req.user!, id, createDraftSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/recipe-settings',
+      access: 'signed-in',
+      summary: "The plant's release rule: two people (default) or one",
+      handler: (_req, res) => {
+        res.json({ singlePersonRelease: ctx.singlePersonRelease });
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/recipes/:id',
+      access: 'signed-in',
+      summary: 'One recipe version',
+      handler: async (req, res) => {
+        res.json(await getVersion(ctx, recipeParams.parse(req.params).id));
+      },
+    }),
+    route({
+      method: 'put',
+      path: '/api/recipes/:id',
+      access: ENGINEERS_ONLY,
+      summary: 'Save a draft (optimistic: 409 when someone saved it since the given revision)',
+      body: saveDraftSchema,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        res.json(await saveDraft(ctx, req.user!, id, saveDraftSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/recipes/:id/diff',
+      access: 'signed-in',
+      summary: 'Field-by-field differences from another version (against) to this one',
+      query: diffQuery,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        res.json(await diffVersions(ctx, diffQuery.parse(req.query).against, id));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/recipes/:id/submit',
+      access: ENGINEERS_ONLY,
+      summary: 'Submit a draft for review with a change reason (the other engineers get an e-mail)',
+      body: submitDraftSchema,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        res.json(await submitDraft(ctx, req.user!, id, submitDraftSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/recipes/:id/approve',
+      access: ENGINEERS_ONLY,
+      summary: 'Approve a version in review: it is released and in force for new measurements from now',
+      body: approveSchema,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        res.json(await approveVersion(ctx, req.user!, id, approveSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/recipes/:id/send-back',
+      access: ENGINEERS_ONLY,
+      summary: 'Send a version in review back to draft with a comment',
+      body: sendBackSchema,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        res.json(await sendBackVersion(ctx, req.user!, id, sendBackSchema.parse(req.body)));
+      },
+    }),
+  ];
+}
