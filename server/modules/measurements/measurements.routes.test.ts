@@ -401,10 +401,11 @@ describe('recomputation by an engineer', () => {
     const m = simulatedMeasurement(recipe, 'SN-RECOMPUTE', { offsetDeg: 4.2 });
     await post(line.key, m);
     await computeQueued(m.measurementId);
-    // Version 2 of the recipe tightens the offset window to ±2°: the same unit would now fail.
+    // Version 2 of the recipe tightened the offset window to ±2°: the same unit would now fail. (It was
+    // released once and is retired now: only one version of a model is in force at a time.)
     const v2body = { ...recipe, limits: { ...recipe.limits, offsetDeg: [-2, 2] as [number, number] } };
     const { rows: v2 } = await t.database.pool.query(
-      `insert into recipes (model_id, version, status, body, released_at) values ($1, 2, 'released', $2, now()) returning id`,
+      `insert into recipes (model_id, version, status, body, released_at, retired_at) values ($1, 2, 'retired', $2, now(), now()) returning id`,
       [line.model.id, JSON.stringify(v2body)],
     );
     const engineer = await cookieOf('evan.engineer', 'demo-engineer-pass');
