@@ -28,6 +28,12 @@ export const NAV_ITEMS: readonly NavItem[] = [
     access: 'signed-in',
   },
   {
+    to: '/recipes',
+    label: 'Recipes',
+    summary: 'Models and their recipe versions: copy, edit, compare, submit for review and release.',
+    access: { only: ['engineer'] },
+  },
+  {
     to: '/admin/people',
     label: 'People',
     summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',

@@ -36,6 +36,10 @@ export const router = createBrowserRouter([
           },
           { path: 'units', lazy: () => import('./routes/units') },
           { path: 'units/:serial', lazy: () => import('./routes/unit') },
+          { path: 'recipes', lazy: () => import('./routes/recipes') },
+          { path: 'recipes/models/:modelId', lazy: () => import('./routes/recipe-model') },
+          { path: 'recipes/versions/:recipeId', lazy: () => import('./routes/recipe-version') },
+          { path: 'recipes/versions/:recipeId/review', lazy: () => import('./routes/recipe-review') },
           {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,

@@ -33,7 +33,7 @@ afterAll(async () => {
 const api = (who: keyof typeof as) => ({
   get: (path: string) => request(t.app).get(path).set('Cookie', as[who]),
   post: (path: string, body: object = {}) => request(t.app).post(path).set('Cookie', as[who]).send(body),
-  put: (path: string, body: object) => request(t.app).put(path).set('Cookie', as[who]).send(body),
+  patch: (path: string, body: object) => request(t.app).patch(path).set('Cookie', as[who]).send(body),
 });
 
 async function q<T = Record<string, unknown>>(text: string, values: unknown[] = []): Promise<T[]> {
@@ -51,7 +51,7 @@ async function modelWithDraft(code: string) {
 }
 
 async function narrowAndSubmit(draft: RecipeVersionView, reason = 'Narrow the offset window') {
-  const saved = await api('evan').put(`/api/recipes/${draft.id}`, {
+  const saved = await api('evan').patch(`/api/recipes/${draft.id}`, {
     body: { ...draft.body, limits: { ...draft.body.limits, offsetDeg: [-5, 5] } },
     revision: draft.revision,
   });
@@ -142,7 +142,7 @@ describe('recipe lifecycle', () => {
 
   it('a released or retired version cannot be edited through the API, and the database refuses it too', async () => {
     const { line, draft } = await modelWithDraft('LC-5');
-    const res = await api('evan').put(`/api/recipes/${line.recipe.id}`, { body: draft.body, revision: 1 });
+    const res = await api('evan').patch(`/api/recipes/${line.recipe.id}`, { body: draft.body, revision: 1 });
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe('recipes.not_a_draft');
     await expect(
@@ -159,7 +159,7 @@ describe('recipe lifecycle', () => {
   it('a version in review keeps the body the reviewer sees: saving it is refused until it is sent back', async () => {
     const { draft } = await modelWithDraft('LC-6');
     const inReview = await narrowAndSubmit(draft);
-    const res = await api('evan').put(`/api/recipes/${draft.id}`, {
+    const res = await api('evan').patch(`/api/recipes/${draft.id}`, {
       body: draft.body,
       revision: inReview.revision,
     });
@@ -182,7 +182,7 @@ describe('recipe lifecycle', () => {
 
   it("a draft's pole pairs must be the model's, with the error next to the field", async () => {
     const { draft } = await modelWithDraft('LC-8');
-    const res = await api('evan').put(`/api/recipes/${draft.id}`, {
+    const res = await api('evan').patch(`/api/recipes/${draft.id}`, {
       body: { ...draft.body, polePairs: draft.body.polePairs + 1 },
       revision: draft.revision,
     });
@@ -194,7 +194,7 @@ describe('recipe lifecycle', () => {
 
   it('the same validation as the client: a minimum above its maximum is refused with the field named', async () => {
     const { draft } = await modelWithDraft('LC-9');
-    const res = await api('evan').put(`/api/recipes/${draft.id}`, {
+    const res = await api('evan').patch(`/api/recipes/${draft.id}`, {
       body: { ...draft.body, limits: { ...draft.body.limits, offsetDeg: [5, -5] } },
       revision: draft.revision,
     });
@@ -222,12 +222,12 @@ describe('two people editing one draft', () => {
   it('the second save from the same revision gets a 409 naming who changed it and when; nothing is lost', async () => {
     const { draft } = await modelWithDraft('CC-1');
     t.setNow(new Date('2026-11-30T09:15:00Z'));
-    const first = await api('evan').put(`/api/recipes/${draft.id}`, {
+    const first = await api('evan').patch(`/api/recipes/${draft.id}`, {
       body: { ...draft.body, maxAttempts: 4 },
       revision: draft.revision,
     });
     expect(first.status).toBe(200);
-    const second = await api('rosa').put(`/api/recipes/${draft.id}`, {
+    const second = await api('rosa').patch(`/api/recipes/${draft.id}`, {
       body: { ...draft.body, maxAttempts: 5 },
       revision: draft.revision,
     });
@@ -281,7 +281,7 @@ describe('audit', () => {
       reason: 'New product for line 3',
     });
     expect(created.status).toBe(201);
-    const changed = await api('evan').put(`/api/models/${created.body.id}`, {
+    const changed = await api('evan').patch(`/api/models/${created.body.id}`, {
       code: 'AU-M1',
       name: 'Audit motor, 36 V',
       polePairs: 5,
@@ -297,7 +297,7 @@ describe('audit', () => {
       before: { code: 'AU-M1', name: 'Audit motor', polePairs: 5 },
       after: { code: 'AU-M1', name: 'Audit motor, 36 V', polePairs: 5 },
     });
-    const noReason = await api('evan').put(`/api/models/${created.body.id}`, {
+    const noReason = await api('evan').patch(`/api/models/${created.body.id}`, {
       code: 'AU-M1',
       name: 'x',
       polePairs: 5,
@@ -312,7 +312,7 @@ describe('who may do what', () => {
     for (const who of ['olga', 'quinn', 'ada'] as const) {
       expect((await api(who).get(`/api/models/${line.model.id}`)).status).toBe(200);
       expect((await api(who).get(`/api/recipes/${draft.id}`)).status).toBe(200);
-      const save = await api(who).put(`/api/recipes/${draft.id}`, { body: draft.body, revision: 1 });
+      const save = await api(who).patch(`/api/recipes/${draft.id}`, { body: draft.body, revision: 1 });
       expect(save.status).toBe(403);
       const copy = await api(who).post(`/api/models/${line.model.id}/recipes`, {
         fromRecipeId: line.recipe.id,

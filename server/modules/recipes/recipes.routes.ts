@@ -75,7 +75,7 @@ export function recipesRoutes(deps: AppDeps) {
       },
     }),
     route({
-      method: 'put',
+      method: 'patch',
       path: '/api/models/:id',
       access: ENGINEERS_ONLY,
       summary: 'Change a model: code, name, pole pairs (audited with before, after and a reason)',
@@ -115,7 +115,7 @@ export function recipesRoutes(deps: AppDeps) {
       },
     }),
     route({
-      method: 'put',
+      method: 'patch',
       path: '/api/recipes/:id',
       access: ENGINEERS_ONLY,
       summary: 'Save a draft (optimistic: 409 when someone saved it since the given revision)',

@@ -1,0 +1,42 @@
+import { useState } from 'react';
+import { useNavigate } from 'react-router';
+import { Button } from '../../components/ui/button';
+import { Dialog } from '../../components/ui/dialog';
+import { PageHeader } from '../../components/ui/panel';
+import { useMe } from '../../features/auth/api/me';
+import { ModelForm } from '../../features/recipes/components/model-form';
+import { ModelsList } from '../../features/recipes/components/models-list';
+
+export function Component() {
+  const { data: me } = useMe();
+  const navigate = useNavigate();
+  const [creating, setCreating] = useState(false);
+  if (!me) return null;
+  const canChange = me.role === 'engineer';
+  return (
+    <div>
+      <title>Recipes · Phasewright</title>
+      <PageHeader
+        title="Recipes"
+        lead="Motor models and the recipe version each is measured against. Open a model to see its versions, copy one into a draft, and send it for review."
+        actions={
+          canChange ? (
+            <Button variant="primary" onClick={() => setCreating(true)}>
+              New model
+            </Button>
+          ) : null
+        }
+      />
+      <ModelsList />
+      <Dialog open={creating} onClose={() => setCreating(false)} title="New motor model">
+        {creating ? (
+          <ModelForm
+            model={null}
+            onCancel={() => setCreating(false)}
+            onDone={(m) => void navigate(`/recipes/models/${m.id}`)}
+          />
+        ) : null}
+      </Dialog>
+    </div>
+  );
+}

@@ -1,0 +1,126 @@
+import { useState } from 'react';
+import type { RecipeVersionView } from '../../../../shared/schemas/recipes';
+import { Alert } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TextAreaField } from '../../../components/ui/field';
+import { Panel } from '../../../components/ui/panel';
+import { isApiError } from '../../../lib/api-client';
+import { useApprove, useRecipeSettings, useSendBack, useSubmitDraft } from '../api/recipes';
+
+const messageOf = (e: unknown) => (isApiError(e) ? e.message : 'Something went wrong. Try again.');
+
+/**
+ * The controlled-change steps: the author submits a saved draft with a reason; a second engineer
+ * approves (it goes in force at once) or sends it back with a comment.
+ */
+export function ReviewPanel({
+  version,
+  meId,
+  canChange,
+  unsaved,
+}: {
+  version: RecipeVersionView;
+  meId: string;
+  canChange: boolean;
+  unsaved: boolean;
+}) {
+  if (!canChange) {
+    return (
+      <Panel title="Review">
+        <p className="text-graphite-300">
+          Only process engineers submit, approve or send back recipe versions.
+        </p>
+      </Panel>
+    );
+  }
+  if (version.status === 'draft') return <SubmitForm version={version} unsaved={unsaved} />;
+  if (version.status === 'in_review') return <DecideForm version={version} meId={meId} />;
+  return null;
+}
+
+function SubmitForm({ version, unsaved }: { version: RecipeVersionView; unsaved: boolean }) {
+  const submit = useSubmitDraft(version.id);
+  const [reason, setReason] = useState('');
+  const [error, setError] = useState<string | null>(null);
+  const go = async () => {
+    setError(null);
+    if (reason.trim().length < 3) return setError('Give the reason for this change (at least 3 characters).');
+    try {
+      await submit.mutateAsync({ reason: reason.trim(), revision: version.revision });
+    } catch (e) {
+      setError(messageOf(e));
+    }
+  };
+  return (
+    <Panel title="Submit for review" titleId="submit-title">
+      <div className="flex max-w-2xl flex-col gap-4">
+        <TextAreaField
+          label="Reason for the change"
+          required
+          hint="The reviewer and the audit log see this. Say what changes and why."
+          value={reason}
+          error={error ?? undefined}
+          onChange={(e) => setReason(e.target.value)}
+        />
+        <div className="flex flex-wrap items-center gap-3">
+          <Button variant="primary" busy={submit.isPending} disabled={unsaved} onClick={() => void go()}>
+            Submit for review
+          </Button>
+          {unsaved ? <span className="text-warn-bright">Save your changes first.</span> : null}
+        </div>
+      </div>
+    </Panel>
+  );
+}
+
+function DecideForm({ version, meId }: { version: RecipeVersionView; meId: string }) {
+  const settings = useRecipeSettings();
+  const approve = useApprove(version.id);
+  const sendBack = useSendBack(version.id);
+  const [comment, setComment] = useState('');
+  const [error, setError] = useState<string | null>(null);
+  const isAuthor = version.createdBy?.id === meId || version.submittedBy?.id === meId;
+  const mayDecide = !isAuthor || settings.data?.singlePersonRelease === true;
+  const run = async (what: 'approve' | 'send-back') => {
+    setError(null);
+    if (what === 'send-back' && comment.trim().length < 3)
+      return setError('Tell the author what to change (at least 3 characters).');
+    try {
+      if (what === 'approve') await approve.mutateAsync({ comment: comment.trim() || undefined });
+      else await sendBack.mutateAsync({ comment: comment.trim() });
+    } catch (e) {
+      setError(messageOf(e));
+    }
+  };
+  return (
+    <Panel title="Your decision" titleId="decide-title">
+      {!mayDecide ? (
+        <Alert tone="info" title="Waiting for a second engineer">
+          You wrote or submitted this version. Another process engineer must approve it or send it back.
+        </Alert>
+      ) : (
+        <div className="flex max-w-2xl flex-col gap-4">
+          <p className="text-graphite-200">
+            Approving releases version {version.version} at once: every measurement that arrives afterwards is
+            judged by it, and the version in force now is retired for new measurements.
+          </p>
+          <TextAreaField
+            label="Comment"
+            hint="Required when sending back; optional when approving."
+            value={comment}
+            error={error ?? undefined}
+            onChange={(e) => setComment(e.target.value)}
+          />
+          <div className="flex flex-wrap gap-3">
+            <Button variant="primary" busy={approve.isPending} onClick={() => void run('approve')}>
+              Approve and release
+            </Button>
+            <Button busy={sendBack.isPending} onClick={() => void run('send-back')}>
+              Send back to draft
+            </Button>
+          </div>
+        </div>
+      )}
+    </Panel>
+  );
+}
