@@ -8,16 +8,18 @@ import { z } from 'zod';
 const range = (what: string) =>
   z
     .tuple([z.number(), z.number()])
-    .refine(([min, max]) => min <= max, { message: `${what}: the minimum must not exceed the maximum` });
+    .refine(([min, max]) => min <= max, {
+      message: `${what}: the lowest value must not exceed the highest.`,
+    });
 
 export const recipeLimitsSchema = z.object({
   /** Accepted offset window [min, max] in electrical degrees, inside (−180, 180]. */
-  offsetDeg: range('offsetDeg'),
+  offsetDeg: range('Offset window'),
   /** Largest accepted |residual| of any of the six edge types, electrical degrees. */
   edgeResidualDeg: z.number().positive(),
   /** Accepted mean mechanical speed of every segment [min, max], rpm. */
-  speedRpm: range('speedRpm').refine(([min]) => min > 0, {
-    message: 'speedRpm: the minimum must be positive',
+  speedRpm: range('Speed window').refine(([min]) => min > 0, {
+    message: 'Speed window: the lowest speed must be more than 0 rpm.',
   }),
   /** Fewest electrical turns each segment must cover. */
   minElectricalRevs: z.number().positive(),
@@ -26,7 +28,7 @@ export const recipeLimitsSchema = z.object({
   /** Optional: largest speed variation within a segment, % of its mean. */
   speedVariationPct: z.number().positive().optional(),
   /** Optional: accepted line-to-line back-EMF constant (fundamental peak) [min, max], V/krpm; sampled captures only. */
-  keVPerKrpm: range('keVPerKrpm').optional(),
+  keVPerKrpm: range('Back-EMF constant window').optional(),
 });
 export type RecipeLimits = z.infer<typeof recipeLimitsSchema>;
 

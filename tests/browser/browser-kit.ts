@@ -1,9 +1,11 @@
+import { createRequire } from 'node:module';
 import { chromium, type Browser, type Page } from 'playwright-core';
 
 /** The demo accounts the server seeds on first start (README, "Demo accounts"). */
 export const DEMO = {
   admin: { username: 'ada.admin', password: 'demo-admin-pass', name: 'Administrator' },
   engineer: { username: 'evan.engineer', password: 'demo-engineer-pass', name: 'Process engineer' },
+  engineer2: { username: 'rosa.engineer', password: 'demo-engineer2-pass', name: 'Process engineer' },
   quality: { username: 'quinn.quality', password: 'demo-quality-pass', name: 'Quality' },
   operator: {
     username: 'olga.operator',
@@ -39,7 +41,8 @@ export function launchChromium(): Promise<Browser> {
 
 /** A fresh context (no cookies) and page; collects uncaught page errors so a test can assert none happened. */
 export async function freshPage(browser: Browser, viewport = { width: 1280, height: 800 }) {
-  const context = await browser.newContext({ baseURL: baseUrl(), viewport });
+  // bypassCSP lets a test inject axe-core; the app's own scripts still load as they would.
+  const context = await browser.newContext({ baseURL: baseUrl(), viewport, bypassCSP: true });
   const page = await context.newPage();
   const pageErrors: string[] = [];
   page.on('pageerror', (error) => pageErrors.push(error.message));
@@ -58,4 +61,28 @@ export async function signInWithPassword(page: Page, username: string, password:
 export async function navLabels(page: Page): Promise<string[]> {
   const links = page.getByRole('navigation', { name: 'Main' }).getByRole('link');
   return (await links.allTextContents()).map((t) => t.trim());
+}
+
+/**
+ * Serious and critical accessibility findings on the page as it is now. Axe
+ * (https://github.com/dequelabs/axe-core) checks the WCAG 2.x A/AA rules, contrast included.
+ */
+export async function axeFindings(page: Page): Promise<{ id: string; help: string; nodes: string[] }[]> {
+  const axePath = createRequire(import.meta.url).resolve('axe-core/axe.min.js');
+  await page.addScriptTag({ path: axePath });
+  const findings = await page.evaluate(async () => {
+    type Violation = { id: string; impact: string | null; help: string; nodes: { target: unknown[] }[] };
+    const axe = (window as unknown as { axe: { run: (c: Document) => Promise<{ violations: Violation[] }> } })
+      .axe;
+    const r = await axe.run(document);
+    return r.violations.map((v) => ({
+      id: v.id,
+      impact: v.impact,
+      help: v.help,
+      nodes: v.nodes.map((n) => String(n.target[0])),
+    }));
+  });
+  return findings
+    .filter((f) => f.impact === 'serious' || f.impact === 'critical')
+    .map(({ id, help, nodes }) => ({ id, help, nodes }));
 }

@@ -14,7 +14,7 @@ const controlBase =
 
 type FieldShellProps = {
   id: string;
-  label: string;
+  label: ReactNode;
   hint?: ReactNode;
   error?: string;
   required?: boolean;
@@ -62,7 +62,7 @@ function describedBy(id: string, hint: unknown, error: unknown): string | undefi
 }
 
 type TextFieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, 'id'> & {
-  label: string;
+  label: ReactNode;
   hint?: ReactNode;
   error?: string;
   ref?: Ref<HTMLInputElement>;
@@ -158,7 +158,7 @@ export function SelectField({
 }
 
 type CheckboxFieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, 'id' | 'type'> & {
-  label: string;
+  label: ReactNode;
   hint?: ReactNode;
   ref?: Ref<HTMLInputElement>;
 };

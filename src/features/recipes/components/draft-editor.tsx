@@ -33,8 +33,9 @@ function errorOf(errors: FieldErrors<RecipeFormValues>, path: string): string | 
   const own = get(errors, path) as { message?: string } | undefined;
   if (own?.message) return own.message;
   if (path.endsWith('.1')) {
-    const range = get(errors, path.slice(0, -2)) as { message?: string } | undefined;
-    return range?.message;
+    const range = get(errors, path.slice(0, -2)) as
+      { message?: string; root?: { message?: string } } | undefined;
+    return range?.message ?? range?.root?.message;
   }
   return undefined;
 }
@@ -70,9 +71,8 @@ export function DraftEditor({
     setBanner(null);
     setConflict(false);
     try {
-      const saved = await save.mutateAsync({ body, notes: notes.trim() || null, revision: version.revision });
-      form.reset(saved.body);
-      setBanner({ tone: 'ok', text: `Saved (revision ${saved.revision}).` });
+      // The saved version comes back with a new revision and the editor starts afresh from it.
+      await save.mutateAsync({ body, notes: notes.trim() || null, revision: version.revision });
     } catch (e) {
       if (!isApiError(e)) return setBanner({ tone: 'fault', text: 'Something went wrong. Try again.' });
       if (e.code === 'recipes.changed_meanwhile') setConflict(true);
@@ -88,7 +88,15 @@ export function DraftEditor({
   });
 
   const input = (f: RecipeField) => {
-    const label = f.unit ? `${f.label} (${f.unit})` : f.label;
+    // The unit keeps its case (µs, °e) inside the upper-case label; it is left out where the label names it.
+    const label =
+      f.unit && !f.label.toLowerCase().includes(f.unit.toLowerCase()) ? (
+        <>
+          {f.label} <span className="normal-case">({f.unit})</span>
+        </>
+      ) : (
+        f.label
+      );
     const error = errorOf(errors, f.path);
     const name = f.path as Path<RecipeFormValues>;
     if (f.kind === 'boolean') {
