@@ -31,6 +31,12 @@ export const queues = {
     payload: z.object({ calibrationId: z.string().uuid() }).strict(),
     policy: { retryLimit: 5, retryDelay: 2, retryBackoff: true, expireInSeconds: 120 },
   },
+  /** Replay past units' measurements with a recipe version (analysis only; changes no unit). */
+  whatIfRun: {
+    name: 'what-if-run',
+    payload: z.object({ runId: z.string().uuid() }).strict(),
+    policy: { retryLimit: 1, retryDelay: 5, retryBackoff: false, expireInSeconds: 1800 },
+  },
 } as const;
 
 /** PostgreSQL channel on which producers announce new jobs, so workers start them at once. */

@@ -111,17 +111,17 @@ try {
   services.push(server);
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
 
-  // Two worker processes: calibrations and housekeeping in one, the CPU-heavy traveler renders in the
-  // other, so a burst of renders never delays a result an operator is waiting for.
+  // Two worker processes: calibrations and housekeeping in one, the CPU-heavy traveler renders and
+  // what-if replays in the other, so neither ever delays a result an operator is waiting for.
   const workerArgs = dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'];
   services.push(
     startService('worker', TSX, workerArgs, {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
       onExit: onUnexpectedExit('worker'),
     }),
-    // Renders yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
+    // Renders and replays yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
     startService('renderer', 'nice', ['-n', '10', TSX, ...workerArgs], {
-      env: { ...env, WORKER_QUEUES: 'traveler-render' },
+      env: { ...env, WORKER_QUEUES: 'traveler-render,what-if-run' },
       onExit: onUnexpectedExit('renderer'),
     }),
   );

@@ -170,3 +170,14 @@ export interface WhatIfRunView {
   startedAt: string | null;
   finishedAt: string | null;
 }
+
+/** Progress of a what-if run, pushed over the event hub (Server-Sent Events to the recipe screens). */
+export const whatIfProgressSchema = z.object({
+  type: z.literal('whatif.progress'),
+  runId: z.string(),
+  status: z.enum(['queued', 'running', 'done', 'cancelled', 'failed']),
+  processed: z.number().int(),
+  total: z.number().int(),
+  at: z.string(),
+});
+export type WhatIfProgress = z.infer<typeof whatIfProgressSchema>;

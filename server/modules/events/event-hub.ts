@@ -4,6 +4,7 @@ import { sql } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import type { Logger } from '../../lib/logger';
 import { lineEventSchema, type LineEvent } from '../../../shared/schemas/events';
+import { whatIfProgressSchema, type WhatIfProgress } from '../../../shared/schemas/recipes';
 
 /** The PostgreSQL channel every line event travels on (NOTIFY is delivered at commit). */
 export const EVENTS_CHANNEL = 'phasewright_events';
@@ -18,6 +19,8 @@ export async function notifyLineEvent(db: DbOrTx, event: LineEvent): Promise<voi
 
 export interface EventHub {
   subscribe(listener: (e: LineEvent) => void): () => void;
+  /** Progress of what-if runs (recipe analysis), on the same channel. */
+  subscribeWhatIf(listener: (e: WhatIfProgress) => void): () => void;
   /** Resolves once the LISTEN connection is up. */
   ready: Promise<void>;
   close(): Promise<void>;
@@ -41,8 +44,11 @@ export function createEventHub(url: string, logger: Logger): EventHub {
     const c = new pg.Client({ connectionString: url, application_name: 'phasewright-events' });
     c.on('notification', (msg) => {
       if (msg.channel !== EVENTS_CHANNEL || !msg.payload) return;
-      const parsed = lineEventSchema.safeParse(JSON.parse(msg.payload));
-      if (parsed.success) emitter.emit('event', parsed.data);
+      const payload: unknown = JSON.parse(msg.payload);
+      const parsed = lineEventSchema.safeParse(payload);
+      if (parsed.success) return void emitter.emit('event', parsed.data);
+      const whatIf = whatIfProgressSchema.safeParse(payload);
+      if (whatIf.success) emitter.emit('whatif', whatIf.data);
     });
     c.on('error', (err) => {
       logger.warn({ err: err.message }, 'event connection lost; reconnecting');
@@ -68,6 +74,10 @@ export function createEventHub(url: string, logger: Logger): EventHub {
     subscribe(listener) {
       emitter.on('event', listener);
       return () => emitter.off('event', listener);
+    },
+    subscribeWhatIf(listener) {
+      emitter.on('whatif', listener);
+      return () => emitter.off('whatif', listener);
     },
     async close() {
       closed = true;

@@ -8,8 +8,11 @@ import {
   modelInputSchema,
   saveDraftSchema,
   sendBackSchema,
+  startWhatIfSchema,
   submitDraftSchema,
+  whatIfFiltersSchema,
 } from '../../../shared/schemas/recipes';
+import { cancelWhatIf, getWhatIf, listWhatIfs, startWhatIf } from './what-if.service';
 import {
   approveVersion,
   createDraft,
@@ -27,6 +30,7 @@ import {
 
 const modelParams = z.object({ id: z.string().uuid('Not a model id') });
 const recipeParams = z.object({ id: z.string().uuid('Not a recipe version id') });
+const runParams = z.object({ id: z.string().uuid('Not a what-if run id') });
 const diffQuery = z.object({ against: z.string().uuid('Name the version to compare with (against=<id>).') });
 
 /** Recipes are the process engineers' trade: they change them; everyone signed in reads them. */
@@ -45,6 +49,7 @@ export function recipeDeskContext(deps: AppDeps): RecipeDeskContext {
 
 export function recipesRoutes(deps: AppDeps) {
   const ctx = recipeDeskContext(deps);
+  const whatIf = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
   return [
     route({
       method: 'get',
@@ -167,6 +172,96 @@ export function recipesRoutes(deps: AppDeps) {
       handler: async (req, res) => {
         const { id } = recipeParams.parse(req.params);
         res.json(await sendBackVersion(ctx, req.user!, id, sendBackSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/recipes/:id/what-if',
+      access: ENGINEERS_ONLY,
+      summary:
+        "Run this version over past units' stored measurements (analysis only; default: the last 1,000 units)",
+      body: startWhatIfSchema,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        const { filters } = startWhatIfSchema.parse(req.body ?? {});
+        res
+          .status(202)
+          .json(await startWhatIf(whatIf, req.user!, id, filters ?? whatIfFiltersSchema.parse({})));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/recipes/:id/what-if',
+      access: 'signed-in',
+      summary: 'The what-if runs of this version, newest first',
+      handler: async (req, res) => {
+        res.json({ runs: await listWhatIfs(whatIf, recipeParams.parse(req.params).id) });
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/what-if/:id',
+      access: 'signed-in',
+      summary: 'One what-if run: progress, and its results once done',
+      handler: async (req, res) => {
+        res.json(await getWhatIf(whatIf, runParams.parse(req.params).id));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/what-if/:id/cancel',
+      access: ENGINEERS_ONLY,
+      summary: 'Stop a queued or running what-if run',
+      handler: async (req, res) => {
+        res.json(await cancelWhatIf(whatIf, runParams.parse(req.params).id));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/what-if/:id/events',
+      access: 'signed-in',
+      summary: 'Server-Sent Events: progress of one what-if run until it ends',
+      handler: async (req, res) => {
+        const { id } = runParams.parse(req.params);
+        // Subscribe first, then read: a step that happens in between is still seen.
+        const send = (event: string, data: unknown) =>
+          res.write(`event: ${event}\ndata: ${JSON.stringify(data)}\n\n`);
+        const buffered: unknown[] = [];
+        let ready = false;
+        const unsubscribe = deps.events.subscribeWhatIf((e) => {
+          if (e.runId !== id) return;
+          if (!ready) return void buffered.push(e);
+          send('progress', e);
+        });
+        let run;
+        try {
+          run = await getWhatIf(whatIf, id);
+        } catch (e) {
+          unsubscribe();
+          throw e;
+        }
+        res.writeHead(200, {
+          'content-type': 'text/event-stream; charset=utf-8',
+          'cache-control': 'no-cache, no-transform',
+          connection: 'keep-alive',
+          'x-accel-buffering': 'no',
+        });
+        res.write('retry: 2000\n\n');
+        send('progress', {
+          type: 'whatif.progress',
+          runId: run.id,
+          status: run.status,
+          processed: run.processed,
+          total: run.total,
+          at: deps.clock().toISOString(),
+        });
+        ready = true;
+        for (const e of buffered) send('progress', e);
+        const keepAlive = setInterval(() => res.write(': keep-alive\n\n'), 15_000);
+        req.on('close', () => {
+          clearInterval(keepAlive);
+          unsubscribe();
+        });
       },
     }),
   ];

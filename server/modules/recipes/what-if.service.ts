@@ -1,0 +1,284 @@
+import type pg from 'pg';
+import { drizzle } from 'drizzle-orm/node-postgres';
+import * as schema from '../../db/schema';
+import type { Db } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
+import type { JobQueue } from '../../../jobs/queue-client';
+import { ENGINE_VERSION } from '../../../shared/calibration';
+import type { CheckCode } from '../../../shared/schemas/calibration-result';
+import type {
+  OffsetHistogram,
+  WhatIfChangedUnit,
+  WhatIfFilters,
+  WhatIfProgress,
+  WhatIfRunView,
+  WhatIfSummary,
+} from '../../../shared/schemas/recipes';
+import { EVENTS_CHANNEL } from '../events/event-hub';
+import { runEngine } from '../measurements/measurements.service';
+import { replayBatch, replayMeasurementIds, type ReplayRow } from '../measurements/measurements.repository';
+import { listUsers } from '../users/users.repository';
+import { recipeErrors } from './recipes.errors';
+import * as repo from './recipes.repository';
+import type { RecipeRecord, WhatIfRunRecord } from './recipes.table';
+
+export interface WhatIfContext {
+  db: Db;
+  pool: pg.Pool;
+  queue: JobQueue;
+  clock: () => Date;
+}
+
+/** Measurements read and replayed per batch: bounded memory whatever the selection's size. */
+export const WHAT_IF_BATCH = 500;
+const MAX_LISTED = 500;
+
+const CHECK_LABELS: Record<CheckCode, string> = {
+  'offset.within_limits': 'Offset within its window',
+  'edges.residual_spread': 'Edge residuals within limit',
+  'bemf.phase_sequence': 'Phase sequence',
+  'hall.all_switching': 'Every hall sensor switching',
+  'hall.valid_states': 'Only valid hall states',
+  'direction.as_declared': 'Turning direction as declared',
+  'speed.within_window': 'Speed within its window',
+  'turns.enough': 'Enough electrical turns',
+  'fit.residual': 'Crossing fit residual',
+  'speed.variation': 'Speed variation',
+  'capture.ke_within_limits': 'Back-EMF constant within limits',
+};
+
+async function toView(db: Db, r: WhatIfRunRecord): Promise<WhatIfRunView> {
+  const [recipe, baseline, people] = await Promise.all([
+    repo.findRecipeRow(db, r.recipeId),
+    repo.findRecipeRow(db, r.baselineRecipeId),
+    listUsers(db),
+  ]);
+  const who = people.find((u) => u.id === r.requestedBy);
+  return {
+    id: r.id,
+    recipe: { id: r.recipeId, version: recipe!.version },
+    baseline: { id: r.baselineRecipeId, version: baseline!.version },
+    modelId: r.modelId,
+    status: r.status,
+    filters: r.filters,
+    total: r.total,
+    processed: r.processed,
+    summary: r.summary,
+    error: r.error,
+    requestedBy: who ? { id: who.id, displayName: who.displayName } : null,
+    createdAt: r.createdAt.toISOString(),
+    startedAt: r.startedAt?.toISOString() ?? null,
+    finishedAt: r.finishedAt?.toISOString() ?? null,
+  };
+}
+
+export async function getWhatIf(ctx: Pick<WhatIfContext, 'db'>, runId: string) {
+  const r = await repo.findWhatIfRun(ctx.db, runId);
+  if (!r) throw recipeErrors.runNotFound();
+  return toView(ctx.db, r);
+}
+
+export async function listWhatIfs(ctx: Pick<WhatIfContext, 'db'>, recipeId: string) {
+  if (!(await repo.findRecipeRow(ctx.db, recipeId))) throw recipeErrors.notFound();
+  const rows = await repo.listWhatIfRunsOfRecipe(ctx.db, recipeId);
+  return Promise.all(rows.map((r) => toView(ctx.db, r)));
+}
+
+/** Asks for a what-if run of any version against the version in force; the worker runs it. */
+export async function startWhatIf(
+  ctx: WhatIfContext,
+  actor: SessionUser,
+  recipeId: string,
+  filters: WhatIfFilters,
+) {
+  const recipe = await repo.findRecipeRow(ctx.db, recipeId);
+  if (!recipe) throw recipeErrors.notFound();
+  const model = await repo.findModelRow(ctx.db, recipe.modelId);
+  if (!model?.activeRecipeId) throw recipeErrors.noRunnableVersion();
+  // The run and its job commit together, on one connection, as the station's measurement and its job do.
+  const client = await ctx.pool.connect();
+  try {
+    await client.query('BEGIN');
+    const tx = drizzle(client, { schema, casing: 'snake_case' });
+    const row = await repo.insertWhatIfRun(tx, {
+      recipeId,
+      baselineRecipeId: model.activeRecipeId,
+      modelId: model.id,
+      filters,
+      requestedBy: actor.id,
+      createdAt: ctx.clock(),
+    });
+    await ctx.queue.send(
+      'whatIfRun',
+      { runId: row.id },
+      { db: { executeSql: (text, values) => client.query(text, values) } },
+    );
+    await client.query('COMMIT');
+    return toView(ctx.db, row);
+  } catch (e) {
+    await client.query('ROLLBACK').catch(() => {});
+    throw e;
+  } finally {
+    client.release();
+  }
+}
+
+/** Asks a queued or running what-if to stop; the worker stops at its next batch. */
+export async function cancelWhatIf(ctx: WhatIfContext, runId: string) {
+  const r = await repo.findWhatIfRun(ctx.db, runId);
+  if (!r) throw recipeErrors.runNotFound();
+  if (r.status !== 'queued' && r.status !== 'running') throw recipeErrors.runFinished(r.status);
+  const row = await repo.updateWhatIfRun(ctx.db, runId, { cancelRequested: true });
+  return toView(ctx.db, row!);
+}
+
+async function progress(ctx: WhatIfContext, r: WhatIfRunRecord) {
+  const event: WhatIfProgress = {
+    type: 'whatif.progress',
+    runId: r.id,
+    status: r.status,
+    processed: r.processed,
+    total: r.total,
+    at: ctx.clock().toISOString(),
+  };
+  await ctx.pool.query('select pg_notify($1, $2)', [EVENTS_CHANNEL, JSON.stringify(event)]);
+}
+
+type Outcome = { verdict: string; offsetDeg: number | null; failed: Set<string> };
+
+function outcomeOf(result: ReturnType<typeof runEngine>['result']): Outcome {
+  if (!result) return { verdict: 'unusable', offsetDeg: null, failed: new Set() };
+  return {
+    verdict: result.verdict,
+    offsetDeg: result.offsetDeg,
+    failed: new Set(result.checks.filter((c) => !c.passed).map((c) => c.code)),
+  };
+}
+
+/** What one version says of one stored measurement: the same engine call as a recomputation. */
+export function replayOne(row: ReplayRow, recipe: RecipeRecord): Outcome {
+  return outcomeOf(runEngine({ ...row }, recipe).result);
+}
+
+function histogram(values: number[], fromDeg: number, toDeg: number): OffsetHistogram {
+  const counts = new Array<number>(Math.max(1, toDeg - fromDeg)).fill(0);
+  for (const v of values) counts[Math.min(counts.length - 1, Math.max(0, Math.floor(v) - fromDeg))]++;
+  return { fromDeg, binDeg: 1, counts };
+}
+
+/**
+ * Replays the run's measurements with its version and with the version in force, in batches, and
+ * stores the comparison. It reads measurements and calibrations and writes only the run's own row:
+ * no unit, calibration, traveler or station result changes. A second run of the same job (a retry)
+ * starts the replay again from the beginning.
+ */
+export async function runWhatIf(ctx: WhatIfContext, runId: string): Promise<WhatIfRunRecord | undefined> {
+  const run = await repo.findWhatIfRun(ctx.db, runId);
+  if (!run || run.status === 'done' || run.status === 'cancelled' || run.status === 'failed') return run;
+  if (run.cancelRequested) {
+    const cancelled = (await repo.updateWhatIfRun(ctx.db, runId, {
+      status: 'cancelled',
+      finishedAt: ctx.clock(),
+    }))!;
+    await progress(ctx, cancelled);
+    return cancelled;
+  }
+  const [recipe, baseline] = await Promise.all([
+    repo.findRecipeRow(ctx.db, run.recipeId),
+    repo.findRecipeRow(ctx.db, run.baselineRecipeId),
+  ]);
+  const t0 = performance.now();
+  const ids = await replayMeasurementIds(ctx.pool, { modelId: run.modelId, ...run.filters });
+  let current = (await repo.updateWhatIfRun(ctx.db, runId, {
+    status: 'running',
+    startedAt: ctx.clock(),
+    total: ids.length,
+    processed: 0,
+  }))!;
+  await progress(ctx, current);
+
+  const draftOffsets: number[] = [];
+  const forceOffsets: number[] = [];
+  const causes = new Map<string, number>();
+  const changed: WhatIfChangedUnit[] = [];
+  let passToFail = 0;
+  let failToPass = 0;
+  let unusable = 0;
+  let changedCount = 0;
+
+  for (let i = 0; i < ids.length; i += WHAT_IF_BATCH) {
+    if ((await repo.findWhatIfRun(ctx.db, runId))?.cancelRequested) {
+      current = (await repo.updateWhatIfRun(ctx.db, runId, {
+        status: 'cancelled',
+        finishedAt: ctx.clock(),
+      }))!;
+      await progress(ctx, current);
+      return current;
+    }
+    const rows = await replayBatch(ctx.pool, ids.slice(i, i + WHAT_IF_BATCH), baseline!.id, ENGINE_VERSION);
+    for (const row of rows) {
+      const after = replayOne(row, recipe!);
+      const before: Outcome = row.baseline
+        ? {
+            verdict: row.baseline.verdict,
+            offsetDeg: row.baseline.offsetDeg,
+            failed: new Set((row.baseline.checks ?? []).filter((c) => !c.passed).map((c) => c.code)),
+          }
+        : recipe!.id === baseline!.id
+          ? after
+          : replayOne(row, baseline!);
+      if (after.offsetDeg !== null) draftOffsets.push(after.offsetDeg);
+      if (before.offsetDeg !== null) forceOffsets.push(before.offsetDeg);
+      if (after.verdict === 'unusable') unusable++;
+      if (before.verdict === after.verdict) continue;
+      if (before.verdict === 'pass' && after.verdict === 'fail') passToFail++;
+      if (before.verdict === 'fail' && after.verdict === 'pass') failToPass++;
+      changedCount++;
+      const differing = [...new Set([...before.failed, ...after.failed])].filter(
+        (c) => before.failed.has(c) !== after.failed.has(c),
+      );
+      for (const c of differing) causes.set(c, (causes.get(c) ?? 0) + 1);
+      if (changed.length < MAX_LISTED) {
+        changed.push({
+          unitId: row.unitId,
+          serial: row.serial,
+          measurementId: row.measurementId,
+          receivedAt: row.receivedAt.toISOString(),
+          before: { verdict: before.verdict, offsetDeg: before.offsetDeg },
+          after: { verdict: after.verdict, offsetDeg: after.offsetDeg },
+          checks: differing,
+        });
+      }
+    }
+    current = (await repo.updateWhatIfRun(ctx.db, runId, {
+      processed: Math.min(ids.length, i + rows.length),
+    }))!;
+    await progress(ctx, current);
+  }
+
+  const all = [...draftOffsets, ...forceOffsets];
+  const lo = all.length ? Math.max(-180, Math.floor(Math.min(...all))) : -1;
+  const hi = all.length ? Math.min(181, Math.floor(Math.max(...all)) + 1) : 1;
+  const seconds = (performance.now() - t0) / 1000;
+  const summary: WhatIfSummary = {
+    measurements: ids.length,
+    passToFail,
+    failToPass,
+    unchanged: ids.length - changedCount,
+    unusable,
+    causes: [...causes.entries()]
+      .map(([code, count]) => ({ code, label: CHECK_LABELS[code as CheckCode] ?? code, count }))
+      .sort((a, b) => b.count - a.count),
+    histogram: { draft: histogram(draftOffsets, lo, hi), inForce: histogram(forceOffsets, lo, hi) },
+    changed: changed.sort((a, b) => b.receivedAt.localeCompare(a.receivedAt)),
+    measurementsPerSecond: seconds > 0 ? Math.round(ids.length / seconds) : 0,
+  };
+  current = (await repo.updateWhatIfRun(ctx.db, runId, {
+    status: 'done',
+    processed: ids.length,
+    summary,
+    finishedAt: ctx.clock(),
+  }))!;
+  await progress(ctx, current);
+  return current;
+}
