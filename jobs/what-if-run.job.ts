@@ -4,5 +4,5 @@ import type { WorkerDeps } from './worker-deps';
 
 /** Replays past units with a recipe version; the run's own row is all it writes. */
 export function runWhatIfJob(deps: WorkerDeps, payload: QueuePayload<'whatIfRun'>) {
-  return runWhatIf({ db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock }, payload.runId);
+  return runWhatIf({ db: deps.db, pool: deps.pool, clock: deps.clock }, payload.runId);
 }

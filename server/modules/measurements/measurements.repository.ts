@@ -63,8 +63,8 @@ export async function replayBatch(
       `select m.id, m.measurement_id, m.unit_id, m.serial, m.received_at, m.source, m.payload,
               case when m.source = 'capture' then m.payload_raw end as payload_raw,
               c.verdict as base_verdict, c.offset_deg as base_offset,
-              (select jsonb_agg(jsonb_build_object('code', x->>'code', 'passed', (x->>'passed')::boolean))
-                 from jsonb_array_elements(c.result->'checks') x) as base_checks
+              array(select x->>'code' from jsonb_array_elements(c.result->'checks') x
+                     where x->>'passed' = 'false') as base_failed
          from measurements m
          left join calibrations c on c.measurement_pk = m.id and c.recipe_id = $2 and c.engine_version = $3
                                  and c.purpose = 'station'
@@ -82,7 +82,7 @@ export async function replayBatch(
     payload: r.payload,
     payloadRaw: r.payload_raw,
     baseline: r.base_verdict
-      ? { verdict: r.base_verdict, offsetDeg: r.base_offset, checks: r.base_checks }
+      ? { verdict: r.base_verdict, offsetDeg: r.base_offset, failedChecks: r.base_failed ?? [] }
       : null,
   }));
 }

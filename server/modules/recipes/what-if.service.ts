@@ -132,7 +132,7 @@ export async function cancelWhatIf(ctx: WhatIfContext, runId: string) {
   return toView(ctx.db, row!);
 }
 
-async function progress(ctx: WhatIfContext, r: WhatIfRunRecord) {
+async function progress(ctx: Pick<WhatIfContext, 'pool' | 'clock'>, r: WhatIfRunRecord) {
   const event: WhatIfProgress = {
     type: 'whatif.progress',
     runId: r.id,
@@ -172,7 +172,10 @@ function histogram(values: number[], fromDeg: number, toDeg: number): OffsetHist
  * no unit, calibration, traveler or station result changes. A second run of the same job (a retry)
  * starts the replay again from the beginning.
  */
-export async function runWhatIf(ctx: WhatIfContext, runId: string): Promise<WhatIfRunRecord | undefined> {
+export async function runWhatIf(
+  ctx: Pick<WhatIfContext, 'db' | 'pool' | 'clock'>,
+  runId: string,
+): Promise<WhatIfRunRecord | undefined> {
   const run = await repo.findWhatIfRun(ctx.db, runId);
   if (!run || run.status === 'done' || run.status === 'cancelled' || run.status === 'failed') return run;
   if (run.cancelRequested) {
@@ -206,8 +209,15 @@ export async function runWhatIf(ctx: WhatIfContext, runId: string): Promise<What
   let unusable = 0;
   let changedCount = 0;
 
+  // The next batch is read while this one is replayed: the database and the engine work side by side.
+  const read = (i: number) =>
+    i < ids.length
+      ? replayBatch(ctx.pool, ids.slice(i, i + WHAT_IF_BATCH), baseline!.id, ENGINE_VERSION)
+      : null;
+  let next = read(0);
   for (let i = 0; i < ids.length; i += WHAT_IF_BATCH) {
     if ((await repo.findWhatIfRun(ctx.db, runId))?.cancelRequested) {
+      next?.catch(() => {}); // the batch read ahead is not needed any more
       current = (await repo.updateWhatIfRun(ctx.db, runId, {
         status: 'cancelled',
         finishedAt: ctx.clock(),
@@ -215,14 +225,15 @@ export async function runWhatIf(ctx: WhatIfContext, runId: string): Promise<What
       await progress(ctx, current);
       return current;
     }
-    const rows = await replayBatch(ctx.pool, ids.slice(i, i + WHAT_IF_BATCH), baseline!.id, ENGINE_VERSION);
+    const rows = (await next)!;
+    next = read(i + WHAT_IF_BATCH);
     for (const row of rows) {
       const after = replayOne(row, recipe!);
       const before: Outcome = row.baseline
         ? {
             verdict: row.baseline.verdict,
             offsetDeg: row.baseline.offsetDeg,
-            failed: new Set((row.baseline.checks ?? []).filter((c) => !c.passed).map((c) => c.code)),
+            failed: new Set(row.baseline.failedChecks),
           }
         : recipe!.id === baseline!.id
           ? after
