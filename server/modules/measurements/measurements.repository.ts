@@ -47,7 +47,8 @@ export interface ReplayRow {
   baseline: {
     verdict: 'pass' | 'fail' | 'unusable';
     offsetDeg: number | null;
-    checks: { code: string; passed: boolean }[] | null;
+    /** Codes of the checks that failed. */
+    failedChecks: string[];
   } | null;
 }
 
