@@ -30,7 +30,7 @@ export interface WhatIfContext {
 }
 
 /** Measurements read and replayed per batch: bounded memory whatever the selection's size. */
-export const WHAT_IF_BATCH = 500;
+export const WHAT_IF_BATCH = 250;
 const MAX_LISTED = 500;
 
 const CHECK_LABELS: Record<CheckCode, string> = {

@@ -11,6 +11,7 @@ import { DraftEditor } from './draft-editor';
 import { RecipeBodyView } from './recipe-body-view';
 import { RecipeStatusChip } from './recipe-status';
 import { ReviewPanel } from './review-panel';
+import { WhatIfPanel } from './what-if-panel';
 
 function History({ v }: { v: RecipeVersionView }) {
   const rows: [string, string | null][] = [
@@ -94,7 +95,7 @@ function ChangesPanel({
 function useVersionAndModel(recipeId: string) {
   const version = useVersion(recipeId);
   const model = useModel(version.data?.modelId ?? '');
-  return { version, inForce: model.data?.activeRecipe ?? null };
+  return { version, inForce: model.data?.activeRecipe ?? null, stations: model.data?.stations ?? [] };
 }
 
 function Header({ v }: { v: RecipeVersionView }) {
@@ -121,7 +122,7 @@ export function VersionPage({
   canChange: boolean;
   meId: string;
 }) {
-  const { version, inForce } = useVersionAndModel(recipeId);
+  const { version, inForce, stations } = useVersionAndModel(recipeId);
   const [unsaved, setUnsaved] = useState(false);
   if (version.isPending) return <Loading label="Loading the version…" />;
   if (version.isError) return <Alert tone="fault">Could not read the version: {version.error.message}</Alert>;
@@ -154,6 +155,7 @@ export function VersionPage({
         </Panel>
       )}
       <ChangesPanel v={v} inForce={inForce} />
+      <WhatIfPanel recipeId={v.id} version={v.version} stations={stations} canRun={canChange} />
       {v.status === 'draft' ? (
         <ReviewPanel version={v} meId={meId} canChange={canChange} unsaved={unsaved} />
       ) : null}
@@ -171,7 +173,7 @@ export function ReviewScreen({
   canChange: boolean;
   meId: string;
 }) {
-  const { version, inForce } = useVersionAndModel(recipeId);
+  const { version, inForce, stations } = useVersionAndModel(recipeId);
   if (version.isPending) return <Loading label="Loading the version…" />;
   if (version.isError) return <Alert tone="fault">Could not read the version: {version.error.message}</Alert>;
   const v = version.data;
@@ -192,6 +194,7 @@ export function ReviewScreen({
         <History v={v} />
       </Panel>
       <ChangesPanel v={v} inForce={inForce} />
+      <WhatIfPanel recipeId={v.id} version={v.version} stations={stations} canRun={canChange} />
       <ReviewPanel version={v} meId={meId} canChange={canChange} unsaved={false} />
       <Panel title={`All fields of version ${v.version}`}>
         <RecipeBodyView body={v.body} caption={`Fields of version ${v.version}`} />
