@@ -59,6 +59,8 @@ async function main() {
     await p.getByRole('button', { name: 'Submit for review' }).click();
     await p.getByRole('link', { name: 'Open the review' }).click();
     await p.getByRole('heading', { name: 'Your decision' }).waitFor();
+    await p.getByRole('button', { name: 'Run what-if' }).click();
+    await p.getByTestId('what-if-summary').waitFor({ timeout: 120_000 });
     await shot(p, 'recipes-review-author');
     const reviewUrl = p.url();
     await evan.context.close();

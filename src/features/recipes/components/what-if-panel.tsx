@@ -265,7 +265,11 @@ function RunView({ run, recipeId, canRun }: { run: WhatIfRunView; recipeId: stri
                     <Td className="font-semibold">
                       {c.after.verdict} at {deg(c.after.offsetDeg)}
                     </Td>
-                    <Td>{c.checks.join(', ')}</Td>
+                    <Td>
+                      {c.checks
+                        .map((code) => s.causes.find((x) => x.code === code)?.label ?? code)
+                        .join(', ')}
+                    </Td>
                   </tr>
                 ))}
               </tbody>
