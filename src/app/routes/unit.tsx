@@ -2,9 +2,12 @@ import { useParams } from 'react-router';
 import { PageHeader } from '../../components/ui/panel';
 import { UnitPage } from '../../features/line/components/unit-page';
 import { UnitSearch } from '../../features/line/components/unit-search';
+import { useMe } from '../../features/auth/api/me';
+import { RecomputePanel } from '../../features/recipes/components/recompute-panel';
 
 export function Component() {
   const { serial = '' } = useParams();
+  const { data: me } = useMe();
   return (
     <div>
       <title>{`${serial} · Units · Phasewright`}</title>
@@ -17,6 +20,11 @@ export function Component() {
         }
       />
       <UnitPage key={serial} serial={serial} />
+      {me?.role === 'engineer' ? (
+        <div className="mt-6">
+          <RecomputePanel key={serial} serial={serial} />
+        </div>
+      ) : null}
     </div>
   );
 }

@@ -1,0 +1,143 @@
+import { useState } from 'react';
+import { useMutation, useQuery } from '@tanstack/react-query';
+import type { UnitDetail } from '../../../../shared/schemas/line';
+import { Alert } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { SelectField, TextField } from '../../../components/ui/field';
+import { Panel } from '../../../components/ui/panel';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { apiRequest, isApiError } from '../../../lib/api-client';
+import { formatDateTime } from '../../../lib/format';
+import { recipesKeys, useModel } from '../api/recipes';
+
+const deg = (v: number | null) => (v === null ? '—' : `${v.toFixed(2).replace('-', '−')} °e`);
+
+/**
+ * An engineer recomputes one of the unit's stored measurements with another released version of its
+ * model. The result is analysis: it is shown beside the station's and never changes the unit.
+ */
+export function RecomputePanel({ serial }: { serial: string }) {
+  const [waiting, setWaiting] = useState<{ measurementId: string; recipeId: string } | null>(null);
+  const detail = useQuery({
+    queryKey: [...recipesKeys.details(), 'unit', serial],
+    queryFn: () => apiRequest<UnitDetail>(`/api/units/${encodeURIComponent(serial)}`),
+    refetchInterval: waiting ? 1000 : false,
+  });
+  const model = useModel(detail.data?.unit.model.id ?? '');
+  const station = detail.data?.calibrations.filter((c) => c.purpose === 'station') ?? [];
+  const recomputed = detail.data?.calibrations.filter((c) => c.purpose === 'recompute') ?? [];
+  const versions = (model.data?.versions ?? []).filter(
+    (v) => v.status === 'released' || v.status === 'retired',
+  );
+  const [measurementId, setMeasurementId] = useState('');
+  const [recipeId, setRecipeId] = useState('');
+  const [reason, setReason] = useState('');
+  const [error, setError] = useState<string | null>(null);
+  const ask = useMutation({
+    mutationFn: (input: { measurementId: string; recipeId: string; reason: string }) =>
+      apiRequest<{ status: 'queued' | 'computed' }>(
+        `/api/measurements/${encodeURIComponent(input.measurementId)}/recompute`,
+        {
+          method: 'POST',
+          body: { recipeId: input.recipeId, reason: input.reason },
+        },
+      ),
+  });
+  if (!detail.data || station.length === 0) return null;
+  const chosenMeasurement = measurementId || station[0].measurementId;
+  const chosenRecipe = recipeId || versions[0]?.id || '';
+  if (
+    waiting &&
+    recomputed.some((c) => c.measurementId === waiting.measurementId && c.recipe.id === waiting.recipeId)
+  )
+    setWaiting(null);
+  const go = async () => {
+    setError(null);
+    if (reason.trim().length < 3) return setError('Give a reason (at least 3 characters).');
+    try {
+      await ask.mutateAsync({
+        measurementId: chosenMeasurement,
+        recipeId: chosenRecipe,
+        reason: reason.trim(),
+      });
+      setWaiting({ measurementId: chosenMeasurement, recipeId: chosenRecipe });
+      await detail.refetch();
+    } catch (e) {
+      setError(isApiError(e) ? e.message : 'Something went wrong. Try again.');
+    }
+  };
+  return (
+    <Panel title="Recompute with another recipe version" titleId="recompute-title">
+      <Alert tone="info" title="Analysis only">
+        A recomputation is recorded beside the station&apos;s result. It does not change the unit, its status,
+        its attempts, what was programmed or its traveler.
+      </Alert>
+      <div className="mt-4 grid gap-4 md:grid-cols-3">
+        <SelectField
+          label="Measurement"
+          value={chosenMeasurement}
+          onChange={(e) => setMeasurementId(e.target.value)}
+          options={station.map((c) => ({
+            value: c.measurementId,
+            label: `${formatDateTime(c.computedAt)}: ${c.verdict} at ${deg(c.offsetDeg)} (version ${c.recipe.version})`,
+          }))}
+        />
+        <SelectField
+          label="Recipe version"
+          value={chosenRecipe}
+          onChange={(e) => setRecipeId(e.target.value)}
+          options={versions.map((v) => ({
+            value: v.id,
+            label: `Version ${v.version} (${v.status === 'released' ? 'in force' : 'retired'})`,
+          }))}
+        />
+        <TextField
+          label="Reason"
+          required
+          value={reason}
+          error={error ?? undefined}
+          onChange={(e) => setReason(e.target.value)}
+        />
+      </div>
+      <div className="mt-4 flex items-center gap-3">
+        <Button variant="primary" busy={ask.isPending || !!waiting} onClick={() => void go()}>
+          Recompute
+        </Button>
+        {waiting ? <span role="status">Computing…</span> : null}
+      </div>
+      {recomputed.length ? (
+        <div className="mt-6">
+          <TableFrame caption="Recomputations beside the station's result">
+            <thead>
+              <tr>
+                <Th>Measurement</Th>
+                <Th>Station result</Th>
+                <Th>Recomputed (analysis)</Th>
+                <Th>Why, who</Th>
+              </tr>
+            </thead>
+            <tbody>
+              {recomputed.map((r) => {
+                const s = station.find((c) => c.measurementId === r.measurementId);
+                return (
+                  <tr key={r.calibrationId}>
+                    <Td>{s ? formatDateTime(s.computedAt) : r.measurementId}</Td>
+                    <Td>{s ? `${s.verdict} at ${deg(s.offsetDeg)}, version ${s.recipe.version}` : '—'}</Td>
+                    <Td>
+                      <span className="flex flex-wrap items-center gap-2">
+                        <StatusChip tone="accent">Analysis</StatusChip>
+                        {r.verdict} at {deg(r.offsetDeg)}, version {r.recipe.version}
+                      </span>
+                    </Td>
+                    <Td>{r.reason ?? '—'}</Td>
+                  </tr>
+                );
+              })}
+            </tbody>
+          </TableFrame>
+        </div>
+      ) : null}
+    </Panel>
+  );
+}
