@@ -150,6 +150,16 @@ export const holdUnitSchema = z.object({
   reason: z.string().trim().min(3, 'Give a reason (at least 3 characters)').max(500),
 });
 
+/** Columns of a work-order CSV, in template order; serial and model (code) are required. */
+export const WORK_ORDER_COLUMNS = [
+  'serial',
+  'model',
+  'work_order',
+  'hall_board_lot',
+  'magnet_ring_lot',
+  'stator_lot',
+] as const;
+
 export const importRowErrorSchema = z.object({
   row: z.number().int(),
   serial: z.string().nullable(),

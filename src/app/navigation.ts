@@ -34,6 +34,12 @@ export const NAV_ITEMS: readonly NavItem[] = [
     access: { only: ['engineer'] },
   },
   {
+    to: '/work-orders',
+    label: 'Work orders',
+    summary: 'Import a work order from CSV: all rows or none, with each problem named.',
+    access: { only: ['engineer', 'quality'] },
+  },
+  {
     to: '/admin/people',
     label: 'People',
     summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',

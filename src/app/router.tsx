@@ -36,6 +36,11 @@ export const router = createBrowserRouter([
           },
           { path: 'units', lazy: () => import('./routes/units') },
           { path: 'units/:serial', lazy: () => import('./routes/unit') },
+          {
+            path: 'work-orders',
+            element: <RequireAccess access={['engineer', 'quality']} />,
+            children: [{ index: true, lazy: () => import('./routes/work-orders') }],
+          },
           { path: 'recipes', lazy: () => import('./routes/recipes') },
           { path: 'recipes/models/:modelId', lazy: () => import('./routes/recipe-model') },
           { path: 'recipes/versions/:recipeId', lazy: () => import('./routes/recipe-version') },

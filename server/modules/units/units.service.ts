@@ -15,6 +15,7 @@ import {
   type RegisterUnit,
   type UnitDetail,
   type UnitView,
+  WORK_ORDER_COLUMNS,
 } from '../../../shared/schemas/line';
 import { units, type UnitRecord } from './units.table';
 
@@ -166,14 +167,7 @@ export async function setHold(
   });
 }
 
-const IMPORT_COLUMNS = [
-  'serial',
-  'model',
-  'work_order',
-  'hall_board_lot',
-  'magnet_ring_lot',
-  'stator_lot',
-] as const;
+const IMPORT_COLUMNS = WORK_ORDER_COLUMNS;
 
 /**
  * Imports units from a work-order CSV (header row; columns serial, model (code), and optionally
