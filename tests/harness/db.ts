@@ -4,13 +4,19 @@ import { inject } from 'vitest';
 import { createDatabase, type Database } from '../../server/db/client';
 
 export interface TestDatabase extends Database {
+  /** The app role on this database: what the server, the worker and `db`/`pool` here connect as. */
   url: string;
+  /** The owner role on this database (migrations, backups, fixtures the app itself may not write). */
+  ownerUrl: string;
   name: string;
   /** Closes the pool and drops the database. */
   drop(): Promise<void>;
 }
 
-/** A fresh database cloned from the migrated template: real schema, no rows, private to the caller. */
+/**
+ * A fresh database cloned from the migrated template: real schema, no rows, private to the caller.
+ * `db` and `pool` connect as the app role, like the running processes do.
+ */
 export async function createTestDatabase(): Promise<TestDatabase> {
   const adminUrl = inject('databaseAdminUrl');
   const template = inject('templateDatabase');
@@ -22,12 +28,15 @@ export async function createTestDatabase(): Promise<TestDatabase> {
   } finally {
     await admin.end();
   }
-  const url = new URL(adminUrl);
+  const ownerUrl = new URL(adminUrl);
+  ownerUrl.pathname = `/${name}`;
+  const url = new URL(inject('databaseAppUrl'));
   url.pathname = `/${name}`;
   const database = createDatabase(url.toString(), { max: 8, applicationName: 'phasewright-test' });
   return {
     ...database,
     url: url.toString(),
+    ownerUrl: ownerUrl.toString(),
     name,
     async drop() {
       await database.close();
