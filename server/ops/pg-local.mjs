@@ -56,7 +56,12 @@ import { isMain, isRoot, prefixedLog, repoRoot, run, sha256Text, sleep, aptInsta
  */
 
 /** Ports chosen away from 5432 so a system PostgreSQL and two checkouts' instances can coexist. */
-const DEFAULT_PORTS = /** @type {Record<string, number>} */ ({ dev: 55432, test: 55433, selftest: 55439 });
+const DEFAULT_PORTS = /** @type {Record<string, number>} */ ({
+  dev: 55432,
+  test: 55433,
+  chaos: 55438,
+  selftest: 55439,
+});
 /** Owns the database and every object in it; only migrations and backups/restores connect as it. */
 const OWNER_ROLE = 'phasewright';
 const DEFAULT_OWNER_PASSWORD = 'phasewright-owner-local';
@@ -363,6 +368,16 @@ function isPostgresProcess(pid) {
   } catch {
     return false;
   }
+}
+
+/**
+ * Whether the postmaster of a local instance is alive (its pid file names a live postgres process).
+ * Cheap enough to call every half second: no process is started.
+ * @param {string} dataDir
+ */
+export function postmasterAlive(dataDir) {
+  const running = readPidFile(dataDir);
+  return running !== undefined && isPostgresProcess(running.pid) && !isZombie(running.pid);
 }
 
 /** @param {number} pid */

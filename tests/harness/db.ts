@@ -9,7 +9,12 @@ export interface TestDatabase extends Database {
   /** The owner role on this database (migrations, backups, fixtures the app itself may not write). */
   ownerUrl: string;
   name: string;
-  /** Closes the pool and drops the database. */
+  /**
+   * A pool on the owner role, for what only the owner may try (e.g. proving a trigger refuses even
+   * the owner). Opened on first use.
+   */
+  ownerPool(): pg.Pool;
+  /** Closes the pools and drops the database. */
   drop(): Promise<void>;
 }
 
@@ -33,13 +38,22 @@ export async function createTestDatabase(): Promise<TestDatabase> {
   const url = new URL(inject('databaseAppUrl'));
   url.pathname = `/${name}`;
   const database = createDatabase(url.toString(), { max: 8, applicationName: 'phasewright-test' });
+  let owner: pg.Pool | undefined;
   return {
     ...database,
+    ownerPool() {
+      owner ??= createDatabase(ownerUrl.toString(), {
+        max: 2,
+        applicationName: 'phasewright-test-owner',
+      }).pool;
+      return owner;
+    },
     url: url.toString(),
     ownerUrl: ownerUrl.toString(),
     name,
     async drop() {
       await database.close();
+      await owner?.end();
       const a = new pg.Client({ connectionString: adminUrl });
       await a.connect();
       try {

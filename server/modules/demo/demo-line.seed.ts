@@ -15,7 +15,7 @@ import {
   type LineContext,
 } from '../measurements/measurements.service';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { createStation, createStationKey } from '../stations/stations.service';
+import { createStation, createStationKey, isLiveStationKey } from '../stations/stations.service';
 import { stationKeys, stations } from '../stations/stations.table';
 import { importUnits } from '../units/units.service';
 import { units } from '../units/units.table';
@@ -420,10 +420,16 @@ export interface DemoStationKey {
 }
 
 /**
- * A fresh key for the station the station simulator posts as. Keys are stored hashed, so every start
- * makes a new one; the previous demo keys of that station are revoked (audited) so they do not pile up.
+ * The key the station simulator posts as. A key it already holds (`keep`, read back from its key file)
+ * stays in use while it is a live key of the demo station, so restarts do not re-key the simulator;
+ * otherwise a fresh key is made (keys are stored hashed, so a lost key cannot be shown again) and the
+ * station's previous demo keys are revoked (audited) so they do not pile up.
  */
-export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStationKey> {
+export async function ensureDemoStationKey(
+  db: Db,
+  now: Date,
+  keep?: string,
+): Promise<DemoStationKey & { kept: boolean }> {
   const [station] = await db
     .select()
     .from(stations)
@@ -431,6 +437,9 @@ export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStati
   if (!station)
     throw new Error(`The demo station ${DEMO_SIM_STATION} does not exist: the demo line was not seeded.`);
   const [model] = await db.select().from(models).where(eq(models.id, station.allowedModelIds[0]));
+  if (keep && (await isLiveStationKey(db, station.id, keep))) {
+    return { stationId: station.id, stationName: station.name, modelCode: model.code, key: keep, kept: true };
+  }
   const revoked = await db
     .update(stationKeys)
     .set({ revokedAt: now })
@@ -452,5 +461,11 @@ export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStati
     });
   }
   const key = await createStationKey(db, null, station.id, DEMO_KEY_LABEL);
-  return { stationId: station.id, stationName: station.name, modelCode: model.code, key: key.key };
+  return {
+    stationId: station.id,
+    stationName: station.name,
+    modelCode: model.code,
+    key: key.key,
+    kept: false,
+  };
 }

@@ -15,7 +15,7 @@ import {
   demoStation,
   DEMO_HALL_BOARD_LOTS,
 } from './demo-line.scenario';
-import { createDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
+import { ensureDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
 
 const DAY_MS = 86_400_000;
 // A Thursday: the fortnight before it holds ten working days from Thursday to Wednesday.
@@ -149,11 +149,20 @@ describe('the demo line seed', () => {
     expect(c.n).toBe(first.calibrations.pass + first.calibrations.fail + first.calibrations.unusable);
   });
 
-  it('gives the simulator station a fresh key on every start and revokes the previous one', async () => {
-    const a = await createDemoStationKey(t.deps.db, new Date());
-    const b = await createDemoStationKey(t.deps.db, new Date());
+  it('keeps the simulator station key across starts while it is valid', async () => {
+    const a = await ensureDemoStationKey(t.deps.db, new Date());
+    const again = await ensureDemoStationKey(t.deps.db, new Date(), a.key);
     expect(a.stationName).toBe(DEMO_SIM_STATION);
-    expect(b.modelCode).toBe('CV-57B');
+    expect(again).toMatchObject({ key: a.key, kept: true, modelCode: 'CV-57B' });
+    const who = await authenticateStationKey(t.deps.db, a.key, new Date());
+    expect(who?.stationId).toBe(a.stationId);
+  });
+
+  it('gives the simulator station a fresh key when its key was lost or revoked, and revokes the old one', async () => {
+    const a = await ensureDemoStationKey(t.deps.db, new Date());
+    const b = await ensureDemoStationKey(t.deps.db, new Date(), 'pwsk_not-a-key-of-this-station');
+    expect(b.kept).toBe(false);
+    expect(b.key).not.toBe(a.key);
     expect(await authenticateStationKey(t.deps.db, a.key, new Date())).toBeNull();
     const who = await authenticateStationKey(t.deps.db, b.key, new Date());
     expect(who?.stationId).toBe(b.stationId);

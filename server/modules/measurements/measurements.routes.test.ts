@@ -326,8 +326,12 @@ describe('records that must not change', () => {
     await post(line.key, m);
     await computeQueued(m.measurementId);
     for (const table of ['measurements', 'calibrations']) {
-      await expect(t.database.pool.query(`update ${table} set id = id`)).rejects.toThrow(/append-only/);
-      await expect(t.database.pool.query(`delete from ${table}`)).rejects.toThrow(/append-only/);
+      // The triggers refuse even the owner role; the app role has no UPDATE or DELETE at all.
+      const owner = t.database.ownerPool();
+      await expect(owner.query(`update ${table} set id = id`)).rejects.toThrow(/append-only/);
+      await expect(owner.query(`delete from ${table}`)).rejects.toThrow(/append-only/);
+      await expect(t.database.pool.query(`update ${table} set id = id`)).rejects.toThrow(/permission denied/);
+      await expect(t.database.pool.query(`delete from ${table}`)).rejects.toThrow(/permission denied/);
     }
   });
 
@@ -337,8 +341,9 @@ describe('records that must not change', () => {
         line.recipe.id,
       ]),
     ).rejects.toThrow(/immutable/);
+    // Deleting is refused by the trigger even for the owner role (the app role may not delete recipes).
     await expect(
-      t.database.pool.query('delete from recipes where id = $1', [line.recipe.id]),
+      t.database.ownerPool().query('delete from recipes where id = $1', [line.recipe.id]),
     ).rejects.toThrow(/cannot be deleted/);
   });
 });

@@ -75,6 +75,21 @@ export async function authenticateStationKey(
   return entry.principal;
 }
 
+/** Whether `key` is a live (not revoked) key of the station. */
+export async function isLiveStationKey(db: DbOrTx, stationId: string, key: string): Promise<boolean> {
+  const [row] = await db
+    .select({ id: stationKeys.id })
+    .from(stationKeys)
+    .where(
+      and(
+        eq(stationKeys.stationId, stationId),
+        eq(stationKeys.keyHash, hashStationKey(key)),
+        isNull(stationKeys.revokedAt),
+      ),
+    );
+  return row !== undefined;
+}
+
 export async function recordHeartbeat(db: DbOrTx, stationId: string, now: Date): Promise<void> {
   await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, stationId));
 }

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { and, count, desc, eq, inArray } from 'drizzle-orm';
+import { and, count, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
@@ -169,6 +169,11 @@ async function store(
   return row;
 }
 
+/** A transaction lock on one calibration's travelers: prints of it take turns. */
+async function lockCalibration(tx: DbOrTx, calibrationId: string): Promise<void> {
+  await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`traveler:${calibrationId}`}, 0))`);
+}
+
 /** The job: print 1 of a committed calibration's traveler, once (a second run finds it and stops). */
 export async function renderFirstTraveler(
   db: Db,
@@ -185,12 +190,9 @@ export async function renderFirstTraveler(
     .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
   if (existing) return existing.id;
   return db.transaction(async (tx) => {
-    // Serialise concurrent runs of the same job on the calibration row's lock.
-    await tx
-      .select({ id: calibrations.id })
-      .from(calibrations)
-      .where(eq(calibrations.id, calibrationId))
-      .for('update');
+    // Serialise concurrent runs of the same job on a lock named after the calibration (a row lock
+    // would need UPDATE on calibrations, which the app role does not have: the table is append-only).
+    await lockCalibration(tx, calibrationId);
     const [again] = await tx
       .select({ id: travelers.id })
       .from(travelers)
@@ -261,11 +263,7 @@ export async function printTraveler(
     .limit(1);
   if (!latest) throw travelerErrors.none(serial);
   return db.transaction(async (tx) => {
-    await tx
-      .select({ id: calibrations.id })
-      .from(calibrations)
-      .where(eq(calibrations.id, latest.id))
-      .for('update');
+    await lockCalibration(tx, latest.id);
     const [{ n }] = await tx
       .select({ n: count() })
       .from(auditLog)
