@@ -49,7 +49,7 @@ export function createBoss(
     schedule: opts.schedule ?? false,
     application_name: 'phasewright-queue',
     // How often the supervisor looks for jobs whose worker died (their expiry passed) and retries them.
-    maintenanceIntervalSeconds: Number(process.env.QUEUE_MAINTENANCE_SECONDS ?? 30),
+    maintenanceIntervalSeconds: Number(process.env.QUEUE_MAINTENANCE_SECONDS ?? 10),
   });
   return boss;
 }

@@ -24,6 +24,8 @@ export async function startWorker(opts: {
   const queue: JobQueue = await startJobQueue(opts.databaseUrl, database.pool, {
     supervise: true,
     schedule: true,
+    // A lost connection (the database restarting) is reported here; pg-boss's loops carry on polling.
+    onError: (err) => logger.warn({ err: err.message }, 'job queue: database error; retrying'),
   });
   const deps: WorkerDeps = { db: database.db, pool: database.pool, logger, clock: () => new Date(), queue };
   const loops = new Map<string, string[]>();
@@ -74,7 +76,8 @@ export async function startWorker(opts: {
       turn.set(msg.payload!, (i + 1) % ids.length);
       queue.boss.notifyWorker(ids[i]);
     });
-    c.on('error', () => {
+    c.on('error', (err) => {
+      logger.warn({ err: err.message }, 'wake-up connection lost; reconnecting');
       listener = null;
       c.end().catch(() => {});
       setTimeout(() => void listen(), 500);

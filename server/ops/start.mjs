@@ -56,9 +56,43 @@ async function shutdown(code) {
 process.on('SIGINT', () => void shutdown(0));
 process.on('SIGTERM', () => void shutdown(0));
 
+/**
+ * What runs now, for operators and the supervision test: `.data/run-<instance>.json` lists each
+ * process's pid, its restarts and when it last came up, and the same for PostgreSQL.
+ */
+const stateFile = join(dataDir, `run-${instance}.json`);
+const pgRestarts = [];
+function writeState() {
+  const state = {
+    supervisorPid: process.pid,
+    updatedAt: new Date().toISOString(),
+    services: Object.fromEntries(
+      services.map((s) => [
+        s.name,
+        {
+          pid: s.current()?.child.pid ?? null,
+          restarts: s.restarts.map((r) => ({
+            exitedAt: new Date(r.at).toISOString(),
+            code: r.code,
+            signal: r.signal,
+            upAt: r.upAt === null ? null : new Date(r.upAt).toISOString(),
+          })),
+        },
+      ]),
+    ),
+    postgres: pg && !pg.external ? { dataDir: pg.dataDir, port: pg.port, restarts: pgRestarts } : null,
+  };
+  try {
+    mkdirSync(dataDir, { recursive: true });
+    writeFileSync(stateFile, `${JSON.stringify(state, null, 2)}\n`);
+  } catch {
+    // Only informative: never let it stop the supervisor.
+  }
+}
+
 /** Starts a supervised process and remembers it for the shutdown. */
 function supervise(name, file, args, options) {
-  const s = superviseService(name, file, args, { log, ...options });
+  const s = superviseService(name, file, args, { log, onStarted: writeState, ...options });
   services.push(s);
   return s;
 }
@@ -80,6 +114,8 @@ function watchPostgres() {
       await ensurePostgres({ instance, log: prefixedLog('postgres') });
       ownPostgres = true;
       log(`PostgreSQL is running again (${((Date.now() - t0) / 1000).toFixed(1)} s)`);
+      pgRestarts.push({ stoppedAt: new Date(t0).toISOString(), upAt: new Date().toISOString() });
+      writeState();
     } catch (e) {
       log(`PostgreSQL did not start again: ${e instanceof Error ? e.message : String(e)}; retrying`);
     } finally {
@@ -206,6 +242,7 @@ try {
     '  A process that stops is started again; press Ctrl-C to stop everything.',
     '',
   ];
+  writeState();
   process.stdout.write(banner.join('\n') + '\n');
 } catch (e) {
   log(`failed: ${e instanceof Error ? e.message : String(e)}`);

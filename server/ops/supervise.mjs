@@ -25,7 +25,7 @@ const STABLE_MS = 60_000;
  * @param {string} name
  * @param {string} file
  * @param {string[]} args
- * @param {{ env?: NodeJS.ProcessEnv, log: (message: string) => void, ready?: (service: import('./services.mjs').Service) => Promise<void>, onRestarted?: (name: string, downMs: number) => void }} options
+ * @param {{ env?: NodeJS.ProcessEnv, log: (message: string) => void, ready?: (service: import('./services.mjs').Service) => Promise<void>, onStarted?: () => void }} options
  * @returns {Supervised}
  */
 export function superviseService(name, file, args, options) {
@@ -43,6 +43,13 @@ export function superviseService(name, file, args, options) {
     service = startService(name, file, args, {
       env: options.env,
       onExit: (code, signal) => {
+        // Whatever the dead process left in its group (tsx's inner node process, a shell's children)
+        // goes too, so the next one does not find its port taken.
+        try {
+          if (service.child.pid) process.kill(-service.child.pid, 'SIGKILL');
+        } catch {
+          // the group is empty already
+        }
         if (stopped) return;
         if (Date.now() - startedAt > STABLE_MS) restartNumber = 0;
         restartNumber += 1;
@@ -56,6 +63,7 @@ export function superviseService(name, file, args, options) {
         timer = setTimeout(() => void launch(entry), delay);
       },
     });
+    options.onStarted?.();
     if (options.ready) {
       try {
         await options.ready(service);
@@ -69,11 +77,12 @@ export function superviseService(name, file, args, options) {
       downSince.upAt = Date.now();
       const downMs = downSince.upAt - downSince.at;
       options.log(`${name} is running again (${(downMs / 1000).toFixed(1)} s after it exited)`);
-      options.onRestarted?.(name, downMs);
+      options.onStarted?.();
     }
   };
 
-  const firstStart = launch(null);
+  // Started on the next tick, so the caller holds the handle before the first onStarted call.
+  const firstStart = Promise.resolve().then(() => launch(null));
   return {
     name,
     current: () => service,
