@@ -25,7 +25,7 @@ export interface TestDatabase extends Database {
 export async function createTestDatabase(): Promise<TestDatabase> {
   const adminUrl = inject('databaseAdminUrl');
   const template = inject('templateDatabase');
-  const name = `pw_t_${inject('runTag')}_${randomBytes(4).toString('hex')}`;
+  const name = testDatabaseName();
   const admin = new pg.Client({ connectionString: adminUrl });
   await admin.connect();
   try {
@@ -33,6 +33,17 @@ export async function createTestDatabase(): Promise<TestDatabase> {
   } finally {
     await admin.end();
   }
+  return openTestDatabase(name);
+}
+
+/** A name for a database of this test run (dropped with the run's leftovers if a run is interrupted). */
+export function testDatabaseName(): string {
+  return `pw_t_${inject('runTag')}_${randomBytes(4).toString('hex')}`;
+}
+
+/** Opens an existing database of the test server (e.g. one a test restored a backup into). */
+export function openTestDatabase(name: string): TestDatabase {
+  const adminUrl = inject('databaseAdminUrl');
   const ownerUrl = new URL(adminUrl);
   ownerUrl.pathname = `/${name}`;
   const url = new URL(inject('databaseAppUrl'));

@@ -23,8 +23,11 @@ export interface TestApp {
  * The real app on a private database, with the demo accounts, a real pg-boss queue and the local
  * fake mail server on free ports. Only the clock is controllable.
  */
-export async function createTestApp(opts: { seed?: boolean } = {}): Promise<TestApp> {
-  const database = await createTestDatabase();
+export async function createTestApp(
+  opts: { seed?: boolean; database?: TestDatabase } = {},
+): Promise<TestApp> {
+  // `database`: run on this one (e.g. a restored copy) instead of a fresh clone of the template.
+  const database = opts.database ?? (await createTestDatabase());
   const mail = await startFakeMailServer({});
   const env = parseEnv({
     NODE_ENV: 'test',
