@@ -76,11 +76,15 @@ export async function startWorker(opts: {
       turn.set(msg.payload!, (i + 1) % ids.length);
       queue.boss.notifyWorker(ids[i]);
     });
+    // A dying connection can report more than one error: reconnect once per connection.
+    let lost = false;
     c.on('error', (err) => {
+      if (lost) return;
+      lost = true;
       logger.warn({ err: err.message }, 'wake-up connection lost; reconnecting');
-      listener = null;
+      if (listener === c) listener = null;
       c.end().catch(() => {});
-      setTimeout(() => void listen(), 500);
+      if (!stopped) setTimeout(() => void listen(), 500);
     });
     try {
       await c.connect();
@@ -88,6 +92,8 @@ export async function startWorker(opts: {
       listener = c;
       // Anything sent while we were not listening is picked up by the regular poll.
     } catch {
+      if (lost) return;
+      lost = true;
       c.end().catch(() => {});
       setTimeout(() => void listen(), 1000);
     }

@@ -44,11 +44,15 @@ export function createEventHub(url: string, logger: Logger): EventHub {
       const parsed = lineEventSchema.safeParse(JSON.parse(msg.payload));
       if (parsed.success) emitter.emit('event', parsed.data);
     });
+    // A dying connection can report more than one error: reconnect once per connection.
+    let lost = false;
     c.on('error', (err) => {
+      if (lost) return;
+      lost = true;
       logger.warn({ err: err.message }, 'event connection lost; reconnecting');
-      client = null;
+      if (client === c) client = null;
       c.end().catch(() => {});
-      setTimeout(() => void connect(), 500);
+      if (!closed) setTimeout(() => void connect(), 500);
     });
     try {
       await c.connect();
@@ -56,6 +60,8 @@ export function createEventHub(url: string, logger: Logger): EventHub {
       client = c;
       resolveReady();
     } catch (err) {
+      if (lost) return; // the error handler already scheduled the reconnection
+      lost = true;
       logger.warn({ err: (err as Error).message }, 'event connection failed; retrying');
       c.end().catch(() => {});
       setTimeout(() => void connect(), 1000);
