@@ -148,6 +148,8 @@ export async function backupDatabase(opts: { ownerUrl: string; outDir: string; n
       pgEnv(opts.ownerUrl),
     );
     await client.query('commit');
+    // The dump holds password hashes and station key hashes: readable by its owner only.
+    chmodSync(partial, 0o600);
     renameSync(partial, dumpPath);
     const manifest: BackupManifest = {
       format: 'phasewright-backup/1',
