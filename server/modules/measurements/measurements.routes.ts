@@ -70,11 +70,11 @@ export function measurementsRoutes(deps: AppDeps) {
         const fields = captureFields.parse(req.body ?? {});
         if (!req.file)
           throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
-        const csv = req.file.buffer.toString('utf8');
-        const measurement = await measurementFromCapture(ctx, req.station!, fields, csv);
+        // The bytes are parsed as they are; the text is made only for a capture worth storing.
+        const measurement = await measurementFromCapture(ctx, req.station!, fields, req.file.buffer);
         const accepted = await acceptMeasurement(ctx, req.station!, measurement, {
           source: 'capture',
-          raw: csv,
+          raw: req.file.buffer.toString('utf8'),
         });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)

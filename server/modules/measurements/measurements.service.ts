@@ -287,7 +287,7 @@ export async function measurementFromCapture(
   ctx: LineContext,
   station: StationPrincipal,
   fields: { measurementId: string; serial: string; direction?: 'forward' | 'reverse' },
-  csvText: string,
+  csvText: string | Uint8Array,
 ): Promise<Measurement> {
   const recipe = await recipeForSerial(ctx.db, station.stationId, fields.serial);
   try {
