@@ -38,7 +38,11 @@ const upload = (id: string, csv: Buffer) =>
 const header = 'time_s,va,vb,vc,ha,hb,hc\n';
 const hostile: [string, () => Buffer, RegExp][] = [
   ['one line of 100,000 empty fields', () => Buffer.from(','.repeat(99_999)), /100000 columns/],
-  ['a header of 50,000 names', () => Buffer.from(Array.from({ length: 50_000 }, (_, i) => `c${i}`).join(',')), /columns/],
+  [
+    'a header of 50,000 names',
+    () => Buffer.from(Array.from({ length: 50_000 }, (_, i) => `c${i}`).join(',')),
+    /columns/,
+  ],
   ['one 1 MB line without separators', () => Buffer.alloc(1 << 20, 0x31), /bytes long/],
   [
     'a data row of 100,000 fields under a normal header',
@@ -50,11 +54,7 @@ const hostile: [string, () => Buffer, RegExp][] = [
     () => Buffer.from(header + 'x,x,x,x,x,x,x\n'.repeat(200_000)),
     /not a finite number/,
   ],
-  [
-    'three million tiny rows',
-    () => Buffer.from('0\n'.repeat(3_000_000)),
-    /at most 2000000 rows/,
-  ],
+  ['three million tiny rows', () => Buffer.from('0\n'.repeat(3_000_000)), /at most 2000000 rows/],
   [
     'a NUL byte in a number',
     () => Buffer.from(header + '0,1,2,3,1,0,1\n0\u0000,1,2,3,1,0,1\n'),
