@@ -24,7 +24,8 @@ function zodIssues(e: ZodError) {
 export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
   const app = express();
   app.disable('x-powered-by');
-  app.set('trust proxy', 'loopback');
+  // X-Forwarded-For is believed only from the proxies TRUST_PROXY names (default: none).
+  app.set('trust proxy', deps.env.TRUST_PROXY);
   app.use(
     helmet({
       contentSecurityPolicy: {

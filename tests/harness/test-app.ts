@@ -34,6 +34,8 @@ export async function createTestApp(opts: { seed?: boolean } = {}): Promise<Test
     PUBLIC_URL: 'http://phasewright.test',
     LOG_LEVEL: 'silent',
     CLIENT_DIST: '/nonexistent',
+    // Tests stand in for many client addresses with X-Forwarded-For from loopback.
+    TRUST_PROXY: 'loopback',
   });
   if (opts.seed ?? true) await seedDemoAccounts(database.db, env.BCRYPT_COST);
   const queue = await startJobQueue(database.url, database.pool);
