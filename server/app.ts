@@ -9,6 +9,7 @@ import { buildRoutes } from './routes';
 import { AppError } from './lib/errors';
 import { SESSION_COOKIE, requireAccess, verifySession } from './lib/auth';
 import type { RouteDef } from './lib/http';
+import { inputGuard } from './lib/input-guard';
 import multer from 'multer';
 import { loadSessionUser } from './modules/auth/auth.service';
 import { authenticateStationKey, stationErrors } from './modules/stations/stations.service';
@@ -43,6 +44,7 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
     }),
   );
   app.use(cookieParser());
+  app.use(inputGuard);
 
   // Identify the caller once: a session cookie names a person (checked against the account's
   // token version and disabled flag on every request, so revocation is immediate).
@@ -137,6 +139,14 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
         .json({ error: { code: 'request.malformed_json', message: 'The body is not valid JSON.' } });
       return;
     }
+    // The body reader's other refusals: answered in plain words, never as a 500.
+    const bodyRefusal = bodyReaderRefusal(e);
+    if (bodyRefusal) {
+      res
+        .status(bodyRefusal.status)
+        .json({ error: { code: bodyRefusal.code, message: bodyRefusal.message } });
+      return;
+    }
     deps.logger.error({ err, method: req.method, url: req.originalUrl }, 'unhandled error');
     res.status(500).json({
       error: {
@@ -147,4 +157,50 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
   });
 
   return app;
+}
+
+/**
+ * Errors of the JSON body reader (body-parser) and the router that a client caused: an unsupported
+ * charset or Content-Encoding (415), a body that does not inflate (corrupt gzip/deflate/brotli), a
+ * path escape that does not decode (400). Anything else with a 4xx status from these layers is a bad
+ * request too; it is never logged as a server fault.
+ */
+function bodyReaderRefusal(
+  e: {
+    type?: string;
+    status?: number;
+    charset?: string;
+    encoding?: string;
+  } | null,
+): { status: number; code: string; message: string } | null {
+  if (!e || typeof e.status !== 'number' || e.status < 400 || e.status >= 500) return null;
+  switch (e.type) {
+    case 'charset.unsupported':
+      return {
+        status: 415,
+        code: 'request.unsupported_charset',
+        message: `The body's character set "${String(e.charset ?? '').slice(0, 40)}" is not supported: send UTF-8.`,
+      };
+    case 'encoding.unsupported':
+      return {
+        status: 415,
+        code: 'request.unsupported_encoding',
+        message: `The body's Content-Encoding "${String(e.encoding ?? '').slice(0, 40)}" is not supported: send it plain, gzip, deflate or br.`,
+      };
+    case 'request.aborted':
+      return { status: 400, code: 'request.aborted', message: 'The body ended before it was complete.' };
+    case 'request.size.invalid':
+      return {
+        status: 400,
+        code: 'request.size_mismatch',
+        message: 'The body is not as long as its Content-Length says.',
+      };
+    default:
+      return {
+        status: 400,
+        code: 'request.unreadable',
+        message:
+          'The request could not be read: its body does not decode (a corrupt compressed body?) or its address is not valid.',
+      };
+  }
 }

@@ -1,0 +1,143 @@
+import { gzipSync, brotliCompressSync } from 'node:zlib';
+import fc from 'fast-check';
+import request from 'supertest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestApp, sessionCookie, type TestApp } from '../../tests/harness/test-app';
+import { createLineFixture } from '../../tests/harness/line-fixtures';
+import { simulatedMeasurement } from '../../tests/harness/measurements';
+
+let t: TestApp;
+let line: Awaited<ReturnType<typeof createLineFixture>>;
+let engineer: string;
+
+beforeAll(async () => {
+  t = await createTestApp();
+  line = await createLineFixture(t.deps.db, { code: 'TM-GUARD', polePairs: 4 });
+  engineer = await sessionCookie(t.app, 'evan.engineer', 'demo-engineer-pass');
+});
+afterAll(async () => {
+  await t?.close();
+});
+
+const postRaw = (body: Buffer | string, headers: Record<string, string>) => {
+  const r = request(t.app).post('/api/station/measurements').set('X-Station-Key', line.key);
+  for (const [k, v] of Object.entries(headers)) r.set(k, v);
+  // Sent as the bytes given (superagent would otherwise serialise a Buffer as JSON).
+  return r.serialize((b: unknown) => b as string).send(body);
+};
+
+describe('text no request can carry', () => {
+  it('answers 400 for NUL bytes, control characters and broken escapes in a path', async () => {
+    for (const path of [
+      '/api/units/%00',
+      '/api/units/SN-%00-1/traveler.pdf',
+      '/api/units/%ED%A0%80',
+      '/api/units/%E0%A4%A',
+      '/api/units/SN%0A1',
+    ]) {
+      const res = await request(t.app).get(path).set('Cookie', engineer);
+      expect(res.status, path).toBe(400);
+      expect(res.body.error.message, path).not.toMatch(/Something went wrong/);
+    }
+    const station = await request(t.app)
+      .get('/api/station/measurements/%00/result')
+      .set('X-Station-Key', line.key);
+    expect(station.status).toBe(400);
+  });
+
+  it('answers 400 for a NUL byte or a lone surrogate in a query or a JSON body string', async () => {
+    const q = await request(t.app)
+      .get('/api/station/measurements/abc/result?waitMs=1%00')
+      .set('X-Station-Key', line.key);
+    expect(q.status).toBe(400);
+    const m = simulatedMeasurement(line.recipe.body, 'SN-GUARD-1');
+    for (const bad of ['\\u0000', '\\ud800', 'x\\udfffy']) {
+      const text = JSON.stringify({
+        ...m,
+        segments: m.segments.map((s) => ({ ...s, label: 'LABEL' })),
+      }).replace('"LABEL"', `"${bad}"`);
+      const res = await postRaw(text, { 'Content-Type': 'application/json' });
+      expect(res.status, bad).toBe(400);
+      expect(res.body.error.code, bad).toBe('request.bad_characters');
+    }
+    const key = JSON.stringify(m).replace('"serial"', '"\\u0000serial"');
+    expect((await postRaw(key, { 'Content-Type': 'application/json' })).status).toBe(400);
+  });
+
+  it('never answers 500 to any path segment or query text (fuzzed, NUL and control characters included)', async () => {
+    const text = fc.oneof(
+      fc.string({ unit: 'binary', maxLength: 30 }),
+      fc.string({
+        unit: fc.constantFrom(
+          '\u0000',
+          '\u0001',
+          '\u001f',
+          '\u007f',
+          '\ud800',
+          '\udc00',
+          '%',
+          'ß',
+          'a',
+          '1',
+          '/',
+          '.',
+        ),
+        maxLength: 20,
+      }),
+    );
+    await fc.assert(
+      fc.asyncProperty(text, text, async (segment, query) => {
+        // encodeURIComponent cannot encode lone surrogates: send them as the raw UTF-8 bytes would be.
+        const enc = (s: string) =>
+          s.replace(/[\s\S]/g, (ch) => {
+            try {
+              return encodeURIComponent(ch);
+            } catch {
+              return '%ED%A0%80';
+            }
+          });
+        for (const path of [
+          `/api/units/${enc(segment)}`,
+          `/api/units/${enc(segment)}/traveler.pdf`,
+          `/api/station/measurements/${enc(segment)}/result?waitMs=0&x=${enc(query)}`,
+        ]) {
+          const res = await request(t.app).get(path).set('Cookie', engineer).set('X-Station-Key', line.key);
+          expect(res.status, path).toBeLessThan(500);
+        }
+      }),
+      { numRuns: 60 },
+    );
+  });
+});
+
+describe('bodies the server cannot read', () => {
+  const body = () => JSON.stringify(simulatedMeasurement(line.recipe.body, 'SN-GUARD-2'));
+
+  it('answers 415 for an unsupported charset and an unknown Content-Encoding', async () => {
+    const charset = await postRaw(body(), { 'Content-Type': 'application/json; charset=latin-9' });
+    expect(charset.status).toBe(415);
+    expect(charset.body.error.message).toMatch(/send UTF-8/);
+    const encoding = await postRaw(body(), {
+      'Content-Type': 'application/json',
+      'Content-Encoding': 'x-squash',
+    });
+    expect(encoding.status).toBe(415);
+    expect(encoding.body.error.code).toBe('request.unsupported_encoding');
+  });
+
+  it('answers 400 for a corrupt gzip or brotli body, and reads a good one', async () => {
+    const good = gzipSync(body());
+    const corrupt = Buffer.from(good);
+    corrupt.fill(0x55, 10, 60);
+    const gz = await postRaw(corrupt, { 'Content-Type': 'application/json', 'Content-Encoding': 'gzip' });
+    expect(gz.status).toBe(400);
+    const br = brotliCompressSync(body());
+    const br2 = await postRaw(br.subarray(0, br.length >> 1), {
+      'Content-Type': 'application/json',
+      'Content-Encoding': 'br',
+    });
+    expect(br2.status).toBe(400);
+    const ok = await postRaw(good, { 'Content-Type': 'application/json', 'Content-Encoding': 'gzip' });
+    expect(ok.status, JSON.stringify(ok.body)).toBe(202);
+  });
+});
