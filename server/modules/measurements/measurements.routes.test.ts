@@ -102,6 +102,36 @@ describe('posting a measurement', () => {
     expect(rows).toEqual([{ serial: 'SN-CONFLICT' }]);
   });
 
+  it('answers another station that reuses an id exactly like any id reuse, revealing nothing of the record', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-ID-OWNER');
+    expect((await post(line.key, m)).status).toBe(202);
+    // The same station repeating itself gets the same answer (idempotency).
+    const repeat = await post(line.key, m);
+    expect(repeat.status).toBe(202);
+    expect(repeat.body).toMatchObject({ measurementId: m.measurementId, repeated: true });
+    // Another station, same body or its own body for one of its units: the answer any reuse gets.
+    const sameBody = await post(other.key, m);
+    const ownBody = await post(
+      other.key,
+      simulatedMeasurement(other.recipe.body, 'SN-ID-PROBE', { measurementId: m.measurementId }),
+    );
+    const changedHere = await post(line.key, { ...m, serial: 'SN-ID-OWNER-2' });
+    for (const res of [sameBody, ownBody, changedHere]) {
+      expect(res.status).toBe(409);
+      expect(res.body).toEqual(changedHere.body);
+    }
+    expect(JSON.stringify(sameBody.body)).not.toMatch(/SN-ID-OWNER|different|already|EOL-/);
+    // Nor does the result URL tell another station that the id exists.
+    const foreign = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', other.key);
+    const none = await request(t.app)
+      .get('/api/station/measurements/no-such-id/result')
+      .set('X-Station-Key', other.key);
+    expect(foreign.status).toBe(404);
+    expect(foreign.body.error.code).toBe(none.body.error.code);
+  });
+
   it('stores exactly one measurement when two posts of the same id race on two connections', async () => {
     for (let round = 0; round < 5; round++) {
       const m = simulatedMeasurement(recipe, `SN-RACE-${round}`, { seed: round });
