@@ -10,6 +10,7 @@ import { AppError } from './lib/errors';
 import { SESSION_COOKIE, requireAccess, verifySession } from './lib/auth';
 import type { RouteDef } from './lib/http';
 import { inputGuard } from './lib/input-guard';
+import { sameOriginGuard } from './lib/same-origin';
 import multer from 'multer';
 import { loadSessionUser } from './modules/auth/auth.service';
 import { authenticateStationKey, stationErrors } from './modules/stations/stations.service';
@@ -44,6 +45,7 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
     }),
   );
   app.use(cookieParser());
+  app.use(sameOriginGuard(deps.env.PUBLIC_URL));
   app.use(inputGuard);
 
   // Identify the caller once: a session cookie names a person (checked against the account's

@@ -3,7 +3,7 @@ import jwt from 'jsonwebtoken';
 import request from 'supertest';
 import { afterAll, afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
 import { createApp } from '../../app';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, type TestApp } from '../../../tests/harness/test-app';
 import { LOCKOUT_MINUTES, LOCKOUT_THRESHOLD } from './auth.service';
 import { IP_FAILURE_LIMIT } from './auth.routes';
 
@@ -20,7 +20,7 @@ afterEach(() => {
 });
 
 const signIn = (app: TestApp['app'], username: string, password: string, ip: string, cookie?: string) => {
-  const r = request(app).post('/api/auth/sign-in').set('X-Forwarded-For', ip);
+  const r = request(app).post('/api/auth/sign-in').set('X-Forwarded-For', ip).set('Origin', TEST_ORIGIN);
   if (cookie) r.set('Cookie', cookie);
   return r.send({ username, password });
 };
@@ -154,7 +154,7 @@ describe('session tokens', () => {
     expect((await request(t.app).get('/api/me').set('Cookie', copy)).status).toBe(200);
     const out = await request(t.app)
       .post('/api/auth/sign-out')
-      .set('Origin', 'http://phasewright.test')
+      .set('Origin', TEST_ORIGIN)
       .set('Cookie', copy);
     expect(out.status).toBe(204);
     const again = await request(t.app).get('/api/me').set('Cookie', copy);
