@@ -2,7 +2,7 @@ import { gzipSync, brotliCompressSync } from 'node:zlib';
 import fc from 'fast-check';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, type TestApp } from '../../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../tests/harness/test-app';
 import { createLineFixture } from '../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../tests/harness/measurements';
 
@@ -141,3 +141,22 @@ describe('bodies the server cannot read', () => {
     expect(ok.status, JSON.stringify(ok.body)).toBe(202);
   });
 });
+
+describe('validation answers', () => {
+  it('flag a 240-character station name as too long in plain words, never in library wording', async () => {
+    const admin = await sessionCookie(t.app, 'ada.admin', 'demo-admin-pass');
+    const res = await request(t.app)
+      .post('/api/admin/stations')
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', admin)
+      .send({ name: 'S'.repeat(240), line: 'Line 1', allowedModelIds: [line.model.id] });
+    expect(res.status).toBe(400);
+    expect(res.body.error.issues).toEqual([
+      { path: 'name', message: 'Too long: at most 40 characters (this has 240).' },
+    ]);
+    expect(res.body.error.message).toBe(
+      'The request is not valid: name: Too long: at most 40 characters (this has 240).',
+    );
+  });
+});
+
