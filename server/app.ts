@@ -19,8 +19,29 @@ import { authenticateStationKey, stationErrors } from './modules/stations/statio
 /** Largest JSON body accepted (a 500-turn measurement with every edge is ~250 KB). */
 export const JSON_BODY_LIMIT = '2mb';
 
+/** Issues listed in one error answer; the rest are counted, so a hostile body cannot make a huge answer. */
+export const MAX_LISTED_ISSUES = 20;
+
+function boundedIssues(issues: { path: string; message: string }[], total = issues.length) {
+  if (
+    total <= MAX_LISTED_ISSUES ||
+    (issues.length <= MAX_LISTED_ISSUES + 1 && issues.at(-1)?.path === '(more)')
+  )
+    return issues;
+  const more = total - MAX_LISTED_ISSUES;
+  return [
+    ...issues.slice(0, MAX_LISTED_ISSUES),
+    { path: '(more)', message: `and ${more} more problem${more === 1 ? '' : 's'}, not listed` },
+  ];
+}
+
 function zodIssues(e: ZodError) {
-  return e.issues.map((i) => ({ path: i.path.join('.') || '(body)', message: i.message }));
+  return boundedIssues(
+    e.issues
+      .slice(0, MAX_LISTED_ISSUES)
+      .map((i) => ({ path: i.path.join('.') || '(body)', message: i.message })),
+    e.issues.length,
+  );
 }
 
 /** Builds the HTTP application without listening: tests call it with their own dependencies. */
@@ -113,7 +134,8 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       return;
     }
     if (err instanceof AppError) {
-      const issues = (err.details?.issues as { path: string; message: string }[] | undefined) ?? undefined;
+      const listed = err.details?.issues as { path: string; message: string }[] | undefined;
+      const issues = listed ? boundedIssues(listed) : undefined;
       res
         .status(err.status)
         .json({ error: { code: err.code, message: err.message, ...(issues ? { issues } : {}) } });

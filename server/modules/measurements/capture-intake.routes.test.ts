@@ -101,3 +101,26 @@ describe('hostile capture uploads', () => {
     );
   });
 });
+
+describe('hostile JSON measurements', () => {
+  it('answers a body of 100,000 empty segments with a small 400 that counts what it does not list', async () => {
+    const body = JSON.stringify({
+      measurementId: 'hostile-json-1',
+      serial: 'SN-HOSTILE',
+      segments: Array.from({ length: 100_000 }, () => ({})),
+    });
+    gc();
+    const before = memoryMb();
+    const res = await request(t.app)
+      .post('/api/station/measurements')
+      .set('X-Station-Key', line.key)
+      .set('Content-Type', 'application/json')
+      .send(body);
+    const growth = memoryMb() - before;
+    expect(res.status).toBe(400);
+    expect(res.body.error.issues).toHaveLength(21);
+    expect(res.body.error.issues.at(-1).message).toMatch(/^and \d+ more problems, not listed$/);
+    expect(res.text.length).toBeLessThan(4096);
+    expect(growth).toBeLessThan(200);
+  });
+});
