@@ -34,6 +34,21 @@ const envSchema = z.object({
   /** Where the built client lives; served with a single-page fallback when present. */
   CLIENT_DIST: z.string().default('dist/client'),
   BCRYPT_COST: z.coerce.number().int().min(10).max(15).default(10),
+  /**
+   * Which proxies may tell the client's address in X-Forwarded-For (sign-in throttling, audit log).
+   * `false` (default): nobody, the connection's address counts. Otherwise Express's "trust proxy"
+   * value: `loopback`, a comma-separated list of addresses/subnets, or a number of hops.
+   */
+  TRUST_PROXY: z
+    .string()
+    .default('false')
+    .transform((v): boolean | number | string => {
+      const t = v.trim();
+      if (t === 'false' || t === '') return false;
+      if (/^\d+$/.test(t)) return Number(t);
+      return t;
+    })
+    .refine((v) => v !== 'true', 'TRUST_PROXY=true would trust any X-Forwarded-For; name the proxy instead'),
 });
 
 export type Env = z.infer<typeof envSchema> & { SESSION_SECRET: string; PUBLIC_URL: string };

@@ -9,6 +9,12 @@ import { startJobQueue } from '../../jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
 import { createEventHub } from '../../server/modules/events/event-hub';
 
+/**
+ * The origin test requests claim (the test app's PUBLIC_URL). State-changing requests with a session
+ * cookie must name it, as a browser would, or the cross-site guard refuses them.
+ */
+export const TEST_ORIGIN = 'http://phasewright.test';
+
 export interface TestApp {
   app: ReturnType<typeof createApp>;
   deps: AppDeps;
@@ -34,9 +40,11 @@ export async function createTestApp(
     DATABASE_URL: database.url,
     SMTP_URL: `smtp://127.0.0.1:${mail.smtpPort}`,
     MAILBOX_URL: `http://127.0.0.1:${mail.httpPort}`,
-    PUBLIC_URL: 'http://phasewright.test',
+    PUBLIC_URL: TEST_ORIGIN,
     LOG_LEVEL: 'silent',
     CLIENT_DIST: '/nonexistent',
+    // Tests stand in for many client addresses with X-Forwarded-For from loopback.
+    TRUST_PROXY: 'loopback',
   });
   if (opts.seed ?? true) await seedDemoAccounts(database.db, env.BCRYPT_COST);
   const queue = await startJobQueue(database.url, database.pool);

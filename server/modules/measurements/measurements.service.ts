@@ -23,6 +23,7 @@ import {
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
 import { calibrateCapture, captureSignals, captureToMeasurement } from '../../../shared/capture/capture';
 import { parseNumericCsv } from '../../../shared/capture/csv';
+import { normaliseSerial } from '../../../shared/schemas/serial';
 import { insertAudit } from '../audit/audit.repository';
 import { models, recipes, type RecipeRecord } from '../catalog/catalog.table';
 import { EVENTS_CHANNEL } from '../events/event-hub';
@@ -161,7 +162,8 @@ export async function acceptMeasurement(
 
   // One round trip gathers everything the rules need: a repeat of this id, the station, the unit
   // (if known) and its model (or the station's only model).
-  const serialKey = measurement.serial.trim().toUpperCase();
+  // The schema normalised the serial (trimmed, ASCII, upper-case): it is the unit's key as it is.
+  const serialKey = measurement.serial;
   const { rows } = await ctx.pool.query<IntakeContext>(
     prepared(
       `select s.name as station_name, s.allowed_model_ids, s.attended_by,
@@ -200,7 +202,7 @@ export async function acceptMeasurement(
       // First sight of this serial at a single-model station: register it now.
       [unit] = await tx
         .insert(units)
-        .values({ serial: measurement.serial.trim(), modelId: c.model_id })
+        .values({ serial: serialKey, modelId: c.model_id })
         .onConflictDoNothing()
         .returning({ id: units.id, serial: units.serial });
       unit ??= (
@@ -209,6 +211,7 @@ export async function acceptMeasurement(
           .from(units)
           .where(sql`upper(${units.serial}) = ${serialKey}`)
       )[0];
+      if (!unit) throw new Error(`unit ${serialKey} neither inserted nor found`);
     }
     const { rows: insertedRows } = await client.query<{
       id: string;
@@ -287,7 +290,7 @@ export async function measurementFromCapture(
   ctx: LineContext,
   station: StationPrincipal,
   fields: { measurementId: string; serial: string; direction?: 'forward' | 'reverse' },
-  csvText: string,
+  csvText: string | Uint8Array,
 ): Promise<Measurement> {
   const recipe = await recipeForSerial(ctx.db, station.stationId, fields.serial);
   try {
@@ -304,7 +307,7 @@ async function recipeForSerial(db: Db, stationId: string, serial: string) {
   const [unit] = await db
     .select()
     .from(units)
-    .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`);
+    .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`);
   if (!unit && stationRow.allowedModelIds.length !== 1) throw measurementErrors.unknownSerial(serial);
   const [model] = await db
     .select()

@@ -284,7 +284,7 @@ describe('unit traveler PDF', () => {
     const bad = unit({ serial: 'CM57|24', offsetDeg: Number.NaN });
     bad.edges = bad.edges.slice(0, 5);
     await expect(renderTravelerPdf(bad)).rejects.toThrow(TravelerDataError);
-    await expect(renderTravelerPdf(bad)).rejects.toThrow(/serial: serial may hold only/);
+    await expect(renderTravelerPdf(bad)).rejects.toThrow(/serial: The serial contains “\|”/);
     await expect(renderTravelerPdf(bad)).rejects.toThrow(/offsetDeg/);
     await expect(renderTravelerPdf(bad)).rejects.toThrow(/edges/);
   });

@@ -17,6 +17,7 @@ import {
   type UnitView,
 } from '../../../shared/schemas/line';
 import { units, type UnitRecord } from './units.table';
+import { normaliseSerial } from '../../../shared/schemas/serial';
 
 export const unitErrors = {
   notFound: (serial: string) =>
@@ -40,7 +41,7 @@ export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<Unit
   const [row] = await db
     .select()
     .from(units)
-    .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`);
+    .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`);
   return row;
 }
 
@@ -133,7 +134,7 @@ export async function setHold(
     const [unit] = await tx
       .select()
       .from(units)
-      .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`)
+      .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`)
       .for('update');
     if (!unit) throw unitErrors.notFound(serial);
     if ((unit.status === 'on_hold') === hold) throw unitErrors.holdUnchanged(hold);
@@ -216,7 +217,7 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
       });
       return;
     }
-    const key = serial.data.toUpperCase();
+    const key = serial.data;
     if (seen.has(key)) {
       errors.push({ row: line, serial: serial.data, message: `serial repeats row ${seen.get(key)}` });
       return;
@@ -248,12 +249,12 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
       .where(
         inArray(
           sql`upper(${units.serial})`,
-          values.map((v) => v.serial.toUpperCase()),
+          values.map((v) => v.serial),
         ),
       );
     for (const e of existing) {
       errors.push({
-        row: seen.get(e.serial.toUpperCase()) ?? 0,
+        row: seen.get(normaliseSerial(e.serial)) ?? 0,
         serial: e.serial,
         message: 'a unit with this serial already exists',
       });

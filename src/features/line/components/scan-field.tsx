@@ -1,5 +1,5 @@
 import { useCallback, useEffect, useId, useRef, useState, type RefObject } from 'react';
-import { serialSchema } from '../../../../shared/schemas/line';
+import { serialSchema } from '../../../../shared/schemas/serial';
 
 /** Typed characters wait this long for more (or Enter) before they count as stray and are cleared, ms. */
 export const STRAY_CLEAR_MS = 4000;
@@ -25,7 +25,7 @@ export function readScan(raw: string): { serial: string } | { error: string } {
   if (text.length < 3)
     return { error: `“${text}” is too short for a serial. Scan the label again, or type the whole serial.` };
   const parsed = serialSchema.safeParse(text);
-  if (!parsed.success) return { error: `“${text}” is not a serial: ${parsed.error.issues[0].message}.` };
+  if (!parsed.success) return { error: parsed.error.issues[0].message };
   return { serial: parsed.data };
 }
 
