@@ -122,7 +122,7 @@ afterAll(async () => {
 
 /** One simulated unit end to end (post, result, programming confirmation) and its traveler. */
 async function probeUnit(pool: pg.Pool, tag: string): Promise<StationSimReport> {
-  const serialPrefix = `PROBE-${tag}-${Date.now().toString(36)}`;
+  const serialPrefix = `PROBE-${tag}-${Date.now().toString(36)}`.toUpperCase();
   const report = await runStationSim({
     http: new StationHttp(baseUrl, key, RETRY),
     model: demoModel('CV-57B'),
@@ -157,7 +157,7 @@ describe('npm start keeps the line running when a process dies', () => {
       concurrency: 2,
       seed: 4242,
       badRate: 0,
-      serialPrefix: `LOAD-${Date.now().toString(36)}`,
+      serialPrefix: `LOAD-${Date.now().toString(36).toUpperCase()}`,
       resultTimeoutMs: 150_000,
       onError: (m) => errors.push(m),
     });
