@@ -50,7 +50,7 @@ export type FailedCheckLine = { key: string; name: string; message: string };
 /** The checks that failed: the check's plain name and the engine's own sentence. */
 export function failedChecks(calibration: CalibrationView): FailedCheckLine[] {
   const checks = calibration.result?.checks ?? [];
-  const failed = checks
+  const failed: FailedCheckLine[] = checks
     .filter((c) => !c.passed)
     .map((c) => ({ key: c.code, name: checkName(c.code), message: c.message }));
   if (failed.length === 0 && calibration.error)

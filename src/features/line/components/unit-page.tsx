@@ -70,7 +70,12 @@ export function UnitPage({ serial }: { serial: string }) {
           </Panel>
         </div>
         {latest ? (
-          <CalibrationResult calibration={latest} model={model} fresh={false} />
+          <CalibrationResult
+            calibration={latest}
+            model={model}
+            fresh={false}
+            held={detail.unit.status === 'on_hold'}
+          />
         ) : (
           <p className="text-lg text-graphite-300">Not measured yet.</p>
         )}
