@@ -191,7 +191,7 @@ export function unitText(unit: string | undefined): string {
 }
 
 /** A check's limit with its true direction: "≥ 50 %", "≤ 10°", "−15 to 15°", "A-B-C". */
-export function formatCheckLimit(check: Pick<Check, 'code' | 'limit'> & { unit?: string }): string {
+export function formatCheckLimit(check: { code: string; limit: Check['limit']; unit?: string }): string {
   const u = unitText(check.unit);
   const { limit } = check;
   if (limit === null) return '—';

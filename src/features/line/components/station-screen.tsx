@@ -57,16 +57,15 @@ function storedPageSize(): PageSize {
   }
 }
 
-/** Whether the traveler of the unit's latest result exists yet, and whether it has been printed. */
-function travelerState(detail: UnitDetail | null | undefined, readyForLatest: boolean) {
+/**
+ * The unit's latest result with a verdict, and whether its traveler has been printed. A traveler that
+ * has not been rendered yet is rendered by the print itself, so a result is always printable.
+ */
+function travelerState(detail: UnitDetail | null | undefined) {
   const latest = detail?.calibrations.find((c) => c.purpose === 'station' && c.verdict !== 'unusable');
-  if (!detail || !latest) return { latest: undefined, ready: false, reprint: false };
+  if (!detail || !latest) return { latest: undefined, reprint: false };
   const docs = detail.travelers.filter((t) => t.createdAt >= latest.computedAt);
-  return {
-    latest,
-    ready: readyForLatest || docs.length > 0,
-    reprint: docs.some((t) => t.printNumber > 1),
-  };
+  return { latest, reprint: docs.some((t) => t.printNumber > 1) };
 }
 
 /**
@@ -77,7 +76,7 @@ export function StationScreen({ station }: { station: StationView }) {
   const queryClient = useQueryClient();
   const scanRef = useRef<HTMLInputElement>(null);
   const [state, dispatch] = useReducer(stationReducer, initialStationState);
-  const { serial, elsewhere, readyFor, scanError } = state;
+  const { serial, elsewhere, scanError } = state;
   const [registering, setRegistering] = useState<string | null>(null);
   const [confirmingPrint, setConfirmingPrint] = useState(false);
   const [pageSize, setPageSizeState] = useState<PageSize>(storedPageSize);
@@ -134,7 +133,7 @@ export function StationScreen({ station }: { station: StationView }) {
 
   const detail = unit.data;
   const live = liveOf(state);
-  const trav = travelerState(detail, sameSerial(readyFor, serial));
+  const trav = travelerState(detail);
   const held = detail?.unit.status === 'on_hold';
   const rejected = held || trav.latest?.verdict === 'fail';
 
@@ -158,9 +157,7 @@ export function StationScreen({ station }: { station: StationView }) {
     ? 'Scan a unit first.'
     : !trav.latest
       ? 'Nothing to print: this unit has no result yet.'
-      : !trav.ready
-        ? 'The traveler is being made; it can be printed in a moment.'
-        : null;
+      : null;
   const isReprint = trav.reprint || sameSerial(lastPrint?.serial, serial);
 
   const setPageSize = (size: PageSize) => {
