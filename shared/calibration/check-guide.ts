@@ -170,7 +170,7 @@ export function failureStep(checks: readonly Check[]): FailureStep | null {
 
 /** Why a unit that failed beyond what a retest can mend goes on hold at once (stored as its hold reason). */
 export function repairHoldReason(step: FailureStep): string {
-  return `Needs repair, retest cannot help: ${checkName(step.check.code).toLowerCase()} failed`;
+  return `Sent to repair, a retest cannot help. ${step.check.message}`.slice(0, 240);
 }
 
 // ---- Limits and values, as printed -------------------------------------------------------------------

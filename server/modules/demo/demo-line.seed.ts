@@ -15,7 +15,7 @@ import {
   type LineContext,
 } from '../measurements/measurements.service';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { createStation, createStationKey } from '../stations/stations.service';
+import { createStation, createStationKey, recordHeartbeat } from '../stations/stations.service';
 import { stationKeys, stations } from '../stations/stations.table';
 import { importUnits } from '../units/units.service';
 import { units } from '../units/units.table';
@@ -314,6 +314,8 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
   const queue = silentSeedQueue(deps.queue);
   const span = 14 * DAY_MS;
   let done = 0;
+  // The last moment each rig was on: its last measurement, plus the minutes it idles before the shift ends.
+  const lastSeen = new Map<string, number>();
   await inParallel(planned, opts.concurrency ?? 6, async (u) => {
     const rng = createRng((seed * 7919 + u.index * 104729) >>> 0);
     const principal = principals.get(u.station.name)!;
@@ -364,10 +366,15 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
       // The operator reseats the unit and spins it again a few minutes later.
       t = computedAt + (4 + 5 * rng.next()) * 60_000;
     }
+    const idle = t + (1 + 4 * rng.next()) * 60_000;
+    lastSeen.set(principal.stationId, Math.max(lastSeen.get(principal.stationId) ?? 0, idle));
     done++;
     if (opts.onProgress && (done % 250 === 0 || done === planned.length))
       opts.onProgress(done, planned.length);
   });
+
+  // Rigs send heartbeats while they are on: leave each one's last heartbeat where its last shift ended.
+  for (const [stationId, at] of lastSeen) await recordHeartbeat(deps.db, stationId, new Date(at));
 
   return { ...(await seedCounts(deps.db)), seeded: true, ms: performance.now() - t0 };
 }

@@ -107,7 +107,7 @@ export function CalibrationHistory({ calibrations }: { calibrations: Calibration
             <span className="text-sm whitespace-nowrap text-graphite-300">
               {formatDateTime(info.getValue())}
               {info.row.original.computeMs !== null ? (
-                <span className="block text-graphite-500">
+                <span className="block text-graphite-400">
                   computed in {Math.round(info.row.original.computeMs)} ms
                 </span>
               ) : null}

@@ -33,7 +33,7 @@ function StepMark({ state }: { state: 'done' | 'now' | 'later' }) {
       </svg>
     );
   return (
-    <svg width="26" height="26" viewBox="0 0 26 26" aria-hidden className="shrink-0 text-graphite-600">
+    <svg width="26" height="26" viewBox="0 0 26 26" aria-hidden className="shrink-0 text-graphite-400">
       <circle cx="13" cy="13" r="10.5" fill="none" stroke="currentColor" strokeWidth="3" />
     </svg>
   );

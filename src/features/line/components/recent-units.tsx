@@ -24,7 +24,7 @@ export function RecentUnits({ stationId, onPick }: { stationId: string; onPick: 
       data-testid="recent-units"
     >
       <h2 id="recent-title" className="text-sm font-semibold tracking-widest text-graphite-400 uppercase">
-        Last {rows.length || 20} measurements here
+        {rows.length === 1 ? 'Last measurement here' : `Last ${rows.length || 20} measurements here`}
       </h2>
       {recent.isError ? (
         <p className="text-fault">Could not read the recent units: {recent.error.message}</p>
@@ -45,7 +45,9 @@ export function RecentUnits({ stationId, onPick }: { stationId: string; onPick: 
               <span className="flex min-w-0 items-baseline gap-2">
                 <span className="truncate font-mono font-semibold text-graphite-50">{c.serial}</span>
                 {c.attempt !== null ? (
-                  <span className="shrink-0 text-sm text-graphite-300">attempt {c.attempt}</span>
+                  <span className="shrink-0 text-sm text-graphite-300" aria-label={`attempt ${c.attempt}`}>
+                    #{c.attempt}
+                  </span>
                 ) : null}
               </span>
               <span className="flex items-center gap-2 text-sm">

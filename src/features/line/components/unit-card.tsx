@@ -77,7 +77,7 @@ export function UnitCard({ unit, compact = false }: UnitCardProps) {
         {lots.map(([label, value]) => (
           <div key={label} className="contents">
             <dt className="text-graphite-400">{label} lot</dt>
-            <dd className="font-mono">{value ?? <span className="text-graphite-500">not recorded</span>}</dd>
+            <dd className="font-mono">{value ?? <span className="text-graphite-400">not recorded</span>}</dd>
           </div>
         ))}
       </dl>

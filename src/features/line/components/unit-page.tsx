@@ -29,7 +29,7 @@ function TravelerList({ detail }: { detail: UnitDetail }) {
             <span className="text-sm text-graphite-400">{formatDateTime(t.createdAt)}</span>
             {i === 0 ? <span className="text-sm text-copper-200">newest</span> : null}
           </a>
-          <span className="block px-1 font-mono text-xs break-all text-graphite-500">sha256 {t.sha256}</span>
+          <span className="block px-1 font-mono text-xs break-all text-graphite-400">sha256 {t.sha256}</span>
         </li>
       ))}
     </ul>
