@@ -79,7 +79,9 @@ describe('the check guide (one table for screen and traveler)', () => {
     expect(formatCheckLimit(check({ code: 'offset.within_limits', limit: [-15, 15], unit: 'deg' }))).toBe(
       '\u221215 to 15°',
     );
-    expect(formatCheckValue(check({ code: 'turns.enough', value: 13.834, unit: 'turns' }))).toBe('13.83 turns');
+    expect(formatCheckValue(check({ code: 'turns.enough', value: 13.834, unit: 'turns' }))).toBe(
+      '13.83 turns',
+    );
   });
 
   it('sends a dead hall sensor to repair at once, not to a retest', () => {

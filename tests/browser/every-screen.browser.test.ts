@@ -40,55 +40,65 @@ async function expectClean(page: Page, path: string) {
   expect(await seriousAxeFindings(page), path).toEqual([]);
 }
 
-describe('every screen passes axe (no serious or critical findings, text contrast ≥ 4.5:1)', { timeout: 120_000 }, () => {
-  it('signed out', async () => {
-    const { context, page } = await freshPage(browser);
-    for (const s of SIGNED_OUT) {
-      await page.goto(s.path);
-      await s.ready(page);
-      await expectClean(page, s.path);
-    }
-    await context.close();
-  });
+describe(
+  'every screen passes axe (no serious or critical findings, text contrast ≥ 4.5:1)',
+  { timeout: 120_000 },
+  () => {
+    it('signed out', async () => {
+      const { context, page } = await freshPage(browser, undefined, true);
+      for (const s of SIGNED_OUT) {
+        await page.goto(s.path);
+        await s.ready(page);
+        await expectClean(page, s.path);
+      }
+      await context.close();
+    });
 
-  it('as an administrator', async () => {
-    const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
-    await signInWithPassword(page, DEMO.admin.username, DEMO.admin.password);
-    for (const s of ADMIN) {
-      await page.goto(s.path);
-      await s.ready(page);
-      await expectClean(page, s.path);
-    }
-    await context.close();
-  });
+    it('as an administrator', async () => {
+      const { context, page } = await freshPage(browser, { width: 1366, height: 768 }, true);
+      await signInWithPassword(page, DEMO.admin.username, DEMO.admin.password);
+      for (const s of ADMIN) {
+        await page.goto(s.path);
+        await s.ready(page);
+        await expectClean(page, s.path);
+      }
+      await context.close();
+    });
 
-  it('as an operator: overview, station chooser, station screen, unit page; and as quality: not allowed', async () => {
-    const bench = await ensureTestBench();
-    const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
-    await signInWithPassword(page, DEMO.operator.username, DEMO.operator.password);
-    await page.goto('/station?choose=1');
-    await heading(page);
-    await expectClean(page, '/station?choose=1');
-    await page.goto(`/station/${bench.station.id}`);
-    await page.getByTestId('station-screen').waitFor();
-    await expectClean(page, '/station/:id');
-    const serial = (await page.getByTestId('recent-units').locator('button').first().textContent({ timeout: 5000 }).catch(() => null))
-      ?.match(/[A-Z0-9][A-Z0-9-]{4,}/)?.[0];
-    if (serial) {
-      await page.goto(`/units/${serial}`);
-      await page.getByTestId('unit-card').waitFor();
-      await expectClean(page, '/units/:serial');
-    }
-    await context.close();
+    it('as an operator: overview, station chooser, station screen, unit page; and as quality: not allowed', async () => {
+      const bench = await ensureTestBench();
+      const { context, page } = await freshPage(browser, { width: 1366, height: 768 }, true);
+      await signInWithPassword(page, DEMO.operator.username, DEMO.operator.password);
+      await page.goto('/station?choose=1');
+      await heading(page);
+      await expectClean(page, '/station?choose=1');
+      await page.goto(`/station/${bench.station.id}`);
+      await page.getByTestId('station-screen').waitFor();
+      await expectClean(page, '/station/:id');
+      const serial = (
+        await page
+          .getByTestId('recent-units')
+          .locator('button')
+          .first()
+          .textContent({ timeout: 5000 })
+          .catch(() => null)
+      )?.match(/[A-Z0-9][A-Z0-9-]{4,}/)?.[0];
+      if (serial) {
+        await page.goto(`/units/${serial}`);
+        await page.getByTestId('unit-card').waitFor();
+        await expectClean(page, '/units/:serial');
+      }
+      await context.close();
 
-    const q = await freshPage(browser);
-    await signInWithPassword(q.page, DEMO.quality.username, DEMO.quality.password);
-    await q.page.goto('/admin/people');
-    await q.page.getByTestId('not-allowed').waitFor();
-    await expectClean(q.page, 'not allowed');
-    await q.context.close();
-  });
-});
+      const q = await freshPage(browser, undefined, true);
+      await signInWithPassword(q.page, DEMO.quality.username, DEMO.quality.password);
+      await q.page.goto('/admin/people');
+      await q.page.getByTestId('not-allowed').waitFor();
+      await expectClean(q.page, 'not allowed');
+      await q.context.close();
+    });
+  },
+);
 
 describe('the shell at 1366 px', { timeout: 60_000 }, () => {
   it("keeps an administrator's navigation on one row", async () => {

@@ -90,7 +90,10 @@ export function silentSeedQueue(queue: JobQueue): JobQueue {
       const extra = opts?.notify ?? [];
       if (extra.length > 0 && opts?.db) {
         const text = `select ${extra.map((_, i) => `pg_notify($${2 * i + 1}, $${2 * i + 2})`).join(', ')}`;
-        await opts.db.executeSql(text, extra.flatMap((n) => [n.channel, n.payload]));
+        await opts.db.executeSql(
+          text,
+          extra.flatMap((n) => [n.channel, n.payload]),
+        );
       }
       return null;
     },
@@ -350,7 +353,10 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
       if (cal.verdict !== 'unusable') attempts++;
       if (cal.verdict === 'fail') {
         // A failure a retest cannot mend puts the unit on hold at once: the operator stops there.
-        const [now] = await deps.db.select({ status: units.status }).from(units).where(eq(units.serial, u.serial));
+        const [now] = await deps.db
+          .select({ status: units.status })
+          .from(units)
+          .where(eq(units.serial, u.serial));
         if (now?.status === 'on_hold') break;
       }
       if (cal.verdict === 'pass' && cal.offsetCounts !== null) {

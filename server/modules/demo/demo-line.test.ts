@@ -64,7 +64,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await t?.close();
-});
+}, 180_000); // seeding 240 units through the line takes a while on a busy two-core machine
 
 const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
 

@@ -320,8 +320,16 @@ function engineUnit(extra: Partial<SimulationSpec>, overrides: Partial<TravelerD
       bemfDelayUs: recipe.bemfDelayUs,
       channels: ['A', 'B', 'C'],
       segments: [
-        { direction: 'forward', profile: { kind: 'coast', startRpm: 3000, endRpm: 2300 }, electricalTurns: 40 },
-        { direction: 'reverse', profile: { kind: 'coast', startRpm: 2900, endRpm: 2200 }, electricalTurns: 40 },
+        {
+          direction: 'forward',
+          profile: { kind: 'coast', startRpm: 3000, endRpm: 2300 },
+          electricalTurns: 40,
+        },
+        {
+          direction: 'reverse',
+          profile: { kind: 'coast', startRpm: 2900, endRpm: 2200 },
+          electricalTurns: 40,
+        },
       ],
       ...extra,
     },
@@ -414,21 +422,27 @@ describe('traveler as an auditor reads it', () => {
     ['LETTER', 'pass'],
     ['LETTER', 'fail'],
     ['LETTER', 'hold'],
-  ] as const)('fits one %s page for a %s traveler, safety box and release fields included', async (size, kind) => {
-    const data =
-      kind === 'pass'
-        ? engineUnit({}, { pageSize: size })
-        : kind === 'fail'
-          ? engineUnit({ deadSensor: 'C', miswiredBC: true }, { pageSize: size })
-          : engineUnit(
-              { offsetDeg: 26 },
-              { pageSize: size, hold: { reason: 'Sent to repair (a retest cannot help): offset far outside' } },
-            );
-    const { info, text } = await readBack(await renderTravelerPdf(data));
-    expect(info.total).toBe(1);
-    const all = flat(text);
-    expect(all).toContain('Page 1 of 1');
-    expect(all).toContain('RELEASED BY (NAME)');
-    for (const caution of SAFETY_CAUTIONS) expect(all).toContain(caution);
-  });
+  ] as const)(
+    'fits one %s page for a %s traveler, safety box and release fields included',
+    async (size, kind) => {
+      const data =
+        kind === 'pass'
+          ? engineUnit({}, { pageSize: size })
+          : kind === 'fail'
+            ? engineUnit({ deadSensor: 'C', miswiredBC: true }, { pageSize: size })
+            : engineUnit(
+                { offsetDeg: 26 },
+                {
+                  pageSize: size,
+                  hold: { reason: 'Sent to repair (a retest cannot help): offset far outside' },
+                },
+              );
+      const { info, text } = await readBack(await renderTravelerPdf(data));
+      expect(info.total).toBe(1);
+      const all = flat(text);
+      expect(all).toContain('Page 1 of 1');
+      expect(all).toContain('RELEASED BY (NAME)');
+      for (const caution of SAFETY_CAUTIONS) expect(all).toContain(caution);
+    },
+  );
 });

@@ -486,7 +486,11 @@ function drawDisposition(page: Page): void {
   if (disposition === 'release') return;
   const y = page.y;
   const h = 42;
-  doc.save().rect(left, y, right - left, h).fill(INK).restore();
+  doc
+    .save()
+    .rect(left, y, right - left, h)
+    .fill(INK)
+    .restore();
   markBad(doc, left + 21, y + h / 2, 12, '#ffffff', INK);
   const title = disposition === 'hold' ? 'ON HOLD: DO NOT SHIP' : 'REJECT: DO NOT SHIP';
   page.text('bold', 19, title, left + 44, y + 3, { color: '#ffffff' });
@@ -697,7 +701,10 @@ function drawChecks(page: Page): void {
   for (const check of data.checks) {
     const face: Face = check.passed ? 'regular' : 'semiBold';
     const limit = formatCheckLimit(check);
-    const limitH = doc.font('regular').fontSize(8).heightOfString(limit, { width: CHECK_COLS.limit - 4 });
+    const limitH = doc
+      .font('regular')
+      .fontSize(8)
+      .heightOfString(limit, { width: CHECK_COLS.limit - 4 });
     const textH = doc.font(face).fontSize(SENTENCE_PT).heightOfString(check.sentence, { width: sentenceW });
     const rowH = Math.max(17, textH + 3.5, limitH + 3.5);
     if (y + rowH > page.bottom) {

@@ -221,7 +221,11 @@ export async function renderFirstTraveler(
  * whose print 1 was never rendered (the seeded demo history renders its travelers on first request, not
  * in thousands of jobs at start) gets it rendered now, once.
  */
-export async function currentTraveler(db: Db, unitId: string, now: Date): Promise<TravelerRecord | undefined> {
+export async function currentTraveler(
+  db: Db,
+  unitId: string,
+  now: Date,
+): Promise<TravelerRecord | undefined> {
   const [latest] = await db
     .select({ id: calibrations.id })
     .from(calibrations)

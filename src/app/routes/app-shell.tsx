@@ -47,9 +47,7 @@ export function Component() {
         Skip to content
       </a>
       <header className="border-b border-graphite-800 bg-graphite-900">
-        <div
-          className={`mx-auto flex ${width} flex-wrap items-center gap-x-5 gap-y-3 px-4 py-3 sm:px-6`}
-        >
+        <div className={`mx-auto flex ${width} flex-wrap items-center gap-x-5 gap-y-3 px-4 py-3 sm:px-6`}>
           <NavLink
             to="/"
             className="flex min-h-target items-center gap-3 no-underline"

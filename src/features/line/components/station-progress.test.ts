@@ -25,7 +25,8 @@ const committed = (serial: string, calibrationId = 'c-new'): LineEvent => ({
   ...base,
 });
 
-const run = (...actions: StationAction[]): StationState => actions.reduce(stationReducer, initialStationState);
+const run = (...actions: StationAction[]): StationState =>
+  actions.reduce(stationReducer, initialStationState);
 const ev = (event: LineEvent): StationAction => ({ type: 'event', event });
 
 function detailWith(...ids: string[]): UnitDetail {
@@ -38,12 +39,10 @@ function detailWith(...ids: string[]): UnitDetail {
 
 describe('the station screen state', () => {
   it('when a scan is refused, then the previous unit and its verdict leave the screen at once', () => {
-    const s = run(
-      { type: 'scanned', serial: 'SN-1' },
-      ev(received('SN-1')),
-      ev(committed('SN-1')),
-      { type: 'scan-refused', message: '“x” is too short for a serial.' },
-    );
+    const s = run({ type: 'scanned', serial: 'SN-1' }, ev(received('SN-1')), ev(committed('SN-1')), {
+      type: 'scan-refused',
+      message: '“x” is too short for a serial.',
+    });
     expect(s.serial).toBeNull();
     expect(liveOf(s)).toBeNull();
     expect(s.scanError).toMatch(/too short/);

@@ -42,8 +42,7 @@ const PAGE_SIZE_KEY = 'phasewright.station.pageSize';
 const MAX_REREADS = 6;
 
 /** What to do with a held unit when its newest result gives no more precise step. */
-const HOLD_ACTION =
-  'Do not measure, program or ship it. Tag it and put it in the hold area for quality.';
+const HOLD_ACTION = 'Do not measure, program or ship it. Tag it and put it in the hold area for quality.';
 
 function dialogOpen(): boolean {
   return document.querySelector('dialog[open]') !== null;

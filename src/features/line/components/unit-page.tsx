@@ -11,7 +11,12 @@ import { UnitSearch } from './unit-search';
 function TravelerList({ detail }: { detail: UnitDetail }) {
   const serial = encodeURIComponent(detail.unit.serial);
   if (detail.travelers.length === 0)
-    return <p className="text-graphite-400">No traveler yet: one is made when a calibration commits.</p>;
+    return (
+      <p className="text-graphite-400">
+        No traveler stored yet: one is made when a calibration commits, or when an older result&apos;s
+        traveler is first printed.
+      </p>
+    );
   return (
     <ul className="flex flex-col gap-1" data-testid="traveler-list">
       {detail.travelers.map((t, i) => (
