@@ -87,9 +87,7 @@ try {
     ) + '\n',
     { mode: 0o600 },
   );
-  say(
-    `demo station key for ${key.stationName} written to ${relative(repoRoot, DEMO_KEY_FILE) || DEMO_KEY_FILE}`,
-  );
+  say(`demo station key for ${key.stationName} written to ${relative(repoRoot, DEMO_KEY_FILE) || DEMO_KEY_FILE}`);
 } catch (e) {
   process.stderr.write(`demo line: ${e instanceof Error ? e.message : String(e)}\n`);
   code = 1;

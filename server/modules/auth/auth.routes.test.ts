@@ -193,13 +193,16 @@ describe('sessions', () => {
 describe('invitations and password resets by e-mail', () => {
   it('e-mails an invitation whose link sets the password once', async () => {
     const admin = await signIn('ada.admin', 'demo-admin-pass', '10.9.4.1');
-    const created = await request(t.app).post('/api/admin/users').set('Cookie', cookieOf(admin)).send({
-      username: 'nia.new',
-      displayName: 'Nia New',
-      email: 'nia@corvane.example',
-      role: 'quality',
-      sendInvite: true,
-    });
+    const created = await request(t.app)
+      .post('/api/admin/users')
+      .set('Cookie', cookieOf(admin))
+      .send({
+        username: 'nia.new',
+        displayName: 'Nia New',
+        email: 'nia@corvane.example',
+        role: 'quality',
+        sendInvite: true,
+      });
     expect(created.status).toBe(201);
     expect(created.body.user.hasPassword).toBe(false);
     const mail = t.mail.messages().find((m) => m.to.includes('nia@corvane.example'));
