@@ -116,11 +116,35 @@ describe('the shell at 1366 px', { timeout: 60_000 }, () => {
     const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
     await signInWithPassword(page, DEMO.admin.username, DEMO.admin.password);
     await page.goto('/');
+    await page.getByTestId('signed-in-as').waitFor();
     await page.keyboard.press('Tab');
     const skip = page.getByRole('link', { name: 'Skip to content' });
+    expect(await skip.evaluate((el) => el === document.activeElement)).toBe(true);
     const box = await skip.boundingBox();
     expect(box?.width).toBeGreaterThanOrEqual(44);
     expect(box?.height).toBeGreaterThanOrEqual(44);
+    await context.close();
+  });
+
+  it('draws the focus outline inside the controls of a scrolling list, where it cannot be clipped', async () => {
+    const bench = await ensureTestBench();
+    const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
+    await signInWithPassword(page, DEMO.operator.username, DEMO.operator.password);
+    await page.goto(`/station/${bench.station.id}`);
+    const first = page.getByTestId('recent-units').locator('ul button').first();
+    await first.waitFor();
+    await page.keyboard.press('Tab');
+    await first.focus();
+    const outline = await first.evaluate((el) => {
+      const cs = getComputedStyle(el);
+      return {
+        offset: parseFloat(cs.outlineOffset),
+        width: parseFloat(cs.outlineWidth),
+        style: cs.outlineStyle,
+      };
+    });
+    expect(outline.style).toBe('solid');
+    expect(outline.offset + outline.width).toBeLessThanOrEqual(0);
     await context.close();
   });
 });

@@ -312,11 +312,20 @@ class Page {
   }
 
   // One line that must be read whole (a recipe name): shrinks down to minSize before it is ever cut.
-  fitText(face: Face, size: number, str: string, x: number, y: number, width: number, minSize = 7): void {
+  fitText(
+    face: Face,
+    size: number,
+    str: string,
+    x: number,
+    y: number,
+    width: number,
+    minSize = 7,
+    color = INK,
+  ): void {
     let s = size;
     this.doc.font(face);
     while (s > minSize && this.doc.fontSize(s).widthOfString(str) > width) s -= 0.5;
-    this.text(face, s, str, x, y + (size - s) * 0.7, { width });
+    this.text(face, s, str, x, y + (size - s) * 0.7, { width, color });
   }
 
   label(str: string, x: number, y: number, options: LineOptions = {}): void {
@@ -498,7 +507,7 @@ function drawDisposition(page: Page): void {
     disposition === 'hold'
       ? `Hold: ${data.hold?.reason ?? 'no reason recorded'}. Keep the unit in the hold area until quality releases it.`
       : 'The unit failed calibration: it goes to repair or quality with this traveler.';
-  page.fitText('semiBold', 9, why, left + 44, y + 27, right - left - 52, 6.5);
+  page.fitText('semiBold', 9, why, left + 44, y + 27, right - left - 52, 6.5, '#ffffff');
   page.y = y + h + 6;
   // A failed or held unit is not waiting for programming: it must not be programmed at all.
   if (data.programming.status === 'pending') {

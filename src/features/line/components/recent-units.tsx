@@ -39,7 +39,7 @@ export function RecentUnits({ stationId, onPick }: { stationId: string; onPick: 
               type="button"
               onClick={() => onPick(c.serial)}
               title={`Measured ${formatDateTime(c.computedAt)}`}
-              className="grid min-h-target w-full grid-cols-[3rem_minmax(0,1fr)_auto] items-center gap-2 px-3 text-left hover:bg-graphite-850 focus-visible:-outline-offset-4"
+              className="grid min-h-target w-full grid-cols-[3rem_minmax(0,1fr)_auto] items-center gap-2 px-3 text-left hover:bg-graphite-850"
             >
               <span className="font-mono text-sm text-graphite-300">{clock(c.computedAt)}</span>
               <span className="flex min-w-0 items-baseline gap-2">
