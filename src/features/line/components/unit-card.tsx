@@ -88,7 +88,8 @@ export function UnitCard({ unit, compact = false }: UnitCardProps) {
           </svg>
           <p>
             <span className="font-semibold text-graphite-50">On hold: </span>
-            {unit.holdReason ?? 'no reason recorded'}. Do not measure again; set it aside for quality.
+            {(unit.holdReason ?? 'no reason recorded').replace(/\.$/, '')}. Do not measure again; set it aside
+            for quality.
           </p>
         </div>
       ) : null}
