@@ -75,14 +75,12 @@ describe(
       await page.goto(`/station/${bench.station.id}`);
       await page.getByTestId('station-screen').waitFor();
       await expectClean(page, '/station/:id');
-      const serial = (
-        await page
-          .getByTestId('recent-units')
-          .locator('button')
-          .first()
-          .textContent({ timeout: 5000 })
-          .catch(() => null)
-      )?.match(/[A-Z0-9][A-Z0-9-]{4,}/)?.[0];
+      const serial = await page
+        .getByTestId('recent-serial')
+        .first()
+        .textContent({ timeout: 5000 })
+        .then((t) => t?.trim())
+        .catch(() => undefined);
       if (serial) {
         await page.goto(`/units/${serial}`);
         await page.getByTestId('unit-card').waitFor();

@@ -43,7 +43,12 @@ export function RecentUnits({ stationId, onPick }: { stationId: string; onPick: 
             >
               <span className="font-mono text-sm text-graphite-300">{clock(c.computedAt)}</span>
               <span className="flex min-w-0 items-baseline gap-2">
-                <span className="truncate font-mono font-semibold text-graphite-50">{c.serial}</span>
+                <span
+                  className="truncate font-mono font-semibold text-graphite-50"
+                  data-testid="recent-serial"
+                >
+                  {c.serial}
+                </span>
                 {c.attempt !== null ? (
                   <span className="shrink-0 text-sm text-graphite-300" aria-label={`attempt ${c.attempt}`}>
                     #{c.attempt}

@@ -260,7 +260,7 @@ export function StationScreen({ station }: { station: StationView }) {
             </div>
           ) : null}
           {scanError ? (
-            <ScanProblem title="Scan not accepted" testId="scan-refused">
+            <ScanProblem title="Scan refused" testId="scan-refused">
               <p>{scanError}</p>
               <p className="text-graphite-200">No unit is on screen. Scan the serial label again.</p>
             </ScanProblem>

@@ -44,8 +44,10 @@ export function ScanProblem({
       className="chamfer chamfer-lg flex flex-col gap-4 p-6 [--ch-edge:var(--color-warn)] [--ch-fill:var(--color-warn-deep)]"
     >
       <div className="flex items-center gap-5 text-warn">
-        <WarningShape size={88} />
-        <h2 className="text-6xl leading-none font-bold tracking-[0.04em] uppercase 2xl:text-7xl">{title}</h2>
+        <WarningShape size={96} />
+        <h2 className="text-[5.5rem] leading-none font-bold tracking-[0.03em] uppercase 2xl:text-[7.5rem]">
+          {title}
+        </h2>
       </div>
       <div className="flex flex-col gap-3 text-2xl text-graphite-50">{children}</div>
     </section>
