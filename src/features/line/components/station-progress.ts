@@ -26,8 +26,6 @@ export type StationState = {
   live: LiveProgress | null;
   /** A unit the station is measuring that is not the one on screen. */
   elsewhere: string | null;
-  /** Upper-cased serial whose newest traveler was reported ready. */
-  readyFor: string | null;
 };
 
 export type StationAction =
@@ -40,7 +38,6 @@ export const initialStationState: StationState = {
   scanError: null,
   live: null,
   elsewhere: null,
-  readyFor: null,
 };
 
 export const sameSerial = (a: string | null | undefined, b: string | null | undefined): boolean =>
@@ -83,7 +80,7 @@ function onEvent(state: StationState, e: LineEvent): StationState {
   }
   switch (e.type) {
     case 'measurement.received':
-      return { ...next, live: { serial: e.serial, phase: 'received' }, readyFor: null };
+      return { ...next, live: { serial: e.serial, phase: 'received' } };
     case 'calibration.computing':
       return { ...next, live: { serial: e.serial, phase: 'computing' } };
     case 'calibration.committed':
@@ -92,7 +89,8 @@ function onEvent(state: StationState, e: LineEvent): StationState {
         live: { serial: e.serial, phase: 'result', calibrationId: e.calibrationId, verdict: e.verdict },
       };
     case 'traveler.ready':
-      return { ...next, readyFor: e.serial.toUpperCase() };
+      // A print renders a missing traveler itself, so the screen needs nothing from this event.
+      return next;
   }
 }
 
