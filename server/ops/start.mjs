@@ -59,6 +59,13 @@ try {
       `Port ${port} is already in use. Stop what uses it, or choose another: PORT=3100 npm start`,
     );
   }
+  // The client build needs nothing but the files: it runs while the database, the server, the workers
+  // and the demo seed start, and is awaited before the banner (first start: the two largest steps overlap).
+  let build = null;
+  if (!dev) {
+    log('building the client…');
+    build = runStep(join(repoRoot, 'node_modules', '.bin', 'vite'), ['build', '--logLevel', 'warn']);
+  }
   pg = await ensurePostgres({ instance: 'dev', log: prefixedLog('postgres') });
 
   const env = {
@@ -92,16 +99,6 @@ try {
     env.MAILBOX_URL = `http://127.0.0.1:${mailHttpPort}`;
   } else {
     env.MAILBOX_URL = process.env.MAILBOX_URL ?? '';
-  }
-
-  if (!dev) {
-    log('building the client…');
-    const code = await runStep(join(repoRoot, 'node_modules', '.bin', 'vite'), [
-      'build',
-      '--logLevel',
-      'warn',
-    ]);
-    if (code !== 0) throw new Error('The client build failed (output above).');
   }
 
   const server = startService('server', TSX, dev ? ['watch', 'server/main.ts'] : ['server/main.ts'], {
@@ -150,6 +147,8 @@ try {
       demoStation = JSON.parse(readFileSync(join(dataDir, 'demo-station-key.json'), 'utf8')).stationName;
     } else log('the demo line could not be seeded (output above); the product runs without it');
   }
+
+  if (build && (await build) !== 0) throw new Error('The client build failed (output above).');
 
   const url = dev ? 'http://localhost:5173' : `http://localhost:${port}`;
   const banner = [
