@@ -111,14 +111,16 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
 
   app.use('/api', (_req, _res, next) => next(new AppError(404, 'route.not_found', 'No such API route.')));
 
+  // The client is looked for on each request, not once at start: `npm start` builds it while the server
+  // is already starting, so it may appear a few seconds after the server listens.
   const dist = path.resolve(deps.env.CLIENT_DIST);
-  if (fs.existsSync(path.join(dist, 'index.html'))) {
-    app.use(express.static(dist, { index: false, maxAge: '1h' }));
-    app.get('/{*splat}', (_req, res) => {
-      res.setHeader('cache-control', 'no-cache');
-      res.sendFile(path.join(dist, 'index.html'));
-    });
-  }
+  const indexHtml = path.join(dist, 'index.html');
+  app.use(express.static(dist, { index: false, maxAge: '1h' }));
+  app.get('/{*splat}', (_req, res, next) => {
+    if (!fs.existsSync(indexHtml)) return next();
+    res.setHeader('cache-control', 'no-cache');
+    res.sendFile(indexHtml);
+  });
 
   // One place turns every failure into `{ error: { code, message, issues? } }`.
   app.use((err: unknown, req: Request, res: Response, _next: NextFunction) => {

@@ -16,7 +16,7 @@ import { superviseService } from './supervise.mjs';
 
 const log = prefixedLog('start');
 const dev = process.argv.includes('--dev');
-const build = !process.argv.includes('--no-build');
+const buildClient = !process.argv.includes('--no-build');
 const instance = process.env.PG_INSTANCE || 'dev';
 const port = Number(process.env.PORT ?? 3000);
 const smtpPort = Number(process.env.FAKE_SMTP_PORT ?? 2525);
@@ -131,6 +131,13 @@ try {
       `Port ${port} is already in use. Stop what uses it, or choose another: PORT=3100 npm start`,
     );
   }
+  // The client build needs nothing but the files: it runs while the database, the server, the workers
+  // and the demo seed start, and is awaited before the banner (first start: the two largest steps overlap).
+  let build = null;
+  if (!dev && buildClient) {
+    log('building the client…');
+    build = runStep(join(repoRoot, 'node_modules', '.bin', 'vite'), ['build', '--logLevel', 'warn']);
+  }
   pg = await ensurePostgres({ instance, log: prefixedLog('postgres') });
   ownPostgres = pg.startedByUs;
 
@@ -177,16 +184,6 @@ try {
     env.MAILBOX_URL = process.env.MAILBOX_URL ?? '';
   }
 
-  if (!dev && build) {
-    log('building the client…');
-    const code = await runStep(join(repoRoot, 'node_modules', '.bin', 'vite'), [
-      'build',
-      '--logLevel',
-      'warn',
-    ]);
-    if (code !== 0) throw new Error('The client build failed (output above).');
-  }
-
   const server = supervise('server', TSX, dev ? ['watch', 'server/main.ts'] : ['server/main.ts'], {
     env,
     ready: (service) => waitForHttp(`http://127.0.0.1:${port}/api/health`, service),
@@ -219,6 +216,8 @@ try {
       demoStation = JSON.parse(readFileSync(demoKeyFile, 'utf8')).stationName;
     } else log('the demo line could not be seeded (output above); the product runs without it');
   }
+
+  if (build && (await build) !== 0) throw new Error('The client build failed (output above).');
 
   const url = dev ? 'http://localhost:5173' : `http://localhost:${port}`;
   const banner = [

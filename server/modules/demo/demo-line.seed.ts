@@ -15,7 +15,7 @@ import {
   type LineContext,
 } from '../measurements/measurements.service';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { createStation, createStationKey, isLiveStationKey } from '../stations/stations.service';
+import { createStation, createStationKey, isLiveStationKey, recordHeartbeat } from '../stations/stations.service';
 import { stationKeys, stations } from '../stations/stations.table';
 import { importUnits } from '../units/units.service';
 import { units } from '../units/units.table';
@@ -67,16 +67,6 @@ export interface SeedReport {
   ms: number;
 }
 
-/** Jobs the seed enqueues go behind every live job (pg-boss fetches higher priority first). */
-export const SEED_JOB_PRIORITY = -10;
-/**
- * The seed computes its measurements in-process with the simulated clock; the compute jobs it
- * enqueues wait this long before the worker may take them (by then they find their calibration and
- * stop, or, after a crash mid-seed, compute what the seed left), and the traveler renders wait until
- * the seed is done instead of competing with it for the two cores.
- */
-export const SEED_JOB_DELAY_SECONDS = 90;
-
 const DAY_MS = 86_400_000;
 const SHIFT_START_H = 6;
 const SHIFT_END_H = 22;
@@ -85,20 +75,27 @@ const MISMATCH_RATE = 0.002;
 const BAD_UNIT_RATE = 0.03;
 
 /**
- * The queue the seed hands to the line services: the same jobs in the same transactions, sent with
- * a low priority and a start delay (see SEED_JOB_DELAY_SECONDS), and without the wake-up NOTIFY.
+ * The queue the seed hands to the line services: it sends nothing. The seed computes every measurement
+ * in-process with its simulated clock, so a compute job would only find its calibration and stop, and
+ * the fortnight's travelers are rendered when someone first asks for one (see currentTraveler). Thousands
+ * of such jobs would keep the queue busy for minutes after the first start and look like a fault on the
+ * station panel; without them the line is steady when the seed ends. Event notifications the services
+ * attach to a job are still sent, in the caller's transaction.
  */
-export function deferredSeedQueue(queue: JobQueue, delaySeconds = SEED_JOB_DELAY_SECONDS): JobQueue {
+export function silentSeedQueue(queue: JobQueue): JobQueue {
   return {
     ...queue,
     async send(name, payload, opts) {
-      const def = queues[name];
-      return queue.boss.send(def.name, def.payload.parse(payload) as object, {
-        db: opts?.db,
-        singletonKey: opts?.singletonKey,
-        priority: SEED_JOB_PRIORITY,
-        startAfter: delaySeconds,
-      });
+      queues[name].payload.parse(payload);
+      const extra = opts?.notify ?? [];
+      if (extra.length > 0 && opts?.db) {
+        const text = `select ${extra.map((_, i) => `pg_notify($${2 * i + 1}, $${2 * i + 2})`).join(', ')}`;
+        await opts.db.executeSql(
+          text,
+          extra.flatMap((n) => [n.channel, n.payload]),
+        );
+      }
+      return null;
     },
   };
 }
@@ -317,9 +314,11 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
   }
 
   opts.onPhase?.('work-order import', performance.now() - t0);
-  const queue = deferredSeedQueue(deps.queue);
+  const queue = silentSeedQueue(deps.queue);
   const span = 14 * DAY_MS;
   let done = 0;
+  // The last moment each rig was on: its last measurement, plus the minutes it idles before the shift ends.
+  const lastSeen = new Map<string, number>();
   await inParallel(planned, opts.concurrency ?? 6, async (u) => {
     const rng = createRng((seed * 7919 + u.index * 104729) >>> 0);
     const principal = principals.get(u.station.name)!;
@@ -352,6 +351,14 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
         .from(calibrations)
         .where(eq(calibrations.id, calibrationId));
       if (cal.verdict !== 'unusable') attempts++;
+      if (cal.verdict === 'fail') {
+        // A failure a retest cannot mend puts the unit on hold at once: the operator stops there.
+        const [now] = await deps.db
+          .select({ status: units.status })
+          .from(units)
+          .where(eq(units.serial, u.serial));
+        if (now?.status === 'on_hold') break;
+      }
       if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
         const readBack =
           rng.next() < MISMATCH_RATE ? cal.offsetCounts + 1 + Math.floor(rng.next() * 40) : cal.offsetCounts;
@@ -365,10 +372,15 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
       // The operator reseats the unit and spins it again a few minutes later.
       t = computedAt + (4 + 5 * rng.next()) * 60_000;
     }
+    const idle = t + (1 + 4 * rng.next()) * 60_000;
+    lastSeen.set(principal.stationId, Math.max(lastSeen.get(principal.stationId) ?? 0, idle));
     done++;
     if (opts.onProgress && (done % 250 === 0 || done === planned.length))
       opts.onProgress(done, planned.length);
   });
+
+  // Rigs send heartbeats while they are on: leave each one's last heartbeat where its last shift ended.
+  for (const [stationId, at] of lastSeen) await recordHeartbeat(deps.db, stationId, new Date(at));
 
   return { ...(await seedCounts(deps.db)), seeded: true, ms: performance.now() - t0 };
 }

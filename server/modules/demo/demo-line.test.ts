@@ -64,7 +64,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await t?.close();
-});
+}, 180_000); // seeding 240 units through the line takes a while on a busy two-core machine
 
 const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
 
@@ -138,6 +138,39 @@ describe('the demo line seed', () => {
     const shift = DEMO_HALL_BOARD_LOTS.find((l) => l.code === OFF_HALL_BOARD_LOT)!.shiftDeg;
     const diff = mean(off.map((x) => x.residualDeg)) - mean(others.map((x) => x.residualDeg));
     expect(Math.abs(diff - shift)).toBeLessThan(1);
+  });
+
+  it('leaves every rig that measured a last heartbeat at the end of its last run, and no job queued', async () => {
+    const seen = await t.deps.db
+      .select({
+        name: stations.name,
+        lastSeenAt: stations.lastSeenAt,
+        last: sql<Date>`max(${calibrations.computedAt})`,
+      })
+      .from(stations)
+      .innerJoin(calibrations, eq(calibrations.stationId, stations.id))
+      .groupBy(stations.name, stations.lastSeenAt);
+    expect(seen.length).toBeGreaterThan(0);
+    for (const s of seen) {
+      expect(s.lastSeenAt, s.name).not.toBeNull();
+      const after = s.lastSeenAt!.getTime() - new Date(s.last).getTime();
+      // A rig idles a few minutes after its last unit before the shift ends (the seed's own rule).
+      expect(after, s.name).toBeGreaterThan(0);
+      expect(after, s.name).toBeLessThan(10 * 60_000);
+    }
+    // History is seeded without jobs: the line is steady as soon as the seed ends.
+    const { rows } = await t.database.pool.query(
+      `select count(*)::int as n from pgboss.job where state in ('created', 'retry', 'active')`,
+    );
+    expect(rows[0].n).toBe(0);
+  });
+
+  it('never retests a unit that a failure sent to repair', async () => {
+    const { rows } = await t.database.pool.query(
+      `select u.serial, count(c.*)::int as n from units u join calibrations c on c.unit_id = u.id
+        where u.status = 'on_hold' and u.hold_reason like 'Sent to repair%' group by u.serial`,
+    );
+    for (const r of rows) expect(r.n, r.serial).toBe(1);
   });
 
   it('adds nothing when run again', async () => {

@@ -324,10 +324,27 @@ describe('results', () => {
     expect(after.body.calibration.programming.status).toBe('mismatch');
   });
 
+  it('sends a unit whose offset is far outside its limits to repair at once instead of retesting it', async () => {
+    // 40° against a ±15° window is 25° out, more than a quarter of the window: built into the unit.
+    const m = simulatedMeasurement(recipe, 'SN-FAR', { offsetDeg: 40, seed: 77 });
+    expect((await post(line.key, m)).status).toBe(202);
+    await computeQueued(m.measurementId);
+    const { rows } = await t.database.pool.query(
+      `select status, attempts, hold_reason from units where serial = 'SN-FAR'`,
+    );
+    expect(rows[0]).toMatchObject({ status: 'on_hold', attempts: 1 });
+    expect(rows[0].hold_reason).toMatch(/repair/);
+    const view = await request(t.app)
+      .get('/api/units/SN-FAR')
+      .set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
+    expect(view.body.calibrations[0].nextAction).toMatch(/^Do not retest: the offset is far outside/);
+    expect(view.body.calibrations[0].nextAction).not.toMatch(/Retest|reseat/);
+  });
+
   it("puts a unit on hold after the recipe's maximum failed attempts and refuses further measurements", async () => {
-    // Offset 40° is outside the test recipe's ±15° window: a unit failure, not unusable input.
+    // Offset 18° is just outside the test recipe's ±15° window: a unit failure a retest may mend.
     for (let i = 1; i <= recipe.maxAttempts; i++) {
-      const m = simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 40, seed: 100 + i });
+      const m = simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 18, seed: 100 + i });
       expect((await post(line.key, m)).status).toBe(202);
       await computeQueued(m.measurementId);
     }

@@ -20,7 +20,8 @@ import {
   ENGINE_VERSION,
   validateCalibrationInput,
 } from '../../../shared/calibration';
-import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import type { CalibrationResult, Check } from '../../../shared/schemas/calibration-result';
+import { failureStep, repairHoldReason } from '../../../shared/calibration/check-guide';
 import { calibrateCapture, captureSignals, captureToMeasurement } from '../../../shared/capture/capture';
 import { parseNumericCsv } from '../../../shared/capture/csv';
 import { normaliseSerial } from '../../../shared/schemas/serial';
@@ -321,25 +322,35 @@ async function recipeForSerial(db: Db, stationId: string, serial: string) {
 }
 
 /**
- * Operator wording for what to do next with the unit after this calibration. A fail that used the
- * recipe's last attempt is the retest policy's hold; `unitHoldReason` is any hold the unit is under now.
+ * Operator wording for what to do next with the unit after this calibration. The failed checks pick
+ * the step from the one table in shared/calibration/check-guide.ts: a retest only where a retest can
+ * help, repair at once where it cannot. A fail that used the recipe's last attempt is the retest
+ * policy's hold; `unitHoldReason` is any hold the unit is under now.
  */
 export function nextActionFor(
   verdict: 'pass' | 'fail' | 'unusable',
   attempt: number | null,
   maxAttempts: number,
   unitHoldReason: string | null,
+  checks: readonly Check[] = [],
 ): string {
   if (verdict === 'unusable')
     return 'The station data could not be used (not a unit failure): run the measurement again.';
-  if (verdict === 'pass')
+  if (verdict === 'pass') {
+    if (unitHoldReason)
+      return `The unit is on hold (${unitHoldReason}): do not program or ship it. Tag it and put it in the hold area for quality.`;
     return 'Program the offset, let the station confirm it, print the traveler and send the unit on.';
+  }
+  const step = failureStep(checks);
+  if (step?.remedy === 'repair') return `${step.action} The unit is on hold until quality releases it.`;
   if ((attempt ?? 0) >= maxAttempts) {
     return `No attempts left (${attempt} of ${maxAttempts}): the unit is on hold. Tag it and put it in the hold area for quality.`;
   }
   if (unitHoldReason)
     return `The unit is on hold (${unitHoldReason}): tag it and put it in the hold area for quality.`;
-  return `Retest: reseat the unit and check the coupling, then spin it again (attempt ${(attempt ?? 0) + 1} of ${maxAttempts}).`;
+  const retest = `attempt ${(attempt ?? 0) + 1} of ${maxAttempts}`;
+  if (step?.remedy === 'station') return `${step.action} (${retest})`;
+  return `Retest (${retest}): ${step?.action ?? 'reseat the unit and check the coupling, then spin it again.'}`;
 }
 
 /**
@@ -408,7 +419,9 @@ export async function computeCalibration(
     const unit = unitRows[0];
     const counts = verdict !== 'unusable';
     const attempt = counts ? unit.attempts + 1 : null;
-    const next = counts ? nextUnitState(verdict as 'pass' | 'fail', unit.attempts, recipe) : null;
+    const next = counts
+      ? nextUnitState(verdict as 'pass' | 'fail', unit.attempts, recipe, result?.checks ?? [])
+      : null;
     // Calibration, unit status and the commit event in one statement; nothing changes if this
     // (measurement, recipe) pair was computed meanwhile.
     const { rows: inserted } = await client.query<{ id: string }>(
@@ -663,9 +676,14 @@ export function nextUnitState(
   verdict: 'pass' | 'fail',
   attemptsBefore: number,
   recipe: Pick<RecipeRecord, 'version' | 'body'>,
+  checks: readonly Check[] = [],
 ): { attempts: number; status: UnitRecord['status']; holdReason: string | null } {
   const attempts = attemptsBefore + 1;
   if (verdict === 'pass') return { attempts, status: 'calibrated', holdReason: null };
+  // A failure that a retest cannot mend (a dead sensor, swapped phases, an offset far out) goes to
+  // repair at once instead of using up the remaining attempts.
+  const step = failureStep(checks);
+  if (step?.remedy === 'repair') return { attempts, status: 'on_hold', holdReason: repairHoldReason(step) };
   const max = recipe.body.maxAttempts;
   if (attempts >= max) {
     return {
@@ -830,6 +848,7 @@ export async function calibrationViews(
               r.unitStatus === 'on_hold' && r.newestOfUnit === r.cal.id
                 ? (r.unitHoldReason ?? 'no reason given')
                 : null,
+              isError ? [] : (r.cal.result as CalibrationResult).checks,
             ),
       result: isError ? null : (r.cal.result as CalibrationResult),
       error: isError ? (r.cal.result as { error: CalibrationView['error'] }).error : null,

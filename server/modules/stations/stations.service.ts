@@ -261,3 +261,13 @@ export async function attendStation(db: Db, user: SessionUser, stationId: string
     });
   }
 }
+
+/** Names of the given stations, by id (for logs that keep only an id). */
+export async function stationNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<string, string>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({ id: stations.id, name: stations.name })
+    .from(stations)
+    .where(inArray(stations.id, ids));
+  return new Map(rows.map((r) => [r.id, r.name]));
+}

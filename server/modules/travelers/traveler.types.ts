@@ -117,6 +117,8 @@ export const travelerDataSchema = z
     recipe: z.object({ name: codeText('recipe name', 60), version: z.number().int().min(1) }),
     engineVersion: text(40),
     programming: programmingSchema,
+    // Set while the unit is on hold: the traveler then says ON HOLD, with the reason, above everything.
+    hold: z.object({ reason: text(240) }).optional(),
     // 1 for the original print, n for the (n − 1)th reprint.
     printNumber: z.number().int().min(1).default(1),
     pageSize: z.enum(['A4', 'LETTER']).default('A4'),

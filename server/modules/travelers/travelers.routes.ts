@@ -44,7 +44,7 @@ export function travelersRoutes(deps: AppDeps) {
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
         await checkStationScope(req.station?.stationId, unit.id);
-        const doc = await currentTraveler(deps.db, unit.id);
+        const doc = await currentTraveler(deps.db, unit.id, deps.clock());
         if (!doc) throw travelerErrors.none(unit.serial);
         sendPdf(res, doc, unit.serial);
       },

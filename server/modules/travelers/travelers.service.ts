@@ -10,6 +10,7 @@ import { models, recipes } from '../catalog/catalog.table';
 import { notifyLineEvent } from '../events/event-hub';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
 import { stations } from '../stations/stations.table';
+import { findUnitBySerial } from '../units/units.service';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
 import { renderTravelerPdf } from './traveler.render';
@@ -134,6 +135,10 @@ export async function travelerData(
             confirmedAt: conf.confirmedAt.toISOString(),
           }
       : { status: 'pending' },
+    hold:
+      row.unit.status === 'on_hold'
+        ? { reason: (row.unit.holdReason ?? 'no reason recorded').slice(0, 240) || 'no reason recorded' }
+        : undefined,
     printNumber,
     pageSize,
   };
@@ -213,8 +218,16 @@ export async function renderFirstTraveler(
   });
 }
 
-/** The traveler of the unit's latest calibration with a verdict, newest document first. */
-export async function currentTraveler(db: DbOrTx, unitId: string): Promise<TravelerRecord | undefined> {
+/**
+ * The traveler of the unit's latest calibration with a verdict, newest document first. A calibration
+ * whose print 1 was never rendered (the seeded demo history renders its travelers on first request, not
+ * in thousands of jobs at start) gets it rendered now, once.
+ */
+export async function currentTraveler(
+  db: Db,
+  unitId: string,
+  now: Date,
+): Promise<TravelerRecord | undefined> {
   const [latest] = await db
     .select({ id: calibrations.id })
     .from(calibrations)
@@ -228,13 +241,17 @@ export async function currentTraveler(db: DbOrTx, unitId: string): Promise<Trave
     .orderBy(desc(calibrations.computedAt))
     .limit(1);
   if (!latest) return undefined;
-  const [doc] = await db
-    .select()
-    .from(travelers)
-    .where(eq(travelers.calibrationId, latest.id))
-    .orderBy(desc(travelers.createdAt))
-    .limit(1);
-  return doc;
+  const newest = () =>
+    db
+      .select()
+      .from(travelers)
+      .where(eq(travelers.calibrationId, latest.id))
+      .orderBy(desc(travelers.createdAt))
+      .limit(1);
+  const [doc] = await newest();
+  if (doc) return doc;
+  await renderFirstTraveler(db, latest.id, now);
+  return (await newest())[0];
 }
 
 /**
@@ -276,7 +293,9 @@ export async function printTraveler(
       );
     const printNumber = n + 1;
     let doc: TravelerRecord | undefined;
-    if (printNumber === 1) {
+    const unitNow = await findUnitBySerial(tx, serial);
+    // A unit put on hold after its first traveler was rendered gets a fresh one that says ON HOLD.
+    if (printNumber === 1 && unitNow?.status !== 'on_hold') {
       [doc] = await tx
         .select()
         .from(travelers)

@@ -274,3 +274,13 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
   });
   return { imported: values.length, rows: parsed.data.length, errors: [] };
 }
+
+/** Serials of the given units, by id (for logs that keep only an id). */
+export async function serialsByIds(db: DbOrTx, ids: string[]): Promise<Map<string, string>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({ id: units.id, serial: units.serial })
+    .from(units)
+    .where(inArray(units.id, ids));
+  return new Map(rows.map((r) => [r.id, r.serial]));
+}

@@ -1,4 +1,4 @@
-import { asc, eq, sql } from 'drizzle-orm';
+import { asc, eq, inArray, sql } from 'drizzle-orm';
 import type { PgUpdateSetSource } from 'drizzle-orm/pg-core';
 import type { DbOrTx } from '../../db/client';
 import { users, type UserRecord } from './users.table';
@@ -82,4 +82,14 @@ export async function reserveSignInAttempt(
     .returning({ failedAttempts: users.failedAttempts, lockedUntil: users.lockedUntil });
   if (!row) return null;
   return { attempt: row.failedAttempts, locks: row.lockedUntil !== null };
+}
+
+/** Display names of the given accounts, by id (for logs that keep only an id). */
+export async function displayNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<string, string>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({ id: users.id, name: users.displayName })
+    .from(users)
+    .where(inArray(users.id, ids));
+  return new Map(rows.map((r) => [r.id, r.name]));
 }

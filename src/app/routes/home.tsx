@@ -32,7 +32,7 @@ export function Component() {
             <dt className="text-graphite-400">Role</dt>
             <dd data-testid="home-role">{ROLE_LABELS[me.role]}</dd>
             <dt className="text-graphite-400">E-mail</dt>
-            <dd>{me.email ?? <span className="text-graphite-500">none on file</span>}</dd>
+            <dd>{me.email ?? <span className="text-graphite-400">none on file</span>}</dd>
           </dl>
         </Panel>
         <Panel title="System" titleId="system-title">

@@ -82,7 +82,7 @@ export function StationsAdmin() {
                 <Td>
                   <span title={formatDateTime(s.lastSeenAt)}>{formatRelative(s.lastSeenAt)}</span>
                 </Td>
-                <Td>{s.attendedBy?.displayName ?? <span className="text-graphite-500">nobody</span>}</Td>
+                <Td>{s.attendedBy?.displayName ?? <span className="text-graphite-400">nobody</span>}</Td>
                 <Td>
                   <KeyList station={s} onRevoke={(key) => setRevoking({ station: s, key })} />
                 </Td>
@@ -137,7 +137,7 @@ export function StationsAdmin() {
 }
 
 function KeyList({ station, onRevoke }: { station: StationView; onRevoke: (key: StationKey) => void }) {
-  if (station.keys.length === 0) return <span className="text-graphite-500">no key</span>;
+  if (station.keys.length === 0) return <span className="text-graphite-400">no key</span>;
   return (
     <ul className="flex flex-col gap-2">
       {station.keys.map((k) => (
