@@ -78,6 +78,28 @@ export const bemfCrossingSchema = z.object({
 });
 export type BemfCrossing = z.infer<typeof bemfCrossingSchema>;
 
+/** Most segments in one measurement (directions × speeds; a station uses a handful). */
+export const MAX_SEGMENTS = 16;
+/** Most entries in one list of edges or crossings (a 2 MB body holds about 50,000). */
+export const MAX_LIST_ENTRIES = 100_000;
+
+/**
+ * Refuses an over-long list before any of its entries is read, with one issue: a hostile body of
+ * empty entries would otherwise make several issues per entry.
+ */
+function boundedList<T extends z.ZodType>(max: number, what: string, list: T) {
+  return z.preprocess((value, ctx) => {
+    if (Array.isArray(value) && value.length > max) {
+      ctx.addIssue({
+        code: 'custom',
+        message: `has ${value.length} ${what}; at most ${max} are accepted`,
+        input: value,
+      });
+    }
+    return value;
+  }, list);
+}
+
 /** Times in a list must not decrease; the refinement sits on each list so it runs even when a sibling list is bad. */
 function sortedByTime<T extends z.ZodType<{ us: number }>>(item: T, minimum: number, tooFew: string) {
   return z
@@ -100,12 +122,16 @@ function sortedByTime<T extends z.ZodType<{ us: number }>>(item: T, minimum: num
 export const measurementSegmentSchema = z.object({
   direction: directionSchema,
   /** Hall edges of all three sensors, merged and sorted by time (non-decreasing). */
-  hallEdges: sortedByTime(hallEdgeSchema, 1, 'needs at least one hall edge'),
+  hallEdges: boundedList(
+    MAX_LIST_ENTRIES,
+    'hall edges',
+    sortedByTime(hallEdgeSchema, 1, 'needs at least one hall edge'),
+  ),
   /** Back-EMF zero crossings of all channels, merged and sorted by time (non-decreasing). */
-  bemfCrossings: sortedByTime(
-    bemfCrossingSchema,
-    4,
-    'needs at least four back-EMF crossings to fit the angle',
+  bemfCrossings: boundedList(
+    MAX_LIST_ENTRIES,
+    'back-EMF crossings',
+    sortedByTime(bemfCrossingSchema, 4, 'needs at least four back-EMF crossings to fit the angle'),
   ),
   /** Optional free label from the station, e.g. "fwd-3000rpm". */
   label: stationText(200).optional(),
@@ -118,7 +144,11 @@ export const measurementSchema = z.object({
   /** Unit serial as scanned; checked and normalised by the product's one serial rule. */
   serial: serialSchema,
   /** One or more segments: directions and speeds may differ between segments. */
-  segments: z.array(measurementSegmentSchema).min(1, 'needs at least one segment'),
+  segments: boundedList(
+    MAX_SEGMENTS,
+    'segments',
+    z.array(measurementSegmentSchema).min(1, 'needs at least one segment'),
+  ),
   /** ISO 8601 time the capture was taken, when the station knows it. */
   capturedAt: stationText(40).optional(),
   /** Free-form station identifier. */

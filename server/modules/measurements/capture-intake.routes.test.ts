@@ -103,7 +103,7 @@ describe('hostile capture uploads', () => {
 });
 
 describe('hostile JSON measurements', () => {
-  it('answers a body of 100,000 empty segments with a small 400 that counts what it does not list', async () => {
+  it('refuses a body of 100,000 empty segments before reading them, with one small 400', async () => {
     const body = JSON.stringify({
       measurementId: 'hostile-json-1',
       serial: 'SN-HOSTILE',
@@ -118,9 +118,29 @@ describe('hostile JSON measurements', () => {
       .send(body);
     const growth = memoryMb() - before;
     expect(res.status).toBe(400);
+    expect(res.body.error.issues).toEqual([
+      { path: 'segments', message: 'has 100000 segments; at most 16 are accepted' },
+    ]);
+    expect(res.text.length).toBeLessThan(4096);
+    expect(growth).toBeLessThan(32);
+  });
+
+  it('answers 20,000 empty hall edges with a small 400 that counts what it does not list', async () => {
+    const body = JSON.stringify({
+      measurementId: 'hostile-json-2',
+      serial: 'SN-HOSTILE',
+      segments: [
+        { direction: 'forward', hallEdges: Array.from({ length: 20_000 }, () => ({})), bemfCrossings: [] },
+      ],
+    });
+    const res = await request(t.app)
+      .post('/api/station/measurements')
+      .set('X-Station-Key', line.key)
+      .set('Content-Type', 'application/json')
+      .send(body);
+    expect(res.status).toBe(400);
     expect(res.body.error.issues).toHaveLength(21);
     expect(res.body.error.issues.at(-1).message).toMatch(/^and \d+ more problems, not listed$/);
     expect(res.text.length).toBeLessThan(4096);
-    expect(growth).toBeLessThan(200);
   });
 });
