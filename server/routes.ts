@@ -1,6 +1,7 @@
 import type { AppDeps } from './deps';
 import { route, type RouteDef } from './lib/http';
 import { buildOpenApi } from './lib/openapi';
+import { analysisRoutes } from './modules/analysis/analysis.routes';
 import { auditRoutes } from './modules/audit/audit.routes';
 import { authRoutes } from './modules/auth/auth.routes';
 import { catalogRoutes } from './modules/catalog/catalog.routes';
@@ -31,6 +32,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...measurementsRoutes(deps),
     ...travelersRoutes(deps),
     ...jobsRoutes(deps),
+    ...analysisRoutes(deps),
   ];
   routes.push(
     route({
