@@ -1,6 +1,7 @@
 import type { AppDeps } from './deps';
 import { route, type RouteDef } from './lib/http';
 import { buildOpenApi } from './lib/openapi';
+import { alertsRoutes } from './modules/alerts/alerts.routes';
 import { analysisRoutes } from './modules/analysis/analysis.routes';
 import { auditRoutes } from './modules/audit/audit.routes';
 import { authRoutes } from './modules/auth/auth.routes';
@@ -33,6 +34,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...travelersRoutes(deps),
     ...jobsRoutes(deps),
     ...analysisRoutes(deps),
+    ...alertsRoutes(deps),
   ];
   routes.push(
     route({

@@ -69,7 +69,9 @@ export const chartAlerts = pgTable(
     comment: text(),
   },
   (t) => [
-    uniqueIndex('chart_alerts_open_key').on(t.chartId, t.rule).where(sql`status = 'open'`),
+    uniqueIndex('chart_alerts_open_key')
+      .on(t.chartId, t.rule)
+      .where(sql`status = 'open'`),
     index('chart_alerts_status_idx').on(t.status, t.raisedAt),
   ],
 );

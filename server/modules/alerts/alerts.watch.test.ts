@@ -1,13 +1,31 @@
 import { describe, expect, it } from 'vitest';
-import { alreadySeen, BASELINE_POINTS, initialWatchState, watchStep, type WatchSettings } from './alerts.watch';
+import {
+  alreadySeen,
+  BASELINE_POINTS,
+  initialWatchState,
+  watchStep,
+  type WatchSettings,
+} from './alerts.watch';
 import { evaluateRules } from '../../../shared/statistics';
 
-const imr: WatchSettings = { kind: 'imr', ruleSet: 'western-electric', rules: [1, 2, 3, 4], lambda: 0.2, limitWidth: 3 };
+const imr: WatchSettings = {
+  kind: 'imr',
+  ruleSet: 'western-electric',
+  rules: [1, 2, 3, 4],
+  lambda: 0.2,
+  limitWidth: 3,
+};
 const ewma: WatchSettings = { ...imr, kind: 'ewma' };
 
 /** A steady sequence with σ about 1 (alternating ±1 around 0 gives MR̄ = 2 → σ = 2/d2 ≈ 1.77). */
 function point(i: number, value: number) {
-  return { serial: `SN-${i}`, unitId: `u${i}`, calibrationId: `c${i}`, value, at: new Date(Date.UTC(2026, 10, 5, 0, i)).toISOString() };
+  return {
+    serial: `SN-${i}`,
+    unitId: `u${i}`,
+    calibrationId: `c${i}`,
+    value,
+    at: new Date(Date.UTC(2026, 10, 5, 0, i)).toISOString(),
+  };
 }
 
 function run(settings: WatchSettings, values: number[]) {

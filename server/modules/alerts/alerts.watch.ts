@@ -26,6 +26,8 @@ export interface WatchState {
   rules: RuleState;
   ewma: EwmaState | null;
   recent: AlertPoint[];
+  /** The last calibration taken in (computed time and id): the next run starts after it. */
+  cursor: { at: string; id: string } | null;
 }
 
 export interface WatchSettings {
@@ -42,10 +44,21 @@ export interface WatchHit {
   points: AlertPoint[];
 }
 
-export const EWMA_RULE_TEXT = ['EWMA above its upper limit: the process drifted up', 'EWMA below its lower limit: the process drifted down'];
+export const EWMA_RULE_TEXT = [
+  'EWMA above its upper limit: the process drifted up',
+  'EWMA below its lower limit: the process drifted down',
+];
 
 export function initialWatchState(): WatchState {
-  return { warmup: [], baseline: null, count: 0, rules: createRuleState(), ewma: null, recent: [] };
+  return {
+    warmup: [],
+    baseline: null,
+    count: 0,
+    rules: createRuleState(),
+    ewma: null,
+    recent: [],
+    cursor: null,
+  };
 }
 
 /** True when this calibration was already taken in (a retried job must not count it twice). */
@@ -67,6 +80,7 @@ export function watchStep(
   point: AlertPoint,
 ): { state: WatchState; hits: WatchHit[] } {
   const state: WatchState = structuredClone(previous);
+  state.cursor = { at: point.at, id: point.calibrationId };
   if (!state.baseline) {
     state.warmup.push({ value: point.value, calibrationId: point.calibrationId });
     if (state.warmup.length >= BASELINE_POINTS) {
@@ -85,15 +99,19 @@ export function watchStep(
   const index = state.count;
   state.count += 1;
   const byIndex = (involved: number[]) =>
-    involved.map((i) => state.recent[state.recent.length - 1 - (index - i)]).filter((p): p is AlertPoint => !!p);
+    involved
+      .map((i) => state.recent[state.recent.length - 1 - (index - i)])
+      .filter((p): p is AlertPoint => !!p);
 
   if (settings.kind === 'ewma') {
     const ewma = ewmaStep(state.ewma ?? { count: 0, z: center }, point.value, settings.lambda);
     state.ewma = ewma;
     const s = ewmaSigma(sigma, settings.lambda, ewma.count);
     const hits: WatchHit[] = [];
-    if (ewma.z > center + settings.limitWidth * s) hits.push({ rule: 1, ruleText: EWMA_RULE_TEXT[0], points: [point] });
-    if (ewma.z < center - settings.limitWidth * s) hits.push({ rule: 2, ruleText: EWMA_RULE_TEXT[1], points: [point] });
+    if (ewma.z > center + settings.limitWidth * s)
+      hits.push({ rule: 1, ruleText: EWMA_RULE_TEXT[0], points: [point] });
+    if (ewma.z < center - settings.limitWidth * s)
+      hits.push({ rule: 2, ruleText: EWMA_RULE_TEXT[1], points: [point] });
     return { state, hits };
   }
   const hits = pushRulePoint(
@@ -101,6 +119,10 @@ export function watchStep(
     { index, value: point.value, z: (point.value - center) / sigma },
     settings.ruleSet,
     settings.rules,
-  ).map((h) => ({ rule: h.rule, ruleText: RULE_TEXT[settings.ruleSet][h.rule - 1], points: byIndex(h.involved) }));
+  ).map((h) => ({
+    rule: h.rule,
+    ruleText: RULE_TEXT[settings.ruleSet][h.rule - 1],
+    points: byIndex(h.involved),
+  }));
   return { state, hits };
 }

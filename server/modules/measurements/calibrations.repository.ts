@@ -262,3 +262,44 @@ export async function analysisChoices(db: DbOrTx, modelId: string) {
     recipeVersions: versions.map((v) => v.version),
   };
 }
+
+export interface WatchRow {
+  calibrationId: string;
+  unitId: string;
+  serial: string;
+  offsetDeg: number;
+  computedAt: Date;
+}
+
+/**
+ * A station's judged calibrations (pass or fail, as the station got them) of one model after a cursor, in
+ * the order they were computed: what a watched chart takes in next.
+ */
+export async function stationCalibrationsAfter(
+  db: DbOrTx,
+  q: { stationId: string; modelId: string; after: { at: Date; id: string } | null; limit: number },
+): Promise<WatchRow[]> {
+  const where: SQL[] = [
+    eq(calibrations.stationId, q.stationId),
+    eq(units.modelId, q.modelId),
+    eq(calibrations.purpose, 'station'),
+    inArray(calibrations.verdict, ['pass', 'fail']),
+    sql`${calibrations.offsetDeg} is not null`,
+  ];
+  if (q.after)
+    where.push(sql`(${calibrations.computedAt}, ${calibrations.id}) > (${q.after.at}, ${q.after.id})`);
+  const rows = await db
+    .select({
+      calibrationId: calibrations.id,
+      unitId: calibrations.unitId,
+      serial: units.serial,
+      offsetDeg: calibrations.offsetDeg,
+      computedAt: calibrations.computedAt,
+    })
+    .from(calibrations)
+    .innerJoin(units, eq(units.id, calibrations.unitId))
+    .where(and(...where))
+    .orderBy(asc(calibrations.computedAt), asc(calibrations.id))
+    .limit(q.limit);
+  return rows.map((r) => ({ ...r, offsetDeg: r.offsetDeg! }));
+}

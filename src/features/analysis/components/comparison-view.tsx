@@ -153,7 +153,7 @@ export function ComparisonPanel({ view }: { view: View }) {
       {view.test ? (
         <p className="text-graphite-200">
           {view.test.reason} {view.test.test === 'welch-anova' ? 'F' : 'H'} ={' '}
-          {fmt(view.test.statistic, '', 2)}, p = {fmtP(view.test.pValue)}:{' '}
+          {fmt(view.test.statistic, '', 2)}, {fmtP(view.test.pValue)}:{' '}
           {view.test.pValue < 0.05
             ? 'the groups differ by more than chance would explain.'
             : 'the differences could be chance.'}

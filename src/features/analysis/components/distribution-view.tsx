@@ -119,7 +119,7 @@ export function DistributionPanel({ view }: { view: View }) {
     [
       'Normality (Anderson–Darling)',
       view.normality
-        ? `A² ${fmt(view.normality.statistic, '', 3)}, p ${fmtP(view.normality.pValue)} (${view.normality.normal ? 'looks normal' : 'not normal'})`
+        ? `A² ${fmt(view.normality.statistic, '', 3)}, ${fmtP(view.normality.pValue)} (${view.normality.normal ? 'looks normal' : 'not normal'})`
         : 'needs 8 values or more',
     ],
   ];

@@ -10,7 +10,7 @@ export function fmt(value: number | null | undefined, unit = '', digits = 2): st
 
 export function fmtP(p: number | null | undefined): string {
   if (p === null || p === undefined) return '—';
-  return p < 0.0001 ? 'below 0.0001' : p.toFixed(4);
+  return p < 0.0001 ? 'p below 0.0001' : `p = ${p.toFixed(4)}`;
 }
 
 export const READING_TEXT = {
