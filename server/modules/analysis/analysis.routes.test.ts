@@ -1,3 +1,4 @@
+import Papa from 'papaparse';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
@@ -194,6 +195,32 @@ describe('line health', () => {
     }
     for (const f of h.failedChecks) expect(f.label).not.toMatch(/\./);
     expect(h.placementTrend.length).toBeGreaterThan(5);
+  });
+});
+
+describe('export', () => {
+  it('streams the filtered calibrations as CSV with units in the headers, one row per calibration', async () => {
+    const station = options.stations.find((s) => s.name === 'EOL-21')!.id;
+    const query = { model: modelId, stations: station, verdict: 'pass' };
+    const res = await get('/api/analysis/calibrations.csv', query)
+      .buffer(true)
+      .parse((r, cb) => {
+        let text = '';
+        r.setEncoding('utf8');
+        r.on('data', (c: string) => (text += c));
+        r.on('end', () => cb(null, text));
+      });
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toMatch(/text\/csv/);
+    const parsed = Papa.parse<string[]>((res.body as string).replace(/^\uFEFF/, ''), {
+      skipEmptyLines: true,
+    });
+    expect(parsed.errors).toEqual([]);
+    const [header, ...rows] = parsed.data;
+    expect(header).toContain('Offset (electrical degrees)');
+    const n = ((await get('/api/analysis/distribution', query)).body as DistributionView).n;
+    expect(rows).toHaveLength(n);
+    expect(rows.every((r) => r[1] === 'EOL-21' && r[3] === 'pass')).toBe(true);
   });
 });
 

@@ -7,6 +7,7 @@ import {
   comparisonQuerySchema,
   controlChartQuerySchema,
 } from '../../../shared/schemas/analysis';
+import { writeCalibrationsCsv } from './analysis.export';
 import {
   analysisOptions,
   comparisonView,
@@ -73,6 +74,20 @@ export function analysisRoutes(deps: AppDeps) {
       query: analysisFilterSchema,
       handler: async (req, res) => {
         res.json(await lineHealthView(deps.db, analysisFilterSchema.parse(req.query)));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/analysis/calibrations.csv',
+      access: ANALYSIS_ACCESS,
+      summary: 'The filtered calibrations as CSV (streamed; units in the headers)',
+      query: analysisFilterSchema,
+      handler: async (req, res) => {
+        const filter = analysisFilterSchema.parse(req.query);
+        res.setHeader('Content-Type', 'text/csv; charset=utf-8');
+        res.setHeader('Content-Disposition', 'attachment; filename="calibrations.csv"');
+        await writeCalibrationsCsv(deps.db, filter, res);
+        res.end();
       },
     }),
   ];

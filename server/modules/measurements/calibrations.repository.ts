@@ -84,12 +84,14 @@ export interface CalibrationFigureRow {
 export async function selectCalibrationFigures(
   db: DbOrTx,
   filter: AnalysisFilter,
-  opts: { newest?: number; from?: Date; to?: Date } = {},
+  opts: { newest?: number; from?: Date; to?: Date; after?: { at: Date; id: string }; limit?: number } = {},
 ): Promise<{ rows: CalibrationFigureRow[]; total: number }> {
   const value = figureSql(filter.figure);
   const where = [...conditions(filter), sql`${value} is not null`];
   if (opts.from) where.push(gte(calibrations.computedAt, opts.from));
   if (opts.to) where.push(lt(calibrations.computedAt, opts.to));
+  if (opts.after)
+    where.push(sql`(${calibrations.computedAt}, ${calibrations.id}) > (${opts.after.at}, ${opts.after.id})`);
   const base = db
     .select({
       calibrationId: calibrations.id,
@@ -118,7 +120,9 @@ export async function selectCalibrationFigures(
     .where(and(...where));
   const found = opts.newest
     ? (await base.orderBy(desc(calibrations.computedAt), desc(calibrations.id)).limit(opts.newest)).reverse()
-    : await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id));
+    : opts.limit
+      ? await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id)).limit(opts.limit)
+      : await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id));
   const total = found[0]?.total ?? 0;
   return { rows: found.map(({ total: _t, ...r }) => r), total };
 }
