@@ -116,7 +116,7 @@ try {
   const workerArgs = dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'];
   services.push(
     startService('worker', TSX, workerArgs, {
-      env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
+      env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       onExit: onUnexpectedExit('worker'),
     }),
     // Renders yield the CPU to calibrations (nice 10) and catch up when the line is quieter.

@@ -48,6 +48,17 @@ export function AnalysisWorkspace() {
       <Panel title="Filter" titleId="analysis-filter">
         <FilterBar />
       </Panel>
+      {hasModel ? (
+        <p>
+          <a
+            className="inline-flex min-h-target items-center text-copper-300 underline"
+            href={`/api/analysis/calibrations.csv?${apiQuery(params, 'distribution')}`}
+            download
+          >
+            Download the filtered calibrations (CSV, for a spreadsheet)
+          </a>
+        </p>
+      ) : null}
       <nav aria-label="Views" className="flex flex-wrap gap-2">
         {WORKSPACE_VIEWS.map((w) => (
           <Link

@@ -109,6 +109,7 @@ export function ControlChartPanel({ view }: { view: View }) {
         Click a point to open its unit.
       </p>
       <ControlChartPlot
+        id="chart-location"
         title={view.location.title}
         unit={u}
         points={view.location.points}
@@ -118,6 +119,7 @@ export function ControlChartPanel({ view }: { view: View }) {
       />
       {view.spread ? (
         <ControlChartPlot
+          id="chart-spread"
           title={view.spread.title}
           unit={u}
           points={view.spread.points}

@@ -4,6 +4,7 @@ import { Alert } from '../../../components/ui/alert';
 import { SelectField, TextField } from '../../../components/ui/field';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
 import { fmt, fmtP } from './stat-format';
+import { SvgExport } from './chart-export';
 
 export function ComparisonSettings({ unit }: { unit: string }) {
   const [params, setParams] = useSearchParams();
@@ -159,6 +160,7 @@ export function ComparisonPanel({ view }: { view: View }) {
             : 'the differences could be chance.'}
         </p>
       ) : null}
+      <SvgExport targetId="analysis-boxplots" name={`comparison-by-${view.by}`} />
       <BoxPlots view={view} id="analysis-boxplots" />
       <p className="text-sm text-graphite-300">
         Box: middle half of the units, line at the median; whiskers to the furthest unit within 1.5 box

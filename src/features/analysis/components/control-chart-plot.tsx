@@ -2,10 +2,13 @@ import { useEffect, useRef } from 'react';
 import { useNavigate } from 'react-router';
 import uPlot from 'uplot';
 import 'uplot/dist/uPlot.min.css';
+import { CanvasChartExport } from './chart-export';
 
 export type PlotPoint = { serial: string; computedAt: string; value: number; rules: number[] };
 
 type Props = {
+  /** Element id of the chart (exports find the canvas by it). */
+  id: string;
   title: string;
   unit: string;
   points: PlotPoint[];
@@ -26,7 +29,7 @@ const SIGNAL = '#ff9a88';
  * A control chart drawn on a canvas with uPlot (10,000 points stay smooth). Points that break a rule get a
  * marker and the rule's number; clicking a point opens its unit.
  */
-export function ControlChartPlot({ title, unit, points, center, ucl, lcl, height = 300 }: Props) {
+export function ControlChartPlot({ id, title, unit, points, center, ucl, lcl, height = 300 }: Props) {
   const host = useRef<HTMLDivElement>(null);
   const navigate = useNavigate();
 
@@ -109,8 +112,24 @@ export function ControlChartPlot({ title, unit, points, center, ucl, lcl, height
   const signals = points.filter((p) => p.rules.length).length;
   return (
     <figure className="flex flex-col gap-2">
-      <figcaption className="text-lg font-semibold text-graphite-100">{title}</figcaption>
+      <div className="flex flex-wrap items-center justify-between gap-2">
+        <figcaption className="text-lg font-semibold text-graphite-100">{title}</figcaption>
+        <CanvasChartExport
+          hostId={id}
+          name={id}
+          series={{
+            title,
+            unit,
+            values: points.map((p) => p.value),
+            center,
+            ucl,
+            lcl,
+            flagged: points.map((p) => p.rules.length > 0),
+          }}
+        />
+      </div>
       <div
+        id={id}
         ref={host}
         role="img"
         aria-label={`${title}: ${points.length} points, ${signals} breaking a rule. The list below names them.`}

@@ -4,6 +4,7 @@ import { Alert } from '../../../components/ui/alert';
 import { StatusChip } from '../../../components/ui/status-chip';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
 import { fmt, fmtP, READING_TEXT } from './stat-format';
+import { SvgExport } from './chart-export';
 
 const W = 760;
 const H = 300;
@@ -130,7 +131,10 @@ export function DistributionPanel({ view }: { view: View }) {
           {w}
         </Alert>
       ))}
-      <Histogram view={view} id="analysis-histogram" />
+      <div className="flex flex-col gap-2">
+        <SvgExport targetId="analysis-histogram" name="offset-histogram" />
+        <Histogram view={view} id="analysis-histogram" />
+      </div>
       <div className="grid gap-6 lg:grid-cols-2">
         <TableFrame caption="Figures of the distribution">
           <tbody>
