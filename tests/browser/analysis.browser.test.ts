@@ -52,6 +52,16 @@ afterAll(async () => {
   await browser?.close();
 });
 
+describe('chart alerts on the demo line', () => {
+  it('shows open alerts on the engineer’s overview, including the drifting station', async () => {
+    await page.goto('/');
+    await page.getByRole('heading', { name: 'Chart alerts' }).waitFor();
+    await expect.poll(() => page.getByText(/EOL-23 · CV-57B/).count(), { timeout: 60_000 }).toBeGreaterThan(0);
+    await shot('alerts-overview');
+    expect(await axeFindings(page)).toEqual([]);
+  });
+});
+
 describe('line statistics on the demo line', () => {
   it('is in the engineer’s navigation and asks for a model first', async () => {
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Line statistics' }).click();
