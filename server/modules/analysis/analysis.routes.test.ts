@@ -1,4 +1,5 @@
 import Papa from 'papaparse';
+import { PDFParse } from 'pdf-parse';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
@@ -199,6 +200,29 @@ describe('line health', () => {
 });
 
 describe('export', () => {
+  it('renders a one-page capability report PDF with the figures and their reading', async () => {
+    const res = await get('/api/analysis/capability-report.pdf', { model: modelId, verdict: 'pass' })
+      .buffer(true)
+      .parse((r, cb) => {
+        const parts: Buffer[] = [];
+        r.on('data', (c: Buffer) => parts.push(c));
+        r.on('end', () => cb(null, Buffer.concat(parts)));
+      });
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toBe('application/pdf');
+    const parser = new PDFParse({ data: new Uint8Array(res.body as Buffer) });
+    try {
+      const text = await parser.getText();
+      expect(text.pages).toHaveLength(1);
+      expect(text.text).toContain('Process capability report');
+      expect(text.text).toContain('CV-57B');
+      expect(text.text).toMatch(/Cpk \(within\)/);
+      expect(text.text).toMatch(/Reading:/);
+    } finally {
+      await parser.destroy();
+    }
+  });
+
   it('streams the filtered calibrations as CSV with units in the headers, one row per calibration', async () => {
     const station = options.stations.find((s) => s.name === 'EOL-21')!.id;
     const query = { model: modelId, stations: station, verdict: 'pass' };

@@ -8,6 +8,7 @@ import {
   controlChartQuerySchema,
 } from '../../../shared/schemas/analysis';
 import { writeCalibrationsCsv } from './analysis.export';
+import { capabilityReport } from './analysis.service';
 import {
   analysisOptions,
   comparisonView,
@@ -74,6 +75,24 @@ export function analysisRoutes(deps: AppDeps) {
       query: analysisFilterSchema,
       handler: async (req, res) => {
         res.json(await lineHealthView(deps.db, analysisFilterSchema.parse(req.query)));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/analysis/capability-report.pdf',
+      access: ANALYSIS_ACCESS,
+      summary: 'One-page capability report (PDF) of a figure for the filter',
+      query: analysisFilterSchema,
+      handler: async (req, res) => {
+        const pdf = await capabilityReport(
+          deps.db,
+          deps.clock,
+          req.user!,
+          analysisFilterSchema.parse(req.query),
+        );
+        res.setHeader('Content-Type', 'application/pdf');
+        res.setHeader('Content-Disposition', 'inline; filename="capability-report.pdf"');
+        res.end(pdf);
       },
     }),
     route({

@@ -44,6 +44,9 @@ import {
   type CalibrationFigureRow,
 } from '../measurements/calibrations.repository';
 import { analysisErrors } from './analysis.errors';
+import { renderCapabilityReport } from './capability-report';
+import { TRAVELER_HEADER } from '../travelers/travelers.service';
+import type { SessionUser } from '../../lib/auth';
 
 /** Below this p-value the Anderson–Darling test says the values are not normal. */
 const NORMALITY_ALPHA = 0.05;
@@ -373,4 +376,48 @@ export async function lineHealthView(db: DbOrTx, filter: AnalysisFilter): Promis
 export async function analysisOptions(db: DbOrTx, modelId: string): Promise<AnalysisOptions> {
   await modelRecipe(db, modelId);
   return analysisChoices(db, modelId);
+}
+
+/** The filter in words for the report (names, not ids). */
+async function filterText(db: DbOrTx, f: AnalysisFilter): Promise<string> {
+  const parts: string[] = [];
+  if (f.stations) {
+    const choices = await analysisChoices(db, f.model);
+    parts.push(
+      `stations ${choices.stations
+        .filter((s) => f.stations!.includes(s.id))
+        .map((s) => s.name)
+        .join(', ')}`,
+    );
+  }
+  if (f.hallBoardLots) parts.push(`hall-board lots ${f.hallBoardLots.join(', ')}`);
+  if (f.magnetRingLots) parts.push(`magnet-ring lots ${f.magnetRingLots.join(', ')}`);
+  if (f.statorLots) parts.push(`stator lots ${f.statorLots.join(', ')}`);
+  if (f.recipeVersions) parts.push(`recipe versions ${f.recipeVersions.join(', ')}`);
+  if (f.operators) parts.push(`${f.operators.length} operator(s)`);
+  parts.push(f.from ? `from ${f.from}` : 'from the first record');
+  parts.push(f.to ? `to ${f.to}` : 'to now');
+  parts.push(f.verdict === 'all' ? 'pass and fail' : `${f.verdict} only`);
+  parts.push(f.attempts === 'first' ? 'first attempts' : 'all attempts');
+  parts.push(f.purpose === 'station' ? 'station results' : 'recomputations');
+  return parts.join('; ');
+}
+
+export async function capabilityReport(
+  db: DbOrTx,
+  clock: () => Date,
+  user: SessionUser,
+  filter: AnalysisFilter,
+): Promise<Buffer> {
+  const { model } = await modelRecipe(db, filter.model);
+  const view = await distributionView(db, filter);
+  return renderCapabilityReport({
+    view,
+    companyName: TRAVELER_HEADER.companyName,
+    plantName: TRAVELER_HEADER.plantName,
+    model: { code: model.code, name: model.name },
+    filterText: await filterText(db, filter),
+    generatedAt: clock(),
+    generatedBy: user.displayName,
+  });
 }

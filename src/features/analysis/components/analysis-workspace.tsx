@@ -57,6 +57,17 @@ export function AnalysisWorkspace() {
           >
             Download the filtered calibrations (CSV, for a spreadsheet)
           </a>
+          <span aria-hidden className="px-3 text-graphite-500">
+            ·
+          </span>
+          <a
+            className="inline-flex min-h-target items-center text-copper-300 underline"
+            href={`/api/analysis/capability-report.pdf?${apiQuery(params, 'distribution')}`}
+            target="_blank"
+            rel="noreferrer"
+          >
+            Capability report (PDF, one page)
+          </a>
         </p>
       ) : null}
       <nav aria-label="Views" className="flex flex-wrap gap-2">
