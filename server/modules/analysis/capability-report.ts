@@ -3,6 +3,7 @@ import { ANALYSIS_FIGURES, type DistributionView } from '../../../shared/schemas
 import { normalPdf } from '../../../shared/statistics';
 import { barlowFontSources } from '../travelers/fonts';
 
+// Barlow has no Greek letters: the report writes "sigma" in full.
 // The traveler's look: A4, black ink on white, Barlow TrueType, a heavy rule under the header.
 const INK = '#000000';
 const SOFT = '#4d4d4d';
@@ -194,10 +195,10 @@ export async function renderCapabilityReport(input: CapabilityReportInput): Prom
         ['Cpk (within)', ...ci(c.cpk)] as [string, string, string],
         ['Pp (overall)', ...ci(c.pp)] as [string, string, string],
         ['Ppk (overall)', ...ci(c.ppk)] as [string, string, string],
-        ['σ within (MR̄/d2)', num(c.sigmaWithin), ''],
-        ['σ overall', num(c.sigmaOverall), ''],
-        ['Expected outside, within σ', `${num(c.ppmWithin, 1)} ppm`, ''],
-        ['Expected outside, overall σ', `${num(c.ppmOverall, 1)} ppm`, ''],
+        ['Sigma within (moving range / d2)', num(c.sigmaWithin), ''],
+        ['Sigma overall', num(c.sigmaOverall), ''],
+        ['Expected outside, sigma within', `${num(c.ppmWithin, 1)} ppm`, ''],
+        ['Expected outside, sigma overall', `${num(c.ppmOverall, 1)} ppm`, ''],
       ]
     : [['No limits for this figure', '—', '']];
   cap.forEach(([k, v, v2], i) => row(left + colW + 16, y + i * 16, k, v, v2));
@@ -220,7 +221,7 @@ export async function renderCapabilityReport(input: CapabilityReportInput): Prom
     y = doc.y + 3;
   }
   doc.text(
-    'Cp and Cpk use the short-term σ (average moving range of consecutive units / d2); Pp and Ppk the overall sample σ. Intervals: chi-square for Cp and Pp, Bissell (1990) for Cpk and Ppk. Expected parts per million assume a normal distribution.',
+    'Cp and Cpk use the short-term sigma (average moving range of consecutive units / d2); Pp and Ppk the overall sample standard deviation. Intervals: chi-square for Cp and Pp, Bissell (1990) for Cpk and Ppk. Expected parts per million assume a normal distribution.',
     left,
     y + 4,
     { width },
