@@ -221,7 +221,7 @@ describe('export', () => {
     } finally {
       await parser.destroy();
     }
-  });
+  }, 60_000);
 
   it('streams the filtered calibrations as CSV with units in the headers, one row per calibration', async () => {
     const station = options.stations.find((s) => s.name === 'EOL-21')!.id;
