@@ -109,7 +109,9 @@ export async function selectCalibrationFigures(
       statorLot: units.statorLot,
       operatorId: measurements.operatorId,
       operatorName: users.displayName,
-      total: sql<number>`count(*) over ()`.mapWith(Number),
+      // The count of every matching row is needed only when the newest are cut off (charts); elsewhere the
+      // window would make each page of an export scan the whole selection again.
+      total: opts.newest ? sql<number>`count(*) over ()`.mapWith(Number) : sql<number>`0`.mapWith(Number),
     })
     .from(calibrations)
     .innerJoin(units, eq(units.id, calibrations.unitId))
@@ -123,7 +125,7 @@ export async function selectCalibrationFigures(
     : opts.limit
       ? await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id)).limit(opts.limit)
       : await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id));
-  const total = found[0]?.total ?? 0;
+  const total = opts.newest ? (found[0]?.total ?? 0) : found.length;
   return { rows: found.map(({ total: _t, ...r }) => r), total };
 }
 
