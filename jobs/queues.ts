@@ -33,6 +33,12 @@ export const queues = {
     payload: z.object({ calibrationId: z.string().uuid() }).strict(),
     policy: { retryLimit: 5, retryDelay: 2, retryBackoff: true, expireInSeconds: 30 },
   },
+  /** Take a station × model's new calibrations into its watched charts (enqueued with each calibration). */
+  chartWatch: {
+    name: 'chart-watch',
+    payload: z.object({ stationId: z.string().uuid(), modelId: z.string().uuid() }).strict(),
+    policy: { retryLimit: 5, retryDelay: 2, retryBackoff: true, expireInSeconds: 120 },
+  },
 } as const;
 
 /** PostgreSQL channel on which producers announce new jobs, so workers start them at once. */

@@ -4,6 +4,7 @@ import type { WorkerDeps } from './worker-deps';
 import { runHousekeeping } from './housekeeping.job';
 import { runCalibrationCompute } from './calibration-compute.job';
 import { runTravelerRender } from './traveler-render.job';
+import { runChartWatch } from './chart-watch.job';
 
 export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
   queue: K;
@@ -24,5 +25,6 @@ function job<K extends keyof typeof queues>(def: JobDef<K>): JobDef {
 export const jobRegistry: JobDef[] = [
   job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
   job({ queue: 'travelerRender', batchSize: 8, concurrency: 2, handler: runTravelerRender }),
+  job({ queue: 'chartWatch', batchSize: 20, concurrency: 1, handler: runChartWatch }),
   job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];

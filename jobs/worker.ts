@@ -1,5 +1,7 @@
 import pg from 'pg';
 import { createDatabase } from '../server/db/client';
+import { parseEnv } from '../server/env';
+import { createSmtpMailer } from '../server/modules/mail/mail.service';
 import { createLogger, type Logger } from '../server/lib/logger';
 import { startJobQueue, type JobQueue } from './queue-client';
 import { JOBS_WAKE_CHANNEL, queues } from './queues';
@@ -18,6 +20,8 @@ export async function startWorker(opts: {
   logger?: Logger;
   /** Queue names to serve (default: every queue in the registry). */
   queues?: string[];
+  /** Where alert e-mails go. */
+  mail?: { smtpUrl: string; from: string; publicUrl: string };
 }) {
   const logger = opts.logger ?? createLogger(opts.logLevel ?? 'info', 'phasewright-worker');
   const database = createDatabase(opts.databaseUrl, { max: 10, applicationName: 'phasewright-worker' });
@@ -27,7 +31,16 @@ export async function startWorker(opts: {
     // A lost connection (the database restarting) is reported here; pg-boss's loops carry on polling.
     onError: (err) => logger.warn({ err: err.message }, 'job queue: database error; retrying'),
   });
-  const deps: WorkerDeps = { db: database.db, pool: database.pool, logger, clock: () => new Date(), queue };
+  const mailer = opts.mail ? createSmtpMailer(opts.mail.smtpUrl, opts.mail.from) : undefined;
+  const deps: WorkerDeps = {
+    db: database.db,
+    pool: database.pool,
+    logger,
+    clock: () => new Date(),
+    queue,
+    mailer,
+    publicUrl: opts.mail?.publicUrl,
+  };
   const loops = new Map<string, string[]>();
 
   const served = jobRegistry.filter((j) => !opts.queues || opts.queues.includes(queues[j.queue].name));
@@ -107,6 +120,7 @@ export async function startWorker(opts: {
       stopped = true;
       await listener?.end().catch(() => {});
       await queue.stop();
+      mailer?.close();
       await database.close();
     },
   };
@@ -128,7 +142,13 @@ if (import.meta.url === `file://${process.argv[1]}`) {
     console.error(`WORKER_QUEUES names unknown queues: ${unknown.join(', ')} (known: ${known.join(', ')})`);
     process.exit(2);
   }
-  const worker = await startWorker({ databaseUrl: url, logLevel: process.env.LOG_LEVEL, queues: only });
+  const env = parseEnv();
+  const worker = await startWorker({
+    databaseUrl: url,
+    logLevel: process.env.LOG_LEVEL,
+    queues: only,
+    mail: { smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, publicUrl: env.PUBLIC_URL },
+  });
   const stop = () => void worker.stop().then(() => process.exit(0));
   process.on('SIGINT', stop);
   process.on('SIGTERM', stop);

@@ -31,6 +31,11 @@ export const APP_TABLE_ACCESS = {
   calibrations: { appendOnly: true },
   programming_confirmations: { appendOnly: true },
   travelers: { appendOnly: true },
+  // Line statistics: a watched chart's saved state moves on with every calibration; an alert is
+  // acknowledged; a subscription is a person's own switch, turned off by deleting it.
+  watched_charts: { update: 'row' },
+  chart_alerts: { update: 'row' },
+  alert_subscriptions: { update: 'row', delete: true },
 } as const satisfies Record<string, TableAccess>;
 
 export type TableAccess =

@@ -194,7 +194,7 @@ try {
   // other, so a burst of renders never delays a result an operator is waiting for.
   const workerArgs = dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'];
   supervise('worker', TSX, workerArgs, {
-    env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
+    env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
   });
   // Renders yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
   supervise('renderer', 'nice', ['-n', '10', TSX, ...workerArgs], {

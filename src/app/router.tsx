@@ -37,6 +37,11 @@ export const router = createBrowserRouter([
           { path: 'units', lazy: () => import('./routes/units') },
           { path: 'units/:serial', lazy: () => import('./routes/unit') },
           {
+            path: 'analysis',
+            element: <RequireAccess access={['engineer', 'quality']} />,
+            children: [{ index: true, lazy: () => import('./routes/analysis') }],
+          },
+          {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,
             children: [

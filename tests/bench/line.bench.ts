@@ -196,7 +196,7 @@ async function main(): Promise<number> {
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
   services.push(
     startService('worker', TSX, ['jobs/worker.ts'], {
-      env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
+      env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       quiet: true,
     }),
     // Renders yield the CPU to calibrations (nice 10), as under `npm start`.

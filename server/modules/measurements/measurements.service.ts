@@ -506,6 +506,13 @@ export async function computeCalibration(
         { calibrationId },
         { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
       );
+      // The watched control charts of this station and model take the new offset in (picked up at the
+      // worker's next poll, within 2 s: alerts need no millisecond wake-up).
+      await ctx.queue.send(
+        'chartWatch',
+        { stationId: measurement.station_id, modelId: recipe.modelId },
+        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
+      );
     }
     await client.query('COMMIT');
     return { calibrationId, created: true };

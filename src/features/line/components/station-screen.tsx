@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useReducer, useRef, useState } from 'react';
+import { useCallback, useEffect, useReducer, useRef, useState, type ReactNode } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { Link } from 'react-router';
 import type { LineEvent } from '../../../../shared/schemas/events';
@@ -71,7 +71,14 @@ function travelerState(detail: UnitDetail | null | undefined) {
  * The operator's station screen: scan, watch the unit's measurement arrive and compute, read the verdict
  * and print the traveler. Everything works from the keyboard; the scan field keeps the focus.
  */
-export function StationScreen({ station }: { station: StationView }) {
+export function StationScreen({
+  station,
+  healthExtra,
+}: {
+  station: StationView;
+  /** Shown under the station's health (the route puts the station's open chart alerts there). */
+  healthExtra?: ReactNode;
+}) {
   const queryClient = useQueryClient();
   const scanRef = useRef<HTMLInputElement>(null);
   const [state, dispatch] = useReducer(stationReducer, initialStationState);
@@ -403,6 +410,7 @@ export function StationScreen({ station }: { station: StationView }) {
           ) : null}
           <SafetyCautions />
           <StationHealth stationId={station.id} connection={connection} />
+          {healthExtra}
           <RecentUnits stationId={station.id} onPick={show} />
         </aside>
       </div>
