@@ -36,29 +36,51 @@ export interface JobQueue {
 
 export function createBoss(
   url: string,
-  opts: { max?: number; supervise?: boolean; schedule?: boolean } = {},
+  opts: { max?: number; supervise?: boolean; schedule?: boolean; migrate?: boolean } = {},
 ): PgBoss {
   const boss = new PgBoss({
     connectionString: url,
     schema: BOSS_SCHEMA,
+    // The running processes connect as the app role, which cannot create or change pg-boss's tables:
+    // the owner installs them at migrate time (installJobQueue) and the processes only check them.
+    migrate: opts.migrate ?? false,
     max: opts.max ?? 4,
     supervise: opts.supervise ?? false,
     schedule: opts.schedule ?? false,
     application_name: 'phasewright-queue',
     // How often the supervisor looks for jobs whose worker died (their expiry passed) and retries them.
-    maintenanceIntervalSeconds: Number(process.env.QUEUE_MAINTENANCE_SECONDS ?? 30),
+    maintenanceIntervalSeconds: Number(process.env.QUEUE_MAINTENANCE_SECONDS ?? 10),
   });
   return boss;
 }
 
-/** Starts pg-boss (creating its schema on first use) and makes sure every queue exists. */
+/**
+ * Installs (or upgrades) pg-boss's schema and creates every queue with its policy. Run as the owner
+ * role by the migration step: it is DDL, which the app role may not do.
+ */
+export async function installJobQueue(ownerUrl: string): Promise<void> {
+  const boss = createBoss(ownerUrl, { max: 1, migrate: true });
+  boss.on('error', () => {});
+  await boss.start();
+  try {
+    for (const q of Object.values(queues)) await ensureQueue(boss, q.name, q.policy);
+  } finally {
+    await boss.stop({ graceful: false, wait: true });
+  }
+}
+
+/**
+ * Starts pg-boss on a database the migration step prepared (installJobQueue) and checks that every
+ * queue exists with its policy. pg-boss's own errors (a lost connection while the database restarts)
+ * are logged, not thrown: its pool reconnects and its loops carry on.
+ */
 export async function startJobQueue(
   url: string,
   pool: pg.Pool,
-  opts: { supervise?: boolean; schedule?: boolean } = {},
+  opts: { supervise?: boolean; schedule?: boolean; onError?: (err: Error) => void } = {},
 ): Promise<JobQueue> {
   const boss = createBoss(url, opts);
-  boss.on('error', () => {});
+  boss.on('error', (err) => opts.onError?.(err));
   await boss.start();
   for (const q of Object.values(queues)) await ensureQueue(boss, q.name, q.policy);
   return {

@@ -23,12 +23,20 @@ export const queues = {
         recompute: z.object({ requestedBy: z.string().uuid(), reason: z.string().max(500) }).optional(),
       })
       .strict(),
-    policy: { retryLimit: 5, retryDelay: 1, retryBackoff: true, expireInSeconds: 60 },
+    // A calibration takes milliseconds (a large capture about a second): a job still active after 30 s
+    // belonged to a worker that died, and is retried then.
+    policy: { retryLimit: 5, retryDelay: 1, retryBackoff: true, expireInSeconds: 30 },
   },
   /** Render print 1 of the traveler for a committed calibration (enqueued with the calibration). */
   travelerRender: {
     name: 'traveler-render',
     payload: z.object({ calibrationId: z.string().uuid() }).strict(),
+    policy: { retryLimit: 5, retryDelay: 2, retryBackoff: true, expireInSeconds: 30 },
+  },
+  /** Take a station × model's new calibrations into its watched charts (enqueued with each calibration). */
+  chartWatch: {
+    name: 'chart-watch',
+    payload: z.object({ stationId: z.string().uuid(), modelId: z.string().uuid() }).strict(),
     policy: { retryLimit: 5, retryDelay: 2, retryBackoff: true, expireInSeconds: 120 },
   },
   /** Replay past units' measurements with a recipe version (analysis only; changes no unit). */

@@ -5,6 +5,7 @@ import { runHousekeeping } from './housekeeping.job';
 import { runCalibrationCompute } from './calibration-compute.job';
 import { runTravelerRender } from './traveler-render.job';
 import { runWhatIfJob } from './what-if-run.job';
+import { runChartWatch } from './chart-watch.job';
 
 export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
   queue: K;
@@ -26,5 +27,6 @@ export const jobRegistry: JobDef[] = [
   job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
   job({ queue: 'travelerRender', batchSize: 8, concurrency: 2, handler: runTravelerRender }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
+  job({ queue: 'chartWatch', batchSize: 20, concurrency: 1, handler: runChartWatch }),
   job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];

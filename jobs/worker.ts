@@ -1,5 +1,7 @@
 import pg from 'pg';
 import { createDatabase } from '../server/db/client';
+import { parseEnv } from '../server/env';
+import { createSmtpMailer } from '../server/modules/mail/mail.service';
 import { createLogger, type Logger } from '../server/lib/logger';
 import { startJobQueue, type JobQueue } from './queue-client';
 import { JOBS_WAKE_CHANNEL, queues } from './queues';
@@ -18,14 +20,27 @@ export async function startWorker(opts: {
   logger?: Logger;
   /** Queue names to serve (default: every queue in the registry). */
   queues?: string[];
+  /** Where alert e-mails go. */
+  mail?: { smtpUrl: string; from: string; publicUrl: string };
 }) {
   const logger = opts.logger ?? createLogger(opts.logLevel ?? 'info', 'phasewright-worker');
   const database = createDatabase(opts.databaseUrl, { max: 10, applicationName: 'phasewright-worker' });
   const queue: JobQueue = await startJobQueue(opts.databaseUrl, database.pool, {
     supervise: true,
     schedule: true,
+    // A lost connection (the database restarting) is reported here; pg-boss's loops carry on polling.
+    onError: (err) => logger.warn({ err: err.message }, 'job queue: database error; retrying'),
   });
-  const deps: WorkerDeps = { db: database.db, pool: database.pool, logger, clock: () => new Date(), queue };
+  const mailer = opts.mail ? createSmtpMailer(opts.mail.smtpUrl, opts.mail.from) : undefined;
+  const deps: WorkerDeps = {
+    db: database.db,
+    pool: database.pool,
+    logger,
+    clock: () => new Date(),
+    queue,
+    mailer,
+    publicUrl: opts.mail?.publicUrl,
+  };
   const loops = new Map<string, string[]>();
 
   const served = jobRegistry.filter((j) => !opts.queues || opts.queues.includes(queues[j.queue].name));
@@ -74,10 +89,15 @@ export async function startWorker(opts: {
       turn.set(msg.payload!, (i + 1) % ids.length);
       queue.boss.notifyWorker(ids[i]);
     });
-    c.on('error', () => {
-      listener = null;
+    // A dying connection can report more than one error: reconnect once per connection.
+    let lost = false;
+    c.on('error', (err) => {
+      if (lost) return;
+      lost = true;
+      logger.warn({ err: err.message }, 'wake-up connection lost; reconnecting');
+      if (listener === c) listener = null;
       c.end().catch(() => {});
-      setTimeout(() => void listen(), 500);
+      if (!stopped) setTimeout(() => void listen(), 500);
     });
     try {
       await c.connect();
@@ -85,6 +105,8 @@ export async function startWorker(opts: {
       listener = c;
       // Anything sent while we were not listening is picked up by the regular poll.
     } catch {
+      if (lost) return;
+      lost = true;
       c.end().catch(() => {});
       setTimeout(() => void listen(), 1000);
     }
@@ -98,6 +120,7 @@ export async function startWorker(opts: {
       stopped = true;
       await listener?.end().catch(() => {});
       await queue.stop();
+      mailer?.close();
       await database.close();
     },
   };
@@ -119,7 +142,13 @@ if (import.meta.url === `file://${process.argv[1]}`) {
     console.error(`WORKER_QUEUES names unknown queues: ${unknown.join(', ')} (known: ${known.join(', ')})`);
     process.exit(2);
   }
-  const worker = await startWorker({ databaseUrl: url, logLevel: process.env.LOG_LEVEL, queues: only });
+  const env = parseEnv();
+  const worker = await startWorker({
+    databaseUrl: url,
+    logLevel: process.env.LOG_LEVEL,
+    queues: only,
+    mail: { smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, publicUrl: env.PUBLIC_URL },
+  });
   const stop = () => void worker.stop().then(() => process.exit(0));
   process.on('SIGINT', stop);
   process.on('SIGTERM', stop);

@@ -9,6 +9,13 @@ const envSchema = z.object({
   PORT: z.coerce.number().int().min(0).max(65535).default(3000),
   HOST: z.string().default('127.0.0.1'),
   DATABASE_URL: z.string().url('DATABASE_URL must be a postgres:// URL'),
+  /** The owner role, for migrations; without it DATABASE_URL's role migrates (one role does everything). */
+  DATABASE_OWNER_URL: z.string().url('DATABASE_OWNER_URL must be a postgres:// URL').optional(),
+  /** Apply migrations when the server starts (npm start migrates in a step of its own and sets false). */
+  MIGRATE_ON_START: z
+    .enum(['true', 'false'])
+    .default('true')
+    .transform((v) => v === 'true'),
   /** Secret for signing session tokens; required outside development and tests. */
   SESSION_SECRET: z.string().min(32, 'SESSION_SECRET must be at least 32 characters').optional(),
   /** Send session cookies only over HTTPS (set when a TLS proxy fronts the server). */
@@ -32,6 +39,21 @@ const envSchema = z.object({
     .default('false')
     .transform((v) => v === 'true'),
   BCRYPT_COST: z.coerce.number().int().min(10).max(15).default(10),
+  /**
+   * Which proxies may tell the client's address in X-Forwarded-For (sign-in throttling, audit log).
+   * `false` (default): nobody, the connection's address counts. Otherwise Express's "trust proxy"
+   * value: `loopback`, a comma-separated list of addresses/subnets, or a number of hops.
+   */
+  TRUST_PROXY: z
+    .string()
+    .default('false')
+    .transform((v): boolean | number | string => {
+      const t = v.trim();
+      if (t === 'false' || t === '') return false;
+      if (/^\d+$/.test(t)) return Number(t);
+      return t;
+    })
+    .refine((v) => v !== 'true', 'TRUST_PROXY=true would trust any X-Forwarded-For; name the proxy instead'),
 });
 
 export type Env = z.infer<typeof envSchema> & { SESSION_SECRET: string; PUBLIC_URL: string };

@@ -2,7 +2,7 @@ import type { AddressInfo } from 'node:net';
 import { parseEnv } from './env';
 import { createApp } from './app';
 import { createDatabase } from './db/client';
-import { runMigrations } from './db/migrate';
+import { appRoleOf, migrateDatabase } from './db/migrate';
 import { seedDemoAccounts } from './db/seed';
 import { createLogger } from './lib/logger';
 import { createSmtpMailer } from './modules/mail/mail.service';
@@ -17,12 +17,19 @@ import { createEventHub } from './modules/events/event-hub';
 export async function startServer(source: NodeJS.ProcessEnv = process.env) {
   const env = parseEnv(source);
   const logger = createLogger(env.LOG_LEVEL, 'phasewright-server');
+  // `npm start` (and a service manager's migration unit) migrate as the owner role before starting
+  // the server, and set MIGRATE_ON_START=false: the app role may not change the schema.
+  if (env.MIGRATE_ON_START) {
+    const ownerUrl = env.DATABASE_OWNER_URL;
+    await migrateDatabase(ownerUrl ?? env.DATABASE_URL, { appRole: appRoleOf(env.DATABASE_URL, ownerUrl) });
+  }
   const database = createDatabase(env.DATABASE_URL, { max: 20, applicationName: 'phasewright-server' });
-  await runMigrations(database.db);
   if (source.SEED_DEMO === 'true') {
     if (await seedDemoAccounts(database.db, env.BCRYPT_COST)) logger.info('demo accounts created');
   }
-  const queue = await startJobQueue(env.DATABASE_URL, database.pool);
+  const queue = await startJobQueue(env.DATABASE_URL, database.pool, {
+    onError: (err) => logger.warn({ err: err.message }, 'job queue: database error; retrying'),
+  });
   const mailer = createSmtpMailer(env.SMTP_URL, env.MAIL_FROM);
   const events = createEventHub(env.DATABASE_URL, logger);
   await events.ready;

@@ -1,7 +1,7 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ROLES, roleAllows, type Role } from '../shared/schemas/roles';
-import { createTestApp, type TestApp } from '../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, type TestApp } from '../tests/harness/test-app';
 import { DEMO_ACCOUNTS } from './db/seed';
 import { buildRoutes } from './routes';
 import type { RouteDef } from './lib/http';
@@ -69,7 +69,8 @@ describe('every route answers each caller as its declared access says', () => {
         const path = concretePath(r.path);
         let req = request(t.app)[r.method](path);
         if (caller === 'station') req = req.set('X-Station-Key', stationKey);
-        else if (caller !== 'anonymous') req = req.set('Cookie', cookies.get(caller)!);
+        else if (caller !== 'anonymous')
+          req = req.set('Origin', TEST_ORIGIN).set('Cookie', cookies.get(caller)!);
         if (r.method !== 'get' && r.method !== 'delete') req = req.send({});
         const res = await req;
         const want = expectation(r, caller);

@@ -1,6 +1,8 @@
 import type { AppDeps } from './deps';
 import { route, type RouteDef } from './lib/http';
 import { buildOpenApi } from './lib/openapi';
+import { alertsRoutes } from './modules/alerts/alerts.routes';
+import { analysisRoutes } from './modules/analysis/analysis.routes';
 import { auditRoutes } from './modules/audit/audit.routes';
 import { authRoutes } from './modules/auth/auth.routes';
 import { APP_VERSION, healthRoutes } from './modules/health/health.routes';
@@ -31,6 +33,8 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...measurementsRoutes(deps),
     ...travelersRoutes(deps),
     ...jobsRoutes(deps),
+    ...analysisRoutes(deps),
+    ...alertsRoutes(deps),
   ];
   routes.push(
     route({

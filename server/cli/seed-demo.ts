@@ -1,18 +1,31 @@
-// Seeds the demo line on first start (the database has no models yet) and, on every start, writes a
-// fresh key of the simulator's station to the git-ignored .data/demo-station-key.json that
-// `npm run station:sim` reads. `npm start` runs this after the server and the worker are up.
+// Seeds the demo line on first start (the database has no models yet) and makes sure the git-ignored
+// .data/demo-station-key.json that `npm run station:sim` reads holds a valid key of the simulator's
+// station: the key already in the file is kept while it is valid (so stations need no re-keying after
+// a restart); a new one is made only when the file is missing or its key was revoked. `npm start` runs
+// this after the server and the worker are up.
 //
 //   DATABASE_URL=postgres://… [DEMO_LINE_UNITS=2500] [DEMO_BASE_URL=http://localhost:3000] tsx server/cli/seed-demo.ts
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createDatabase } from '../db/client';
 import { startJobQueue } from '../../jobs/queue-client';
-import { createDemoStationKey, seedDemoLine } from '../modules/demo/demo-line.seed';
+import { ensureDemoStationKey, seedDemoLine } from '../modules/demo/demo-line.seed';
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 // DEMO_KEY_FILE moves it (`npm test` does, so a test run never replaces the key of a developer's demo line).
 export const DEMO_KEY_FILE = process.env.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
+
+/** The key in the key file, if the file holds one. */
+function keyInFile(): string | undefined {
+  if (!existsSync(DEMO_KEY_FILE)) return undefined;
+  try {
+    const parsed = JSON.parse(readFileSync(DEMO_KEY_FILE, 'utf8')) as { key?: unknown };
+    return typeof parsed.key === 'string' ? parsed.key : undefined;
+  } catch {
+    return undefined;
+  }
+}
 
 function say(line: string) {
   process.stdout.write(`${line}\n`);
@@ -70,7 +83,7 @@ try {
   } else {
     say('demo line: the database already has models; nothing seeded');
   }
-  const key = await createDemoStationKey(database.db, new Date());
+  const key = await ensureDemoStationKey(database.db, new Date(), keyInFile());
   mkdirSync(dirname(DEMO_KEY_FILE), { recursive: true });
   writeFileSync(
     DEMO_KEY_FILE,
@@ -87,7 +100,11 @@ try {
     ) + '\n',
     { mode: 0o600 },
   );
-  say(`demo station key for ${key.stationName} written to ${relative(repoRoot, DEMO_KEY_FILE) || DEMO_KEY_FILE}`);
+  if (key.kept) say(`demo station key for ${key.stationName} is still valid: kept`);
+  else
+    say(
+      `demo station key for ${key.stationName} written to ${relative(repoRoot, DEMO_KEY_FILE) || DEMO_KEY_FILE}`,
+    );
 } catch (e) {
   process.stderr.write(`demo line: ${e instanceof Error ? e.message : String(e)}\n`);
   code = 1;

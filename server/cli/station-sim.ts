@@ -31,7 +31,8 @@ const USAGE = `Usage:
                     seated on the first attempt (default 0.03)`;
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
-const KEY_FILE = join(repoRoot, '.data', 'demo-station-key.json');
+// The same file `npm start` keeps the demo key in (DEMO_KEY_FILE moves it for both).
+const KEY_FILE = process.env.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
 
 class SetupError extends Error {
   constructor(
@@ -62,7 +63,7 @@ interface KeyFile {
 function readKeyFile(): KeyFile {
   if (!existsSync(KEY_FILE)) {
     throw new SetupError(
-      'No demo station key: .data/demo-station-key.json does not exist. Run `npm start` first (it seeds the demo line and writes the key), or pass --key.',
+      `No demo station key: ${KEY_FILE} does not exist. Run \`npm start\` first (it seeds the demo line and writes the key), or pass --key.`,
     );
   }
   try {
@@ -70,9 +71,7 @@ function readKeyFile(): KeyFile {
     if (typeof k.key !== 'string') throw new Error('no key');
     return k;
   } catch {
-    throw new SetupError(
-      `.data/demo-station-key.json is unreadable; restart \`npm start\` to write it again.`,
-    );
+    throw new SetupError(`${KEY_FILE} is unreadable; restart \`npm start\` to write it again.`);
   }
 }
 

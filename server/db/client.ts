@@ -18,8 +18,12 @@ export function createDatabase(url: string, opts: { max?: number; applicationNam
     max: opts.max ?? 10,
     application_name: opts.applicationName ?? 'phasewright',
   });
-  // An idle client that errors (server restart) must not crash the process; the pool replaces it.
+  // A connection that dies (the database restarted) must not crash the process. An idle one is reported
+  // on the pool, which replaces it; one checked out (a transaction) emits 'error' on the client itself,
+  // with no listener of the pool's attached while it is out: its query rejects, and the caller's
+  // release(err) discards it.
   pool.on('error', () => {});
+  pool.on('connect', (client) => client.on('error', () => {}));
   const db = drizzle(pool, { schema, casing: 'snake_case' });
   return { db, pool, close: () => pool.end() };
 }

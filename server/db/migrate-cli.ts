@@ -1,15 +1,13 @@
-import { createDatabase } from './client';
-import { runMigrations } from './migrate';
+// `npm run db:migrate`: applies the migrations as the owner role (DATABASE_OWNER_URL, else
+// DATABASE_URL), installs pg-boss's schema and queues, and grants the app role (DATABASE_URL's user)
+// its privileges.
+import { appRoleOf, migrateDatabase } from './migrate';
 
 const url = process.env.DATABASE_URL;
 if (!url) {
   console.error('DATABASE_URL is not set. `npm start` sets it for the private database.');
   process.exit(2);
 }
-const database = createDatabase(url, { max: 1 });
-try {
-  await runMigrations(database.db);
-  console.log('Migrations applied.');
-} finally {
-  await database.close();
-}
+const ownerUrl = process.env.DATABASE_OWNER_URL || undefined;
+await migrateDatabase(ownerUrl ?? url, { appRole: appRoleOf(url, ownerUrl) });
+console.log('Migrations applied.');

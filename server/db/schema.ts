@@ -7,3 +7,4 @@ export * from '../modules/units/units.table';
 export * from '../modules/stations/stations.table';
 export * from '../modules/measurements/measurements.table';
 export * from '../modules/travelers/travelers.table';
+export * from '../modules/alerts/alerts.table';

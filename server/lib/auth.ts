@@ -52,18 +52,70 @@ export function signSession(secret: string, userId: string, tokenVersion: number
 
 export type VerifyResult = { ok: true; claims: TokenClaims } | { ok: false; problem: 'expired' | 'invalid' };
 
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/**
+ * Accepts only a token this server signed as a session: HS256, an expiry (a token without `exp`
+ * would never end), a UUID subject and an integer token version. Anything else is 'invalid', never
+ * an error further down (a subject that is not a UUID would otherwise reach the database).
+ */
 export function verifySession(secret: string, token: string, now: Date): VerifyResult {
   try {
     const claims = jwt.verify(token, secret, {
       algorithms: ['HS256'],
       clockTimestamp: Math.floor(now.getTime() / 1000),
     }) as jwt.JwtPayload;
-    if (typeof claims.sub !== 'string' || typeof claims.tv !== 'number')
+    if (
+      typeof claims.sub !== 'string' ||
+      !UUID.test(claims.sub) ||
+      !Number.isInteger(claims.tv) ||
+      typeof claims.exp !== 'number' ||
+      claims.typ !== undefined
+    )
       return { ok: false, problem: 'invalid' };
-    return { ok: true, claims: { sub: claims.sub, tv: claims.tv } };
+    return { ok: true, claims: { sub: claims.sub, tv: claims.tv as number } };
   } catch (e) {
     return { ok: false, problem: e instanceof jwt.TokenExpiredError ? 'expired' : 'invalid' };
   }
+}
+
+/** The trusted-device cookie (see auth.service.ts): set after a successful sign-in, kept for a year. */
+export const DEVICE_COOKIE = 'pw_device';
+const DEVICE_TTL_SECONDS = 365 * 24 * 60 * 60;
+
+export function signDeviceToken(secret: string, userId: string, deviceId: string, now: Date): string {
+  const iat = Math.floor(now.getTime() / 1000);
+  return jwt.sign({ typ: 'device', sub: userId, dev: deviceId, iat, exp: iat + DEVICE_TTL_SECONDS }, secret, {
+    algorithm: 'HS256',
+  });
+}
+
+export function verifyDeviceToken(
+  secret: string,
+  token: string | undefined,
+  now: Date,
+): { userId: string; deviceId: string } | undefined {
+  if (!token) return undefined;
+  try {
+    const c = jwt.verify(token, secret, {
+      algorithms: ['HS256'],
+      clockTimestamp: Math.floor(now.getTime() / 1000),
+    }) as jwt.JwtPayload;
+    if (c.typ !== 'device' || typeof c.sub !== 'string' || typeof c.dev !== 'string') return undefined;
+    return { userId: c.sub, deviceId: c.dev };
+  } catch {
+    return undefined;
+  }
+}
+
+export function setDeviceCookie(res: Response, token: string, secure: boolean): void {
+  res.cookie(DEVICE_COOKIE, token, {
+    httpOnly: true,
+    sameSite: 'strict',
+    secure,
+    path: '/api/auth',
+    maxAge: DEVICE_TTL_SECONDS * 1000,
+  });
 }
 
 export function setSessionCookie(res: Response, token: string, secure: boolean): void {

@@ -22,7 +22,7 @@ export const TSX = join(repoRoot, 'node_modules', '.bin', 'tsx');
  * @param {string} name
  * @param {string} file
  * @param {string[]} args
- * @param {{ env?: NodeJS.ProcessEnv, quiet?: boolean, onExit?: (code: number | null) => void }} [options]
+ * @param {{ env?: NodeJS.ProcessEnv, quiet?: boolean, onExit?: (code: number | null, signal: string | null) => void }} [options]
  * @returns {Service}
  */
 export function startService(name, file, args, options = {}) {
@@ -50,9 +50,9 @@ export function startService(name, file, args, options = {}) {
   }
   let stopping = false;
   const exited = new Promise((resolvePromise) => {
-    child.on('exit', (code) => {
+    child.on('exit', (code, signal) => {
       if (!stopping && options.quiet && code !== 0) process.stderr.write(prefix(keep.join('')));
-      if (!stopping) options.onExit?.(code);
+      if (!stopping) options.onExit?.(code, signal);
       resolvePromise(code);
     });
     child.on('error', (err) => {

@@ -1,20 +1,28 @@
 // `npm start`: installs what is missing, starts the private PostgreSQL, the local fake mail server,
-// the API + client server and the job worker, seeds the demo on first run, and on Ctrl-C stops
-// everything it started. `--dev` serves the client from Vite's dev server with reload instead.
+// the API + client server and the job workers, seeds the demo on first run, and on Ctrl-C (SIGINT or
+// SIGTERM) stops everything it started. Until then it supervises: a process that dies is started
+// again after a growing pause while the others keep running, and a PostgreSQL server that dies is
+// started again (crash recovery) while every process reconnects. `--dev` serves the client from
+// Vite's dev server with reload instead; `--no-build` serves the client already built (tests).
+// PG_INSTANCE picks the private database instance (default dev).
 import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { join, relative } from 'node:path';
 import { ensureDeps } from './ensure-deps.mjs';
-import { ensurePostgres } from './pg-local.mjs';
+import { ensurePostgres, postmasterAlive } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
-import { TSX, portInUse, runStep, startService, waitForHttp } from './services.mjs';
+import { TSX, portInUse, runStep, waitForHttp } from './services.mjs';
+import { superviseService } from './supervise.mjs';
 
 const log = prefixedLog('start');
 const dev = process.argv.includes('--dev');
+const buildClient = !process.argv.includes('--no-build');
+const instance = process.env.PG_INSTANCE || 'dev';
 const port = Number(process.env.PORT ?? 3000);
 const smtpPort = Number(process.env.FAKE_SMTP_PORT ?? 2525);
 const mailHttpPort = Number(process.env.FAKE_MAIL_HTTP_PORT ?? 2580);
 const dataDir = join(repoRoot, '.data');
+const demoKeyFile = process.env.DEMO_KEY_FILE ?? join(dataDir, 'demo-station-key.json');
 
 /** A session secret kept in the git-ignored data folder, so sessions survive a restart. */
 function sessionSecret() {
@@ -29,14 +37,17 @@ function sessionSecret() {
 
 const services = [];
 let pg = null;
+let ownPostgres = false;
+let pgWatch = null;
 let shuttingDown = false;
 
 async function shutdown(code) {
   if (shuttingDown) return;
   shuttingDown = true;
+  clearInterval(pgWatch);
   log('stopping…');
   for (const s of [...services].reverse()) await s.stop();
-  if (pg?.startedByUs) {
+  if (pg && ownPostgres) {
     await pg.stop();
     log('PostgreSQL stopped');
   }
@@ -45,11 +56,72 @@ async function shutdown(code) {
 process.on('SIGINT', () => void shutdown(0));
 process.on('SIGTERM', () => void shutdown(0));
 
-function onUnexpectedExit(name) {
-  return (code) => {
-    log(`${name} exited unexpectedly (code ${code}); stopping everything`);
-    void shutdown(1);
+/**
+ * What runs now, for operators and the supervision test: `.data/run-<instance>.json` lists each
+ * process's pid, its restarts and when it last came up, and the same for PostgreSQL.
+ */
+const stateFile = join(dataDir, `run-${instance}.json`);
+const pgRestarts = [];
+function writeState() {
+  const state = {
+    supervisorPid: process.pid,
+    updatedAt: new Date().toISOString(),
+    services: Object.fromEntries(
+      services.map((s) => [
+        s.name,
+        {
+          pid: s.current()?.child.pid ?? null,
+          restarts: s.restarts.map((r) => ({
+            exitedAt: new Date(r.at).toISOString(),
+            code: r.code,
+            signal: r.signal,
+            upAt: r.upAt === null ? null : new Date(r.upAt).toISOString(),
+          })),
+        },
+      ]),
+    ),
+    postgres: pg && !pg.external ? { dataDir: pg.dataDir, port: pg.port, restarts: pgRestarts } : null,
   };
+  try {
+    mkdirSync(dataDir, { recursive: true });
+    writeFileSync(stateFile, `${JSON.stringify(state, null, 2)}\n`);
+  } catch {
+    // Only informative: never let it stop the supervisor.
+  }
+}
+
+/** Starts a supervised process and remembers it for the shutdown. */
+function supervise(name, file, args, options) {
+  const s = superviseService(name, file, args, { log, onStarted: writeState, ...options });
+  services.push(s);
+  return s;
+}
+
+/**
+ * Watches the private PostgreSQL's postmaster every half second; when it is gone (killed, crashed),
+ * starts it again: PostgreSQL replays its WAL (crash recovery) and the processes' pools, LISTEN
+ * connections and job queues reconnect on their own. An external server (DATABASE_URL) is not ours.
+ */
+function watchPostgres() {
+  if (pg.external) return;
+  let restarting = false;
+  pgWatch = setInterval(async () => {
+    if (restarting || shuttingDown || postmasterAlive(pg.dataDir)) return;
+    restarting = true;
+    const t0 = Date.now();
+    log('PostgreSQL stopped unexpectedly; starting it again (crash recovery)');
+    try {
+      await ensurePostgres({ instance, log: prefixedLog('postgres') });
+      ownPostgres = true;
+      log(`PostgreSQL is running again (${((Date.now() - t0) / 1000).toFixed(1)} s)`);
+      pgRestarts.push({ stoppedAt: new Date(t0).toISOString(), upAt: new Date().toISOString() });
+      writeState();
+    } catch (e) {
+      log(`PostgreSQL did not start again: ${e instanceof Error ? e.message : String(e)}; retrying`);
+    } finally {
+      restarting = false;
+    }
+  }, 500);
 }
 
 try {
@@ -59,16 +131,35 @@ try {
       `Port ${port} is already in use. Stop what uses it, or choose another: PORT=3100 npm start`,
     );
   }
-  pg = await ensurePostgres({ instance: 'dev', log: prefixedLog('postgres') });
+  // The client build needs nothing but the files: it runs while the database, the server, the workers
+  // and the demo seed start, and is awaited before the banner (first start: the two largest steps overlap).
+  let build = null;
+  if (!dev && buildClient) {
+    log('building the client…');
+    build = runStep(join(repoRoot, 'node_modules', '.bin', 'vite'), ['build', '--logLevel', 'warn']);
+  }
+  pg = await ensurePostgres({ instance, log: prefixedLog('postgres') });
+  ownPostgres = pg.startedByUs;
 
+  // The processes connect as the app role and never see the owner's credentials: migrations run here,
+  // once, as the owner, before anything else starts.
   const env = {
     ...process.env,
     NODE_ENV: dev ? 'development' : 'production',
     DATABASE_URL: pg.url,
+    MIGRATE_ON_START: 'false',
     PORT: String(port),
     SESSION_SECRET: sessionSecret(),
     SEED_DEMO: process.env.SEED_DEMO ?? 'true',
   };
+  delete env.DATABASE_OWNER_URL;
+  log('applying migrations…');
+  const migrated = await runStep(TSX, ['server/db/migrate-cli.ts'], {
+    ...env,
+    DATABASE_OWNER_URL: pg.ownerUrl,
+  });
+  if (migrated !== 0) throw new Error('The database migrations failed (output above).');
+  watchPostgres();
 
   if (!process.env.SMTP_URL) {
     if ((await portInUse(smtpPort)) || (await portInUse(mailHttpPort))) {
@@ -77,69 +168,44 @@ try {
       );
     }
     mkdirSync(dataDir, { recursive: true });
-    const mail = startService('mail', TSX, ['server/cli/fake-mail.ts'], {
+    const mail = supervise('mail', TSX, ['server/cli/fake-mail.ts'], {
       env: {
         ...env,
         FAKE_SMTP_PORT: String(smtpPort),
         FAKE_MAIL_HTTP_PORT: String(mailHttpPort),
         FAKE_MAIL_STORE: join(dataDir, 'mailbox.jsonl'),
       },
-      onExit: onUnexpectedExit('mail'),
+      ready: (service) => waitForHttp(`http://127.0.0.1:${mailHttpPort}/messages`, service, 30_000),
     });
-    services.push(mail);
-    await waitForHttp(`http://127.0.0.1:${mailHttpPort}/messages`, mail, 30_000);
+    await mail.firstStart;
     env.SMTP_URL = `smtp://127.0.0.1:${smtpPort}`;
     env.MAILBOX_URL = `http://127.0.0.1:${mailHttpPort}`;
   } else {
     env.MAILBOX_URL = process.env.MAILBOX_URL ?? '';
   }
 
-  if (!dev) {
-    log('building the client…');
-    const code = await runStep(join(repoRoot, 'node_modules', '.bin', 'vite'), [
-      'build',
-      '--logLevel',
-      'warn',
-    ]);
-    if (code !== 0) throw new Error('The client build failed (output above).');
-  }
-
-  const server = startService('server', TSX, dev ? ['watch', 'server/main.ts'] : ['server/main.ts'], {
+  const server = supervise('server', TSX, dev ? ['watch', 'server/main.ts'] : ['server/main.ts'], {
     env,
-    onExit: onUnexpectedExit('server'),
+    ready: (service) => waitForHttp(`http://127.0.0.1:${port}/api/health`, service),
   });
-  services.push(server);
-  await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
+  await server.firstStart;
 
   // Two worker processes: calibrations and housekeeping in one, the CPU-heavy traveler renders and
   // what-if replays in the other, so neither ever delays a result an operator is waiting for.
   const workerArgs = dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'];
-  services.push(
-    startService('worker', TSX, workerArgs, {
-      env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
-      onExit: onUnexpectedExit('worker'),
-    }),
-    // Renders and replays yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
-    startService('renderer', 'nice', ['-n', '10', TSX, ...workerArgs], {
-      env: { ...env, WORKER_QUEUES: 'traveler-render,what-if-run' },
-      onExit: onUnexpectedExit('renderer'),
-    }),
-  );
+  supervise('worker', TSX, workerArgs, {
+    env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
+  });
+  // Renders and replays yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
+  supervise('renderer', 'nice', ['-n', '10', TSX, ...workerArgs], {
+    env: { ...env, WORKER_QUEUES: 'traveler-render,what-if-run' },
+  });
 
-  if (dev) {
-    const vite = startService(
-      'vite',
-      join(repoRoot, 'node_modules', '.bin', 'vite'),
-      ['--host', '127.0.0.1'],
-      {
-        env,
-        onExit: onUnexpectedExit('vite'),
-      },
-    );
-    services.push(vite);
-  }
+  if (dev)
+    supervise('vite', join(repoRoot, 'node_modules', '.bin', 'vite'), ['--host', '127.0.0.1'], { env });
 
-  // Demo line: seeded through the line services on first start; a fresh simulator key every start.
+  // Demo line: seeded through the line services on first start; the simulator's station key is kept
+  // across starts while it is valid (a new one only when it was revoked or its file is missing).
   let demoStation = null;
   if (env.SEED_DEMO !== 'false') {
     const code = await runStep(TSX, ['server/cli/seed-demo.ts'], {
@@ -147,9 +213,11 @@ try {
       DEMO_BASE_URL: `http://localhost:${port}`,
     });
     if (code === 0) {
-      demoStation = JSON.parse(readFileSync(join(dataDir, 'demo-station-key.json'), 'utf8')).stationName;
+      demoStation = JSON.parse(readFileSync(demoKeyFile, 'utf8')).stationName;
     } else log('the demo line could not be seeded (output above); the product runs without it');
   }
+
+  if (build && (await build) !== 0) throw new Error('The client build failed (output above).');
 
   const url = dev ? 'http://localhost:5173' : `http://localhost:${port}`;
   const banner = [
@@ -166,13 +234,14 @@ try {
     `  Mail: ${process.env.SMTP_URL ? 'SMTP_URL relay' : `local fake mail server (SMTP 127.0.0.1:${smtpPort}); see Admin → Outbox`}`,
     ...(demoStation
       ? [
-          `  Demo station: ${demoStation} (Line 2); its key is in .data/demo-station-key.json.`,
+          `  Demo station: ${demoStation} (Line 2); its key is in ${relative(repoRoot, demoKeyFile) || demoKeyFile}.`,
           '  Simulate it in another terminal: npm run station:sim -- --units 50 --json',
         ]
       : []),
-    '  Press Ctrl-C to stop everything.',
+    '  A process that stops is started again; press Ctrl-C to stop everything.',
     '',
   ];
+  writeState();
   process.stdout.write(banner.join('\n') + '\n');
 } catch (e) {
   log(`failed: ${e instanceof Error ? e.message : String(e)}`);

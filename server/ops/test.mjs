@@ -47,8 +47,11 @@ async function browserSuite(pg, chromiumPath) {
   await admin.query(`drop database if exists "${dbName}" with (force)`);
   await admin.query(`create database "${dbName}"`);
   await admin.end();
-  const url = new URL(pg.adminUrl);
+  // The processes connect as the app role, as under `npm start`; the server migrates as the owner.
+  const url = new URL(pg.url);
   url.pathname = `/${dbName}`;
+  const ownerUrl = new URL(pg.adminUrl);
+  ownerUrl.pathname = `/${dbName}`;
 
   if ((await runStep(bin('vite'), ['build', '--logLevel', 'warn'])) !== 0) return false;
   const [port, smtpPort, mailHttpPort] = [await freePort(), await freePort(), await freePort()];
@@ -56,6 +59,7 @@ async function browserSuite(pg, chromiumPath) {
     ...process.env,
     NODE_ENV: 'test',
     DATABASE_URL: url.toString(),
+    DATABASE_OWNER_URL: ownerUrl.toString(),
     PORT: String(port),
     SEED_DEMO: 'true',
     // A small demo line is enough for the browser tests and keeps the suite fast.

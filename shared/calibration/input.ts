@@ -14,14 +14,25 @@ export class CalibrationInputError extends Error {
   readonly code = 'calibration.invalid_input' as const;
   readonly issues: InputIssue[];
 
-  constructor(issues: InputIssue[]) {
+  /** `unlisted`: further problems found but not listed (bounded error size); they are counted in the last issue. */
+  constructor(issues: InputIssue[], unlisted = 0) {
+    const total = issues.length + unlisted;
     const head = issues
       .slice(0, 5)
       .map((i) => `${i.path}: ${i.message}`)
       .join('; ');
-    super(`Unusable calibration input (${issues.length} problem${issues.length === 1 ? '' : 's'}): ${head}`);
+    super(`Unusable calibration input (${total} problem${total === 1 ? '' : 's'}): ${head}`);
     this.name = 'CalibrationInputError';
-    this.issues = issues;
+    this.issues =
+      unlisted > 0
+        ? [
+            ...issues,
+            {
+              path: '(more)',
+              message: `and ${unlisted} more problem${unlisted === 1 ? '' : 's'} of the same kinds, not listed`,
+            },
+          ]
+        : issues;
   }
 }
 

@@ -2,7 +2,7 @@ import Papa from 'papaparse';
 import { describe, expect, it } from 'vitest';
 import { CalibrationInputError } from '../calibration/input';
 import { createRng } from '../simulation/rng';
-import { parseNumericCsv } from './csv';
+import { CSV_LIMITS, parseNumericCsv } from './csv';
 
 describe('numeric CSV reader (cross-checked against papaparse, a general-purpose CSV parser from npm)', () => {
   it('reads the same numbers as papaparse with dynamic typing, bit for bit', () => {
@@ -61,5 +61,31 @@ describe('numeric CSV reader (cross-checked against papaparse, a general-purpose
   it('rejects an empty capture', () => {
     expect(() => parseNumericCsv('\n\n')).toThrow(CalibrationInputError);
     expect(() => parseNumericCsv('time_s,va\n')).toThrow(/no data rows/);
+  });
+
+  it('refuses a shape beyond the documented limits before reading it', () => {
+    expect(() => parseNumericCsv(','.repeat(99_999))).toThrow(/100000 columns; a capture has at most 32/);
+    expect(() => parseNumericCsv('1'.repeat(5000))).toThrow(/5000 bytes long/);
+    expect(() => parseNumericCsv('0\n'.repeat(CSV_LIMITS.maxRows + 1))).toThrow(/at most 2000000 rows/);
+    const wide = Array.from({ length: 30 }, () => '0').join(',') + '\n';
+    expect(() => parseNumericCsv(wide.repeat(400_000))).toThrow(/at most 10000000 values/);
+  });
+
+  it('reads rows ended by a lone carriage return as separate rows', () => {
+    const t = parseNumericCsv('time_s,va\n0,1\r1,2\r2,3');
+    expect(t.rows).toBe(3);
+    expect([...t.data[1]]).toEqual([1, 2, 3]);
+  });
+
+  it('lists at most the first problems and counts the rest', () => {
+    try {
+      parseNumericCsv('a,b\n' + 'x,1\n'.repeat(100) + '1,2,3,4,5\n');
+      throw new Error('accepted bad CSV');
+    } catch (e) {
+      const issues = (e as CalibrationInputError).issues;
+      expect(issues).toHaveLength(CSV_LIMITS.maxIssues + 1);
+      expect(issues.at(-1)!.message).toBe('and 81 more problems of the same kinds, not listed');
+      expect((e as Error).message).toMatch(/101 problems/);
+    }
   });
 });

@@ -2,13 +2,9 @@ import { z } from 'zod';
 import { calibrationResultSchema } from './calibration-result';
 import { recipeSchema } from './recipe';
 
-/** Serials as scanned: printable, no spaces, at most 64 characters. Compared without letter case. */
-export const serialSchema = z
-  .string()
-  .trim()
-  .min(3, 'A serial has at least 3 characters')
-  .max(64, 'A serial has at most 64 characters')
-  .regex(/^[A-Za-z0-9][A-Za-z0-9._/-]*$/, 'Letters, digits, dot, dash, slash and underscore only');
+import { serialSchema } from './serial';
+
+export { serialSchema };
 
 export const unitStatusSchema = z.enum(['new', 'calibrated', 'failed', 'on_hold']);
 export type UnitStatus = z.infer<typeof unitStatusSchema>;

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { serialSchema } from './serial';
 
 /**
  * The measurement a test station uploads: for each segment of the run (one direction at one speed),
@@ -23,7 +24,42 @@ export type BemfChannel = z.infer<typeof bemfChannelSchema>;
 export const directionSchema = z.enum(['forward', 'reverse']);
 export type Direction = z.infer<typeof directionSchema>;
 
-const timeUs = z.number({ error: 'must be a finite number of microseconds' });
+/**
+ * The longest capture the product accepts, in seconds (a coast-down from speed to the end of the
+ * speed window takes a few seconds; a minute leaves a wide margin). A time outside [0, this] is not a
+ * measurement of a unit but a station fault, and is refused with 400 before anything is computed.
+ */
+export const MAX_CAPTURE_SECONDS = 60;
+export const MAX_CAPTURE_US = MAX_CAPTURE_SECONDS * 1_000_000;
+
+const timeUs = z
+  .number({ error: 'must be a number of microseconds' })
+  .refine(Number.isFinite, 'must be a finite number of microseconds')
+  .refine((us) => us >= 0, 'must not be negative: times count from the start of the capture')
+  .refine(
+    (us) => us <= MAX_CAPTURE_US,
+    `must be within the capture: at most ${MAX_CAPTURE_SECONDS} s (${MAX_CAPTURE_US} µs) after its start`,
+  );
+
+/** Printable ASCII without spaces: safe in a URL path, a log line and the database. */
+const PRINTABLE_ID = /^[\x21-\x7e]+$/;
+
+/** The station's idempotency key for one upload (a UUID is recommended). */
+export const measurementIdSchema = z
+  .string({ error: 'A measurement id is required.' })
+  .min(1, 'The measurement id is empty.')
+  .max(200, 'The measurement id is longer than 200 characters.')
+  .regex(PRINTABLE_ID, 'The measurement id may hold only printable ASCII characters, without spaces.');
+
+/** Free text from a station (labels): no control characters. */
+const stationText = (max: number) =>
+  z
+    .string()
+    .max(max, `is longer than ${max} characters`)
+    .refine(
+      (text) => ![...text].some((ch) => ch.charCodeAt(0) < 32 || ch.charCodeAt(0) === 127),
+      'must not contain control characters',
+    );
 
 export const hallEdgeSchema = z.object({
   sensor: hallSensorSchema,
@@ -41,6 +77,28 @@ export const bemfCrossingSchema = z.object({
   us: timeUs,
 });
 export type BemfCrossing = z.infer<typeof bemfCrossingSchema>;
+
+/** Most segments in one measurement (directions × speeds; a station uses a handful). */
+export const MAX_SEGMENTS = 16;
+/** Most entries in one list of edges or crossings (a 2 MB body holds about 50,000). */
+export const MAX_LIST_ENTRIES = 100_000;
+
+/**
+ * Refuses an over-long list before any of its entries is read, with one issue: a hostile body of
+ * empty entries would otherwise make several issues per entry.
+ */
+function boundedList<T extends z.ZodType>(max: number, what: string, list: T) {
+  return z.preprocess((value, ctx) => {
+    if (Array.isArray(value) && value.length > max) {
+      ctx.addIssue({
+        code: 'custom',
+        message: `has ${value.length} ${what}; at most ${max} are accepted`,
+        input: value,
+      });
+    }
+    return value;
+  }, list);
+}
 
 /** Times in a list must not decrease; the refinement sits on each list so it runs even when a sibling list is bad. */
 function sortedByTime<T extends z.ZodType<{ us: number }>>(item: T, minimum: number, tooFew: string) {
@@ -64,28 +122,36 @@ function sortedByTime<T extends z.ZodType<{ us: number }>>(item: T, minimum: num
 export const measurementSegmentSchema = z.object({
   direction: directionSchema,
   /** Hall edges of all three sensors, merged and sorted by time (non-decreasing). */
-  hallEdges: sortedByTime(hallEdgeSchema, 1, 'needs at least one hall edge'),
+  hallEdges: boundedList(
+    MAX_LIST_ENTRIES,
+    'hall edges',
+    sortedByTime(hallEdgeSchema, 1, 'needs at least one hall edge'),
+  ),
   /** Back-EMF zero crossings of all channels, merged and sorted by time (non-decreasing). */
-  bemfCrossings: sortedByTime(
-    bemfCrossingSchema,
-    4,
-    'needs at least four back-EMF crossings to fit the angle',
+  bemfCrossings: boundedList(
+    MAX_LIST_ENTRIES,
+    'back-EMF crossings',
+    sortedByTime(bemfCrossingSchema, 4, 'needs at least four back-EMF crossings to fit the angle'),
   ),
   /** Optional free label from the station, e.g. "fwd-3000rpm". */
-  label: z.string().max(200).optional(),
+  label: stationText(200).optional(),
 });
 export type MeasurementSegment = z.infer<typeof measurementSegmentSchema>;
 
 export const measurementSchema = z.object({
   /** Chosen by the station; the idempotency key of the upload. */
-  measurementId: z.string().min(1).max(200),
-  /** Unit serial as scanned. */
-  serial: z.string().min(1).max(200),
+  measurementId: measurementIdSchema,
+  /** Unit serial as scanned; checked and normalised by the product's one serial rule. */
+  serial: serialSchema,
   /** One or more segments: directions and speeds may differ between segments. */
-  segments: z.array(measurementSegmentSchema).min(1, 'needs at least one segment'),
+  segments: boundedList(
+    MAX_SEGMENTS,
+    'segments',
+    z.array(measurementSegmentSchema).min(1, 'needs at least one segment'),
+  ),
   /** ISO 8601 time the capture was taken, when the station knows it. */
-  capturedAt: z.string().optional(),
+  capturedAt: stationText(40).optional(),
   /** Free-form station identifier. */
-  stationId: z.string().max(200).optional(),
+  stationId: stationText(200).optional(),
 });
 export type Measurement = z.infer<typeof measurementSchema>;

@@ -91,6 +91,8 @@ export const auditEntrySchema = z.object({
   action: z.string(),
   subjectType: z.string().nullable(),
   subjectId: z.string().nullable(),
+  /** The subject in words for people (a person's name, a serial, a station's name), when known. */
+  subjectLabel: z.string().nullable(),
   reason: z.string().nullable(),
   before: z.unknown().nullable(),
   after: z.unknown().nullable(),

@@ -29,7 +29,7 @@ export function AuthLayout({
             kept for the life of each unit.
           </p>
         </div>
-        <p className="relative text-sm tracking-wider text-graphite-500 uppercase">
+        <p className="relative text-sm tracking-wider text-graphite-400 uppercase">
           Phase A · Phase B · Phase C
         </p>
       </div>

@@ -40,6 +40,12 @@ export const NAV_ITEMS: readonly NavItem[] = [
     access: { only: ['engineer', 'quality'] },
   },
   {
+    to: '/analysis',
+    label: 'Line statistics',
+    summary: 'Distributions, capability, control charts with run rules, lot and station comparisons.',
+    access: ['engineer', 'quality'],
+  },
+  {
     to: '/admin/people',
     label: 'People',
     summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',

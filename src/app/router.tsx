@@ -46,6 +46,11 @@ export const router = createBrowserRouter([
           { path: 'recipes/versions/:recipeId', lazy: () => import('./routes/recipe-version') },
           { path: 'recipes/versions/:recipeId/review', lazy: () => import('./routes/recipe-review') },
           {
+            path: 'analysis',
+            element: <RequireAccess access={['engineer', 'quality']} />,
+            children: [{ index: true, lazy: () => import('./routes/analysis') }],
+          },
+          {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,
             children: [

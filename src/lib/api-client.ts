@@ -33,7 +33,7 @@ export function setSessionLostHandler(handler: SessionLostHandler): void {
 }
 
 type RequestOptions = {
-  method?: 'GET' | 'POST' | 'PATCH' | 'DELETE';
+  method?: 'GET' | 'POST' | 'PUT' | 'PATCH' | 'DELETE';
   body?: unknown;
   /**
    * Calls made without a session (sign-in, reset requests, asking who is signed in) handle 401 themselves;

@@ -171,15 +171,19 @@ async function main(): Promise<number> {
   await admin.query(`drop database if exists "${DB_NAME}" with (force)`);
   await admin.query(`create database "${DB_NAME}"`);
   await admin.end();
-  const url = new URL(pgHandle.adminUrl);
+  // The processes connect as the app role, as under `npm start`; the server migrates as the owner.
+  const url = new URL(pgHandle.url);
   url.pathname = `/${DB_NAME}`;
   const databaseUrl = url.toString();
+  const ownerUrl = new URL(pgHandle.adminUrl);
+  ownerUrl.pathname = `/${DB_NAME}`;
 
   const port = await freePort();
   const env = {
     ...process.env,
     NODE_ENV: 'test' as const,
     DATABASE_URL: databaseUrl,
+    DATABASE_OWNER_URL: ownerUrl.toString(),
     PORT: String(port),
     SEED_DEMO: 'false',
     LOG_LEVEL: 'warn',
@@ -192,7 +196,7 @@ async function main(): Promise<number> {
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
   services.push(
     startService('worker', TSX, ['jobs/worker.ts'], {
-      env: { ...env, WORKER_QUEUES: 'calibration-compute,housekeeping' },
+      env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       quiet: true,
     }),
     // Renders yield the CPU to calibrations (nice 10), as under `npm start`.

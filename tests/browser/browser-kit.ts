@@ -39,10 +39,16 @@ export function launchChromium(): Promise<Browser> {
   });
 }
 
-/** A fresh context (no cookies) and page; collects uncaught page errors so a test can assert none happened. */
-export async function freshPage(browser: Browser, viewport = { width: 1280, height: 800 }) {
-  // bypassCSP lets a test inject axe-core; the app's own scripts still load as they would.
-  const context = await browser.newContext({ baseURL: baseUrl(), viewport, bypassCSP: true });
+/**
+ * A fresh context (no cookies) and page; collects uncaught page errors so a test can assert none happened.
+ * `bypassCSP` lets an injected checker (axe-core) past the app's Content-Security-Policy.
+ */
+export async function freshPage(
+  browser: Browser,
+  viewport = { width: 1280, height: 800 },
+  bypassCSP = false,
+) {
+  const context = await browser.newContext({ baseURL: baseUrl(), viewport, bypassCSP });
   const page = await context.newPage();
   const pageErrors: string[] = [];
   page.on('pageerror', (error) => pageErrors.push(error.message));

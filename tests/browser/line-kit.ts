@@ -18,7 +18,12 @@ export async function apiSession(username: string, password: string) {
   const call = async <T>(method: string, path: string, body?: unknown): Promise<T> => {
     const r = await fetch(`${baseUrl()}${path}`, {
       method,
-      headers: { cookie, ...(body === undefined ? {} : { 'content-type': 'application/json' }) },
+      // The origin a page of this server would send: cookie requests from elsewhere are refused.
+      headers: {
+        cookie,
+        origin: baseUrl(),
+        ...(body === undefined ? {} : { 'content-type': 'application/json' }),
+      },
       body: body === undefined ? undefined : JSON.stringify(body),
     });
     if (!r.ok) throw new Error(`${method} ${path} answered ${r.status}: ${await r.text()}`);

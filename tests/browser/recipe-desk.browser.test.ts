@@ -9,7 +9,7 @@ describe('the recipe desk on the demo line', () => {
     const browser = await launchChromium();
     try {
       // An engineer copies the version in force of the first model and narrows its offset window.
-      const evan = await freshPage(browser, { width: 1440, height: 900 });
+      const evan = await freshPage(browser, { width: 1440, height: 900 }, true);
       const p = evan.page;
       await signInWithPassword(p, DEMO.engineer.username, DEMO.engineer.password);
       await p.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Recipes' }).click();
@@ -57,7 +57,7 @@ describe('the recipe desk on the demo line', () => {
       await evan.context.close();
 
       // A second engineer approves it: it is in force from now on.
-      const rosa = await freshPage(browser, { width: 1440, height: 900 });
+      const rosa = await freshPage(browser, { width: 1440, height: 900 }, true);
       await signInWithPassword(rosa.page, DEMO.engineer2.username, DEMO.engineer2.password);
       await rosa.page.goto(`/recipes/versions/${recipeId}/review`);
       await rosa.page.getByTestId('what-if-summary').waitFor();

@@ -24,7 +24,7 @@ async function main() {
     );
   };
   try {
-    const evan = await freshPage(browser, { width: 1440, height: 900 });
+    const evan = await freshPage(browser, { width: 1440, height: 900 }, true);
     const p = evan.page;
     await signInWithPassword(p, DEMO.engineer.username, DEMO.engineer.password);
     await p.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Recipes' }).click();
@@ -65,14 +65,14 @@ async function main() {
     const reviewUrl = p.url();
     await evan.context.close();
 
-    const rosa = await freshPage(browser, { width: 1440, height: 900 });
+    const rosa = await freshPage(browser, { width: 1440, height: 900 }, true);
     await signInWithPassword(rosa.page, DEMO.engineer2.username, DEMO.engineer2.password);
     await rosa.page.goto(reviewUrl);
     await rosa.page.getByRole('button', { name: 'Approve and release' }).waitFor();
     await shot(rosa.page, 'recipes-review-reviewer');
     await rosa.context.close();
 
-    const quinn = await freshPage(browser, { width: 1280, height: 800 });
+    const quinn = await freshPage(browser, { width: 1280, height: 800 }, true);
     await signInWithPassword(quinn.page, DEMO.quality.username, DEMO.quality.password);
     await quinn.page.goto('/recipes');
     await quinn.page.getByRole('table', { name: 'Motor models' }).waitFor();

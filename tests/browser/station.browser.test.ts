@@ -172,11 +172,93 @@ describe('the station screen', { timeout: 90_000 }, () => {
       .getByRole('button', { name: new RegExp(bench.model.code) })
       .click();
     await page.getByTestId('unit-card').waitFor();
-    await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 12, 'large-offset').measurement);
+    // Just outside the offset window: a fail that a retest may mend.
+    const near = bench.model.activeRecipe!.body.limits.offsetDeg[1] + 3;
+    await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 12, 'none', near).measurement);
     await page.getByTestId('verdict').waitFor({ timeout: 20_000 });
     expect(await page.getByTestId('verdict').getAttribute('data-verdict')).toBe('fail');
     expect(await page.getByTestId('failed-checks').count()).toBe(1);
     expect(await check()).toEqual([]);
+    await context.close();
+  });
+
+  it('clears the last verdict at once when a scan is refused, and shows the refusal as large as a verdict', async () => {
+    const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
+    await openBench(page);
+    const serial = freshSerial();
+    await scan(page, serial);
+    await page.getByTestId('unit-unknown').waitFor();
+    await page.keyboard.press('F2');
+    await page
+      .getByRole('dialog')
+      .getByRole('button', { name: new RegExp(bench.model.code) })
+      .click();
+    await page.getByTestId('unit-card').waitFor();
+    await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 61).measurement);
+    await page.locator('[data-verdict="pass"]').waitFor({ timeout: 20_000 });
+
+    await scan(page, 'X!');
+    const refused = page.getByTestId('scan-refused');
+    await refused.waitFor();
+    expect(await page.getByTestId('verdict').count()).toBe(0);
+    expect(await page.getByTestId('unit-card').count()).toBe(0);
+    const titleSize = await refused
+      .getByRole('heading')
+      .evaluate((el) => parseFloat(getComputedStyle(el).fontSize));
+    const verdictSize = 6.5 * 17; // the live verdict's word: 6.5 rem at the 17 px root
+    expect(titleSize).toBeGreaterThanOrEqual(verdictSize * 0.8);
+    expect(await refused.locator('svg').count()).toBeGreaterThan(0); // a shape, not colour alone
+
+    // Scanning the measured unit again shows its result as dated history, not as a live verdict.
+    await scan(page, serial);
+    const history = page.getByTestId('history-result');
+    await history.waitFor();
+    expect(await page.getByTestId('verdict').count()).toBe(0);
+    expect(await page.getByTestId('history-when').textContent()).toMatch(/measured .+ at /);
+    expect(await page.getByTestId('history-attempt').textContent()).toMatch(/attempt 1 of \d/);
+    expect(await page.getByTestId('live-waiting').textContent()).toMatch(/has not measured this unit/);
+    await context.close();
+  });
+
+  it('shows a unit a dead sensor put on hold in its own full-width state above the fold, with no programming step', async () => {
+    const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
+    await openBench(page);
+    const serial = freshSerial();
+    await scan(page, serial);
+    await page.getByTestId('unit-unknown').waitFor();
+    await page.keyboard.press('F2');
+    await page
+      .getByRole('dialog')
+      .getByRole('button', { name: new RegExp(bench.model.code) })
+      .click();
+    await page.getByTestId('unit-card').waitFor();
+    await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 62, 'dead-sensor').measurement);
+    const hold = page.getByTestId('hold-state');
+    await hold.waitFor({ timeout: 20_000 });
+    // Not an ordinary FAIL: the hold state replaces the verdict, with the reason and what to do.
+    expect(await page.getByTestId('verdict').count()).toBe(0);
+    expect(await page.getByTestId('hold-reason').textContent()).toMatch(/repair/);
+    expect(await page.getByTestId('hold-action').textContent()).toMatch(/Do not retest/);
+    // Readable from two metres (at least 24 px) and above the fold at 1366 × 768.
+    for (const id of ['hold-reason', 'hold-action', 'next-action']) {
+      const size = await page.getByTestId(id).evaluate((el) => parseFloat(getComputedStyle(el).fontSize));
+      expect(size, id).toBeGreaterThanOrEqual(24);
+    }
+    const box = await page.getByTestId('hold-reason').boundingBox();
+    expect((box?.y ?? 9999) + (box?.height ?? 0)).toBeLessThanOrEqual(768);
+    expect(await page.getByTestId('programming').count()).toBe(0);
+    expect(await page.getByTestId('no-programming').textContent()).toMatch(/Do not program/);
+
+    // Its traveler is printed only after a confirmation, as a hold traveler.
+    await page.keyboard.press('F8');
+    const confirm = page.getByTestId('confirm-print');
+    await confirm.waitFor();
+    const popup = context.waitForEvent('page');
+    await confirm.getByRole('button', { name: 'Print ON HOLD traveler' }).click();
+    await (await popup).close();
+    const href = (await page.getByTestId('print-link').getAttribute('href')) ?? '';
+    const pdf = await page.request.get(href);
+    expect(pdf.status()).toBe(200);
     await context.close();
   });
 });

@@ -1,8 +1,7 @@
 import pg from 'pg';
 import type { TestProject } from 'vitest/node';
 import { ensurePostgres } from '../../server/ops/pg-local.mjs';
-import { createDatabase } from '../../server/db/client';
-import { runMigrations } from '../../server/db/migrate';
+import { migrateDatabase } from '../../server/db/migrate';
 
 /** Databases of a run are named after the process that ran its global setup. */
 const runTag = `${process.pid}`;
@@ -20,6 +19,8 @@ function alive(pid: number): boolean {
 declare module 'vitest' {
   export interface ProvidedContext {
     databaseAdminUrl: string;
+    /** The app role on the test server (any database: the harness swaps the database name). */
+    databaseAppUrl: string;
     templateDatabase: string;
     runTag: string;
   }
@@ -27,7 +28,7 @@ declare module 'vitest' {
 
 /**
  * Starts (or reuses) the private test PostgreSQL and builds a template database with every
- * migration applied. Each test file then clones the template into a database of its own
+ * migration applied and the app role's privileges granted. Each test file then clones the template into a database of its own
  * (tests/harness/db.ts), so files never see each other's rows and run in parallel.
  */
 export default async function setup(project: TestProject): Promise<() => Promise<void>> {
@@ -45,13 +46,10 @@ export default async function setup(project: TestProject): Promise<() => Promise
   await admin.query(`create database "${TEMPLATE_DB}"`);
   const templateUrl = new URL(handle.adminUrl);
   templateUrl.pathname = `/${TEMPLATE_DB}`;
-  const database = createDatabase(templateUrl.toString(), { max: 1 });
-  try {
-    await runMigrations(database.db);
-  } finally {
-    await database.close();
-  }
+  // The template is migrated as the owner and its privileges granted to the app role; clones keep both.
+  await migrateDatabase(templateUrl.toString(), { appRole: handle.appRole });
   project.provide('databaseAdminUrl', handle.adminUrl);
+  project.provide('databaseAppUrl', handle.url);
   project.provide('templateDatabase', TEMPLATE_DB);
   project.provide('runTag', runTag);
   return async () => {

@@ -9,6 +9,12 @@ import { startJobQueue } from '../../jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
 import { createEventHub } from '../../server/modules/events/event-hub';
 
+/**
+ * The origin test requests claim (the test app's PUBLIC_URL). State-changing requests with a session
+ * cookie must name it, as a browser would, or the cross-site guard refuses them.
+ */
+export const TEST_ORIGIN = 'http://phasewright.test';
+
 export interface TestApp {
   app: ReturnType<typeof createApp>;
   deps: AppDeps;
@@ -23,17 +29,22 @@ export interface TestApp {
  * The real app on a private database, with the demo accounts, a real pg-boss queue and the local
  * fake mail server on free ports. Only the clock is controllable.
  */
-export async function createTestApp(opts: { seed?: boolean } = {}): Promise<TestApp> {
-  const database = await createTestDatabase();
+export async function createTestApp(
+  opts: { seed?: boolean; database?: TestDatabase } = {},
+): Promise<TestApp> {
+  // `database`: run on this one (e.g. a restored copy) instead of a fresh clone of the template.
+  const database = opts.database ?? (await createTestDatabase());
   const mail = await startFakeMailServer({});
   const env = parseEnv({
     NODE_ENV: 'test',
     DATABASE_URL: database.url,
     SMTP_URL: `smtp://127.0.0.1:${mail.smtpPort}`,
     MAILBOX_URL: `http://127.0.0.1:${mail.httpPort}`,
-    PUBLIC_URL: 'http://phasewright.test',
+    PUBLIC_URL: TEST_ORIGIN,
     LOG_LEVEL: 'silent',
     CLIENT_DIST: '/nonexistent',
+    // Tests stand in for many client addresses with X-Forwarded-For from loopback.
+    TRUST_PROXY: 'loopback',
   });
   if (opts.seed ?? true) await seedDemoAccounts(database.db, env.BCRYPT_COST);
   const queue = await startJobQueue(database.url, database.pool);

@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { route } from '../../lib/http';
-import { listAudit } from './audit.repository';
+import { auditEntries } from './audit.service';
 
 const querySchema = z.object({ limit: z.coerce.number().int().min(1).max(1000).default(200) });
 
@@ -14,8 +14,7 @@ export function auditRoutes(deps: AppDeps) {
       summary: 'Newest audit log entries',
       handler: async (req, res) => {
         const { limit } = querySchema.parse(req.query);
-        const rows = await listAudit(deps.db, limit);
-        res.json({ entries: rows.map((r) => ({ ...r, at: r.at.toISOString() })) });
+        res.json({ entries: await auditEntries(deps.db, limit) });
       },
     }),
   ];

@@ -1,20 +1,27 @@
 import { AppError } from '../../lib/errors';
 
+/** Minutes an account stays locked (kept here so the refusal can say it; see auth.service.ts). */
+export const LOCKOUT_MINUTES = 15;
+
 export const authErrors = {
-  badCredentials: () => new AppError(401, 'auth.bad_credentials', 'User name or password is wrong.'),
-  badBadge: () => new AppError(401, 'auth.bad_credentials', 'Badge or PIN is wrong.'),
+  // One answer for an unknown name, a wrong secret and a locked account, so a refusal reveals nothing.
+  badCredentials: () =>
+    new AppError(
+      401,
+      'auth.bad_credentials',
+      `User name or password is wrong, or the account is locked for ${LOCKOUT_MINUTES} minutes after repeated failed attempts.`,
+    ),
+  badBadge: () =>
+    new AppError(
+      401,
+      'auth.bad_credentials',
+      `Badge or PIN is wrong, or the account is locked for ${LOCKOUT_MINUTES} minutes after repeated failed attempts.`,
+    ),
   disabled: () =>
     new AppError(
       403,
       'auth.account_disabled',
       'This account is disabled. Ask an administrator to enable it.',
-    ),
-  locked: (until: Date) =>
-    new AppError(
-      423,
-      'auth.account_locked',
-      `Too many failed attempts: this account is locked until ${until.toISOString().slice(11, 16)} UTC. An administrator can unlock it sooner.`,
-      { lockedUntil: until.toISOString() },
     ),
   rateLimited: (retryAfterS: number) =>
     new AppError(

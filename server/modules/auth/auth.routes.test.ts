@@ -1,7 +1,7 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { sql } from 'drizzle-orm';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, type TestApp } from '../../../tests/harness/test-app';
 import { LOCKOUT_THRESHOLD } from './auth.service';
 import { IP_FAILURE_LIMIT } from './auth.routes';
 
@@ -41,7 +41,7 @@ describe('signing in with a password', () => {
     expect(cookie).toMatch(/HttpOnly/);
     expect(cookie).toMatch(/SameSite=Strict/);
     expect(cookie).toMatch(/Max-Age=43200/);
-    const me = await request(t.app).get('/api/me').set('Cookie', cookieOf(res));
+    const me = await request(t.app).get('/api/me').set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(res));
     expect(me.status).toBe(200);
     expect(me.body.user.username).toBe('evan.engineer');
   });
@@ -76,10 +76,11 @@ describe('signing in with a password', () => {
     for (let i = 1; i < LOCKOUT_THRESHOLD; i++)
       expect((await signIn('ada.admin', `wrong-${i}-password`, '10.9.1.1')).status).toBe(401);
     const locking = await signIn('ada.admin', 'wrong-last-password', '10.9.1.1');
-    expect(locking.status).toBe(423);
-    expect(locking.body.error.code).toBe('auth.account_locked');
+    expect(locking.status).toBe(401);
+    // A locked account answers exactly like a wrong password (a refusal reveals nothing).
     const right = await signIn('ada.admin', 'demo-admin-pass', '10.9.1.2');
-    expect(right.status).toBe(423);
+    expect(right.status).toBe(401);
+    expect(right.body).toEqual(locking.body);
     const [{ id }] = (await t.database.pool.query('select id from users where username = $1', ['ada.admin']))
       .rows;
     expect(await auditActions(id)).toEqual(
@@ -140,7 +141,7 @@ describe('sessions', () => {
   it('ends after 12 hours with a clear 401', async () => {
     const res = await signIn('evan.engineer', 'demo-engineer-pass', '10.9.3.1');
     t.setNow(new Date(Date.now() + 12 * 3_600_000 + 60_000));
-    const me = await request(t.app).get('/api/me').set('Cookie', cookieOf(res));
+    const me = await request(t.app).get('/api/me').set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(res));
     t.setNow(new Date());
     expect(me.status).toBe(401);
     expect(me.body.error.code).toBe('auth.session_expired');
@@ -154,28 +155,28 @@ describe('sessions', () => {
     ).rows;
     const noReason = await request(t.app)
       .patch(`/api/admin/users/${id}`)
-      .set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
       .send({ role: 'engineer' });
     expect(noReason.status).toBe(400);
     expect(noReason.body.error.code).toBe('users.reason_required');
     const changed = await request(t.app)
       .patch(`/api/admin/users/${id}`)
-      .set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
       .send({ role: 'engineer', reason: 'moved to process engineering' });
     expect(changed.status).toBe(200);
-    const me = await request(t.app).get('/api/me').set('Cookie', cookieOf(q));
+    const me = await request(t.app).get('/api/me').set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(q));
     expect(me.status).toBe(401);
     expect(me.body.error.code).toBe('auth.session_revoked');
     await request(t.app)
       .patch(`/api/admin/users/${id}`)
-      .set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
       .send({ role: 'quality', reason: 'back' });
   });
 
   it('rejects a forged token', async () => {
     const me = await request(t.app)
       .get('/api/me')
-      .set('Cookie', 'pw_session=eyJhbGciOiJIUzI1NiJ9.eyJzdWIiOiJ4In0.bad');
+      .set('Origin', TEST_ORIGIN).set('Cookie', 'pw_session=eyJhbGciOiJIUzI1NiJ9.eyJzdWIiOiJ4In0.bad');
     expect(me.status).toBe(401);
   });
 
@@ -184,7 +185,7 @@ describe('sessions', () => {
     const op = await request(t.app)
       .post('/api/auth/badge-sign-in')
       .send({ badgeCode: 'OP-1001', pin: '2468' });
-    const res = await request(t.app).get('/api/admin/users').set('Cookie', cookieOf(op));
+    const res = await request(t.app).get('/api/admin/users').set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(op));
     expect(res.status).toBe(403);
     expect(res.body.error.code).toBe('auth.forbidden');
   });
@@ -195,7 +196,7 @@ describe('invitations and password resets by e-mail', () => {
     const admin = await signIn('ada.admin', 'demo-admin-pass', '10.9.4.1');
     const created = await request(t.app)
       .post('/api/admin/users')
-      .set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
       .send({
         username: 'nia.new',
         displayName: 'Nia New',
@@ -250,7 +251,7 @@ describe('invitations and password resets by e-mail', () => {
     const before = (await t.database.db.execute(sql`select count(*)::int as n from users`)).rows[0];
     const res = await request(t.app)
       .post('/api/admin/users')
-      .set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
       .send({ username: 'Bad Name!', displayName: '', role: 'wizard', sendInvite: true });
     expect(res.status).toBe(400);
     expect(res.body.error.issues.map((i: { path: string }) => i.path)).toEqual(

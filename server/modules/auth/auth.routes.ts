@@ -1,6 +1,15 @@
 import type { Request } from 'express';
 import type { AppDeps } from '../../deps';
-import { clearSessionCookie, setSessionCookie, signSession } from '../../lib/auth';
+import { randomUUID } from 'node:crypto';
+import {
+  DEVICE_COOKIE,
+  clearSessionCookie,
+  setDeviceCookie,
+  setSessionCookie,
+  signDeviceToken,
+  signSession,
+  verifyDeviceToken,
+} from '../../lib/auth';
 import { route } from '../../lib/http';
 import {
   badgeSignInSchema,
@@ -12,8 +21,11 @@ import { insertAudit } from '../audit/audit.repository';
 import { findUserByEmail } from '../users/users.repository';
 import type { UserRecord } from '../users/users.table';
 import {
+  LOCKOUT_MINUTES,
+  LOCKOUT_THRESHOLD,
   completeLinkToken,
   requestPasswordReset,
+  revokeSessions,
   signInWithBadge,
   signInWithPassword,
   toSessionUser,
@@ -26,11 +38,36 @@ export const IP_FAILURE_LIMIT = 20;
 
 export function authRoutes(deps: AppDeps) {
   const throttle = new FailureThrottle(IP_FAILURE_LIMIT, 15 * 60_000);
-  const ctx = (req: Request): AuthContext => ({ db: deps.db, clock: deps.clock, throttle, ip: req.ip ?? '' });
-  const startSession = (res: Parameters<Parameters<typeof route>[0]['handler']>[1], user: UserRecord) => {
+  const deviceThrottle = new FailureThrottle(LOCKOUT_THRESHOLD, LOCKOUT_MINUTES * 60_000);
+  const ctx = (req: Request): AuthContext => ({
+    db: deps.db,
+    clock: deps.clock,
+    throttle,
+    deviceThrottle,
+    ip: req.ip ?? '',
+    device: verifyDeviceToken(
+      deps.env.SESSION_SECRET,
+      req.cookies?.[DEVICE_COOKIE] as string | undefined,
+      deps.clock(),
+    ),
+  });
+  const startSession = (
+    req: Request,
+    res: Parameters<Parameters<typeof route>[0]['handler']>[1],
+    user: UserRecord,
+  ) => {
+    const now = deps.clock();
     setSessionCookie(
       res,
-      signSession(deps.env.SESSION_SECRET, user.id, user.tokenVersion, deps.clock()),
+      signSession(deps.env.SESSION_SECRET, user.id, user.tokenVersion, now),
+      deps.env.COOKIE_SECURE,
+    );
+    // This browser is now a trusted device of this person (its id is kept when it already was).
+    const known = ctx(req).device;
+    const deviceId = known?.userId === user.id ? known.deviceId : randomUUID();
+    setDeviceCookie(
+      res,
+      signDeviceToken(deps.env.SESSION_SECRET, user.id, deviceId, now),
       deps.env.COOKIE_SECURE,
     );
     res.json({ user: toSessionUser(user) });
@@ -43,7 +80,7 @@ export function authRoutes(deps: AppDeps) {
       summary: 'Sign in with user name and password',
       handler: async (req, res) => {
         const { username, password } = passwordSignInSchema.parse(req.body);
-        startSession(res, await signInWithPassword(ctx(req), username, password));
+        startSession(req, res, await signInWithPassword(ctx(req), username, password));
       },
     }),
     route({
@@ -53,16 +90,18 @@ export function authRoutes(deps: AppDeps) {
       summary: 'Sign in at a station with badge code and PIN',
       handler: async (req, res) => {
         const { badgeCode, pin } = badgeSignInSchema.parse(req.body);
-        startSession(res, await signInWithBadge(ctx(req), badgeCode, pin));
+        startSession(req, res, await signInWithBadge(ctx(req), badgeCode, pin));
       },
     }),
     route({
       method: 'post',
       path: '/api/auth/sign-out',
       access: 'anyone',
-      summary: 'End this session',
+      summary: 'End this session (and every other session of the person: the token version moves on)',
       handler: async (req, res) => {
         if (req.user) {
+          // Server-side revocation: a copied session cookie stops working at once.
+          await revokeSessions(deps.db, req.user.id);
           await insertAudit(deps.db, {
             actorId: req.user.id,
             actorName: req.user.displayName,
@@ -113,7 +152,7 @@ export function authRoutes(deps: AppDeps) {
           bcryptCost: deps.env.BCRYPT_COST,
           ip: req.ip ?? '',
         });
-        startSession(res, user);
+        startSession(req, res, user);
       },
     }),
   ];

@@ -9,28 +9,46 @@ import {
   findUserByBadge,
   findUserById,
   findUserByUsername,
-  incrementFailedAttempts,
+  reserveSignInAttempt,
   updateUser,
 } from '../users/users.repository';
 import { users, type UserRecord } from '../users/users.table';
 import { authTokens } from './auth.table';
-import { authErrors } from './auth.errors';
+import { LOCKOUT_MINUTES, authErrors } from './auth.errors';
 import type { FailureThrottle } from './throttle';
 
-/** Consecutive failures that lock an account, and for how long. */
+/**
+ * Sign-in protection, after OWASP ASVS v4.0.3 §2.2.1 (anti-automation: soft lockout plus rate limiting,
+ * without letting an attacker lock the real owner out):
+ * - per client address: IP_FAILURE_LIMIT failed attempts in 15 minutes, then 429 for that address
+ *   (the address is the connection's, or X-Forwarded-For only behind a configured TRUST_PROXY);
+ * - per account: LOCKOUT_THRESHOLD consecutive failures lock the account for LOCKOUT_MINUTES for every
+ *   browser it has not been used from; attempts are counted atomically before the secret is checked;
+ * - per trusted device (OWASP "device cookies"): a browser where the person signed in successfully
+ *   carries a signed device cookie; the account lock does not apply to it, and it has its own
+ *   allowance of LOCKOUT_THRESHOLD failures per LOCKOUT_MINUTES. So a locked account, even every
+ *   administrator's, still opens on the owner's own browser, while guessers elsewhere stay locked out.
+ * Every refusal of a name or secret answers the same 401 with the same words and one bcrypt
+ * comparison, whether the account exists, the secret is wrong or the account is locked.
+ */
 export const LOCKOUT_THRESHOLD = 5;
-export const LOCKOUT_MINUTES = 15;
+export { LOCKOUT_MINUTES };
 export const INVITE_TTL_HOURS = 7 * 24;
 export const RESET_TTL_HOURS = 1;
 
-/** A bcrypt hash of a random string, compared against when the account does not exist (equal timing). */
+/** A bcrypt hash of a random string, compared against when there is nothing real to compare (equal timing). */
 const DUMMY_HASH = bcrypt.hashSync(randomBytes(16).toString('hex'), 10);
 
 export interface AuthContext {
   db: Db;
   clock: () => Date;
+  /** Failed attempts per client address. */
   throttle: FailureThrottle;
+  /** Failed attempts per trusted device (device cookie id). */
+  deviceThrottle: FailureThrottle;
   ip: string;
+  /** The browser's device cookie, when it carries a valid one: whose it is and its id. */
+  device?: { userId: string; deviceId: string };
 }
 
 export function toSessionUser(u: UserRecord): SessionUser {
@@ -42,9 +60,9 @@ export function hashSecret(secret: string, cost: number): Promise<string> {
 }
 
 /**
- * Checks one credential (password, or badge + PIN) and applies the rules: per-address throttle,
- * per-account lockout after LOCKOUT_THRESHOLD consecutive failures, disabled accounts refused only
- * after a correct secret (so a guess learns nothing). Every failure and lock is audited.
+ * Checks one credential (password, or badge + PIN) under the rules above. Disabled accounts are
+ * refused only after a correct secret (so a guess learns nothing). Every failure and lock is audited;
+ * `auth.sign_in_failed` is written exactly once per secret actually compared with the account's hash.
  */
 async function checkCredential(
   ctx: AuthContext,
@@ -55,7 +73,7 @@ async function checkCredential(
 ): Promise<UserRecord> {
   const now = ctx.clock();
   const wrong = kind === 'password' ? authErrors.badCredentials : authErrors.badBadge;
-  if (ctx.throttle.isBlocked(ctx.ip, now)) {
+  if (!ctx.throttle.reserve(ctx.ip, now)) {
     await insertAudit(ctx.db, {
       action: 'auth.rate_limited',
       subjectType: 'sign-in',
@@ -65,51 +83,62 @@ async function checkCredential(
     throw authErrors.rateLimited(ctx.throttle.retryAfterMs(ctx.ip, now) / 1000);
   }
   const hash = kind === 'password' ? user?.passwordHash : user?.pinHash;
-  if (user?.lockedUntil && user.lockedUntil > now) {
-    ctx.throttle.recordFailure(ctx.ip, now);
-    await insertAudit(ctx.db, {
-      action: 'auth.sign_in_refused_locked',
-      subjectType: 'user',
-      subjectId: user.id,
-      ip: ctx.ip,
-    });
-    throw authErrors.locked(user.lockedUntil);
-  }
-  const ok = await bcrypt.compare(secret, hash ?? DUMMY_HASH);
-  if (!ok || !user || !hash) {
-    ctx.throttle.recordFailure(ctx.ip, now);
-    if (!user) {
+  const deviceId = user && ctx.device?.userId === user.id ? ctx.device.deviceId : undefined;
+  const trusted = deviceId !== undefined && ctx.deviceThrottle.reserve(deviceId, now);
+
+  // Count the attempt against the account first (atomically); a locked account is not checked.
+  let reserved: { attempt: number; locks: boolean } | null = null;
+  if (user && hash && !trusted) {
+    reserved = await reserveSignInAttempt(
+      ctx.db,
+      user.id,
+      now,
+      LOCKOUT_THRESHOLD,
+      new Date(now.getTime() + LOCKOUT_MINUTES * 60_000),
+    );
+    if (!reserved) {
+      await bcrypt.compare(secret, DUMMY_HASH);
       await insertAudit(ctx.db, {
-        action: 'auth.sign_in_failed',
-        subjectType: 'sign-in',
-        subjectId: label,
+        action: 'auth.sign_in_refused_locked',
+        subjectType: 'user',
+        subjectId: user.id,
         ip: ctx.ip,
       });
       throw wrong();
     }
-    const failures = await incrementFailedAttempts(ctx.db, user.id);
+  }
+  const ok = await bcrypt.compare(secret, hash ?? DUMMY_HASH);
+  if (!ok || !user || !hash) {
+    if (!user || !hash) {
+      await insertAudit(ctx.db, {
+        action: 'auth.sign_in_failed',
+        subjectType: user ? 'user' : 'sign-in',
+        subjectId: user?.id ?? label,
+        ip: ctx.ip,
+      });
+      throw wrong();
+    }
     await insertAudit(ctx.db, {
       action: 'auth.sign_in_failed',
       subjectType: 'user',
       subjectId: user.id,
-      after: { failedAttempts: failures, method: kind },
+      after: { failedAttempts: reserved?.attempt ?? null, method: kind, trustedDevice: trusted },
       ip: ctx.ip,
     });
-    if (failures >= LOCKOUT_THRESHOLD) {
-      const until = new Date(now.getTime() + LOCKOUT_MINUTES * 60_000);
-      await updateUser(ctx.db, user.id, { lockedUntil: until });
+    if (reserved?.locks && reserved.attempt === LOCKOUT_THRESHOLD) {
       await insertAudit(ctx.db, {
         action: 'auth.account_locked',
         subjectType: 'user',
         subjectId: user.id,
-        reason: `${failures} failed sign-ins in a row`,
-        after: { lockedUntil: until.toISOString() },
+        reason: `${reserved.attempt} failed sign-ins in a row`,
+        after: { lockedUntil: new Date(now.getTime() + LOCKOUT_MINUTES * 60_000).toISOString() },
         ip: ctx.ip,
       });
-      throw authErrors.locked(until);
     }
     throw wrong();
   }
+  ctx.throttle.forgive(ctx.ip, now);
+  if (trusted) ctx.deviceThrottle.forgive(deviceId, now);
   if (user.disabled) {
     await insertAudit(ctx.db, {
       action: 'auth.sign_in_refused_disabled',
@@ -119,18 +148,21 @@ async function checkCredential(
     });
     throw authErrors.disabled();
   }
-  const signedIn = await updateUser(ctx.db, user.id, {
-    failedAttempts: 0,
-    lockedUntil: null,
-    lastSignInAt: now,
-  });
+  // A trusted device signs in past a lock without clearing it: the guessers elsewhere stay locked out.
+  const signedIn = await updateUser(
+    ctx.db,
+    user.id,
+    trusted && user.lockedUntil && user.lockedUntil > now
+      ? { lastSignInAt: now }
+      : { failedAttempts: 0, lockedUntil: null, lastSignInAt: now },
+  );
   await insertAudit(ctx.db, {
     actorId: user.id,
     actorName: user.displayName,
     action: 'auth.signed_in',
     subjectType: 'user',
     subjectId: user.id,
-    after: { method: kind },
+    after: { method: kind, trustedDevice: trusted },
     ip: ctx.ip,
   });
   return signedIn ?? user;
@@ -144,6 +176,11 @@ export async function signInWithPassword(ctx: AuthContext, username: string, pas
 export async function signInWithBadge(ctx: AuthContext, badgeCode: string, pin: string) {
   const user = await findUserByBadge(ctx.db, badgeCode);
   return checkCredential(ctx, 'badge', user, pin, `badge:${badgeCode.trim().toUpperCase()}`);
+}
+
+/** Ends every session of a person (sign-out): sessions carry the token version, which moves on. */
+export async function revokeSessions(db: DbOrTx, userId: string): Promise<void> {
+  await updateUser(db, userId, { tokenVersion: sql`${users.tokenVersion} + 1` });
 }
 
 /** Resolves a session token's subject to a live account: null when disabled or revoked. */

@@ -15,7 +15,7 @@ import {
   type LineContext,
 } from '../measurements/measurements.service';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { createStation, createStationKey } from '../stations/stations.service';
+import { createStation, createStationKey, isLiveStationKey, recordHeartbeat } from '../stations/stations.service';
 import { stationKeys, stations } from '../stations/stations.table';
 import { importUnits } from '../units/units.service';
 import { units } from '../units/units.table';
@@ -67,16 +67,6 @@ export interface SeedReport {
   ms: number;
 }
 
-/** Jobs the seed enqueues go behind every live job (pg-boss fetches higher priority first). */
-export const SEED_JOB_PRIORITY = -10;
-/**
- * The seed computes its measurements in-process with the simulated clock; the compute jobs it
- * enqueues wait this long before the worker may take them (by then they find their calibration and
- * stop, or, after a crash mid-seed, compute what the seed left), and the traveler renders wait until
- * the seed is done instead of competing with it for the two cores.
- */
-export const SEED_JOB_DELAY_SECONDS = 90;
-
 const DAY_MS = 86_400_000;
 const SHIFT_START_H = 6;
 const SHIFT_END_H = 22;
@@ -85,20 +75,27 @@ const MISMATCH_RATE = 0.002;
 const BAD_UNIT_RATE = 0.03;
 
 /**
- * The queue the seed hands to the line services: the same jobs in the same transactions, sent with
- * a low priority and a start delay (see SEED_JOB_DELAY_SECONDS), and without the wake-up NOTIFY.
+ * The queue the seed hands to the line services: it sends nothing. The seed computes every measurement
+ * in-process with its simulated clock, so a compute job would only find its calibration and stop, and
+ * the fortnight's travelers are rendered when someone first asks for one (see currentTraveler). Thousands
+ * of such jobs would keep the queue busy for minutes after the first start and look like a fault on the
+ * station panel; without them the line is steady when the seed ends. Event notifications the services
+ * attach to a job are still sent, in the caller's transaction.
  */
-export function deferredSeedQueue(queue: JobQueue, delaySeconds = SEED_JOB_DELAY_SECONDS): JobQueue {
+export function silentSeedQueue(queue: JobQueue): JobQueue {
   return {
     ...queue,
     async send(name, payload, opts) {
-      const def = queues[name];
-      return queue.boss.send(def.name, def.payload.parse(payload) as object, {
-        db: opts?.db,
-        singletonKey: opts?.singletonKey,
-        priority: SEED_JOB_PRIORITY,
-        startAfter: delaySeconds,
-      });
+      queues[name].payload.parse(payload);
+      const extra = opts?.notify ?? [];
+      if (extra.length > 0 && opts?.db) {
+        const text = `select ${extra.map((_, i) => `pg_notify($${2 * i + 1}, $${2 * i + 2})`).join(', ')}`;
+        await opts.db.executeSql(
+          text,
+          extra.flatMap((n) => [n.channel, n.payload]),
+        );
+      }
+      return null;
     },
   };
 }
@@ -317,9 +314,11 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
   }
 
   opts.onPhase?.('work-order import', performance.now() - t0);
-  const queue = deferredSeedQueue(deps.queue);
+  const queue = silentSeedQueue(deps.queue);
   const span = 14 * DAY_MS;
   let done = 0;
+  // The last moment each rig was on: its last measurement, plus the minutes it idles before the shift ends.
+  const lastSeen = new Map<string, number>();
   await inParallel(planned, opts.concurrency ?? 6, async (u) => {
     const rng = createRng((seed * 7919 + u.index * 104729) >>> 0);
     const principal = principals.get(u.station.name)!;
@@ -352,6 +351,14 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
         .from(calibrations)
         .where(eq(calibrations.id, calibrationId));
       if (cal.verdict !== 'unusable') attempts++;
+      if (cal.verdict === 'fail') {
+        // A failure a retest cannot mend puts the unit on hold at once: the operator stops there.
+        const [now] = await deps.db
+          .select({ status: units.status })
+          .from(units)
+          .where(eq(units.serial, u.serial));
+        if (now?.status === 'on_hold') break;
+      }
       if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
         const readBack =
           rng.next() < MISMATCH_RATE ? cal.offsetCounts + 1 + Math.floor(rng.next() * 40) : cal.offsetCounts;
@@ -365,10 +372,15 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
       // The operator reseats the unit and spins it again a few minutes later.
       t = computedAt + (4 + 5 * rng.next()) * 60_000;
     }
+    const idle = t + (1 + 4 * rng.next()) * 60_000;
+    lastSeen.set(principal.stationId, Math.max(lastSeen.get(principal.stationId) ?? 0, idle));
     done++;
     if (opts.onProgress && (done % 250 === 0 || done === planned.length))
       opts.onProgress(done, planned.length);
   });
+
+  // Rigs send heartbeats while they are on: leave each one's last heartbeat where its last shift ended.
+  for (const [stationId, at] of lastSeen) await recordHeartbeat(deps.db, stationId, new Date(at));
 
   return { ...(await seedCounts(deps.db)), seeded: true, ms: performance.now() - t0 };
 }
@@ -420,10 +432,16 @@ export interface DemoStationKey {
 }
 
 /**
- * A fresh key for the station the station simulator posts as. Keys are stored hashed, so every start
- * makes a new one; the previous demo keys of that station are revoked (audited) so they do not pile up.
+ * The key the station simulator posts as. A key it already holds (`keep`, read back from its key file)
+ * stays in use while it is a live key of the demo station, so restarts do not re-key the simulator;
+ * otherwise a fresh key is made (keys are stored hashed, so a lost key cannot be shown again) and the
+ * station's previous demo keys are revoked (audited) so they do not pile up.
  */
-export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStationKey> {
+export async function ensureDemoStationKey(
+  db: Db,
+  now: Date,
+  keep?: string,
+): Promise<DemoStationKey & { kept: boolean }> {
   const [station] = await db
     .select()
     .from(stations)
@@ -431,6 +449,9 @@ export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStati
   if (!station)
     throw new Error(`The demo station ${DEMO_SIM_STATION} does not exist: the demo line was not seeded.`);
   const [model] = await db.select().from(models).where(eq(models.id, station.allowedModelIds[0]));
+  if (keep && (await isLiveStationKey(db, station.id, keep))) {
+    return { stationId: station.id, stationName: station.name, modelCode: model.code, key: keep, kept: true };
+  }
   const revoked = await db
     .update(stationKeys)
     .set({ revokedAt: now })
@@ -452,5 +473,11 @@ export async function createDemoStationKey(db: Db, now: Date): Promise<DemoStati
     });
   }
   const key = await createStationKey(db, null, station.id, DEMO_KEY_LABEL);
-  return { stationId: station.id, stationName: station.name, modelCode: model.code, key: key.key };
+  return {
+    stationId: station.id,
+    stationName: station.name,
+    modelCode: model.code,
+    key: key.key,
+    kept: false,
+  };
 }

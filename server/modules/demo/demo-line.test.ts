@@ -15,7 +15,7 @@ import {
   demoStation,
   DEMO_HALL_BOARD_LOTS,
 } from './demo-line.scenario';
-import { createDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
+import { ensureDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
 
 const DAY_MS = 86_400_000;
 // A Thursday: the fortnight before it holds ten working days from Thursday to Wednesday.
@@ -64,7 +64,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await t?.close();
-});
+}, 180_000); // seeding 240 units through the line takes a while on a busy two-core machine
 
 const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
 
@@ -140,6 +140,39 @@ describe('the demo line seed', () => {
     expect(Math.abs(diff - shift)).toBeLessThan(1);
   });
 
+  it('leaves every rig that measured a last heartbeat at the end of its last run, and no job queued', async () => {
+    const seen = await t.deps.db
+      .select({
+        name: stations.name,
+        lastSeenAt: stations.lastSeenAt,
+        last: sql<Date>`max(${calibrations.computedAt})`,
+      })
+      .from(stations)
+      .innerJoin(calibrations, eq(calibrations.stationId, stations.id))
+      .groupBy(stations.name, stations.lastSeenAt);
+    expect(seen.length).toBeGreaterThan(0);
+    for (const s of seen) {
+      expect(s.lastSeenAt, s.name).not.toBeNull();
+      const after = s.lastSeenAt!.getTime() - new Date(s.last).getTime();
+      // A rig idles a few minutes after its last unit before the shift ends (the seed's own rule).
+      expect(after, s.name).toBeGreaterThan(0);
+      expect(after, s.name).toBeLessThan(10 * 60_000);
+    }
+    // History is seeded without jobs: the line is steady as soon as the seed ends.
+    const { rows } = await t.database.pool.query(
+      `select count(*)::int as n from pgboss.job where state in ('created', 'retry', 'active')`,
+    );
+    expect(rows[0].n).toBe(0);
+  });
+
+  it('never retests a unit that a failure sent to repair', async () => {
+    const { rows } = await t.database.pool.query(
+      `select u.serial, count(c.*)::int as n from units u join calibrations c on c.unit_id = u.id
+        where u.status = 'on_hold' and u.hold_reason like 'Sent to repair%' group by u.serial`,
+    );
+    for (const r of rows) expect(r.n, r.serial).toBe(1);
+  });
+
   it('adds nothing when run again', async () => {
     const again = await seedDemoLine(t.deps, { units: 240, now: NOW });
     expect(again.seeded).toBe(false);
@@ -149,11 +182,20 @@ describe('the demo line seed', () => {
     expect(c.n).toBe(first.calibrations.pass + first.calibrations.fail + first.calibrations.unusable);
   });
 
-  it('gives the simulator station a fresh key on every start and revokes the previous one', async () => {
-    const a = await createDemoStationKey(t.deps.db, new Date());
-    const b = await createDemoStationKey(t.deps.db, new Date());
+  it('keeps the simulator station key across starts while it is valid', async () => {
+    const a = await ensureDemoStationKey(t.deps.db, new Date());
+    const again = await ensureDemoStationKey(t.deps.db, new Date(), a.key);
     expect(a.stationName).toBe(DEMO_SIM_STATION);
-    expect(b.modelCode).toBe('CV-57B');
+    expect(again).toMatchObject({ key: a.key, kept: true, modelCode: 'CV-57B' });
+    const who = await authenticateStationKey(t.deps.db, a.key, new Date());
+    expect(who?.stationId).toBe(a.stationId);
+  });
+
+  it('gives the simulator station a fresh key when its key was lost or revoked, and revokes the old one', async () => {
+    const a = await ensureDemoStationKey(t.deps.db, new Date());
+    const b = await ensureDemoStationKey(t.deps.db, new Date(), 'pwsk_not-a-key-of-this-station');
+    expect(b.kept).toBe(false);
+    expect(b.key).not.toBe(a.key);
     expect(await authenticateStationKey(t.deps.db, a.key, new Date())).toBeNull();
     const who = await authenticateStationKey(t.deps.db, b.key, new Date());
     expect(who?.stationId).toBe(b.stationId);

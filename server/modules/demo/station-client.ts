@@ -24,13 +24,58 @@ interface ErrorBody {
   error?: { code?: string; message?: string };
 }
 
+/** Statuses a station retries: the server or its database is restarting, or a proxy in between is. */
+const RETRYABLE = new Set([500, 502, 503, 504]);
+
+export interface StationRetryPolicy {
+  /** How long one call keeps retrying before it gives up (0 = no retries). */
+  retryForMs: number;
+  /** First pause between tries; it doubles up to `maxDelayMs`. */
+  firstDelayMs: number;
+  maxDelayMs: number;
+}
+
+/**
+ * A station retries every call that got no answer or a 5xx, with a growing pause, for a while
+ * (a minute by default): posting the same measurement again is safe (the same id with the same body
+ * stores nothing new and answers as the first time), so a restart of the server, the worker or the
+ * database costs a station a delay, never a unit. Answers a retry cannot change (4xx) are not retried.
+ */
+export const DEFAULT_STATION_RETRY: StationRetryPolicy = {
+  retryForMs: 60_000,
+  firstDelayMs: 250,
+  maxDelayMs: 4000,
+};
+
 export class StationHttp {
+  /** Calls that were tried again at least once (a count for reports). */
+  retries = 0;
+
   constructor(
     readonly baseUrl: string,
     private readonly key: string,
+    private readonly retry: StationRetryPolicy = DEFAULT_STATION_RETRY,
   ) {}
 
   private async call<T>(method: string, path: string, body?: unknown, timeoutMs = 35_000): Promise<T> {
+    const giveUpAt = Date.now() + this.retry.retryForMs;
+    let delay = this.retry.firstDelayMs;
+    let retried = false;
+    for (;;) {
+      try {
+        return await this.once<T>(method, path, body, timeoutMs);
+      } catch (e) {
+        const retryable = e instanceof StationHttpError && (e.status === null || RETRYABLE.has(e.status));
+        if (!retryable || Date.now() + delay > giveUpAt) throw e;
+        if (!retried) this.retries++;
+        retried = true;
+        await new Promise((r) => setTimeout(r, delay));
+        delay = Math.min(this.retry.maxDelayMs, delay * 2);
+      }
+    }
+  }
+
+  private async once<T>(method: string, path: string, body: unknown, timeoutMs: number): Promise<T> {
     let res: Response;
     try {
       res = await fetch(new URL(path, this.baseUrl), {
@@ -114,6 +159,8 @@ export interface StationSimOptions {
   /** Share of units with a fault (default 3 %). */
   badRate?: number;
   serialPrefix: string;
+  /** How long to wait for a posted measurement's result before counting the unit as lost (default 30 s). */
+  resultTimeoutMs?: number;
   /** Stop starting new posts once this many have been made by all simulators sharing `budget`. */
   budget?: { left: number };
   onError?: (message: string) => void;
@@ -179,8 +226,9 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
         const t0 = performance.now();
         const accepted = await o.http.post(m);
         report.posted++;
-        const cal = await o.http.result(accepted.resultUrl);
-        if (!cal) throw new StationHttpError(`${serial}: no result within 30 s`, null, null);
+        const waitMs = o.resultTimeoutMs ?? 30_000;
+        const cal = await o.http.result(accepted.resultUrl, waitMs);
+        if (!cal) throw new StationHttpError(`${serial}: no result within ${waitMs / 1000} s`, null, null);
         report.latenciesMs.push(performance.now() - t0);
         if (cal.verdict === 'unusable') continue;
         gotResult = true;

@@ -50,11 +50,15 @@ export function createEventHub(url: string, logger: Logger): EventHub {
       const whatIf = whatIfProgressSchema.safeParse(payload);
       if (whatIf.success) emitter.emit('whatif', whatIf.data);
     });
+    // A dying connection can report more than one error: reconnect once per connection.
+    let lost = false;
     c.on('error', (err) => {
+      if (lost) return;
+      lost = true;
       logger.warn({ err: err.message }, 'event connection lost; reconnecting');
-      client = null;
+      if (client === c) client = null;
       c.end().catch(() => {});
-      setTimeout(() => void connect(), 500);
+      if (!closed) setTimeout(() => void connect(), 500);
     });
     try {
       await c.connect();
@@ -62,6 +66,8 @@ export function createEventHub(url: string, logger: Logger): EventHub {
       client = c;
       resolveReady();
     } catch (err) {
+      if (lost) return; // the error handler already scheduled the reconnection
+      lost = true;
       logger.warn({ err: (err as Error).message }, 'event connection failed; retrying');
       c.end().catch(() => {});
       setTimeout(() => void connect(), 1000);

@@ -1,11 +1,13 @@
 import { AppError } from '../../lib/errors';
 
 export const measurementErrors = {
+  // One answer for every reuse of an id that is not a repeat of this station's own upload: it says
+  // neither whose the id is nor what it holds (see the decision log, "measurement ids").
   idConflict: (id: string) =>
     new AppError(
       409,
       'measurements.id_conflict',
-      `Measurement id "${id}" was already used for a different body. Use a new id for a new measurement.`,
+      `Measurement id "${id}" cannot be used for this upload. Give every new measurement a new id (a random UUID).`,
     ),
   unknownSerial: (serial: string) =>
     new AppError(

@@ -1,6 +1,6 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import type { Recipe } from '../../../shared/schemas/recipe';
@@ -102,6 +102,36 @@ describe('posting a measurement', () => {
     expect(rows).toEqual([{ serial: 'SN-CONFLICT' }]);
   });
 
+  it('answers another station that reuses an id exactly like any id reuse, revealing nothing of the record', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-ID-OWNER');
+    expect((await post(line.key, m)).status).toBe(202);
+    // The same station repeating itself gets the same answer (idempotency).
+    const repeat = await post(line.key, m);
+    expect(repeat.status).toBe(202);
+    expect(repeat.body).toMatchObject({ measurementId: m.measurementId, repeated: true });
+    // Another station, same body or its own body for one of its units: the answer any reuse gets.
+    const sameBody = await post(other.key, m);
+    const ownBody = await post(
+      other.key,
+      simulatedMeasurement(other.recipe.body, 'SN-ID-PROBE', { measurementId: m.measurementId }),
+    );
+    const changedHere = await post(line.key, { ...m, serial: 'SN-ID-OWNER-2' });
+    for (const res of [sameBody, ownBody, changedHere]) {
+      expect(res.status).toBe(409);
+      expect(res.body).toEqual(changedHere.body);
+    }
+    expect(JSON.stringify(sameBody.body)).not.toMatch(/SN-ID-OWNER|different|already|EOL-/);
+    // Nor does the result URL tell another station that the id exists.
+    const foreign = await request(t.app)
+      .get(`/api/station/measurements/${m.measurementId}/result`)
+      .set('X-Station-Key', other.key);
+    const none = await request(t.app)
+      .get('/api/station/measurements/no-such-id/result')
+      .set('X-Station-Key', other.key);
+    expect(foreign.status).toBe(404);
+    expect(foreign.body.error.code).toBe(none.body.error.code);
+  });
+
   it('stores exactly one measurement when two posts of the same id race on two connections', async () => {
     for (let round = 0; round < 5; round++) {
       const m = simulatedMeasurement(recipe, `SN-RACE-${round}`, { seed: round });
@@ -160,13 +190,13 @@ describe('posting a measurement', () => {
     const cookie = (admin.headers['set-cookie'] as unknown as string[])[0].split(';')[0];
     const created = await request(t.app)
       .post(`/api/admin/stations/${line.station.id}/keys`)
-      .set('Cookie', cookie)
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookie)
       .send({ label: 'rotation' });
     expect(created.status).toBe(201);
     expect((await post(created.body.key, simulatedMeasurement(recipe, 'SN-KEY-2'))).status).toBe(202);
     const revoked = await request(t.app)
       .post(`/api/admin/stations/${line.station.id}/keys/${created.body.id}/revoke`)
-      .set('Cookie', cookie);
+      .set('Origin', TEST_ORIGIN).set('Cookie', cookie);
     expect(revoked.status).toBe(204);
     const after = await post(created.body.key, simulatedMeasurement(recipe, 'SN-KEY-3'));
     expect(after.status).toBe(401);
@@ -220,7 +250,7 @@ describe('results', () => {
     expect(cal.offsetCounts).toBe(Math.round((cal.offsetDeg / 360) * 65536));
     const unit = await request(t.app)
       .get('/api/units/SN-RESULT')
-      .set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
+      .set('Origin', TEST_ORIGIN).set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
     expect(unit.body.unit).toMatchObject({
       status: 'calibrated',
       currentOffsetCounts: cal.offsetCounts,
@@ -294,10 +324,27 @@ describe('results', () => {
     expect(after.body.calibration.programming.status).toBe('mismatch');
   });
 
+  it('sends a unit whose offset is far outside its limits to repair at once instead of retesting it', async () => {
+    // 40° against a ±15° window is 25° out, more than a quarter of the window: built into the unit.
+    const m = simulatedMeasurement(recipe, 'SN-FAR', { offsetDeg: 40, seed: 77 });
+    expect((await post(line.key, m)).status).toBe(202);
+    await computeQueued(m.measurementId);
+    const { rows } = await t.database.pool.query(
+      `select status, attempts, hold_reason from units where serial = 'SN-FAR'`,
+    );
+    expect(rows[0]).toMatchObject({ status: 'on_hold', attempts: 1 });
+    expect(rows[0].hold_reason).toMatch(/repair/);
+    const view = await request(t.app)
+      .get('/api/units/SN-FAR')
+      .set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
+    expect(view.body.calibrations[0].nextAction).toMatch(/^Do not retest: the offset is far outside/);
+    expect(view.body.calibrations[0].nextAction).not.toMatch(/Retest|reseat/);
+  });
+
   it("puts a unit on hold after the recipe's maximum failed attempts and refuses further measurements", async () => {
-    // Offset 40° is outside the test recipe's ±15° window: a unit failure, not unusable input.
+    // Offset 18° is just outside the test recipe's ±15° window: a unit failure a retest may mend.
     for (let i = 1; i <= recipe.maxAttempts; i++) {
-      const m = simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 40, seed: 100 + i });
+      const m = simulatedMeasurement(recipe, 'SN-HOLD', { offsetDeg: 18, seed: 100 + i });
       expect((await post(line.key, m)).status).toBe(202);
       await computeQueued(m.measurementId);
     }
@@ -308,7 +355,7 @@ describe('results', () => {
     expect(rows[0].hold_reason).toMatch(/3 calibration attempts/);
     const view = await request(t.app)
       .get('/api/units/SN-HOLD')
-      .set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
+      .set('Origin', TEST_ORIGIN).set('Cookie', await cookieOf('olga.operator', 'demo-operator-pass'));
     expect(view.body.calibrations[0].nextAction).toMatch(/No attempts left \(3 of 3\).*on hold/);
     expect(view.body.calibrations[1].nextAction).toMatch(/attempt 3 of 3/);
     const refused = await post(
@@ -326,8 +373,12 @@ describe('records that must not change', () => {
     await post(line.key, m);
     await computeQueued(m.measurementId);
     for (const table of ['measurements', 'calibrations']) {
-      await expect(t.database.pool.query(`update ${table} set id = id`)).rejects.toThrow(/append-only/);
-      await expect(t.database.pool.query(`delete from ${table}`)).rejects.toThrow(/append-only/);
+      // The triggers refuse even the owner role; the app role has no UPDATE or DELETE at all.
+      const owner = t.database.ownerPool();
+      await expect(owner.query(`update ${table} set id = id`)).rejects.toThrow(/append-only/);
+      await expect(owner.query(`delete from ${table}`)).rejects.toThrow(/append-only/);
+      await expect(t.database.pool.query(`update ${table} set id = id`)).rejects.toThrow(/permission denied/);
+      await expect(t.database.pool.query(`delete from ${table}`)).rejects.toThrow(/permission denied/);
     }
   });
 
@@ -337,8 +388,9 @@ describe('records that must not change', () => {
         line.recipe.id,
       ]),
     ).rejects.toThrow(/immutable/);
+    // Deleting is refused by the trigger even for the owner role (the app role may not delete recipes).
     await expect(
-      t.database.pool.query('delete from recipes where id = $1', [line.recipe.id]),
+      t.database.ownerPool().query('delete from recipes where id = $1', [line.recipe.id]),
     ).rejects.toThrow(/cannot be deleted/);
   });
 });
@@ -411,7 +463,7 @@ describe('recomputation by an engineer', () => {
     const engineer = await cookieOf('evan.engineer', 'demo-engineer-pass');
     const asked = await request(t.app)
       .post(`/api/measurements/${m.measurementId}/recompute`)
-      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
       .send({ recipeId: v2[0].id, reason: 'what if the window were ±2°' });
     expect(asked.status).toBe(202);
     expect(asked.body).toMatchObject({ status: 'queued', recipe: { version: 2 } });
@@ -422,7 +474,7 @@ describe('recomputation by an engineer', () => {
     await computeCalibration(ctxNow, jobs[0].data);
     await computeCalibration(ctxNow, jobs[0].data); // a retry adds nothing
 
-    const unit = await request(t.app).get('/api/units/SN-RECOMPUTE').set('Cookie', engineer);
+    const unit = await request(t.app).get('/api/units/SN-RECOMPUTE').set('Origin', TEST_ORIGIN).set('Cookie', engineer);
     const purposes = unit.body.calibrations.map(
       (c: { purpose: string; verdict: string }) => `${c.purpose}:${c.verdict}`,
     );
@@ -435,7 +487,7 @@ describe('recomputation by an engineer', () => {
 
     const again = await request(t.app)
       .post(`/api/measurements/${m.measurementId}/recompute`)
-      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
       .send({ recipeId: v2[0].id, reason: 'once more' });
     expect(again.status).toBe(200);
     expect(again.body.status).toBe('computed');
@@ -451,7 +503,7 @@ describe('recomputation by an engineer', () => {
     const engineer = await cookieOf('evan.engineer', 'demo-engineer-pass');
     const res = await request(t.app)
       .post(`/api/measurements/${m.measurementId}/recompute`)
-      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
       .send({ recipeId: other.recipe.id, reason: 'wrong model' });
     expect(res.status).toBe(422);
     expect(res.body.error.code).toBe('recipes.not_usable');

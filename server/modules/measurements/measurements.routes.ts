@@ -6,7 +6,8 @@ import {
   recomputeSchema,
   resultQuerySchema,
 } from '../../../shared/schemas/line';
-import { measurementSchema } from '../../../shared/schemas/measurement';
+import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/measurement';
+import { serialSchema } from '../../../shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
 import { notifyLineEvent } from '../events/event-hub';
 import multer from 'multer';
@@ -27,12 +28,12 @@ const captureUpload = multer({
   limits: { fileSize: CAPTURE_LIMIT_BYTES, files: 1, fields: 10 },
 });
 const captureFields = z.object({
-  measurementId: z.string().min(1).max(200),
-  serial: z.string().min(1).max(200),
+  measurementId: measurementIdSchema,
+  serial: serialSchema,
   direction: z.enum(['forward', 'reverse']).optional(),
 });
 
-const idParams = z.object({ measurementId: z.string().min(1).max(200) });
+const idParams = z.object({ measurementId: measurementIdSchema });
 
 /** The station protocol: what a test station's software calls with its own key. */
 export function measurementsRoutes(deps: AppDeps) {
@@ -70,11 +71,11 @@ export function measurementsRoutes(deps: AppDeps) {
         const fields = captureFields.parse(req.body ?? {});
         if (!req.file)
           throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
-        const csv = req.file.buffer.toString('utf8');
-        const measurement = await measurementFromCapture(ctx, req.station!, fields, csv);
+        // The bytes are parsed as they are; the text is made only for a capture worth storing.
+        const measurement = await measurementFromCapture(ctx, req.station!, fields, req.file.buffer);
         const accepted = await acceptMeasurement(ctx, req.station!, measurement, {
           source: 'capture',
-          raw: csv,
+          raw: req.file.buffer.toString('utf8'),
         });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)

@@ -20,9 +20,11 @@ import {
   ENGINE_VERSION,
   validateCalibrationInput,
 } from '../../../shared/calibration';
-import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import type { CalibrationResult, Check } from '../../../shared/schemas/calibration-result';
+import { failureStep, repairHoldReason } from '../../../shared/calibration/check-guide';
 import { calibrateCapture, captureSignals, captureToMeasurement } from '../../../shared/capture/capture';
 import { parseNumericCsv } from '../../../shared/capture/csv';
+import { normaliseSerial } from '../../../shared/schemas/serial';
 import { insertAudit } from '../audit/audit.repository';
 import { models, recipes, type RecipeRecord } from '../recipes/recipes.table';
 import { releasedRecipe } from '../recipes/recipes.repository';
@@ -150,7 +152,8 @@ export async function acceptMeasurement(
 
   // One round trip gathers everything the rules need: a repeat of this id, the station, the unit
   // (if known) and its model (or the station's only model).
-  const serialKey = measurement.serial.trim().toUpperCase();
+  // The schema normalised the serial (trimmed, ASCII, upper-case): it is the unit's key as it is.
+  const serialKey = measurement.serial;
   const { rows } = await ctx.pool.query<IntakeContext>(
     prepared(
       `select s.name as station_name, s.allowed_model_ids, s.attended_by,
@@ -189,7 +192,7 @@ export async function acceptMeasurement(
       // First sight of this serial at a single-model station: register it now.
       [unit] = await tx
         .insert(units)
-        .values({ serial: measurement.serial.trim(), modelId: c.model_id })
+        .values({ serial: serialKey, modelId: c.model_id })
         .onConflictDoNothing()
         .returning({ id: units.id, serial: units.serial });
       unit ??= (
@@ -198,6 +201,7 @@ export async function acceptMeasurement(
           .from(units)
           .where(sql`upper(${units.serial}) = ${serialKey}`)
       )[0];
+      if (!unit) throw new Error(`unit ${serialKey} neither inserted nor found`);
     }
     const { rows: insertedRows } = await client.query<{
       id: string;
@@ -276,7 +280,7 @@ export async function measurementFromCapture(
   ctx: LineContext,
   station: StationPrincipal,
   fields: { measurementId: string; serial: string; direction?: 'forward' | 'reverse' },
-  csvText: string,
+  csvText: string | Uint8Array,
 ): Promise<Measurement> {
   const recipe = await recipeForSerial(ctx.db, station.stationId, fields.serial);
   try {
@@ -293,7 +297,7 @@ async function recipeForSerial(db: Db, stationId: string, serial: string) {
   const [unit] = await db
     .select()
     .from(units)
-    .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`);
+    .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`);
   if (!unit && stationRow.allowedModelIds.length !== 1) throw measurementErrors.unknownSerial(serial);
   const [model] = await db
     .select()
@@ -307,25 +311,35 @@ async function recipeForSerial(db: Db, stationId: string, serial: string) {
 }
 
 /**
- * Operator wording for what to do next with the unit after this calibration. A fail that used the
- * recipe's last attempt is the retest policy's hold; `unitHoldReason` is any hold the unit is under now.
+ * Operator wording for what to do next with the unit after this calibration. The failed checks pick
+ * the step from the one table in shared/calibration/check-guide.ts: a retest only where a retest can
+ * help, repair at once where it cannot. A fail that used the recipe's last attempt is the retest
+ * policy's hold; `unitHoldReason` is any hold the unit is under now.
  */
 export function nextActionFor(
   verdict: 'pass' | 'fail' | 'unusable',
   attempt: number | null,
   maxAttempts: number,
   unitHoldReason: string | null,
+  checks: readonly Check[] = [],
 ): string {
   if (verdict === 'unusable')
     return 'The station data could not be used (not a unit failure): run the measurement again.';
-  if (verdict === 'pass')
+  if (verdict === 'pass') {
+    if (unitHoldReason)
+      return `The unit is on hold (${unitHoldReason}): do not program or ship it. Tag it and put it in the hold area for quality.`;
     return 'Program the offset, let the station confirm it, print the traveler and send the unit on.';
+  }
+  const step = failureStep(checks);
+  if (step?.remedy === 'repair') return `${step.action} The unit is on hold until quality releases it.`;
   if ((attempt ?? 0) >= maxAttempts) {
     return `No attempts left (${attempt} of ${maxAttempts}): the unit is on hold. Tag it and put it in the hold area for quality.`;
   }
   if (unitHoldReason)
     return `The unit is on hold (${unitHoldReason}): tag it and put it in the hold area for quality.`;
-  return `Retest: reseat the unit and check the coupling, then spin it again (attempt ${(attempt ?? 0) + 1} of ${maxAttempts}).`;
+  const retest = `attempt ${(attempt ?? 0) + 1} of ${maxAttempts}`;
+  if (step?.remedy === 'station') return `${step.action} (${retest})`;
+  return `Retest (${retest}): ${step?.action ?? 'reseat the unit and check the coupling, then spin it again.'}`;
 }
 
 /**
@@ -394,7 +408,9 @@ export async function computeCalibration(
     const unit = unitRows[0];
     const counts = verdict !== 'unusable';
     const attempt = counts ? unit.attempts + 1 : null;
-    const next = counts ? nextUnitState(verdict as 'pass' | 'fail', unit.attempts, recipe) : null;
+    const next = counts
+      ? nextUnitState(verdict as 'pass' | 'fail', unit.attempts, recipe, result?.checks ?? [])
+      : null;
     // Calibration, unit status and the commit event in one statement; nothing changes if this
     // (measurement, recipe) pair was computed meanwhile.
     const { rows: inserted } = await client.query<{ id: string }>(
@@ -477,6 +493,13 @@ export async function computeCalibration(
       await ctx.queue.send(
         'travelerRender',
         { calibrationId },
+        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
+      );
+      // The watched control charts of this station and model take the new offset in (picked up at the
+      // worker's next poll, within 2 s: alerts need no millisecond wake-up).
+      await ctx.queue.send(
+        'chartWatch',
+        { stationId: measurement.station_id, modelId: recipe.modelId },
         { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
       );
     }
@@ -649,9 +672,14 @@ export function nextUnitState(
   verdict: 'pass' | 'fail',
   attemptsBefore: number,
   recipe: Pick<RecipeRecord, 'version' | 'body'>,
+  checks: readonly Check[] = [],
 ): { attempts: number; status: UnitRecord['status']; holdReason: string | null } {
   const attempts = attemptsBefore + 1;
   if (verdict === 'pass') return { attempts, status: 'calibrated', holdReason: null };
+  // A failure that a retest cannot mend (a dead sensor, swapped phases, an offset far out) goes to
+  // repair at once instead of using up the remaining attempts.
+  const step = failureStep(checks);
+  if (step?.remedy === 'repair') return { attempts, status: 'on_hold', holdReason: repairHoldReason(step) };
   const max = recipe.body.maxAttempts;
   if (attempts >= max) {
     return {
@@ -816,6 +844,7 @@ export async function calibrationViews(
               r.unitStatus === 'on_hold' && r.newestOfUnit === r.cal.id
                 ? (r.unitHoldReason ?? 'no reason given')
                 : null,
+              isError ? [] : (r.cal.result as CalibrationResult).checks,
             ),
       result: isError ? null : (r.cal.result as CalibrationResult),
       error: isError ? (r.cal.result as { error: CalibrationView['error'] }).error : null,

@@ -144,3 +144,16 @@ export async function updateWhatIfRun(
   const [row] = await db.update(whatIfRuns).set(values).where(eq(whatIfRuns.id, id)).returning();
   return row;
 }
+
+/** A model and its active (released) recipe version, or undefined when there is no such model. */
+export async function findModelWithActiveRecipe(
+  db: DbOrTx,
+  modelId: string,
+): Promise<{ model: ModelRecord; recipe: RecipeRecord | null } | undefined> {
+  const [model] = await db.select().from(models).where(eq(models.id, modelId));
+  if (!model) return undefined;
+  const [recipe] = model.activeRecipeId
+    ? await db.select().from(recipes).where(eq(recipes.id, model.activeRecipeId))
+    : [];
+  return { model, recipe: recipe ?? null };
+}

@@ -75,6 +75,21 @@ export async function authenticateStationKey(
   return entry.principal;
 }
 
+/** Whether `key` is a live (not revoked) key of the station. */
+export async function isLiveStationKey(db: DbOrTx, stationId: string, key: string): Promise<boolean> {
+  const [row] = await db
+    .select({ id: stationKeys.id })
+    .from(stationKeys)
+    .where(
+      and(
+        eq(stationKeys.stationId, stationId),
+        eq(stationKeys.keyHash, hashStationKey(key)),
+        isNull(stationKeys.revokedAt),
+      ),
+    );
+  return row !== undefined;
+}
+
 export async function recordHeartbeat(db: DbOrTx, stationId: string, now: Date): Promise<void> {
   await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, stationId));
 }
@@ -253,4 +268,14 @@ export async function listStationsAllowingModels(db: DbOrTx) {
     .select({ id: stations.id, name: stations.name, allowedModelIds: stations.allowedModelIds })
     .from(stations)
     .orderBy(asc(stations.name));
+}
+
+/** Names of the given stations, by id (for logs that keep only an id). */
+export async function stationNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<string, string>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({ id: stations.id, name: stations.name })
+    .from(stations)
+    .where(inArray(stations.id, ids));
+  return new Map(rows.map((r) => [r.id, r.name]));
 }

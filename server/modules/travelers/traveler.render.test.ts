@@ -10,6 +10,10 @@ import { PDFParse } from 'pdf-parse';
 import { PNG } from 'pngjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { formatTravelerCode, parseTravelerCode, renderTravelerPdf, SAFETY_CAUTIONS } from './traveler.render';
+import { checkName, formatCheckLimit } from '../../../shared/calibration/check-guide';
+import { calibrate } from '../../../shared/calibration/engine';
+import { createRng, exampleRecipe, simulateMeasurement } from '../../../shared/simulation';
+import type { SimulationSpec } from '../../../shared/simulation/simulate';
 import type { TravelerDataInput } from './traveler.types';
 import { TravelerDataError, parseTravelerData } from './traveler.types';
 
@@ -134,7 +138,7 @@ describe('unit traveler PDF', () => {
   it('prints the serial, verdict, offset in degrees and counts, and the demo plant', () => {
     expect(passing.text).toContain('CM57-24-008143');
     expect(passing.text).toContain('PASS');
-    expect(passing.text).toContain('+3.42°');
+    expect(passing.text).toContain('+3.42 °e');
     expect(passing.text).toContain('+623');
     expect(passing.text).toContain('65536');
     expect(passing.text).toContain('Corvane Motion Ltd');
@@ -207,7 +211,7 @@ describe('unit traveler PDF', () => {
     expect(decodeAny(letter.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
   });
 
-  it('shows a failed unit as FAIL with each failed check named and explained', async () => {
+  it('shows a failed unit as FAIL and REJECT with each failed check named and explained', async () => {
     const failing = unit({
       verdict: 'fail',
       offsetDeg: -17.85,
@@ -232,9 +236,10 @@ describe('unit traveler PDF', () => {
     expect(text).toContain('1 of 3 checks failed');
     expect(text).toContain('offset.within_limits');
     expect(text).toContain('The hall offset lies outside the window the recipe allows.');
-    expect(text).toContain('-17.85°');
-    expect(text).toContain('-17.85 °e');
-    expect(text).toContain('PENDING');
+    expect(text).toContain('\u221217.85 °e');
+    expect(text).toContain('REJECT: DO NOT SHIP');
+    expect(text).toContain('DO NOT PROGRAM');
+    expect(text).not.toContain('PENDING');
     expect(parseTravelerCode(decodeAny(images, BarcodeFormat.DATA_MATRIX)[0]).verdict).toBe('fail');
   });
 
@@ -284,7 +289,7 @@ describe('unit traveler PDF', () => {
     const bad = unit({ serial: 'CM57|24', offsetDeg: Number.NaN });
     bad.edges = bad.edges.slice(0, 5);
     await expect(renderTravelerPdf(bad)).rejects.toThrow(TravelerDataError);
-    await expect(renderTravelerPdf(bad)).rejects.toThrow(/serial: serial may hold only/);
+    await expect(renderTravelerPdf(bad)).rejects.toThrow(/serial: The serial contains “\|”/);
     await expect(renderTravelerPdf(bad)).rejects.toThrow(/offsetDeg/);
     await expect(renderTravelerPdf(bad)).rejects.toThrow(/edges/);
   });
@@ -300,4 +305,144 @@ describe('unit traveler PDF', () => {
     expect(parseTravelerCode(text).offsetCounts).toBe(-1);
     expect(() => parseTravelerCode('XX9|SN=1')).toThrow(/not a PW1 traveler code/);
   });
+});
+
+// Travelers of units measured by the engine on simulated motors (the independent simulator in shared/),
+// mapped the way the traveler service maps a stored calibration.
+function engineUnit(extra: Partial<SimulationSpec>, overrides: Partial<TravelerDataInput> = {}) {
+  const recipe = exampleRecipe();
+  const { measurement } = simulateMeasurement(
+    {
+      polePairs: recipe.polePairs,
+      hallRiseDeg: recipe.hallRiseDeg,
+      offsetDeg: 4.21,
+      jitterUs: 0.5,
+      bemfDelayUs: recipe.bemfDelayUs,
+      channels: ['A', 'B', 'C'],
+      segments: [
+        {
+          direction: 'forward',
+          profile: { kind: 'coast', startRpm: 3000, endRpm: 2300 },
+          electricalTurns: 40,
+        },
+        {
+          direction: 'reverse',
+          profile: { kind: 'coast', startRpm: 2900, endRpm: 2200 },
+          electricalTurns: 40,
+        },
+      ],
+      ...extra,
+    },
+    createRng(11),
+  );
+  const result = calibrate(measurement, recipe);
+  const offsetDeg = result.offsetDeg ?? 0;
+  return unit({
+    verdict: result.verdict,
+    offsetDeg,
+    offsetCounts: Math.round((offsetDeg / 360) * 65536),
+    lagDeg: result.lagDeg ?? undefined,
+    edges: result.edges.map((e) => ({ sensor: e.sensor, edge: e.edge, residualDeg: e.residualDeg ?? 0 })),
+    speedRpm: result.speedRpm,
+    electricalTurns: result.electricalTurns,
+    recipe: { name: 'BL57-4 hall 120 coast-down both directions', version: 12 },
+    checks: result.checks.map((c) => ({
+      code: c.code,
+      passed: c.passed,
+      value: c.value,
+      limit: c.limit,
+      unit: c.unit || undefined,
+      sentence: c.message,
+    })),
+    programming: result.verdict === 'pass' ? unit().programming : { status: 'pending' },
+    ...overrides,
+  });
+}
+
+const flat = (text: string) => text.replace(/\s+/g, ' ');
+
+describe('traveler as an auditor reads it', () => {
+  it('prints every check row with its plain name and its limit in its true direction', async () => {
+    const data = engineUnit({});
+    expect(data.verdict).toBe('pass');
+    const text = flat((await readBack(await renderTravelerPdf(data))).text);
+    for (const check of data.checks) {
+      const name = checkName(check.code);
+      const limit = formatCheckLimit(check);
+      expect(text, check.code).toContain(name);
+      // The row reads name, code, measured value, then the limit with its direction sign (a list of
+      // states may wrap inside its cell, so only its first entry is looked for next to the name).
+      const row = text.slice(text.indexOf(name), text.indexOf(name) + 200);
+      expect(row, check.code).toContain(typeof check.limit === 'string' ? limit.split(' ')[0] : limit);
+    }
+    // Minimums read ≥ (a passing unit's 100 % of edges and 40 turns must not look over a maximum).
+    expect(text).toMatch(/Every hall sensor switches hall\.all_switching \d+ % ≥ 50 %/);
+    expect(text).toMatch(/Enough electrical turns turns\.enough [\d.]+ turns ≥ 20 turns/);
+    expect(text).not.toMatch(/≤ 50 %|≤ 20 turns/);
+  });
+
+  it("prints the speed check's value as the header speed", async () => {
+    const data = engineUnit({});
+    const speedCheck = data.checks.find((c) => c.code === 'speed.within_window')!;
+    const text = flat((await readBack(await renderTravelerPdf(data))).text);
+    const shown = String(Number((speedCheck.value as number).toFixed(2)));
+    expect(text).toMatch(new RegExp(`SPEED ${shown} rpm`));
+  });
+
+  it('prints the whole recipe name, never cut', async () => {
+    const text = flat((await readBack(await renderTravelerPdf(engineUnit({})))).text);
+    expect(text).toContain('BL57-4 hall 120 coast-down both directions v12');
+    expect(text).not.toContain('…');
+  });
+
+  it('says REJECT on a failed unit and never that it waits for programming', async () => {
+    const data = engineUnit({ deadSensor: 'B' });
+    expect(data.verdict).toBe('fail');
+    const text = flat((await readBack(await renderTravelerPdf(data))).text);
+    expect(text).toContain('REJECT: DO NOT SHIP');
+    expect(text).toContain('DO NOT PROGRAM: the unit failed calibration');
+    expect(text).not.toMatch(/PENDING|has not yet confirmed/);
+  });
+
+  it('says ON HOLD with the reason on a held unit', async () => {
+    const data = engineUnit(
+      { offsetDeg: 19 },
+      { hold: { reason: '3 calibration attempts without a pass (recipe v12 allows 3)' } },
+    );
+    const text = flat((await readBack(await renderTravelerPdf(data))).text);
+    expect(text).toContain('ON HOLD: DO NOT SHIP');
+    expect(text).toContain('3 calibration attempts without a pass (recipe v12 allows 3)');
+    expect(text).toContain('DO NOT PROGRAM: the unit is on hold');
+  });
+
+  it.each([
+    ['A4', 'pass'],
+    ['A4', 'fail'],
+    ['A4', 'hold'],
+    ['LETTER', 'pass'],
+    ['LETTER', 'fail'],
+    ['LETTER', 'hold'],
+  ] as const)(
+    'fits one %s page for a %s traveler, safety box and release fields included',
+    async (size, kind) => {
+      const data =
+        kind === 'pass'
+          ? engineUnit({}, { pageSize: size })
+          : kind === 'fail'
+            ? engineUnit({ deadSensor: 'C', miswiredBC: true }, { pageSize: size })
+            : engineUnit(
+                { offsetDeg: 26 },
+                {
+                  pageSize: size,
+                  hold: { reason: 'Sent to repair (a retest cannot help): offset far outside' },
+                },
+              );
+      const { info, text } = await readBack(await renderTravelerPdf(data));
+      expect(info.total).toBe(1);
+      const all = flat(text);
+      expect(all).toContain('Page 1 of 1');
+      expect(all).toContain('RELEASED BY (NAME)');
+      for (const caution of SAFETY_CAUTIONS) expect(all).toContain(caution);
+    },
+  );
 });

@@ -10,6 +10,15 @@ import type {
   TravelerDataInput,
 } from './traveler.types';
 import { parseTravelerData, SENSORS } from './traveler.types';
+import {
+  checkName,
+  formatCheckLimit as limitText,
+  formatCheckValue as valueText,
+  plainNumber,
+} from '../../../shared/calibration/check-guide';
+import { formatOffsetDeg, SAFETY_CAUTIONS, SAFETY_TITLE } from '../../../shared/wording';
+
+export { SAFETY_CAUTIONS };
 
 // The unit traveler: one page that follows a calibrated unit down the line and into the plant's files.
 // Pure: data in, PDF bytes out. The same data (generatedAt included) gives the same bytes, so the stored
@@ -192,9 +201,9 @@ function signed(value: number, decimals: number): string {
   return `${value < 0 ? '-' : '+'}${text}`;
 }
 
-// Up to 2 decimals, trailing zeros dropped: 1480, 0.93, -17.85.
+// Up to 2 decimals, trailing zeros dropped, a true minus: 1480, 0.93, −17.85.
 function plain(value: number): string {
-  return String(Number(value.toFixed(2)));
+  return plainNumber(value);
 }
 
 const dateFormats = new Map<string, Intl.DateTimeFormat>();
@@ -227,17 +236,21 @@ export function formatTime(iso: string, timeZone: string): string {
   return `${parts.year}-${parts.month}-${parts.day} ${parts.hour}:${parts.minute}:${parts.second} ${offset}`;
 }
 
+// Values and limits print from the same table the station screen uses, so a minimum reads "≥" on both.
 function formatCheckValue(check: TravelerCheck): string {
-  if (check.value === null) return '—';
-  const unit = check.unit ? ` ${check.unit}` : '';
-  return typeof check.value === 'number' ? `${plain(check.value)}${unit}` : check.value;
+  return valueText(check);
 }
 
 function formatCheckLimit(check: TravelerCheck): string {
-  const unit = check.unit ? ` ${check.unit}` : '';
-  if (check.limit === null) return '—';
-  if (Array.isArray(check.limit)) return `${plain(check.limit[0])} to ${plain(check.limit[1])}${unit}`;
-  return typeof check.limit === 'number' ? `≤ ${plain(check.limit)}${unit}` : check.limit;
+  return limitText(check);
+}
+
+/** What the unit is, as the paper must say it before anything else: released, rejected or held. */
+export type Disposition = 'release' | 'reject' | 'hold';
+
+export function dispositionOf(data: Pick<TravelerData, 'verdict' | 'hold'>): Disposition {
+  if (data.hold) return 'hold';
+  return data.verdict === 'pass' ? 'release' : 'reject';
 }
 
 // ---- Drawing ------------------------------------------------------------------------------------------
@@ -257,13 +270,6 @@ const RULE = '#8c8c8c';
 const TINT = '#e8e8e8';
 const MARGIN = 36;
 const FOOTER_H = 22;
-
-export const SAFETY_CAUTIONS = [
-  'Close the guards and prove the interlocks work before the rotor is spun.',
-  'While the rotor turns, the motor terminals carry its back-EMF: treat them as live.',
-  'Do not touch the terminals, leads or connector while the rotor is spinning or coasting down.',
-  "Follow the plant's safety rules, local electrical codes and machinery-safety standards such as IEC 60204-1.",
-] as const;
 
 class Page {
   y = MARGIN;
@@ -305,13 +311,39 @@ class Page {
     doc.text(line, x, y, { lineBreak: false });
   }
 
+  // One line that must be read whole (a recipe name): shrinks down to minSize before it is ever cut.
+  fitText(
+    face: Face,
+    size: number,
+    str: string,
+    x: number,
+    y: number,
+    width: number,
+    minSize = 7,
+    color = INK,
+  ): void {
+    let s = size;
+    this.doc.font(face);
+    while (s > minSize && this.doc.fontSize(s).widthOfString(str) > width) s -= 0.5;
+    this.text(face, s, str, x, y + (size - s) * 0.7, { width, color });
+  }
+
   label(str: string, x: number, y: number, options: LineOptions = {}): void {
     this.text('semiBold', 6.5, str.toUpperCase(), x, y, { color: SOFT, ...options });
   }
 
-  field(label: string, value: string, x: number, y: number, width: number, face: Face = 'regular'): void {
+  field(
+    label: string,
+    value: string,
+    x: number,
+    y: number,
+    width: number,
+    face: Face = 'regular',
+    fit = false,
+  ): void {
     this.label(label, x, y);
-    this.text(face, 9.5, value, x, y + 8.5, { width });
+    if (fit) this.fitText(face, 9.5, value, x, y + 8.5, width);
+    else this.text(face, 9.5, value, x, y + 8.5, { width });
   }
 
   rule(y: number, weight = 0.5, color = RULE, x0 = this.left, x1 = this.right): void {
@@ -449,20 +481,57 @@ function drawHeader(page: Page): void {
     page.text('bold', 13, 'ORIGINAL', sx, y + 9, { width: stampW, align: 'center' });
     page.text('semiBold', 7, 'print no. 1', sx, y + 28, { width: stampW, align: 'center' });
   }
-  page.y = y + 54;
+  page.y = y + 50;
   page.rule(page.y, 2, INK);
-  page.y += 8;
+  page.y += 6;
+  drawDisposition(page);
+}
+
+// A failed or held unit's traveler says so before anything else, in a solid band no one can misread:
+// the document travels with the unit to repair or to the hold area, not down the line.
+function drawDisposition(page: Page): void {
+  const { doc, data, left, right } = page;
+  const disposition = dispositionOf(data);
+  if (disposition === 'release') return;
+  const y = page.y;
+  const h = 42;
+  doc
+    .save()
+    .rect(left, y, right - left, h)
+    .fill(INK)
+    .restore();
+  markBad(doc, left + 21, y + h / 2, 12, '#ffffff', INK);
+  const title = disposition === 'hold' ? 'ON HOLD: DO NOT SHIP' : 'REJECT: DO NOT SHIP';
+  page.text('bold', 19, title, left + 44, y + 3, { color: '#ffffff' });
+  const why =
+    disposition === 'hold'
+      ? `Hold: ${data.hold?.reason ?? 'no reason recorded'}. Keep the unit in the hold area until quality releases it.`
+      : 'The unit failed calibration: it goes to repair or quality with this traveler.';
+  page.fitText('semiBold', 9, why, left + 44, y + 27, right - left - 52, 6.5, '#ffffff');
+  page.y = y + h + 6;
+  // A failed or held unit is not waiting for programming: it must not be programmed at all.
+  if (data.programming.status === 'pending') {
+    markBad(page.doc, left + 8, page.y + 6, 6);
+    page.text(
+      'bold',
+      10,
+      `DO NOT PROGRAM: the unit ${disposition === 'hold' ? 'is on hold' : 'failed calibration'}`,
+      left + 20,
+      page.y,
+    );
+    page.y += 18;
+  }
 }
 
 function drawIdentity(page: Page, code128: GreyImage, matrix: GreyImage): void {
   const { doc, data, left, right } = page;
   const y = page.y;
-  const height = 92;
+  const height = 84;
 
   // Serial, large, with its Code 128 beneath: X = 0.9 pt (0.32 mm), bars 34 pt tall.
   const moduleX = 0.9;
   const barW = code128.modulesWide * moduleX;
-  const barTop = y + 36;
+  const barTop = y + 32;
   // Model and component lots in the middle, right of the serial and its barcode.
   const mx = left + Math.max(200, barW - 10 * moduleX) + 14;
 
@@ -471,19 +540,19 @@ function drawIdentity(page: Page, code128: GreyImage, matrix: GreyImage): void {
   const serialWidth22 = doc.font('bold').fontSize(22).widthOfString(data.serial);
   const serialSize = Math.max(11, Math.min(22, (22 * (mx - left - 10)) / serialWidth22));
   page.text('bold', serialSize, data.serial, left, y + 8 + (22 - serialSize) * 0.6);
-  doc.image(code128.png, left - 10 * moduleX, barTop, { width: barW, height: 34 });
-  page.text('semiBold', 8, data.serial, left, barTop + 36, {});
+  doc.image(code128.png, left - 10 * moduleX, barTop, { width: barW, height: 32 });
+  page.text('semiBold', 8, data.serial, left, barTop + 34, {});
 
   const dmSize = 74;
   const dmX = right - dmSize;
   const colW = (dmX - 14 - mx) / 2;
-  page.field('Model', data.model.name, mx, y, colW * 2, 'semiBold');
-  page.field('Pole pairs', String(data.model.polePairs), mx, y + 24, colW);
-  page.field('Recipe', `${data.recipe.name} v${data.recipe.version}`, mx + colW, y + 24, colW);
-  page.field('Hall board lot', data.lots.hallBoard, mx, y + 48, colW);
-  page.field('Magnet ring lot', data.lots.magnetRing, mx + colW, y + 48, colW);
-  page.field('Stator lot', data.lots.stator, mx, y + 72, colW);
-  page.field('Line', data.lineName ?? '—', mx + colW, y + 72, colW);
+  // Model and recipe get the whole width of the column and shrink rather than lose their ends.
+  page.field('Model', data.model.name, mx, y, colW * 2, 'semiBold', true);
+  page.field('Recipe', `${data.recipe.name} v${data.recipe.version}`, mx, y + 21, colW * 2, 'regular', true);
+  page.field('Pole pairs', String(data.model.polePairs), mx, y + 42, colW);
+  page.field('Hall board lot', data.lots.hallBoard, mx + colW, y + 42, colW);
+  page.field('Magnet ring lot', data.lots.magnetRing, mx, y + 63, colW);
+  page.field('Stator lot', data.lots.stator, mx + colW, y + 63, colW);
 
   // Data Matrix on the right: 2-module quiet zone inside the image.
   doc.image(matrix.png, dmX, y - 2, { width: dmSize, height: dmSize });
@@ -493,15 +562,15 @@ function drawIdentity(page: Page, code128: GreyImage, matrix: GreyImage): void {
     color: SOFT,
   });
 
-  page.y = y + height + 4;
+  page.y = y + height + 2;
   page.rule(page.y, 0.75, INK);
-  page.y += 10;
+  page.y += 8;
 }
 
 function drawResult(page: Page): void {
   const { doc, data, left, right } = page;
   const y = page.y;
-  const h = 86;
+  const h = 70;
   const failed = data.checks.filter((c) => !c.passed);
 
   // Verdict block: PASS is an outlined box with a ringed tick; FAIL is a solid box with a crossed square.
@@ -511,25 +580,25 @@ function drawResult(page: Page): void {
   if (pass) doc.save().rect(left, y, vw, h).lineWidth(2.5).strokeColor(INK).stroke().restore();
   else doc.save().rect(left, y, vw, h).fill(INK).restore();
   page.label('Verdict', left + 10, y + 8, { color: pass ? SOFT : '#d0d0d0' });
-  if (pass) markGood(doc, left + 31, y + 41, 18);
-  else markBad(doc, left + 31, y + 41, 16, '#ffffff', INK);
-  page.text('bold', 38, pass ? 'PASS' : 'FAIL', left + 58, y + 17, { color: paper });
+  if (pass) markGood(doc, left + 29, y + 35, 15);
+  else markBad(doc, left + 29, y + 35, 13, '#ffffff', INK);
+  page.text('bold', 32, pass ? 'PASS' : 'FAIL', left + 52, y + 15, { color: paper });
   const summary =
     failed.length === 0
       ? data.checks.length === 1
         ? 'The one check passed'
         : `All ${data.checks.length} checks passed`
       : `${failed.length} of ${data.checks.length} checks failed (see below)`;
-  page.text('semiBold', 9, summary, left + 10, y + 68, { width: vw - 20, color: paper });
+  page.text('semiBold', 8.5, summary, left + 10, y + 56, { width: vw - 20, color: paper });
 
   // Offset: the number the station programs, in degrees and in firmware counts.
   const ox = left + vw + 16;
   page.label('Hall offset (electrical degrees)', ox, y);
-  page.text('bold', 32, `${signed(data.offsetDeg, 2)}°`, ox, y + 8);
-  page.label('Firmware counts', ox, y + 48);
-  page.text('semiBold', 13, `${signed(data.offsetCounts, 0)}`, ox, y + 56);
-  const countsW = doc.font('semiBold').fontSize(13).widthOfString(signed(data.offsetCounts, 0));
-  page.text('regular', 8.5, `of ${data.countsPerTurn} per electrical turn`, ox + countsW + 5, y + 60, {
+  page.text('bold', 28, formatOffsetDeg(data.offsetDeg), ox, y + 8);
+  page.label('Firmware counts', ox, y + 42);
+  page.text('semiBold', 12, `${signed(data.offsetCounts, 0)}`, ox, y + 50);
+  const countsW = doc.font('semiBold').fontSize(12).widthOfString(signed(data.offsetCounts, 0));
+  page.text('regular', 8.5, `of ${data.countsPerTurn} per electrical turn`, ox + countsW + 5, y + 53, {
     color: SOFT,
   });
 
@@ -543,17 +612,20 @@ function drawResult(page: Page): void {
     .strokeColor(RULE)
     .stroke()
     .restore();
-  page.field('Speed', `${plain(data.speedRpm)} rpm`, rx, y, 128);
-  page.field('Electrical turns measured', plain(data.electricalTurns), rx, y + 29, 128);
+  // The speed the speed check judged, so the header and the check row never disagree.
+  const speedCheck = data.checks.find((c) => c.code === 'speed.within_window');
+  const speed = typeof speedCheck?.value === 'number' ? speedCheck.value : data.speedRpm;
+  page.field('Speed', `${plain(speed)} rpm`, rx, y, 128);
+  page.field('Electrical turns measured', plain(data.electricalTurns), rx, y + 24, 128);
   page.field(
     'Lag, forward vs reverse',
-    data.lagDeg === undefined ? 'one direction only' : `${signed(data.lagDeg, 2)}°`,
+    data.lagDeg === undefined ? 'one direction only' : formatOffsetDeg(data.lagDeg),
     rx,
-    y + 58,
+    y + 48,
     128,
   );
 
-  page.y = y + h + 14;
+  page.y = y + h + 10;
 }
 
 function drawResidualsAndTimes(page: Page): void {
@@ -581,7 +653,7 @@ function drawResidualsAndTimes(page: Page): void {
       width: 64,
       align: 'right',
     });
-    y += 13;
+    y += 11.5;
     page.rule(y - 1.5, 0.25, RULE, left, left + leftW);
   }
   const residuals = data.edges.map((e) => e.residualDeg);
@@ -590,7 +662,7 @@ function drawResidualsAndTimes(page: Page): void {
     width: 64,
     align: 'right',
   });
-  const leftBottom = y + 13;
+  const leftBottom = y + 11.5;
 
   // Traceability: who, where, when, with what.
   const tx = left + leftW + gap;
@@ -599,17 +671,19 @@ function drawResidualsAndTimes(page: Page): void {
   const tz = data.timeZone;
   page.field('Station', data.stationName, tx, ty, tw - 8);
   page.field('Operator', data.operatorName, tx + tw, ty, tw);
-  ty += 22;
+  ty += 20;
   page.field('Measured', formatTime(data.measuredAt, tz), tx, ty, tw - 8, 'regular');
   page.field('Computed', formatTime(data.computedAt, tz), tx + tw, ty, tw, 'regular');
-  ty += 22;
-  page.field('Recipe', `${data.recipe.name}, version ${data.recipe.version}`, tx, ty, tw - 8, 'regular');
+  ty += 20;
+  // The recipe's full name is printed whole beside the serial; its version is what traces the limits.
+  page.field('Recipe version', `v${data.recipe.version}`, tx, ty, tw - 8, 'regular');
   page.field('Calculation engine', data.engineVersion, tx + tw, ty, tw, 'regular');
 
-  page.y = Math.max(leftBottom, ty + 22) + 10;
+  page.y = Math.max(leftBottom, ty + 20) + 8;
 }
 
-const CHECK_COLS = { mark: 56, code: 104, value: 66, limit: 82 };
+const CHECK_COLS = { mark: 40, code: 118, value: 56, limit: 70 };
+const SENTENCE_PT = 7.5;
 
 function drawChecks(page: Page): void {
   const { doc, data, left, right } = page;
@@ -626,7 +700,7 @@ function drawChecks(page: Page): void {
   const sentenceW = right - x.sentence;
   const head = (yy: number): number => {
     page.label('Result', x.mark + 2, yy);
-    page.label('Check', x.code, yy);
+    page.label('Check (code)', x.code, yy);
     page.label('Measured', x.value, yy, { width: CHECK_COLS.value - 10, align: 'right' });
     page.label('Limit', x.limit, yy);
     page.label('What it means', x.sentence, yy);
@@ -635,9 +709,13 @@ function drawChecks(page: Page): void {
   y = head(y);
   for (const check of data.checks) {
     const face: Face = check.passed ? 'regular' : 'semiBold';
-    doc.font(face).fontSize(8.5);
-    const textH = doc.heightOfString(check.sentence, { width: sentenceW });
-    const rowH = Math.max(15, textH + 5);
+    const limit = formatCheckLimit(check);
+    const limitH = doc
+      .font('regular')
+      .fontSize(8)
+      .heightOfString(limit, { width: CHECK_COLS.limit - 4 });
+    const textH = doc.font(face).fontSize(SENTENCE_PT).heightOfString(check.sentence, { width: sentenceW });
+    const rowH = Math.max(17, textH + 3.5, limitH + 3.5);
     if (y + rowH > page.bottom) {
       page.y = y;
       page.ensure(rowH + 24);
@@ -649,29 +727,29 @@ function drawChecks(page: Page): void {
         .rect(left, y, right - left, rowH)
         .fill(TINT)
         .restore();
-    const cy = y + 7.5;
+    const cy = y + 7;
     if (check.passed) markGood(doc, x.mark + 7, cy, 4.5);
     else markBad(doc, x.mark + 7, cy, 4.5);
-    page.text(check.passed ? 'semiBold' : 'bold', 8.5, check.passed ? 'PASS' : 'FAIL', x.mark + 16, y + 3);
-    page.text(face, 8.5, check.code, x.code, y + 3, {
-      width: CHECK_COLS.code - 6,
-    });
-    page.text(face, 8.5, formatCheckValue(check), x.value, y + 3, {
-      width: CHECK_COLS.value - 10,
-      align: 'right',
-    });
-    page.text('regular', 8.5, formatCheckLimit(check), x.limit, y + 3, {
-      width: CHECK_COLS.limit - 4,
-    });
+    page.text(check.passed ? 'semiBold' : 'bold', 8, check.passed ? 'PASS' : 'FAIL', x.mark + 16, y + 2.5);
+    // People read the plain name; the stable code stays in small print for those who key on it.
+    page.fitText(face, 8, checkName(check.code), x.code, y + 2.5, CHECK_COLS.code - 6, 6.5);
+    page.text('regular', 5.5, check.code, x.code, y + 11, { width: CHECK_COLS.code - 6, color: SOFT });
+    page.fitText(face, 8, formatCheckValue(check), x.value, y + 2.5, CHECK_COLS.value - 10, 6);
+    // A limit can be a list (the valid hall states): it wraps in its cell rather than being cut.
+    doc
+      .font('regular')
+      .fontSize(8)
+      .fillColor(INK)
+      .text(limit, x.limit, y + 2.5, { width: CHECK_COLS.limit - 4 });
     doc
       .font(face)
-      .fontSize(8.5)
+      .fontSize(SENTENCE_PT)
       .fillColor(INK)
-      .text(check.sentence, x.sentence, y + 3, { width: sentenceW });
+      .text(check.sentence, x.sentence, y + 2.5, { width: sentenceW });
     y += rowH;
     page.rule(y, 0.25);
   }
-  page.y = y + 12;
+  page.y = y + 8;
 }
 
 function programmingLine(p: ProgrammingConfirmation): string {
@@ -687,16 +765,19 @@ function programmingLine(p: ProgrammingConfirmation): string {
 
 function drawProgramming(page: Page): void {
   const { doc, data, left, right } = page;
-  page.ensure(58);
+  // A rejected or held unit that was never programmed says DO NOT PROGRAM in its top band instead.
+  if (data.programming.status === 'pending' && dispositionOf(data) !== 'release') return;
+  page.ensure(40);
   let y = page.heading('Offset programming');
   const p = data.programming;
+  const line = programmingLine(p);
   if (p.status === 'confirmed') markGood(doc, left + 8, y + 8, 7);
   else if (p.status === 'mismatch') markBad(doc, left + 8, y + 8, 7);
   else markPending(doc, left + 8, y + 8, 7);
-  page.text('semiBold', 9.5, programmingLine(p), left + 22, y + 2.5, {
+  page.text('semiBold', 9.5, line, left + 22, y + 2.5, {
     width: right - left - 22,
   });
-  y += 20;
+  y += 17;
   if (p.status !== 'pending') {
     const x = left + 22;
     const w = (right - x) / 5;
@@ -711,19 +792,19 @@ function drawProgramming(page: Page): void {
     );
     page.field('Checksum', p.checksum ?? '—', x + 2 * w, y, w - 8);
     page.field('Confirmed at', formatTime(p.confirmedAt, data.timeZone), x + 3 * w, y, 2 * w);
-    y += 24;
+    y += 22;
   }
-  page.y = y + 8;
+  page.y = y + 4;
 }
 
 function drawSafety(page: Page): void {
   const { doc, left, right } = page;
-  const pad = 8;
-  const textX = left + 44;
+  const pad = 6;
+  const textX = left + 40;
   const textW = right - pad - textX;
-  doc.font('regular').fontSize(8.5);
+  doc.font('regular').fontSize(8);
   const lines = SAFETY_CAUTIONS.map((c) => doc.heightOfString(c, { width: textW - 8 }));
-  const h = pad + 13 + lines.reduce((a, b) => a + b + 1.5, 0) + pad - 1;
+  const h = pad + 12 + lines.reduce((a, b) => a + b + 1, 0) + pad - 1;
   page.ensure(h + 6);
   const y = page.y;
   doc
@@ -733,9 +814,9 @@ function drawSafety(page: Page): void {
     .strokeColor(INK)
     .stroke()
     .restore();
-  markWarning(doc, left + 10, y + pad + 2, 24);
-  page.text('bold', 9, 'SAFETY: BACK-DRIVEN MOTOR', textX, y + pad, {});
-  let ly = y + pad + 13;
+  markWarning(doc, left + 9, y + pad + 2, 22);
+  page.text('bold', 9, SAFETY_TITLE.toUpperCase(), textX, y + pad, {});
+  let ly = y + pad + 12;
   SAFETY_CAUTIONS.forEach((caution, i) => {
     doc
       .save()
@@ -744,27 +825,27 @@ function drawSafety(page: Page): void {
       .restore();
     doc
       .font('regular')
-      .fontSize(8.5)
+      .fontSize(8)
       .fillColor(INK)
       .text(caution, textX + 8, ly, { width: textW - 8 });
-    ly += lines[i] + 1.5;
+    ly += lines[i] + 1;
   });
-  page.y = y + h + 8;
+  page.y = y + h + 4;
 }
 
 // Hand-written release fields, printed only where the page has room for them: travelers are signed
 // at the end of the line before they are filed.
 function drawSignOff(page: Page): void {
   const { left, right } = page;
-  if (page.y + 44 > page.bottom) return;
+  if (page.y + 36 > page.bottom) return;
   const y = page.heading('Release', page.y + 2);
   const w = (right - left) / 3;
   ['Released by (name)', 'Signature', 'Date'].forEach((label, i) => {
     const x = left + i * w;
-    page.rule(y + 24, 0.5, INK, x, x + w - 14);
-    page.label(label, x, y + 27);
+    page.rule(y + 18, 0.5, INK, x, x + w - 14);
+    page.label(label, x, y + 21);
   });
-  page.y = y + 40;
+  page.y = y + 30;
 }
 
 function drawFooters(doc: Doc, data: TravelerData): void {
@@ -824,7 +905,7 @@ export async function renderTravelerPdf(input: TravelerDataInput): Promise<Buffe
     info: {
       Title: `Unit calibration traveler ${data.serial}`,
       Author: `${data.companyName}, ${data.plantName}`,
-      Subject: `Hall offset calibration of unit ${data.serial}: ${data.verdict.toUpperCase()}`,
+      Subject: `Hall offset calibration of unit ${data.serial}: ${data.verdict.toUpperCase()}${dispositionOf(data) === 'release' ? '' : dispositionOf(data) === 'hold' ? ', ON HOLD' : ', REJECT'}`,
       Keywords: `traveler ${data.serial} ${data.recipe.name}@${data.recipe.version} print ${data.printNumber}`,
       Creator: 'Phasewright',
       Producer: 'Phasewright traveler renderer',

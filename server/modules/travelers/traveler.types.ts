@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { serialSchema } from '../../../shared/schemas/serial';
 
 // Everything the unit traveler prints, and nothing else. Self-contained on purpose: the job that renders
 // a traveler maps the committed calibration, the unit and the station into this shape, so the renderer
@@ -80,7 +81,7 @@ export const travelerDataSchema = z
     companyName: text(80),
     plantName: text(80),
     lineName: text(40).optional(),
-    serial: codeText('serial', 40),
+    serial: serialSchema,
     model: z.object({ name: text(60), polePairs: z.number().int().min(1).max(64) }),
     lots: z.object({
       hallBoard: codeText('hall board lot', 40),
@@ -116,6 +117,8 @@ export const travelerDataSchema = z
     recipe: z.object({ name: codeText('recipe name', 60), version: z.number().int().min(1) }),
     engineVersion: text(40),
     programming: programmingSchema,
+    // Set while the unit is on hold: the traveler then says ON HOLD, with the reason, above everything.
+    hold: z.object({ reason: text(240) }).optional(),
     // 1 for the original print, n for the (n − 1)th reprint.
     printNumber: z.number().int().min(1).default(1),
     pageSize: z.enum(['A4', 'LETTER']).default('A4'),

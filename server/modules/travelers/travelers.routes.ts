@@ -1,6 +1,7 @@
 import { and, eq } from 'drizzle-orm';
 import type { Response } from 'express';
 import { z } from 'zod';
+import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
 import { route } from '../../lib/http';
@@ -9,8 +10,8 @@ import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
 import { travelers, type TravelerRecord } from './travelers.table';
 
-const serialParams = z.object({ serial: z.string().min(1).max(64) });
-const docParams = z.object({ serial: z.string().min(1).max(64), id: z.string().uuid('Not a traveler id') });
+const serialParams = z.object({ serial: serialSchema });
+const docParams = z.object({ serial: serialSchema, id: z.string().uuid('Not a traveler id') });
 const printBody = z.object({ pageSize: z.enum(['A4', 'LETTER']).default('A4') });
 
 function sendPdf(res: Response, doc: TravelerRecord, serial: string) {
@@ -43,7 +44,7 @@ export function travelersRoutes(deps: AppDeps) {
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
         await checkStationScope(req.station?.stationId, unit.id);
-        const doc = await currentTraveler(deps.db, unit.id);
+        const doc = await currentTraveler(deps.db, unit.id, deps.clock());
         if (!doc) throw travelerErrors.none(unit.serial);
         sendPdf(res, doc, unit.serial);
       },

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { and, count, desc, eq, inArray } from 'drizzle-orm';
+import { and, count, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
@@ -10,6 +10,7 @@ import { models, recipes } from '../recipes/recipes.table';
 import { notifyLineEvent } from '../events/event-hub';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
 import { stations } from '../stations/stations.table';
+import { findUnitBySerial } from '../units/units.service';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
 import { renderTravelerPdf } from './traveler.render';
@@ -134,6 +135,10 @@ export async function travelerData(
             confirmedAt: conf.confirmedAt.toISOString(),
           }
       : { status: 'pending' },
+    hold:
+      row.unit.status === 'on_hold'
+        ? { reason: (row.unit.holdReason ?? 'no reason recorded').slice(0, 240) || 'no reason recorded' }
+        : undefined,
     printNumber,
     pageSize,
   };
@@ -169,6 +174,11 @@ async function store(
   return row;
 }
 
+/** A transaction lock on one calibration's travelers: prints of it take turns. */
+async function lockCalibration(tx: DbOrTx, calibrationId: string): Promise<void> {
+  await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`traveler:${calibrationId}`}, 0))`);
+}
+
 /** The job: print 1 of a committed calibration's traveler, once (a second run finds it and stops). */
 export async function renderFirstTraveler(
   db: Db,
@@ -185,12 +195,9 @@ export async function renderFirstTraveler(
     .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
   if (existing) return existing.id;
   return db.transaction(async (tx) => {
-    // Serialise concurrent runs of the same job on the calibration row's lock.
-    await tx
-      .select({ id: calibrations.id })
-      .from(calibrations)
-      .where(eq(calibrations.id, calibrationId))
-      .for('update');
+    // Serialise concurrent runs of the same job on a lock named after the calibration (a row lock
+    // would need UPDATE on calibrations, which the app role does not have: the table is append-only).
+    await lockCalibration(tx, calibrationId);
     const [again] = await tx
       .select({ id: travelers.id })
       .from(travelers)
@@ -211,8 +218,16 @@ export async function renderFirstTraveler(
   });
 }
 
-/** The traveler of the unit's latest calibration with a verdict, newest document first. */
-export async function currentTraveler(db: DbOrTx, unitId: string): Promise<TravelerRecord | undefined> {
+/**
+ * The traveler of the unit's latest calibration with a verdict, newest document first. A calibration
+ * whose print 1 was never rendered (the seeded demo history renders its travelers on first request, not
+ * in thousands of jobs at start) gets it rendered now, once.
+ */
+export async function currentTraveler(
+  db: Db,
+  unitId: string,
+  now: Date,
+): Promise<TravelerRecord | undefined> {
   const [latest] = await db
     .select({ id: calibrations.id })
     .from(calibrations)
@@ -226,13 +241,17 @@ export async function currentTraveler(db: DbOrTx, unitId: string): Promise<Trave
     .orderBy(desc(calibrations.computedAt))
     .limit(1);
   if (!latest) return undefined;
-  const [doc] = await db
-    .select()
-    .from(travelers)
-    .where(eq(travelers.calibrationId, latest.id))
-    .orderBy(desc(travelers.createdAt))
-    .limit(1);
-  return doc;
+  const newest = () =>
+    db
+      .select()
+      .from(travelers)
+      .where(eq(travelers.calibrationId, latest.id))
+      .orderBy(desc(travelers.createdAt))
+      .limit(1);
+  const [doc] = await newest();
+  if (doc) return doc;
+  await renderFirstTraveler(db, latest.id, now);
+  return (await newest())[0];
 }
 
 /**
@@ -261,11 +280,7 @@ export async function printTraveler(
     .limit(1);
   if (!latest) throw travelerErrors.none(serial);
   return db.transaction(async (tx) => {
-    await tx
-      .select({ id: calibrations.id })
-      .from(calibrations)
-      .where(eq(calibrations.id, latest.id))
-      .for('update');
+    await lockCalibration(tx, latest.id);
     const [{ n }] = await tx
       .select({ n: count() })
       .from(auditLog)
@@ -278,7 +293,9 @@ export async function printTraveler(
       );
     const printNumber = n + 1;
     let doc: TravelerRecord | undefined;
-    if (printNumber === 1) {
+    const unitNow = await findUnitBySerial(tx, serial);
+    // A unit put on hold after its first traveler was rendered gets a fresh one that says ON HOLD.
+    if (printNumber === 1 && unitNow?.status !== 'on_hold') {
       [doc] = await tx
         .select()
         .from(travelers)

@@ -2,7 +2,7 @@ import http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 
@@ -26,7 +26,7 @@ afterAll(async () => {
 const importCsv = (csv: string) =>
   request(t.app)
     .post('/api/units/import')
-    .set('Cookie', engineer)
+    .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
     .attach('file', Buffer.from(csv), 'work-order.csv');
 
 describe('work-order import', () => {
@@ -36,7 +36,7 @@ describe('work-order import', () => {
     );
     expect(res.status).toBe(201);
     expect(res.body).toEqual({ imported: 2, rows: 2, errors: [] });
-    const unit = await request(t.app).get('/api/units/wo-0002').set('Cookie', quality);
+    const unit = await request(t.app).get('/api/units/wo-0002').set('Origin', TEST_ORIGIN).set('Cookie', quality);
     expect(unit.body.unit.lots).toEqual({ hallBoard: 'HB-2', magnetRing: 'MR-1', stator: 'ST-1' });
   });
 
@@ -64,16 +64,16 @@ describe('holds', () => {
   it('quality puts a unit on hold with a reason; stations may not measure it until released', async () => {
     await request(t.app)
       .post('/api/units')
-      .set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
       .send({ serial: 'SN-QHOLD', modelId: line.model.id });
     const noReason = await request(t.app)
       .post('/api/units/SN-QHOLD/hold')
-      .set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
       .send({ hold: true, reason: '' });
     expect(noReason.status).toBe(400);
     const held = await request(t.app)
       .post('/api/units/SN-QHOLD/hold')
-      .set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
       .send({ hold: true, reason: 'customer return RMA-12' });
     expect(held.body.unit).toMatchObject({ status: 'on_hold', holdReason: 'customer return RMA-12' });
     const refused = await request(t.app)
@@ -83,7 +83,7 @@ describe('holds', () => {
     expect(refused.status).toBe(409);
     const released = await request(t.app)
       .post('/api/units/SN-QHOLD/hold')
-      .set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
       .send({ hold: false, reason: 'checked, fine' });
     expect(released.body.unit.status).toBe('new');
     const { rows } = await t.database.pool.query(

@@ -1,12 +1,13 @@
 import multer from 'multer';
 import { z } from 'zod';
+import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { AppError } from '../../lib/errors';
 import { route } from '../../lib/http';
 import { holdUnitSchema, registerUnitSchema } from '../../../shared/schemas/line';
 import { importUnits, registerUnit, setHold, unitDetail } from './units.service';
 
-const serialParams = z.object({ serial: z.string().min(1).max(64) });
+const serialParams = z.object({ serial: serialSchema });
 /** Work-order CSVs up to 5 MB (about 80,000 rows). */
 export const IMPORT_LIMIT_BYTES = 5 * 1024 * 1024;
 const upload = multer({

@@ -18,6 +18,7 @@ import {
   WORK_ORDER_COLUMNS,
 } from '../../../shared/schemas/line';
 import { units, type UnitRecord } from './units.table';
+import { normaliseSerial } from '../../../shared/schemas/serial';
 
 export const unitErrors = {
   notFound: (serial: string) =>
@@ -41,7 +42,7 @@ export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<Unit
   const [row] = await db
     .select()
     .from(units)
-    .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`);
+    .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`);
   return row;
 }
 
@@ -134,7 +135,7 @@ export async function setHold(
     const [unit] = await tx
       .select()
       .from(units)
-      .where(sql`upper(${units.serial}) = ${serial.trim().toUpperCase()}`)
+      .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`)
       .for('update');
     if (!unit) throw unitErrors.notFound(serial);
     if ((unit.status === 'on_hold') === hold) throw unitErrors.holdUnchanged(hold);
@@ -210,7 +211,7 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
       });
       return;
     }
-    const key = serial.data.toUpperCase();
+    const key = serial.data;
     if (seen.has(key)) {
       errors.push({ row: line, serial: serial.data, message: `serial repeats row ${seen.get(key)}` });
       return;
@@ -242,12 +243,12 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
       .where(
         inArray(
           sql`upper(${units.serial})`,
-          values.map((v) => v.serial.toUpperCase()),
+          values.map((v) => v.serial),
         ),
       );
     for (const e of existing) {
       errors.push({
-        row: seen.get(e.serial.toUpperCase()) ?? 0,
+        row: seen.get(normaliseSerial(e.serial)) ?? 0,
         serial: e.serial,
         message: 'a unit with this serial already exists',
       });
@@ -275,4 +276,14 @@ export async function countUnitsByModel(db: DbOrTx): Promise<Map<string, number>
     .from(units)
     .groupBy(units.modelId);
   return new Map(rows.map((r) => [r.modelId, r.n]));
+}
+
+/** Serials of the given units, by id (for logs that keep only an id). */
+export async function serialsByIds(db: DbOrTx, ids: string[]): Promise<Map<string, string>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({ id: units.id, serial: units.serial })
+    .from(units)
+    .where(inArray(units.id, ids));
+  return new Map(rows.map((r) => [r.id, r.serial]));
 }

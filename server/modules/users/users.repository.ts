@@ -1,4 +1,4 @@
-import { asc, eq, sql } from 'drizzle-orm';
+import { asc, eq, inArray, sql } from 'drizzle-orm';
 import type { PgUpdateSetSource } from 'drizzle-orm/pg-core';
 import type { DbOrTx } from '../../db/client';
 import { users, type UserRecord } from './users.table';
@@ -51,12 +51,45 @@ export async function updateUser(
   return row;
 }
 
-/** Adds one to the consecutive-failure counter atomically and returns the new count. */
-export async function incrementFailedAttempts(db: DbOrTx, id: string): Promise<number> {
+/**
+ * Counts one sign-in attempt against an account before its secret is checked, in one statement (the
+ * row lock orders parallel attempts, so each sees its own number). Returns the attempt's number among
+ * consecutive failures, or null when the account is locked (nothing is counted then).
+ *
+ * - A lock that has expired is cleared and the count starts again at 1: one wrong try after a lock
+ *   does not lock again.
+ * - The attempt that reaches `threshold` sets the lock at once (until `lockUntil`), so no later
+ *   parallel attempt is checked; if that attempt turns out right, the sign-in clears the lock.
+ */
+export async function reserveSignInAttempt(
+  db: DbOrTx,
+  id: string,
+  now: Date,
+  threshold: number,
+  lockUntil: Date,
+): Promise<{ attempt: number; locks: boolean } | null> {
+  const at = sql`${now.toISOString()}::timestamptz`;
+  const expired = sql`(${users.lockedUntil} is not null and ${users.lockedUntil} <= ${at})`;
+  const next = sql`(case when ${expired} then 1 else ${users.failedAttempts} + 1 end)`;
   const [row] = await db
     .update(users)
-    .set({ failedAttempts: sql`${users.failedAttempts} + 1` })
-    .where(eq(users.id, id))
-    .returning({ failedAttempts: users.failedAttempts });
-  return row?.failedAttempts ?? 0;
+    .set({
+      failedAttempts: next,
+      lockedUntil: sql`case when ${next} >= ${threshold} then ${lockUntil.toISOString()}::timestamptz
+                            when ${expired} then null else ${users.lockedUntil} end`,
+    })
+    .where(sql`${users.id} = ${id} and (${users.lockedUntil} is null or ${users.lockedUntil} <= ${at})`)
+    .returning({ failedAttempts: users.failedAttempts, lockedUntil: users.lockedUntil });
+  if (!row) return null;
+  return { attempt: row.failedAttempts, locks: row.lockedUntil !== null };
+}
+
+/** Display names of the given accounts, by id (for logs that keep only an id). */
+export async function displayNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<string, string>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({ id: users.id, name: users.displayName })
+    .from(users)
+    .where(inArray(users.id, ids));
+  return new Map(rows.map((r) => [r.id, r.name]));
 }

@@ -1,4 +1,12 @@
-import { NavLink, Outlet, redirect, useNavigate, useNavigation, type LoaderFunctionArgs } from 'react-router';
+import {
+  NavLink,
+  Outlet,
+  redirect,
+  useMatch,
+  useNavigate,
+  useNavigation,
+  type LoaderFunctionArgs,
+} from 'react-router';
 import { ROLE_LABELS, roleAllows } from '../../../shared/schemas/roles';
 import { BrandMark, BrandName } from '../../components/ui/brand-mark';
 import { Button } from '../../components/ui/button';
@@ -23,6 +31,9 @@ export function Component() {
   const navigate = useNavigate();
   const signOut = useSignOut();
   const navigation = useNavigation();
+  // The station screen is read from two metres on wide panels: it uses the whole width.
+  const wide = useMatch('/station/:stationId') !== null;
+  const width = wide ? 'max-w-none' : 'max-w-[1400px]';
 
   if (!me) return null;
   const items = NAV_ITEMS.filter((item) => roleAllows(item.access, me.role));
@@ -31,12 +42,12 @@ export function Component() {
     <div className="flex min-h-dvh flex-col">
       <a
         href="#main"
-        className="sr-only z-50 bg-copper-400 px-4 py-3 font-semibold text-graphite-950 focus:not-sr-only focus:fixed focus:top-2 focus:left-2"
+        className="sr-only z-50 bg-copper-400 px-5 font-semibold text-graphite-950 focus:not-sr-only focus:fixed focus:top-2 focus:left-2 focus:inline-flex focus:min-h-target focus:min-w-target focus:items-center"
       >
         Skip to content
       </a>
       <header className="border-b border-graphite-800 bg-graphite-900">
-        <div className="mx-auto flex max-w-[1400px] flex-wrap items-center gap-x-6 gap-y-3 px-4 py-3 sm:px-6">
+        <div className={`mx-auto flex ${width} flex-wrap items-center gap-x-5 gap-y-3 px-4 py-3 sm:px-6`}>
           <NavLink
             to="/"
             className="flex min-h-target items-center gap-3 no-underline"
@@ -46,14 +57,14 @@ export function Component() {
             <BrandName className="text-xl text-graphite-50" />
           </NavLink>
           <nav aria-label="Main" className="order-3 w-full lg:order-none lg:w-auto lg:flex-1">
-            <ul className="flex flex-wrap gap-1">
+            <ul className="flex flex-wrap gap-0.5">
               {items.map((item) => (
                 <li key={item.to}>
                   <NavLink
                     to={item.to}
                     end={item.to === '/'}
                     className={({ isActive }) =>
-                      `inline-flex min-h-target items-center border-b-4 px-3 text-base font-semibold tracking-wide no-underline ${
+                      `inline-flex min-h-target items-center border-b-4 px-2.5 text-base font-semibold no-underline ${
                         isActive
                           ? 'border-copper-400 bg-graphite-800 text-graphite-50'
                           : 'border-transparent text-graphite-300 hover:border-graphite-600 hover:text-graphite-50'
@@ -90,12 +101,12 @@ export function Component() {
       <main
         id="main"
         tabIndex={-1}
-        className="mx-auto w-full max-w-[1400px] flex-1 px-4 py-8 sm:px-6 focus:outline-none"
+        className={`mx-auto w-full ${width} flex-1 px-4 py-8 sm:px-6 focus:outline-none`}
       >
         <Outlet />
       </main>
-      <footer className="border-t border-graphite-800 px-6 py-4 text-sm text-graphite-400">
-        <div className="mx-auto flex max-w-[1400px] flex-wrap justify-between gap-2">
+      <footer className="border-t border-graphite-800 px-6 py-4 text-sm text-graphite-300">
+        <div className={`mx-auto flex ${width} flex-wrap justify-between gap-2`}>
           <span>Phasewright · end-of-line hall-offset calibration</span>
           <span>
             Signed in as <span className="font-mono">{me.username}</span>

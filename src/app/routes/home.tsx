@@ -4,6 +4,7 @@ import { Panel, PageHeader } from '../../components/ui/panel';
 import { useMe } from '../../features/auth/api/me';
 import { UnitSearch } from '../../features/line/components/unit-search';
 import { HealthSummary } from '../../features/system/components/health-view';
+import { AlertSubscriptionToggle, OpenAlerts } from '../../features/alerts/components/open-alerts';
 import { NAV_ITEMS } from '../navigation';
 
 const ROLE_DUTIES: Record<Role, string> = {
@@ -32,7 +33,7 @@ export function Component() {
             <dt className="text-graphite-400">Role</dt>
             <dd data-testid="home-role">{ROLE_LABELS[me.role]}</dd>
             <dt className="text-graphite-400">E-mail</dt>
-            <dd>{me.email ?? <span className="text-graphite-500">none on file</span>}</dd>
+            <dd>{me.email ?? <span className="text-graphite-400">none on file</span>}</dd>
           </dl>
         </Panel>
         <Panel title="System" titleId="system-title">
@@ -41,6 +42,14 @@ export function Component() {
         <Panel title="Find a unit" titleId="find-unit-title">
           <UnitSearch />
         </Panel>
+        {roleAllows(['engineer', 'quality'], me.role) ? (
+          <Panel title="Chart alerts" titleId="alerts-title" className="lg:col-span-2">
+            <div className="flex flex-col gap-4">
+              <OpenAlerts canAcknowledge={roleAllows(['engineer'], me.role)} />
+              <AlertSubscriptionToggle />
+            </div>
+          </Panel>
+        ) : null}
       </div>
       {areas.length > 0 ? (
         <section aria-labelledby="areas-title" className="flex flex-col gap-4">

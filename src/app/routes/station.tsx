@@ -9,6 +9,7 @@ import {
   StationPicker,
 } from '../../features/line/components/station-picker';
 import { StationScreen } from '../../features/line/components/station-screen';
+import { OpenAlerts } from '../../features/alerts/components/open-alerts';
 
 /** /station picks the panel's station (or goes to the remembered one); /station/:id runs it. */
 export function Component() {
@@ -56,7 +57,18 @@ export function Component() {
   return (
     <>
       <title>{`${station.name} · Station · Phasewright`}</title>
-      <StationScreen key={station.id} station={station} />
+      <StationScreen
+        key={station.id}
+        station={station}
+        healthExtra={
+          <section aria-labelledby="station-alerts-title" className="flex flex-col gap-2">
+            <h2 id="station-alerts-title" className="text-lg font-semibold text-graphite-100">
+              Offset chart alerts
+            </h2>
+            <OpenAlerts stationId={station.id} canAcknowledge={false} max={3} />
+          </section>
+        }
+      />
     </>
   );
 }

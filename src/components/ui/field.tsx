@@ -9,7 +9,7 @@ import {
 
 const controlBase =
   'w-full min-h-target border-2 border-graphite-600 bg-graphite-950 px-3 py-2 text-lg text-graphite-50 ' +
-  'placeholder:text-graphite-500 hover:border-graphite-400 focus-visible:border-copper-400 ' +
+  'placeholder:text-graphite-400 hover:border-graphite-400 focus-visible:border-copper-400 ' +
   'aria-invalid:border-fault disabled:opacity-60';
 
 type FieldShellProps = {

@@ -51,9 +51,16 @@ export function AuditLog() {
     const all = audit.data ?? [];
     if (!needle) return all;
     return all.filter((e) =>
-      [e.action, e.actorName, e.reason, e.subjectType, e.subjectId, e.ip].some((v) =>
-        v?.toLowerCase().includes(needle),
-      ),
+      [
+        e.action,
+        readableAction(e.action),
+        e.actorName,
+        e.subjectLabel,
+        e.reason,
+        e.subjectType,
+        e.subjectId,
+        e.ip,
+      ].some((v) => v?.toLowerCase().includes(needle)),
     );
   }, [audit.data, search]);
 
@@ -90,6 +97,15 @@ export function AuditLog() {
             Showing {entries.length} of the newest {audit.data.length} entries. The log is append-only:
             nothing here can be changed or removed.
           </p>
+          {entries.length === 0 && search.trim() ? (
+            <p
+              className="border-l-4 border-copper-400 bg-graphite-850 p-4 text-lg"
+              data-testid="audit-no-match"
+            >
+              No entry among the newest {audit.data.length} matches “{search.trim()}”. Check the spelling, or
+              show more entries.
+            </p>
+          ) : null}
           <TableFrame caption="Audit log, newest first">
             <thead>
               <tr>
@@ -105,8 +121,8 @@ export function AuditLog() {
                 <tr key={entry.id} className="align-top hover:bg-graphite-850">
                   <Td className="whitespace-nowrap tabular-nums">{formatDateTime(entry.at)}</Td>
                   <Td>
-                    {entry.actorName ?? <span className="text-graphite-500">system or anonymous</span>}
-                    {entry.ip ? <div className="font-mono text-xs text-graphite-500">{entry.ip}</div> : null}
+                    {entry.actorName ?? <span className="text-graphite-400">system or anonymous</span>}
+                    {entry.ip ? <div className="font-mono text-xs text-graphite-400">{entry.ip}</div> : null}
                   </Td>
                   <Td>
                     <span className="font-semibold">{readableAction(entry.action)}</span>
@@ -115,9 +131,15 @@ export function AuditLog() {
                   <Td className="text-graphite-300">
                     {entry.subjectType ? (
                       <>
-                        {entry.subjectType}
-                        {entry.subjectId ? (
-                          <div className="font-mono text-xs break-all text-graphite-500">
+                        {entry.subjectLabel ? (
+                          <span className="font-semibold text-graphite-100">{entry.subjectLabel}</span>
+                        ) : (
+                          entry.subjectType
+                        )}
+                        {entry.subjectLabel ? (
+                          <div className="text-sm text-graphite-400">{entry.subjectType}</div>
+                        ) : entry.subjectId ? (
+                          <div className="font-mono text-xs break-all text-graphite-400">
                             {entry.subjectId}
                           </div>
                         ) : null}
@@ -127,7 +149,7 @@ export function AuditLog() {
                     )}
                   </Td>
                   <Td className="max-w-sm text-graphite-200">
-                    {entry.reason ?? <span className="text-graphite-500">—</span>}
+                    {entry.reason ?? <span className="text-graphite-400">—</span>}
                   </Td>
                 </tr>
               ))}

@@ -8,10 +8,13 @@ export function signInErrorMessage(error: unknown, mode: SignInMode): { title: s
   switch (error.code) {
     case 'auth.bad_credentials':
       return mode === 'badge'
-        ? { title: 'Badge or PIN not recognised', body: 'Scan the badge again and re-enter the PIN.' }
+        ? {
+            title: 'Badge or PIN not recognised',
+            body: 'Scan the badge again and re-enter the PIN. After 5 failed attempts the account stays locked for 15 minutes.',
+          }
         : {
             title: 'User name or password not recognised',
-            body: 'Check both and try again. Passwords are case-sensitive.',
+            body: 'Check both and try again. Passwords are case-sensitive. After 5 failed attempts the account stays locked for 15 minutes, except on a browser it was used from before; an administrator can unlock it sooner.',
           };
     case 'auth.account_disabled':
       return { title: 'This account is switched off', body: 'Ask an administrator to switch it back on.' };

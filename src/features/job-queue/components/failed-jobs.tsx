@@ -43,7 +43,7 @@ export function FailedJobs() {
               <tr key={j.id} className="align-top hover:bg-graphite-850">
                 <Td className="whitespace-nowrap">
                   {formatDateTime(j.failedAt)}
-                  <span className="block text-sm text-graphite-500">
+                  <span className="block text-sm text-graphite-400">
                     queued {formatDateTime(j.createdAt)}
                   </span>
                 </Td>

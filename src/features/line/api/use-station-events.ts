@@ -18,7 +18,7 @@ const MAX_BACKOFF_MS = 15_000;
 /**
  * Follows a station's Server-Sent Events. The browser reconnects on its own after a dropped stream; when
  * it gives up (the server answered an error), this reconnects with a growing pause. `onResync` runs
- * after every reconnection, because events sent while the stream was down are not replayed.
+ * every time the stream opens, because events sent before it was open are not replayed.
  */
 export function useStationEvents(
   stationId: string,
@@ -35,7 +35,6 @@ export function useStationEvents(
     let source: EventSource | null = null;
     let retryTimer: number | undefined;
     let backoffMs = 1000;
-    let everOpen = false;
     let stopped = false;
 
     const connect = () => {
@@ -43,8 +42,9 @@ export function useStationEvents(
       source.onopen = () => {
         setState('live');
         backoffMs = 1000;
-        if (everOpen) handlers.current.onResync();
-        everOpen = true;
+        // Also on the first opening: anything the station did between the screen's first reads and
+        // this moment was never sent to it, so read again now that nothing more can be missed.
+        handlers.current.onResync();
       };
       source.onerror = () => {
         setState('reconnecting');

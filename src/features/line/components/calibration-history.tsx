@@ -88,9 +88,11 @@ export function CalibrationHistory({ calibrations }: { calibrations: Calibration
             return (
               <div className="flex max-w-md flex-col gap-1 text-sm">
                 {failed.map((m) => (
-                  <span key={m} className="flex gap-2 text-graphite-100">
+                  <span key={m.key} className="flex gap-2 text-graphite-100">
                     <span aria-hidden className="mt-1.5 inline-block size-2 shrink-0 bg-fault" />
-                    {m}
+                    <span>
+                      <span className="font-semibold">{m.name}:</span> {m.message}
+                    </span>
                   </span>
                 ))}
                 <span className="text-graphite-400">{c.nextAction}</span>
@@ -105,7 +107,7 @@ export function CalibrationHistory({ calibrations }: { calibrations: Calibration
             <span className="text-sm whitespace-nowrap text-graphite-300">
               {formatDateTime(info.getValue())}
               {info.row.original.computeMs !== null ? (
-                <span className="block text-graphite-500">
+                <span className="block text-graphite-400">
                   computed in {Math.round(info.row.original.computeMs)} ms
                 </span>
               ) : null}

@@ -1,4 +1,5 @@
 import type { CalibrationView, UnitStatus } from '../../../../shared/schemas/line';
+import { checkName } from '../../../../shared/calibration/check-guide';
 import type { Tone } from '../../../components/ui/status-chip';
 
 export const UNIT_STATUS_LABELS: Record<UnitStatus, string> = {
@@ -29,12 +30,8 @@ export const VERDICT_TONES: Record<Verdict, Tone> = {
   unusable: 'warn',
 };
 
-/** Electrical degrees with an explicit sign, two decimals: "+4.21 °e". */
-export function formatOffsetDeg(deg: number | null | undefined): string {
-  if (deg === null || deg === undefined) return '—';
-  const sign = deg > 0 ? '+' : deg < 0 ? '−' : '±';
-  return `${sign}${Math.abs(deg).toFixed(2)} °e`;
-}
+// The offset is printed on the traveler too: one format for screen and paper.
+export { formatOffsetDeg } from '../../../../shared/wording';
 
 /** Firmware counts as the unit stores them, with thousands grouped: "766 counts". */
 export function formatCounts(counts: number | null | undefined): string {
@@ -48,11 +45,16 @@ export function formatDeg(deg: number | null | undefined, digits = 2): string {
   return `${sign}${Math.abs(deg).toFixed(digits)}°`;
 }
 
-/** The checks that failed, in the engine's own plain words. */
-export function failedChecks(calibration: CalibrationView): string[] {
+export type FailedCheckLine = { key: string; name: string; message: string };
+
+/** The checks that failed: the check's plain name and the engine's own sentence. */
+export function failedChecks(calibration: CalibrationView): FailedCheckLine[] {
   const checks = calibration.result?.checks ?? [];
-  const failed = checks.filter((c) => !c.passed).map((c) => c.message);
-  if (failed.length === 0 && calibration.error) failed.push(calibration.error.message);
+  const failed: FailedCheckLine[] = checks
+    .filter((c) => !c.passed)
+    .map((c) => ({ key: c.code, name: checkName(c.code), message: c.message }));
+  if (failed.length === 0 && calibration.error)
+    failed.push({ key: 'error', name: 'Measurement not usable', message: calibration.error.message });
   return failed;
 }
 

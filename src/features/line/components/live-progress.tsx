@@ -1,11 +1,13 @@
 import type { Verdict } from './line-format';
 import { VERDICT_LABELS } from './line-format';
+import type { ProgressPhase } from './station-progress';
 
-export type ProgressPhase = 'waiting' | 'received' | 'computing' | 'result';
+export type { ProgressPhase };
 
+// Labels are read from two metres: short words, at least 24 px.
 const STEPS: { phase: ProgressPhase; label: string; doing: string }[] = [
-  { phase: 'waiting', label: 'Waiting for the station', doing: 'Spin the unit when the guard is closed' },
-  { phase: 'received', label: 'Measurement received', doing: 'The station sent its capture' },
+  { phase: 'waiting', label: 'Spin', doing: 'Waiting for the station' },
+  { phase: 'received', label: 'Received', doing: 'The station sent its capture' },
   { phase: 'computing', label: 'Computing', doing: 'Working out the offset' },
   { phase: 'result', label: 'Result', doing: 'Committed' },
 ];
@@ -31,7 +33,7 @@ function StepMark({ state }: { state: 'done' | 'now' | 'later' }) {
       </svg>
     );
   return (
-    <svg width="26" height="26" viewBox="0 0 26 26" aria-hidden className="shrink-0 text-graphite-600">
+    <svg width="26" height="26" viewBox="0 0 26 26" aria-hidden className="shrink-0 text-graphite-400">
       <circle cx="13" cy="13" r="10.5" fill="none" stroke="currentColor" strokeWidth="3" />
     </svg>
   );
@@ -54,7 +56,7 @@ export function LiveProgress({ phase, verdict }: { phase: ProgressPhase; verdict
           <li
             key={step.phase}
             aria-current={i === current ? 'step' : undefined}
-            className={`flex min-h-16 items-center gap-3 border-t-4 px-3 py-2 ${
+            className={`flex min-h-20 items-center gap-3 border-t-4 px-3 py-2 ${
               state === 'done'
                 ? 'border-copper-400 bg-graphite-850'
                 : state === 'now'
@@ -65,13 +67,13 @@ export function LiveProgress({ phase, verdict }: { phase: ProgressPhase; verdict
             <StepMark state={state} />
             <span className="flex min-w-0 flex-col leading-tight">
               <span
-                className={`font-semibold ${state === 'later' ? 'text-graphite-400' : 'text-graphite-50'}`}
+                className={`text-2xl font-semibold ${state === 'later' ? 'text-graphite-300' : 'text-graphite-50'}`}
               >
                 {step.phase === 'result' && phase === 'result' && verdict
                   ? `Result: ${VERDICT_LABELS[verdict]}`
                   : step.label}
               </span>
-              <span className="text-sm text-graphite-400">
+              <span className="text-base text-graphite-300">
                 {state === 'done' ? 'Done' : state === 'now' ? step.doing : 'Not yet'}
               </span>
             </span>

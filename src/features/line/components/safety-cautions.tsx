@@ -1,4 +1,6 @@
-/** The cautions for back-driven motors: short, always on screen, never in the way. */
+import { SAFETY_CAUTIONS, SAFETY_TITLE } from '../../../../shared/wording';
+
+/** The cautions for back-driven motors (the same words as on the traveler): always on screen, never in the way. */
 export function SafetyCautions() {
   return (
     <aside
@@ -14,14 +16,12 @@ export function SafetyCautions() {
           <path d="M6 0.8 11.4 11H0.6Z" fill="currentColor" />
           <path d="M6 4.2v3.6M6 8.8v1" stroke="var(--color-graphite-950)" strokeWidth="1.3" />
         </svg>
-        Safety
+        {SAFETY_TITLE}
       </h2>
       <ul className="flex list-disc flex-col gap-1 pl-4 marker:text-warn">
-        <li>Guards closed and interlocks working before the rotor spins.</li>
-        <li>A turning rotor makes voltage: the terminals are live. Hands off while it spins.</li>
-        <li>
-          Follow the plant&apos;s safety rules, local codes and machinery standards such as IEC 60204-1.
-        </li>
+        {SAFETY_CAUTIONS.map((caution) => (
+          <li key={caution}>{caution}</li>
+        ))}
       </ul>
     </aside>
   );

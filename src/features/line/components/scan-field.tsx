@@ -1,5 +1,5 @@
 import { useCallback, useEffect, useId, useRef, useState, type RefObject } from 'react';
-import { serialSchema } from '../../../../shared/schemas/line';
+import { serialSchema } from '../../../../shared/schemas/serial';
 
 /** Typed characters wait this long for more (or Enter) before they count as stray and are cleared, ms. */
 export const STRAY_CLEAR_MS = 4000;
@@ -25,13 +25,15 @@ export function readScan(raw: string): { serial: string } | { error: string } {
   if (text.length < 3)
     return { error: `“${text}” is too short for a serial. Scan the label again, or type the whole serial.` };
   const parsed = serialSchema.safeParse(text);
-  if (!parsed.success) return { error: `“${text}” is not a serial: ${parsed.error.issues[0].message}.` };
+  if (!parsed.success) return { error: parsed.error.issues[0].message };
   return { serial: parsed.data };
 }
 
 type ScanFieldProps = {
   inputRef: RefObject<HTMLInputElement | null>;
   onScan: (serial: string) => void;
+  /** A refused scan: the screen shows it as large as a verdict (and clears the unit on screen). */
+  onRefused?: (message: string) => void;
   busy?: boolean;
 };
 
@@ -41,7 +43,7 @@ type ScanFieldProps = {
  * a dialog is open); a character typed while a button has the focus is moved here too. Characters that
  * sit without an Enter for a few seconds were stray key presses and are cleared.
  */
-export function ScanField({ inputRef, onScan, busy = false }: ScanFieldProps) {
+export function ScanField({ inputRef, onScan, onRefused, busy = false }: ScanFieldProps) {
   const id = useId();
   const [value, setValue] = useState('');
   const [message, setMessage] = useState<{ tone: 'fault' | 'info'; text: string } | null>(null);
@@ -106,7 +108,12 @@ export function ScanField({ inputRef, onScan, busy = false }: ScanFieldProps) {
     const scan = readScan(value);
     setValue('');
     if ('error' in scan) {
-      setMessage({ tone: 'fault', text: scan.error });
+      if (onRefused) {
+        setMessage(null);
+        onRefused(scan.error);
+      } else {
+        setMessage({ tone: 'fault', text: scan.error });
+      }
       return;
     }
     setMessage(null);
@@ -122,7 +129,7 @@ export function ScanField({ inputRef, onScan, busy = false }: ScanFieldProps) {
           ))}
         </svg>
         Scan the unit&apos;s serial
-        <span className="text-base font-normal text-graphite-400">(or type it, then Enter)</span>
+        <span className="text-base font-normal text-graphite-300">(or type it, then Enter)</span>
       </label>
       <input
         id={id}
@@ -152,7 +159,7 @@ export function ScanField({ inputRef, onScan, busy = false }: ScanFieldProps) {
             setMessage(null);
           }
         }}
-        className="min-h-16 w-full border-2 border-copper-500 bg-graphite-950 px-4 font-mono text-3xl tracking-wider text-graphite-50 placeholder:font-sans placeholder:text-xl placeholder:tracking-normal placeholder:text-graphite-500 focus-visible:border-copper-300"
+        className="min-h-16 w-full border-2 border-copper-500 bg-graphite-950 px-4 font-mono text-3xl tracking-wider text-graphite-50 placeholder:font-sans placeholder:text-xl placeholder:tracking-normal placeholder:text-graphite-400 focus-visible:border-copper-300"
       />
       <p id={`${id}-msg`} role={message?.tone === 'fault' ? 'alert' : 'status'} className="min-h-6 text-base">
         {message ? (

@@ -1,10 +1,11 @@
-import { useCallback, useEffect, useRef, useState } from 'react';
+import { useCallback, useEffect, useReducer, useRef, useState, type ReactNode } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { Link } from 'react-router';
 import type { LineEvent } from '../../../../shared/schemas/events';
 import type { StationView, UnitDetail } from '../../../../shared/schemas/line';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
+import { Dialog } from '../../../components/ui/dialog';
 import { Kbd } from '../../../components/ui/kbd';
 import {
   useAttendStation,
@@ -17,21 +18,31 @@ import {
 import { lineKeys } from '../api/line-keys';
 import { useStationEvents } from '../api/use-station-events';
 import { CalibrationResult } from './calibration-result';
-import type { Verdict } from './line-format';
-import { LiveProgress, type ProgressPhase } from './live-progress';
+import { LiveProgress } from './live-progress';
 import { RecentUnits } from './recent-units';
 import { RegisterUnitDialog } from './register-unit-dialog';
 import { SafetyCautions } from './safety-cautions';
 import { ScanField } from './scan-field';
 import { StationHealth } from './station-health';
+import {
+  freshCalibration as freshOf,
+  historyCalibration as historyOf,
+  initialStationState,
+  liveOf,
+  needsReread,
+  sameSerial,
+  stationReducer,
+} from './station-progress';
+import { HistoryResult, HoldBanner, ScanProblem } from './station-states';
 import { UnitCard } from './unit-card';
 
 const PAGE_SIZE_KEY = 'phasewright.station.pageSize';
 
-type Progress = { serial: string; phase: ProgressPhase; calibrationId?: string; verdict?: Verdict };
+/** Reads of a unit the screen makes at most while an announced result is missing from them. */
+const MAX_REREADS = 6;
 
-const sameSerial = (a: string | null | undefined, b: string | null | undefined) =>
-  !!a && !!b && a.toUpperCase() === b.toUpperCase();
+/** What to do with a held unit when its newest result gives no more precise step. */
+const HOLD_ACTION = 'Do not measure, program or ship it. Tag it and put it in the hold area for quality.';
 
 function dialogOpen(): boolean {
   return document.querySelector('dialog[open]') !== null;
@@ -45,30 +56,35 @@ function storedPageSize(): PageSize {
   }
 }
 
-/** Whether the traveler of the unit's latest result exists yet, and whether it has been printed. */
-function travelerState(detail: UnitDetail | null | undefined, readyForLatest: boolean) {
+/**
+ * The unit's latest result with a verdict, and whether its traveler has been printed. A traveler that
+ * has not been rendered yet is rendered by the print itself, so a result is always printable.
+ */
+function travelerState(detail: UnitDetail | null | undefined) {
   const latest = detail?.calibrations.find((c) => c.purpose === 'station' && c.verdict !== 'unusable');
-  if (!detail || !latest) return { latest: undefined, ready: false, reprint: false };
+  if (!detail || !latest) return { latest: undefined, reprint: false };
   const docs = detail.travelers.filter((t) => t.createdAt >= latest.computedAt);
-  return {
-    latest,
-    ready: readyForLatest || docs.length > 0,
-    reprint: docs.some((t) => t.printNumber > 1),
-  };
+  return { latest, reprint: docs.some((t) => t.printNumber > 1) };
 }
 
 /**
  * The operator's station screen: scan, watch the unit's measurement arrive and compute, read the verdict
  * and print the traveler. Everything works from the keyboard; the scan field keeps the focus.
  */
-export function StationScreen({ station }: { station: StationView }) {
+export function StationScreen({
+  station,
+  healthExtra,
+}: {
+  station: StationView;
+  /** Shown under the station's health (the route puts the station's open chart alerts there). */
+  healthExtra?: ReactNode;
+}) {
   const queryClient = useQueryClient();
   const scanRef = useRef<HTMLInputElement>(null);
-  const [serial, setSerial] = useState<string | null>(null);
-  const [progress, setProgress] = useState<Progress | null>(null);
+  const [state, dispatch] = useReducer(stationReducer, initialStationState);
+  const { serial, elsewhere, scanError } = state;
   const [registering, setRegistering] = useState<string | null>(null);
-  const [elsewhere, setElsewhere] = useState<string | null>(null);
-  const [readyFor, setReadyFor] = useState<string | null>(null);
+  const [confirmingPrint, setConfirmingPrint] = useState(false);
   const [pageSize, setPageSizeState] = useState<PageSize>(storedPageSize);
   const [lastPrint, setLastPrint] = useState<(PrintedTraveler & { serial: string; blocked: boolean }) | null>(
     null,
@@ -94,16 +110,17 @@ export function StationScreen({ station }: { station: StationView }) {
 
   const show = useCallback(
     (next: string) => {
-      setSerial(next);
-      setElsewhere(null);
+      dispatch({ type: 'scanned', serial: next });
       setLastPrint(null);
-      setProgress((p) =>
-        sameSerial(p?.serial, next) && p?.phase !== 'result' ? p : { serial: next, phase: 'waiting' },
-      );
       void queryClient.invalidateQueries({ queryKey: lineKeys.unit(next) });
     },
     [queryClient],
   );
+
+  const refuse = useCallback((message: string) => {
+    dispatch({ type: 'scan-refused', message });
+    setLastPrint(null);
+  }, []);
 
   const onEvent = (e: LineEvent) => {
     void queryClient.invalidateQueries({ queryKey: lineKeys.stationHealth(station.id) });
@@ -111,38 +128,8 @@ export function StationScreen({ station }: { station: StationView }) {
     if (e.type === 'calibration.committed' || e.type === 'programming.confirmed')
       void queryClient.invalidateQueries({ queryKey: lineKeys.stationRecent(station.id) });
     void queryClient.invalidateQueries({ queryKey: lineKeys.unit(e.serial) });
-    if (!sameSerial(e.serial, serial)) {
-      // With nothing on screen, follow the station; otherwise offer the other unit without switching.
-      if (serial === null && e.type !== 'traveler.ready') {
-        setSerial(e.serial);
-      } else {
-        if (e.type !== 'traveler.ready') setElsewhere(e.serial);
-        return;
-      }
-    }
-    switch (e.type) {
-      case 'measurement.received':
-        setProgress({ serial: e.serial, phase: 'received' });
-        setLastPrint(null);
-        setReadyFor(null);
-        break;
-      case 'calibration.computing':
-        setProgress({ serial: e.serial, phase: 'computing' });
-        break;
-      case 'calibration.committed':
-        setProgress({
-          serial: e.serial,
-          phase: 'result',
-          calibrationId: e.calibrationId,
-          verdict: e.verdict,
-        });
-        break;
-      case 'traveler.ready':
-        setReadyFor(e.serial.toUpperCase());
-        break;
-      default:
-        break;
-    }
+    if (e.type === 'measurement.received' && sameSerial(e.serial, serial)) setLastPrint(null);
+    dispatch({ type: 'event', event: e });
   };
 
   const connection = useStationEvents(station.id, onEvent, () => {
@@ -151,17 +138,32 @@ export function StationScreen({ station }: { station: StationView }) {
   });
 
   const detail = unit.data;
-  const live = progress && sameSerial(progress.serial, serial) ? progress : null;
-  const trav = travelerState(detail, sameSerial(readyFor, serial));
+  const live = liveOf(state);
+  const trav = travelerState(detail);
+  const held = detail?.unit.status === 'on_hold';
+  const rejected = held || trav.latest?.verdict === 'fail';
+
+  // A result announced while an earlier read of the unit was on its way is missing from that read:
+  // read again (a few times at most) until it is there, so the screen never waits for the next event.
+  const rereads = useRef({ calibrationId: '', count: 0 });
+  const reread = needsReread(live, detail, unit.isFetching);
+  const refetchUnit = unit.refetch;
+  useEffect(() => {
+    if (!reread || !live?.calibrationId) return;
+    if (rereads.current.calibrationId !== live.calibrationId)
+      rereads.current = { calibrationId: live.calibrationId, count: 0 };
+    if (rereads.current.count >= MAX_REREADS) return;
+    rereads.current.count += 1;
+    const timer = window.setTimeout(() => void refetchUnit(), rereads.current.count === 1 ? 0 : 300);
+    return () => window.clearTimeout(timer);
+  }, [reread, live?.calibrationId, refetchUnit]);
   const allowedModels = (models.data ?? []).filter((m) => station.allowedModels.some((a) => a.id === m.id));
   const notFound = serial !== null && unit.isSuccess && detail === null;
   const printBlocked = !detail
     ? 'Scan a unit first.'
     : !trav.latest
       ? 'Nothing to print: this unit has no result yet.'
-      : !trav.ready
-        ? 'The traveler is being made; it can be printed in a moment.'
-        : null;
+      : null;
   const isReprint = trav.reprint || sameSerial(lastPrint?.serial, serial);
 
   const setPageSize = (size: PageSize) => {
@@ -173,8 +175,14 @@ export function StationScreen({ station }: { station: StationView }) {
     }
   };
 
-  const doPrint = () => {
+  const doPrint = (confirmed = false) => {
     if (!serial || printBlocked || print.isPending) return;
+    // A failed or held unit's traveler is a reject document: print it only when asked twice.
+    if (rejected && !confirmed) {
+      setConfirmingPrint(true);
+      return;
+    }
+    setConfirmingPrint(false);
     // Open the tab inside the key press or click, or the browser's pop-up blocker refuses it later.
     const tab = window.open('about:blank', '_blank');
     print.mutate(
@@ -202,7 +210,7 @@ export function StationScreen({ station }: { station: StationView }) {
         setRegistering(k.serial);
       } else if (event.key === 'F8') {
         event.preventDefault();
-        k.doPrint();
+        k.doPrint(false);
       } else if (event.key === 'F9') {
         event.preventDefault();
         k.setPageSize(k.pageSize === 'A4' ? 'LETTER' : 'A4');
@@ -212,13 +220,13 @@ export function StationScreen({ station }: { station: StationView }) {
     return () => document.removeEventListener('keydown', onKey);
   }, []);
 
-  const freshCalibration =
-    live?.phase === 'result'
-      ? detail?.calibrations.find((c) => c.calibrationId === live.calibrationId)
-      : undefined;
+  const freshCalibration = freshOf(live, detail);
   const busyPhase = live && (live.phase === 'received' || live.phase === 'computing');
-  const historyCalibration =
-    !live || live.phase === 'waiting' ? detail?.calibrations.find((c) => c.purpose === 'station') : undefined;
+  const historyCalibration = historyOf(live, detail);
+  const holdAction =
+    trav.latest?.verdict === 'fail' && trav.latest.nextAction.includes('hold')
+      ? trav.latest.nextAction
+      : HOLD_ACTION;
   const unitModel = detail ? (models.data?.find((m) => m.id === detail.unit.model.id) ?? null) : null;
 
   return (
@@ -243,12 +251,12 @@ export function StationScreen({ station }: { station: StationView }) {
           administrator.
         </Alert>
       ) : null}
-      <div className="grid items-start gap-5 lg:grid-cols-[minmax(0,1fr)_21rem]">
+      <div className="grid items-start gap-5 lg:grid-cols-[minmax(0,1fr)_21rem] 2xl:grid-cols-[minmax(0,1fr)_27rem]">
         <div className="flex min-w-0 flex-col gap-4">
-          <ScanField inputRef={scanRef} onScan={show} busy={unit.isFetching} />
+          <ScanField inputRef={scanRef} onScan={show} onRefused={refuse} busy={unit.isFetching} />
           {elsewhere ? (
             <div
-              className="flex flex-wrap items-center justify-between gap-3 border-l-4 border-copper-400 bg-graphite-850 p-3"
+              className="flex flex-wrap items-center justify-between gap-3 border-l-4 border-copper-400 bg-graphite-850 p-3 text-xl"
               role="status"
             >
               <p>
@@ -258,28 +266,25 @@ export function StationScreen({ station }: { station: StationView }) {
               <Button onClick={() => show(elsewhere)}>Show {elsewhere}</Button>
             </div>
           ) : null}
-          {serial === null ? <IdleGuide /> : null}
+          {scanError ? (
+            <ScanProblem title="Scan refused" testId="scan-refused">
+              <p>{scanError}</p>
+              <p className="text-graphite-200">No unit is on screen. Scan the serial label again.</p>
+            </ScanProblem>
+          ) : null}
+          {serial === null && !scanError ? <IdleGuide /> : null}
           {serial !== null && unit.isPending ? <Loading label={`Looking up ${serial}…`} /> : null}
           {unit.isError ? (
             <Alert tone="fault" title={`Could not look up ${serial}`}>
               {unit.error.message}
             </Alert>
           ) : null}
-          {notFound ? (
-            <div
-              className="chamfer chamfer-lg flex flex-col gap-3 p-5 [--ch-edge:var(--color-warn)]"
-              data-testid="unit-unknown"
-            >
-              <p className="flex items-center gap-2 text-sm font-semibold tracking-widest text-warn uppercase">
-                <svg width="14" height="14" viewBox="0 0 12 12" aria-hidden>
-                  <path d="M6 0.8 11.4 11H0.6Z" fill="currentColor" />
-                </svg>
-                Unknown serial
-              </p>
-              <p className="text-2xl text-graphite-50">
+          {notFound && serial ? (
+            <ScanProblem title="Unknown serial" testId="unit-unknown">
+              <p>
                 <span className="font-mono font-bold">{serial}</span> is not registered.
               </p>
-              <p className="text-graphite-300">
+              <p className="text-xl text-graphite-200">
                 Check the label. If the serial is right, register it against its model, then spin the unit.
                 {station.allowedModels.length === 1
                   ? ` This station makes only ${station.allowedModels[0].code}: it also registers the unit by itself when it measures it.`
@@ -295,9 +300,17 @@ export function StationScreen({ station }: { station: StationView }) {
                   Register {serial} <Kbd>F2</Kbd>
                 </Button>
               </div>
-            </div>
+            </ScanProblem>
           ) : null}
-          {detail && live ? <LiveProgress phase={live.phase} verdict={live.verdict} /> : null}
+          {detail && held ? <HoldBanner reason={detail.unit.holdReason} action={holdAction} /> : null}
+          {detail && live && !held ? <LiveProgress phase={live.phase} verdict={live.verdict} /> : null}
+          {detail && live?.phase === 'waiting' && !held ? (
+            <p className="text-2xl text-graphite-100" data-testid="live-waiting">
+              {detail.calibrations.length > 0
+                ? 'The station has not measured this unit since it was scanned. Close the guard and spin it; the new result appears here.'
+                : 'No measurement yet. Close the guard and start the station; the result appears here by itself.'}
+            </p>
+          ) : null}
           {busyPhase ? (
             <div
               className="chamfer chamfer-lg flex min-h-48 items-center justify-center gap-5 p-6"
@@ -315,16 +328,9 @@ export function StationScreen({ station }: { station: StationView }) {
           ) : null}
           {live?.phase === 'result' && !freshCalibration ? <Loading label="Fetching the result…" /> : null}
           {freshCalibration ? (
-            <CalibrationResult calibration={freshCalibration} model={unitModel} fresh />
+            <CalibrationResult calibration={freshCalibration} model={unitModel} fresh held={held} />
           ) : null}
-          {historyCalibration ? (
-            <CalibrationResult calibration={historyCalibration} model={unitModel} fresh={false} />
-          ) : null}
-          {detail && detail.calibrations.length === 0 && live?.phase === 'waiting' ? (
-            <p className="text-lg text-graphite-300">
-              No measurement yet. Close the guard and start the station; the result appears here by itself.
-            </p>
-          ) : null}
+          {historyCalibration ? <HistoryResult calibration={historyCalibration} /> : null}
         </div>
         <aside className="flex flex-col gap-4" aria-label="Unit, traveler and station">
           {detail ? <UnitCard unit={detail.unit} compact /> : null}
@@ -359,22 +365,28 @@ export function StationScreen({ station }: { station: StationView }) {
                 ))}
               </div>
               <Button
-                variant="primary"
+                variant={rejected ? 'danger' : 'primary'}
                 size="lg"
-                onClick={doPrint}
+                onClick={() => doPrint(false)}
                 disabled={printBlocked !== null}
                 busy={print.isPending}
                 aria-keyshortcuts="F8"
                 aria-describedby={printBlocked ? 'print-blocked' : undefined}
+                data-testid="print-button"
               >
-                {isReprint ? 'Reprint traveler' : 'Print traveler'} <Kbd>F8</Kbd>
+                {rejected
+                  ? `${isReprint ? 'Reprint' : 'Print'} ${held ? 'hold' : 'reject'} traveler`
+                  : isReprint
+                    ? 'Reprint traveler'
+                    : 'Print traveler'}{' '}
+                <Kbd>F8</Kbd>
               </Button>
               {printBlocked ? (
                 <p id="print-blocked" className="text-sm text-graphite-300">
                   {printBlocked}
                 </p>
               ) : (
-                <p className="text-sm text-graphite-400">Paper size: press F9 to switch.</p>
+                <p className="text-sm text-graphite-300">Paper size: press F9 to switch.</p>
               )}
               {print.isError ? (
                 <Alert tone="fault" title="Not printed">
@@ -398,9 +410,38 @@ export function StationScreen({ station }: { station: StationView }) {
           ) : null}
           <SafetyCautions />
           <StationHealth stationId={station.id} connection={connection} />
+          {healthExtra}
           <RecentUnits stationId={station.id} onPick={show} />
         </aside>
       </div>
+      <Dialog
+        open={confirmingPrint}
+        onClose={() => {
+          setConfirmingPrint(false);
+          refocusScan();
+        }}
+        title={held ? 'Print the traveler of a unit on hold?' : 'Print the traveler of a failed unit?'}
+        description={
+          held
+            ? 'This unit is on hold. Its traveler is printed marked ON HOLD, to travel with the unit to the hold area. It does not release the unit.'
+            : 'This unit failed. Its traveler is printed marked REJECT, to travel with the unit to repair or quality. It does not release the unit.'
+        }
+      >
+        <div className="flex flex-wrap gap-3" data-testid="confirm-print">
+          <Button variant="danger" size="lg" onClick={() => doPrint(true)}>
+            Print {held ? 'ON HOLD' : 'REJECT'} traveler
+          </Button>
+          <Button
+            size="lg"
+            onClick={() => {
+              setConfirmingPrint(false);
+              refocusScan();
+            }}
+          >
+            Cancel
+          </Button>
+        </div>
+      </Dialog>
       <RegisterUnitDialog
         serial={registering}
         models={allowedModels}

@@ -1,5 +1,7 @@
 import { useState, type FormEvent } from 'react';
-import type { ModelView, StationView } from '../../../../shared/schemas/line';
+import { createStationSchema, type ModelView, type StationView } from '../../../../shared/schemas/line';
+import { messagesByField } from '../../../../shared/schemas/plain-messages';
+import { isApiError } from '../../../lib/api-client';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
@@ -80,7 +82,7 @@ export function StationsAdmin() {
                 <Td>
                   <span title={formatDateTime(s.lastSeenAt)}>{formatRelative(s.lastSeenAt)}</span>
                 </Td>
-                <Td>{s.attendedBy?.displayName ?? <span className="text-graphite-500">nobody</span>}</Td>
+                <Td>{s.attendedBy?.displayName ?? <span className="text-graphite-400">nobody</span>}</Td>
                 <Td>
                   <KeyList station={s} onRevoke={(key) => setRevoking({ station: s, key })} />
                 </Td>
@@ -135,7 +137,7 @@ export function StationsAdmin() {
 }
 
 function KeyList({ station, onRevoke }: { station: StationView; onRevoke: (key: StationKey) => void }) {
-  if (station.keys.length === 0) return <span className="text-graphite-500">no key</span>;
+  if (station.keys.length === 0) return <span className="text-graphite-400">no key</span>;
   return (
     <ul className="flex flex-col gap-2">
       {station.keys.map((k) => (
@@ -221,20 +223,23 @@ function StationForm({
 
   const submit = async (event: FormEvent) => {
     event.preventDefault();
-    const found: Record<string, string> = {};
-    if (name.trim().length < 2) found.name = 'Give the station a name (2 to 40 characters).';
-    if (line.trim().length < 1) found.line = 'Name the line it stands on.';
-    if (allowed.length === 0) found.allowedModelIds = 'Allow at least one model.';
+    // The same schema as the server's, with the product's plain messages.
+    const parsed = createStationSchema.safeParse({ name, line, allowedModelIds: allowed });
+    const found = parsed.success ? {} : messagesByField(parsed.error);
     setErrors(found);
-    if (Object.keys(found).length) return;
+    if (!parsed.success) return;
     setBanner(null);
-    const body = { name: name.trim(), line: line.trim(), allowedModelIds: allowed };
+    const body = parsed.data;
     try {
       const saved = station
         ? await update.mutateAsync({ id: station.id, patch: body })
         : await create.mutateAsync(body);
       onSaved(saved, station === null);
     } catch (error) {
+      const issues = isApiError(error) ? error.issues : [];
+      const onFields: Record<string, string> = {};
+      for (const issue of issues) onFields[issue.path.split('.')[0]] ??= issue.message;
+      setErrors(onFields);
       setBanner(error instanceof Error ? error.message : 'Not saved.');
     }
   };

@@ -77,7 +77,7 @@ export function UnitCard({ unit, compact = false }: UnitCardProps) {
         {lots.map(([label, value]) => (
           <div key={label} className="contents">
             <dt className="text-graphite-400">{label} lot</dt>
-            <dd className="font-mono">{value ?? <span className="text-graphite-500">not recorded</span>}</dd>
+            <dd className="font-mono">{value ?? <span className="text-graphite-400">not recorded</span>}</dd>
           </div>
         ))}
       </dl>
@@ -88,7 +88,8 @@ export function UnitCard({ unit, compact = false }: UnitCardProps) {
           </svg>
           <p>
             <span className="font-semibold text-graphite-50">On hold: </span>
-            {unit.holdReason ?? 'no reason recorded'}. Do not measure again; set it aside for quality.
+            {(unit.holdReason ?? 'no reason recorded').replace(/\.$/, '')}. Do not measure again; set it aside
+            for quality.
           </p>
         </div>
       ) : null}

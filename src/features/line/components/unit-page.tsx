@@ -11,7 +11,12 @@ import { UnitSearch } from './unit-search';
 function TravelerList({ detail }: { detail: UnitDetail }) {
   const serial = encodeURIComponent(detail.unit.serial);
   if (detail.travelers.length === 0)
-    return <p className="text-graphite-400">No traveler yet: one is made when a calibration commits.</p>;
+    return (
+      <p className="text-graphite-400">
+        No traveler stored yet: one is made when a calibration commits, or when an older result&apos;s
+        traveler is first printed.
+      </p>
+    );
   return (
     <ul className="flex flex-col gap-1" data-testid="traveler-list">
       {detail.travelers.map((t, i) => (
@@ -29,7 +34,7 @@ function TravelerList({ detail }: { detail: UnitDetail }) {
             <span className="text-sm text-graphite-400">{formatDateTime(t.createdAt)}</span>
             {i === 0 ? <span className="text-sm text-copper-200">newest</span> : null}
           </a>
-          <span className="block px-1 font-mono text-xs break-all text-graphite-500">sha256 {t.sha256}</span>
+          <span className="block px-1 font-mono text-xs break-all text-graphite-400">sha256 {t.sha256}</span>
         </li>
       ))}
     </ul>
@@ -70,7 +75,12 @@ export function UnitPage({ serial }: { serial: string }) {
           </Panel>
         </div>
         {latest ? (
-          <CalibrationResult calibration={latest} model={model} fresh={false} />
+          <CalibrationResult
+            calibration={latest}
+            model={model}
+            fresh={false}
+            held={detail.unit.status === 'on_hold'}
+          />
         ) : (
           <p className="text-lg text-graphite-300">Not measured yet.</p>
         )}

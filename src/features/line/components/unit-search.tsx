@@ -35,7 +35,7 @@ export function UnitSearch({ autoFocus = false, initial = '' }: { autoFocus?: bo
           placeholder="Scan or type a serial"
           aria-invalid={error ? true : undefined}
           aria-describedby={error ? `${id}-error` : undefined}
-          className="min-h-target w-full border-2 border-graphite-600 bg-graphite-950 px-3 font-mono text-lg text-graphite-50 placeholder:font-sans placeholder:text-graphite-500 hover:border-graphite-400 focus-visible:border-copper-400"
+          className="min-h-target w-full border-2 border-graphite-600 bg-graphite-950 px-3 font-mono text-lg text-graphite-50 placeholder:font-sans placeholder:text-graphite-400 hover:border-graphite-400 focus-visible:border-copper-400"
         />
         <Button type="submit" variant="primary">
           Find

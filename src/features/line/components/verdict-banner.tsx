@@ -46,7 +46,7 @@ export function VerdictBanner({ verdict, size = 'huge' }: { verdict: Verdict; si
         <VerdictShape verdict={verdict} size={huge ? 96 : 56} />
       </span>
       <span
-        className={`font-bold tracking-[0.06em] uppercase leading-none ${s.text} ${huge ? 'text-[6.5rem]' : 'text-6xl'}`}
+        className={`font-bold tracking-[0.06em] uppercase leading-none ${s.text} ${huge ? 'text-[6.5rem] 2xl:text-[9rem]' : 'text-6xl'}`}
       >
         {VERDICT_LABELS[verdict]}
       </span>

@@ -50,7 +50,7 @@ export function OutboxView() {
                 >
                   <span className="font-semibold text-graphite-50">{message.subject || '(no subject)'}</span>
                   <span className="text-sm text-graphite-300">To {message.to.join(', ')}</span>
-                  <span className="text-sm text-graphite-500">{formatRelative(message.receivedAt)}</span>
+                  <span className="text-sm text-graphite-400">{formatRelative(message.receivedAt)}</span>
                 </button>
               </li>
             );

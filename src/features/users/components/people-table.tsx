@@ -123,7 +123,7 @@ export function PeopleTable({
           id: 'email',
           header: 'E-mail',
           sortFn: 'text',
-          cell: (info) => info.getValue() || <span className="text-graphite-500">—</span>,
+          cell: (info) => info.getValue() || <span className="text-graphite-400">—</span>,
         }),
         helper.display({
           id: 'signIn',
@@ -140,7 +140,7 @@ export function PeopleTable({
                 ))}
               </ul>
             ) : (
-              <span className="text-graphite-500">Not set up yet</span>
+              <span className="text-graphite-400">Not set up yet</span>
             );
           },
         }),
@@ -153,7 +153,7 @@ export function PeopleTable({
             return at ? (
               <span title={formatDateTime(at)}>{formatRelative(at)}</span>
             ) : (
-              <span className="text-graphite-500">never</span>
+              <span className="text-graphite-400">never</span>
             );
           },
         }),

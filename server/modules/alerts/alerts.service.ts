@@ -1,0 +1,313 @@
+import { and, desc, eq, inArray, sql } from 'drizzle-orm';
+import type { Db, DbOrTx } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
+import { AppError } from '../../lib/errors';
+import type { Logger } from '../../lib/logger';
+import { insertAudit } from '../audit/audit.repository';
+import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
+import type { Mailer } from '../mail/mail.service';
+import { stationCalibrationsAfter } from '../measurements/calibrations.repository';
+import { findStation } from '../stations/stations.service';
+import { findUserById } from '../users/users.repository';
+import type { AlertView } from '../../../shared/schemas/alerts';
+import {
+  alertSubscriptions,
+  chartAlerts,
+  watchedCharts,
+  type AlertPoint,
+  type WatchedChartRecord,
+} from './alerts.table';
+import { alreadySeen, initialWatchState, watchStep, type WatchHit } from './alerts.watch';
+
+/** Points kept on one alert (the first ones and the latest ones matter; the count says how many more). */
+const MAX_ALERT_POINTS = 50;
+/** Calibrations taken in per transaction (a long backlog is worked through in several). */
+const BATCH = 500;
+
+/** The charts watched for every station × model unless an engineer changes them. */
+const DEFAULT_CHARTS = [
+  { kind: 'imr' as const, ruleSet: 'western-electric', rules: [1, 2, 3, 4], lambda: null, limitWidth: null },
+  { kind: 'ewma' as const, ruleSet: 'western-electric', rules: [1, 2], lambda: 0.2, limitWidth: 3 },
+];
+
+export const alertErrors = {
+  notFound: () => new AppError(404, 'alerts.not_found', 'There is no such alert.'),
+  notOpen: () => new AppError(409, 'alerts.not_open', 'This alert has already been acknowledged.'),
+};
+
+export interface WatchDeps {
+  db: Db;
+  clock: () => Date;
+  logger: Logger;
+  mailer?: Mailer | null;
+  publicUrl?: string;
+}
+
+async function ensureDefaultCharts(db: DbOrTx, stationId: string, modelId: string, now: Date) {
+  await db
+    .insert(watchedCharts)
+    .values(
+      DEFAULT_CHARTS.map((c) => ({
+        ...c,
+        stationId,
+        modelId,
+        state: initialWatchState(),
+        createdAt: now,
+        updatedAt: now,
+      })),
+    )
+    .onConflictDoNothing();
+}
+
+interface RaisedAlert {
+  alertId: string;
+  chart: WatchedChartRecord;
+  hit: WatchHit;
+}
+
+/**
+ * Takes every new calibration of a station × model into its watched charts, in computed order, from each
+ * chart's saved state (never re-reading the history), and opens or extends alerts. Safe to run twice: the
+ * chart row is locked and its cursor says what was taken in. Subscribers are mailed about new alerts.
+ */
+export async function watchStationModel(
+  deps: WatchDeps,
+  key: { stationId: string; modelId: string },
+): Promise<{ taken: number; raised: number }> {
+  await ensureDefaultCharts(deps.db, key.stationId, key.modelId, deps.clock());
+  let taken = 0;
+  const raised: RaisedAlert[] = [];
+  for (;;) {
+    const batch = await deps.db.transaction(async (tx) => {
+      const charts = await tx
+        .select()
+        .from(watchedCharts)
+        .where(and(eq(watchedCharts.stationId, key.stationId), eq(watchedCharts.modelId, key.modelId)))
+        .orderBy(watchedCharts.kind)
+        .for('update');
+      // Every chart of the pair moves together; the oldest cursor decides where to read from.
+      const cursors = charts.map((c) => c.state.cursor);
+      const oldest = cursors.some((c) => c === null)
+        ? null
+        : cursors.reduce((a, b) => (a!.at < b!.at || (a!.at === b!.at && a!.id < b!.id) ? a : b));
+      const rows = await stationCalibrationsAfter(tx, {
+        ...key,
+        after: oldest ? { at: new Date(oldest.at), id: oldest.id } : null,
+        limit: BATCH,
+      });
+      for (const chart of charts) {
+        let state = chart.state;
+        for (const r of rows) {
+          const point: AlertPoint = {
+            serial: r.serial,
+            unitId: r.unitId,
+            calibrationId: r.calibrationId,
+            value: r.offsetDeg,
+            at: r.computedAt.toISOString(),
+          };
+          if (alreadySeen(state, r.calibrationId)) continue;
+          if (
+            state.cursor &&
+            (point.at < state.cursor.at ||
+              (point.at === state.cursor.at && point.calibrationId <= state.cursor.id))
+          )
+            continue;
+          const step = watchStep(
+            state,
+            {
+              kind: chart.kind,
+              ruleSet: chart.ruleSet as 'western-electric' | 'nelson',
+              rules: chart.rules,
+              lambda: chart.lambda ?? 0.2,
+              limitWidth: chart.limitWidth ?? 3,
+            },
+            point,
+          );
+          state = step.state;
+          for (const hit of step.hits) {
+            const id = await recordHit(tx, chart.id, hit, r.computedAt);
+            if (id) raised.push({ alertId: id, chart, hit });
+          }
+        }
+        await tx
+          .update(watchedCharts)
+          .set({ state, updatedAt: deps.clock() })
+          .where(eq(watchedCharts.id, chart.id));
+      }
+      return rows.length;
+    });
+    taken += batch;
+    if (batch < BATCH) break;
+  }
+  if (raised.length && deps.mailer) await mailSubscribers(deps, raised);
+  return { taken, raised: raised.length };
+}
+
+/** Extends the open alert of this chart and rule, or opens one; returns the id of a newly opened alert. */
+async function recordHit(tx: DbOrTx, chartId: string, hit: WatchHit, at: Date): Promise<string | null> {
+  const [open] = await tx
+    .select({ id: chartAlerts.id, points: chartAlerts.points })
+    .from(chartAlerts)
+    .where(
+      and(eq(chartAlerts.chartId, chartId), eq(chartAlerts.rule, hit.rule), eq(chartAlerts.status, 'open')),
+    );
+  if (open) {
+    const known = new Set(open.points.map((p) => p.calibrationId));
+    const merged = [...open.points, ...hit.points.filter((p) => !known.has(p.calibrationId))];
+    const points =
+      merged.length > MAX_ALERT_POINTS
+        ? [...merged.slice(0, 10), ...merged.slice(-(MAX_ALERT_POINTS - 10))]
+        : merged;
+    await tx
+      .update(chartAlerts)
+      .set({ points, hits: sql`${chartAlerts.hits} + 1`, lastHitAt: at })
+      .where(eq(chartAlerts.id, open.id));
+    return null;
+  }
+  const [created] = await tx
+    .insert(chartAlerts)
+    .values({
+      chartId,
+      rule: hit.rule,
+      ruleText: hit.ruleText,
+      points: hit.points,
+      raisedAt: at,
+      lastHitAt: at,
+    })
+    .returning({ id: chartAlerts.id });
+  return created.id;
+}
+
+async function mailSubscribers(deps: WatchDeps, raised: RaisedAlert[]) {
+  const subscribed = await deps.db.select().from(alertSubscriptions);
+  const people = await Promise.all(subscribed.map((s) => findUserById(deps.db, s.userId)));
+  const to = people
+    .filter((p) => p && p.email && !p.disabled)
+    .map((p) => ({ email: p!.email!, name: p!.displayName }));
+  if (!to.length) return;
+  const chart = raised[0].chart;
+  const station = await findStation(deps.db, chart.stationId);
+  const found = await findModelWithActiveRecipe(deps.db, chart.modelId);
+  const lines = raised.map(
+    (r) =>
+      `- ${r.chart.kind === 'ewma' ? 'EWMA' : 'Individuals'} chart: ${r.hit.ruleText} (units ${r.hit.points.map((p) => p.serial).join(', ')})`,
+  );
+  for (const person of to) {
+    try {
+      await deps.mailer!.send({
+        to: person.email!,
+        subject: `Phasewright: ${raised.length} new alert${raised.length === 1 ? '' : 's'} on ${station?.name ?? 'a station'} (${found?.model.code ?? 'model'})`,
+        text: [
+          `Hello ${person.name},`,
+          '',
+          `The offset charts of ${station?.name ?? 'a station'} for ${found?.model.code ?? 'a model'} broke a rule:`,
+          ...lines,
+          '',
+          `Open alerts and acknowledgement: ${deps.publicUrl ?? ''}/`,
+          'You get this because you subscribed to chart alerts; unsubscribe on the overview page.',
+        ].join('\n'),
+      });
+    } catch (e) {
+      // The alert itself is recorded and shown; a mail relay that is down must not fail the watch.
+      deps.logger.warn({ err: e, to: person.email }, 'alert mail could not be sent');
+    }
+  }
+}
+
+export async function listAlerts(
+  db: DbOrTx,
+  q: { status: 'open' | 'acknowledged' | 'all'; stationId?: string; limit: number },
+): Promise<AlertView[]> {
+  const where = [];
+  if (q.status !== 'all') where.push(eq(chartAlerts.status, q.status));
+  if (q.stationId) where.push(eq(watchedCharts.stationId, q.stationId));
+  const rows = await db
+    .select({
+      alert: chartAlerts,
+      kind: watchedCharts.kind,
+      stationId: watchedCharts.stationId,
+      modelId: watchedCharts.modelId,
+    })
+    .from(chartAlerts)
+    .innerJoin(watchedCharts, eq(watchedCharts.id, chartAlerts.chartId))
+    .where(where.length ? and(...where) : undefined)
+    .orderBy(desc(chartAlerts.raisedAt))
+    .limit(q.limit);
+  // Names come from the modules that own stations, models and people.
+  const names = new Map<string, string>();
+  for (const id of new Set(rows.map((r) => r.stationId)))
+    names.set(id, (await findStation(db, id))?.name ?? 'Unknown station');
+  for (const id of new Set(rows.map((r) => r.modelId)))
+    names.set(id, (await findModelWithActiveRecipe(db, id))?.model.code ?? 'Unknown model');
+  for (const id of new Set(rows.map((r) => r.alert.acknowledgedBy).filter((x): x is string => !!x)))
+    names.set(id, (await findUserById(db, id))?.displayName ?? 'Unknown person');
+  return rows.map((r) => ({
+    id: r.alert.id,
+    chart: r.kind,
+    chartLabel: r.kind === 'ewma' ? 'EWMA of the offset' : 'Individuals chart of the offset',
+    stationId: r.stationId,
+    station: names.get(r.stationId)!,
+    modelId: r.modelId,
+    model: names.get(r.modelId)!,
+    rule: r.alert.rule,
+    ruleText: r.alert.ruleText,
+    status: r.alert.status,
+    hits: r.alert.hits,
+    points: r.alert.points,
+    raisedAt: r.alert.raisedAt.toISOString(),
+    lastHitAt: r.alert.lastHitAt.toISOString(),
+    acknowledgedBy: r.alert.acknowledgedBy ? names.get(r.alert.acknowledgedBy)! : null,
+    acknowledgedAt: r.alert.acknowledgedAt?.toISOString() ?? null,
+    comment: r.alert.comment,
+  }));
+}
+
+export async function acknowledgeAlert(
+  db: Db,
+  clock: () => Date,
+  actor: SessionUser,
+  alertId: string,
+  comment: string,
+): Promise<void> {
+  await db.transaction(async (tx) => {
+    const [alert] = await tx.select().from(chartAlerts).where(eq(chartAlerts.id, alertId)).for('update');
+    if (!alert) throw alertErrors.notFound();
+    if (alert.status !== 'open') throw alertErrors.notOpen();
+    const now = clock();
+    await tx
+      .update(chartAlerts)
+      .set({ status: 'acknowledged', acknowledgedBy: actor.id, acknowledgedAt: now, comment })
+      .where(eq(chartAlerts.id, alertId));
+    await insertAudit(tx, {
+      actorId: actor.id,
+      actorName: actor.displayName,
+      action: 'alerts.acknowledged',
+      subjectType: 'chart_alert',
+      subjectId: alertId,
+      reason: comment,
+      before: { status: 'open', rule: alert.rule },
+      after: { status: 'acknowledged' },
+    });
+  });
+}
+
+export async function setSubscription(db: Db, actor: SessionUser, subscribed: boolean): Promise<boolean> {
+  if (subscribed) await db.insert(alertSubscriptions).values({ userId: actor.id }).onConflictDoNothing();
+  else await db.delete(alertSubscriptions).where(eq(alertSubscriptions.userId, actor.id));
+  await insertAudit(db, {
+    actorId: actor.id,
+    actorName: actor.displayName,
+    action: subscribed ? 'alerts.subscribed' : 'alerts.unsubscribed',
+    subjectType: 'user',
+    subjectId: actor.id,
+  });
+  return subscribed;
+}
+
+export async function isSubscribed(db: DbOrTx, userId: string): Promise<boolean> {
+  const rows = await db
+    .select()
+    .from(alertSubscriptions)
+    .where(inArray(alertSubscriptions.userId, [userId]));
+  return rows.length > 0;
+}

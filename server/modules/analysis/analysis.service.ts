@@ -1,0 +1,423 @@
+import type { DbOrTx } from '../../db/client';
+import {
+  ANALYSIS_FIGURES,
+  CHECK_NAMES,
+  type AnalysisFilter,
+  type AnalysisOptions,
+  type ComparisonQuery,
+  type ComparisonView,
+  type ControlChartQuery,
+  type ControlChartView,
+  type DistributionView,
+  type LineHealthView,
+} from '../../../shared/schemas/analysis';
+import type { Recipe } from '../../../shared/schemas/recipe';
+import {
+  allRules,
+  andersonDarling,
+  capability,
+  consecutiveSubgroups,
+  describe,
+  evaluateRules,
+  ewmaChart,
+  groupsBeyondThreshold,
+  histogram,
+  individualsChart,
+  kruskalWallis,
+  readCapability,
+  RULE_TEXT,
+  subgroupChart,
+  summarizeGroup,
+  welchAnova,
+  type Baseline,
+  type ChartLine,
+  type RuleHit,
+} from '../../../shared/statistics';
+import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
+import {
+  analysisChoices,
+  failedCheckCounts,
+  placementTrend,
+  programmingMismatchesByDay,
+  selectCalibrationFigures,
+  stationDayHealth,
+  type CalibrationFigureRow,
+} from '../measurements/calibrations.repository';
+import { analysisErrors } from './analysis.errors';
+import { renderCapabilityReport } from './capability-report';
+import { TRAVELER_HEADER } from '../travelers/travelers.service';
+import type { SessionUser } from '../../lib/auth';
+
+/** Below this p-value the Anderson–Darling test says the values are not normal. */
+const NORMALITY_ALPHA = 0.05;
+
+async function modelRecipe(db: DbOrTx, modelId: string) {
+  const found = await findModelWithActiveRecipe(db, modelId);
+  if (!found) throw analysisErrors.unknownModel();
+  return found;
+}
+
+/** Specification limits of a figure from the recipe, where the recipe has them. */
+export function figureLimits(figure: AnalysisFilter['figure'], recipe: Recipe | null) {
+  const none = { lsl: null, usl: null, target: null };
+  if (!recipe) return none;
+  const window = (w: readonly [number, number] | undefined) =>
+    w ? { lsl: w[0], usl: w[1], target: (w[0] + w[1]) / 2 } : none;
+  switch (figure) {
+    case 'offsetDeg':
+      return window(recipe.limits.offsetDeg);
+    case 'speedRpm':
+      return window(recipe.limits.speedRpm);
+    case 'keVPerKrpm':
+      return window(recipe.limits.keVPerKrpm);
+    case 'fitResidualDeg':
+      return recipe.limits.fitResidualDeg !== undefined
+        ? { lsl: null, usl: recipe.limits.fitResidualDeg, target: null }
+        : none;
+    default:
+      return none;
+  }
+}
+
+const fmt = (x: number, digits = 3) => x.toFixed(digits);
+
+export async function distributionView(db: DbOrTx, filter: AnalysisFilter): Promise<DistributionView> {
+  const { recipe } = await modelRecipe(db, filter.model);
+  const { rows } = await selectCalibrationFigures(db, filter);
+  const values = rows.map((r) => r.value);
+  const limits = figureLimits(filter.figure, recipe?.body ?? null);
+  const description = describe(values);
+  const ad = andersonDarling(values);
+  const normal = ad ? ad.pValue >= NORMALITY_ALPHA : null;
+  const hasLimits = limits.lsl !== null || limits.usl !== null;
+  const cap = hasLimits ? capability(values, limits) : null;
+  const warnings: string[] = [];
+  if (values.length === 0) warnings.push('No calibration matches the filter.');
+  else if (values.length < 30)
+    warnings.push(
+      `Only ${values.length} values: the figures and their intervals are rough; 100 or more is usual for a capability study.`,
+    );
+  if (ad && !normal)
+    warnings.push(
+      `The values do not look normally distributed (Anderson–Darling p = ${fmt(ad.pValue, 4)}). Cp, Cpk and the expected parts per million assume a normal distribution and may mislead; look at the histogram and at a split by station or lot.`,
+    );
+  if (!hasLimits && values.length > 0)
+    warnings.push('The recipe sets no limits for this figure, so there are no capability indices.');
+  const unit = ANALYSIS_FIGURES[filter.figure].unit;
+  return {
+    figure: filter.figure,
+    unit,
+    n: values.length,
+    description,
+    histogram: histogram(
+      values,
+      hasLimits && description.min !== null
+        ? { min: limits.lsl ?? description.min, max: limits.usl ?? description.max! }
+        : undefined,
+    ),
+    limits,
+    recipeVersion: recipe?.version ?? null,
+    normality: ad
+      ? { statistic: ad.statistic, adjusted: ad.adjusted, pValue: ad.pValue, normal: !!normal }
+      : null,
+    capability: cap ? { ...cap, reading: cap.cpk ? readCapability(cap.cpk.value) : null } : null,
+    warnings,
+  };
+}
+
+interface Plotted {
+  serial: string;
+  unitIds: string[];
+  computedAt: string;
+}
+
+function pointsOf(line: ChartLine, plotted: Plotted[], hits: RuleHit[]) {
+  const rulesAt = new Map<number, number[]>();
+  for (const h of hits) rulesAt.set(h.index, [...(rulesAt.get(h.index) ?? []), h.rule]);
+  return line.values.map((value, i) => ({
+    ...plotted[i],
+    value,
+    rules: [...new Set(rulesAt.get(i) ?? [])].sort((a, b) => a - b),
+  }));
+}
+
+/** Rule 1 on a spread chart (or an EWMA): a point outside its limits, whatever their symmetry. */
+function outsideLimits(line: ChartLine): RuleHit[] {
+  const hits: RuleHit[] = [];
+  line.values.forEach((v, i) => {
+    if (v > line.ucl[i] || v < line.lcl[i]) hits.push({ rule: 1, index: i, involved: [i] });
+  });
+  return hits;
+}
+
+function plottedOf(rows: CalibrationFigureRow[], size: number): Plotted[] {
+  if (size === 1)
+    return rows.map((r) => ({
+      serial: r.serial,
+      unitIds: [r.unitId],
+      computedAt: r.computedAt.toISOString(),
+    }));
+  return consecutiveSubgroups(rows, size).map((g) => ({
+    serial: g[g.length - 1].serial,
+    unitIds: g.map((r) => r.unitId),
+    computedAt: g[g.length - 1].computedAt.toISOString(),
+  }));
+}
+
+export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promise<ControlChartView> {
+  await modelRecipe(db, q.model);
+  const size = q.chart === 'xbar-r' || q.chart === 'xbar-s' ? q.subgroupSize : 1;
+  const { rows, total } = await selectCalibrationFigures(db, q, { newest: q.limit });
+  const needed = size === 1 ? 2 : 2 * size;
+  if (rows.length < needed) throw analysisErrors.tooFewForChart(rows.length, needed);
+
+  let frozen: Baseline | undefined;
+  if (q.baselineFrom && q.baselineTo) {
+    const { rows: base } = await selectCalibrationFigures(db, q, {
+      from: new Date(q.baselineFrom),
+      to: new Date(q.baselineTo),
+      newest: 20_000,
+    });
+    const values = base.map((r) => r.value);
+    const chart =
+      size === 1
+        ? individualsChart(values)
+        : subgroupChart(consecutiveSubgroups(values, size), q.chart === 'xbar-s' ? 'xbar-s' : 'xbar-r');
+    if (!chart || !(chart.baseline.sigma > 0)) throw analysisErrors.emptyBaseline();
+    frozen = chart.baseline;
+  }
+
+  const values = rows.map((r) => r.value);
+  const plotted = plottedOf(rows, size);
+  const ruleSet = q.ruleSet;
+  const rules = q.rules ?? allRules(ruleSet);
+  const unit = ANALYSIS_FIGURES[q.figure].unit;
+  const figureLabel = ANALYSIS_FIGURES[q.figure].label;
+
+  let baseline: Baseline;
+  let location: ControlChartView['location'];
+  let spread: ControlChartView['spread'] = null;
+  let locationHits: RuleHit[];
+  let spreadHits: RuleHit[] = [];
+
+  if (q.chart === 'ewma') {
+    const c = ewmaChart(values, { lambda: q.lambda, L: q.L }, frozen)!;
+    baseline = c.baseline;
+    // Only points outside the EWMA limits are signals: the EWMA statistic is autocorrelated, so zone and
+    // run rules do not apply to it.
+    locationHits = outsideLimits(c.line);
+    location = {
+      title: `EWMA of ${figureLabel} (λ ${q.lambda}, L ${q.L})`,
+      points: pointsOf(c.line, plotted, locationHits),
+      center: c.line.center,
+      ucl: c.line.ucl,
+      lcl: c.line.lcl,
+    };
+  } else {
+    const c =
+      size === 1
+        ? individualsChart(values, frozen)!
+        : subgroupChart(consecutiveSubgroups(values, size), q.chart as 'xbar-r' | 'xbar-s', frozen)!;
+    baseline = c.baseline;
+    const loc = c.location;
+    locationHits = evaluateRules(
+      loc.values.map((v, i) => ({
+        index: i,
+        value: v,
+        z: loc.sigma[i] > 0 ? (v - loc.center[i]) / loc.sigma[i] : 0,
+      })),
+      ruleSet,
+      rules,
+    );
+    spreadHits = outsideLimits(c.spread);
+    location = {
+      title: size === 1 ? `Individuals: ${figureLabel}` : `Subgroup means (${size} units): ${figureLabel}`,
+      points: pointsOf(loc, plotted, locationHits),
+      center: loc.center,
+      ucl: loc.ucl,
+      lcl: loc.lcl,
+    };
+    // The moving range starts at the second unit.
+    const spreadPlotted = size === 1 ? plotted.slice(1) : plotted;
+    spread = {
+      title:
+        size === 1
+          ? 'Moving range'
+          : q.chart === 'xbar-r'
+            ? 'Subgroup ranges'
+            : 'Subgroup standard deviations',
+      points: pointsOf(c.spread, spreadPlotted, spreadHits),
+      center: c.spread.center,
+      ucl: c.spread.ucl,
+      lcl: c.spread.lcl,
+    };
+  }
+
+  const text = RULE_TEXT[ruleSet];
+  const violations: ControlChartView['violations'] = [
+    ...locationHits.map((h) => ({
+      rule: h.rule,
+      text: q.chart === 'ewma' ? 'Point outside the EWMA limits' : text[h.rule - 1],
+      at: location.points[h.index],
+      serials: h.involved.map((i) => location.points[i].serial),
+    })),
+    ...spreadHits.map((h) => ({
+      rule: h.rule,
+      text: `${spread!.title}: point outside the control limits`,
+      at: spread!.points[h.index],
+      serials: [spread!.points[h.index].serial],
+    })),
+  ];
+
+  return {
+    chart: q.chart,
+    figure: q.figure,
+    unit,
+    ruleSet,
+    rules: q.chart === 'ewma' ? [1] : rules,
+    baseline: {
+      center: baseline.center,
+      sigma: baseline.sigma,
+      source: frozen ? 'window' : 'shown',
+      from: q.baselineFrom ?? null,
+      to: q.baselineTo ?? null,
+    },
+    location,
+    spread,
+    violations,
+    omitted: total - rows.length,
+  };
+}
+
+function groupKey(r: CalibrationFigureRow, by: ComparisonQuery['by']): { key: string; label: string } {
+  const none = { key: '', label: 'Not recorded' };
+  switch (by) {
+    case 'station':
+      return { key: r.stationId, label: r.stationName };
+    case 'hallBoardLot':
+      return r.hallBoardLot ? { key: r.hallBoardLot, label: r.hallBoardLot } : none;
+    case 'magnetRingLot':
+      return r.magnetRingLot ? { key: r.magnetRingLot, label: r.magnetRingLot } : none;
+    case 'statorLot':
+      return r.statorLot ? { key: r.statorLot, label: r.statorLot } : none;
+    case 'operator':
+      return r.operatorId ? { key: r.operatorId, label: r.operatorName ?? 'Unknown operator' } : none;
+    case 'recipeVersion':
+      return { key: String(r.recipeVersion), label: `Recipe version ${r.recipeVersion}` };
+  }
+}
+
+export async function comparisonView(db: DbOrTx, q: ComparisonQuery): Promise<ComparisonView> {
+  await modelRecipe(db, q.model);
+  const { rows } = await selectCalibrationFigures(db, q);
+  const groups = new Map<string, { label: string; values: number[] }>();
+  for (const r of rows) {
+    const { key, label } = groupKey(r, q.by);
+    const g = groups.get(key) ?? { label, values: [] };
+    g.values.push(r.value);
+    groups.set(key, g);
+  }
+  const entries = [...groups.entries()].sort((a, b) => a[1].label.localeCompare(b[1].label));
+  const valueLists = entries.map(([, g]) => g.values);
+  const nonNormal = entries
+    .map(([, g]) => ({ label: g.label, ad: andersonDarling(g.values) }))
+    .filter((x) => x.ad && x.ad.pValue < NORMALITY_ALPHA);
+  let test: ComparisonView['test'] = null;
+  if (nonNormal.length > 0) {
+    const t = kruskalWallis(valueLists);
+    if (t)
+      test = {
+        ...t,
+        reason: `Kruskal–Wallis (ranks), because ${nonNormal.map((x) => x.label).join(', ')} ${nonNormal.length === 1 ? 'does' : 'do'} not look normally distributed.`,
+      };
+  } else {
+    const t = welchAnova(valueLists);
+    if (t) test = { ...t, reason: "Welch's one-way analysis of variance (no equal-spread assumption)." };
+  }
+  const labels = new Map(entries.map(([k, g]) => [k, g.label]));
+  return {
+    by: q.by,
+    figure: q.figure,
+    unit: ANALYSIS_FIGURES[q.figure].unit,
+    threshold: q.threshold,
+    groups: entries.map(([key, g]) => ({ ...summarizeGroup(key, g.values), label: g.label })),
+    test,
+    standOut: groupsBeyondThreshold(
+      entries.map(([key, g]) => ({ key, values: g.values })),
+      q.threshold,
+    ).map((d) => ({ ...d, label: labels.get(d.key)! })),
+  };
+}
+
+export async function lineHealthView(db: DbOrTx, filter: AnalysisFilter): Promise<LineHealthView> {
+  await modelRecipe(db, filter.model);
+  const [days, mismatches, failed, trend] = await Promise.all([
+    stationDayHealth(db, filter),
+    programmingMismatchesByDay(db, filter),
+    failedCheckCounts(db, filter),
+    placementTrend(db, filter),
+  ]);
+  const mm = new Map(mismatches.map((m) => [`${m.day}|${m.stationId}`, m.count]));
+  return {
+    days: days.map((d) => ({
+      day: d.day,
+      stationId: d.stationId,
+      station: d.station,
+      units: d.units,
+      firstPassYieldPct: d.firstAttempts > 0 ? (100 * d.firstPasses) / d.firstAttempts : null,
+      retestRatePct: d.counted > 0 ? (100 * d.retests) / d.counted : null,
+      programmingMismatches: mm.get(`${d.day}|${d.stationId}`) ?? 0,
+    })),
+    failedChecks: failed.map((f) => ({ ...f, label: CHECK_NAMES[f.code] ?? f.code })),
+    placementTrend: trend,
+  };
+}
+
+export async function analysisOptions(db: DbOrTx, modelId: string): Promise<AnalysisOptions> {
+  await modelRecipe(db, modelId);
+  return analysisChoices(db, modelId);
+}
+
+/** The filter in words for the report (names, not ids). */
+async function filterText(db: DbOrTx, f: AnalysisFilter): Promise<string> {
+  const parts: string[] = [];
+  if (f.stations) {
+    const choices = await analysisChoices(db, f.model);
+    parts.push(
+      `stations ${choices.stations
+        .filter((s) => f.stations!.includes(s.id))
+        .map((s) => s.name)
+        .join(', ')}`,
+    );
+  }
+  if (f.hallBoardLots) parts.push(`hall-board lots ${f.hallBoardLots.join(', ')}`);
+  if (f.magnetRingLots) parts.push(`magnet-ring lots ${f.magnetRingLots.join(', ')}`);
+  if (f.statorLots) parts.push(`stator lots ${f.statorLots.join(', ')}`);
+  if (f.recipeVersions) parts.push(`recipe versions ${f.recipeVersions.join(', ')}`);
+  if (f.operators) parts.push(`${f.operators.length} operator(s)`);
+  parts.push(f.from ? `from ${f.from}` : 'from the first record');
+  parts.push(f.to ? `to ${f.to}` : 'to now');
+  parts.push(f.verdict === 'all' ? 'pass and fail' : `${f.verdict} only`);
+  parts.push(f.attempts === 'first' ? 'first attempts' : 'all attempts');
+  parts.push(f.purpose === 'station' ? 'station results' : 'recomputations');
+  return parts.join('; ');
+}
+
+export async function capabilityReport(
+  db: DbOrTx,
+  clock: () => Date,
+  user: SessionUser,
+  filter: AnalysisFilter,
+): Promise<Buffer> {
+  const { model } = await modelRecipe(db, filter.model);
+  const view = await distributionView(db, filter);
+  return renderCapabilityReport({
+    view,
+    companyName: TRAVELER_HEADER.companyName,
+    plantName: TRAVELER_HEADER.plantName,
+    model: { code: model.code, name: model.name },
+    filterText: await filterText(db, filter),
+    generatedAt: clock(),
+    generatedBy: user.displayName,
+  });
+}

@@ -1,0 +1,64 @@
+import type { DbOrTx } from '../../db/client';
+import type { AuditEntry } from '../../../shared/schemas/users';
+import { stationNamesByIds } from '../stations/stations.service';
+import { serialsByIds } from '../units/units.service';
+import { displayNamesByIds } from '../users/users.repository';
+import { listAudit } from './audit.repository';
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+function serialIn(value: unknown): string | null {
+  const serial = (value as { serial?: unknown } | null)?.serial;
+  return typeof serial === 'string' ? serial : null;
+}
+
+/**
+ * The newest audit entries as people read them: who acted, by name (the entry's own name, else the
+ * account's current name), and what it was about in words (a person's name, a unit's serial, a
+ * station's name) beside the stored id.
+ */
+export async function auditEntries(db: DbOrTx, limit: number): Promise<AuditEntry[]> {
+  const rows = await listAudit(db, limit);
+  const ids = (type: string | null) => [
+    ...new Set(
+      rows
+        .filter((r) => r.subjectType === type && r.subjectId && UUID.test(r.subjectId))
+        .map((r) => r.subjectId!),
+    ),
+  ];
+  const actorIds = [...new Set(rows.filter((r) => !r.actorName && r.actorId).map((r) => r.actorId!))];
+  const [people, unitSerials, stationNames] = await Promise.all([
+    displayNamesByIds(db, [...new Set([...actorIds, ...ids('user')])]),
+    serialsByIds(db, ids('unit')),
+    stationNamesByIds(db, ids('station')),
+  ]);
+  return rows.map((r) => {
+    const id = r.subjectId ?? '';
+    const subjectLabel =
+      r.subjectType === 'user'
+        ? (people.get(id) ?? null)
+        : r.subjectType === 'unit'
+          ? (unitSerials.get(id) ?? null)
+          : r.subjectType === 'station'
+            ? (stationNames.get(id) ?? null)
+            : (serialIn(r.after) ?? serialIn(r.before));
+    return {
+      id: Number(r.id),
+      at: r.at.toISOString(),
+      actorId: r.actorId,
+      actorName: r.actorName ?? (r.actorId ? (people.get(r.actorId) ?? null) : null),
+      action: r.action,
+      subjectType: r.subjectType,
+      subjectId: r.subjectId,
+      subjectLabel: subjectLabel
+        ? r.subjectType === 'calibration' || r.subjectType === 'measurement'
+          ? `unit ${subjectLabel}`
+          : subjectLabel
+        : null,
+      reason: r.reason,
+      before: r.before,
+      after: r.after,
+      ip: r.ip,
+    };
+  });
+}

@@ -1,0 +1,79 @@
+import { expect, it } from 'vitest';
+import { ewmaChart, ewmaSigma, individualsChart, subgroupChart, consecutiveSubgroups } from './charts';
+import { chartConstants } from './constants';
+
+// NIST/SEMATECH e-Handbook §6.3.2.2: the ten values are recalled from memory; they reproduce every published
+// output (x̄ 50.81, MR̄ 1.8778, UCL 55.8041, LCL 45.8159, MR UCL 6.1347), which is what is checked.
+const NIST_INDIVIDUALS = [49.6, 47.6, 49.9, 51.3, 47.8, 51.2, 52.6, 52.4, 53.6, 52.1];
+
+it('gives the individuals and moving-range limits of the NIST example', () => {
+  const c = individualsChart(NIST_INDIVIDUALS)!;
+  expect(c.baseline.center).toBeCloseTo(50.81, 2);
+  expect(c.spread.center[0]).toBeCloseTo(1.8778, 4);
+  // NIST divides by the rounded d2 = 1.128 (exactly 2/√π = 1.12838), so agreement is to 0.005.
+  expect(c.location.ucl[0]).toBeCloseTo(55.8041, 2);
+  expect(c.location.lcl[0]).toBeCloseTo(45.8159, 2);
+  expect(c.location.ucl[0]).toBeCloseTo(50.81 + (3 * (16.9 / 9)) / (2 / Math.sqrt(Math.PI)), 8);
+  // NIST multiplies by the rounded D4 = 3.267; the integrated D4 is 3.2665, so agreement is to 0.005.
+  expect(c.spread.ucl[0]).toBeCloseTo(6.1347, 2);
+  expect(c.spread.lcl[0]).toBe(0);
+  expect(c.spread.values).toHaveLength(9);
+});
+
+it('gives EWMA limits 47.4116 to 52.5884 for λ 0.3, target 50, s 2.0539', () => {
+  // NIST/SEMATECH e-Handbook §6.3.2.4 (steady-state limits, L = 3).
+  const c = ewmaChart(
+    NIST_INDIVIDUALS,
+    { lambda: 0.3, L: 3, asymptotic: true },
+    { center: 50, sigma: 2.0539 },
+  )!;
+  expect(c.line.ucl[5]).toBeCloseTo(52.5884, 3);
+  expect(c.line.lcl[5]).toBeCloseTo(47.4116, 3);
+  // z₁ = 0.3·49.6 + 0.7·50 (the recursion of the same section).
+  expect(c.line.values[0]).toBeCloseTo(49.88, 10);
+});
+
+it('narrows the first EWMA limits by √(1 − (1−λ)^{2i}) and approaches the steady state', () => {
+  // Montgomery, Introduction to Statistical Quality Control, §9.2 (exact EWMA variance).
+  expect(ewmaSigma(1, 0.2, 1)).toBeCloseTo(0.2, 12);
+  expect(ewmaSigma(1, 0.2, 1000)).toBeCloseTo(Math.sqrt(0.2 / 1.8), 12);
+});
+
+it('puts X̄-R limits at x̿ ± A2·R̄ and the range chart at D3·R̄ … D4·R̄', () => {
+  // Shewhart X̄-R limits as in Montgomery §6.2 with the Appendix VI constants for n = 5.
+  const groups = [
+    [74.03, 74.002, 74.019, 73.992, 74.008],
+    [73.995, 73.992, 74.001, 74.011, 74.004],
+    [73.988, 74.024, 74.021, 74.005, 74.002],
+    [74.002, 73.996, 73.993, 74.015, 74.009],
+  ];
+  const c = subgroupChart(groups, 'xbar-r')!;
+  const means = groups.map((g) => g.reduce((a, b) => a + b) / 5);
+  const ranges = groups.map((g) => Math.max(...g) - Math.min(...g));
+  const xbb = means.reduce((a, b) => a + b) / 4;
+  const rbar = ranges.reduce((a, b) => a + b) / 4;
+  expect(c.location.ucl[0]).toBeCloseTo(xbb + 0.577 * rbar, 4);
+  expect(c.location.lcl[0]).toBeCloseTo(xbb - 0.577 * rbar, 4);
+  expect(c.spread.ucl[0]).toBeCloseTo(2.114 * rbar, 4);
+  expect(c.spread.lcl[0]).toBe(0);
+});
+
+it('puts X̄-S limits at x̿ ± A3·s̄ and the s chart at B3·s̄ … B4·s̄', () => {
+  const groups = consecutiveSubgroups([1, 3, 2, 5, 4, 6, 2, 2, 3, 7, 1, 4, 5, 5, 6, 3, 2, 4], 6);
+  const c = subgroupChart(groups, 'xbar-s')!;
+  const k = chartConstants(6);
+  const sd = (g: number[]) => {
+    const m = g.reduce((a, b) => a + b) / g.length;
+    return Math.sqrt(g.reduce((a, b) => a + (b - m) ** 2, 0) / (g.length - 1));
+  };
+  const sbar = groups.map(sd).reduce((a, b) => a + b) / groups.length;
+  expect(c.location.ucl[0] - c.location.center[0]).toBeCloseTo(k.A3 * sbar, 10);
+  expect(c.spread.ucl[0]).toBeCloseTo(k.B4 * sbar, 10);
+  expect(c.spread.lcl[0]).toBeCloseTo(k.B3 * sbar, 10);
+});
+
+it('keeps frozen limits whatever the data shown', () => {
+  const c = individualsChart([100, 101, 99, 100.5], { center: 10, sigma: 2 })!;
+  expect(c.location.ucl[0]).toBe(16);
+  expect(c.location.lcl[0]).toBe(4);
+});

@@ -1,0 +1,182 @@
+// Line statistics benchmark: `npm run bench:stats`. Builds a bench database (the private "bench" PostgreSQL
+// instance, port PGPORT_BENCH) with BENCH_STATS_ROWS calibrations (default 1,000,000) of one model across 6
+// stations and 40 hall-board lots, generated inside PostgreSQL by set-based INSERT … SELECT over
+// generate_series (no row-by-row inserts), then times each view's service call (query + maths, in this
+// process, no HTTP) beside the bare SQL aggregate of the same data, the CSV export's rows per second, and the
+// process's resident memory. Prints figures; asserts nothing.
+import { Writable } from 'node:stream';
+import pg from 'pg';
+import { ensurePostgres } from '../../server/ops/pg-local.mjs';
+import { prefixedLog } from '../../server/ops/proc.mjs';
+import { createDatabase } from '../../server/db/client';
+import { runMigrations } from '../../server/db/migrate';
+import { createDemoCatalog } from '../../server/modules/demo/demo-line.seed';
+import { createStation } from '../../server/modules/stations/stations.service';
+import {
+  comparisonView,
+  controlChartView,
+  distributionView,
+} from '../../server/modules/analysis/analysis.service';
+import { writeCalibrationsCsv } from '../../server/modules/analysis/analysis.export';
+import {
+  analysisFilterSchema,
+  comparisonQuerySchema,
+  controlChartQuerySchema,
+} from '../../shared/schemas/analysis';
+
+process.env.PGPORT_BENCH ??= '55437';
+const ROWS = Number(process.env.BENCH_STATS_ROWS ?? 1_000_000);
+const RUNS = Number(process.env.BENCH_STATS_RUNS ?? 5);
+const DB_NAME = 'phasewright_bench_stats';
+
+let peakRssMb = 0;
+const sampler = setInterval(() => {
+  peakRssMb = Math.max(peakRssMb, process.memoryUsage().rss / 2 ** 20);
+}, 50);
+
+function quantile(xs: number[], p: number) {
+  const s = [...xs].sort((a, b) => a - b);
+  return s[Math.min(s.length - 1, Math.floor(p * (s.length - 1) + 0.5))];
+}
+
+async function timed(runs: number, fn: () => Promise<unknown>) {
+  const ms: number[] = [];
+  for (let i = 0; i < runs; i++) {
+    const t0 = performance.now();
+    await fn();
+    ms.push(performance.now() - t0);
+  }
+  return { p50: quantile(ms, 0.5), p95: quantile(ms, 0.95) };
+}
+
+async function main() {
+  const handle = await ensurePostgres({ instance: 'bench', log: prefixedLog('postgres') });
+  try {
+    const admin = new pg.Client({ connectionString: handle.adminUrl });
+    await admin.connect();
+    await admin.query(`drop database if exists "${DB_NAME}" with (force)`);
+    await admin.query(`create database "${DB_NAME}"`);
+    await admin.end();
+    const url = new URL(handle.adminUrl);
+    url.pathname = `/${DB_NAME}`;
+    const database = createDatabase(url.toString(), { max: 4 });
+    const { db, pool } = database;
+    await runMigrations(db);
+    const catalog = await createDemoCatalog(db, null, new Date('2026-01-01T00:00:00Z'));
+    const { rows: modelRows } = await pool.query<{ id: string; active_recipe_id: string }>(
+      `select id, active_recipe_id from models order by code limit 1`,
+    );
+    void catalog;
+    const model = modelRows[0];
+    const stationIds: string[] = [];
+    for (let i = 1; i <= 6; i++)
+      stationIds.push(
+        (await createStation(db, null, { name: `BENCH-${i}`, line: 'Bench', allowedModelIds: [model.id] }))
+          .id,
+      );
+
+    const t0 = performance.now();
+    await pool.query(
+      `insert into units (serial, model_id, hall_board_lot, magnet_ring_lot, stator_lot, status, attempts)
+       select 'BN' || i, $1, 'HB-' || lpad((i % 40)::text, 2, '0'), 'MR-' || (i % 7), 'ST-' || (i % 5), 'calibrated', 1
+       from generate_series(1, $2::int) i`,
+      [model.id, ROWS],
+    );
+    await pool.query(
+      `insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw, payload_sha256, received_at)
+       select 'm-' || u.serial, ($1::uuid[])[(substr(u.serial, 3)::int % 6) + 1], u.id, u.serial, 'timings', '{}'::jsonb, '{}', 'bench',
+              timestamptz '2026-11-01' + substr(u.serial, 3)::int * interval '2 seconds'
+       from units u where u.model_id = $2`,
+      [stationIds, model.id],
+    );
+    await pool.query(
+      `insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict, purpose,
+                                 offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
+       select m.id, $1, m.unit_id, m.station_id, 'bench', 'pass', 'station', o.v, 0, 1,
+              jsonb_build_object('verdict', 'pass', 'offsetDeg', o.v, 'speedRpm', 3000, 'fitResidualDeg', 0.2,
+                'lagDeg', 0.4, 'sensors', jsonb_build_array(
+                  jsonb_build_object('sensor', 'A', 'placementDeg', 0.1), jsonb_build_object('sensor', 'B', 'placementDeg', -0.1),
+                  jsonb_build_object('sensor', 'C', 'placementDeg', 0.0)),
+                'checks', '[]'::jsonb),
+              1, m.received_at
+       from measurements m
+       cross join lateral (select 2.4 + 1.1 * (random() + random() + random() + random() - 2) * 1.732 as v) o`,
+      [model.active_recipe_id],
+    );
+    await pool.query('analyze');
+    const seedS = (performance.now() - t0) / 1000;
+    console.log(
+      `seeded ${ROWS.toLocaleString('en')} calibrations in ${seedS.toFixed(1)} s (set-based INSERT … SELECT)`,
+    );
+
+    const filter = analysisFilterSchema.parse({ model: model.id });
+    const station = stationIds[0];
+    const rows: [string, { p50: number; p95: number }, { p50: number; p95: number }][] = [];
+
+    rows.push([
+      'distribution + capability, all rows',
+      await timed(RUNS, () => distributionView(db, filter)),
+      await timed(RUNS, () =>
+        pool.query(
+          `select count(*), avg(c.offset_deg), stddev_samp(c.offset_deg), min(c.offset_deg), max(c.offset_deg)
+           from calibrations c join units u on u.id = c.unit_id where u.model_id = $1 and c.purpose = 'station'`,
+          [model.id],
+        ),
+      ),
+    ]);
+    const chartQuery = controlChartQuerySchema.parse({
+      model: model.id,
+      stations: station,
+      chart: 'imr',
+      limit: 10000,
+    });
+    rows.push([
+      'I-MR, one station, last 10,000, rules',
+      await timed(RUNS, () => controlChartView(db, chartQuery)),
+      await timed(RUNS, () =>
+        pool.query(
+          `select c.offset_deg from calibrations c where c.station_id = $1 order by c.computed_at desc limit 10000`,
+          [station],
+        ),
+      ),
+    ]);
+    const cmp = comparisonQuerySchema.parse({ model: model.id, by: 'hallBoardLot' });
+    rows.push([
+      'comparison by hall-board lot, all rows',
+      await timed(RUNS, () => comparisonView(db, cmp)),
+      await timed(RUNS, () =>
+        pool.query(
+          `select u.hall_board_lot, count(*), avg(c.offset_deg), stddev_samp(c.offset_deg)
+           from calibrations c join units u on u.id = c.unit_id where u.model_id = $1 group by 1`,
+          [model.id],
+        ),
+      ),
+    ]);
+    console.log('view | p50 ms | p95 ms | bare SQL p50 ms | bare SQL p95 ms | p95 ratio');
+    for (const [name, view, bare] of rows)
+      console.log(
+        `${name} | ${view.p50.toFixed(0)} | ${view.p95.toFixed(0)} | ${bare.p50.toFixed(0)} | ${bare.p95.toFixed(0)} | ${(view.p95 / bare.p95).toFixed(1)}×`,
+      );
+
+    let bytes = 0;
+    const sink = new Writable({
+      write(chunk, _enc, cb) {
+        bytes += chunk.length;
+        cb();
+      },
+    });
+    const e0 = performance.now();
+    const exported = await writeCalibrationsCsv(db, filter, sink);
+    const es = (performance.now() - e0) / 1000;
+    console.log(
+      `CSV export: ${exported.toLocaleString('en')} rows, ${(bytes / 2 ** 20).toFixed(0)} MB in ${es.toFixed(1)} s = ${Math.round(exported / es).toLocaleString('en')} rows/s`,
+    );
+    console.log(`peak RSS of this process: ${peakRssMb.toFixed(0)} MB`);
+    await database.close();
+  } finally {
+    clearInterval(sampler);
+    if (handle.startedByUs) await handle.stop();
+  }
+}
+
+await main();
