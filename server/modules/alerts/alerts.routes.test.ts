@@ -1,6 +1,6 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '../../../tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { DRIFTING_STATION } from '../demo/demo-line.scenario';
 import type { AlertView } from '../../../shared/schemas/alerts';
@@ -42,12 +42,12 @@ beforeAll(async () => {
   engineer = await sessionCookie(t.app, 'evan.engineer', 'demo-engineer-pass');
   const sub = await request(t.app)
     .put('/api/alerts/subscription')
-    .set('Cookie', engineer)
+    .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
     .send({ subscribed: true });
   expect(sub.body).toEqual({ subscribed: true });
   await seedDemoLine(t.deps, { units: 600, now: NOW });
   expect(await watchAll()).toBeGreaterThan(500);
-  alerts = (await request(t.app).get('/api/alerts').set('Cookie', engineer)).body.alerts;
+  alerts = (await request(t.app).get('/api/alerts').set('Origin', TEST_ORIGIN).set('Cookie', engineer)).body.alerts;
 }, 180_000);
 
 afterAll(async () => {
@@ -82,7 +82,7 @@ describe('watched charts on the demo line', () => {
   it('shows a station’s open alerts to its operator', async () => {
     const operator = await sessionCookie(t.app, 'olga.operator', 'demo-operator-pass');
     const stationId = alerts.find((a) => a.station === DRIFTING_STATION)!.stationId;
-    const res = await request(t.app).get('/api/alerts').query({ stationId }).set('Cookie', operator);
+    const res = await request(t.app).get('/api/alerts').query({ stationId }).set('Origin', TEST_ORIGIN).set('Cookie', operator);
     expect(res.status).toBe(200);
     expect(res.body.alerts.every((a: AlertView) => a.station === DRIFTING_STATION)).toBe(true);
   });
@@ -93,17 +93,17 @@ describe('acknowledging', () => {
     const alert = alerts[0];
     const short = await request(t.app)
       .post(`/api/alerts/${alert.id}/acknowledge`)
-      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
       .send({ comment: '' });
     expect(short.status).toBe(400);
     const ok = await request(t.app)
       .post(`/api/alerts/${alert.id}/acknowledge`)
-      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
       .send({ comment: 'Detector delay re-measured on the rig; recalibration booked.' });
     expect(ok.status).toBe(204);
     const again = await request(t.app)
       .post(`/api/alerts/${alert.id}/acknowledge`)
-      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
       .send({ comment: 'again' });
     expect(again.status).toBe(409);
     const { rows } = await t.database.pool.query(
@@ -117,7 +117,7 @@ describe('acknowledging', () => {
       },
     ]);
     const acked = (
-      await request(t.app).get('/api/alerts').query({ status: 'acknowledged' }).set('Cookie', engineer)
+      await request(t.app).get('/api/alerts').query({ status: 'acknowledged' }).set('Origin', TEST_ORIGIN).set('Cookie', engineer)
     ).body.alerts as AlertView[];
     expect(acked.find((a) => a.id === alert.id)).toMatchObject({
       acknowledgedBy: 'Evan Thorsby',

@@ -1,6 +1,6 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import { computeCalibration } from '../measurements/measurements.service';
@@ -31,9 +31,9 @@ afterAll(async () => {
 });
 
 const api = (who: keyof typeof as) => ({
-  get: (path: string) => request(t.app).get(path).set('Cookie', as[who]),
-  post: (path: string, body: object = {}) => request(t.app).post(path).set('Cookie', as[who]).send(body),
-  patch: (path: string, body: object) => request(t.app).patch(path).set('Cookie', as[who]).send(body),
+  get: (path: string) => request(t.app).get(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]),
+  post: (path: string, body: object = {}) => request(t.app).post(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]).send(body),
+  patch: (path: string, body: object) => request(t.app).patch(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]).send(body),
 });
 
 async function q<T = Record<string, unknown>>(text: string, values: unknown[] = []): Promise<T[]> {
