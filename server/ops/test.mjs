@@ -62,8 +62,9 @@ async function browserSuite(pg, chromiumPath) {
     DATABASE_OWNER_URL: ownerUrl.toString(),
     PORT: String(port),
     SEED_DEMO: 'true',
-    // A small demo line is enough for the browser tests and keeps the suite fast.
-    DEMO_LINE_UNITS: process.env.DEMO_LINE_UNITS ?? '60',
+    // Enough of the fortnight for both of the demo's stories to show (EOL-23's drift, hall-board lot
+    // HB-2446-C), which the statistics and recipe-desk browser tests look for; still a few seconds to seed.
+    DEMO_LINE_UNITS: process.env.DEMO_LINE_UNITS ?? '600',
     LOG_LEVEL: 'warn',
     SMTP_URL: `smtp://127.0.0.1:${smtpPort}`,
     MAILBOX_URL: `http://127.0.0.1:${mailHttpPort}`,

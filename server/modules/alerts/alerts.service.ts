@@ -6,7 +6,7 @@ import type { Logger } from '../../lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import type { Mailer } from '../mail/mail.service';
-import { stationCalibrationsAfter } from '../measurements/calibrations.repository';
+import { stationCalibrationsAfter, stationModelPairs } from '../measurements/calibrations.repository';
 import { findStation } from '../stations/stations.service';
 import { findUserById } from '../users/users.repository';
 import type { AlertView } from '../../../shared/schemas/alerts';
@@ -141,6 +141,21 @@ export async function watchStationModel(
   }
   if (raised.length && deps.mailer) await mailSubscribers(deps, raised);
   return { taken, raised: raised.length };
+}
+
+/**
+ * Brings every station × model's watched charts up to date (each from its saved state). The demo seed
+ * runs it once after writing the fortnight in-process, where no chart-watch job is queued.
+ */
+export async function watchEveryStationModel(deps: WatchDeps): Promise<{ taken: number; raised: number }> {
+  let taken = 0;
+  let raised = 0;
+  for (const key of await stationModelPairs(deps.db)) {
+    const out = await watchStationModel(deps, key);
+    taken += out.taken;
+    raised += out.raised;
+  }
+  return { taken, raised };
 }
 
 /** Extends the open alert of this chart and rule, or opens one; returns the id of a newly opened alert. */

@@ -309,3 +309,12 @@ export async function stationCalibrationsAfter(
     .limit(q.limit);
   return rows.map((r) => ({ ...r, offsetDeg: r.offsetDeg! }));
 }
+
+/** Every station × model pair with at least one station calibration: the watched charts there are. */
+export async function stationModelPairs(db: DbOrTx): Promise<{ stationId: string; modelId: string }[]> {
+  return db
+    .selectDistinct({ stationId: calibrations.stationId, modelId: units.modelId })
+    .from(calibrations)
+    .innerJoin(units, eq(units.id, calibrations.unitId))
+    .where(eq(calibrations.purpose, 'station'));
+}
