@@ -40,6 +40,11 @@ async function q<T = Record<string, unknown>>(text: string, values: unknown[] = 
   return (await t.database.pool.query(text, values)).rows as T[];
 }
 
+/** As the owner role, which holds every privilege: what refuses it then is the database's own rule. */
+async function asOwner(text: string, values: unknown[] = []) {
+  return (await t.database.ownerPool().query(text, values)).rows;
+}
+
 /** A fresh model with released v1 and an engineer's draft v2 copied from it. */
 async function modelWithDraft(code: string) {
   const line = await createLineFixture(t.deps.db, { code, stationName: `EOL-${code}` });
@@ -146,14 +151,16 @@ describe('recipe lifecycle', () => {
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe('recipes.not_a_draft');
     await expect(
-      q(`update recipes set body = jsonb_set(body, '{maxAttempts}', '9') where id = $1`, [line.recipe.id]),
+      asOwner(`update recipes set body = jsonb_set(body, '{maxAttempts}', '9') where id = $1`, [line.recipe.id]),
     ).rejects.toThrow(/immutable/);
-    await expect(q(`update recipes set release_diff = '[]' where id = $1`, [line.recipe.id])).rejects.toThrow(
-      /immutable/,
-    );
-    await expect(q('delete from recipes where id = $1', [line.recipe.id])).rejects.toThrow(
+    await expect(
+      asOwner(`update recipes set release_diff = '[]' where id = $1`, [line.recipe.id]),
+    ).rejects.toThrow(/immutable/);
+    await expect(asOwner('delete from recipes where id = $1', [line.recipe.id])).rejects.toThrow(
       /cannot be deleted/,
     );
+    // The processes' own role may not delete a recipe at all.
+    await expect(q('delete from recipes where id = $1', [line.recipe.id])).rejects.toThrow(/permission denied/);
   });
 
   it('a version in review keeps the body the reviewer sees: saving it is refused until it is sent back', async () => {
