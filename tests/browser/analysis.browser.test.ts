@@ -1,36 +1,15 @@
-import { createRequire } from 'node:module';
 import path from 'node:path';
 import { mkdir } from 'node:fs/promises';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { baseUrl, DEMO, launchChromium, signInWithPassword } from './browser-kit';
+import { axeFindings, baseUrl, DEMO, launchChromium, signInWithPassword } from './browser-kit';
 
-const require = createRequire(import.meta.url);
 /** Set SHOTS_DIR to keep a PNG of each view for review. */
 const shotsDir = process.env.SHOTS_DIR;
 
 let browser: Browser;
 let page: Page;
 let pageErrors: string[];
-
-/** Serious or critical WCAG 2.x A/AA findings of axe-core (https://github.com/dequelabs/axe-core). */
-async function axeFindings(p: Page) {
-  await p.addScriptTag({ path: require.resolve('axe-core/axe.min.js') });
-  const found = await p.evaluate(async () => {
-    const axe = (
-      window as unknown as {
-        axe: {
-          run: (c: Document) => Promise<{
-            violations: { id: string; impact: string | null; nodes: { target: unknown[] }[] }[];
-          }>;
-        };
-      }
-    ).axe;
-    const r = await axe.run(document);
-    return r.violations.map((v) => ({ id: v.id, impact: v.impact, nodes: v.nodes.map((n) => String(n.target[0])) }));
-  });
-  return found.filter((f) => f.impact === 'serious' || f.impact === 'critical');
-}
 
 async function shot(name: string) {
   if (!shotsDir) return;

@@ -1,4 +1,3 @@
-import { createRequire } from 'node:module';
 import { chromium, type Browser, type Page } from 'playwright-core';
 
 /** The demo accounts the server seeds on first start (README, "Demo accounts"). */
@@ -69,26 +68,5 @@ export async function navLabels(page: Page): Promise<string[]> {
   return (await links.allTextContents()).map((t) => t.trim());
 }
 
-/**
- * Serious and critical accessibility findings on the page as it is now. Axe
- * (https://github.com/dequelabs/axe-core) checks the WCAG 2.x A/AA rules, contrast included.
- */
-export async function axeFindings(page: Page): Promise<{ id: string; help: string; nodes: string[] }[]> {
-  const axePath = createRequire(import.meta.url).resolve('axe-core/axe.min.js');
-  await page.addScriptTag({ path: axePath });
-  const findings = await page.evaluate(async () => {
-    type Violation = { id: string; impact: string | null; help: string; nodes: { target: unknown[] }[] };
-    const axe = (window as unknown as { axe: { run: (c: Document) => Promise<{ violations: Violation[] }> } })
-      .axe;
-    const r = await axe.run(document);
-    return r.violations.map((v) => ({
-      id: v.id,
-      impact: v.impact,
-      help: v.help,
-      nodes: v.nodes.map((n) => String(n.target[0])),
-    }));
-  });
-  return findings
-    .filter((f) => f.impact === 'serious' || f.impact === 'critical')
-    .map(({ id, help, nodes }) => ({ id, help, nodes }));
-}
+/** Serious and critical accessibility findings on the page as it is now (axe-core; see a11y-kit). */
+export { seriousAxeFindings as axeFindings } from './a11y-kit';

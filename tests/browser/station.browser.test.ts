@@ -1,10 +1,9 @@
-import { createRequire } from 'node:module';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
+import { seriousAxeFindings } from './a11y-kit';
 import { baseUrl, DEMO, freshPage, launchChromium } from './browser-kit';
 import { buildMeasurement, ensureTestBench, freshSerial, postMeasurement, type TestBench } from './line-kit';
 
-const require = createRequire(import.meta.url);
 
 let browser: Browser;
 let bench: TestBench;
@@ -136,35 +135,8 @@ describe('the station screen', { timeout: 90_000 }, () => {
     const serial = freshSerial();
     await scan(page, serial);
     await page.getByTestId('unit-unknown').waitFor();
-    // Axe (https://github.com/dequelabs/axe-core) checks WCAG 2.x A/AA rules: run it idle, unknown, and with a result.
-    const axePath = require.resolve('axe-core/axe.min.js');
-    const check = async () => {
-      await page.addScriptTag({ path: axePath });
-      const findings = await page.evaluate(async () => {
-        const axe = (
-          window as unknown as {
-            axe: {
-              run: (c: Document) => Promise<{
-                violations: {
-                  id: string;
-                  impact: string | null;
-                  help: string;
-                  nodes: { target: unknown[] }[];
-                }[];
-              }>;
-            };
-          }
-        ).axe;
-        const r = await axe.run(document);
-        return r.violations.map((v) => ({
-          id: v.id,
-          impact: v.impact,
-          help: v.help,
-          nodes: v.nodes.map((n) => String(n.target[0])),
-        }));
-      });
-      return findings.filter((f) => f.impact === 'serious' || f.impact === 'critical');
-    };
+    // Axe checks WCAG 2.x A/AA rules (tests/browser/a11y-kit.ts): run it idle, unknown, and with a result.
+    const check = () => seriousAxeFindings(page);
     expect(await check()).toEqual([]);
     await page.keyboard.press('F2');
     await page
