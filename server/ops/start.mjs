@@ -227,6 +227,7 @@ try {
     '  Demo sign-ins (invented people of the demo plant):',
     '    administrator  ada.admin      / demo-admin-pass',
     '    engineer       evan.engineer  / demo-engineer-pass',
+    '    engineer       rosa.engineer  / demo-engineer2-pass  (reviews Evan\'s recipe changes)',
     '    quality        quinn.quality  / demo-quality-pass',
     '    operator       olga.operator  / demo-operator-pass   (badge OP-1001, PIN 2468)',
     '',
