@@ -559,8 +559,9 @@ async function startServer(ctx, timeoutMs, log) {
 /**
  * Creates the owner role, the app role and the instance's database when missing; re-applies the roles'
  * passwords so PGPASSWORD_OWNER / PGPASSWORD_APP take effect on the next start. The owner may create
- * databases (tests clone one per file); the app role may log in and nothing more: its privileges on
- * the tables are granted after each migration (server/db/privileges.ts).
+ * databases (tests clone one per file) and is a member of the app role, so it may end the app's
+ * sessions; the app role may log in and nothing more: its privileges on the tables are granted after
+ * each migration (server/db/privileges.ts).
  * @param {{ binDir: string, socketDir: string, runAs: string | undefined, port: number, database: string, password: string, ownerPassword: string }} ctx
  */
 async function ensureRoleAndDatabase({ binDir, socketDir, runAs, port, database, password, ownerPassword }) {
@@ -570,6 +571,9 @@ async function ensureRoleAndDatabase({ binDir, socketDir, runAs, port, database,
     `ALTER ROLE ${OWNER_ROLE} WITH LOGIN CREATEDB NOSUPERUSER NOCREATEROLE PASSWORD ${literal(ownerPassword)};`,
     `SELECT 'CREATE ROLE ${APP_ROLE}' WHERE NOT EXISTS (SELECT 1 FROM pg_roles WHERE rolname = '${APP_ROLE}')\\gexec`,
     `ALTER ROLE ${APP_ROLE} WITH LOGIN NOCREATEDB NOSUPERUSER NOCREATEROLE NOREPLICATION PASSWORD ${literal(password)};`,
+    // The owner administers the app role's sessions: dropping or restoring a database ends them
+    // (DROP DATABASE … WITH (FORCE) may only end sessions of roles the caller is a member of).
+    `GRANT ${APP_ROLE} TO ${OWNER_ROLE};`,
     `SELECT 'CREATE DATABASE ${database} OWNER ${OWNER_ROLE}' WHERE NOT EXISTS (SELECT 1 FROM pg_database WHERE datname = '${database}')\\gexec`,
     '',
   ].join('\n');
