@@ -39,6 +39,20 @@ async function scan(page: Page, text: string) {
   await page.keyboard.press('Enter');
 }
 
+/** Scans a serial the product has never seen and registers it against the bench's model (F2). */
+async function registerFreshUnit(page: Page): Promise<string> {
+  const serial = freshSerial();
+  await scan(page, serial);
+  await page.getByTestId('unit-unknown').waitFor();
+  await page.keyboard.press('F2');
+  await page
+    .getByRole('dialog')
+    .getByRole('button', { name: new RegExp(bench.model.code) })
+    .click();
+  await page.getByTestId('unit-card').waitFor();
+  return serial;
+}
+
 describe('the station screen', { timeout: 90_000 }, () => {
   it('registers a scanned serial, shows the pushed result without reloading, and prints the traveler', async () => {
     const { context, page, pageErrors } = await freshPage(browser);
@@ -157,15 +171,7 @@ describe('the station screen', { timeout: 90_000 }, () => {
   it('clears the last verdict at once when a scan is refused, and shows the refusal as large as a verdict', async () => {
     const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
     await openBench(page);
-    const serial = freshSerial();
-    await scan(page, serial);
-    await page.getByTestId('unit-unknown').waitFor();
-    await page.keyboard.press('F2');
-    await page
-      .getByRole('dialog')
-      .getByRole('button', { name: new RegExp(bench.model.code) })
-      .click();
-    await page.getByTestId('unit-card').waitFor();
+    const serial = await registerFreshUnit(page);
     await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 61).measurement);
     await page.locator('[data-verdict="pass"]').waitFor({ timeout: 20_000 });
 
@@ -195,15 +201,7 @@ describe('the station screen', { timeout: 90_000 }, () => {
   it('shows a unit a dead sensor put on hold in its own full-width state above the fold, with no programming step', async () => {
     const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
     await openBench(page);
-    const serial = freshSerial();
-    await scan(page, serial);
-    await page.getByTestId('unit-unknown').waitFor();
-    await page.keyboard.press('F2');
-    await page
-      .getByRole('dialog')
-      .getByRole('button', { name: new RegExp(bench.model.code) })
-      .click();
-    await page.getByTestId('unit-card').waitFor();
+    const serial = await registerFreshUnit(page);
     await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 62, 'dead-sensor').measurement);
     const hold = page.getByTestId('hold-state');
     await hold.waitFor({ timeout: 20_000 });
