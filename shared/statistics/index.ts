@@ -1,5 +1,6 @@
 export {
   describe,
+  describeFromSums,
   histogram,
   mean,
   sampleSd,
@@ -52,9 +53,13 @@ export {
 export {
   boxFigures,
   groupsBeyondThreshold,
+  groupsBeyondThresholdFromMeans,
   kruskalWallis,
+  kruskalWallisFromRanks,
   summarizeGroup,
+  summarizeGroupFromFigures,
   welchAnova,
+  welchAnovaFromSummaries,
   type BoxFigures,
   type GroupDifference,
   type GroupSummary,

@@ -166,7 +166,7 @@ async function main() {
       },
     });
     const e0 = performance.now();
-    const exported = await writeCalibrationsCsv(db, filter, sink);
+    const exported = await writeCalibrationsCsv(pool, filter, sink);
     const es = (performance.now() - e0) / 1000;
     console.log(
       `CSV export: ${exported.toLocaleString('en')} rows, ${(bytes / 2 ** 20).toFixed(0)} MB in ${es.toFixed(1)} s = ${Math.round(exported / es).toLocaleString('en')} rows/s`,
