@@ -25,7 +25,9 @@ export {
   type SpecLimits,
 } from './capability';
 export {
+  clipForEwma,
   consecutiveSubgroups,
+  EWMA_CLIP_SIGMA,
   ewmaChart,
   ewmaSigma,
   ewmaStep,

@@ -39,11 +39,15 @@ import {
   failedCheckCounts,
   placementTrend,
   programmingMismatchesByDay,
-  selectCalibrationFigures,
   stationDayHealth,
-  type CalibrationFigureRow,
 } from '../measurements/calibrations.repository';
-import { comparisonAggregate, distributionAggregate } from '../measurements/calibration-aggregates.repository';
+import {
+  comparisonAggregate,
+  distributionAggregate,
+  groupRankSums,
+  newestFigures,
+  type ChartRow,
+} from '../measurements/calibration-aggregates.repository';
 import { analysisErrors } from './analysis.errors';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
@@ -159,7 +163,7 @@ function outsideLimits(line: ChartLine): RuleHit[] {
   return hits;
 }
 
-function plottedOf(rows: CalibrationFigureRow[], size: number): Plotted[] {
+function plottedOf(rows: ChartRow[], size: number): Plotted[] {
   if (size === 1)
     return rows.map((r) => ({
       serial: r.serial,
@@ -176,16 +180,17 @@ function plottedOf(rows: CalibrationFigureRow[], size: number): Plotted[] {
 export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promise<ControlChartView> {
   await modelRecipe(db, q.model);
   const size = q.chart === 'xbar-r' || q.chart === 'xbar-s' ? q.subgroupSize : 1;
-  const { rows, total } = await selectCalibrationFigures(db, q, { newest: q.limit });
+  const { rows, total } = await newestFigures(db, q, { limit: q.limit });
   const needed = size === 1 ? 2 : 2 * size;
   if (rows.length < needed) throw analysisErrors.tooFewForChart(rows.length, needed);
 
   let frozen: Baseline | undefined;
   if (q.baselineFrom && q.baselineTo) {
-    const { rows: base } = await selectCalibrationFigures(db, q, {
+    const { rows: base } = await newestFigures(db, q, {
       from: new Date(q.baselineFrom),
       to: new Date(q.baselineTo),
-      newest: 20_000,
+      limit: 20_000,
+      withTotal: false,
     });
     const values = base.map((r) => r.value);
     const chart =
@@ -300,7 +305,7 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
 
 export async function comparisonView(db: DbOrTx, q: ComparisonQuery): Promise<ComparisonView> {
   await modelRecipe(db, q.model);
-  const { groups, tieSum } = await comparisonAggregate(db, q, q.by);
+  const groups = await comparisonAggregate(db, q, q.by);
   const entries = groups
     .map((g) => ({
       ...g,
@@ -316,7 +321,11 @@ export async function comparisonView(db: DbOrTx, q: ComparisonQuery): Promise<Co
     .filter((x) => x.ad && x.ad.pValue < NORMALITY_ALPHA);
   let test: ComparisonView['test'] = null;
   if (nonNormal.length > 0) {
-    const t = kruskalWallisFromRanks(entries, tieSum);
+    const { rankSums, ties } = await groupRankSums(db, q, q.by);
+    const t = kruskalWallisFromRanks(
+      entries.map((g) => ({ n: g.n, rankSum: rankSums.get(g.key) ?? 0 })),
+      ties,
+    );
     if (t)
       test = {
         ...t,

@@ -36,6 +36,17 @@ function selection(f: AnalysisFilter, need: { recipe?: boolean; measurement?: bo
   return { value, from: sql`from ${calibrations} ${sql.join(joins, sql` `)} where ${where}` };
 }
 
+/**
+ * Runs one statistics statement with room to sort in memory (the default 4 MB spills a few hundred thousand
+ * values to disk, several times slower); the setting ends with the statement's transaction.
+ */
+async function inSortRoom(db: DbOrTx, query: SQL) {
+  return db.transaction(async (tx) => {
+    await tx.execute(sql`set local work_mem = '64MB'`);
+    return tx.execute<Record<string, unknown>>(query);
+  });
+}
+
 const num = (v: unknown): number | null => (v === null || v === undefined ? null : Number(v));
 
 export interface DistributionAggregate {
@@ -70,16 +81,18 @@ export async function distributionAggregate(
   const useExtent = extent !== null;
   const lsl = extent?.lsl ?? null;
   const usl = extent?.usl ?? null;
-  const res = await db.execute<Record<string, unknown>>(sql`
+  const res = await inSortRoom(
+    db,
+    sql`
     with sel as materialized (
       select ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
     ),
     m as (
-      select count(*)::int as n, avg(v) as mean, min(v) as mn, max(v) as mx,
-        percentile_cont(0.25) within group (order by v) as q1,
-        percentile_cont(0.5) within group (order by v) as q2,
-        percentile_cont(0.75) within group (order by v) as q3
-      from sel
+      select n, mean, mn, mx, q[1] as q1, q[2] as q2, q[3] as q3 from (
+        select count(*)::int as n, avg(v) as mean, min(v) as mn, max(v) as mx,
+          percentile_cont(array[0.25, 0.5, 0.75]) within group (order by v) as q
+        from sel
+      ) a
     ),
     mom as (select sum((v - m.mean) ^ 2) as ss2, sum((v - m.mean) ^ 3) as ss3 from sel, m),
     mr as (select sum(abs(d)) as mr from (select v - lag(v) over (order by t, id) as d from sel) x),
@@ -106,7 +119,8 @@ export async function distributionAggregate(
       (select lo from bw) as lo, (select hi from bw) as hi, (select bins from bw) as bins,
       (select json_agg(json_build_array(i, c)) from hist) as hist,
       (select array_agg(v) from (select v from sel order by t desc, id desc limit ${NORMALITY_SAMPLE}) s) as newest
-    from m, mom, mr`);
+    from m, mom, mr`,
+  );
   const r = res.rows[0];
   const n = Number(r.n);
   let histogram: DistributionAggregate['histogram'] = null;
@@ -145,11 +159,11 @@ function groupSql(by: CompareBy): { key: SQL; label: SQL; need: Parameters<typeo
         need: {},
       };
     case 'hallBoardLot':
-      return { key: sql`${units.hallBoardLot}`, label: sql`g.g`, need: {} };
+      return { key: sql`${units.hallBoardLot}`, label: sql`nullif(g.g, '')`, need: {} };
     case 'magnetRingLot':
-      return { key: sql`${units.magnetRingLot}`, label: sql`g.g`, need: {} };
+      return { key: sql`${units.magnetRingLot}`, label: sql`nullif(g.g, '')`, need: {} };
     case 'statorLot':
-      return { key: sql`${units.statorLot}`, label: sql`g.g`, need: {} };
+      return { key: sql`${units.statorLot}`, label: sql`nullif(g.g, '')`, need: {} };
     case 'operator':
       return {
         key: sql`${measurements.operatorId}::text`,
@@ -162,7 +176,7 @@ function groupSql(by: CompareBy): { key: SQL; label: SQL; need: Parameters<typeo
 }
 
 export interface GroupAggregate {
-  /** Null where the grouping value is not recorded. */
+  /** Null where the grouping value is not recorded (grouped under ''). */
   key: string | null;
   label: string | null;
   n: number;
@@ -176,49 +190,40 @@ export interface GroupAggregate {
   inHigh: number | null;
   /** The lowest values outside 1.5 IQR of the box, ascending, at most MAX_OUTLIERS. */
   outliers: number[];
-  /** Sum of the (tie-averaged) ranks of the group's values among all values, for Kruskal–Wallis. */
-  rankSum: number;
   /** The group's newest values (at most GROUP_NORMALITY_SAMPLE), for its normality test. */
   newest: number[];
 }
 
-export interface ComparisonAggregate {
-  groups: GroupAggregate[];
-  /** Σ (t³ − t) over the tied values of the whole selection (Kruskal–Wallis tie correction). */
-  tieSum: number;
-}
-
-/** Per-group figures of a comparison in one statement: summaries, box figures, rank sums, newest values. */
+/** Per-group figures of a comparison in one statement: summaries, box figures, newest values. */
 export async function comparisonAggregate(
   db: DbOrTx,
   filter: AnalysisFilter,
   by: CompareBy,
-): Promise<ComparisonAggregate> {
+): Promise<GroupAggregate[]> {
   const group = groupSql(by);
   const { value, from } = selection(filter, group.need);
-  const res = await db.execute<Record<string, unknown>>(sql`
+  const res = await inSortRoom(
+    db,
+    sql`
     with sel as materialized (
-      select ${group.key} as g, ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
+      select coalesce(${group.key}, '') as g, ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
     ),
-    ranked as (
-      select g, rank() over (order by v) + (count(*) over (partition by v) - 1) / 2.0 as rk,
-        count(*) over (partition by v) as tc
-      from sel
-    ),
-    rs as (select g, sum(rk)::float8 as rank_sum, sum(tc * tc - 1)::float8 as tie_part from ranked group by g),
     g as (
-      select g, count(*)::int as n, avg(v) as mean, stddev_samp(v) as sd,
-        percentile_cont(0.25) within group (order by v) as q1,
-        percentile_cont(0.5) within group (order by v) as q2,
-        percentile_cont(0.75) within group (order by v) as q3
-      from sel group by g
+      select g, n, mean, sd, q[1] as q1, q[2] as q2, q[3] as q3 from (
+        select g, count(*)::int as n, avg(v) as mean, stddev_samp(v) as sd,
+          percentile_cont(array[0.25, 0.5, 0.75]) within group (order by v) as q
+        from sel group by g
+      ) a
     ),
-    box as (
-      select s.g,
-        min(v) filter (where v >= g.q1 - 1.5 * (g.q3 - g.q1) and v <= g.q3 + 1.5 * (g.q3 - g.q1)) as in_low,
-        max(v) filter (where v >= g.q1 - 1.5 * (g.q3 - g.q1) and v <= g.q3 + 1.5 * (g.q3 - g.q1)) as in_high,
-        (array_agg(v order by v) filter (where v < g.q1 - 1.5 * (g.q3 - g.q1) or v > g.q3 + 1.5 * (g.q3 - g.q1)))[1:${MAX_OUTLIERS}] as outliers
-      from sel s join g on g.g is not distinct from s.g group by s.g
+    fence as (select g, q1 - 1.5 * (q3 - q1) as lo, q3 + 1.5 * (q3 - q1) as hi from g),
+    inside as (
+      select s.g, min(v) as in_low, max(v) as in_high
+      from sel s join fence f on f.g = s.g where v >= f.lo and v <= f.hi group by s.g
+    ),
+    outside as (
+      select g, (array_agg(v order by v))[1:${MAX_OUTLIERS}] as outliers from (
+        select s.g, s.v from sel s join fence f on f.g = s.g where s.v < f.lo or s.v > f.hi
+      ) o group by g
     ),
     newest as (
       select g, array_agg(v) as vs from (
@@ -226,16 +231,15 @@ export async function comparisonAggregate(
       ) x where rn <= ${GROUP_NORMALITY_SAMPLE} group by g
     )
     select g.g as key, ${group.label} as label, g.n, g.mean, g.sd, g.q1, g.q2, g.q3,
-      box.in_low, box.in_high, box.outliers, rs.rank_sum, rs.tie_part, newest.vs as newest
+      inside.in_low, inside.in_high, outside.outliers, newest.vs as newest
     from g
-    join box on box.g is not distinct from g.g
-    join rs on rs.g is not distinct from g.g
-    join newest on newest.g is not distinct from g.g`);
-  let tieSum = 0;
-  const groups = res.rows.map((r) => {
-    tieSum += Number(r.tie_part);
+    left join inside on inside.g = g.g
+    left join outside on outside.g = g.g
+    join newest on newest.g = g.g`,
+  );
+  return res.rows.map((r) => {
     return {
-      key: (r.key as string | null) ?? null,
+      key: r.key === '' ? null : (r.key as string),
       label: (r.label as string | null) ?? null,
       n: Number(r.n),
       mean: Number(r.mean),
@@ -246,11 +250,38 @@ export async function comparisonAggregate(
       inLow: num(r.in_low),
       inHigh: num(r.in_high),
       outliers: ((r.outliers as (number | string)[] | null) ?? []).map(Number),
-      rankSum: Number(r.rank_sum),
       newest: ((r.newest as (number | string)[] | null) ?? []).map(Number),
     };
   });
-  return { groups, tieSum };
+}
+
+/**
+ * Sums of the tie-averaged ranks of each group's values among all values, and Σ (t³ − t) over tied values:
+ * what Kruskal–Wallis needs, read only when some group does not look normal (a second pass over the data).
+ */
+export async function groupRankSums(
+  db: DbOrTx,
+  filter: AnalysisFilter,
+  by: CompareBy,
+): Promise<{ rankSums: Map<string, number>; ties: number }> {
+  const group = groupSql(by);
+  const { value, from } = selection(filter, group.need);
+  const res = await inSortRoom(
+    db,
+    sql`
+    with sel as materialized (select coalesce(${group.key}, '') as g, ${value} as v ${from}),
+    vals as (select v, count(*)::float8 as c from sel group by v),
+    ranks as (
+      select v, c, sum(c) over (order by v rows between unbounded preceding and current row) - c + (c + 1) / 2 as ar
+      from vals
+    )
+    select s.g, sum(r.ar) as rank_sum, (select sum(c * c * c - c) from vals) as ties
+    from sel s join ranks r on r.v = s.v group by s.g`,
+  );
+  return {
+    rankSums: new Map(res.rows.map((r) => [r.g as string, Number(r.rank_sum)])),
+    ties: Number(res.rows[0]?.ties ?? 0),
+  };
 }
 
 /** How many calibrations the filter selects (with a value of its figure). */
@@ -260,3 +291,46 @@ export async function countCalibrationFigures(db: DbOrTx, filter: AnalysisFilter
   return Number(res.rows[0].n);
 }
 
+
+export interface ChartRow {
+  calibrationId: string;
+  unitId: string;
+  serial: string;
+  computedAt: Date;
+  value: number;
+}
+
+/**
+ * The newest `limit` values the filter selects (optionally within [from, to)), returned oldest first, with
+ * the count of every matching value (a separate narrow count, so the rows query stops at its limit).
+ */
+export async function newestFigures(
+  db: DbOrTx,
+  filter: AnalysisFilter,
+  opts: { limit: number; from?: Date; to?: Date; withTotal?: boolean },
+): Promise<{ rows: ChartRow[]; total: number }> {
+  const window: SQL[] = [];
+  if (opts.from) window.push(sql` and ${calibrations.computedAt} >= ${opts.from.toISOString()}`);
+  if (opts.to) window.push(sql` and ${calibrations.computedAt} < ${opts.to.toISOString()}`);
+  const { value, from } = selection(filter);
+  const rowsQuery = db.execute<Record<string, unknown>>(sql`
+    select ${calibrations.id} as id, ${calibrations.unitId} as unit_id, ${units.serial} as serial,
+      ${calibrations.computedAt} as t, ${value} as v
+    ${from} ${sql.join(window, sql``)}
+    order by ${calibrations.computedAt} desc, ${calibrations.id} desc
+    limit ${opts.limit}`);
+  const [res, total] = await Promise.all([
+    rowsQuery,
+    opts.withTotal === false ? Promise.resolve(-1) : countCalibrationFigures(db, filter),
+  ]);
+  const rows = res.rows
+    .map((r) => ({
+      calibrationId: r.id as string,
+      unitId: r.unit_id as string,
+      serial: r.serial as string,
+      computedAt: new Date(r.t as string),
+      value: Number(r.v),
+    }))
+    .reverse();
+  return { rows, total };
+}
