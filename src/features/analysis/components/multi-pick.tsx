@@ -44,7 +44,7 @@ export function MultiPick({
             (disabled ? 'pointer-events-none opacity-60' : '')
           }
         >
-          <span id={`${id}-value`} className="truncate">
+          <span id={`${id}-value`} className="truncate" title={pickSummary(chosen, list)}>
             {pickSummary(chosen, list)}
           </span>
           <span aria-hidden className="text-graphite-300 group-open:rotate-180">
