@@ -269,18 +269,21 @@ export async function groupRankSums(
   const res = await inSortRoom(
     db,
     sql`
-    with sel as materialized (select coalesce(${group.key}, '') as g, ${value} as v ${from}),
-    vals as (select v, count(*)::float8 as c from sel group by v),
-    ranks as (
-      select v, c, sum(c) over (order by v rows between unbounded preceding and current row) - c + (c + 1) / 2 as ar
-      from vals
+    with sel as (select coalesce(${group.key}, '') as g, ${value} as v ${from}),
+    -- One sort by value: the lowest rank of each value plus half its ties is its tie-averaged rank.
+    r as (
+      select g,
+        (rank() over (order by v))::float8 + (count(*) over (partition by v) - 1)::float8 / 2 as ar,
+        (count(*) over (partition by v))::float8 as tc
+      from sel
     )
-    select s.g, sum(r.ar) as rank_sum, (select sum(c * c * c - c) from vals) as ties
-    from sel s join ranks r on r.v = s.v group by s.g`,
+    select g, sum(ar) as rank_sum, sum(tc * tc - 1) as tie_part
+    from r group by g`,
   );
+  // Σ over rows of (t² − 1) is Σ over tied values of (t³ − t).
   return {
     rankSums: new Map(res.rows.map((r) => [r.g as string, Number(r.rank_sum)])),
-    ties: Number(res.rows[0]?.ties ?? 0),
+    ties: res.rows.reduce((sum, r) => sum + Number(r.tie_part), 0),
   };
 }
 
