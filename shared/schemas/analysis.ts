@@ -122,7 +122,14 @@ export const distributionViewSchema = z.object({
   limits: z.object({ lsl: z.number().nullable(), usl: z.number().nullable(), target: z.number().nullable() }),
   recipeVersion: z.number().int().nullable(),
   normality: z
-    .object({ statistic: z.number(), adjusted: z.number(), pValue: z.number(), normal: z.boolean() })
+    .object({
+      statistic: z.number(),
+      adjusted: z.number(),
+      pValue: z.number(),
+      normal: z.boolean(),
+      /** Values the test saw: every one, or the newest when there are very many. */
+      n: z.number().int(),
+    })
     .nullable(),
   capability: z
     .object({

@@ -1,5 +1,12 @@
 import { expect, it } from 'vitest';
-import { ewmaChart, ewmaSigma, individualsChart, subgroupChart, consecutiveSubgroups } from './charts';
+import {
+  clipForEwma,
+  ewmaChart,
+  ewmaSigma,
+  individualsChart,
+  subgroupChart,
+  consecutiveSubgroups,
+} from './charts';
 import { chartConstants } from './constants';
 
 // NIST/SEMATECH e-Handbook §6.3.2.2: the ten values are recalled from memory; they reproduce every published
@@ -76,4 +83,19 @@ it('keeps frozen limits whatever the data shown', () => {
   const c = individualsChart([100, 101, 99, 100.5], { center: 10, sigma: 2 })!;
   expect(c.location.ucl[0]).toBe(16);
   expect(c.location.lcl[0]).toBe(4);
+});
+
+it('lets one gross value move the EWMA by at most λ·3σ, and leaves values within 3σ as they are', () => {
+  // Common practice for robust EWMA charts (a Huber-type limit on each value's influence), no single source.
+  const baseline = { center: 0, sigma: 1 };
+  const c = ewmaChart([0, 0, 20, 0], { lambda: 0.2, L: 3, asymptotic: true }, baseline)!;
+  // Unclipped, z₃ would be 0.2·20 = 4, far past the 1.0 limit; clipped to 3σ it is 0.6, inside.
+  expect(c.line.values[2]).toBeCloseTo(0.6, 12);
+  expect(c.line.values[2]).toBeLessThan(c.line.ucl[2]);
+  // Near miss: a value just inside 3σ enters unchanged, one just outside is held at 3σ.
+  expect(clipForEwma(2.999, baseline)).toBe(2.999);
+  expect(clipForEwma(-3.001, baseline)).toBe(-3);
+  // A lasting shift of 2σ is still caught: λ·2·(1 + 0.8 + 0.64 + …) passes 3·√(0.2/1.8) = 1.0 by the 4th point.
+  const shift = ewmaChart([0, 2, 2, 2, 2], { lambda: 0.2, L: 3, asymptotic: true }, baseline)!;
+  expect(shift.line.values[4]).toBeGreaterThan(shift.line.ucl[4]);
 });

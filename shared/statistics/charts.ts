@@ -149,6 +149,22 @@ export function ewmaSigma(sigma: number, lambda: number, i: number, asymptotic =
   return sigma * Math.sqrt((lambda / (2 - lambda)) * f);
 }
 
+/**
+ * Each value enters the EWMA clipped to centre ± EWMA_CLIP_SIGMA·σ, the individuals chart's own limits. The
+ * EWMA is there for small, lasting shifts; a single gross value (a unit with a rotated magnet ring, 20° off)
+ * would otherwise move it past its limits on its own and hold it there for dozens of units: an alarm about one
+ * unit, which the individuals chart already raises as a point beyond its limits. Pairing the two charts this
+ * way, each for the shifts it is good at, with a limit on each value's influence on the EWMA, is common
+ * practice for robust EWMA charts (from memory, no single source). Ordinary values are untouched: beyond 3σ lie
+ * about 3 in 1,000.
+ */
+export const EWMA_CLIP_SIGMA = 3;
+
+export function clipForEwma(x: number, baseline: Baseline): number {
+  const w = EWMA_CLIP_SIGMA * baseline.sigma;
+  return Math.min(baseline.center + w, Math.max(baseline.center - w, x));
+}
+
 /** Absorbs one value; returns the new state (pure). */
 export function ewmaStep(state: EwmaState, x: number, lambda: number): EwmaState {
   return { count: state.count + 1, z: lambda * x + (1 - lambda) * state.z };
@@ -170,7 +186,7 @@ export function ewmaChart(
   let state: EwmaState = { count: 0, z: baseline.center };
   const line: ChartLine = { values: [], center: [], ucl: [], lcl: [], sigma: [] };
   for (const x of values) {
-    state = ewmaStep(state, x, lambda);
+    state = ewmaStep(state, clipForEwma(x, baseline), lambda);
     const s = ewmaSigma(baseline.sigma, lambda, state.count, options.asymptotic);
     line.values.push(state.z);
     line.center.push(baseline.center);

@@ -55,6 +55,16 @@ export function summarizeGroup(key: string, values: readonly number[], confidenc
   const n = values.length;
   const m = mean(values);
   const sd = n >= 2 ? sampleSd(values, m) : null;
+  return summarizeGroupFromFigures(key, { n, mean: m, sd }, boxFigures(values), confidence);
+}
+
+/** The same summary from figures computed elsewhere (a database). */
+export function summarizeGroupFromFigures(
+  key: string,
+  { n, mean: m, sd }: { n: number; mean: number; sd: number | null },
+  box: BoxFigures,
+  confidence = 0.95,
+): GroupSummary {
   const half = sd !== null ? tQuantile(1 - (1 - confidence) / 2, n - 1) * (sd / Math.sqrt(n)) : null;
   return {
     key,
@@ -63,7 +73,7 @@ export function summarizeGroup(key: string, values: readonly number[], confidenc
     sd,
     ciLow: half !== null ? m - half : null,
     ciHigh: half !== null ? m + half : null,
-    box: boxFigures(values),
+    box,
   };
 }
 
@@ -78,12 +88,24 @@ export interface OneWayTest {
 
 /** Welch's one-way ANOVA. Groups with fewer than 2 values or no spread are left out; null below 2 groups. */
 export function welchAnova(groups: readonly (readonly number[])[]): OneWayTest | null {
-  const usable = groups.filter((g) => g.length >= 2 && sampleSd(g) > 0);
+  return welchAnovaFromSummaries(
+    groups.map((g) => {
+      const m = g.length > 0 ? mean(g) : NaN;
+      return { n: g.length, mean: m, sd: g.length >= 2 ? sampleSd(g, m) : null };
+    }),
+  );
+}
+
+/** Welch's one-way ANOVA from each group's size, mean and sample standard deviation. */
+export function welchAnovaFromSummaries(
+  groups: readonly { n: number; mean: number; sd: number | null }[],
+): OneWayTest | null {
+  const usable = groups.filter((g) => g.n >= 2 && g.sd !== null && g.sd > 0);
   const k = usable.length;
   if (k < 2) return null;
-  const n = usable.map((g) => g.length);
-  const m = usable.map((g) => mean(g));
-  const w = usable.map((g, i) => n[i] / sampleSd(g, m[i]) ** 2);
+  const n = usable.map((g) => g.n);
+  const m = usable.map((g) => g.mean);
+  const w = usable.map((g, i) => n[i] / g.sd! ** 2);
   const sw = w.reduce((a, b) => a + b, 0);
   const grand = w.reduce((a, wi, i) => a + wi * m[i], 0) / sw;
   const between = w.reduce((a, wi, i) => a + wi * (m[i] - grand) ** 2, 0) / (k - 1);
@@ -113,8 +135,26 @@ export function kruskalWallis(groups: readonly (readonly number[])[]): OneWayTes
     ties += c * c * c - c;
     i = j + 1;
   }
+  return kruskalWallisFromRanks(
+    usable.map((g, gi) => ({ n: g.length, rankSum: rankSum[gi] })),
+    ties,
+  );
+}
+
+/**
+ * Kruskal–Wallis H from each group's size and sum of tie-averaged ranks among all values, and Σ (t³ − t) over
+ * the groups of tied values. Null below 2 non-empty groups.
+ */
+export function kruskalWallisFromRanks(
+  groups: readonly { n: number; rankSum: number }[],
+  ties: number,
+): OneWayTest | null {
+  const usable = groups.filter((g) => g.n > 0);
+  const k = usable.length;
+  if (k < 2) return null;
+  const N = usable.reduce((a, g) => a + g.n, 0);
   let h = 0;
-  usable.forEach((g, gi) => (h += (rankSum[gi] * rankSum[gi]) / g.length));
+  for (const g of usable) h += (g.rankSum * g.rankSum) / g.n;
   h = (12 / (N * (N + 1))) * h - 3 * (N + 1);
   const correction = 1 - ties / (N * N * N - N);
   if (correction > 0) h /= correction;
@@ -143,9 +183,18 @@ export function groupsBeyondThreshold(
   groups: readonly { key: string; values: readonly number[] }[],
   threshold: number,
 ): GroupDifference[] {
-  const remaining = groups
-    .filter((g) => g.values.length > 0)
-    .map((g) => ({ key: g.key, n: g.values.length, mean: mean(g.values) }));
+  return groupsBeyondThresholdFromMeans(
+    groups.filter((g) => g.values.length > 0).map((g) => ({ key: g.key, n: g.values.length, mean: mean(g.values) })),
+    threshold,
+  );
+}
+
+/** The same from each group's size and mean. */
+export function groupsBeyondThresholdFromMeans(
+  groups: readonly { key: string; n: number; mean: number }[],
+  threshold: number,
+): GroupDifference[] {
+  const remaining = groups.filter((g) => g.n > 0).map((g) => ({ ...g }));
   const out: GroupDifference[] = [];
   while (remaining.length >= 2) {
     let total = 0;

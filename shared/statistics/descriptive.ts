@@ -41,6 +41,40 @@ export function sortedCopy(values: readonly number[]): number[] {
   return Float64Array.from(values).sort() as unknown as number[];
 }
 
+/**
+ * The same description from sums computed elsewhere (a database): n, mean, Σ(x − mean)², Σ(x − mean)³,
+ * extremes and type-7 quartiles.
+ */
+export function describeFromSums(s: {
+  n: number;
+  mean: number | null;
+  ss2: number | null;
+  ss3: number | null;
+  min: number | null;
+  max: number | null;
+  q1: number | null;
+  median: number | null;
+  q3: number | null;
+}): Description {
+  const { n } = s;
+  if (n === 0 || s.mean === null)
+    return { n: 0, mean: null, sd: null, median: null, min: null, max: null, skewness: null, q1: null, q3: null };
+  const m2 = (s.ss2 ?? 0) / n;
+  const m3 = (s.ss3 ?? 0) / n;
+  const g1 = m2 > 0 ? m3 / Math.pow(m2, 1.5) : 0;
+  return {
+    n,
+    mean: s.mean,
+    sd: n >= 2 ? Math.sqrt((s.ss2 ?? 0) / (n - 1)) : null,
+    median: s.median,
+    min: s.min,
+    max: s.max,
+    skewness: n >= 3 ? (Math.sqrt(n * (n - 1)) / (n - 2)) * g1 : null,
+    q1: s.q1,
+    q3: s.q3,
+  };
+}
+
 export function describe(values: readonly number[]): Description {
   const n = values.length;
   if (n === 0) {

@@ -1,5 +1,6 @@
 export {
   describe,
+  describeFromSums,
   histogram,
   mean,
   sampleSd,
@@ -24,7 +25,9 @@ export {
   type SpecLimits,
 } from './capability';
 export {
+  clipForEwma,
   consecutiveSubgroups,
+  EWMA_CLIP_SIGMA,
   ewmaChart,
   ewmaSigma,
   ewmaStep,
@@ -52,9 +55,13 @@ export {
 export {
   boxFigures,
   groupsBeyondThreshold,
+  groupsBeyondThresholdFromMeans,
   kruskalWallis,
+  kruskalWallisFromRanks,
   summarizeGroup,
+  summarizeGroupFromFigures,
   welchAnova,
+  welchAnovaFromSummaries,
   type BoxFigures,
   type GroupDifference,
   type GroupSummary,

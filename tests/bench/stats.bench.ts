@@ -5,6 +5,7 @@
 // process, no HTTP) beside the bare SQL aggregate of the same data, the CSV export's rows per second, and the
 // process's resident memory. Prints figures; asserts nothing.
 import { Writable } from 'node:stream';
+import { cpus, loadavg } from 'node:os';
 import pg from 'pg';
 import { ensurePostgres } from '../../server/ops/pg-local.mjs';
 import { prefixedLog } from '../../server/ops/proc.mjs';
@@ -100,11 +101,17 @@ async function main() {
                 'checks', '[]'::jsonb),
               1, m.received_at
        from measurements m
-       cross join lateral (select 2.4 + 1.1 * (random() + random() + random() + random() - 2) * 1.732 as v) o`,
+       join units u on u.id = m.unit_id
+       -- The lateral names the row, so each calibration draws its own value (about normal, sd 1.1°, from four
+       -- uniforms); hall-board lot HB-07 sits 4° off, as a bad lot would.
+       cross join lateral (select 2.4 + case when u.hall_board_lot = 'HB-07' then 4 else 0 end
+                                 + 1.1 * (random() + random() + random() + random() - 2) * 1.732 as v
+                           where m.id is not null) o`,
       [model.active_recipe_id],
     );
     await pool.query('analyze');
     const seedS = (performance.now() - t0) / 1000;
+    console.log(`load average (1 / 5 / 15 min) before the views: ${loadavg().map((x) => x.toFixed(2)).join(' / ')}`);
     console.log(
       `seeded ${ROWS.toLocaleString('en')} calibrations in ${seedS.toFixed(1)} s (set-based INSERT … SELECT)`,
     );
@@ -152,10 +159,12 @@ async function main() {
         ),
       ),
     ]);
-    console.log('view | p50 ms | p95 ms | bare SQL p50 ms | bare SQL p95 ms | p95 ratio');
+    const load = () => loadavg().map((x) => x.toFixed(2)).join(' / ');
+    console.log(`load average (1 / 5 / 15 min) after the views: ${load()} on ${cpus().length} cores`);
+    console.log('view | p50 ms | p95 ms | target p95 | bare SQL p50 ms | bare SQL p95 ms | p95 ratio | target ratio');
     for (const [name, view, bare] of rows)
       console.log(
-        `${name} | ${view.p50.toFixed(0)} | ${view.p95.toFixed(0)} | ${bare.p50.toFixed(0)} | ${bare.p95.toFixed(0)} | ${(view.p95 / bare.p95).toFixed(1)}×`,
+        `${name} | ${view.p50.toFixed(0)} | ${view.p95.toFixed(0)} | ≤ 300 ms ${view.p95 <= 300 ? 'met' : 'MISSED'} | ${bare.p50.toFixed(0)} | ${bare.p95.toFixed(0)} | ${(view.p95 / bare.p95).toFixed(1)}× | ≤ 2× ${view.p95 <= 2 * bare.p95 ? 'met' : 'MISSED'}`,
       );
 
     let bytes = 0;
@@ -166,12 +175,16 @@ async function main() {
       },
     });
     const e0 = performance.now();
-    const exported = await writeCalibrationsCsv(db, filter, sink);
+    const exported = await writeCalibrationsCsv(pool, filter, sink);
     const es = (performance.now() - e0) / 1000;
+    const rate = Math.round(exported / es);
     console.log(
-      `CSV export: ${exported.toLocaleString('en')} rows, ${(bytes / 2 ** 20).toFixed(0)} MB in ${es.toFixed(1)} s = ${Math.round(exported / es).toLocaleString('en')} rows/s`,
+      `CSV export: ${exported.toLocaleString('en')} rows, ${(bytes / 2 ** 20).toFixed(0)} MB in ${es.toFixed(1)} s = ${rate.toLocaleString('en')} rows/s | target ≥ 50,000 rows/s ${rate >= 50_000 ? 'met' : 'MISSED'}`,
     );
-    console.log(`peak RSS of this process: ${peakRssMb.toFixed(0)} MB`);
+    console.log(
+      `peak RSS of this process (the services run in it, as in the API process): ${peakRssMb.toFixed(0)} MB | target ≤ 300 MB ${peakRssMb <= 300 ? 'met' : 'MISSED'}`,
+    );
+    console.log(`load average (1 / 5 / 15 min) at the end: ${load()}`);
     await database.close();
   } finally {
     clearInterval(sampler);

@@ -11,6 +11,17 @@ let browser: Browser;
 let page: Page;
 let pageErrors: string[];
 
+/** Ticks or clears one choice of a several-at-once filter (stations, lots…), leaving the picker closed. */
+async function pick(label: string, option: string, on: boolean) {
+  const field = page.locator('div', { has: page.getByText(label, { exact: true }) }).filter({ has: page.locator('details') }).last();
+  await field.locator('summary').click();
+  const box = page.getByRole('group', { name: label }).getByLabel(option, { exact: true });
+  // The choice lands in the URL through a navigation, after which the box shows it: click, then wait.
+  await box.click();
+  await expect.poll(() => box.isChecked()).toBe(on);
+  await field.locator('summary').click();
+}
+
 async function shot(name: string) {
   if (!shotsDir) return;
   await mkdir(shotsDir, { recursive: true });
@@ -59,9 +70,8 @@ describe('line statistics on the demo line', () => {
   });
 
   it('draws the control chart of the drifting station with its violations listed', async () => {
-    const station = page.getByLabel('Station', { exact: true });
-    const eol23 = await station.locator('option', { hasText: 'EOL-23' }).getAttribute('value');
-    await station.selectOption(eol23!);
+    await pick('Stations', 'EOL-23', true);
+    expect(new URL(page.url()).searchParams.get('stations')?.split(',')).toHaveLength(1);
     await page.getByRole('link', { name: 'Control charts' }).click();
     await page.getByRole('heading', { name: /Rule violations/ }).waitFor();
     await page.locator('.analysis-plot canvas').first().waitFor();
@@ -74,8 +84,29 @@ describe('line statistics on the demo line', () => {
     await page.getByText(/Individuals: Offset/).first().waitFor();
   });
 
+  it('compares several stations and lots at once, the choice kept in the URL', async () => {
+    await pick('Stations', 'EOL-21', true);
+    expect(new URL(page.url()).searchParams.get('stations')?.split(',')).toHaveLength(2);
+    await pick('Hall-board lots', 'HB-2446-C', true);
+    await pick('Hall-board lots', 'HB-2446-A', true);
+    await page.getByRole('link', { name: 'Comparisons' }).click();
+    await page.getByLabel('Compare by').selectOption('station');
+    const table = page.getByRole('table', { name: /Groups by station/ });
+    await table.waitFor();
+    await expect.poll(() => table.getByRole('row').filter({ hasText: /EOL-2[13]/ }).count()).toBe(2);
+    expect(new URL(page.url()).searchParams.get('hallBoardLots')).toBe('HB-2446-C,HB-2446-A');
+    // The closed picker names the lots chosen, in the order of the list.
+    await page.locator('summary', { hasText: 'HB-2446-A, HB-2446-C' }).waitFor();
+    await shot('analysis-several-stations-lots');
+    expect(await axeFindings(page)).toEqual([]);
+    await pick('Hall-board lots', 'HB-2446-C', false);
+    await pick('Hall-board lots', 'HB-2446-A', false);
+    await pick('Stations', 'EOL-21', false);
+    await pick('Stations', 'EOL-23', false);
+    expect(new URL(page.url()).searchParams.get('stations')).toBeNull();
+  });
+
   it('names hall-board lot HB-2446-C in the lot comparison', async () => {
-    await page.getByLabel('Station', { exact: true }).selectOption('');
     await page.getByLabel('Verdict').selectOption('pass');
     await page.getByRole('link', { name: 'Comparisons' }).click();
     await page.getByLabel('Compare by').selectOption('hallBoardLot');

@@ -1,4 +1,5 @@
 import {
+  clipForEwma,
   createRuleState,
   ewmaSigma,
   ewmaStep,
@@ -104,7 +105,11 @@ export function watchStep(
       .filter((p): p is AlertPoint => !!p);
 
   if (settings.kind === 'ewma') {
-    const ewma = ewmaStep(state.ewma ?? { count: 0, z: center }, point.value, settings.lambda);
+    const ewma = ewmaStep(
+      state.ewma ?? { count: 0, z: center },
+      clipForEwma(point.value, state.baseline),
+      settings.lambda,
+    );
     state.ewma = ewma;
     const s = ewmaSigma(sigma, settings.lambda, ewma.count);
     const hits: WatchHit[] = [];

@@ -1,11 +1,10 @@
 import Papa from 'papaparse';
+import type pg from 'pg';
+import { pipeline } from 'node:stream/promises';
 import type { Writable } from 'node:stream';
-import type { DbOrTx } from '../../db/client';
+import { to as copyTo } from 'pg-copy-streams';
 import { ANALYSIS_FIGURES, type AnalysisFilter } from '../../../shared/schemas/analysis';
-import { selectCalibrationFigures, type CalibrationFigureRow } from '../measurements/calibrations.repository';
-
-/** Rows read per query; the response is written page by page, so memory stays flat for any size. */
-const PAGE = 5000;
+import { calibrationsCsvStatement } from '../measurements/calibrations.repository';
 
 function columns(filter: AnalysisFilter) {
   const f = ANALYSIS_FIGURES[filter.figure];
@@ -24,53 +23,32 @@ function columns(filter: AnalysisFilter) {
   ];
 }
 
-function row(r: CalibrationFigureRow) {
-  return [
-    r.serial,
-    r.stationName,
-    r.computedAt.toISOString(),
-    r.verdict,
-    r.attempt ?? '',
-    r.recipeVersion,
-    r.value,
-    r.hallBoardLot ?? '',
-    r.magnetRingLot ?? '',
-    r.statorLot ?? '',
-    r.operatorName ?? '',
-  ];
-}
-
-/** Waits for the socket to drain when its buffer is full (back-pressure), so a slow client costs no memory. */
-function write(out: Writable, chunk: string): Promise<void> {
-  return new Promise((resolve, reject) => {
-    if (out.write(chunk)) resolve();
-    else {
-      out.once('drain', resolve);
-      out.once('error', reject);
-    }
-  });
-}
-
 /**
  * Writes the filtered calibrations as CSV (comma separated, a byte-order mark so spreadsheets read the
- * degree sign and names in UTF-8, units in the headers), in production order. Returns the rows written.
+ * degree sign and names in UTF-8, units in the headers), in production order. The header comes from the CSV
+ * library; the rows come straight from PostgreSQL's own CSV writer (COPY … TO STDOUT, quoting included),
+ * streamed with back-pressure, so memory stays flat for any size and no row passes through JavaScript
+ * objects. `pool` is the connection pool the statistics read from. Returns the rows written.
  */
 export async function writeCalibrationsCsv(
-  db: DbOrTx,
+  pool: pg.Pool,
   filter: AnalysisFilter,
   out: Writable,
 ): Promise<number> {
-  await write(out, '\uFEFF' + Papa.unparse([columns(filter)]) + '\r\n');
-  let after: { at: Date; id: string } | undefined;
-  let written = 0;
-  for (;;) {
-    const { rows } = await selectCalibrationFigures(db, filter, { after, limit: PAGE });
-    if (rows.length === 0) break;
-    await write(out, Papa.unparse(rows.map(row), { header: false }) + '\r\n');
-    written += rows.length;
-    const last = rows[rows.length - 1];
-    after = { at: last.computedAt, id: last.calibrationId };
-    if (rows.length < PAGE) break;
+  const statement = calibrationsCsvStatement(filter);
+  const header = '\uFEFF' + Papa.unparse([columns(filter)], { newline: '\n' }) + '\n';
+  const client = await pool.connect();
+  let failed: unknown;
+  try {
+    if (!out.write(header)) await new Promise((resolve) => out.once('drain', resolve));
+    const copy = client.query(copyTo(`copy (${statement}) to stdout with (format csv)`));
+    await pipeline(copy, out, { end: false });
+    return copy.rowCount;
+  } catch (err) {
+    failed = err;
+    throw err;
+  } finally {
+    // A copy cut off midway (the client went away) leaves the connection mid-protocol: discard it.
+    client.release(failed instanceof Error ? failed : undefined);
   }
-  return written;
 }

@@ -105,7 +105,7 @@ export function analysisRoutes(deps: AppDeps) {
         const filter = analysisFilterSchema.parse(req.query);
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="calibrations.csv"');
-        await writeCalibrationsCsv(deps.db, filter, res);
+        await writeCalibrationsCsv(deps.pool, filter, res);
         res.end();
       },
     }),

@@ -15,20 +15,20 @@ import type { Recipe } from '../../../shared/schemas/recipe';
 import {
   allRules,
   andersonDarling,
-  capability,
   consecutiveSubgroups,
-  describe,
+  chartConstants,
+  capabilityFromFigures,
+  describeFromSums,
   evaluateRules,
   ewmaChart,
-  groupsBeyondThreshold,
-  histogram,
+  groupsBeyondThresholdFromMeans,
   individualsChart,
-  kruskalWallis,
+  kruskalWallisFromRanks,
   readCapability,
   RULE_TEXT,
   subgroupChart,
-  summarizeGroup,
-  welchAnova,
+  summarizeGroupFromFigures,
+  welchAnovaFromSummaries,
   type Baseline,
   type ChartLine,
   type RuleHit,
@@ -39,10 +39,15 @@ import {
   failedCheckCounts,
   placementTrend,
   programmingMismatchesByDay,
-  selectCalibrationFigures,
   stationDayHealth,
-  type CalibrationFigureRow,
 } from '../measurements/calibrations.repository';
+import {
+  comparisonAggregate,
+  distributionAggregate,
+  groupRankSums,
+  newestFigures,
+  type ChartRow,
+} from '../measurements/calibration-aggregates.repository';
 import { analysisErrors } from './analysis.errors';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
@@ -83,42 +88,50 @@ const fmt = (x: number, digits = 3) => x.toFixed(digits);
 
 export async function distributionView(db: DbOrTx, filter: AnalysisFilter): Promise<DistributionView> {
   const { recipe } = await modelRecipe(db, filter.model);
-  const { rows } = await selectCalibrationFigures(db, filter);
-  const values = rows.map((r) => r.value);
   const limits = figureLimits(filter.figure, recipe?.body ?? null);
-  const description = describe(values);
-  const ad = andersonDarling(values);
-  const normal = ad ? ad.pValue >= NORMALITY_ALPHA : null;
   const hasLimits = limits.lsl !== null || limits.usl !== null;
-  const cap = hasLimits ? capability(values, limits) : null;
+  const agg = await distributionAggregate(db, filter, hasLimits ? limits : null);
+  const n = agg.n;
+  const description = describeFromSums(agg);
+  // The test sees every value up to NORMALITY_SAMPLE; beyond that the newest ones (a normality test on
+  // hundreds of thousands of values rejects any real process anyway).
+  const ad = andersonDarling(agg.newest);
+  const normal = ad ? ad.pValue >= NORMALITY_ALPHA : null;
+  // Within σ from the average moving range in production order (MR̄ / d2), as capability() does.
+  const sigmaWithin = n >= 2 ? agg.movingRangeSum! / (n - 1) / chartConstants(2).d2 : NaN;
+  const sigmaOverall = description.sd ?? NaN;
+  const cap =
+    hasLimits && n >= 2 && sigmaWithin > 0 && sigmaOverall > 0
+      ? capabilityFromFigures({ n, mean: description.mean!, sigmaWithin, sigmaOverall }, limits)
+      : null;
   const warnings: string[] = [];
-  if (values.length === 0) warnings.push('No calibration matches the filter.');
-  else if (values.length < 30)
+  if (n === 0) warnings.push('No calibration matches the filter.');
+  else if (n < 30)
     warnings.push(
-      `Only ${values.length} values: the figures and their intervals are rough; 100 or more is usual for a capability study.`,
+      `Only ${n} values: the figures and their intervals are rough; 100 or more is usual for a capability study.`,
     );
   if (ad && !normal)
     warnings.push(
-      `The values do not look normally distributed (Anderson–Darling p = ${fmt(ad.pValue, 4)}). Cp, Cpk and the expected parts per million assume a normal distribution and may mislead; look at the histogram and at a split by station or lot.`,
+      `The values do not look normally distributed (Anderson–Darling p = ${fmt(ad.pValue, 4)}${ad.n < n ? `, on the newest ${ad.n.toLocaleString('en')} of ${n.toLocaleString('en')} values` : ''}). Cp, Cpk and the expected parts per million assume a normal distribution and may mislead; look at the histogram and at a split by station or lot.`,
     );
-  if (!hasLimits && values.length > 0)
+  if (!hasLimits && n > 0)
     warnings.push('The recipe sets no limits for this figure, so there are no capability indices.');
   const unit = ANALYSIS_FIGURES[filter.figure].unit;
+  const h = agg.histogram;
   return {
     figure: filter.figure,
     unit,
-    n: values.length,
+    n,
     description,
-    histogram: histogram(
-      values,
-      hasLimits && description.min !== null
-        ? { min: limits.lsl ?? description.min, max: limits.usl ?? description.max! }
-        : undefined,
-    ),
+    histogram: !h
+      ? []
+      : h.step === 0
+        ? [{ from: h.lo - 0.5, to: h.lo + 0.5, count: n }]
+        : h.counts.map((count, i) => ({ from: h.lo + i * h.step, to: h.lo + (i + 1) * h.step, count })),
     limits,
     recipeVersion: recipe?.version ?? null,
     normality: ad
-      ? { statistic: ad.statistic, adjusted: ad.adjusted, pValue: ad.pValue, normal: !!normal }
+      ? { statistic: ad.statistic, adjusted: ad.adjusted, pValue: ad.pValue, normal: !!normal, n: ad.n }
       : null,
     capability: cap ? { ...cap, reading: cap.cpk ? readCapability(cap.cpk.value) : null } : null,
     warnings,
@@ -150,7 +163,7 @@ function outsideLimits(line: ChartLine): RuleHit[] {
   return hits;
 }
 
-function plottedOf(rows: CalibrationFigureRow[], size: number): Plotted[] {
+function plottedOf(rows: ChartRow[], size: number): Plotted[] {
   if (size === 1)
     return rows.map((r) => ({
       serial: r.serial,
@@ -167,16 +180,17 @@ function plottedOf(rows: CalibrationFigureRow[], size: number): Plotted[] {
 export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promise<ControlChartView> {
   await modelRecipe(db, q.model);
   const size = q.chart === 'xbar-r' || q.chart === 'xbar-s' ? q.subgroupSize : 1;
-  const { rows, total } = await selectCalibrationFigures(db, q, { newest: q.limit });
+  const { rows, total } = await newestFigures(db, q, { limit: q.limit });
   const needed = size === 1 ? 2 : 2 * size;
   if (rows.length < needed) throw analysisErrors.tooFewForChart(rows.length, needed);
 
   let frozen: Baseline | undefined;
   if (q.baselineFrom && q.baselineTo) {
-    const { rows: base } = await selectCalibrationFigures(db, q, {
+    const { rows: base } = await newestFigures(db, q, {
       from: new Date(q.baselineFrom),
       to: new Date(q.baselineTo),
-      newest: 20_000,
+      limit: 20_000,
+      withTotal: false,
     });
     const values = base.map((r) => r.value);
     const chart =
@@ -289,63 +303,60 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
   };
 }
 
-function groupKey(r: CalibrationFigureRow, by: ComparisonQuery['by']): { key: string; label: string } {
-  const none = { key: '', label: 'Not recorded' };
-  switch (by) {
-    case 'station':
-      return { key: r.stationId, label: r.stationName };
-    case 'hallBoardLot':
-      return r.hallBoardLot ? { key: r.hallBoardLot, label: r.hallBoardLot } : none;
-    case 'magnetRingLot':
-      return r.magnetRingLot ? { key: r.magnetRingLot, label: r.magnetRingLot } : none;
-    case 'statorLot':
-      return r.statorLot ? { key: r.statorLot, label: r.statorLot } : none;
-    case 'operator':
-      return r.operatorId ? { key: r.operatorId, label: r.operatorName ?? 'Unknown operator' } : none;
-    case 'recipeVersion':
-      return { key: String(r.recipeVersion), label: `Recipe version ${r.recipeVersion}` };
-  }
-}
-
 export async function comparisonView(db: DbOrTx, q: ComparisonQuery): Promise<ComparisonView> {
   await modelRecipe(db, q.model);
-  const { rows } = await selectCalibrationFigures(db, q);
-  const groups = new Map<string, { label: string; values: number[] }>();
-  for (const r of rows) {
-    const { key, label } = groupKey(r, q.by);
-    const g = groups.get(key) ?? { label, values: [] };
-    g.values.push(r.value);
-    groups.set(key, g);
-  }
-  const entries = [...groups.entries()].sort((a, b) => a[1].label.localeCompare(b[1].label));
-  const valueLists = entries.map(([, g]) => g.values);
+  const groups = await comparisonAggregate(db, q, q.by);
+  const entries = groups
+    .map((g) => ({
+      ...g,
+      key: g.key ?? '',
+      label:
+        g.key === null
+          ? 'Not recorded'
+          : (g.label ?? (q.by === 'operator' ? 'Unknown operator' : g.key)),
+    }))
+    .sort((a, b) => a.label.localeCompare(b.label));
   const nonNormal = entries
-    .map(([, g]) => ({ label: g.label, ad: andersonDarling(g.values) }))
+    .map((g) => ({ label: g.label, ad: andersonDarling(g.newest) }))
     .filter((x) => x.ad && x.ad.pValue < NORMALITY_ALPHA);
   let test: ComparisonView['test'] = null;
   if (nonNormal.length > 0) {
-    const t = kruskalWallis(valueLists);
+    const { rankSums, ties } = await groupRankSums(db, q, q.by);
+    const t = kruskalWallisFromRanks(
+      entries.map((g) => ({ n: g.n, rankSum: rankSums.get(g.key) ?? 0 })),
+      ties,
+    );
     if (t)
       test = {
         ...t,
         reason: `Kruskal–Wallis (ranks), because ${nonNormal.map((x) => x.label).join(', ')} ${nonNormal.length === 1 ? 'does' : 'do'} not look normally distributed.`,
       };
   } else {
-    const t = welchAnova(valueLists);
+    const t = welchAnovaFromSummaries(entries);
     if (t) test = { ...t, reason: "Welch's one-way analysis of variance (no equal-spread assumption)." };
   }
-  const labels = new Map(entries.map(([k, g]) => [k, g.label]));
+  const labels = new Map(entries.map((g) => [g.key, g.label]));
   return {
     by: q.by,
     figure: q.figure,
     unit: ANALYSIS_FIGURES[q.figure].unit,
     threshold: q.threshold,
-    groups: entries.map(([key, g]) => ({ ...summarizeGroup(key, g.values), label: g.label })),
+    groups: entries.map((g) => ({
+      ...summarizeGroupFromFigures(g.key, g, {
+        q1: g.q1,
+        median: g.median,
+        q3: g.q3,
+        whiskerLow: g.inLow === null ? g.q1 : Math.min(g.q1, g.inLow),
+        whiskerHigh: g.inHigh === null ? g.q3 : Math.max(g.q3, g.inHigh),
+        outliers: g.outliers,
+      }),
+      label: g.label,
+    })),
     test,
-    standOut: groupsBeyondThreshold(
-      entries.map(([key, g]) => ({ key, values: g.values })),
-      q.threshold,
-    ).map((d) => ({ ...d, label: labels.get(d.key)! })),
+    standOut: groupsBeyondThresholdFromMeans(entries, q.threshold).map((d) => ({
+      ...d,
+      label: labels.get(d.key)!,
+    })),
   };
 }
 

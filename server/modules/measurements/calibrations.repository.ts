@@ -1,4 +1,6 @@
 import { and, asc, desc, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
+import { PgDialect } from 'drizzle-orm/pg-core';
+import pg from 'pg';
 import type { DbOrTx } from '../../db/client';
 import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
@@ -39,7 +41,8 @@ export function figureSql(figure: AnalysisFigure): SQL<number | null> {
   }
 }
 
-function conditions(f: AnalysisFilter): SQL[] {
+/** WHERE conditions of the filter (units always joined; recipes and measurements where the filter names them). */
+export function conditions(f: AnalysisFilter): SQL[] {
   const out: (SQL | undefined)[] = [
     eq(units.modelId, f.model),
     eq(calibrations.purpose, f.purpose),
@@ -109,9 +112,6 @@ export async function selectCalibrationFigures(
       statorLot: units.statorLot,
       operatorId: measurements.operatorId,
       operatorName: users.displayName,
-      // The count of every matching row is needed only when the newest are cut off (charts); elsewhere the
-      // window would make each page of an export scan the whole selection again.
-      total: opts.newest ? sql<number>`count(*) over ()`.mapWith(Number) : sql<number>`0`.mapWith(Number),
     })
     .from(calibrations)
     .innerJoin(units, eq(units.id, calibrations.unitId))
@@ -120,13 +120,25 @@ export async function selectCalibrationFigures(
     .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
     .leftJoin(users, eq(users.id, measurements.operatorId))
     .where(and(...where));
-  const found = opts.newest
-    ? (await base.orderBy(desc(calibrations.computedAt), desc(calibrations.id)).limit(opts.newest)).reverse()
-    : opts.limit
-      ? await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id)).limit(opts.limit)
-      : await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id));
-  const total = opts.newest ? (found[0]?.total ?? 0) : found.length;
-  return { rows: found.map(({ total: _t, ...r }) => r), total };
+  if (opts.newest) {
+    // The newest rows come backwards along the (station, time) index; the count of every matching row is a
+    // separate, narrow query (a window count would drag every column of every matching row through a sort).
+    const [found, counted] = await Promise.all([
+      base.orderBy(desc(calibrations.computedAt), desc(calibrations.id)).limit(opts.newest),
+      db
+        .select({ n: sql<number>`count(*)`.mapWith(Number) })
+        .from(calibrations)
+        .innerJoin(units, eq(units.id, calibrations.unitId))
+        .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
+        .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
+        .where(and(...where)),
+    ]);
+    return { rows: found.reverse(), total: counted[0]?.n ?? 0 };
+  }
+  const found = opts.limit
+    ? await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id)).limit(opts.limit)
+    : await base.orderBy(asc(calibrations.computedAt), asc(calibrations.id));
+  return { rows: found, total: found.length };
 }
 
 export interface StationDayHealth {
@@ -317,4 +329,34 @@ export async function stationModelPairs(db: DbOrTx): Promise<{ stationId: string
     .from(calibrations)
     .innerJoin(units, eq(units.id, calibrations.unitId))
     .where(eq(calibrations.purpose, 'station'));
+}
+
+/**
+ * The statement that lists the filtered calibrations for the CSV export, in production order, one text column
+ * per CSV column (time as ISO 8601 UTC), with the filter's values written in as quoted literals: COPY takes no
+ * bind parameters. Each literal is escaped by the driver's escapeLiteral, and a quoted literal is typed by its
+ * context exactly as a text bind parameter is.
+ */
+export function calibrationsCsvStatement(filter: AnalysisFilter): string {
+  const value = figureSql(filter.figure);
+  const query = sql`select ${units.serial}, ${stations.name},
+      to_char(${calibrations.computedAt} at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"'),
+      ${calibrations.verdict}, ${calibrations.attempt}, ${recipes.version}, ${value},
+      ${units.hallBoardLot}, ${units.magnetRingLot}, ${units.statorLot}, ${users.displayName}
+    from ${calibrations}
+    inner join ${units} on ${units.id} = ${calibrations.unitId}
+    inner join ${stations} on ${stations.id} = ${calibrations.stationId}
+    inner join ${recipes} on ${recipes.id} = ${calibrations.recipeId}
+    inner join ${measurements} on ${measurements.id} = ${calibrations.measurementPk}
+    left join ${users} on ${users.id} = ${measurements.operatorId}
+    where ${and(...conditions(filter), sql`${value} is not null`)}
+    order by ${calibrations.computedAt}, ${calibrations.id}`;
+  const rendered = new PgDialect({ casing: 'snake_case' }).sqlToQuery(query);
+  const text = rendered.sql.replace(/\$(\d+)/g, (whole, i: string) => {
+    const k = Number(i) - 1;
+    if (k < 0 || k >= rendered.params.length) return whole;
+    const p = rendered.params[k];
+    return pg.escapeLiteral(p instanceof Date ? p.toISOString() : String(p));
+  });
+  return text;
 }

@@ -120,7 +120,7 @@ export function DistributionPanel({ view }: { view: View }) {
     [
       'Normality (Anderson–Darling)',
       view.normality
-        ? `A² ${fmt(view.normality.statistic, '', 3)}, ${fmtP(view.normality.pValue)} (${view.normality.normal ? 'looks normal' : 'not normal'})`
+        ? `A² ${fmt(view.normality.statistic, '', 3)}, ${fmtP(view.normality.pValue)} (${view.normality.normal ? 'looks normal' : 'not normal'})${view.normality.n < view.n ? `, on the newest ${view.normality.n.toLocaleString('en')} values` : ''}`
         : 'needs 8 values or more',
     ],
   ];

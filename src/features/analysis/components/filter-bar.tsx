@@ -3,8 +3,8 @@ import { ANALYSIS_FIGURES } from '../../../../shared/schemas/analysis';
 import { SelectField, TextField } from '../../../components/ui/field';
 import { useAnalysisModels, useAnalysisOptions } from '../api/analysis';
 import { RANGE_LABELS } from '../api/filter-state';
+import { MultiPick } from './multi-pick';
 
-const ALL = '';
 
 /** Converts between an ISO instant in the URL and the browser's local date-time input. */
 function toLocalInput(iso: string | null): string {
@@ -35,20 +35,19 @@ export function FilterBar() {
     setParams(next);
   };
 
-  const single = (key: string) => {
-    const v = params.get(key) ?? '';
-    return v.includes(',') ? v.split(',')[0] : v;
+  /** A list filter: comma-separated in the URL, several values at once. */
+  const list = (key: string, label: string, choices: { value: string; label: string }[] | undefined) => {
+    const chosen = (params.get(key) ?? '').split(',').filter((v) => v.length > 0);
+    return (
+      <MultiPick
+        label={label}
+        chosen={chosen}
+        choices={choices}
+        disabled={!o}
+        onChange={(next) => set({ [key]: next.length ? next.join(',') : null })}
+      />
+    );
   };
-
-  const list = (key: string, label: string, choices: { value: string; label: string }[] | undefined) => (
-    <SelectField
-      label={label}
-      value={single(key)}
-      onChange={(e) => set({ [key]: e.target.value })}
-      options={[{ value: ALL, label: 'All' }, ...(choices ?? [])]}
-      disabled={!o}
-    />
-  );
 
   const range = params.get('range') ?? 'all';
 
@@ -89,32 +88,32 @@ export function FilterBar() {
       />
       {list(
         'stations',
-        'Station',
+        'Stations',
         o?.stations.map((s) => ({ value: s.id, label: s.name })),
       )}
       {list(
         'hallBoardLots',
-        'Hall-board lot',
+        'Hall-board lots',
         o?.hallBoardLots.map((l) => ({ value: l, label: l })),
       )}
       {list(
         'magnetRingLots',
-        'Magnet-ring lot',
+        'Magnet-ring lots',
         o?.magnetRingLots.map((l) => ({ value: l, label: l })),
       )}
       {list(
         'statorLots',
-        'Stator lot',
+        'Stator lots',
         o?.statorLots.map((l) => ({ value: l, label: l })),
       )}
       {list(
         'operators',
-        'Operator',
+        'Operators',
         o?.operators.map((p) => ({ value: p.id, label: p.name })),
       )}
       {list(
         'recipeVersions',
-        'Recipe version',
+        'Recipe versions',
         o?.recipeVersions.map((v) => ({ value: String(v), label: `Version ${v}` })),
       )}
       <SelectField

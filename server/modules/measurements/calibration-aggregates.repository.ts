@@ -1,0 +1,339 @@
+import { and, sql, type SQL } from 'drizzle-orm';
+import type { DbOrTx } from '../../db/client';
+import { recipes } from '../recipes/recipes.table';
+import { stations } from '../stations/stations.table';
+import { units } from '../units/units.table';
+import { users } from '../users/users.table';
+import type { AnalysisFilter, CompareBy } from '../../../shared/schemas/analysis';
+import { calibrations, measurements } from './measurements.table';
+import { conditions, figureSql } from './calibrations.repository';
+
+/**
+ * Line statistics aggregated inside PostgreSQL: the views read sums, quantiles and counts instead of every
+ * calibration, so a view over hundreds of thousands of calibrations moves a few kilobytes. Each figure here is
+ * computed the way the pure functions in shared/statistics compute it from the values (the tests hold both
+ * paths equal on the same data); what needs every value in order (the Anderson–Darling test) gets a bounded
+ * sample of the newest values, with its size.
+ */
+
+/** The newest values handed to the normality test: above this, the test sees only these. */
+export const NORMALITY_SAMPLE = 5000;
+/** Per group in a comparison. */
+export const GROUP_NORMALITY_SAMPLE = 1000;
+/** Outliers listed per group (as in the pure box figures). */
+const MAX_OUTLIERS = 200;
+
+/** FROM … WHERE of the filtered calibrations, joining only what the filter or the grouping needs. */
+function selection(f: AnalysisFilter, need: { recipe?: boolean; measurement?: boolean; user?: boolean } = {}) {
+  const value = figureSql(f.figure);
+  const joins: SQL[] = [sql`inner join ${units} on ${units.id} = ${calibrations.unitId}`];
+  if (need.recipe || f.recipeVersions)
+    joins.push(sql`inner join ${recipes} on ${recipes.id} = ${calibrations.recipeId}`);
+  if (need.measurement || need.user || f.operators)
+    joins.push(sql`inner join ${measurements} on ${measurements.id} = ${calibrations.measurementPk}`);
+  if (need.user) joins.push(sql`left join ${users} on ${users.id} = ${measurements.operatorId}`);
+  const where = and(...conditions(f), sql`${value} is not null`);
+  return { value, from: sql`from ${calibrations} ${sql.join(joins, sql` `)} where ${where}` };
+}
+
+/**
+ * Runs one statistics statement with room to sort in memory (the default 4 MB spills a few hundred thousand
+ * values to disk, several times slower); the setting ends with the statement's transaction.
+ */
+async function inSortRoom(db: DbOrTx, query: SQL) {
+  return db.transaction(async (tx) => {
+    await tx.execute(sql`set local work_mem = '64MB'`);
+    return tx.execute<Record<string, unknown>>(query);
+  });
+}
+
+const num = (v: unknown): number | null => (v === null || v === undefined ? null : Number(v));
+
+export interface DistributionAggregate {
+  n: number;
+  mean: number | null;
+  /** Sums of squared and cubed deviations from the mean. */
+  ss2: number | null;
+  ss3: number | null;
+  min: number | null;
+  max: number | null;
+  q1: number | null;
+  median: number | null;
+  q3: number | null;
+  /** Sum of the absolute differences of consecutive values in production order (moving ranges). */
+  movingRangeSum: number | null;
+  /** Equal-width bins (Freedman–Diaconis, 5…80) from `lo` in steps of `step`; counts per bin index. */
+  histogram: { lo: number; step: number; counts: number[] } | null;
+  /** The newest values (at most NORMALITY_SAMPLE), for the normality test. */
+  newest: number[];
+}
+
+/**
+ * Everything the distribution view needs, in one statement. The histogram bins follow the same rule as
+ * `histogram()` in shared/statistics: from min(LSL, min) to max(USL, max) when limits are given.
+ */
+export async function distributionAggregate(
+  db: DbOrTx,
+  filter: AnalysisFilter,
+  extent: { lsl: number | null; usl: number | null } | null,
+): Promise<DistributionAggregate> {
+  const { value, from } = selection(filter);
+  const useExtent = extent !== null;
+  const lsl = extent?.lsl ?? null;
+  const usl = extent?.usl ?? null;
+  const res = await inSortRoom(
+    db,
+    sql`
+    with sel as materialized (
+      select ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
+    ),
+    m as (
+      select n, mean, mn, mx, q[1] as q1, q[2] as q2, q[3] as q3 from (
+        select count(*)::int as n, avg(v) as mean, min(v) as mn, max(v) as mx,
+          percentile_cont(array[0.25, 0.5, 0.75]) within group (order by v) as q
+        from sel
+      ) a
+    ),
+    mom as (select sum((v - m.mean) ^ 2) as ss2, sum((v - m.mean) ^ 3) as ss3 from sel, m),
+    mr as (select sum(abs(d)) as mr from (select v - lag(v) over (order by t, id) as d from sel) x),
+    ext as (
+      select
+        case when ${useExtent} then least(coalesce(${lsl}::float8, mn), mn) else mn end as lo,
+        case when ${useExtent} then greatest(coalesce(${usl}::float8, mx), mx) else mx end as hi,
+        n, q1, q3
+      from m where n > 0
+    ),
+    bw as (
+      select lo, hi,
+        case when hi = lo then 1
+          else greatest(5, least(80, ceil((hi - lo) / case when q3 - q1 > 0 then 2 * (q3 - q1) / cbrt(n)
+                                                         else (hi - lo) / 10 end)))::int
+        end as bins
+      from ext
+    ),
+    hist as (
+      select least(bw.bins - 1, floor((v - bw.lo) / ((bw.hi - bw.lo) / bw.bins)))::int as i, count(*)::int as c
+      from sel, bw where bw.hi > bw.lo group by 1
+    )
+    select m.n, m.mean, mom.ss2, mom.ss3, m.mn, m.mx, m.q1, m.q2, m.q3, mr.mr,
+      (select lo from bw) as lo, (select hi from bw) as hi, (select bins from bw) as bins,
+      (select json_agg(json_build_array(i, c)) from hist) as hist,
+      (select array_agg(v) from (select v from sel order by t desc, id desc limit ${NORMALITY_SAMPLE}) s) as newest
+    from m, mom, mr`,
+  );
+  const r = res.rows[0];
+  const n = Number(r.n);
+  let histogram: DistributionAggregate['histogram'] = null;
+  if (n > 0) {
+    const lo = Number(r.lo);
+    const hi = Number(r.hi);
+    const bins = Number(r.bins);
+    const counts = new Array<number>(bins).fill(0);
+    if (hi === lo) counts[0] = n;
+    else for (const [i, c] of (r.hist as [number, number][]) ?? []) counts[i] = c;
+    histogram = { lo, step: hi === lo ? 0 : (hi - lo) / bins, counts };
+  }
+  return {
+    n,
+    mean: num(r.mean),
+    ss2: num(r.ss2),
+    ss3: num(r.ss3),
+    min: num(r.mn),
+    max: num(r.mx),
+    q1: num(r.q1),
+    median: num(r.q2),
+    q3: num(r.q3),
+    movingRangeSum: num(r.mr),
+    histogram,
+    newest: ((r.newest as (number | string)[] | null) ?? []).map(Number),
+  };
+}
+
+/** SQL of the grouping key and its label (labels are read after grouping, from small tables). */
+function groupSql(by: CompareBy): { key: SQL; label: SQL; need: Parameters<typeof selection>[1] } {
+  switch (by) {
+    case 'station':
+      return {
+        key: sql`${calibrations.stationId}::text`,
+        label: sql`(select ${stations.name} from ${stations} where ${stations.id}::text = g.g)`,
+        need: {},
+      };
+    case 'hallBoardLot':
+      return { key: sql`${units.hallBoardLot}`, label: sql`nullif(g.g, '')`, need: {} };
+    case 'magnetRingLot':
+      return { key: sql`${units.magnetRingLot}`, label: sql`nullif(g.g, '')`, need: {} };
+    case 'statorLot':
+      return { key: sql`${units.statorLot}`, label: sql`nullif(g.g, '')`, need: {} };
+    case 'operator':
+      return {
+        key: sql`${measurements.operatorId}::text`,
+        label: sql`(select ${users.displayName} from ${users} where ${users.id}::text = g.g)`,
+        need: { measurement: true },
+      };
+    case 'recipeVersion':
+      return { key: sql`${recipes.version}::text`, label: sql`'Recipe version ' || g.g`, need: { recipe: true } };
+  }
+}
+
+export interface GroupAggregate {
+  /** Null where the grouping value is not recorded (grouped under ''). */
+  key: string | null;
+  label: string | null;
+  n: number;
+  mean: number;
+  sd: number | null;
+  q1: number;
+  median: number;
+  q3: number;
+  /** Lowest and highest values inside 1.5 IQR of the box (null when none is). */
+  inLow: number | null;
+  inHigh: number | null;
+  /** The lowest values outside 1.5 IQR of the box, ascending, at most MAX_OUTLIERS. */
+  outliers: number[];
+  /** The group's newest values (at most GROUP_NORMALITY_SAMPLE), for its normality test. */
+  newest: number[];
+}
+
+/** Per-group figures of a comparison in one statement: summaries, box figures, newest values. */
+export async function comparisonAggregate(
+  db: DbOrTx,
+  filter: AnalysisFilter,
+  by: CompareBy,
+): Promise<GroupAggregate[]> {
+  const group = groupSql(by);
+  const { value, from } = selection(filter, group.need);
+  const res = await inSortRoom(
+    db,
+    sql`
+    with sel as materialized (
+      select coalesce(${group.key}, '') as g, ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
+    ),
+    g as (
+      select g, n, mean, sd, q[1] as q1, q[2] as q2, q[3] as q3 from (
+        select g, count(*)::int as n, avg(v) as mean, stddev_samp(v) as sd,
+          percentile_cont(array[0.25, 0.5, 0.75]) within group (order by v) as q
+        from sel group by g
+      ) a
+    ),
+    fence as (select g, q1 - 1.5 * (q3 - q1) as lo, q3 + 1.5 * (q3 - q1) as hi from g),
+    inside as (
+      select s.g, min(v) as in_low, max(v) as in_high
+      from sel s join fence f on f.g = s.g where v >= f.lo and v <= f.hi group by s.g
+    ),
+    outside as (
+      select g, (array_agg(v order by v))[1:${MAX_OUTLIERS}] as outliers from (
+        select s.g, s.v from sel s join fence f on f.g = s.g where s.v < f.lo or s.v > f.hi
+      ) o group by g
+    ),
+    newest as (
+      select g, array_agg(v) as vs from (
+        select g, v, row_number() over (partition by g order by t desc, id desc) as rn from sel
+      ) x where rn <= ${GROUP_NORMALITY_SAMPLE} group by g
+    )
+    select g.g as key, ${group.label} as label, g.n, g.mean, g.sd, g.q1, g.q2, g.q3,
+      inside.in_low, inside.in_high, outside.outliers, newest.vs as newest
+    from g
+    left join inside on inside.g = g.g
+    left join outside on outside.g = g.g
+    join newest on newest.g = g.g`,
+  );
+  return res.rows.map((r) => {
+    return {
+      key: r.key === '' ? null : (r.key as string),
+      label: (r.label as string | null) ?? null,
+      n: Number(r.n),
+      mean: Number(r.mean),
+      sd: num(r.sd),
+      q1: Number(r.q1),
+      median: Number(r.q2),
+      q3: Number(r.q3),
+      inLow: num(r.in_low),
+      inHigh: num(r.in_high),
+      outliers: ((r.outliers as (number | string)[] | null) ?? []).map(Number),
+      newest: ((r.newest as (number | string)[] | null) ?? []).map(Number),
+    };
+  });
+}
+
+/**
+ * Sums of the tie-averaged ranks of each group's values among all values, and Σ (t³ − t) over tied values:
+ * what Kruskal–Wallis needs, read only when some group does not look normal (a second pass over the data).
+ */
+export async function groupRankSums(
+  db: DbOrTx,
+  filter: AnalysisFilter,
+  by: CompareBy,
+): Promise<{ rankSums: Map<string, number>; ties: number }> {
+  const group = groupSql(by);
+  const { value, from } = selection(filter, group.need);
+  const res = await inSortRoom(
+    db,
+    sql`
+    with sel as (select coalesce(${group.key}, '') as g, ${value} as v ${from}),
+    -- One sort by value: the lowest rank of each value plus half its ties is its tie-averaged rank.
+    r as (
+      select g,
+        (rank() over (order by v))::float8 + (count(*) over (partition by v) - 1)::float8 / 2 as ar,
+        (count(*) over (partition by v))::float8 as tc
+      from sel
+    )
+    select g, sum(ar) as rank_sum, sum(tc * tc - 1) as tie_part
+    from r group by g`,
+  );
+  // Σ over rows of (t² − 1) is Σ over tied values of (t³ − t).
+  return {
+    rankSums: new Map(res.rows.map((r) => [r.g as string, Number(r.rank_sum)])),
+    ties: res.rows.reduce((sum, r) => sum + Number(r.tie_part), 0),
+  };
+}
+
+/** How many calibrations the filter selects (with a value of its figure). */
+export async function countCalibrationFigures(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
+  const { from } = selection(filter);
+  const res = await db.execute<{ n: string }>(sql`select count(*) as n ${from}`);
+  return Number(res.rows[0].n);
+}
+
+
+export interface ChartRow {
+  calibrationId: string;
+  unitId: string;
+  serial: string;
+  computedAt: Date;
+  value: number;
+}
+
+/**
+ * The newest `limit` values the filter selects (optionally within [from, to)), returned oldest first, with
+ * the count of every matching value (a separate narrow count, so the rows query stops at its limit).
+ */
+export async function newestFigures(
+  db: DbOrTx,
+  filter: AnalysisFilter,
+  opts: { limit: number; from?: Date; to?: Date; withTotal?: boolean },
+): Promise<{ rows: ChartRow[]; total: number }> {
+  const window: SQL[] = [];
+  if (opts.from) window.push(sql` and ${calibrations.computedAt} >= ${opts.from.toISOString()}`);
+  if (opts.to) window.push(sql` and ${calibrations.computedAt} < ${opts.to.toISOString()}`);
+  const { value, from } = selection(filter);
+  const rowsQuery = db.execute<Record<string, unknown>>(sql`
+    select ${calibrations.id} as id, ${calibrations.unitId} as unit_id, ${units.serial} as serial,
+      ${calibrations.computedAt} as t, ${value} as v
+    ${from} ${sql.join(window, sql``)}
+    order by ${calibrations.computedAt} desc, ${calibrations.id} desc
+    limit ${opts.limit}`);
+  const [res, total] = await Promise.all([
+    rowsQuery,
+    opts.withTotal === false ? Promise.resolve(-1) : countCalibrationFigures(db, filter),
+  ]);
+  const rows = res.rows
+    .map((r) => ({
+      calibrationId: r.id as string,
+      unitId: r.unit_id as string,
+      serial: r.serial as string,
+      computedAt: new Date(r.t as string),
+      value: Number(r.v),
+    }))
+    .reverse();
+  return { rows, total };
+}
