@@ -31,3 +31,22 @@ export async function insertAudit(db: DbOrTx, entry: AuditInput): Promise<void> 
 export async function listAudit(db: DbOrTx, limit: number) {
   return db.select().from(auditLog).orderBy(desc(auditLog.id)).limit(limit);
 }
+
+/** Inserts many audit entries (one statement per 1,000), e.g. one per unit of a bulk hold. */
+export async function insertAuditMany(db: DbOrTx, entries: AuditInput[]): Promise<void> {
+  for (let i = 0; i < entries.length; i += 1000) {
+    await db.insert(auditLog).values(
+      entries.slice(i, i + 1000).map((entry) => ({
+        actorId: entry.actorId ?? null,
+        actorName: entry.actorName ?? null,
+        action: entry.action,
+        subjectType: entry.subjectType ?? null,
+        subjectId: entry.subjectId ?? null,
+        reason: entry.reason ?? null,
+        before: entry.before ?? null,
+        after: entry.after ?? null,
+        ip: entry.ip ?? null,
+      })),
+    );
+  }
+}
