@@ -102,6 +102,9 @@ describe(
       await q.page.goto('/quality?view=investigations');
       await q.page.getByRole('heading', { name: 'Open an investigation' }).waitFor();
       await expectClean(q.page, '/quality?view=investigations');
+      await q.page.goto('/quality?view=audit');
+      await q.page.getByTestId('trail-count').waitFor();
+      await expectClean(q.page, '/quality?view=audit');
       const firstCase = q.page.getByTestId('investigation-rows').getByRole('link').first();
       if (await firstCase.isVisible().catch(() => false)) {
         await firstCase.click();

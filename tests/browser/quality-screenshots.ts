@@ -39,6 +39,13 @@ async function main() {
       await page.getByRole('heading', { name: 'Case' }).waitFor();
       await shot(page, 'quality-investigation');
     }
+    await page.goto('/quality?view=audit');
+    await page.getByTestId('trail-count').waitFor();
+    await shot(page, 'quality-audit');
+    await page.getByLabel('Unit serial').fill('NO-SUCH-UNIT');
+    await page.getByRole('button', { name: 'Show entries' }).click();
+    await page.getByTestId('trail-empty').waitFor();
+    await shot(page, 'quality-audit-empty');
     await page.goto('/quality');
     await page.getByTestId('held-count').waitFor();
     const release = page.getByRole('button', { name: 'Release…' }).first();

@@ -1,4 +1,4 @@
-import { desc } from 'drizzle-orm';
+import { and, desc, eq, gte, ilike, inArray, like, lte, or, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { auditLog } from './audit.table';
 
@@ -49,4 +49,38 @@ export async function insertAuditMany(db: DbOrTx, entries: AuditInput[]): Promis
       })),
     );
   }
+}
+
+/** Audit entries about the given subject types, filtered, newest first. */
+export async function listAuditFiltered(
+  db: DbOrTx,
+  f: {
+    subjectTypes: readonly string[];
+    subjectId?: string;
+    person?: string;
+    action?: string;
+    from?: string;
+    to?: string;
+    limit: number;
+  },
+) {
+  const conds: (SQL | undefined)[] = [
+    inArray(auditLog.subjectType, [...f.subjectTypes]),
+    f.subjectId ? eq(auditLog.subjectId, f.subjectId) : undefined,
+    f.person ? ilike(auditLog.actorName, `%${f.person.replace(/[\\%_]/g, (c) => `\\${c}`)}%`) : undefined,
+    f.action
+      ? or(
+          eq(auditLog.action, f.action),
+          like(auditLog.action, `${f.action.replace(/[\\%_]/g, (c) => `\\${c}`)}.%`),
+        )
+      : undefined,
+    f.from ? gte(auditLog.at, new Date(f.from)) : undefined,
+    f.to ? lte(auditLog.at, new Date(f.to)) : undefined,
+  ];
+  return db
+    .select()
+    .from(auditLog)
+    .where(and(...conds.filter((c): c is SQL => c !== undefined)))
+    .orderBy(desc(auditLog.id))
+    .limit(f.limit);
 }

@@ -479,3 +479,62 @@ describe('investigations', () => {
     ]);
   });
 });
+
+describe('audit trail for quality', () => {
+  it("quality reads a unit's trail by serial with names, not ids, and without addresses", async () => {
+    await addUnits([{ serial: 'AU-0001' }]);
+    await as(quality).post('/api/quality/holds', { serials: ['AU-0001'], reason: 'Trail check' });
+    await as(engineer).post('/api/quality/releases', {
+      serials: ['AU-0001'],
+      disposition: 'recalibrate',
+      reason: 'Trail release',
+    });
+    const res = await as(quality).get('/api/audit?serial=au-0001');
+    expect(res.status).toBe(200);
+    expect(
+      res.body.entries.map((e: { action: string; actorName: string; subjectLabel: string; reason: string }) => [
+        e.action,
+        e.actorName,
+        e.subjectLabel,
+        e.reason,
+      ]),
+    ).toEqual([
+      ['units.released', 'Evan Thorsby', 'AU-0001', 'Trail release'],
+      ['units.held', 'Quinn Abernethy', 'AU-0001', 'Trail check'],
+    ]);
+    expect(res.body.entries.every((e: { ip: string | null }) => e.ip === null)).toBe(true);
+  });
+
+  it('filters by person and action; an unknown unit gives an empty trail', async () => {
+    const byPerson = await as(quality).get('/api/audit?person=thorsby&action=units');
+    expect(byPerson.body.entries.length).toBeGreaterThan(0);
+    expect(byPerson.body.entries.every((e: { actorName: string }) => e.actorName === 'Evan Thorsby')).toBe(true);
+    await as(quality).post('/api/quality/investigations', { title: 'Trail case' });
+    const investigations = await as(quality).get('/api/audit?action=investigations.opened');
+    expect(investigations.body.entries.length).toBeGreaterThan(0);
+    expect((await as(quality).get('/api/audit?serial=NO-SUCH-UNIT')).body.entries).toEqual([]);
+  });
+
+  it('keeps accounts and sign-ins to administrators', async () => {
+    const signIns = await as(quality).get('/api/audit?action=auth');
+    expect(signIns.body.entries).toEqual([]);
+    const admin = await sessionCookie(t.app, 'ada.admin', 'demo-admin-pass');
+    const full = await as(admin).get('/api/admin/audit?limit=1000');
+    expect(full.body.entries.some((e: { action: string }) => e.action.startsWith('auth.'))).toBe(true);
+    expect((await as(quality).get('/api/admin/audit')).status).toBe(403);
+    expect((await as(admin).get('/api/audit?serial=AU-0001')).status).toBe(200);
+    expect((await as(engineer).get('/api/audit')).status).toBe(403);
+    expect((await as(operator).get('/api/audit')).status).toBe(403);
+  });
+
+  it('exports the filtered trail as CSV', async () => {
+    const res = await as(quality).get('/api/audit.csv?serial=AU-0001');
+    expect(res.headers['content-type']).toMatch(/text\/csv/);
+    const lines = res.text.trim().split('\r\n');
+    expect(lines[0]).toBe('at,who,action,subject_type,subject,reason,before,after');
+    expect(lines.slice(1).map((l) => l.split(',').slice(1, 3))).toEqual([
+      ['Evan Thorsby', 'units.released'],
+      ['Quinn Abernethy', 'units.held'],
+    ]);
+  });
+});
