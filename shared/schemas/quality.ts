@@ -1,6 +1,8 @@
 import { z } from 'zod';
 import { unitStatusSchema } from './line';
 import { serialSchema } from './serial';
+import type { Recipe } from './recipe';
+import type { TracedSegment } from '../calibration/trace';
 
 /** An empty form field means "no filter". */
 const opt = <T extends z.ZodType>(schema: T) =>
@@ -192,4 +194,18 @@ export interface InvestigationDetail extends InvestigationSummary {
 
 export function investigationReference(n: number): string {
   return `INV-${String(n).padStart(4, '0')}`;
+}
+
+/** The raw data behind a measurement, for the unit record (quality and engineers). */
+export interface MeasurementTrace {
+  measurementId: string;
+  serial: string;
+  source: 'timings' | 'capture';
+  receivedAt: string;
+  /** SHA-256 (hex) of the canonical measurement, stored when it was accepted. */
+  payloadSha256: string;
+  recipe: { id: string; version: number; body: Recipe } | null;
+  segments: TracedSegment[];
+  /** Why there is nothing to show, in plain words (no result yet, unusable data). */
+  problem: string | null;
 }

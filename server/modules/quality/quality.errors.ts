@@ -43,6 +43,8 @@ export const qualityErrors = {
     ),
   mayNotRelease: () =>
     new AppError(403, 'quality.may_not_release', 'Only quality staff and engineers may release a hold.'),
+  measurementNotFound: (id: string) =>
+    new AppError(404, 'quality.measurement_not_found', `No measurement "${id}".`),
   investigationNotFound: () => new AppError(404, 'quality.investigation_not_found', 'No such investigation.'),
   investigationClosed: (ref: string) =>
     new AppError(

@@ -3,7 +3,11 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
+import { createHash } from 'node:crypto';
 import { computeCalibration, type LineContext } from '../measurements/measurements.service';
+import { canonicalMeasurementText } from '../../../shared/capture/as-posted';
+import { simulateCapture } from '../../../shared/simulation/capture-sim';
+import { createRng } from '../../../shared/simulation/rng';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
@@ -492,12 +496,14 @@ describe('audit trail for quality', () => {
     const res = await as(quality).get('/api/audit?serial=au-0001');
     expect(res.status).toBe(200);
     expect(
-      res.body.entries.map((e: { action: string; actorName: string; subjectLabel: string; reason: string }) => [
-        e.action,
-        e.actorName,
-        e.subjectLabel,
-        e.reason,
-      ]),
+      res.body.entries.map(
+        (e: { action: string; actorName: string; subjectLabel: string; reason: string }) => [
+          e.action,
+          e.actorName,
+          e.subjectLabel,
+          e.reason,
+        ],
+      ),
     ).toEqual([
       ['units.released', 'Evan Thorsby', 'AU-0001', 'Trail release'],
       ['units.held', 'Quinn Abernethy', 'AU-0001', 'Trail check'],
@@ -508,7 +514,9 @@ describe('audit trail for quality', () => {
   it('filters by person and action; an unknown unit gives an empty trail', async () => {
     const byPerson = await as(quality).get('/api/audit?person=thorsby&action=units');
     expect(byPerson.body.entries.length).toBeGreaterThan(0);
-    expect(byPerson.body.entries.every((e: { actorName: string }) => e.actorName === 'Evan Thorsby')).toBe(true);
+    expect(byPerson.body.entries.every((e: { actorName: string }) => e.actorName === 'Evan Thorsby')).toBe(
+      true,
+    );
     await as(quality).post('/api/quality/investigations', { title: 'Trail case' });
     const investigations = await as(quality).get('/api/audit?action=investigations.opened');
     expect(investigations.body.entries.length).toBeGreaterThan(0);
@@ -536,5 +544,79 @@ describe('audit trail for quality', () => {
       ['Evan Thorsby', 'units.released'],
       ['Quinn Abernethy', 'units.held'],
     ]);
+  });
+});
+
+describe('raw data behind the numbers', () => {
+  const sha256 = (text: string) => createHash('sha256').update(text).digest('hex');
+
+  it('gives posted timings back byte for byte, and their canonical form hashes to the stored SHA-256', async () => {
+    await addUnits([{ serial: 'RAW-0001' }]);
+    const m = simulatedMeasurement(line.recipe.body, 'RAW-0001', { offsetDeg: 5 });
+    // As a station's JSON library might write it: keys in another order, with white space.
+    const { segments, ...rest } = m;
+    const posted = JSON.stringify({ segments, ...rest }, null, 1);
+    const res = await request(t.app)
+      .post('/api/station/measurements')
+      .set('X-Station-Key', line.key)
+      .set('Content-Type', 'application/json')
+      .send(posted);
+    expect(res.status).toBe(202);
+    await computeCalibration(ctx, { measurementPk: await pkOf(m.measurementId), recipeId: line.recipe.id });
+    const raw = await as(quality).get(`/api/quality/measurements/${m.measurementId}/as-posted`).buffer(true);
+    expect(raw.status).toBe(200);
+    expect(raw.headers['content-disposition']).toMatch(/RAW-0001/);
+    const text = raw.text || (raw.body as Buffer).toString('utf8');
+    expect(text).toBe(posted);
+    // The stored hash was computed at intake over the canonical text (sha256 from node:crypto here).
+    expect(sha256(canonicalMeasurementText(text, 'timings'))).toBe(raw.headers['x-stored-sha256']);
+    expect(sha256(text)).not.toBe(raw.headers['x-stored-sha256']);
+
+    const trace = await as(quality).get(`/api/quality/measurements/${m.measurementId}/trace`);
+    expect(trace.body).toMatchObject({ serial: 'RAW-0001', source: 'timings', problem: null });
+    expect(trace.body.payloadSha256).toBe(raw.headers['x-stored-sha256']);
+    const edges = trace.body.segments[0].edges as { offsetDeg: number | null }[];
+    expect(edges.length).toBeGreaterThan(100);
+    expect(trace.body.segments[0].crossings.length).toBeGreaterThan(100);
+    expect((await as(operator).get(`/api/quality/measurements/${m.measurementId}/trace`)).status).toBe(403);
+    expect((await as(quality).get('/api/quality/measurements/nope/trace')).status).toBe(404);
+  });
+
+  it('gives a capture CSV back as posted, and its timings rebuilt with the recipe hash to the stored SHA-256', async () => {
+    await addUnits([{ serial: 'RAW-CAP-1' }]);
+    const { csv } = simulateCapture(
+      {
+        polePairs: 4,
+        hallRiseDeg: line.recipe.body.hallRiseDeg,
+        offsetDeg: -5,
+        direction: 'forward',
+        profile: { kind: 'constant', speedRpm: 1500 },
+        electricalTurns: 12,
+        keVPerKrpm: 6,
+        sampleRateHz: 200_000,
+        noiseV: 0.01,
+        channels: 'line',
+      },
+      createRng(11),
+    );
+    const res = await request(t.app)
+      .post('/api/station/captures')
+      .set('X-Station-Key', line.key)
+      .field('measurementId', 'raw-cap-1')
+      .field('serial', 'RAW-CAP-1')
+      .attach('capture', Buffer.from(csv), 'capture.csv');
+    expect(res.status).toBe(202);
+    await computeCalibration(ctx, { measurementPk: await pkOf('raw-cap-1'), recipeId: line.recipe.id });
+    const raw = await as(quality).get('/api/quality/measurements/raw-cap-1/as-posted');
+    expect(raw.headers['content-type']).toMatch(/text\/csv/);
+    expect(raw.text).toBe(csv);
+    const trace = await as(quality).get('/api/quality/measurements/raw-cap-1/trace');
+    const rebuilt = canonicalMeasurementText(raw.text, 'capture', {
+      recipe: trace.body.recipe.body,
+      measurementId: 'raw-cap-1',
+      serial: 'RAW-CAP-1',
+      direction: trace.body.segments[0].direction,
+    });
+    expect(sha256(rebuilt)).toBe(raw.headers['x-stored-sha256']);
   });
 });

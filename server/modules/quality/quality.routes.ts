@@ -15,6 +15,8 @@ import {
   bulkHold,
   exportSearchCsv,
   heldUnits,
+  measurementAsPosted,
+  measurementTrace,
   releaseUnits,
   searchUnits,
   type QualityContext,
@@ -33,6 +35,7 @@ import { unitDetail } from '../units/units.service';
 const QUALITY = ['quality', 'engineer'] as const;
 const serialParams = z.object({ serial: serialSchema });
 const idParams = z.object({ id: z.uuid('No such investigation.') });
+const measurementParams = z.object({ measurementId: z.string().trim().min(1).max(100) });
 const linkSchema = z.object({ serials: z.array(serialSchema).min(1).max(20000) });
 
 export function qualityContext(deps: AppDeps): QualityContext {
@@ -127,6 +130,28 @@ export function qualityRoutes(deps: AppDeps) {
           res.write(chunk) ? undefined : new Promise<void>((r) => res.once('drain', () => r())),
         );
         res.end();
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/quality/measurements/:measurementId/trace',
+      access: QUALITY,
+      summary: "A measurement's raw data: crossings, fitted angle and each hall edge's offset",
+      handler: async (req, res) => {
+        res.json(await measurementTrace(deps.db, measurementParams.parse(req.params).measurementId));
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/quality/measurements/:measurementId/as-posted',
+      access: QUALITY,
+      summary: 'A measurement exactly as the station posted it, with the stored SHA-256 in a header',
+      handler: async (req, res) => {
+        const m = await measurementAsPosted(deps.db, measurementParams.parse(req.params).measurementId);
+        res.setHeader('Content-Type', m.contentType);
+        res.setHeader('Content-Disposition', `attachment; filename="${m.fileName}"`);
+        res.setHeader('X-Stored-Sha256', m.payloadSha256);
+        res.send(m.text);
       },
     }),
     route({

@@ -3,7 +3,11 @@ import type { SessionUser } from '../../lib/auth';
 import type { Logger } from '../../lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit, insertAuditMany } from '../audit/audit.repository';
-import { findModelWithActiveRecipe, listModelRows } from '../recipes/recipes.repository';
+import { findModelWithActiveRecipe, findRecipeRow, listModelRows } from '../recipes/recipes.repository';
+import { storedMeasurement } from '../measurements/measurements.repository';
+import { CalibrationInputError } from '../../../shared/calibration';
+import { traceMeasurement } from '../../../shared/calibration/trace';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import type { RecipeRecord } from '../recipes/recipes.table';
 import { stationCalibrationFilter } from '../measurements/calibrations.repository';
 import {
@@ -27,6 +31,7 @@ import {
   type BulkHoldResult,
   type HeldUnitRow,
   type HoldDisposition,
+  type MeasurementTrace,
   type Release,
   type ReleaseResult,
   type UnitSearchFilter,
@@ -417,4 +422,44 @@ export async function exportSearchCsv(
     n += lines.length;
     if (res.rows.length < 2000) return n;
   }
+}
+
+/** The raw data behind a measurement's numbers (see `traceMeasurement`), with its stored hash. */
+export async function measurementTrace(db: Db, measurementId: string): Promise<MeasurementTrace> {
+  const m = await storedMeasurement(db, measurementId);
+  if (!m) throw qualityErrors.measurementNotFound(measurementId);
+  const recipe = m.recipeId ? await findRecipeRow(db, m.recipeId) : undefined;
+  let segments: MeasurementTrace['segments'] = [];
+  let problem: string | null = null;
+  if (!recipe) problem = 'This measurement has no station result yet, so there is no recipe to read it with.';
+  else {
+    try {
+      segments = traceMeasurement(m.payload as Measurement, recipe.body);
+    } catch (e) {
+      if (!(e instanceof CalibrationInputError)) throw e;
+      problem = `The data could not be used: ${e.message}`;
+    }
+  }
+  return {
+    measurementId: m.measurementId,
+    serial: m.serial,
+    source: m.source,
+    receivedAt: m.receivedAt.toISOString(),
+    payloadSha256: m.payloadSha256,
+    recipe: recipe ? { id: recipe.id, version: recipe.version, body: recipe.body } : null,
+    segments,
+    problem,
+  };
+}
+
+/** The measurement exactly as the station posted it (JSON text or capture CSV). */
+export async function measurementAsPosted(db: Db, measurementId: string) {
+  const m = await storedMeasurement(db, measurementId);
+  if (!m) throw qualityErrors.measurementNotFound(measurementId);
+  return {
+    text: m.payloadRaw ?? JSON.stringify(m.payload),
+    contentType: m.source === 'capture' ? 'text/csv; charset=utf-8' : 'application/json; charset=utf-8',
+    fileName: `${m.serial}-${m.measurementId}.${m.source === 'capture' ? 'csv' : 'json'}`,
+    payloadSha256: m.payloadSha256,
+  };
 }
