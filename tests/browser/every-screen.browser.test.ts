@@ -99,6 +99,12 @@ describe(
       await q.page.goto('/quality?view=search&lot=HB-2446-C');
       await q.page.getByTestId('search-total').waitFor();
       await expectClean(q.page, '/quality?view=search');
+      const found = (await q.page.getByTestId('search-rows').locator('a').first().textContent())?.trim();
+      if (found) {
+        await q.page.goto(`/units/${encodeURIComponent(found)}`);
+        await q.page.getByTestId('raw-timings').locator('canvas').first().waitFor();
+        await expectClean(q.page, '/units/:serial (raw timings)');
+      }
       await q.page.goto('/quality?view=investigations');
       await q.page.getByRole('heading', { name: 'Open an investigation' }).waitFor();
       await expectClean(q.page, '/quality?view=investigations');

@@ -25,6 +25,7 @@ async function main() {
     await page.goto('/quality?view=search&lot=HB-2446-C');
     await page.getByTestId('search-total').waitFor();
     await shot(page, 'quality-search');
+    const firstSerial = (await page.getByTestId('search-rows').locator('a').first().textContent())!.trim();
     await page.getByRole('button', { name: /^Hold all/ }).click();
     await page.getByRole('dialog').waitFor();
     await page.getByLabel('Investigation').selectOption('new');
@@ -39,6 +40,11 @@ async function main() {
       await page.getByRole('heading', { name: 'Case' }).waitFor();
       await shot(page, 'quality-investigation');
     }
+    await page.goto(`/units/${encodeURIComponent(firstSerial)}`);
+    await page.getByTestId('raw-timings').locator('canvas').first().waitFor();
+    await page.getByRole('button', { name: 'Verify against the stored SHA-256' }).click();
+    await page.getByTestId('sha-check').waitFor();
+    await shot(page, 'quality-unit-raw-timings');
     await page.goto('/quality?view=audit');
     await page.getByTestId('trail-count').waitFor();
     await shot(page, 'quality-audit');

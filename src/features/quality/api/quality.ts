@@ -8,6 +8,7 @@ import type {
   InvestigationSummary,
   InvestigationUpdate,
   NewInvestigation,
+  MeasurementTrace,
   Release,
   ReleaseResult,
   UnitSearchPage,
@@ -143,5 +144,38 @@ export function useAddComment(id: string) {
         body: { body },
       }),
     onSuccess: invalidate,
+  });
+}
+
+export function useUnitMeasurements(serial: string) {
+  return useQuery({
+    queryKey: [...qualityKeys.details(), 'unit', serial] as const,
+    queryFn: () =>
+      apiRequest<{
+        calibrations: {
+          measurementId: string;
+          purpose: string;
+          computedAt: string;
+          verdict: string;
+          attempt: number | null;
+          stationName: string;
+          result: {
+            offsetDeg: number | null;
+            edges: { sensor: string; edge: string; residualDeg: number | null }[];
+          } | null;
+        }[];
+      }>(`/api/units/${encodeURIComponent(serial)}`).then((d) =>
+        d.calibrations.filter((c) => c.purpose === 'station'),
+      ),
+  });
+}
+
+export function useMeasurementTrace(measurementId: string | null) {
+  return useQuery({
+    queryKey: [...qualityKeys.details(), 'trace', measurementId] as const,
+    queryFn: () =>
+      apiRequest<MeasurementTrace>(`/api/quality/measurements/${encodeURIComponent(measurementId!)}/trace`),
+    enabled: measurementId !== null,
+    staleTime: Infinity,
   });
 }
