@@ -99,7 +99,8 @@ describe(
       await q.page.goto('/quality?view=search&lot=HB-2446-C');
       await q.page.getByTestId('search-total').waitFor();
       await expectClean(q.page, '/quality?view=search');
-      const found = (await q.page.getByTestId('search-rows').locator('a').first().textContent())?.trim();
+      const links = q.page.getByTestId('search-rows').locator('a');
+      const found = (await links.count()) > 0 ? (await links.first().textContent())?.trim() : undefined;
       if (found) {
         await q.page.goto(`/units/${encodeURIComponent(found)}`);
         await q.page.getByTestId('raw-timings').locator('canvas').first().waitFor();
