@@ -12,6 +12,7 @@ import { recipesRoutes } from './modules/recipes/recipes.routes';
 import { measurementsRoutes } from './modules/measurements/measurements.routes';
 import { stationsRoutes } from './modules/stations/stations.routes';
 import { unitsRoutes } from './modules/units/units.routes';
+import { qualityRoutes } from './modules/quality/quality.routes';
 import { travelersRoutes } from './modules/travelers/travelers.routes';
 import { usersRoutes } from './modules/users/users.routes';
 
@@ -35,6 +36,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...jobsRoutes(deps),
     ...analysisRoutes(deps),
     ...alertsRoutes(deps),
+    ...qualityRoutes(deps),
   ];
   routes.push(
     route({

@@ -38,6 +38,14 @@ export const APP_TABLE_ACCESS = {
   alert_subscriptions: { update: 'row', delete: true },
   // A what-if run moves through queued → running → finished/cancelled and records its progress.
   what_if_runs: { update: 'row' },
+  // Quality: a case is edited as it moves open → contained → closed; a hold is released once (the
+  // release columns), never deleted; linked units stay linked; comments are a record.
+  investigations: { update: 'row' },
+  investigation_units: { update: [] },
+  investigation_comments: { appendOnly: true },
+  unit_holds: {
+    update: ['released_at', 'released_by', 'released_by_name', 'disposition', 'release_reason', 'attempt_budget'],
+  },
 } as const satisfies Record<string, TableAccess>;
 
 export type TableAccess =

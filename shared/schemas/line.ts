@@ -6,7 +6,7 @@ import { serialSchema } from './serial';
 
 export { serialSchema };
 
-export const unitStatusSchema = z.enum(['new', 'calibrated', 'failed', 'on_hold']);
+export const unitStatusSchema = z.enum(['new', 'calibrated', 'failed', 'on_hold', 'scrapped']);
 export type UnitStatus = z.infer<typeof unitStatusSchema>;
 
 /** Answer to a posted measurement: where and how to get the result. */
@@ -140,11 +140,6 @@ export const recomputeSchema = z.object({
   reason: z.string().trim().min(3, 'Give a reason (at least 3 characters)').max(500),
 });
 export type Recompute = z.infer<typeof recomputeSchema>;
-
-export const holdUnitSchema = z.object({
-  hold: z.boolean(),
-  reason: z.string().trim().min(3, 'Give a reason (at least 3 characters)').max(500),
-});
 
 /** Columns of a work-order CSV, in template order; serial and model (code) are required. */
 export const WORK_ORDER_COLUMNS = [

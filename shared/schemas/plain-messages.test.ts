@@ -1,7 +1,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { messagesByField } from './plain-messages';
-import { createStationSchema, registerUnitSchema, holdUnitSchema } from './line';
+import { createStationSchema, registerUnitSchema } from './line';
+import { bulkHoldSchema, holdUnitSchema, newInvestigationSchema, releaseSchema, unitSearchQuerySchema } from './quality';
 import { measurementSchema } from './measurement';
 import { createUserSchema, updateUserSchema } from './users';
 import { passwordSignInSchema, badgeSignInSchema } from './auth';
@@ -38,6 +39,10 @@ describe('plain validation messages', () => {
       createStationSchema,
       registerUnitSchema,
       holdUnitSchema,
+      bulkHoldSchema,
+      releaseSchema,
+      newInvestigationSchema,
+      unitSearchQuerySchema,
       measurementSchema,
       createUserSchema,
       updateUserSchema,

@@ -47,6 +47,12 @@ export const NAV_ITEMS: readonly NavItem[] = [
     access: { only: ['engineer', 'quality'] },
   },
   {
+    to: '/quality',
+    label: 'Quality',
+    summary: 'Units on hold, containment search with bulk hold and release, returns investigations.',
+    access: { only: ['engineer', 'quality'] },
+  },
+  {
     to: '/admin/people',
     label: 'People',
     summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',

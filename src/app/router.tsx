@@ -51,6 +51,14 @@ export const router = createBrowserRouter([
             children: [{ index: true, lazy: () => import('./routes/analysis') }],
           },
           {
+            path: 'quality',
+            element: <RequireAccess access={['engineer', 'quality']} />,
+            children: [
+              { index: true, lazy: () => import('./routes/quality') },
+              { path: 'investigations/:id', lazy: () => import('./routes/quality-investigation') },
+            ],
+          },
+          {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,
             children: [

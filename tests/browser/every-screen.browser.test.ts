@@ -65,7 +65,7 @@ describe(
       await context.close();
     });
 
-    it('as an operator: overview, station chooser, station screen, unit page; and as quality: not allowed', async () => {
+    it('as an operator: overview, station chooser, station screen, unit page; and as quality: not allowed, the quality workspace', async () => {
       const bench = await ensureTestBench();
       const { context, page } = await freshPage(browser, { width: 1366, height: 768 }, true);
       await signInWithPassword(page, DEMO.operator.username, DEMO.operator.password);
@@ -93,6 +93,31 @@ describe(
       await q.page.goto('/admin/people');
       await q.page.getByTestId('not-allowed').waitFor();
       await expectClean(q.page, 'not allowed');
+      await q.page.goto('/quality');
+      await q.page.getByTestId('held-count').waitFor();
+      await expectClean(q.page, '/quality (held units)');
+      await q.page.goto('/quality?view=search&lot=HB-2446-C');
+      await q.page.getByTestId('search-total').waitFor();
+      await expectClean(q.page, '/quality?view=search');
+      const links = q.page.getByTestId('search-rows').locator('a');
+      const found = (await links.count()) > 0 ? (await links.first().textContent())?.trim() : undefined;
+      if (found) {
+        await q.page.goto(`/units/${encodeURIComponent(found)}`);
+        await q.page.getByTestId('raw-timings').locator('canvas').first().waitFor();
+        await expectClean(q.page, '/units/:serial (raw timings)');
+      }
+      await q.page.goto('/quality?view=investigations');
+      await q.page.getByRole('heading', { name: 'Open an investigation' }).waitFor();
+      await expectClean(q.page, '/quality?view=investigations');
+      await q.page.goto('/quality?view=audit');
+      await q.page.getByTestId('trail-count').waitFor();
+      await expectClean(q.page, '/quality?view=audit');
+      const firstCase = q.page.getByTestId('investigation-rows').getByRole('link').first();
+      if (await firstCase.isVisible().catch(() => false)) {
+        await firstCase.click();
+        await q.page.getByRole('heading', { name: 'Case' }).waitFor();
+        await expectClean(q.page, '/quality/investigations/:id');
+      }
       await q.context.close();
     });
   },

@@ -1,4 +1,4 @@
-import { desc } from 'drizzle-orm';
+import { and, desc, eq, gte, ilike, inArray, like, lte, or, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { auditLog } from './audit.table';
 
@@ -30,4 +30,57 @@ export async function insertAudit(db: DbOrTx, entry: AuditInput): Promise<void> 
 
 export async function listAudit(db: DbOrTx, limit: number) {
   return db.select().from(auditLog).orderBy(desc(auditLog.id)).limit(limit);
+}
+
+/** Inserts many audit entries (one statement per 1,000), e.g. one per unit of a bulk hold. */
+export async function insertAuditMany(db: DbOrTx, entries: AuditInput[]): Promise<void> {
+  for (let i = 0; i < entries.length; i += 1000) {
+    await db.insert(auditLog).values(
+      entries.slice(i, i + 1000).map((entry) => ({
+        actorId: entry.actorId ?? null,
+        actorName: entry.actorName ?? null,
+        action: entry.action,
+        subjectType: entry.subjectType ?? null,
+        subjectId: entry.subjectId ?? null,
+        reason: entry.reason ?? null,
+        before: entry.before ?? null,
+        after: entry.after ?? null,
+        ip: entry.ip ?? null,
+      })),
+    );
+  }
+}
+
+/** Audit entries about the given subject types, filtered, newest first. */
+export async function listAuditFiltered(
+  db: DbOrTx,
+  f: {
+    subjectTypes: readonly string[];
+    subjectId?: string;
+    person?: string;
+    action?: string;
+    from?: string;
+    to?: string;
+    limit: number;
+  },
+) {
+  const conds: (SQL | undefined)[] = [
+    inArray(auditLog.subjectType, [...f.subjectTypes]),
+    f.subjectId ? eq(auditLog.subjectId, f.subjectId) : undefined,
+    f.person ? ilike(auditLog.actorName, `%${f.person.replace(/[\\%_]/g, (c) => `\\${c}`)}%`) : undefined,
+    f.action
+      ? or(
+          eq(auditLog.action, f.action),
+          like(auditLog.action, `${f.action.replace(/[\\%_]/g, (c) => `\\${c}`)}.%`),
+        )
+      : undefined,
+    f.from ? gte(auditLog.at, new Date(f.from)) : undefined,
+    f.to ? lte(auditLog.at, new Date(f.to)) : undefined,
+  ];
+  return db
+    .select()
+    .from(auditLog)
+    .where(and(...conds.filter((c): c is SQL => c !== undefined)))
+    .orderBy(desc(auditLog.id))
+    .limit(f.limit);
 }

@@ -1,7 +1,28 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { route } from '../../lib/http';
-import { auditEntries } from './audit.service';
+import { auditEntries, auditTrail } from './audit.service';
+import { auditTrailQuerySchema } from '../../../shared/schemas/audit-trail';
+import type { AuditEntry } from '../../../shared/schemas/users';
+
+const CSV_HEADER = ['at', 'who', 'action', 'subject_type', 'subject', 'reason', 'before', 'after'];
+
+function csvCell(v: unknown): string {
+  if (v === null || v === undefined) return '';
+  const s = typeof v === 'string' ? v : JSON.stringify(v);
+  // A leading = + - @ would be read as a formula by a spreadsheet.
+  const safe = /^[=+\-@]/.test(s) ? `'${s}` : s;
+  return /[",\n\r]/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
+}
+
+function auditCsv(entries: AuditEntry[]): string {
+  const lines = entries.map((e) =>
+    [e.at, e.actorName, e.action, e.subjectType, e.subjectLabel ?? e.subjectId, e.reason, e.before, e.after]
+      .map(csvCell)
+      .join(','),
+  );
+  return [CSV_HEADER.join(','), ...lines].join('\r\n') + '\r\n';
+}
 
 const querySchema = z.object({ limit: z.coerce.number().int().min(1).max(1000).default(200) });
 
@@ -15,6 +36,29 @@ export function auditRoutes(deps: AppDeps) {
       handler: async (req, res) => {
         const { limit } = querySchema.parse(req.query);
         res.json({ entries: await auditEntries(deps.db, limit) });
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/audit',
+      access: ['quality'],
+      summary: 'The audit trail of units, investigations and recipes, filtered (quality and admins)',
+      query: auditTrailQuerySchema,
+      handler: async (req, res) => {
+        res.json({ entries: await auditTrail(deps.db, auditTrailQuerySchema.parse(req.query)) });
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/audit.csv',
+      access: ['quality'],
+      summary: 'The filtered audit trail as CSV',
+      query: auditTrailQuerySchema,
+      handler: async (req, res) => {
+        const entries = await auditTrail(deps.db, auditTrailQuerySchema.parse(req.query));
+        res.setHeader('Content-Type', 'text/csv; charset=utf-8');
+        res.setHeader('Content-Disposition', 'attachment; filename="audit-trail.csv"');
+        res.send(auditCsv(entries));
       },
     }),
   ];

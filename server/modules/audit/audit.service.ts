@@ -3,7 +3,9 @@ import type { AuditEntry } from '../../../shared/schemas/users';
 import { stationNamesByIds } from '../stations/stations.service';
 import { serialsByIds } from '../units/units.service';
 import { displayNamesByIds } from '../users/users.repository';
-import { listAudit } from './audit.repository';
+import { listAudit, listAuditFiltered } from './audit.repository';
+import { unitIdsBySerials } from '../units/units.repository';
+import { QUALITY_AUDIT_SUBJECTS, type AuditTrailQuery } from '../../../shared/schemas/audit-trail';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
@@ -18,7 +20,33 @@ function serialIn(value: unknown): string | null {
  * station's name) beside the stored id.
  */
 export async function auditEntries(db: DbOrTx, limit: number): Promise<AuditEntry[]> {
-  const rows = await listAudit(db, limit);
+  return readable(db, await listAudit(db, limit));
+}
+
+/**
+ * Quality's audit trail: entries about units, investigations, calibrations, measurements and recipes
+ * (not accounts or sign-ins), filtered by unit, person, action and time, with names in place of ids.
+ */
+export async function auditTrail(db: DbOrTx, q: AuditTrailQuery): Promise<AuditEntry[]> {
+  let subjectId: string | undefined;
+  if (q.serial) {
+    subjectId = (await unitIdsBySerials(db, [q.serial])).get(q.serial);
+    if (!subjectId) return [];
+  }
+  const rows = await listAuditFiltered(db, {
+    subjectTypes: q.serial ? ['unit'] : QUALITY_AUDIT_SUBJECTS,
+    subjectId,
+    person: q.person,
+    action: q.action,
+    from: q.from,
+    to: q.to,
+    limit: q.limit,
+  });
+  // The trail is for people: an IP address stays in the administrators' view.
+  return (await readable(db, rows)).map((e) => ({ ...e, ip: null }));
+}
+
+async function readable(db: DbOrTx, rows: Awaited<ReturnType<typeof listAudit>>): Promise<AuditEntry[]> {
   const ids = (type: string | null) => [
     ...new Set(
       rows

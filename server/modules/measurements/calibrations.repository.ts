@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
+import { and, asc, desc, eq, gte, inArray, lt, sql, type AnyColumn, type SQL } from 'drizzle-orm';
 import { PgDialect } from 'drizzle-orm/pg-core';
 import pg from 'pg';
 import type { DbOrTx } from '../../db/client';
@@ -359,4 +359,42 @@ export function calibrationsCsvStatement(filter: AnalysisFilter): string {
     return pg.escapeLiteral(p instanceof Date ? p.toISOString() : String(p));
   });
   return text;
+}
+
+/**
+ * The containment search's condition on a unit's station calibrations: some station calibration of
+ * the unit (correlated on `unitId`) matches every given filter. Undefined when no filter is given.
+ */
+export function stationCalibrationFilter(
+  unitId: AnyColumn,
+  f: {
+    stationId?: string;
+    operatorId?: string;
+    measuredFrom?: string;
+    measuredTo?: string;
+    recipeId?: string;
+    engineVersion?: string;
+    verdict?: 'pass' | 'fail' | 'unusable';
+    offsetMinDeg?: number;
+    offsetMaxDeg?: number;
+    failedCheck?: string;
+  },
+): SQL | undefined {
+  const conds: SQL[] = [];
+  if (f.stationId) conds.push(sql`c.station_id = ${f.stationId}`);
+  if (f.measuredFrom) conds.push(sql`c.computed_at >= ${f.measuredFrom}`);
+  if (f.measuredTo) conds.push(sql`c.computed_at <= ${f.measuredTo}`);
+  if (f.recipeId) conds.push(sql`c.recipe_id = ${f.recipeId}`);
+  if (f.engineVersion) conds.push(sql`c.engine_version = ${f.engineVersion}`);
+  if (f.verdict) conds.push(sql`c.verdict = ${f.verdict}`);
+  if (f.offsetMinDeg !== undefined) conds.push(sql`c.offset_deg >= ${f.offsetMinDeg}`);
+  if (f.offsetMaxDeg !== undefined) conds.push(sql`c.offset_deg <= ${f.offsetMaxDeg}`);
+  if (f.failedCheck)
+    conds.push(
+      sql`c.result->'checks' @> jsonb_build_array(jsonb_build_object('code', ${f.failedCheck}::text, 'passed', false))`,
+    );
+  if (f.operatorId)
+    conds.push(sql`exists (select 1 from measurements m where m.id = c.measurement_pk and m.operator_id = ${f.operatorId})`);
+  if (conds.length === 0) return undefined;
+  return sql`exists (select 1 from calibrations c where c.unit_id = ${unitId} and c.purpose = 'station' and ${sql.join(conds, sql` and `)})`;
 }

@@ -27,6 +27,12 @@ export const measurementErrors = {
       'units.on_hold',
       `Unit ${serial} is on hold${reason ? ` (${reason})` : ''}: it must not be measured until quality releases it.`,
     ),
+  scrapped: (serial: string) =>
+    new AppError(
+      409,
+      'units.scrapped',
+      `Unit ${serial} was scrapped by quality: it must not be measured, programmed or shipped.`,
+    ),
   noActiveRecipe: (model: string) =>
     new AppError(
       409,

@@ -1,6 +1,9 @@
 import type pg from 'pg';
 import { prepared } from '../../db/prepared';
 import type { Measurement } from '../../../shared/schemas/measurement';
+import { eq, sql } from 'drizzle-orm';
+import type { DbOrTx } from '../../db/client';
+import { measurements } from './measurements.table';
 
 /** Which stored measurements a replay covers: one model, optionally a time range and stations. */
 export interface ReplaySelection {
@@ -86,4 +89,28 @@ export async function replayBatch(
       ? { verdict: r.base_verdict, offsetDeg: r.base_offset, failedChecks: r.base_failed ?? [] }
       : null,
   }));
+}
+
+/**
+ * A stored measurement exactly as kept (canonical body, the text as posted, its SHA-256) with the
+ * recipe version of its newest station calibration (null while it is computing).
+ */
+export async function storedMeasurement(db: DbOrTx, measurementId: string) {
+  const [row] = await db
+    .select({
+      measurementId: measurements.measurementId,
+      serial: measurements.serial,
+      source: measurements.source,
+      payload: measurements.payload,
+      payloadRaw: measurements.payloadRaw,
+      payloadSha256: measurements.payloadSha256,
+      receivedAt: measurements.receivedAt,
+      recipeId: sql<
+        string | null
+      >`(select c.recipe_id from calibrations c where c.measurement_pk = "measurements"."id"
+        and c.purpose = 'station' order by c.computed_at desc limit 1)`,
+    })
+    .from(measurements)
+    .where(eq(measurements.measurementId, measurementId));
+  return row;
 }

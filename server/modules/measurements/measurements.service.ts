@@ -21,7 +21,7 @@ import {
   validateCalibrationInput,
 } from '../../../shared/calibration';
 import type { CalibrationResult, Check } from '../../../shared/schemas/calibration-result';
-import { failureStep, repairHoldReason } from '../../../shared/calibration/check-guide';
+import { failureStep } from '../../../shared/calibration/check-guide';
 import { calibrateCapture, captureSignals, captureToMeasurement } from '../../../shared/capture/capture';
 import { parseNumericCsv } from '../../../shared/capture/csv';
 import { normaliseSerial } from '../../../shared/schemas/serial';
@@ -32,6 +32,7 @@ import { EVENTS_CHANNEL } from '../events/event-hub';
 import type { LineEvent } from '../../../shared/schemas/events';
 import { stations } from '../stations/stations.table';
 import { units, type UnitRecord } from '../units/units.table';
+import { mismatchHoldReason, nextUnitState, placeAutomaticHold } from '../quality/quality.service';
 import { measurementErrors } from './measurements.errors';
 import { calibrations, measurements, type CalibrationRecord } from './measurements.table';
 
@@ -178,6 +179,7 @@ export async function acceptMeasurement(
     throw measurementErrors.modelNotAllowed(measurement.serial, c.model_code!, c.station_name);
   }
   if (c.unit_status === 'on_hold') throw measurementErrors.onHold(c.unit_serial!, c.hold_reason);
+  if (c.unit_status === 'scrapped') throw measurementErrors.scrapped(c.unit_serial!);
   if (!c.active_recipe_id) throw measurementErrors.noActiveRecipe(c.model_code!);
   const recipe = await releasedRecipe(ctx.db, c.active_recipe_id);
   const usable = validateCalibrationInput(measurement, recipe.body);
@@ -480,13 +482,13 @@ export async function computeCalibration(
     const calibrationId = inserted[0].id;
     const tx = drizzle(client, { schema, casing: 'snake_case' });
     if (next?.status === 'on_hold') {
-      await insertAudit(tx, {
-        action: 'units.held_by_retest_policy',
-        subjectType: 'unit',
-        subjectId: measurement.unit_id,
-        reason: next.holdReason,
+      await placeAutomaticHold(tx, {
+        unitId: measurement.unit_id,
+        reason: next.holdReason!,
+        source: 'retest_policy',
+        now,
+        setUnit: false,
         before: { status: unit.status, attempts: unit.attempts },
-        after: { status: 'on_hold', attempts: next.attempts },
       });
     }
     if (counts) {
@@ -664,33 +666,6 @@ async function recomputeCalibration(
   });
 }
 
-/**
- * The retest policy. A pass makes the unit calibrated with this offset. A fail leaves it failed for a
- * retest while attempts remain; at the recipe's maximum it goes on hold, with the reason (audited).
- */
-export function nextUnitState(
-  verdict: 'pass' | 'fail',
-  attemptsBefore: number,
-  recipe: Pick<RecipeRecord, 'version' | 'body'>,
-  checks: readonly Check[] = [],
-): { attempts: number; status: UnitRecord['status']; holdReason: string | null } {
-  const attempts = attemptsBefore + 1;
-  if (verdict === 'pass') return { attempts, status: 'calibrated', holdReason: null };
-  // A failure that a retest cannot mend (a dead sensor, swapped phases, an offset far out) goes to
-  // repair at once instead of using up the remaining attempts.
-  const step = failureStep(checks);
-  if (step?.remedy === 'repair') return { attempts, status: 'on_hold', holdReason: repairHoldReason(step) };
-  const max = recipe.body.maxAttempts;
-  if (attempts >= max) {
-    return {
-      attempts,
-      status: 'on_hold',
-      holdReason: `${attempts} calibration attempts without a pass (recipe v${recipe.version} allows ${max})`,
-    };
-  }
-  return { attempts, status: 'failed', holdReason: null };
-}
-
 /** Records what the station wrote and read back; a mismatch flags the unit everywhere it is shown. */
 export async function confirmProgramming(
   ctx: LineContext,
@@ -725,9 +700,13 @@ export async function confirmProgramming(
   // One atomic statement: the confirmation, the unit's flag (a mismatch always flags; a match clears
   // the flag only when it confirms the unit's current calibration), the audit entry and the event.
   const reason = `expected ${expected}, written ${body.writtenCounts}, read back ${body.readBackCounts}`;
-  await ctx.pool.query(
-    prepared(
-      `with p as (
+  // A mismatch also puts the unit on hold (quality's containment), in the same transaction.
+  const client = await ctx.pool.connect();
+  try {
+    await client.query('BEGIN');
+    await client.query(
+      prepared(
+        `with p as (
        insert into programming_confirmations (calibration_id, unit_id, station_id, expected_counts,
                                               written_counts, read_back_counts, checksum, matches, confirmed_at)
        values ($1, $2, $3, $4, $5, $6, $7, $8, $9) returning id
@@ -739,30 +718,46 @@ export async function confirmProgramming(
        select 'units.programming_mismatch', 'unit', $2::text, $10 where not $8 returning id
      )
      select pg_notify($11, $12) from p`,
-      [
-        m.cal_id,
-        m.unit_id,
-        station.stationId,
-        expected,
-        body.writtenCounts,
-        body.readBackCounts,
-        body.checksum ?? null,
-        matches,
-        now,
-        reason,
-        EVENTS_CHANNEL,
-        JSON.stringify({
-          type: 'programming.confirmed',
-          stationId: station.stationId,
-          unitId: m.unit_id!,
-          serial: m.serial,
-          calibrationId: m.cal_id,
+        [
+          m.cal_id,
+          m.unit_id,
+          station.stationId,
+          expected,
+          body.writtenCounts,
+          body.readBackCounts,
+          body.checksum ?? null,
           matches,
-          at: now.toISOString(),
-        } satisfies LineEvent),
-      ],
-    ),
-  );
+          now,
+          reason,
+          EVENTS_CHANNEL,
+          JSON.stringify({
+            type: 'programming.confirmed',
+            stationId: station.stationId,
+            unitId: m.unit_id!,
+            serial: m.serial,
+            calibrationId: m.cal_id,
+            matches,
+            at: now.toISOString(),
+          } satisfies LineEvent),
+        ],
+      ),
+    );
+    if (!matches) {
+      await placeAutomaticHold(drizzle(client, { schema, casing: 'snake_case' }), {
+        unitId: m.unit_id!,
+        reason: mismatchHoldReason(expected, body.writtenCounts, body.readBackCounts),
+        source: 'programming_mismatch',
+        now,
+        setUnit: true,
+      });
+    }
+    await client.query('COMMIT');
+  } catch (e) {
+    await client.query('ROLLBACK').catch(() => {});
+    throw e;
+  } finally {
+    client.release();
+  }
   return { matches, expectedCounts: expected, confirmedAt: now.toISOString() };
 }
 

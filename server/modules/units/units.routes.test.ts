@@ -26,7 +26,8 @@ afterAll(async () => {
 const importCsv = (csv: string) =>
   request(t.app)
     .post('/api/units/import')
-    .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
+    .set('Origin', TEST_ORIGIN)
+    .set('Cookie', engineer)
     .attach('file', Buffer.from(csv), 'work-order.csv');
 
 describe('work-order import', () => {
@@ -36,7 +37,10 @@ describe('work-order import', () => {
     );
     expect(res.status).toBe(201);
     expect(res.body).toEqual({ imported: 2, rows: 2, errors: [] });
-    const unit = await request(t.app).get('/api/units/wo-0002').set('Origin', TEST_ORIGIN).set('Cookie', quality);
+    const unit = await request(t.app)
+      .get('/api/units/wo-0002')
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', quality);
     expect(unit.body.unit.lots).toEqual({ hallBoard: 'HB-2', magnetRing: 'MR-1', stator: 'ST-1' });
   });
 
@@ -64,16 +68,19 @@ describe('holds', () => {
   it('quality puts a unit on hold with a reason; stations may not measure it until released', async () => {
     await request(t.app)
       .post('/api/units')
-      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', quality)
       .send({ serial: 'SN-QHOLD', modelId: line.model.id });
     const noReason = await request(t.app)
       .post('/api/units/SN-QHOLD/hold')
-      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', quality)
       .send({ hold: true, reason: '' });
     expect(noReason.status).toBe(400);
     const held = await request(t.app)
       .post('/api/units/SN-QHOLD/hold')
-      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', quality)
       .send({ hold: true, reason: 'customer return RMA-12' });
     expect(held.body.unit).toMatchObject({ status: 'on_hold', holdReason: 'customer return RMA-12' });
     const refused = await request(t.app)
@@ -83,8 +90,9 @@ describe('holds', () => {
     expect(refused.status).toBe(409);
     const released = await request(t.app)
       .post('/api/units/SN-QHOLD/hold')
-      .set('Origin', TEST_ORIGIN).set('Cookie', quality)
-      .send({ hold: false, reason: 'checked, fine' });
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', quality)
+      .send({ hold: false, reason: 'checked, fine', disposition: 'recalibrate' });
     expect(released.body.unit.status).toBe('new');
     const { rows } = await t.database.pool.query(
       `select action, reason from audit_log where action in ('units.held', 'units.released') order by id`,

@@ -4,8 +4,8 @@ import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { AppError } from '../../lib/errors';
 import { route } from '../../lib/http';
-import { holdUnitSchema, registerUnitSchema } from '../../../shared/schemas/line';
-import { importUnits, registerUnit, setHold, unitDetail } from './units.service';
+import { registerUnitSchema } from '../../../shared/schemas/line';
+import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });
 /** Work-order CSVs up to 5 MB (about 80,000 rows). */
@@ -51,18 +51,6 @@ export function unitsRoutes(deps: AppDeps) {
           throw new AppError(400, 'units.import_no_file', 'Attach the CSV as the form field "file".');
         const report = await importUnits(deps.db, req.user!, req.file.buffer.toString('utf8'));
         res.status(report.errors.length ? 422 : 201).json(report);
-      },
-    }),
-    route({
-      method: 'post',
-      path: '/api/units/:serial/hold',
-      access: ['quality', 'engineer'],
-      summary: 'Put a unit on hold or release it, with a reason',
-      body: holdUnitSchema,
-      handler: async (req, res) => {
-        const { serial } = serialParams.parse(req.params);
-        const { hold, reason } = holdUnitSchema.parse(req.body);
-        res.json({ unit: await setHold(deps.db, req.user!, serial, hold, reason) });
       },
     }),
   ];

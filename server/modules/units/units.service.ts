@@ -30,12 +30,6 @@ export const unitErrors = {
   exists: (serial: string) =>
     new AppError(409, 'units.exists', `A unit with serial "${serial}" already exists.`),
   unknownModel: () => new AppError(400, 'units.unknown_model', 'No such model.'),
-  holdUnchanged: (hold: boolean) =>
-    new AppError(
-      409,
-      'units.hold_unchanged',
-      hold ? 'The unit is already on hold.' : 'The unit is not on hold.',
-    ),
 };
 
 export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<UnitRecord | undefined> {
@@ -122,50 +116,6 @@ export async function registerUnit(db: Db, actor: SessionUser, input: RegisterUn
       if ((err.code ?? err.cause?.code) === '23505') throw unitErrors.exists(v.serial);
       throw e;
     });
-}
-
-export async function setHold(
-  db: Db,
-  actor: SessionUser,
-  serial: string,
-  hold: boolean,
-  reason: string,
-): Promise<UnitView> {
-  return db.transaction(async (tx) => {
-    const [unit] = await tx
-      .select()
-      .from(units)
-      .where(sql`upper(${units.serial}) = ${normaliseSerial(serial)}`)
-      .for('update');
-    if (!unit) throw unitErrors.notFound(serial);
-    if ((unit.status === 'on_hold') === hold) throw unitErrors.holdUnchanged(hold);
-    // Released units go back to what their calibrations say; attempts restart so a retest is possible.
-    const released: UnitRecord['status'] = unit.currentCalibrationId
-      ? 'calibrated'
-      : unit.attempts > 0
-        ? 'failed'
-        : 'new';
-    const [after] = await tx
-      .update(units)
-      .set(
-        hold
-          ? { status: 'on_hold', holdReason: reason, updatedAt: new Date() }
-          : { status: released, holdReason: null, attempts: 0, updatedAt: new Date() },
-      )
-      .where(eq(units.id, unit.id))
-      .returning();
-    await insertAudit(tx, {
-      actorId: actor.id,
-      actorName: actor.displayName,
-      action: hold ? 'units.held' : 'units.released',
-      subjectType: 'unit',
-      subjectId: unit.id,
-      reason,
-      before: { status: unit.status, holdReason: unit.holdReason, attempts: unit.attempts },
-      after: { status: after.status, holdReason: after.holdReason, attempts: after.attempts },
-    });
-    return unitView(tx, after);
-  });
 }
 
 const IMPORT_COLUMNS = WORK_ORDER_COLUMNS;

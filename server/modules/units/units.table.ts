@@ -13,7 +13,7 @@ import {
 } from 'drizzle-orm/pg-core';
 import { models } from '../recipes/recipes.table';
 
-export const unitStatusEnum = pgEnum('unit_status', ['new', 'calibrated', 'failed', 'on_hold']);
+export const unitStatusEnum = pgEnum('unit_status', ['new', 'calibrated', 'failed', 'on_hold', 'scrapped']);
 
 /**
  * A motor unit, by serial. `currentOffset*` is the latest passing calibration (what should be

@@ -4,6 +4,7 @@ import { UnitPage } from '../../features/line/components/unit-page';
 import { UnitSearch } from '../../features/line/components/unit-search';
 import { useMe } from '../../features/auth/api/me';
 import { RecomputePanel } from '../../features/recipes/components/recompute-panel';
+import { RawTimings } from '../../features/quality/components/raw-timings';
 
 export function Component() {
   const { serial = '' } = useParams();
@@ -23,6 +24,11 @@ export function Component() {
       {me?.role === 'engineer' ? (
         <div className="mt-6">
           <RecomputePanel key={serial} serial={serial} />
+        </div>
+      ) : null}
+      {me && ['quality', 'engineer', 'admin'].includes(me.role) ? (
+        <div className="mt-6">
+          <RawTimings key={serial} serial={serial} />
         </div>
       ) : null}
     </div>

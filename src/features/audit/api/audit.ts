@@ -26,3 +26,22 @@ export const auditListQueryOptions = (filters: AuditFilters) =>
 export function useAuditLog(filters: AuditFilters) {
   return useQuery(auditListQueryOptions(filters));
 }
+
+/** Quality's filtered trail (every value a string from the form, '' meaning "any"). */
+export type AuditTrailFilters = Record<string, string>;
+
+export function auditTrailParams(f: AuditTrailFilters): string {
+  return new URLSearchParams(Object.entries(f).filter(([, v]) => v !== '')).toString();
+}
+
+export const auditTrailQueryOptions = (filters: AuditTrailFilters) =>
+  queryOptions({
+    queryKey: [...auditKeys.lists(), 'trail', filters] as const,
+    staleTime: 0,
+    queryFn: () =>
+      apiRequest<{ entries: AuditEntry[] }>(`/api/audit?${auditTrailParams(filters)}`).then((b) => b.entries),
+  });
+
+export function useAuditTrail(filters: AuditTrailFilters) {
+  return useQuery(auditTrailQueryOptions(filters));
+}

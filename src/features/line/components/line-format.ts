@@ -7,6 +7,7 @@ export const UNIT_STATUS_LABELS: Record<UnitStatus, string> = {
   calibrated: 'Calibrated',
   failed: 'Failed, retest allowed',
   on_hold: 'On hold',
+  scrapped: 'Scrapped (final)',
 };
 
 export const UNIT_STATUS_TONES: Record<UnitStatus, Tone> = {
@@ -14,6 +15,7 @@ export const UNIT_STATUS_TONES: Record<UnitStatus, Tone> = {
   calibrated: 'ok',
   failed: 'fault',
   on_hold: 'warn',
+  scrapped: 'fault',
 };
 
 export type Verdict = CalibrationView['verdict'];

@@ -1,0 +1,171 @@
+import { useState } from 'react';
+import { Link } from 'react-router';
+import type { InvestigationDetail, InvestigationUpdate } from '../../../../shared/schemas/quality';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TextAreaField } from '../../../components/ui/field';
+import { Panel } from '../../../components/ui/panel';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { formatDateTime } from '../../../lib/format';
+import { useAddComment, useInvestigation, useUpdateInvestigation } from '../api/quality';
+import { INVESTIGATION_STATUS_LABELS } from './quality-format';
+
+const TEXT_FIELDS = [
+  ['symptom', 'Symptom'],
+  ['findings', 'Findings'],
+  ['containmentAction', 'Containment action'],
+  ['rootCause', 'Root cause'],
+  ['correctiveAction', 'Corrective action'],
+  ['verification', 'Verification'],
+] as const;
+
+const NEXT_STATUS = { open: 'contained', contained: 'closed', closed: null } as const;
+
+function CaseFields({ inv }: { inv: InvestigationDetail }) {
+  const update = useUpdateInvestigation(inv.id);
+  const [draft, setDraft] = useState<Record<string, string>>(() =>
+    Object.fromEntries(TEXT_FIELDS.map(([k]) => [k, inv[k] ?? ''])),
+  );
+  const closed = inv.status === 'closed';
+  const next = NEXT_STATUS[inv.status];
+  const changed = TEXT_FIELDS.filter(([k]) => (inv[k] ?? '') !== draft[k]);
+  const save = (extra: InvestigationUpdate = {}) =>
+    update.mutate({ ...Object.fromEntries(changed.map(([k]) => [k, draft[k]])), ...extra });
+  return (
+    <Panel title="Case" titleId="case-title">
+      <form
+        className="flex flex-col gap-4"
+        onSubmit={(event) => {
+          event.preventDefault();
+          save();
+        }}
+      >
+        {TEXT_FIELDS.map(([k, label]) => (
+          <TextAreaField
+            key={k}
+            label={label}
+            value={draft[k]}
+            readOnly={closed}
+            onChange={(e) => setDraft((d) => ({ ...d, [k]: e.target.value }))}
+          />
+        ))}
+        {update.isError ? (
+          <Alert tone="fault" title="Not saved">
+            {update.error.message}
+          </Alert>
+        ) : null}
+        {closed ? (
+          <p className="text-graphite-300">
+            Closed on {formatDateTime(inv.closedAt)}: the case no longer changes.
+          </p>
+        ) : (
+          <div className="flex flex-wrap gap-3">
+            <Button type="submit" busy={update.isPending} disabled={changed.length === 0}>
+              Save changes
+            </Button>
+            {next ? (
+              <Button variant="primary" busy={update.isPending} onClick={() => save({ status: next })}>
+                {next === 'contained' ? 'Mark contained' : 'Close the case'}
+              </Button>
+            ) : null}
+          </div>
+        )}
+      </form>
+    </Panel>
+  );
+}
+
+function Comments({ inv }: { inv: InvestigationDetail }) {
+  const add = useAddComment(inv.id);
+  const [body, setBody] = useState('');
+  return (
+    <Panel title="Comments" titleId="comments-title">
+      {inv.comments.length === 0 ? <p className="mb-4 text-graphite-300">No comment yet.</p> : null}
+      <ol className="mb-4 flex flex-col gap-3" data-testid="comments">
+        {inv.comments.map((c) => (
+          <li key={c.id} className="border-l-4 border-graphite-600 pl-3">
+            <div className="text-sm text-graphite-400">
+              {c.author} · {formatDateTime(c.createdAt)}
+            </div>
+            <p className="whitespace-pre-wrap">{c.body}</p>
+          </li>
+        ))}
+      </ol>
+      <form
+        className="flex flex-col gap-3"
+        onSubmit={(event) => {
+          event.preventDefault();
+          add.mutate(body, { onSuccess: () => setBody('') });
+        }}
+      >
+        <TextAreaField label="Add a comment" value={body} onChange={(e) => setBody(e.target.value)} />
+        {add.isError ? (
+          <Alert tone="fault" title="Not added">
+            {add.error.message}
+          </Alert>
+        ) : null}
+        <div>
+          <Button type="submit" busy={add.isPending} disabled={!body.trim()}>
+            Add comment
+          </Button>
+        </div>
+      </form>
+    </Panel>
+  );
+}
+
+/** One return or complaint: its fields, status, linked units and comment thread. */
+export function InvestigationPage({ id }: { id: string }) {
+  const inv = useInvestigation(id);
+  if (inv.isPending) return <Loading label="Reading the investigation…" />;
+  if (inv.isError)
+    return (
+      <Alert tone="fault" title="The investigation could not be read">
+        {inv.error.message}
+      </Alert>
+    );
+  const d = inv.data;
+  return (
+    <div className="flex flex-col gap-6">
+      <div className="flex flex-wrap items-center gap-4">
+        <StatusChip tone={d.status === 'closed' ? 'ok' : d.status === 'open' ? 'warn' : 'neutral'}>
+          {INVESTIGATION_STATUS_LABELS[d.status]}
+        </StatusChip>
+        <span>Customer reference: {d.customerRef ?? 'none'}</span>
+        <span>Received: {d.receivedOn ?? 'not recorded'}</span>
+        <span>
+          Opened {formatDateTime(d.createdAt)} by {d.openedBy ?? 'unknown'}
+        </span>
+      </div>
+      <div className="grid items-start gap-6 lg:grid-cols-[minmax(0,2fr)_minmax(0,1fr)]">
+        <CaseFields key={d.id + d.status} inv={d} />
+        <div className="flex flex-col gap-6">
+          <Panel title={`Linked units (${d.units.length})`} titleId="linked-title">
+            {d.units.length === 0 ? (
+              <p className="text-graphite-300">
+                No unit linked yet: hold units from a search under this case.
+              </p>
+            ) : (
+              <ul className="flex max-h-96 flex-col overflow-y-auto" data-testid="linked-units">
+                {d.units.map((u) => (
+                  <li key={u.serial}>
+                    <Link
+                      to={`/units/${encodeURIComponent(u.serial)}`}
+                      className="flex min-h-target items-center gap-3"
+                    >
+                      <span className="font-mono font-semibold">{u.serial}</span>
+                      <span className="text-sm text-graphite-300">
+                        {u.status === 'on_hold' ? 'on hold' : u.status}
+                      </span>
+                    </Link>
+                  </li>
+                ))}
+              </ul>
+            )}
+          </Panel>
+          <Comments inv={d} />
+        </div>
+      </div>
+    </div>
+  );
+}
