@@ -8,3 +8,4 @@ export * from '../modules/stations/stations.table';
 export * from '../modules/measurements/measurements.table';
 export * from '../modules/travelers/travelers.table';
 export * from '../modules/alerts/alerts.table';
+export * from '../modules/qualification/qualification.table';
