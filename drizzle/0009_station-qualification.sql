@@ -82,6 +82,7 @@ CREATE TABLE "qualification_runs" (
 CREATE TABLE "reference_units" (
 	"id" uuid PRIMARY KEY DEFAULT gen_random_uuid() NOT NULL,
 	"unit_id" uuid NOT NULL,
+	"serial" text NOT NULL,
 	"model_id" uuid NOT NULL,
 	"certified_offset_deg" double precision,
 	"tolerance_deg" double precision NOT NULL,
@@ -112,4 +113,5 @@ CREATE INDEX "gauge_study_measurements_study_idx" ON "gauge_study_measurements" 
 CREATE INDEX "qualification_overrides_station_idx" ON "qualification_overrides" USING btree ("station_id","expires_at");--> statement-breakpoint
 CREATE UNIQUE INDEX "qualification_runs_measurement_key" ON "qualification_runs" USING btree ("measurement_id");--> statement-breakpoint
 CREATE INDEX "qualification_runs_station_idx" ON "qualification_runs" USING btree ("station_id","measured_at");--> statement-breakpoint
-CREATE UNIQUE INDEX "reference_units_unit_key" ON "reference_units" USING btree ("unit_id");
+CREATE UNIQUE INDEX "reference_units_unit_key" ON "reference_units" USING btree ("unit_id");--> statement-breakpoint
+CREATE UNIQUE INDEX "reference_units_serial_key" ON "reference_units" USING btree ("serial");

@@ -14,6 +14,7 @@ import { stationsRoutes } from './modules/stations/stations.routes';
 import { unitsRoutes } from './modules/units/units.routes';
 import { travelersRoutes } from './modules/travelers/travelers.routes';
 import { usersRoutes } from './modules/users/users.routes';
+import { qualificationRoutes } from './modules/qualification/qualification.routes';
 
 /**
  * Every HTTP route the server has, in one list. Each declares who may call it; the app mounts
@@ -35,6 +36,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...jobsRoutes(deps),
     ...analysisRoutes(deps),
     ...alertsRoutes(deps),
+    ...qualificationRoutes(deps),
   ];
   routes.push(
     route({

@@ -28,6 +28,8 @@ export const referenceUnits = pgTable(
     unitId: uuid()
       .notNull()
       .references(() => units.id),
+    /** The unit's serial (normalised, never changes): the production gate recognises it without a join. */
+    serial: text().notNull(),
     modelId: uuid()
       .notNull()
       .references(() => models.id),
@@ -44,7 +46,10 @@ export const referenceUnits = pgTable(
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     retiredAt: timestamp({ withTimezone: true }),
   },
-  (t) => [uniqueIndex('reference_units_unit_key').on(t.unitId)],
+  (t) => [
+    uniqueIndex('reference_units_unit_key').on(t.unitId),
+    uniqueIndex('reference_units_serial_key').on(t.serial),
+  ],
 );
 
 /** When a station must be qualified, and with which reference units. A station without a row is never locked. */
