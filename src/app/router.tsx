@@ -51,6 +51,11 @@ export const router = createBrowserRouter([
             children: [{ index: true, lazy: () => import('./routes/analysis') }],
           },
           {
+            path: 'qualification',
+            element: <RequireAccess access={['engineer', 'quality']} />,
+            children: [{ index: true, lazy: () => import('./routes/qualification') }],
+          },
+          {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,
             children: [

@@ -10,6 +10,7 @@ import {
 } from '../../features/line/components/station-picker';
 import { StationScreen } from '../../features/line/components/station-screen';
 import { OpenAlerts } from '../../features/alerts/components/open-alerts';
+import { QualificationBanner } from '../../features/qualification/components/qualification-banner';
 
 /** /station picks the panel's station (or goes to the remembered one); /station/:id runs it. */
 export function Component() {
@@ -60,6 +61,7 @@ export function Component() {
       <StationScreen
         key={station.id}
         station={station}
+        banner={<QualificationBanner stationId={station.id} />}
         healthExtra={
           <section aria-labelledby="station-alerts-title" className="flex flex-col gap-2">
             <h2 id="station-alerts-title" className="text-lg font-semibold text-graphite-100">
