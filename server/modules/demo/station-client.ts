@@ -1,8 +1,9 @@
 import type { CalibrationView } from '../../../shared/schemas/line';
 import type { Measurement } from '../../../shared/schemas/measurement';
+import type { QualificationRunView, QualificationState } from '../../../shared/schemas/qualification';
 import { createRng } from '../../../shared/simulation/rng';
 import type { DemoModel, DemoRig } from './demo-line.scenario';
-import { calibrationBlockChecksum, drawUnit, simulateRun } from './demo-physics';
+import { calibrationBlockChecksum, drawUnit, referenceUnitTruth, simulateRun } from './demo-physics';
 
 /**
  * A test station's side of the station protocol over HTTP, and a simulated station that drives it
@@ -137,6 +138,20 @@ export class StationHttp {
     }
   }
 
+  /** This station's qualification state (locked or not, which reference units qualify it). */
+  qualification() {
+    return this.call<QualificationState>('GET', '/api/station/qualification');
+  }
+
+  /** Posts a reading of a reference unit; the answer carries its verdict and the station's new state. */
+  postReading(m: Measurement) {
+    return this.call<{ run: QualificationRunView; state: QualificationState; repeated: boolean }>(
+      'POST',
+      '/api/station/qualification-readings',
+      m,
+    );
+  }
+
   confirm(measurementId: string, body: { writtenCounts: number; readBackCounts: number; checksum?: string }) {
     return this.call<{ matches: boolean }>(
       'POST',
@@ -164,6 +179,8 @@ export interface StationSimOptions {
   /** Stop starting new posts once this many have been made by all simulators sharing `budget`. */
   budget?: { left: number };
   onError?: (message: string) => void;
+  /** Told about each reference reading the station takes when the server says it must qualify first. */
+  onQualified?: (run: QualificationRunView) => void;
 }
 
 export interface StationSimReport {
@@ -177,6 +194,26 @@ export interface StationSimReport {
   errors: number;
   /** Post → result times, ms, in the order they completed. */
   latenciesMs: number[];
+  /** Reference readings taken because the station was locked (overdue or failed). */
+  qualifications: number;
+}
+
+/**
+ * Measures a reference unit once at a station, as a rig does when the operator scans it: the unit's
+ * physics comes from its serial (the same motor the demo seed certified), the rig's from `rig`.
+ */
+export async function measureReferenceUnit(
+  http: StationHttp,
+  model: DemoModel,
+  rig: DemoRig,
+  serial: string,
+  rng: ReturnType<typeof createRng>,
+) {
+  const m = simulateRun(model, referenceUnitTruth(model, serial), { rig, attempt: 2 }, rng, {
+    measurementId: crypto.randomUUID(),
+    serial,
+  });
+  return http.postReading(m);
 }
 
 /** A pacer shared by all posts of a simulator: at most `rate` starts per second. */
@@ -200,8 +237,35 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
     failed: 0,
     errors: 0,
     latenciesMs: [],
+    qualifications: 0,
   };
   const pace = pacer(o.ratePerSecond);
+  // A locked station (423) measures its reference unit once, however many units were waiting, then goes on.
+  const qualifyRng = createRng((o.seed * 31 + 17) >>> 0);
+  let qualifying: Promise<boolean> | null = null;
+  const qualify = () =>
+    (qualifying ??= (async () => {
+      try {
+        const state = await o.http.qualification();
+        const serial = state.referenceSerials[0];
+        if (!serial) return false;
+        const out = await measureReferenceUnit(o.http, o.model, o.rig, serial, qualifyRng);
+        report.qualifications++;
+        o.onQualified?.(out.run);
+        return !out.state.locked;
+      } finally {
+        qualifying = null;
+      }
+    })());
+  const postUnlocked = async (m: Measurement) => {
+    for (let tries = 0; ; tries++) {
+      try {
+        return await o.http.post(m);
+      } catch (e) {
+        if (!(e instanceof StationHttpError && e.status === 423) || tries >= 2 || !(await qualify())) throw e;
+      }
+    }
+  };
   const unitRng = createRng(o.seed);
   const truths = Array.from({ length: o.units }, () =>
     drawUnit(o.model, unitRng, { badRate: o.badRate ?? 0.03 }),
@@ -224,7 +288,7 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
       });
       try {
         const t0 = performance.now();
-        const accepted = await o.http.post(m);
+        const accepted = await postUnlocked(m);
         report.posted++;
         const waitMs = o.resultTimeoutMs ?? 30_000;
         const cal = await o.http.result(accepted.resultUrl, waitMs);
