@@ -7,6 +7,7 @@ CREATE TABLE "gauge_studies" (
 	"model_id" uuid NOT NULL,
 	"appraiser_kind" "gauge_appraiser_kind" NOT NULL,
 	"appraiser_ids" jsonb NOT NULL,
+	"station_id" uuid,
 	"part_unit_ids" jsonb NOT NULL,
 	"trials" integer NOT NULL,
 	"tolerance_deg" double precision NOT NULL,
@@ -93,6 +94,7 @@ CREATE TABLE "reference_units" (
 );
 --> statement-breakpoint
 ALTER TABLE "gauge_studies" ADD CONSTRAINT "gauge_studies_model_id_models_id_fk" FOREIGN KEY ("model_id") REFERENCES "public"."models"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
+ALTER TABLE "gauge_studies" ADD CONSTRAINT "gauge_studies_station_id_stations_id_fk" FOREIGN KEY ("station_id") REFERENCES "public"."stations"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "gauge_studies" ADD CONSTRAINT "gauge_studies_created_by_users_id_fk" FOREIGN KEY ("created_by") REFERENCES "public"."users"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "gauge_study_measurements" ADD CONSTRAINT "gauge_study_measurements_study_id_gauge_studies_id_fk" FOREIGN KEY ("study_id") REFERENCES "public"."gauge_studies"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint
 ALTER TABLE "gauge_study_measurements" ADD CONSTRAINT "gauge_study_measurements_station_id_stations_id_fk" FOREIGN KEY ("station_id") REFERENCES "public"."stations"("id") ON DELETE no action ON UPDATE no action;--> statement-breakpoint

@@ -152,6 +152,8 @@ export const gaugeStudies = pgTable('gauge_studies', {
   appraiserKind: gaugeAppraiserKindEnum().notNull(),
   /** Station ids or user ids, in appraiser order. */
   appraiserIds: jsonb().$type<string[]>().notNull(),
+  /** Where the operators of an operator study measure (null when the appraisers are stations). */
+  stationId: uuid().references(() => stations.id),
   /** Unit ids of the parts, in part order. */
   partUnitIds: jsonb().$type<string[]>().notNull(),
   trials: integer().notNull(),
