@@ -25,6 +25,8 @@ import {
   type QualificationDeps,
 } from './qualification.service';
 
+import { gaugeStudyRoutes } from './gauge-studies.routes';
+
 const idParams = z.object({ id: z.uuid() });
 
 export function qualificationDeps(deps: AppDeps): QualificationDeps {
@@ -47,6 +49,7 @@ export function qualificationRoutes(deps: AppDeps) {
     return view;
   };
   return [
+    ...gaugeStudyRoutes(deps),
     route({
       method: 'post',
       path: '/api/station/qualification-readings',
