@@ -17,6 +17,7 @@ import {
   DEMO_MODELS,
 } from './demo-line.scenario';
 import { stationQualification } from '../qualification/qualification.service';
+import { studyDetail } from '../qualification/gauge-studies.service';
 import { ensureDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
 
 const DAY_MS = 86_400_000;
@@ -89,8 +90,8 @@ function residuals(): (Row & { residualDeg: number })[] {
 describe('the demo line seed', () => {
   it('imports the units with their lots and calibrates them through the line over the fortnight', async () => {
     expect(first.seeded).toBe(true);
-    // The work order's 240 units, and one reference unit per model (registered apart, with no lots).
-    expect(first.units).toBe(240 + DEMO_MODELS.length);
+    // The work order's 240 units, and per model a reference unit and 10 gauge-study parts (registered apart, no lots).
+    expect(first.units).toBe(240 + DEMO_MODELS.length * 11);
     const [withLots] = await t.deps.db
       .select({ n: sql<number>`count(*)::int` })
       .from(units)
@@ -228,5 +229,16 @@ describe('the demo line seed', () => {
       `select count(*)::int as n from measurements where serial like 'R-%'`,
     );
     expect(cals.rows[0].n).toBe(0);
+  });
+
+  it('holds one finished gauge study per model, whose forward-only drifting station makes the system unacceptable', async () => {
+    const { rows } = await t.database.pool.query(`select id, status from gauge_studies order by name`);
+    expect(rows).toHaveLength(DEMO_MODELS.length);
+    for (const r of rows) {
+      expect(r.status).toBe('finished');
+      const d = await studyDetail(t.deps.db, r.id);
+      expect(d.results!.anova.av).toBeGreaterThan(d.results!.anova.ev);
+      expect(d.results!.reading.reading).toBe('unacceptable');
+    }
   });
 });

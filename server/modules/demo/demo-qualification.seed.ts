@@ -11,6 +11,7 @@ import {
   setPolicy,
   setShifts,
 } from '../qualification/qualification.service';
+import { acceptStudyReading, createStudy } from '../qualification/gauge-studies.service';
 import { DEMO_MODELS, DEMO_STATIONS } from './demo-line.scenario';
 import { referenceSerial, referenceUnitTruth, simulateRun } from './demo-physics';
 
@@ -29,7 +30,7 @@ const TOLERANCE_DEG = 0.3;
  * model's steady two-direction station, every station's policy (each shift start and every 8 h), a
  * reading at each early and late shift start of the fortnight (the drifting forward-only rig's bias
  * shows on its bias chart and fails it), and the reading of this morning at `now`, so the steady
- * stations start qualified. Readings go through the qualification service with a walking clock;
+ * stations start qualified; and one finished gauge study per model. Readings go through the qualification service with a walking clock;
  * no mail is sent for the seeded history.
  */
 export async function seedDemoQualification(
@@ -97,6 +98,49 @@ export async function seedDemoQualification(
       }
     }
   }
+  // One finished gauge study per model: 10 parts, the model's stations as appraisers, 3 trials, run on the
+  // last day of the fortnight in the planned random order.
+  let t = span.fortnightStart + 13 * DAY_MS + 10 * 3_600_000;
+  for (const model of DEMO_MODELS) {
+    const modelId = catalog.get(model.code)!.modelId;
+    const code = model.code.replace(/^[A-Z]+-/, '');
+    const partSerials = Array.from({ length: 10 }, (_, i) => `GS-${code}-${String(i + 1).padStart(2, '0')}`);
+    for (const serial of partSerials) await registerUnit(deps.db, actor, { serial, modelId });
+    const appraisers = DEMO_STATIONS.filter((s) => s.modelCodes.includes(model.code));
+    const study = await createStudy(
+      deps.db,
+      actor,
+      {
+        name: `${model.code} line stations, fortnight close`,
+        modelId,
+        appraiserKind: 'station',
+        appraiserIds: appraisers.map((s) => principals.get(s.name)!.stationId),
+        partSerials,
+        trials: 3,
+        toleranceDeg: 2,
+        seed: 57,
+      },
+      new Date(t),
+    );
+    for (const step of study.runOrder) {
+      const station = appraisers[step.appraiser];
+      const serial = partSerials[step.part];
+      const measurement = simulateRun(
+        model,
+        referenceUnitTruth(model, serial),
+        { rig: station.rig, driftFraction: 13 / 14, attempt: 2 },
+        rng,
+        { measurementId: randomUUID(), serial },
+      );
+      t += 50_000;
+      const at = t;
+      await acceptStudyReading(deps.db, () => new Date(at), principals.get(station.name)!, study.id, {
+        measurement,
+      });
+      readings++;
+    }
+  }
+
   const nowMs = span.now.getTime();
   for (const s of DEMO_STATIONS)
     await read(s.name, s.modelCodes[0], nowMs, Math.min(1, (nowMs - span.fortnightStart) / (14 * DAY_MS)));
