@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import type { GaugeAnovaResult, GaugeRangeResult, GaugeReading } from '../statistics/gauge-study';
 import { measurementSchema } from './measurement';
 import { serialSchema } from './serial';
 
@@ -145,3 +146,67 @@ export const studyMeasurementSchema = z.object({
   /** Which trial this is; the next one due for this part and appraiser when absent. */
   trial: z.number().int().min(1).optional(),
 });
+
+/** A gauge study as the server shows it (results once every trial is in). */
+export interface GaugeStudyDetail {
+  id: string;
+  name: string;
+  modelId: string;
+  modelCode: string;
+  appraiserKind: 'station' | 'operator';
+  appraisers: { id: string; name: string }[];
+  stationId: string | null;
+  parts: string[];
+  trials: number;
+  toleranceDeg: number;
+  status: 'open' | 'finished';
+  createdAt: string;
+  finishedAt: string | null;
+  done: number;
+  total: number;
+  readings: {
+    id: string;
+    part: number;
+    appraiser: number;
+    trial: number;
+    serial: string;
+    offsetDeg: number;
+    repeatReason: string | null;
+    measuredAt: string;
+  }[];
+  results: {
+    anova: GaugeAnovaResult;
+    averageRange: GaugeRangeResult;
+    reading: { reading: GaugeReading; sentence: string };
+    readingOfTolerance: { reading: GaugeReading; sentence: string } | null;
+    data: number[][][];
+  } | null;
+}
+
+export interface GaugeStudySummary {
+  id: string;
+  name: string;
+  modelId: string;
+  appraiserKind: 'station' | 'operator';
+  parts: number;
+  appraisers: number;
+  trials: number;
+  toleranceDeg: number;
+  status: 'open' | 'finished';
+  createdAt: string;
+  finishedAt: string | null;
+}
+
+export interface StudyNextStep {
+  studyId: string;
+  studyName: string;
+  serial: string | null;
+  part: number | null;
+  trial: number | null;
+  trials: number;
+  doneByAppraiser: number;
+  totalByAppraiser: number;
+  done: number;
+  total: number;
+  appraiserLabel: string;
+}

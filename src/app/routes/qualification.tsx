@@ -1,3 +1,4 @@
+import { Link } from 'react-router';
 import { Alert, Loading } from '../../components/ui/alert';
 import { PageHeader } from '../../components/ui/panel';
 import { useMe } from '../../features/auth/api/me';
@@ -14,6 +15,14 @@ export function Component() {
       <PageHeader
         title="Station qualification"
         lead="Whether each station may calibrate: its reference-unit readings against the certified values, the bias over time, and the reference units."
+        actions={
+          <Link
+            to="/qualification/studies"
+            className="inline-flex min-h-target items-center px-2 font-semibold"
+          >
+            Gauge R&R studies
+          </Link>
+        }
       />
       {stations.isPending ? <Loading label="Fetching stations…" /> : null}
       {stations.isError ? (

@@ -1,5 +1,9 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type {
+  GaugeStudyCreate,
+  GaugeStudyDetail,
+  GaugeStudySummary,
+  StudyNextStep,
   QualificationPolicy,
   QualificationRunView,
   QualificationState,
@@ -103,5 +107,62 @@ export function useCreateReferenceUnit() {
         body: input,
       }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: qualificationKeys.references() }),
+  });
+}
+
+export const studyKeys = {
+  all: ['gauge-studies'] as const,
+  lists: () => [...studyKeys.all, 'list'] as const,
+  details: () => [...studyKeys.all, 'detail'] as const,
+  detail: (id: string) => [...studyKeys.details(), id] as const,
+  next: (stationId: string) => [...studyKeys.all, 'next', stationId] as const,
+};
+
+export function useStudies() {
+  return useQuery({
+    queryKey: studyKeys.lists(),
+    queryFn: () => apiRequest<{ studies: GaugeStudySummary[] }>('/api/gauge-studies').then((b) => b.studies),
+  });
+}
+
+export function useStudy(id: string | null) {
+  return useQuery({
+    queryKey: studyKeys.detail(id ?? ''),
+    queryFn: () =>
+      apiRequest<{ study: GaugeStudyDetail }>(`/api/gauge-studies/${enc(id!)}`).then((b) => b.study),
+    enabled: id !== null,
+    refetchInterval: (q) => (q.state.data?.status === 'open' ? 10_000 : false),
+  });
+}
+
+export function useStudyNextSteps(stationId: string) {
+  return useQuery({
+    queryKey: studyKeys.next(stationId),
+    queryFn: () =>
+      apiRequest<{ steps: StudyNextStep[] }>(`/api/stations/${enc(stationId)}/gauge-studies/next`).then(
+        (b) => b.steps,
+      ),
+    refetchInterval: 5_000,
+  });
+}
+
+export function useModelChoices() {
+  return useQuery({
+    queryKey: [...studyKeys.all, 'models'] as const,
+    queryFn: () =>
+      apiRequest<{ models: { id: string; code: string }[] }>('/api/models').then((b) =>
+        b.models.map((m) => ({ id: m.id, code: m.code })),
+      ),
+  });
+}
+
+export function useCreateStudy() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: GaugeStudyCreate) =>
+      apiRequest<{ study: GaugeStudyDetail }>('/api/gauge-studies', { method: 'POST', body: input }).then(
+        (b) => b.study,
+      ),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: studyKeys.lists() }),
   });
 }
