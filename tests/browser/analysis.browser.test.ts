@@ -20,7 +20,11 @@ async function shot(name: string) {
 beforeAll(async () => {
   browser = await launchChromium();
   // axe-core is injected as a script, which the app's Content Security Policy would refuse.
-  const context = await browser.newContext({ baseURL: baseUrl(), viewport: { width: 1440, height: 900 }, bypassCSP: true });
+  const context = await browser.newContext({
+    baseURL: baseUrl(),
+    viewport: { width: 1440, height: 900 },
+    bypassCSP: true,
+  });
   page = await context.newPage();
   pageErrors = [];
   page.on('pageerror', (error) => pageErrors.push(error.message));
@@ -35,7 +39,9 @@ describe('chart alerts on the demo line', () => {
   it('shows open alerts on the engineer’s overview, including the drifting station', async () => {
     await page.goto('/');
     await page.getByRole('heading', { name: 'Chart alerts' }).waitFor();
-    await expect.poll(() => page.getByText(/EOL-23 · CV-57B/).count(), { timeout: 60_000 }).toBeGreaterThan(0);
+    await expect
+      .poll(() => page.getByText(/EOL-23 · CV-57B/).count(), { timeout: 60_000 })
+      .toBeGreaterThan(0);
     await shot('alerts-overview');
     expect(await axeFindings(page)).toEqual([]);
   });
@@ -43,7 +49,10 @@ describe('chart alerts on the demo line', () => {
 
 describe('line statistics on the demo line', () => {
   it('is in the engineer’s navigation and asks for a model first', async () => {
-    await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Line statistics' }).click();
+    await page
+      .getByRole('navigation', { name: 'Main' })
+      .getByRole('link', { name: 'Line statistics' })
+      .click();
     await page.getByText('Every view looks at one model at a time').waitFor();
     expect(await axeFindings(page)).toEqual([]);
   });
@@ -68,10 +77,16 @@ describe('line statistics on the demo line', () => {
     await shot('analysis-control-chart');
     expect(await axeFindings(page)).toEqual([]);
     await page.getByLabel('Chart', { exact: true }).selectOption('ewma');
-    await page.getByText(/EWMA of Offset/).first().waitFor();
+    await page
+      .getByText(/EWMA of Offset/)
+      .first()
+      .waitFor();
     await shot('analysis-ewma');
     await page.goBack();
-    await page.getByText(/Individuals: Offset/).first().waitFor();
+    await page
+      .getByText(/Individuals: Offset/)
+      .first()
+      .waitFor();
   });
 
   it('names hall-board lot HB-2446-C in the lot comparison', async () => {
