@@ -42,6 +42,9 @@ async function main() {
   await eng.page.getByLabel('Station', { exact: true }).selectOption({ label: 'EOL-23' });
   await eng.page.getByTestId('bias-chart').waitFor();
   await shot(eng.page, 'qualification-page-eol23', true);
+  await eng.page.goto('/qualification/studies');
+  await eng.page.getByTestId('study-charts').waitFor();
+  await shot(eng.page, 'gauge-studies', true);
   await eng.context.close();
   await browser.close();
 }
