@@ -13,6 +13,7 @@ import {
   measureReferenceUnit,
   percentile,
   runStationSim,
+  runStudyTrials,
   StationHttp,
   StationHttpError,
 } from '../modules/demo/station-client';
@@ -25,7 +26,10 @@ const USAGE = `Usage:
   npm run station:sim -- --mode reference [--readings N] [--seed S] [--key KEY]
                          measure the station's reference unit N times (default 1) and print each reading
 
-  --mode M          production (default) or reference
+  npm run station:sim -- --mode study [--seed S] [--key KEY]
+                         take this station's trials of every open gauge study, in the planned order
+
+  --mode M          production (default), reference or study
   --units N         units to test (default 20)
   --rate R          largest measurement posts per second, retests included (default 10; 0 = no limit)
   --concurrency C   units in the rig at the same time (default 2)
@@ -147,8 +151,17 @@ async function main(): Promise<number> {
   const rig: DemoRig = DEMO_STATIONS.find((s) => s.name === stationName && s.rig.detectorDriftUs === 0)
     ?.rig ?? { directions: 'both', detectorDelayUs: 3, detectorDriftUs: 0, jitterUs: 0.6 };
   const mode = values.mode ?? 'production';
-  if (mode !== 'production' && mode !== 'reference') {
-    throw new SetupError(`--mode must be production or reference (got "${mode}").`, true);
+  if (mode !== 'production' && mode !== 'reference' && mode !== 'study') {
+    throw new SetupError(`--mode must be production, reference or study (got "${mode}").`, true);
+  }
+  if (mode === 'study') {
+    const n = await runStudyTrials(http, model, rig, seed, (line) => process.stdout.write(`${line}\n`));
+    process.stdout.write(
+      n === 0
+        ? `No open gauge study has a trial for ${stationName}.\n`
+        : `${n} study trials posted at ${stationName}.\n`,
+    );
+    return 0;
   }
   if (mode === 'reference') {
     const readings = Math.round(numberArg('readings', values.readings, 1, 1, 1000));

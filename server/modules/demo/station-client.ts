@@ -1,6 +1,10 @@
 import type { CalibrationView } from '../../../shared/schemas/line';
 import type { Measurement } from '../../../shared/schemas/measurement';
-import type { QualificationRunView, QualificationState } from '../../../shared/schemas/qualification';
+import type {
+  QualificationRunView,
+  QualificationState,
+  StudyNextStep,
+} from '../../../shared/schemas/qualification';
 import { createRng } from '../../../shared/simulation/rng';
 import type { DemoModel, DemoRig } from './demo-line.scenario';
 import { calibrationBlockChecksum, drawUnit, referenceUnitTruth, simulateRun } from './demo-physics';
@@ -149,6 +153,22 @@ export class StationHttp {
       'POST',
       '/api/station/qualification-readings',
       m,
+    );
+  }
+
+  /** The next trial of each open gauge study this station (or its operator) is an appraiser of. */
+  studySteps() {
+    return this.call<{ steps: StudyNextStep[] }>('GET', '/api/station/gauge-studies/next').then(
+      (b) => b.steps,
+    );
+  }
+
+  /** Posts a gauge-study trial. */
+  postStudyReading(studyId: string, m: Measurement) {
+    return this.call<{ reading: { serial: string; trial: number; offsetDeg: number }; finished: boolean }>(
+      'POST',
+      `/api/station/gauge-studies/${encodeURIComponent(studyId)}/readings`,
+      { measurement: m },
     );
   }
 
@@ -331,4 +351,32 @@ export function percentile(values: number[], p: number): number {
   if (values.length === 0) return 0;
   const sorted = [...values].sort((a, b) => a - b);
   return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))];
+}
+
+/**
+ * Works through this station's share of every open gauge study, step by step in the planned order: each
+ * part's physics comes from its serial (as for reference units), the rig's from `rig`. Returns the trials posted.
+ */
+export async function runStudyTrials(
+  http: StationHttp,
+  model: DemoModel,
+  rig: DemoRig,
+  seed: number,
+  onTrial?: (line: string) => void,
+): Promise<number> {
+  const rng = createRng(seed);
+  let posted = 0;
+  for (;;) {
+    const step = (await http.studySteps()).find((s) => s.serial !== null);
+    if (!step) return posted;
+    const m = simulateRun(model, referenceUnitTruth(model, step.serial!), { rig, attempt: 2 }, rng, {
+      measurementId: crypto.randomUUID(),
+      serial: step.serial!,
+    });
+    const out = await http.postStudyReading(step.studyId, m);
+    posted++;
+    onTrial?.(
+      `${step.studyName}: ${out.reading.serial} trial ${out.reading.trial} of ${step.trials}: ${out.reading.offsetDeg.toFixed(3)}°${out.finished ? ' (study finished)' : ''}`,
+    );
+  }
 }
