@@ -1,4 +1,4 @@
-import { and, asc, desc, eq } from 'drizzle-orm';
+import { asc, desc, eq } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
