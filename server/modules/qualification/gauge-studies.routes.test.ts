@@ -1,4 +1,5 @@
 import request from 'supertest';
+import { PDFParse } from 'pdf-parse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
@@ -124,6 +125,28 @@ describe('a gauge study run by two stations', () => {
     expect(detail.results.anova.pv).toBeGreaterThan(1.5);
     expect(detail.results.anova.percentOfTv.grr).toBeLessThan(10);
     expect(detail.results.reading.reading).toBe('acceptable');
+  });
+
+  it('prints a report with the design, the data, the ANOVA table and the reading', async () => {
+    const res = await request(t.app)
+      .get(`/api/gauge-studies/${studyId}/report.pdf`)
+      .set('Cookie', engineer)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toBe('application/pdf');
+    const parser = new PDFParse({ data: new Uint8Array(res.body as Buffer) });
+    const text = (await parser.getText()).text;
+    await parser.destroy();
+    expect(text).toContain('Gauge R&R study report');
+    expect(text).toContain('Two rigs, three parts');
+    expect(text).toContain('GS-P-02');
+    expect(text).toContain('ANOVA TABLE');
+    expect(text).toMatch(/The measurement system is acceptable/);
   });
 
   it('takes no further trial once finished', async () => {

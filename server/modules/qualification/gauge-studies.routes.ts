@@ -2,6 +2,7 @@ import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { route } from '../../lib/http';
 import { gaugeStudyCreateSchema, studyMeasurementSchema } from '../../../shared/schemas/qualification';
+import { renderStudyReport } from './qualification.pdf';
 import {
   acceptStudyReading,
   createStudy,
@@ -45,6 +46,20 @@ export function gaugeStudyRoutes(deps: AppDeps) {
         'A gauge study: design, readings, and its results by ANOVA and average-and-range once complete',
       handler: async (req, res) => {
         res.json({ study: await studyDetail(deps.db, idParams.parse(req.params).id) });
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/gauge-studies/:id/report.pdf',
+      access: 'signed-in',
+      summary: 'The gauge study report (PDF): design, data, ANOVA table and results',
+      handler: async (req, res) => {
+        const study = await studyDetail(deps.db, idParams.parse(req.params).id);
+        const pdf = await renderStudyReport(study, deps.env.PLANT_TIME_ZONE, deps.clock());
+        res
+          .type('application/pdf')
+          .set('Content-Disposition', `inline; filename="gauge-study-${study.id}.pdf"`)
+          .send(pdf);
       },
     }),
     route({

@@ -1,4 +1,5 @@
 import request from 'supertest';
+import { PDFParse } from 'pdf-parse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
@@ -233,6 +234,32 @@ describe('qualification lockout', () => {
     expect(verdicts.slice(0, 3)).toEqual(['recorded', 'recorded', 'recorded']);
     expect(verdicts.at(-1)).toBe('fail');
     expect(res.body.readings.at(-1).toleranceDeg).toBe(0.3);
+  });
+
+  it('prints a qualification slip of a reading on demand, and no traveler', async () => {
+    const readings = (
+      await request(t.app)
+        .get(`/api/stations/${line.station.id}/qualification/readings`)
+        .set('Cookie', operator)
+    ).body.readings;
+    const failed = readings.at(-1);
+    const res = await request(t.app)
+      .get(`/api/qualification/readings/${failed.id}/slip.pdf`)
+      .set('Cookie', operator)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on('data', (c: Buffer) => chunks.push(c));
+        r.on('end', () => cb(null, Buffer.concat(chunks)));
+      });
+    expect(res.status).toBe(200);
+    const parser = new PDFParse({ data: new Uint8Array(res.body as Buffer) });
+    const text = (await parser.getText()).text;
+    await parser.destroy();
+    expect(text).toContain('Station qualification slip');
+    expect(text).toContain('FAILED');
+    expect(text).toContain('R-QM-01');
+    expect(await count('travelers')).toBe(0);
   });
 
   it('refuses to change or delete a reading, even for the owner', async () => {

@@ -14,6 +14,7 @@ import {
   acceptQualificationReading,
   certifyReferenceUnit,
   createReferenceUnit,
+  findRun,
   getPolicy,
   getShifts,
   grantOverride,
@@ -26,6 +27,7 @@ import {
 } from './qualification.service';
 
 import { gaugeStudyRoutes } from './gauge-studies.routes';
+import { renderQualificationSlip } from './qualification.pdf';
 
 const idParams = z.object({ id: z.uuid() });
 
@@ -89,6 +91,20 @@ export function qualificationRoutes(deps: AppDeps) {
       handler: async (req, res) => {
         const { limit } = biasQuerySchema.parse(req.query);
         res.json({ readings: await stationRuns(deps.db, idParams.parse(req.params).id, limit) });
+      },
+    }),
+    route({
+      method: 'get',
+      path: '/api/qualification/readings/:id/slip.pdf',
+      access: 'signed-in',
+      summary: 'The qualification slip of one reference reading (PDF, printed on demand)',
+      handler: async (req, res) => {
+        const run = await findRun(deps.db, idParams.parse(req.params).id);
+        const pdf = await renderQualificationSlip(run, deps.env.PLANT_TIME_ZONE, deps.clock());
+        res
+          .type('application/pdf')
+          .set('Content-Disposition', `inline; filename="qualification-${run.id}.pdf"`)
+          .send(pdf);
       },
     }),
     route({

@@ -144,6 +144,16 @@ function StudyDetail({ id }: { id: string }) {
           ? ` · ${s.readings.filter((r) => r.repeatReason).length} spoiled trial(s) measured again`
           : ''}
       </p>
+      <p className="mb-4">
+        <a
+          href={`/api/gauge-studies/${encodeURIComponent(s.id)}/report.pdf`}
+          target="_blank"
+          rel="noreferrer"
+          className="inline-flex min-h-target items-center font-semibold"
+        >
+          Open the study report (PDF)
+        </a>
+      </p>
       {s.results ? (
         <StudyResults study={s} />
       ) : (

@@ -180,6 +180,7 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
                 <Th>Certified</Th>
                 <Th>Deviation</Th>
                 <Th>Result</Th>
+                <Th>Slip</Th>
               </tr>
             </thead>
             <tbody>
@@ -203,6 +204,17 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
                         : r.verdict === 'fail'
                           ? 'Failed'
                           : 'Recorded (certifying)'}
+                    </Td>
+                    <Td>
+                      <a
+                        href={`/api/qualification/readings/${encodeURIComponent(r.id)}/slip.pdf`}
+                        target="_blank"
+                        rel="noreferrer"
+                        className="inline-flex min-h-target items-center font-semibold"
+                        aria-label={`Qualification slip (PDF) of ${r.serial}, ${new Date(r.measuredAt).toLocaleString('en-GB', { timeZone: tz })}`}
+                      >
+                        PDF
+                      </a>
                     </Td>
                   </tr>
                 ))}
