@@ -78,9 +78,14 @@ class Sheet {
   }
 }
 
-async function render(title: string, draw: (s: Sheet) => void, at: Date): Promise<Buffer> {
+async function render(
+  title: string,
+  draw: (s: Sheet) => void,
+  at: Date,
+  size: [number, number] = [...PAGE_SIZES_PT.A4],
+): Promise<Buffer> {
   const doc = new PDFDocument({
-    size: [...PAGE_SIZES_PT.A4],
+    size,
     margin: MARGIN,
     autoFirstPage: true,
     font: '',
@@ -124,7 +129,7 @@ export function renderQualificationSlip(
       s.text('bold', 20, word, s.left + 36, s.y + 2);
       s.y += 36;
       s.heading('Reading');
-      const cols = [0, 170];
+      const cols = [0, 86];
       s.row(['Station', run.stationName], cols);
       s.row(['Reference unit', run.serial], cols);
       s.row(['Measured', when(run.measuredAt, timeZone)], cols);
@@ -145,13 +150,15 @@ export function renderQualificationSlip(
         ],
         cols,
       );
-      s.row(['Measurement id', run.measurementId], cols);
+      s.paragraph(`Measurement id ${run.measurementId}`, 7);
       s.y += 6;
       s.paragraph(
         'A qualification reading proves the station, not the unit: the reference unit is not calibrated, counted as production or given a traveler by it.',
       );
     },
     now,
+    // A slip, not a sheet: A6 (105 × 148 mm), like a label printer's ticket.
+    [297.64, 419.53],
   );
 }
 
@@ -190,7 +197,8 @@ export function renderStudyReport(study: GaugeStudyDetail, timeZone: string, now
         ],
         cols,
       );
-      s.row(['Parts', `${study.parts.length}: ${study.parts.join(', ')}`], cols);
+      s.row(['Parts', String(study.parts.length)], cols);
+      s.paragraph(study.parts.join(', '), 8);
       s.row(['Trials', String(study.trials)], cols);
       s.row(['Tolerance (upper − lower limit)', `${study.toleranceDeg}°`], cols);
       s.row(['Planned', when(study.createdAt, timeZone)], cols);
