@@ -82,6 +82,8 @@ export function QualificationBanner({ stationId }: { stationId: string }) {
   const s = q.data;
   const l = look[s.kind];
   const last = s.lastRun;
+  // Rounded to the 0.01° shown, so a reading on the certified value never prints as −0.00°.
+  const dev = last?.deviationDeg == null ? null : Math.round(last.deviationDeg * 100) / 100 || 0;
   return (
     <section
       aria-labelledby="qualification-title"
@@ -107,8 +109,8 @@ export function QualificationBanner({ stationId }: { stationId: string }) {
           <p className="text-base text-graphite-200" data-testid="qualification-last">
             Last reference reading: {last.serial} at {clock(last.measuredAt, s.timeZone)},{' '}
             {last.offsetDeg.toFixed(2)}°
-            {last.deviationDeg !== null
-              ? `, ${last.deviationDeg >= 0 ? '+' : '−'}${Math.abs(last.deviationDeg).toFixed(2)}° from certified (± ${last.toleranceDeg.toFixed(2)}° allowed)`
+            {dev !== null
+              ? `, ${dev >= 0 ? '+' : '−'}${Math.abs(dev).toFixed(2)}° from certified (± ${last.toleranceDeg.toFixed(2)}° allowed)`
               : ''}{' '}
             —{' '}
             {last.verdict === 'pass'
