@@ -63,7 +63,7 @@ beforeAll(async () => {
     day: (r.computedAt.getTime() - FORTNIGHT_START) / DAY_MS,
     speedRpm: (r.result as CalibrationResult).segments[0].speedRpm,
   }));
-}, 60_000);
+}, 120_000); // the seed also certifies reference units and runs a qualification history and two gauge studies
 
 afterAll(async () => {
   await t?.close();
