@@ -9,7 +9,6 @@ import type { GaugeFigures } from '../../../shared/statistics/gauge-study';
 // heavy rule, caps section headings on hairlines, and the traveler's good/bad marks (shape, not colour).
 
 const INK = '#000000';
-const SOFT = '#4d4d4d';
 const RULE = '#8c8c8c';
 const MARGIN = 36;
 
