@@ -2,12 +2,14 @@ import { useState, type FormEvent } from 'react';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { SelectField, TextField } from '../../../components/ui/field';
+import { CheckboxField, SelectField, TextField } from '../../../components/ui/field';
 import { Panel } from '../../../components/ui/panel';
 import {
   useCreateReferenceUnit,
   useLiftLock,
   useReferenceUnits,
+  useSetPolicy,
+  useStationPolicy,
   useStationQualification,
   useStationReadings,
 } from '../api/qualification';
@@ -58,6 +60,92 @@ function LiftLockForm({ stationId }: { stationId: string }) {
       <div>
         <Button type="submit" variant="danger" busy={lift.isPending}>
           Lift the lock
+        </Button>
+      </div>
+    </form>
+  );
+}
+
+function PolicyForm({ stationId }: { stationId: string }) {
+  const policy = useStationPolicy(stationId);
+  const refs = useReferenceUnits();
+  const save = useSetPolicy();
+  const [draft, setDraft] = useState<{ shift: boolean; hours: string; units: string; refs: string[] } | null>(
+    null,
+  );
+  if (policy.isPending || refs.isPending) return <Loading />;
+  const p = policy.data;
+  const d = draft ?? {
+    shift: p?.atShiftStart ?? true,
+    hours: p?.everyHours == null ? '' : String(p.everyHours),
+    units: p?.everyUnits == null ? '' : String(p.everyUnits),
+    refs: p?.referenceUnitIds ?? [],
+  };
+  const submit = (e: FormEvent) => {
+    e.preventDefault();
+    save.mutate({
+      stationId,
+      policy: {
+        atShiftStart: d.shift,
+        everyHours: d.hours.trim() === '' ? null : Number(d.hours),
+        everyUnits: d.units.trim() === '' ? null : Number(d.units),
+        referenceUnitIds: d.refs,
+      },
+    });
+  };
+  return (
+    <form onSubmit={submit} className="flex flex-col gap-3" aria-labelledby="policy-title">
+      <h3 id="policy-title" className="text-lg font-semibold text-graphite-100">
+        When this station must be qualified
+      </h3>
+      {p === null ? <p className="text-graphite-300">No policy yet: the station is never locked.</p> : null}
+      <CheckboxField
+        label="At every plant shift start"
+        checked={d.shift}
+        onChange={(e) => setDraft({ ...d, shift: e.target.checked })}
+      />
+      <div className="grid gap-3 sm:grid-cols-2">
+        <TextField
+          label="Every … hours (empty: no time limit)"
+          type="number"
+          min="0.5"
+          step="0.5"
+          value={d.hours}
+          onChange={(e) => setDraft({ ...d, hours: e.target.value })}
+        />
+        <TextField
+          label="Every … production units (empty: no count)"
+          type="number"
+          min="1"
+          value={d.units}
+          onChange={(e) => setDraft({ ...d, units: e.target.value })}
+        />
+      </div>
+      <fieldset className="flex flex-col gap-1">
+        <legend className="mb-1 font-semibold text-graphite-100">
+          Reference units that qualify it (any one will do)
+        </legend>
+        <div className="flex flex-wrap gap-4">
+          {(refs.data ?? []).map((r) => (
+            <CheckboxField
+              key={r.id}
+              label={`${r.serial} (${r.modelCode})`}
+              checked={d.refs.includes(r.id)}
+              onChange={(e) =>
+                setDraft({
+                  ...d,
+                  refs: e.target.checked ? [...d.refs, r.id] : d.refs.filter((x) => x !== r.id),
+                })
+              }
+            />
+          ))}
+        </div>
+      </fieldset>
+      {save.error ? <Alert tone="fault">{save.error.message}</Alert> : null}
+      {save.isSuccess && !draft ? <Alert tone="ok">Policy saved.</Alert> : null}
+      <div>
+        <Button type="submit" variant="primary" busy={save.isPending} onClick={() => setDraft(null)}>
+          Save the policy
         </Button>
       </div>
     </form>
@@ -225,6 +313,11 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
       {canEdit && state.data && state.data.kind !== 'not_required' ? (
         <Panel>
           <LiftLockForm stationId={stationId} />
+        </Panel>
+      ) : null}
+      {canEdit ? (
+        <Panel>
+          <PolicyForm stationId={stationId} />
         </Panel>
       ) : null}
     </div>
