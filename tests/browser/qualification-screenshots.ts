@@ -37,12 +37,14 @@ async function main() {
   const eng = await freshPage(browser, { width: 1366, height: 768 }, true);
   await signInWithPassword(eng.page, DEMO.engineer.username, DEMO.engineer.password);
   await eng.page.goto('/qualification');
+  await eng.page.getByLabel('Station', { exact: true }).selectOption({ label: 'EOL-21' });
   await eng.page.getByTestId('bias-chart').waitFor();
   await shot(eng.page, 'qualification-page', true);
   await eng.page.getByLabel('Station', { exact: true }).selectOption({ label: 'EOL-23' });
   await eng.page.getByTestId('bias-chart').waitFor();
   await shot(eng.page, 'qualification-page-eol23', true);
   await eng.page.goto('/qualification/studies');
+  await eng.page.getByRole('button', { name: /fortnight close/ }).first().click();
   await eng.page.getByTestId('study-charts').waitFor();
   await shot(eng.page, 'gauge-studies', true);
   await eng.context.close();

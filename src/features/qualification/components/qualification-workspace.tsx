@@ -299,9 +299,9 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
                         target="_blank"
                         rel="noreferrer"
                         className="inline-flex min-h-target items-center font-semibold"
-                        aria-label={`Qualification slip (PDF) of ${r.serial}, ${new Date(r.measuredAt).toLocaleString('en-GB', { timeZone: tz })}`}
+                        aria-label={`PDF slip of ${r.serial}, ${new Date(r.measuredAt).toLocaleString('en-GB', { timeZone: tz })}`}
                       >
-                        PDF
+                        PDF slip
                       </a>
                     </Td>
                   </tr>
