@@ -4,6 +4,7 @@ import { seriousAxeFindings } from './a11y-kit';
 import { baseUrl, DEMO, freshPage, launchChromium } from './browser-kit';
 import { buildMeasurement, ensureTestBench, freshSerial, postMeasurement, type TestBench } from './line-kit';
 
+
 let browser: Browser;
 let bench: TestBench;
 beforeAll(async () => {
