@@ -34,6 +34,18 @@ const envSchema = z.object({
   /** Where the built client lives; served with a single-page fallback when present. */
   CLIENT_DIST: z.string().default('dist/client'),
   /** Plant setting: `true` lets one engineer submit and approve their own recipe draft (default: two people). */
+  /** Plant time zone (IANA name) for shift starts and qualification times. */
+  PLANT_TIME_ZONE: z
+    .string()
+    .default('UTC')
+    .refine((tz) => {
+      try {
+        new Intl.DateTimeFormat('en', { timeZone: tz });
+        return true;
+      } catch {
+        return false;
+      }
+    }, 'PLANT_TIME_ZONE must be an IANA time zone such as Europe/Berlin'),
   RECIPE_SINGLE_PERSON_RELEASE: z
     .enum(['true', 'false'])
     .default('false')

@@ -15,6 +15,7 @@ import { unitsRoutes } from './modules/units/units.routes';
 import { qualityRoutes } from './modules/quality/quality.routes';
 import { travelersRoutes } from './modules/travelers/travelers.routes';
 import { usersRoutes } from './modules/users/users.routes';
+import { qualificationRoutes } from './modules/qualification/qualification.routes';
 
 /**
  * Every HTTP route the server has, in one list. Each declares who may call it; the app mounts
@@ -37,6 +38,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...analysisRoutes(deps),
     ...alertsRoutes(deps),
     ...qualityRoutes(deps),
+    ...qualificationRoutes(deps),
   ];
   routes.push(
     route({

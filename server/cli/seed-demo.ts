@@ -60,6 +60,7 @@ try {
     { db: database.db, pool: database.pool, queue },
     {
       units: count,
+      timeZone: process.env.PLANT_TIME_ZONE,
       onPhase(step, ms) {
         say(`demo line: ${step} done (${(ms / 1000).toFixed(1)} s)`);
       },

@@ -6,24 +6,41 @@ import { existsSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
-import { DEMO_STATIONS, demoModel, type DemoRig } from '../modules/demo/demo-line.scenario';
-import { percentile, runStationSim, StationHttp, StationHttpError } from '../modules/demo/station-client';
+import { DEMO_MODELS, DEMO_STATIONS, demoModel, type DemoRig } from '../modules/demo/demo-line.scenario';
+import { referenceSerial } from '../modules/demo/demo-physics';
+import { createRng } from '../../shared/simulation/rng';
+import {
+  measureReferenceUnit,
+  percentile,
+  runStationSim,
+  runStudyTrials,
+  StationHttp,
+  StationHttpError,
+} from '../modules/demo/station-client';
 
 const USAGE = `Usage:
   npm run station:sim -- --units N [--rate R] [--concurrency C] [--seed S] [--json]
                          [--base-url http://localhost:3000] [--key KEY] [--model CV-57B|CV-86S]
                          [--bad-rate 0.03] [--serial-prefix P]
 
+  npm run station:sim -- --mode reference [--readings N] [--seed S] [--key KEY]
+                         measure the station's reference unit N times (default 1) and print each reading
+
+  npm run station:sim -- --mode study [--seed S] [--key KEY]
+                         take this station's trials of every open gauge study, in the planned order
+
+  --mode M          production (default), reference or study
   --units N         units to test (default 20)
   --rate R          largest measurement posts per second, retests included (default 10; 0 = no limit)
   --concurrency C   units in the rig at the same time (default 2)
   --seed S          seed of the units' physics (default: from the clock)
   --json            print one JSON object at the end:
-                    { posted, calibrated, passed, failed, errors, latencyMs: { p50, p95, max } }
+                    { posted, calibrated, passed, failed, errors, qualifications, latencyMs: { p50, p95, max } }
                     posted = measurements posted (retests included); calibrated = units whose
                     calibration came back; passed/failed = units that ended with a pass / with the
                     recipe's attempts used up (on hold); errors = protocol or connection errors;
-                    latencyMs = post → result.
+                    latencyMs = post → result; qualifications = reference readings taken because
+                    the server refused production until the station was qualified (423).
   --key KEY         the station key (default: the demo station key npm start writes to
                     .data/demo-station-key.json)
   --model CODE      the motor model the station tests (default: the demo station's model)
@@ -88,6 +105,8 @@ async function main(): Promise<number> {
       model: { type: 'string' },
       'bad-rate': { type: 'string' },
       'serial-prefix': { type: 'string' },
+      mode: { type: 'string' },
+      readings: { type: 'string' },
       help: { type: 'boolean', default: false },
     },
     strict: true,
@@ -131,6 +150,41 @@ async function main(): Promise<number> {
   // The rig's timing behaviour: the demo station's own, else a steady both-direction rig.
   const rig: DemoRig = DEMO_STATIONS.find((s) => s.name === stationName && s.rig.detectorDriftUs === 0)
     ?.rig ?? { directions: 'both', detectorDelayUs: 3, detectorDriftUs: 0, jitterUs: 0.6 };
+  const mode = values.mode ?? 'production';
+  if (mode !== 'production' && mode !== 'reference' && mode !== 'study') {
+    throw new SetupError(`--mode must be production, reference or study (got "${mode}").`, true);
+  }
+  if (mode === 'study') {
+    const n = await runStudyTrials(http, model, rig, seed, (line) => process.stdout.write(`${line}\n`));
+    process.stdout.write(
+      n === 0
+        ? `No open gauge study has a trial for ${stationName}.\n`
+        : `${n} study trials posted at ${stationName}.\n`,
+    );
+    return 0;
+  }
+  if (mode === 'reference') {
+    const readings = Math.round(numberArg('readings', values.readings, 1, 1, 1000));
+    const state = await http.qualification();
+    const serial = state.referenceSerials[0];
+    if (!serial)
+      throw new SetupError(`Station ${stationName} has no reference unit in its qualification policy.`);
+    const refModel = DEMO_MODELS.find((m) => referenceSerial(m.code) === serial) ?? model;
+    const rng = createRng(seed);
+    let failed = 0;
+    for (let i = 0; i < readings; i++) {
+      const out = await measureReferenceUnit(http, refModel, rig, serial, rng);
+      const r = out.run;
+      if (r.verdict === 'fail') failed++;
+      const dev =
+        r.deviationDeg === null
+          ? 'no certified value yet'
+          : `${r.deviationDeg >= 0 ? '+' : '−'}${Math.abs(r.deviationDeg).toFixed(3)}° (± ${r.toleranceDeg}°)`;
+      process.stdout.write(`${serial} at ${stationName}: ${r.offsetDeg.toFixed(3)}°, ${dev}: ${r.verdict}\n`);
+      if (i === readings - 1) process.stdout.write(`${out.state.sentence}\n`);
+    }
+    return failed > 0 ? 1 : 0;
+  }
   const runTag = Date.now().toString(36).toUpperCase();
   const serialPrefix = values['serial-prefix'] ?? `${model.code.replace('-', '')}-SIM-${runTag}`;
   log(
@@ -152,6 +206,8 @@ async function main(): Promise<number> {
     onError: (message) => {
       if (shown++ < 10) log(`error: ${message}`);
     },
+    onQualified: (r) =>
+      log(`station locked: measured reference unit ${r.serial} (${r.offsetDeg.toFixed(3)}°): ${r.verdict}`),
   });
   const seconds = (performance.now() - t0) / 1000;
   const latencyMs = {
@@ -165,6 +221,7 @@ async function main(): Promise<number> {
     passed: report.passed,
     failed: report.failed,
     errors: report.errors,
+    qualifications: report.qualifications,
     latencyMs,
   };
   if (values.json) process.stdout.write(`${JSON.stringify(summary)}\n`);
@@ -174,6 +231,7 @@ async function main(): Promise<number> {
         `${report.posted} measurements posted in ${seconds.toFixed(1)} s`,
         `${report.calibrated} of ${units} units calibrated: ${report.passed} passed, ${report.failed} failed (on hold)`,
         `${report.errors} errors`,
+        `${report.qualifications} reference reading${report.qualifications === 1 ? '' : 's'} taken to qualify the station`,
         `post → result: p50 ${latencyMs.p50} ms, p95 ${latencyMs.p95} ms, max ${latencyMs.max} ms`,
       ].join('\n') + '\n',
     );

@@ -46,6 +46,15 @@ export const APP_TABLE_ACCESS = {
   unit_holds: {
     update: ['released_at', 'released_by', 'released_by_name', 'disposition', 'release_reason', 'attempt_budget'],
   },
+  // Station qualification: a reference unit is certified or retired; a policy and the plant's shifts are
+  // settings; readings of reference units and study trials, and lifted locks, are records.
+  reference_units: { update: ['certified_offset_deg', 'tolerance_deg', 'certified_from', 'retired_at'] },
+  qualification_policies: { update: 'row' },
+  plant_shifts: { update: 'row', delete: true },
+  qualification_runs: { appendOnly: true },
+  qualification_overrides: { appendOnly: true },
+  gauge_studies: { update: ['status', 'finished_at'] },
+  gauge_study_measurements: { appendOnly: true },
 } as const satisfies Record<string, TableAccess>;
 
 export type TableAccess =

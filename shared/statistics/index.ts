@@ -67,3 +67,22 @@ export {
   type GroupSummary,
   type OneWayTest,
 } from './comparisons';
+export {
+  averageRangeConstants,
+  certifiedValue,
+  d2StarSingle,
+  gaugeAnova,
+  gaugeAverageRange,
+  GaugeDataError,
+  INTERACTION_POOL_P,
+  readGauge,
+  SPREAD_SIGMAS,
+  twoWayAnova,
+  type AnovaRow,
+  type GaugeAnovaResult,
+  type GaugeData,
+  type GaugeFigures,
+  type GaugeRangeResult,
+  type GaugeReading,
+  type TwoWayAnova,
+} from './gauge-study';

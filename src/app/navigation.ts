@@ -53,6 +53,12 @@ export const NAV_ITEMS: readonly NavItem[] = [
     access: { only: ['engineer', 'quality'] },
   },
   {
+    to: '/qualification',
+    label: 'Qualification',
+    summary: 'Whether each station may calibrate: reference-unit readings, bias over time, locks.',
+    access: { only: ['engineer', 'quality'] },
+  },
+  {
     to: '/admin/people',
     label: 'People',
     summary: 'Accounts, roles, badges and PINs; switch access off, reset passwords, unlock.',

@@ -59,6 +59,14 @@ export const router = createBrowserRouter([
             ],
           },
           {
+            path: 'qualification',
+            element: <RequireAccess access={['engineer', 'quality']} />,
+            children: [
+              { index: true, lazy: () => import('./routes/qualification') },
+              { path: 'studies', lazy: () => import('./routes/gauge-studies') },
+            ],
+          },
+          {
             path: 'admin',
             element: <RequireAccess access={['admin']} />,
             children: [

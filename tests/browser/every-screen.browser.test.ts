@@ -90,6 +90,13 @@ describe(
 
       const q = await freshPage(browser, undefined, true);
       await signInWithPassword(q.page, DEMO.quality.username, DEMO.quality.password);
+      // Station qualification and gauge studies, as quality reads them (the demo seed fills both).
+      await q.page.goto('/qualification');
+      await heading(q.page);
+      await expectClean(q.page, '/qualification');
+      await q.page.goto('/qualification/studies');
+      await heading(q.page);
+      await expectClean(q.page, '/qualification/studies');
       await q.page.goto('/admin/people');
       await q.page.getByTestId('not-allowed').waitFor();
       await expectClean(q.page, 'not allowed');

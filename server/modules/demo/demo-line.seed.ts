@@ -11,6 +11,7 @@ import type { Mailer } from '../mail/mail.service';
 import type { Logger } from '../../lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { watchEveryStationModel } from '../alerts/alerts.service';
+import { seedDemoQualification } from './demo-qualification.seed';
 import { models, recipes } from '../recipes/recipes.table';
 import {
   acceptMeasurement,
@@ -19,7 +20,12 @@ import {
   type LineContext,
 } from '../measurements/measurements.service';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { createStation, createStationKey, isLiveStationKey, recordHeartbeat } from '../stations/stations.service';
+import {
+  createStation,
+  createStationKey,
+  isLiveStationKey,
+  recordHeartbeat,
+} from '../stations/stations.service';
 import { stationKeys, stations } from '../stations/stations.table';
 import { importUnits } from '../units/units.service';
 import { units } from '../units/units.table';
@@ -57,6 +63,8 @@ export interface SeedOptions {
   now?: Date;
   /** Units computed at the same time (default 6). */
   concurrency?: number;
+  /** The plant time zone of the shift starts (default UTC). */
+  timeZone?: string;
   onProgress?: (done: number, total: number) => void;
   /** Called as each step ends, with the milliseconds since the seed began. */
   onPhase?: (step: string, ms: number) => void;
@@ -392,6 +400,14 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
 
   // Rigs send heartbeats while they are on: leave each one's last heartbeat where its last shift ended.
   for (const [stationId, at] of lastSeen) await recordHeartbeat(deps.db, stationId, new Date(at));
+
+  // Reference units, station policies and the qualification readings of the fortnight (and this morning).
+  await seedDemoQualification(deps, actor, catalog, principals, {
+    fortnightStart,
+    now,
+    timeZone: opts.timeZone ?? 'UTC',
+  });
+  opts.onPhase?.('station qualification', performance.now() - t0);
 
   // The fortnight was computed in-process, where no chart-watch job is queued: the watched control
   // charts take it in once here, so the drift alerts are on the overview from the first start.

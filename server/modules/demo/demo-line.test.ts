@@ -14,7 +14,10 @@ import {
   demoModel,
   demoStation,
   DEMO_HALL_BOARD_LOTS,
+  DEMO_MODELS,
 } from './demo-line.scenario';
+import { stationQualification } from '../qualification/qualification.service';
+import { studyDetail } from '../qualification/gauge-studies.service';
 import { ensureDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
 
 const DAY_MS = 86_400_000;
@@ -60,7 +63,7 @@ beforeAll(async () => {
     day: (r.computedAt.getTime() - FORTNIGHT_START) / DAY_MS,
     speedRpm: (r.result as CalibrationResult).segments[0].speedRpm,
   }));
-}, 60_000);
+}, 120_000); // the seed also certifies reference units and runs a qualification history and two gauge studies
 
 afterAll(async () => {
   await t?.close();
@@ -87,7 +90,8 @@ function residuals(): (Row & { residualDeg: number })[] {
 describe('the demo line seed', () => {
   it('imports the units with their lots and calibrates them through the line over the fortnight', async () => {
     expect(first.seeded).toBe(true);
-    expect(first.units).toBe(240);
+    // The work order's 240 units, and per model a reference unit and 10 gauge-study parts (registered apart, no lots).
+    expect(first.units).toBe(240 + DEMO_MODELS.length * 11);
     const [withLots] = await t.deps.db
       .select({ n: sql<number>`count(*)::int` })
       .from(units)
@@ -199,5 +203,42 @@ describe('the demo line seed', () => {
     expect(await authenticateStationKey(t.deps.db, a.key, new Date())).toBeNull();
     const who = await authenticateStationKey(t.deps.db, b.key, new Date());
     expect(who?.stationId).toBe(b.stationId);
+  });
+
+  it('gives every model a certified reference unit and every station a qualification history; the steady stations start qualified', async () => {
+    const refs = await t.database.pool.query(
+      'select serial, certified_offset_deg, certified_from from reference_units order by serial',
+    );
+    expect(refs.rows.map((r) => r.serial)).toEqual(['R-57B-01', 'R-86S-01']);
+    for (const r of refs.rows) expect(r.certified_from.n).toBe(5);
+    const all = await t.deps.db.select().from(stations);
+    for (const s of all) {
+      const q = await stationQualification(
+        { db: t.deps.db, pool: t.deps.pool, clock: () => NOW, timeZone: 'UTC' },
+        s.id,
+      );
+      if (s.name === DRIFTING_STATION) {
+        // The forward-only rig folds the unit's lag into its reading and its detector drifts: it fails.
+        expect(q.kind, s.name).toBe('failed');
+      } else {
+        expect(q.kind, s.name).toBe('qualified');
+      }
+    }
+    // The reference units were never calibrated as production units.
+    const cals = await t.database.pool.query(
+      `select count(*)::int as n from measurements where serial like 'R-%'`,
+    );
+    expect(cals.rows[0].n).toBe(0);
+  });
+
+  it('holds one finished gauge study per model, whose forward-only drifting station makes the system unacceptable', async () => {
+    const { rows } = await t.database.pool.query(`select id, status from gauge_studies order by name`);
+    expect(rows).toHaveLength(DEMO_MODELS.length);
+    for (const r of rows) {
+      expect(r.status).toBe('finished');
+      const d = await studyDetail(t.deps.db, r.id);
+      expect(d.results!.anova.av).toBeGreaterThan(d.results!.anova.ev);
+      expect(d.results!.reading.reading).toBe('unacceptable');
+    }
   });
 });

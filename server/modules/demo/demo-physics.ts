@@ -1,5 +1,5 @@
 import type { HallSensor, Measurement } from '../../../shared/schemas/measurement';
-import type { Rng } from '../../../shared/simulation/rng';
+import { createRng, type Rng } from '../../../shared/simulation/rng';
 import { simulateMeasurement, type SimulationSpec } from '../../../shared/simulation/simulate';
 import { DEMO_TURNS_PER_SEGMENT, type DemoModel, type DemoRig } from './demo-line.scenario';
 
@@ -127,4 +127,19 @@ export function calibrationBlockChecksum(serial: string, counts: number): string
     for (let k = 0; k < 8; k++) crc = crc & 1 ? (crc >>> 1) ^ 0xedb88320 : crc >>> 1;
   }
   return ((crc ^ 0xffffffff) >>> 0).toString(16).padStart(8, '0');
+}
+
+/**
+ * The physics of a model's reference unit: a good unit drawn from a seed named after its serial, so
+ * the demo seed and `station:sim` measure the same motor wherever they run.
+ */
+export function referenceUnitTruth(model: DemoModel, serial: string): UnitTruth {
+  let h = 0x811c9dc5;
+  for (const c of new TextEncoder().encode(serial)) h = Math.imul(h ^ c, 0x01000193) >>> 0;
+  return drawUnit(model, createRng(h), { badRate: 0 });
+}
+
+/** The serial of a model's demo reference unit ("R-57B-01" for CV-57B). */
+export function referenceSerial(modelCode: string): string {
+  return `R-${modelCode.replace(/^[A-Z]+-/, '')}-01`;
 }

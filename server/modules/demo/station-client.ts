@@ -1,8 +1,13 @@
 import type { CalibrationView } from '../../../shared/schemas/line';
 import type { Measurement } from '../../../shared/schemas/measurement';
+import type {
+  QualificationRunView,
+  QualificationState,
+  StudyNextStep,
+} from '../../../shared/schemas/qualification';
 import { createRng } from '../../../shared/simulation/rng';
 import type { DemoModel, DemoRig } from './demo-line.scenario';
-import { calibrationBlockChecksum, drawUnit, simulateRun } from './demo-physics';
+import { calibrationBlockChecksum, drawUnit, referenceUnitTruth, simulateRun } from './demo-physics';
 
 /**
  * A test station's side of the station protocol over HTTP, and a simulated station that drives it
@@ -137,6 +142,36 @@ export class StationHttp {
     }
   }
 
+  /** This station's qualification state (locked or not, which reference units qualify it). */
+  qualification() {
+    return this.call<QualificationState>('GET', '/api/station/qualification');
+  }
+
+  /** Posts a reading of a reference unit; the answer carries its verdict and the station's new state. */
+  postReading(m: Measurement) {
+    return this.call<{ run: QualificationRunView; state: QualificationState; repeated: boolean }>(
+      'POST',
+      '/api/station/qualification-readings',
+      m,
+    );
+  }
+
+  /** The next trial of each open gauge study this station (or its operator) is an appraiser of. */
+  studySteps() {
+    return this.call<{ steps: StudyNextStep[] }>('GET', '/api/station/gauge-studies/next').then(
+      (b) => b.steps,
+    );
+  }
+
+  /** Posts a gauge-study trial. */
+  postStudyReading(studyId: string, m: Measurement) {
+    return this.call<{ reading: { serial: string; trial: number; offsetDeg: number }; finished: boolean }>(
+      'POST',
+      `/api/station/gauge-studies/${encodeURIComponent(studyId)}/readings`,
+      { measurement: m },
+    );
+  }
+
   confirm(measurementId: string, body: { writtenCounts: number; readBackCounts: number; checksum?: string }) {
     return this.call<{ matches: boolean }>(
       'POST',
@@ -164,6 +199,8 @@ export interface StationSimOptions {
   /** Stop starting new posts once this many have been made by all simulators sharing `budget`. */
   budget?: { left: number };
   onError?: (message: string) => void;
+  /** Told about each reference reading the station takes when the server says it must qualify first. */
+  onQualified?: (run: QualificationRunView) => void;
 }
 
 export interface StationSimReport {
@@ -177,6 +214,26 @@ export interface StationSimReport {
   errors: number;
   /** Post → result times, ms, in the order they completed. */
   latenciesMs: number[];
+  /** Reference readings taken because the station was locked (overdue or failed). */
+  qualifications: number;
+}
+
+/**
+ * Measures a reference unit once at a station, as a rig does when the operator scans it: the unit's
+ * physics comes from its serial (the same motor the demo seed certified), the rig's from `rig`.
+ */
+export async function measureReferenceUnit(
+  http: StationHttp,
+  model: DemoModel,
+  rig: DemoRig,
+  serial: string,
+  rng: ReturnType<typeof createRng>,
+) {
+  const m = simulateRun(model, referenceUnitTruth(model, serial), { rig, attempt: 2 }, rng, {
+    measurementId: crypto.randomUUID(),
+    serial,
+  });
+  return http.postReading(m);
 }
 
 /** A pacer shared by all posts of a simulator: at most `rate` starts per second. */
@@ -200,8 +257,35 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
     failed: 0,
     errors: 0,
     latenciesMs: [],
+    qualifications: 0,
   };
   const pace = pacer(o.ratePerSecond);
+  // A locked station (423) measures its reference unit once, however many units were waiting, then goes on.
+  const qualifyRng = createRng((o.seed * 31 + 17) >>> 0);
+  let qualifying: Promise<boolean> | null = null;
+  const qualify = () =>
+    (qualifying ??= (async () => {
+      try {
+        const state = await o.http.qualification();
+        const serial = state.referenceSerials[0];
+        if (!serial) return false;
+        const out = await measureReferenceUnit(o.http, o.model, o.rig, serial, qualifyRng);
+        report.qualifications++;
+        o.onQualified?.(out.run);
+        return !out.state.locked;
+      } finally {
+        qualifying = null;
+      }
+    })());
+  const postUnlocked = async (m: Measurement) => {
+    for (let tries = 0; ; tries++) {
+      try {
+        return await o.http.post(m);
+      } catch (e) {
+        if (!(e instanceof StationHttpError && e.status === 423) || tries >= 2 || !(await qualify())) throw e;
+      }
+    }
+  };
   const unitRng = createRng(o.seed);
   const truths = Array.from({ length: o.units }, () =>
     drawUnit(o.model, unitRng, { badRate: o.badRate ?? 0.03 }),
@@ -224,7 +308,7 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
       });
       try {
         const t0 = performance.now();
-        const accepted = await o.http.post(m);
+        const accepted = await postUnlocked(m);
         report.posted++;
         const waitMs = o.resultTimeoutMs ?? 30_000;
         const cal = await o.http.result(accepted.resultUrl, waitMs);
@@ -267,4 +351,32 @@ export function percentile(values: number[], p: number): number {
   if (values.length === 0) return 0;
   const sorted = [...values].sort((a, b) => a - b);
   return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))];
+}
+
+/**
+ * Works through this station's share of every open gauge study, step by step in the planned order: each
+ * part's physics comes from its serial (as for reference units), the rig's from `rig`. Returns the trials posted.
+ */
+export async function runStudyTrials(
+  http: StationHttp,
+  model: DemoModel,
+  rig: DemoRig,
+  seed: number,
+  onTrial?: (line: string) => void,
+): Promise<number> {
+  const rng = createRng(seed);
+  let posted = 0;
+  for (;;) {
+    const step = (await http.studySteps()).find((s) => s.serial !== null);
+    if (!step) return posted;
+    const m = simulateRun(model, referenceUnitTruth(model, step.serial!), { rig, attempt: 2 }, rng, {
+      measurementId: crypto.randomUUID(),
+      serial: step.serial!,
+    });
+    const out = await http.postStudyReading(step.studyId, m);
+    posted++;
+    onTrial?.(
+      `${step.studyName}: ${out.reading.serial} trial ${out.reading.trial} of ${step.trials}: ${out.reading.offsetDeg.toFixed(3)}°${out.finished ? ' (study finished)' : ''}`,
+    );
+  }
 }

@@ -114,3 +114,18 @@ export async function storedMeasurement(db: DbOrTx, measurementId: string) {
     .where(eq(measurements.measurementId, measurementId));
   return row;
 }
+
+/** Production measurements a station has posted since an instant (qualification counts units by this). */
+export async function countStationMeasurementsSince(
+  pool: pg.Pool,
+  stationId: string,
+  since: Date,
+): Promise<number> {
+  const { rows } = await pool.query<{ n: number }>(
+    prepared('select count(*)::int as n from measurements where station_id = $1 and received_at > $2', [
+      stationId,
+      since,
+    ]),
+  );
+  return rows[0].n;
+}

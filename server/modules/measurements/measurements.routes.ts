@@ -9,6 +9,7 @@ import {
 import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/measurement';
 import { serialSchema } from '../../../shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
+import { assertProductionAllowed } from '../qualification/qualification.service';
 import { notifyLineEvent } from '../events/event-hub';
 import multer from 'multer';
 import { AppError } from '../../lib/errors';
@@ -38,6 +39,8 @@ const idParams = z.object({ measurementId: measurementIdSchema });
 /** The station protocol: what a test station's software calls with its own key. */
 export function measurementsRoutes(deps: AppDeps) {
   const ctx: LineContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
+  // A station whose qualification is overdue or failed is refused (423) before anything is stored.
+  const gate = { db: deps.db, pool: deps.pool, clock: deps.clock, timeZone: deps.env.PLANT_TIME_ZONE };
   return [
     route({
       method: 'post',
@@ -46,6 +49,11 @@ export function measurementsRoutes(deps: AppDeps) {
       summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
       body: measurementSchema,
       handler: async (req, res) => {
+        await assertProductionAllowed(
+          gate,
+          req.station!.stationId,
+          measurementSchema.shape.serial.safeParse(req.body?.serial).data,
+        );
         const accepted = await acceptMeasurement(ctx, req.station!, req.body, { raw: req.rawBody });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
@@ -69,6 +77,7 @@ export function measurementsRoutes(deps: AppDeps) {
       before: [captureUpload.single('capture')],
       handler: async (req, res) => {
         const fields = captureFields.parse(req.body ?? {});
+        await assertProductionAllowed(gate, req.station!.stationId, fields.serial);
         if (!req.file)
           throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
         // The bytes are parsed as they are; the text is made only for a capture worth storing.

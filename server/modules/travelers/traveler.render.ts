@@ -369,7 +369,7 @@ class Page {
 
 // Marks that say the state by shape as well as by words: a ring with a tick for good, a filled square
 // with a cross for bad, an open ring for pending. They survive monochrome printers and colour blindness.
-function markGood(doc: Doc, cx: number, cy: number, r: number, color = INK): void {
+export function markGood(doc: Doc, cx: number, cy: number, r: number, color = INK): void {
   doc
     .save()
     .lineWidth(Math.max(1, r / 5))
@@ -387,7 +387,7 @@ function markGood(doc: Doc, cx: number, cy: number, r: number, color = INK): voi
     .restore();
 }
 
-function markBad(doc: Doc, cx: number, cy: number, r: number, ink = INK, paper = '#ffffff'): void {
+export function markBad(doc: Doc, cx: number, cy: number, r: number, ink = INK, paper = '#ffffff'): void {
   doc
     .save()
     .rect(cx - r, cy - r, 2 * r, 2 * r)

@@ -10,6 +10,8 @@ import {
 } from '../../features/line/components/station-picker';
 import { StationScreen } from '../../features/line/components/station-screen';
 import { OpenAlerts } from '../../features/alerts/components/open-alerts';
+import { QualificationBanner } from '../../features/qualification/components/qualification-banner';
+import { StudyGuide } from '../../features/qualification/components/study-guide';
 
 /** /station picks the panel's station (or goes to the remembered one); /station/:id runs it. */
 export function Component() {
@@ -60,6 +62,12 @@ export function Component() {
       <StationScreen
         key={station.id}
         station={station}
+        banner={
+          <>
+            <QualificationBanner stationId={station.id} />
+            <StudyGuide stationId={station.id} />
+          </>
+        }
         healthExtra={
           <section aria-labelledby="station-alerts-title" className="flex flex-col gap-2">
             <h2 id="station-alerts-title" className="text-lg font-semibold text-graphite-100">

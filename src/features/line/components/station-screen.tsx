@@ -74,10 +74,13 @@ function travelerState(detail: UnitDetail | null | undefined) {
 export function StationScreen({
   station,
   healthExtra,
+  banner,
 }: {
   station: StationView;
   /** Shown under the station's health (the route puts the station's open chart alerts there). */
   healthExtra?: ReactNode;
+  /** Shown above the scan field (the route puts the station's qualification state there). */
+  banner?: ReactNode;
 }) {
   const queryClient = useQueryClient();
   const scanRef = useRef<HTMLInputElement>(null);
@@ -253,6 +256,7 @@ export function StationScreen({
       ) : null}
       <div className="grid items-start gap-5 lg:grid-cols-[minmax(0,1fr)_21rem] 2xl:grid-cols-[minmax(0,1fr)_27rem]">
         <div className="flex min-w-0 flex-col gap-4">
+          {banner}
           <ScanField inputRef={scanRef} onScan={show} onRefused={refuse} busy={unit.isFetching} />
           {elsewhere ? (
             <div

@@ -1,0 +1,212 @@
+import { z } from 'zod';
+import type { GaugeAnovaResult, GaugeRangeResult, GaugeReading } from '../statistics/gauge-study';
+import { measurementSchema } from './measurement';
+import { serialSchema } from './serial';
+
+const offsetDeg = z
+  .number()
+  .min(-180, 'An offset is between −180° and 180°.')
+  .max(180, 'An offset is between −180° and 180°.');
+const toleranceDeg = z
+  .number()
+  .gt(0, 'The tolerance must be more than 0°.')
+  .max(10, 'A tolerance above ± 10° would not qualify anything.');
+
+export const createReferenceUnitSchema = z.object({
+  serial: serialSchema,
+  /** Omit to certify the unit later from repeated readings at a station. */
+  certifiedOffsetDeg: offsetDeg.optional(),
+  toleranceDeg,
+});
+export type CreateReferenceUnit = z.infer<typeof createReferenceUnitSchema>;
+
+export const certifyReferenceUnitSchema = z.object({
+  stationId: z.uuid('Choose a station.'),
+  /** The latest this many readings of the unit at that station give the certified value. */
+  readings: z.number().int().min(2, 'Use at least 2 readings.').max(100, 'Use at most 100 readings.'),
+});
+
+export const referenceUnitViewSchema = z.object({
+  id: z.string(),
+  serial: z.string(),
+  unitId: z.string(),
+  modelId: z.string(),
+  modelCode: z.string(),
+  certifiedOffsetDeg: z.number().nullable(),
+  toleranceDeg: z.number(),
+  certifiedFrom: z
+    .object({ stationId: z.string(), n: z.number(), sdDeg: z.number(), expandedUncertaintyDeg: z.number() })
+    .nullable(),
+  retiredAt: z.string().nullable(),
+});
+export type ReferenceUnitView = z.infer<typeof referenceUnitViewSchema>;
+
+export const qualificationPolicySchema = z
+  .object({
+    atShiftStart: z.boolean(),
+    everyHours: z.number().gt(0, 'Hours must be more than 0.').max(168, 'At most a week (168 h).').nullable(),
+    everyUnits: z.number().int().min(1, 'At least 1 unit.').max(100000).nullable(),
+    referenceUnitIds: z.array(z.uuid()).min(1, 'Choose at least one reference unit.'),
+  })
+  .refine((p) => p.atShiftStart || p.everyHours !== null || p.everyUnits !== null, {
+    message: 'Say when the station must be qualified: at shift start, every N hours or every N units.',
+  });
+export type QualificationPolicy = z.infer<typeof qualificationPolicySchema>;
+
+export const plantShiftsSchema = z.object({
+  shifts: z
+    .array(
+      z.object({
+        name: z.string().trim().min(1, 'Name the shift.').max(40),
+        /** "HH:MM", local plant time. */
+        startsAt: z.string().regex(/^([01]\d|2[0-3]):[0-5]\d$/, 'Give the start as HH:MM, e.g. 06:00.'),
+      }),
+    )
+    .max(12),
+});
+export type PlantShifts = z.infer<typeof plantShiftsSchema>;
+
+export const overrideSchema = z.object({
+  reason: z.string().trim().min(5, 'Give a reason of at least 5 characters.').max(500),
+  minutes: z.number().int().min(5, 'At least 5 minutes.').max(480, 'At most 8 hours (480 minutes).'),
+});
+
+export const qualificationKindSchema = z.enum([
+  'not_required',
+  'qualified',
+  'due_soon',
+  'overdue',
+  'failed',
+  'override',
+]);
+
+export const qualificationStateSchema = z.object({
+  stationId: z.string(),
+  kind: qualificationKindSchema,
+  locked: z.boolean(),
+  validUntil: z.string().nullable(),
+  unitsLeft: z.number().nullable(),
+  sentence: z.string(),
+  referenceSerials: z.array(z.string()),
+  timeZone: z.string(),
+  lastRun: z
+    .object({
+      id: z.string(),
+      serial: z.string(),
+      verdict: z.enum(['pass', 'fail', 'recorded']),
+      offsetDeg: z.number(),
+      deviationDeg: z.number().nullable(),
+      toleranceDeg: z.number(),
+      measuredAt: z.string(),
+    })
+    .nullable(),
+});
+export type QualificationState = z.infer<typeof qualificationStateSchema>;
+
+export const qualificationRunViewSchema = z.object({
+  id: z.string(),
+  measurementId: z.string(),
+  stationId: z.string(),
+  stationName: z.string(),
+  serial: z.string(),
+  verdict: z.enum(['pass', 'fail', 'recorded']),
+  offsetDeg: z.number(),
+  certifiedOffsetDeg: z.number().nullable(),
+  toleranceDeg: z.number(),
+  deviationDeg: z.number().nullable(),
+  measuredAt: z.string(),
+});
+export type QualificationRunView = z.infer<typeof qualificationRunViewSchema>;
+
+export const biasQuerySchema = z.object({ limit: z.coerce.number().int().min(1).max(1000).default(200) });
+
+export const gaugeStudyCreateSchema = z.object({
+  name: z.string().trim().min(3, 'Name the study (at least 3 characters).').max(80),
+  modelId: z.uuid('Choose a model.'),
+  appraiserKind: z.enum(['station', 'operator']),
+  /** Station ids (appraiserKind station) or operator user ids (appraiserKind operator). */
+  appraiserIds: z.array(z.uuid()).min(2, 'A study needs at least 2 appraisers.').max(10),
+  /** The station where operators measure (appraiserKind operator). */
+  stationId: z.uuid().optional(),
+  partSerials: z.array(serialSchema).min(2, 'A study needs at least 2 parts.').max(25, 'At most 25 parts.'),
+  trials: z.number().int().min(2, 'At least 2 trials.').max(10).default(3),
+  toleranceDeg: z.number().gt(0, 'The tolerance must be more than 0°.').max(360),
+  /** Seed of the randomised run order (so a study can be planned again identically); random when absent. */
+  seed: z.number().int().optional(),
+});
+export type GaugeStudyCreate = z.infer<typeof gaugeStudyCreateSchema>;
+
+/** A station's reading of a reference unit or a study part: the ordinary measurement contract. */
+export const qualificationMeasurementSchema = measurementSchema;
+
+export const studyMeasurementSchema = z.object({
+  measurement: measurementSchema,
+  /** Required when this part and trial was already measured (a spoiled trial measured again). */
+  repeatReason: z.string().trim().min(5, 'Give a reason of at least 5 characters.').max(300).optional(),
+  /** Which trial this is; the next one due for this part and appraiser when absent. */
+  trial: z.number().int().min(1).optional(),
+});
+
+/** A gauge study as the server shows it (results once every trial is in). */
+export interface GaugeStudyDetail {
+  id: string;
+  name: string;
+  modelId: string;
+  modelCode: string;
+  appraiserKind: 'station' | 'operator';
+  appraisers: { id: string; name: string }[];
+  stationId: string | null;
+  parts: string[];
+  trials: number;
+  toleranceDeg: number;
+  status: 'open' | 'finished';
+  createdAt: string;
+  finishedAt: string | null;
+  done: number;
+  total: number;
+  readings: {
+    id: string;
+    part: number;
+    appraiser: number;
+    trial: number;
+    serial: string;
+    offsetDeg: number;
+    repeatReason: string | null;
+    measuredAt: string;
+  }[];
+  results: {
+    anova: GaugeAnovaResult;
+    averageRange: GaugeRangeResult;
+    reading: { reading: GaugeReading; sentence: string };
+    readingOfTolerance: { reading: GaugeReading; sentence: string } | null;
+    data: number[][][];
+  } | null;
+}
+
+export interface GaugeStudySummary {
+  id: string;
+  name: string;
+  modelId: string;
+  appraiserKind: 'station' | 'operator';
+  parts: number;
+  appraisers: number;
+  trials: number;
+  toleranceDeg: number;
+  status: 'open' | 'finished';
+  createdAt: string;
+  finishedAt: string | null;
+}
+
+export interface StudyNextStep {
+  studyId: string;
+  studyName: string;
+  serial: string | null;
+  part: number | null;
+  trial: number | null;
+  trials: number;
+  doneByAppraiser: number;
+  totalByAppraiser: number;
+  done: number;
+  total: number;
+  appraiserLabel: string;
+}

@@ -1,0 +1,308 @@
+import { useState, type FormEvent } from 'react';
+import type { GaugeFigures } from '../../../../shared/statistics/gauge-study';
+import type { GaugeStudyDetail } from '../../../../shared/schemas/qualification';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { CheckboxField, SelectField, TextAreaField, TextField } from '../../../components/ui/field';
+import { Panel } from '../../../components/ui/panel';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { useCreateStudy, useModelChoices, useStudies, useStudy } from '../api/qualification';
+import { StudyCharts } from './study-charts';
+
+type StationChoice = { id: string; name: string };
+const pct = (v: number | undefined) => (v === undefined ? '—' : `${v.toFixed(1)} %`);
+const deg = (v: number) => `${v.toFixed(4)}°`;
+
+function FiguresTable({ caption, g }: { caption: string; g: GaugeFigures }) {
+  const rows: [string, number, number | undefined, number | undefined][] = [
+    ['Repeatability (EV)', g.ev, g.percentOfTv.ev, g.percentOfTolerance?.ev],
+    ['Reproducibility (AV)', g.av, g.percentOfTv.av, g.percentOfTolerance?.av],
+    ['Appraiser × part interaction', g.interaction, g.percentOfTv.interaction, undefined],
+    ['Gauge R&R (GRR)', g.grr, g.percentOfTv.grr, g.percentOfTolerance?.grr],
+    ['Part variation (PV)', g.pv, g.percentOfTv.pv, g.percentOfTolerance?.pv],
+    ['Total variation (TV)', g.tv, 100, undefined],
+  ];
+  return (
+    <TableFrame caption={caption}>
+      <thead>
+        <tr>
+          <Th>Source</Th>
+          <Th>Standard deviation</Th>
+          <Th>% of total variation</Th>
+          <Th>% of tolerance (6σ)</Th>
+        </tr>
+      </thead>
+      <tbody>
+        {rows.map(([name, sd, tv, tol]) => (
+          <tr key={name}>
+            <Td className={name.startsWith('Gauge') ? 'font-semibold' : ''}>{name}</Td>
+            <Td>{deg(sd)}</Td>
+            <Td>{pct(tv)}</Td>
+            <Td>{pct(tol)}</Td>
+          </tr>
+        ))}
+        <tr>
+          <Td>Number of distinct categories</Td>
+          <Td>{Number.isFinite(g.ndc) ? g.ndc : 'many'}</Td>
+          <Td />
+          <Td />
+        </tr>
+      </tbody>
+    </TableFrame>
+  );
+}
+
+function StudyResults({ study }: { study: GaugeStudyDetail }) {
+  const r = study.results!;
+  const tone =
+    r.reading.reading === 'acceptable' ? 'ok' : r.reading.reading === 'marginal' ? 'warn' : 'fault';
+  const word =
+    r.reading.reading === 'acceptable'
+      ? 'Acceptable'
+      : r.reading.reading === 'marginal'
+        ? 'May be acceptable'
+        : 'Not acceptable';
+  return (
+    <div className="flex flex-col gap-5">
+      <div className="flex flex-col gap-2" data-testid="study-reading">
+        <div>
+          <StatusChip tone={tone}>{word}</StatusChip>
+        </div>
+        <p className="text-lg text-graphite-50">{r.reading.sentence}</p>
+        {r.readingOfTolerance ? (
+          <p className="text-graphite-200">
+            Against the tolerance of {study.toleranceDeg}°: {r.readingOfTolerance.sentence}
+          </p>
+        ) : null}
+        <p className="text-sm text-graphite-300">
+          Reading: under 10 % acceptable, 10–30 % may be acceptable depending on the use, over 30 % not; at
+          least 5 distinct categories (AIAG MSA manual, 4th edition, as commonly applied).
+        </p>
+      </div>
+      <h3 className="text-lg font-semibold text-graphite-100">ANOVA method</h3>
+      <FiguresTable caption="Results by the ANOVA method" g={r.anova} />
+      <TableFrame caption="ANOVA table">
+        <thead>
+          <tr>
+            <Th>Source</Th>
+            <Th>Degrees of freedom</Th>
+            <Th>Sum of squares (°²)</Th>
+            <Th>Mean square (°²)</Th>
+            <Th>F</Th>
+            <Th>p</Th>
+          </tr>
+        </thead>
+        <tbody>
+          {r.anova.table.map((row) => (
+            <tr key={row.source}>
+              <Td>
+                {row.source === 'repeatability'
+                  ? r.anova.interactionPooled
+                    ? 'Repeatability (interaction pooled)'
+                    : 'Repeatability'
+                  : row.source[0].toUpperCase() + row.source.slice(1)}
+              </Td>
+              <Td>{row.df}</Td>
+              <Td>{row.ss.toFixed(5)}</Td>
+              <Td>{row.ms === undefined ? '' : row.ms.toFixed(5)}</Td>
+              <Td>{row.f === undefined ? '' : row.f.toFixed(2)}</Td>
+              <Td>{row.p === undefined ? '' : row.p < 0.0001 ? '< 0.0001' : row.p.toFixed(4)}</Td>
+            </tr>
+          ))}
+        </tbody>
+      </TableFrame>
+      <p className="text-graphite-300">
+        The interaction was {r.anova.interactionPooled ? 'pooled into repeatability' : 'kept'} (p ={' '}
+        {r.anova.interactionP.toFixed(3)}; it is pooled above 0.25).
+      </p>
+      <h3 className="text-lg font-semibold text-graphite-100">Average-and-range method</h3>
+      <FiguresTable caption="Results by the average-and-range method" g={r.averageRange} />
+      <p className="text-graphite-300">
+        K1 = {r.averageRange.k1.toFixed(4)}, K2 = {r.averageRange.k2.toFixed(4)}, K3 ={' '}
+        {r.averageRange.k3.toFixed(4)}; mean range {deg(r.averageRange.averageRange)}, appraiser means differ
+        by {deg(r.averageRange.appraiserDiff)}.
+      </p>
+      <StudyCharts study={study} />
+    </div>
+  );
+}
+
+function StudyDetail({ id }: { id: string }) {
+  const q = useStudy(id);
+  if (q.isPending) return <Loading />;
+  if (q.isError) return <Alert tone="fault">{q.error.message}</Alert>;
+  const s = q.data;
+  return (
+    <Panel title={s.name} titleId="study-title">
+      <p className="mb-4 text-graphite-200" data-testid="study-design">
+        {s.modelCode} · {s.parts.length} parts · {s.appraisers.length}{' '}
+        {s.appraiserKind === 'station' ? 'stations' : 'operators'} (
+        {s.appraisers.map((a) => a.name).join(', ')}) · {s.trials} trials · tolerance {s.toleranceDeg}° ·{' '}
+        {s.status === 'finished' ? `finished, ${s.done} readings` : `${s.done} of ${s.total} readings taken`}
+        {s.readings.some((r) => r.repeatReason)
+          ? ` · ${s.readings.filter((r) => r.repeatReason).length} spoiled trial(s) measured again`
+          : ''}
+      </p>
+      <p className="mb-4">
+        <a
+          href={`/api/gauge-studies/${encodeURIComponent(s.id)}/report.pdf`}
+          target="_blank"
+          rel="noreferrer"
+          className="inline-flex min-h-target items-center font-semibold"
+        >
+          Open the study report (PDF)
+        </a>
+      </p>
+      {s.results ? (
+        <StudyResults study={s} />
+      ) : (
+        <Alert>The results appear when every trial is measured.</Alert>
+      )}
+    </Panel>
+  );
+}
+
+function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCreated: (id: string) => void }) {
+  const models = useModelChoices();
+  const create = useCreateStudy();
+  const [name, setName] = useState('');
+  const [modelId, setModelId] = useState('');
+  const [chosen, setChosen] = useState<string[]>([]);
+  const [parts, setParts] = useState('');
+  const [trials, setTrials] = useState('3');
+  const [tolerance, setTolerance] = useState('2');
+  const submit = (e: FormEvent) => {
+    e.preventDefault();
+    create.mutate(
+      {
+        name,
+        modelId: modelId || models.data?.[0]?.id || '',
+        appraiserKind: 'station',
+        appraiserIds: chosen,
+        partSerials: parts.split(/[\s,]+/).filter(Boolean),
+        trials: Number(trials),
+        toleranceDeg: Number(tolerance),
+      },
+      { onSuccess: (s) => onCreated(s.id) },
+    );
+  };
+  return (
+    <form onSubmit={submit} className="grid gap-3 md:grid-cols-2" aria-label="Design a gauge study">
+      <TextField label="Name" value={name} onChange={(e) => setName(e.target.value)} required minLength={3} />
+      <SelectField
+        label="Model"
+        value={modelId || models.data?.[0]?.id || ''}
+        onChange={(e) => setModelId(e.target.value)}
+        options={(models.data ?? []).map((m) => ({ value: m.id, label: m.code }))}
+      />
+      <fieldset className="flex flex-col gap-1 md:col-span-2">
+        <legend className="mb-1 font-semibold text-graphite-100">Appraisers (stations; 3 is usual)</legend>
+        <div className="flex flex-wrap gap-4">
+          {stations.map((s) => (
+            <CheckboxField
+              key={s.id}
+              label={s.name}
+              checked={chosen.includes(s.id)}
+              onChange={(e) =>
+                setChosen(e.target.checked ? [...chosen, s.id] : chosen.filter((c) => c !== s.id))
+              }
+            />
+          ))}
+        </div>
+      </fieldset>
+      <div className="md:col-span-2">
+        <TextAreaField
+          label="Part serials (10 is usual; spread over the process), separated by spaces or new lines"
+          value={parts}
+          onChange={(e) => setParts(e.target.value)}
+          rows={3}
+          required
+        />
+      </div>
+      <TextField
+        label="Trials per part and appraiser"
+        type="number"
+        min={2}
+        max={10}
+        value={trials}
+        onChange={(e) => setTrials(e.target.value)}
+      />
+      <TextField
+        label="Tolerance, upper minus lower limit (°)"
+        type="number"
+        step="0.01"
+        min="0.01"
+        value={tolerance}
+        onChange={(e) => setTolerance(e.target.value)}
+      />
+      {create.error ? (
+        <div className="md:col-span-2">
+          <Alert tone="fault">{create.error.message}</Alert>
+        </div>
+      ) : null}
+      <div>
+        <Button type="submit" variant="primary" busy={create.isPending}>
+          Plan the study
+        </Button>
+      </div>
+    </form>
+  );
+}
+
+/** Gauge R&R studies: the list, a study's results and charts, and (for engineers) designing a new one. */
+export function GaugeStudies({ stations, canEdit }: { stations: StationChoice[]; canEdit: boolean }) {
+  const list = useStudies();
+  const [selected, setSelected] = useState<string | null>(null);
+  const current = selected ?? list.data?.[0]?.id ?? null;
+  return (
+    <div className="flex flex-col gap-5">
+      <Panel title="Studies" titleId="studies-title">
+        {list.isPending ? <Loading /> : null}
+        {list.data?.length === 0 ? <p className="text-graphite-300">No studies yet.</p> : null}
+        {list.data?.length ? (
+          <TableFrame caption="Gauge studies, newest first">
+            <thead>
+              <tr>
+                <Th>Study</Th>
+                <Th>Design</Th>
+                <Th>State</Th>
+              </tr>
+            </thead>
+            <tbody>
+              {list.data.map((s) => (
+                <tr key={s.id}>
+                  <Td>
+                    <Button variant="quiet" onClick={() => setSelected(s.id)} aria-pressed={s.id === current}>
+                      {s.name}
+                    </Button>
+                  </Td>
+                  <Td>
+                    {s.parts} parts × {s.appraisers}{' '}
+                    {s.appraiserKind === 'station' ? 'stations' : 'operators'} × {s.trials} trials, tolerance{' '}
+                    {s.toleranceDeg}°
+                  </Td>
+                  <Td>
+                    <StatusChip tone={s.status === 'finished' ? 'ok' : 'accent'}>
+                      {s.status === 'finished' ? 'Finished' : 'Running'}
+                    </StatusChip>
+                  </Td>
+                </tr>
+              ))}
+            </tbody>
+          </TableFrame>
+        ) : null}
+      </Panel>
+      {current ? <StudyDetail key={current} id={current} /> : null}
+      {canEdit ? (
+        <Panel title="Plan a new study" titleId="design-title">
+          <p className="mb-3 text-graphite-300">
+            Every appraiser measures every part in each trial, in a random order the stations show step by
+            step. Study readings never change the units and print no traveler.
+          </p>
+          <DesignForm stations={stations} onCreated={setSelected} />
+        </Panel>
+      ) : null}
+    </div>
+  );
+}
