@@ -5,6 +5,7 @@ import type { Access } from '../../../shared/schemas/roles';
 import {
   approveSchema,
   createDraftSchema,
+  discardDraftSchema,
   modelInputSchema,
   saveDraftSchema,
   sendBackSchema,
@@ -18,6 +19,7 @@ import {
   createDraft,
   createModel,
   diffVersions,
+  discardDraft,
   getVersion,
   listModels,
   modelDetail,
@@ -150,6 +152,17 @@ export function recipesRoutes(deps: AppDeps) {
       handler: async (req, res) => {
         const { id } = recipeParams.parse(req.params);
         res.json(await submitDraft(ctx, req.user!, id, submitDraftSchema.parse(req.body)));
+      },
+    }),
+    route({
+      method: 'post',
+      path: '/api/recipes/:id/discard',
+      access: ENGINEERS_ONLY,
+      summary: 'Discard a draft with a reason (audited; the record stays, it leaves the working list)',
+      body: discardDraftSchema,
+      handler: async (req, res) => {
+        const { id } = recipeParams.parse(req.params);
+        res.json(await discardDraft(ctx, req.user!, id, discardDraftSchema.parse(req.body)));
       },
     }),
     route({
