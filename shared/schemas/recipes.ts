@@ -147,6 +147,26 @@ export interface WhatIfChangedUnit {
   after: { verdict: string; offsetDeg: number | null };
   /** Check codes whose outcome differs between the two versions. */
   checks: string[];
+  /** The unit's component lots (absent in runs stored before lots were recorded). */
+  lots?: { hallBoard: string | null; magnetRing: string | null; stator: string | null };
+}
+
+export type ComponentLotKind = 'hallBoard' | 'magnetRing' | 'stator';
+
+export const COMPONENT_LOT_LABELS: Record<ComponentLotKind, string> = {
+  hallBoard: 'Hall-board lot',
+  magnetRing: 'Magnet-ring lot',
+  stator: 'Stator lot',
+};
+
+/** One component lot among the replayed units: how many were replayed and how many would change. */
+export interface WhatIfLotGroup {
+  /** The lot code; null for units registered without one. */
+  lot: string | null;
+  replayed: number;
+  changed: number;
+  passToFail: number;
+  failToPass: number;
 }
 
 export interface WhatIfSummary {
@@ -160,6 +180,11 @@ export interface WhatIfSummary {
   histogram: { draft: OffsetHistogram; inForce: OffsetHistogram };
   /** Changed units, at most 500 listed (the counts above are complete). */
   changed: WhatIfChangedUnit[];
+  /**
+   * Changed units grouped by component lot, for each kind of lot: lots with at least one change, most
+   * changes first (at most 50 per kind; counts are complete). Absent in runs stored before lots were recorded.
+   */
+  lots?: Record<ComponentLotKind, WhatIfLotGroup[]>;
   measurementsPerSecond: number;
 }
 

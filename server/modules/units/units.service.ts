@@ -287,3 +287,24 @@ export async function serialsByIds(db: DbOrTx, ids: string[]): Promise<Map<strin
     .where(inArray(units.id, ids));
   return new Map(rows.map((r) => [r.id, r.serial]));
 }
+
+export interface ComponentLots {
+  hallBoard: string | null;
+  magnetRing: string | null;
+  stator: string | null;
+}
+
+/** The component lots (hall board, magnet ring, stator) of the given units, by unit id. */
+export async function componentLotsByIds(db: DbOrTx, ids: string[]): Promise<Map<string, ComponentLots>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({
+      id: units.id,
+      hallBoard: units.hallBoardLot,
+      magnetRing: units.magnetRingLot,
+      stator: units.statorLot,
+    })
+    .from(units)
+    .where(inArray(units.id, ids));
+  return new Map(rows.map(({ id, ...lots }) => [id, lots]));
+}
