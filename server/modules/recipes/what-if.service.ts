@@ -19,7 +19,8 @@ import {
 } from '../../../shared/schemas/recipes';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import { runEngine } from '../measurements/measurements.service';
-import { replayBatch, replayMeasurementIds, type ReplayRow } from '../measurements/measurements.repository';
+import { openReplayStream, replayMeasurement, type ReplayRow } from '../measurements/measurements.repository';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import { listUsers } from '../users/users.repository';
 import { componentLotsByIds, type ComponentLots } from '../units/units.service';
 import { recipeErrors } from './recipes.errors';
@@ -202,8 +203,8 @@ function outcomeOf(result: ReturnType<typeof runEngine>['result']): Outcome {
 }
 
 /** What one version says of one stored measurement: the same engine call as a recomputation. */
-export function replayOne(row: ReplayRow, recipe: RecipeRecord): Outcome {
-  return outcomeOf(runEngine({ ...row }, recipe).result);
+export function replayOne(row: ReplayRow, payload: Measurement, recipe: RecipeRecord): Outcome {
+  return outcomeOf(runEngine({ ...row, payload }, recipe).result);
 }
 
 function histogram(values: number[], fromDeg: number, toDeg: number): OffsetHistogram {
@@ -237,11 +238,19 @@ export async function runWhatIf(
     repo.findRecipeRow(ctx.db, run.baselineRecipeId),
   ]);
   const t0 = performance.now();
-  const ids = await replayMeasurementIds(ctx.pool, { modelId: run.modelId, ...run.filters });
+  const stream = await openReplayStream(
+    ctx.pool,
+    { modelId: run.modelId, ...run.filters },
+    baseline!.id,
+    ENGINE_VERSION,
+    WHAT_IF_BATCH,
+  );
+  const total = stream.total;
+  let processed = 0;
   let current = (await repo.updateWhatIfRun(ctx.db, runId, {
     status: 'running',
     startedAt: ctx.clock(),
-    total: ids.length,
+    total,
     processed: 0,
   }))!;
   await progress(ctx, current);
@@ -256,77 +265,77 @@ export async function runWhatIf(
   let unusable = 0;
   let changedCount = 0;
 
-  // The next batch is read while this one is replayed: the database and the engine work side by side.
-  // Each batch comes with its units' component lots, read from the units module.
-  const read = (i: number) =>
-    i < ids.length
-      ? replayBatch(ctx.pool, ids.slice(i, i + WHAT_IF_BATCH), baseline!.id, ENGINE_VERSION).then(
-          async (rows) => ({ rows, lots: await componentLotsByIds(ctx.db, rows.map((r) => r.unitId)) }),
-        )
-      : null;
-  let next = read(0);
-  for (let i = 0; i < ids.length; i += WHAT_IF_BATCH) {
-    if ((await repo.findWhatIfRun(ctx.db, runId))?.cancelRequested) {
-      next?.catch(() => {}); // the batch read ahead is not needed any more
-      current = (await repo.updateWhatIfRun(ctx.db, runId, {
-        status: 'cancelled',
-        finishedAt: ctx.clock(),
-      }))!;
-      await progress(ctx, current);
-      return current;
-    }
-    const { rows, lots } = (await next)!;
-    next = read(i + WHAT_IF_BATCH);
-    for (const row of rows) {
-      const unitLots = lots.get(row.unitId) ?? NO_LOTS;
-      const after = replayOne(row, recipe!);
-      const before: Outcome = row.baseline
-        ? {
-            verdict: row.baseline.verdict,
-            offsetDeg: row.baseline.offsetDeg,
-            failed: new Set(row.baseline.failedChecks),
-          }
-        : recipe!.id === baseline!.id
-          ? after
-          : replayOne(row, baseline!);
-      if (after.offsetDeg !== null) draftOffsets.push(after.offsetDeg);
-      if (before.offsetDeg !== null) forceOffsets.push(before.offsetDeg);
-      if (after.verdict === 'unusable') unusable++;
-      if (before.verdict === after.verdict) {
-        lotTally.add(unitLots, 'none');
-        continue;
-      }
-      const change =
-        before.verdict === 'pass' && after.verdict === 'fail'
-          ? 'passToFail'
-          : before.verdict === 'fail' && after.verdict === 'pass'
-            ? 'failToPass'
-            : 'other';
-      if (change === 'passToFail') passToFail++;
-      if (change === 'failToPass') failToPass++;
-      lotTally.add(unitLots, change);
-      changedCount++;
-      const differing = [...new Set([...before.failed, ...after.failed])].filter(
-        (c) => before.failed.has(c) !== after.failed.has(c),
+  try {
+    // The cursor fetches the next batch while this one is replayed: the database and the engine work
+    // side by side. Each batch's component lots come from the units module, read alongside.
+    for await (const rows of stream.batches) {
+      const lotsRead = componentLotsByIds(
+        ctx.db,
+        rows.map((r) => r.unitId),
       );
-      for (const c of differing) causes.set(c, (causes.get(c) ?? 0) + 1);
-      if (changed.length < MAX_LISTED) {
-        changed.push({
-          unitId: row.unitId,
-          serial: row.serial,
-          measurementId: row.measurementId,
-          receivedAt: row.receivedAt.toISOString(),
-          before: { verdict: before.verdict, offsetDeg: before.offsetDeg },
-          after: { verdict: after.verdict, offsetDeg: after.offsetDeg },
-          checks: differing,
-          lots: unitLots,
-        });
+      const cancelAsked = (await repo.findWhatIfRun(ctx.db, runId))?.cancelRequested;
+      const lots = await lotsRead;
+      if (cancelAsked) {
+        current = (await repo.updateWhatIfRun(ctx.db, runId, {
+          status: 'cancelled',
+          finishedAt: ctx.clock(),
+        }))!;
+        await progress(ctx, current);
+        return current;
       }
+      for (const row of rows) {
+        const unitLots = lots.get(row.unitId) ?? NO_LOTS;
+        const payload = replayMeasurement(row);
+        const after = replayOne(row, payload, recipe!);
+        const before: Outcome = row.baseline
+          ? {
+              verdict: row.baseline.verdict,
+              offsetDeg: row.baseline.offsetDeg,
+              failed: new Set(row.baseline.failedChecks),
+            }
+          : recipe!.id === baseline!.id
+            ? after
+            : replayOne(row, payload, baseline!);
+        if (after.offsetDeg !== null) draftOffsets.push(after.offsetDeg);
+        if (before.offsetDeg !== null) forceOffsets.push(before.offsetDeg);
+        if (after.verdict === 'unusable') unusable++;
+        if (before.verdict === after.verdict) {
+          lotTally.add(unitLots, 'none');
+          continue;
+        }
+        const change =
+          before.verdict === 'pass' && after.verdict === 'fail'
+            ? 'passToFail'
+            : before.verdict === 'fail' && after.verdict === 'pass'
+              ? 'failToPass'
+              : 'other';
+        if (change === 'passToFail') passToFail++;
+        if (change === 'failToPass') failToPass++;
+        lotTally.add(unitLots, change);
+        changedCount++;
+        const differing = [...new Set([...before.failed, ...after.failed])].filter(
+          (c) => before.failed.has(c) !== after.failed.has(c),
+        );
+        for (const c of differing) causes.set(c, (causes.get(c) ?? 0) + 1);
+        if (changed.length < MAX_LISTED) {
+          changed.push({
+            unitId: row.unitId,
+            serial: row.serial,
+            measurementId: row.measurementId,
+            receivedAt: row.receivedAt.toISOString(),
+            before: { verdict: before.verdict, offsetDeg: before.offsetDeg },
+            after: { verdict: after.verdict, offsetDeg: after.offsetDeg },
+            checks: differing,
+            lots: unitLots,
+          });
+        }
+      }
+      processed += rows.length;
+      current = (await repo.updateWhatIfRun(ctx.db, runId, { processed }))!;
+      await progress(ctx, current);
     }
-    current = (await repo.updateWhatIfRun(ctx.db, runId, {
-      processed: Math.min(ids.length, i + rows.length),
-    }))!;
-    await progress(ctx, current);
+  } finally {
+    await stream.close();
   }
 
   const all = [...draftOffsets, ...forceOffsets];
@@ -334,10 +343,10 @@ export async function runWhatIf(
   const hi = all.length ? Math.min(181, Math.floor(Math.max(...all)) + 1) : 1;
   const seconds = (performance.now() - t0) / 1000;
   const summary: WhatIfSummary = {
-    measurements: ids.length,
+    measurements: processed,
     passToFail,
     failToPass,
-    unchanged: ids.length - changedCount,
+    unchanged: processed - changedCount,
     unusable,
     causes: [...causes.entries()]
       .map(([code, count]) => ({ code, label: CHECK_LABELS[code as CheckCode] ?? code, count }))
@@ -345,11 +354,11 @@ export async function runWhatIf(
     histogram: { draft: histogram(draftOffsets, lo, hi), inForce: histogram(forceOffsets, lo, hi) },
     changed: changed.sort((a, b) => b.receivedAt.localeCompare(a.receivedAt)),
     lots: lotTally.result(),
-    measurementsPerSecond: seconds > 0 ? Math.round(ids.length / seconds) : 0,
+    measurementsPerSecond: seconds > 0 ? Math.round(processed / seconds) : 0,
   };
   current = (await repo.updateWhatIfRun(ctx.db, runId, {
     status: 'done',
-    processed: ids.length,
+    processed,
     summary,
     finishedAt: ctx.clock(),
   }))!;
