@@ -8,6 +8,7 @@ import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { DEMO_STATIONS, demoModel, type DemoRig } from '../modules/demo/demo-line.scenario';
 import { percentile, runStationSim, StationHttp, StationHttpError } from '../modules/demo/station-client';
+import { demoSettings } from '../env';
 
 const USAGE = `Usage:
   npm run station:sim -- --units N [--rate R] [--concurrency C] [--seed S] [--json]
@@ -32,7 +33,7 @@ const USAGE = `Usage:
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 // The same file `npm start` keeps the demo key in (DEMO_KEY_FILE moves it for both).
-const KEY_FILE = process.env.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
+const KEY_FILE = demoSettings().DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
 
 class SetupError extends Error {
   constructor(
