@@ -1,4 +1,3 @@
-import { and, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { route } from '../../lib/http';
@@ -8,7 +7,7 @@ import {
   updateStationSchema,
 } from '../../../shared/schemas/line';
 import { calibrationViews } from '../measurements/measurements.service';
-import { calibrations } from '../measurements/measurements.table';
+import { calibrationsOf } from '../measurements/calibrations.repository';
 import {
   attendStation,
   createStation,
@@ -50,11 +49,7 @@ export function stationsRoutes(deps: AppDeps) {
         const { limit } = recentQuery.parse(req.query);
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
         res.json({
-          calibrations: await calibrationViews(
-            deps.db,
-            and(eq(calibrations.stationId, id), eq(calibrations.purpose, 'station')),
-            limit,
-          ),
+          calibrations: await calibrationViews(deps.db, calibrationsOf.station(id), limit),
         });
       },
     }),
