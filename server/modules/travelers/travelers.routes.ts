@@ -5,7 +5,7 @@ import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
 import { route } from '../../lib/http';
-import { calibrations } from '../measurements/measurements.table';
+import { stationMeasuredUnit } from '../measurements/calibrations.repository';
 import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
 import { travelers, type TravelerRecord } from './travelers.table';
@@ -26,12 +26,7 @@ export function travelersRoutes(deps: AppDeps) {
   /** A station key may read only the travelers of units it measured. */
   async function checkStationScope(stationId: string | undefined, unitId: string) {
     if (!stationId) return;
-    const [own] = await deps.db
-      .select({ id: calibrations.id })
-      .from(calibrations)
-      .where(and(eq(calibrations.unitId, unitId), eq(calibrations.stationId, stationId)))
-      .limit(1);
-    if (!own) throw errors.forbidden();
+    if (!(await stationMeasuredUnit(deps.db, stationId, unitId))) throw errors.forbidden();
   }
   return [
     route({
