@@ -1,4 +1,4 @@
-import type { Request } from 'express';
+import type { Request, Response } from 'express';
 import type { AppDeps } from '../../deps';
 import { randomUUID } from 'node:crypto';
 import {
@@ -53,7 +53,7 @@ export function authRoutes(deps: AppDeps) {
   });
   const startSession = (
     req: Request,
-    res: Parameters<Parameters<typeof route>[0]['handler']>[1],
+    res: Response,
     user: UserRecord,
   ) => {
     const now = deps.clock();
