@@ -1,5 +1,6 @@
 import type { Request, Response } from 'express';
-import { z, type ZodType } from 'zod';
+import type { z} from 'zod';
+import { type ZodType } from 'zod';
 import type { Access } from '../../shared/schemas/roles';
 import type { SessionUser, StationPrincipal } from './auth';
 
