@@ -1,6 +1,5 @@
 import type { Request, Response } from 'express';
-import type { z} from 'zod';
-import { type ZodType } from 'zod';
+import type { z, ZodType } from 'zod';
 import type { Access } from '../../shared/schemas/roles';
 import type { SessionUser, StationPrincipal } from './auth';
 
