@@ -65,6 +65,11 @@ interface RouteCommon {
  */
 export interface ContractRouteDef extends RouteCommon {
   request?: RequestSchemas;
+  /**
+   * A body the service parses itself, for its own refusals and the verbatim record (the station's
+   * measurement post): described in the OpenAPI document, not parsed by `createApp`.
+   */
+  serviceParsedBody?: ZodType;
   // The input's types are checked where the route is made (`defineRoute`); here it is stored erased.
   // eslint-disable-next-line @typescript-eslint/no-explicit-any
   handle: (input: RouteInput<any, any, any, any>, res: Response, req: Request) => unknown;
@@ -83,6 +88,7 @@ export interface LegacyRouteDef extends RouteCommon {
   handler: (req: Request, res: Response) => unknown;
   handle?: never;
   request?: never;
+  serviceParsedBody?: never;
 }
 
 export type RouteDef = ContractRouteDef | LegacyRouteDef;
@@ -106,6 +112,7 @@ export function defineRoute<
 >(
   def: RouteCommon & {
     access: A;
+    serviceParsedBody?: ZodType;
     request?: { params?: PS; query?: QS; body?: BS };
     handle: (input: RouteInput<A, Out<PS>, Out<QS>, Out<BS>>, res: Response, req: Request) => unknown;
   },

@@ -21,7 +21,7 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
     );
     const querySchema = r.query ?? r.request?.query;
     const query = querySchema ? toParams(querySchema, 'query') : [];
-    const bodySchema = r.body ?? r.request?.body;
+    const bodySchema = r.body ?? r.request?.body ?? r.serviceParsedBody;
     const security =
       r.access === 'anyone'
         ? []
