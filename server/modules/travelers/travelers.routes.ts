@@ -4,7 +4,7 @@ import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
-import { route } from '../../lib/http';
+import { defineRoute } from '../../lib/http';
 import { stationMeasuredUnit } from '../measurements/calibrations.repository';
 import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
@@ -29,31 +29,33 @@ export function travelersRoutes(deps: AppDeps) {
     if (!(await stationMeasuredUnit(deps.db, stationId, unitId))) throw errors.forbidden();
   }
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/units/:serial/traveler.pdf',
       access: { people: ['operator', 'engineer', 'quality'], station: true },
       summary: 'The current traveler PDF of a unit (people, or the station that measured it)',
-      handler: async (req, res) => {
-        const { serial } = serialParams.parse(req.params);
+      request: { params: serialParams },
+      handle: async ({ params, caller }, res) => {
+        const { serial } = params;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        await checkStationScope(req.station?.stationId, unit.id);
+        await checkStationScope(caller.station?.stationId, unit.id);
         const doc = await currentTraveler(deps.db, unit.id, deps.clock());
         if (!doc) throw travelerErrors.none(unit.serial);
         sendPdf(res, doc, unit.serial);
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/units/:serial/travelers/:id',
       access: { people: ['operator', 'engineer', 'quality'], station: true },
       summary: 'One earlier traveler document of a unit',
-      handler: async (req, res) => {
-        const { serial, id } = docParams.parse(req.params);
+      request: { params: docParams },
+      handle: async ({ params, caller }, res) => {
+        const { serial, id } = params;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        await checkStationScope(req.station?.stationId, unit.id);
+        await checkStationScope(caller.station?.stationId, unit.id);
         const [doc] = await deps.db
           .select()
           .from(travelers)
@@ -62,18 +64,18 @@ export function travelersRoutes(deps: AppDeps) {
         sendPdf(res, doc, unit.serial);
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/units/:serial/traveler/print',
       access: ['operator', 'quality'],
       summary: 'Print (or reprint, marked with its number) the current traveler; audited',
-      body: printBody,
-      handler: async (req, res) => {
-        const { serial } = serialParams.parse(req.params);
-        const { pageSize } = printBody.parse(req.body ?? {});
+      request: { params: serialParams, body: printBody },
+      handle: async ({ params, body, caller }, res) => {
+        const { serial } = params;
+        const { pageSize } = body;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        const doc = await printTraveler(deps.db, req.user!, unit.id, unit.serial, pageSize, deps.clock());
+        const doc = await printTraveler(deps.db, caller.user, unit.id, unit.serial, pageSize, deps.clock());
         res.status(201).json({
           travelerId: doc.id,
           printNumber: doc.printNumber,
