@@ -106,7 +106,7 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       async (req: Request, res: Response) => {
         if (r.handle) {
           const { params, query, body } = parseRequest(r, req);
-          await r.handle({ params, query, body, caller: callerOf(req) }, res, req);
+          await r.handle({ params, query, body, caller: callerOf(req, r.access) }, res, req);
         } else {
           await r.handler(req, res);
         }

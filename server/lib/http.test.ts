@@ -104,6 +104,22 @@ describe('the route definition is the HTTP contract', () => {
     expect(asPerson.body).toEqual({ person: 'evan.engineer' });
   });
 
+  it('a person route called with a session and a station key gets the person, as the access check decided', async () => {
+    const both = await request(app)
+      .post(`/api/contract-check/${ID}`)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', evan)
+      .set('X-Station-Key', stationKey)
+      .send({ note: 'both credentials' });
+    expect(both.status).toBe(200);
+    expect(both.body.who).toBe('evan.engineer');
+    const mixed = await request(app)
+      .get('/api/contract-check/station')
+      .set('Cookie', evan)
+      .set('X-Station-Key', stationKey);
+    expect(mixed.body).toEqual({ station: 'EOL-HT-1' });
+  });
+
   it('a route in the earlier form, without request schemas, still works', async () => {
     const res = await request(app).get(`/api/contract-check/legacy/${ID}`).set('Cookie', evan);
     expect(res.body).toEqual({ id: ID, user: 'evan.engineer' });

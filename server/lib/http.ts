@@ -120,10 +120,21 @@ export function defineRoute<
   return def as unknown as ContractRouteDef;
 }
 
-/** The caller of a request whose access check has passed, in the shape `CallerOf` promises. */
-export function callerOf(req: Request): { user?: SessionUser; station?: StationPrincipal } {
-  if (req.station) return { station: req.station };
-  return req.user ? { user: req.user } : {};
+/**
+ * The caller of a request whose access check has passed, in the shape `CallerOf` promises: the station
+ * for station routes (and for mixed routes when a key came, as the access check decides), the person
+ * otherwise, even when a request also carries the other credential.
+ */
+export function callerOf(
+  req: Request,
+  access: RouteAccess,
+): { user?: SessionUser; station?: StationPrincipal } {
+  if (access === 'anyone') return { user: req.user, station: req.station };
+  if (access === 'station') return { station: req.station };
+  if (typeof access === 'object' && !Array.isArray(access) && 'people' in access) {
+    return req.station ? { station: req.station } : { user: req.user };
+  }
+  return { user: req.user };
 }
 
 /** Parses a contract route's declared request parts (a ZodError becomes the usual 400). */
