@@ -37,7 +37,7 @@ async function main() {
     await p.screenshot({ path: path.join(outDir, 'recipes-model-create-errors.png') });
     await p.keyboard.press('Escape');
     await p.getByRole('table', { name: 'Motor models' }).getByRole('link').first().click();
-    await p.getByRole('heading', { name: 'Recipe versions' }).waitFor();
+    await p.getByRole('heading', { name: 'Recipe versions', exact: true }).waitFor();
     await shot(p, 'recipes-model-detail');
     await p
       .getByRole('button', { name: /Copy into a new draft/ })
@@ -66,7 +66,7 @@ async function main() {
     const reviewUrl = p.url();
     // A second draft that goes nowhere: discarded with a reason, kept on record off the working list.
     await p.getByRole('link', { name: /All versions of/ }).click();
-    await p.getByRole('heading', { name: 'Recipe versions' }).waitFor();
+    await p.getByRole('heading', { name: 'Recipe versions', exact: true }).waitFor();
     await p
       .getByRole('button', { name: /Copy into a new draft/ })
       .first()
@@ -76,7 +76,7 @@ async function main() {
     await p.getByLabel('Reason for discarding').fill('Copied by mistake');
     await p.getByRole('button', { name: /Discard draft/ }).click();
     await p.getByText(/Discarded drafts \(\d+\)/).click();
-    await p.getByText('Copied by mistake').waitFor();
+    await p.getByText('Copied by mistake').first().waitFor();
     await shot(p, 'recipes-model-discarded');
     await evan.context.close();
 

@@ -26,7 +26,7 @@ function LotGroups({ lots }: { lots: Record<ComponentLotKind, WhatIfLotGroup[]> 
   return (
     <div data-testid="what-if-lots">
       <h3 className="mb-2 text-lg font-semibold">Changed units by component lot</h3>
-      <div className="grid gap-4 lg:grid-cols-3">
+      <div className="flex flex-col gap-4">
         {kinds.map((kind) => (
           <TableFrame key={kind} caption={`Changed units by ${COMPONENT_LOT_LABELS[kind].toLowerCase()}`}>
             <thead>
