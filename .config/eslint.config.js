@@ -5,6 +5,7 @@ import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 import reactHooks from 'eslint-plugin-react-hooks';
 import globals from 'globals';
+import { boundaries } from './eslint-boundaries.js';
 
 export default tseslint.config(
   { ignores: ['node_modules', 'dist', '.data', 'drizzle', 'coverage', 'test-results'] },
@@ -47,6 +48,48 @@ export default tseslint.config(
     files: ['server/**/*.ts', 'jobs/**/*.ts'],
     rules: {
       'no-restricted-imports': ['error', { patterns: [{ group: ['**/src/**'], message: 'The server never imports client code.' }] }],
+    },
+  },
+  // Zones (see eslint-boundaries.js): a client feature never imports another feature (route modules in
+  // src/app/routes compose them); code outside a server module never imports that module's *.table.ts,
+  // only its repository or service. Type-only imports of a table's record types are allowed (no SQL is
+  // built from a type). Exempt: *.table.ts files (foreign keys name the referenced table), the schema
+  // re-export, and tests, which arrange and inspect any table to check a rule from the outside.
+  {
+    files: ['src/**/*.{ts,tsx}', 'server/**/*.ts', 'jobs/**/*.ts'],
+    ignores: ['**/*.table.ts', 'server/db/schema.ts', '**/*.test.ts'],
+    plugins: { phasewright: boundaries },
+    rules: {
+      'phasewright/boundaries': [
+        'error',
+        {
+          // Read models that still join other modules' tables in one statement (the statistics
+          // filters, the calibration and traveler views, the demo seed's bulk inserts). Each is to be
+          // replaced by the owning modules' query functions; nothing may be added to this list.
+          pending: {
+            'server/modules/measurements/calibrations.repository.ts': ['recipes', 'stations', 'units', 'users'],
+            'server/modules/measurements/calibration-aggregates.repository.ts': ['recipes', 'stations', 'units', 'users'],
+            'server/modules/measurements/measurements.service.ts': ['recipes', 'stations', 'units'],
+            'server/modules/travelers/travelers.service.ts': ['audit', 'recipes', 'measurements', 'stations', 'units', 'users'],
+            'server/modules/demo/demo-line.seed.ts': ['recipes', 'measurements', 'stations', 'units', 'users'],
+          },
+        },
+      ],
+    },
+  },
+  // Settings come from the environment in server/env.ts only (parsed, checked, documented in the README).
+  // Exempt, with their reasons: server/ops/*.mjs run under plain Node before dependencies are installed
+  // and before TypeScript can load server/env.ts, and they build the environment the processes get;
+  // tests set up the environment of the processes they start; tool configurations (vite, drizzle-kit)
+  // are read by their tools, not by the product.
+  {
+    files: ['server/**/*.{ts,mjs}', 'jobs/**/*.ts', 'shared/**/*.ts', 'src/**/*.{ts,tsx}'],
+    ignores: ['server/env.ts', 'server/ops/*.mjs', '**/*.test.ts'],
+    rules: {
+      'no-restricted-properties': [
+        'error',
+        { object: 'process', property: 'env', message: 'Read settings through server/env.ts (and add them to the README).' },
+      ],
     },
   },
 );

@@ -1,6 +1,7 @@
 import PgBoss from 'pg-boss';
 import type pg from 'pg';
 import { JOBS_WAKE_CHANNEL, queues } from './queues';
+import { queueSettings } from '../server/env';
 
 /** Where pg-boss keeps its tables, in the application's database. */
 export const BOSS_SCHEMA = 'pgboss';
@@ -49,7 +50,7 @@ export function createBoss(
     schedule: opts.schedule ?? false,
     application_name: 'phasewright-queue',
     // How often the supervisor looks for jobs whose worker died (their expiry passed) and retries them.
-    maintenanceIntervalSeconds: Number(process.env.QUEUE_MAINTENANCE_SECONDS ?? 10),
+    maintenanceIntervalSeconds: queueSettings().QUEUE_MAINTENANCE_SECONDS,
   });
   return boss;
 }

@@ -50,5 +50,4 @@ export const queues = {
 /** PostgreSQL channel on which producers announce new jobs, so workers start them at once. */
 export const JOBS_WAKE_CHANNEL = 'phasewright_jobs';
 
-export type QueueName = (typeof queues)[keyof typeof queues]['name'];
 export type QueuePayload<K extends keyof typeof queues> = z.infer<(typeof queues)[K]['payload']>;

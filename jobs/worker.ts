@@ -1,6 +1,6 @@
 import pg from 'pg';
 import { createDatabase } from '../server/db/client';
-import { parseEnv } from '../server/env';
+import { parseEnv, workerSettings } from '../server/env';
 import { createSmtpMailer } from '../server/modules/mail/mail.service';
 import { createLogger, type Logger } from '../server/lib/logger';
 import { startJobQueue, type JobQueue } from './queue-client';
@@ -127,15 +127,16 @@ export async function startWorker(opts: {
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-  const url = process.env.DATABASE_URL;
-  if (!url) {
-    console.error('DATABASE_URL is not set.');
+  let settings: ReturnType<typeof workerSettings>;
+  try {
+    settings = workerSettings();
+  } catch (e) {
+    console.error((e as Error).message);
     process.exit(2);
   }
+  const url = settings.DATABASE_URL;
   // WORKER_QUEUES=a,b serves only those queues, so CPU-heavy renders can run in a process of their own.
-  const only = process.env.WORKER_QUEUES?.split(',')
-    .map((q) => q.trim())
-    .filter(Boolean);
+  const only = settings.WORKER_QUEUES;
   const known = Object.values(queues).map((q) => q.name as string);
   const unknown = only?.filter((q) => !known.includes(q)) ?? [];
   if (unknown.length) {
@@ -145,7 +146,7 @@ if (import.meta.url === `file://${process.argv[1]}`) {
   const env = parseEnv();
   const worker = await startWorker({
     databaseUrl: url,
-    logLevel: process.env.LOG_LEVEL,
+    logLevel: settings.LOG_LEVEL,
     queues: only,
     mail: { smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, publicUrl: env.PUBLIC_URL },
   });

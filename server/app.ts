@@ -9,7 +9,7 @@ import type { AppDeps } from './deps';
 import { buildRoutes } from './routes';
 import { AppError } from './lib/errors';
 import { SESSION_COOKIE, requireAccess, verifySession } from './lib/auth';
-import type { RouteDef } from './lib/http';
+import { callerOf, parseRequest, type RouteDef } from './lib/http';
 import { inputGuard } from './lib/input-guard';
 import { sameOriginGuard } from './lib/same-origin';
 import multer from 'multer';
@@ -104,7 +104,12 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       requireAccess(r.access),
       ...(r.before ?? []),
       async (req: Request, res: Response) => {
-        await r.handler(req, res);
+        if (r.handle) {
+          const { params, query, body } = parseRequest(r, req);
+          await r.handle({ params, query, body, caller: callerOf(req, r.access) }, res, req);
+        } else {
+          await r.handler(req, res);
+        }
       },
     );
   }

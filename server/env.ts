@@ -33,7 +33,6 @@ const envSchema = z.object({
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
   /** Where the built client lives; served with a single-page fallback when present. */
   CLIENT_DIST: z.string().default('dist/client'),
-  /** Plant setting: `true` lets one engineer submit and approve their own recipe draft (default: two people). */
   /** Plant time zone (IANA name) for shift starts and qualification times. */
   PLANT_TIME_ZONE: z
     .string()
@@ -46,6 +45,7 @@ const envSchema = z.object({
         return false;
       }
     }, 'PLANT_TIME_ZONE must be an IANA time zone such as Europe/Berlin'),
+  /** Plant setting: `true` lets one engineer submit and approve their own recipe draft (default: two people). */
   RECIPE_SINGLE_PERSON_RELEASE: z
     .enum(['true', 'false'])
     .default('false')
@@ -87,4 +87,122 @@ export function parseEnv(source: NodeJS.ProcessEnv = process.env): Env {
     SESSION_SECRET: env.SESSION_SECRET ?? DEV_SECRET,
     PUBLIC_URL: env.PUBLIC_URL ?? `http://localhost:${env.PORT}`,
   };
+}
+
+/*
+ * Settings of the other processes and of modules that are not given the server's `Env`. Each is read
+ * from the environment here and nowhere else (the linter refuses `process.env` outside this file);
+ * every variable is in the README's configuration table.
+ */
+
+function parseOrExplain<T extends z.ZodType>(schema: T, source: NodeJS.ProcessEnv): z.infer<T> {
+  const parsed = schema.safeParse(source);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join('.')}: ${i.message}`);
+    throw new Error(`Configuration is invalid:\n${lines.join('\n')}`);
+  }
+  return parsed.data;
+}
+
+const isTimeZone = (tz: string) => {
+  try {
+    new Intl.DateTimeFormat('en-GB', { timeZone: tz });
+    return true;
+  } catch {
+    return false;
+  }
+};
+
+const travelerSchema = z.object({
+  /** What the traveler's header says (the demo scenario's company and plant by default). */
+  TRAVELER_COMPANY: z.string().default('Corvane Motion Ltd'),
+  TRAVELER_PLANT: z.string().default('Hollin Ridge Works'),
+  /** The zone the traveler's times print in (an IANA name such as Europe/Berlin). */
+  TRAVELER_TIME_ZONE: z
+    .string()
+    .default('UTC')
+    .refine(isTimeZone, 'TRAVELER_TIME_ZONE must be a time zone name such as UTC or Europe/Berlin'),
+});
+export type TravelerSettings = z.infer<typeof travelerSchema>;
+
+let travelerSettingsRead: TravelerSettings | undefined;
+/** The traveler's header and time zone, read once per process. */
+export function travelerSettings(source: NodeJS.ProcessEnv = process.env): TravelerSettings {
+  if (source !== process.env) return parseOrExplain(travelerSchema, source);
+  return (travelerSettingsRead ??= parseOrExplain(travelerSchema, source));
+}
+
+const queueSchema = z.object({
+  /** How often the job supervisor looks for jobs whose worker died, in seconds. */
+  QUEUE_MAINTENANCE_SECONDS: z.coerce.number().int().min(1).max(3600).default(10),
+});
+/** Job-queue settings shared by the server and the workers. */
+export function queueSettings(source: NodeJS.ProcessEnv = process.env) {
+  return parseOrExplain(queueSchema, source);
+}
+
+const workerSchema = z.object({
+  DATABASE_URL: z.string({ error: 'DATABASE_URL is not set.' }).url('DATABASE_URL must be a postgres:// URL'),
+  LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
+  /** WORKER_QUEUES=a,b serves only those queues (all when empty). */
+  WORKER_QUEUES: z
+    .string()
+    .optional()
+    .transform((v) =>
+      v
+        ?.split(',')
+        .map((q) => q.trim())
+        .filter(Boolean),
+    ),
+});
+/** The worker process's own settings (it also reads the server's for mail). */
+export function workerSettings(source: NodeJS.ProcessEnv = process.env) {
+  return parseOrExplain(workerSchema, source);
+}
+
+const demoSchema = z.object({
+  /** Create the demo accounts (server) and demo line (seed) on first start. */
+  SEED_DEMO: z.string().default('false'),
+  /** Where the demo seed keeps the simulator's station key; `null` means the default under `.data/`. */
+  DEMO_KEY_FILE: z.string().optional(),
+  DEMO_LINE_UNITS: z.string().default('2500'),
+  DEMO_BASE_URL: z.string().optional(),
+  /** The plant's time zone, for the demo's shift-start qualification readings. */
+  PLANT_TIME_ZONE: z.string().optional(),
+  PORT: z.coerce.number().int().min(0).max(65535).default(3000),
+  DATABASE_URL: z.string().optional(),
+});
+/** The demo seed's and station simulator's settings. */
+export function demoSettings(source: NodeJS.ProcessEnv = process.env) {
+  const d = parseOrExplain(demoSchema, source);
+  return { ...d, seedDemo: d.SEED_DEMO === 'true', DEMO_BASE_URL: d.DEMO_BASE_URL ?? `http://localhost:${d.PORT}` };
+}
+
+const toolSchema = z.object({
+  DATABASE_URL: z.string().optional(),
+  DATABASE_OWNER_URL: z.string().optional(),
+  /** Which private PostgreSQL the backup tools use (`dev` by default). */
+  PG_INSTANCE: z.string().default('dev'),
+  BACKUP_DIR: z.string().optional(),
+  FAKE_SMTP_PORT: z.coerce.number().int().min(0).max(65535).default(2525),
+  FAKE_MAIL_HTTP_PORT: z.coerce.number().int().min(0).max(65535).default(2580),
+  FAKE_MAIL_STORE: z.string().optional(),
+});
+/** Settings of the command-line tools (migrate, backup, restore, fake mail). */
+export function toolSettings(source: NodeJS.ProcessEnv = process.env) {
+  const t = parseOrExplain(toolSchema, source);
+  return { ...t, DATABASE_OWNER_URL: t.DATABASE_OWNER_URL || undefined, PG_INSTANCE: t.PG_INSTANCE || 'dev' };
+}
+
+/**
+ * The environment handed to a child process (pg_dump, pg_restore), without the PG* variables that
+ * would point it at another server than the URL it is given.
+ */
+export function childProcessEnv(source: NodeJS.ProcessEnv = process.env): NodeJS.ProcessEnv {
+  return Object.fromEntries(Object.entries(source).filter(([k]) => !k.startsWith('PG')));
+}
+
+/** The raw environment, for code that looks for tool binaries on PATH the way a shell does. */
+export function processEnvironment(): NodeJS.ProcessEnv {
+  return process.env;
 }

@@ -1,5 +1,5 @@
 import type { AddressInfo } from 'node:net';
-import { parseEnv } from './env';
+import { demoSettings, parseEnv } from './env';
 import { createApp } from './app';
 import { createDatabase } from './db/client';
 import { appRoleOf, migrateDatabase } from './db/migrate';
@@ -14,7 +14,7 @@ import { createEventHub } from './modules/events/event-hub';
  * The API + client server. Wires real dependencies, applies migrations, optionally seeds the demo,
  * and listens. `npm start` runs this next to the worker (jobs/worker.ts).
  */
-export async function startServer(source: NodeJS.ProcessEnv = process.env) {
+export async function startServer(source?: NodeJS.ProcessEnv) {
   const env = parseEnv(source);
   const logger = createLogger(env.LOG_LEVEL, 'phasewright-server');
   // `npm start` (and a service manager's migration unit) migrate as the owner role before starting
@@ -24,7 +24,7 @@ export async function startServer(source: NodeJS.ProcessEnv = process.env) {
     await migrateDatabase(ownerUrl ?? env.DATABASE_URL, { appRole: appRoleOf(env.DATABASE_URL, ownerUrl) });
   }
   const database = createDatabase(env.DATABASE_URL, { max: 20, applicationName: 'phasewright-server' });
-  if (source.SEED_DEMO === 'true') {
+  if (demoSettings(source).seedDemo) {
     if (await seedDemoAccounts(database.db, env.BCRYPT_COST)) logger.info('demo accounts created');
   }
   const queue = await startJobQueue(env.DATABASE_URL, database.pool, {

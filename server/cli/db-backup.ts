@@ -7,13 +7,14 @@ import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { ensurePostgres } from '../ops/pg-local.mjs';
 import { backupDatabase } from '../db/backup';
+import { toolSettings } from '../env';
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 
 try {
   const { values } = parseArgs({ options: { out: { type: 'string' } }, strict: true });
-  const outDir = resolve(values.out ?? process.env.BACKUP_DIR ?? join(repoRoot, '.data', 'backups'));
-  const pg = await ensurePostgres({ instance: process.env.PG_INSTANCE || 'dev', log: () => {} });
+  const outDir = resolve(values.out ?? toolSettings().BACKUP_DIR ?? join(repoRoot, '.data', 'backups'));
+  const pg = await ensurePostgres({ instance: toolSettings().PG_INSTANCE, log: () => {} });
   const t0 = performance.now();
   const { manifest, dumpPath, manifestPath } = await backupDatabase({ ownerUrl: pg.ownerUrl, outDir });
   const rows = Object.values(manifest.rowCounts).reduce((a, b) => a + b, 0);

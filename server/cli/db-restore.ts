@@ -6,6 +6,7 @@
 import { parseArgs } from 'node:util';
 import { ensurePostgres } from '../ops/pg-local.mjs';
 import { BackupError, restoreDatabase } from '../db/backup';
+import { toolSettings } from '../env';
 
 const USAGE = 'usage: npm run db:restore -- FILE [--database NAME] [--force]';
 
@@ -16,7 +17,7 @@ try {
     strict: true,
   });
   if (positionals.length !== 1) throw new BackupError(`name one backup file.\n${USAGE}`);
-  const pg = await ensurePostgres({ instance: process.env.PG_INSTANCE || 'dev', log: () => {} });
+  const pg = await ensurePostgres({ instance: toolSettings().PG_INSTANCE, log: () => {} });
   const result = await restoreDatabase({
     file: positionals[0],
     adminUrl: pg.adminUrl,

@@ -1,10 +1,12 @@
 import { startFakeMailServer } from '../modules/mail/fake-mail-server';
+import { toolSettings } from '../env';
 
 // Runs the local fake mail server (started by `npm start`). Ports from FAKE_SMTP_PORT / FAKE_MAIL_HTTP_PORT.
+const settings = toolSettings();
 const server = await startFakeMailServer({
-  smtpPort: Number(process.env.FAKE_SMTP_PORT ?? 2525),
-  httpPort: Number(process.env.FAKE_MAIL_HTTP_PORT ?? 2580),
-  storeFile: process.env.FAKE_MAIL_STORE,
+  smtpPort: settings.FAKE_SMTP_PORT,
+  httpPort: settings.FAKE_MAIL_HTTP_PORT,
+  storeFile: settings.FAKE_MAIL_STORE,
 });
 console.log(
   `fake mail server: SMTP 127.0.0.1:${server.smtpPort}, mailbox http://127.0.0.1:${server.httpPort}/messages`,

@@ -11,10 +11,12 @@ import { fileURLToPath } from 'node:url';
 import { createDatabase } from '../db/client';
 import { startJobQueue } from '../../jobs/queue-client';
 import { ensureDemoStationKey, seedDemoLine } from '../modules/demo/demo-line.seed';
+import { demoSettings } from '../env';
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 // DEMO_KEY_FILE moves it (`npm test` does, so a test run never replaces the key of a developer's demo line).
-export const DEMO_KEY_FILE = process.env.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
+const demo = demoSettings();
+export const DEMO_KEY_FILE = demo.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
 
 /** The key in the key file, if the file holds one. */
 function keyInFile(): string | undefined {
@@ -31,12 +33,12 @@ function say(line: string) {
   process.stdout.write(`${line}\n`);
 }
 
-const url = process.env.DATABASE_URL;
+const url = demo.DATABASE_URL;
 if (!url) {
   process.stderr.write('DATABASE_URL is not set. `npm start` sets it for the private database.\n');
   process.exit(2);
 }
-const rawUnits = process.env.DEMO_LINE_UNITS ?? '2500';
+const rawUnits = demo.DEMO_LINE_UNITS;
 const count = Number(rawUnits);
 if (!Number.isInteger(count) || count < 1 || count > 100_000) {
   process.stderr.write(
@@ -44,7 +46,7 @@ if (!Number.isInteger(count) || count < 1 || count > 100_000) {
   );
   process.exit(2);
 }
-const baseUrl = process.env.DEMO_BASE_URL ?? `http://localhost:${process.env.PORT ?? 3000}`;
+const baseUrl = demo.DEMO_BASE_URL;
 
 // Demo history, written once: a crash loses at most the last few commits of it, and not waiting for
 // the disk on each of the ~8,000 commits keeps the first start short.
@@ -60,7 +62,7 @@ try {
     { db: database.db, pool: database.pool, queue },
     {
       units: count,
-      timeZone: process.env.PLANT_TIME_ZONE,
+      timeZone: demo.PLANT_TIME_ZONE,
       onPhase(step, ms) {
         say(`demo line: ${step} done (${(ms / 1000).toFixed(1)} s)`);
       },

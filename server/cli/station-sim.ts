@@ -17,6 +17,7 @@ import {
   StationHttp,
   StationHttpError,
 } from '../modules/demo/station-client';
+import { demoSettings } from '../env';
 
 const USAGE = `Usage:
   npm run station:sim -- --units N [--rate R] [--concurrency C] [--seed S] [--json]
@@ -49,7 +50,7 @@ const USAGE = `Usage:
 
 const repoRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 // The same file `npm start` keeps the demo key in (DEMO_KEY_FILE moves it for both).
-const KEY_FILE = process.env.DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
+const KEY_FILE = demoSettings().DEMO_KEY_FILE ?? join(repoRoot, '.data', 'demo-station-key.json');
 
 class SetupError extends Error {
   constructor(

@@ -14,6 +14,7 @@ import { basename, dirname, join } from 'node:path';
 import pg from 'pg';
 import { findPgBinDir } from '../ops/pg-local.mjs';
 import { grantAppPrivileges } from './privileges';
+import { childProcessEnv, processEnvironment } from '../env';
 
 /**
  * Backups of the whole database (every unit's lifetime record, the audit log, the job queue) as a
@@ -45,9 +46,8 @@ export class BackupError extends Error {}
 /** Environment for pg_dump/pg_restore: the connection from a URL, the password never on the command line. */
 function pgEnv(url: string, database?: string): NodeJS.ProcessEnv {
   const u = new URL(url);
-  const env = Object.fromEntries(Object.entries(process.env).filter(([k]) => !k.startsWith('PG')));
   return {
-    ...env,
+    ...childProcessEnv(),
     PGHOST: u.hostname,
     PGPORT: u.port || '5432',
     PGUSER: decodeURIComponent(u.username),
@@ -59,7 +59,7 @@ function pgEnv(url: string, database?: string): NodeJS.ProcessEnv {
 
 /** pg_dump / pg_restore: from PG_BINDIR or the newest Debian server package, else from PATH. */
 function tool(name: 'pg_dump' | 'pg_restore'): string {
-  const found = findPgBinDir(process.env);
+  const found = findPgBinDir(processEnvironment());
   return found ? join(found.binDir, name) : name;
 }
 

@@ -2,12 +2,12 @@
 // DATABASE_URL), installs pg-boss's schema and queues, and grants the app role (DATABASE_URL's user)
 // its privileges.
 import { appRoleOf, migrateDatabase } from './migrate';
+import { toolSettings } from '../env';
 
-const url = process.env.DATABASE_URL;
+const { DATABASE_URL: url, DATABASE_OWNER_URL: ownerUrl } = toolSettings();
 if (!url) {
   console.error('DATABASE_URL is not set. `npm start` sets it for the private database.');
   process.exit(2);
 }
-const ownerUrl = process.env.DATABASE_OWNER_URL || undefined;
 await migrateDatabase(ownerUrl ?? url, { appRole: appRoleOf(url, ownerUrl) });
 console.log('Migrations applied.');

@@ -1,6 +1,5 @@
-import { sql } from 'drizzle-orm';
 import type { Db } from './client';
-import { users } from '../modules/users/users.table';
+import { countUsers, insertUsers } from '../modules/users/users.repository';
 import { hashSecret } from '../modules/auth/auth.service';
 import { insertAudit } from '../modules/audit/audit.repository';
 import type { Role } from '../../shared/schemas/roles';
@@ -69,8 +68,7 @@ export const DEMO_ACCOUNTS: {
 
 /** Creates the demo accounts when the database has no accounts yet; returns whether it did. */
 export async function seedDemoAccounts(db: Db, bcryptCost: number): Promise<boolean> {
-  const [{ n }] = await db.select({ n: sql<number>`count(*)::int` }).from(users);
-  if (n > 0) return false;
+  if ((await countUsers(db)) > 0) return false;
   const rows = await Promise.all(
     DEMO_ACCOUNTS.map(async (a) => ({
       username: a.username,
@@ -83,7 +81,7 @@ export async function seedDemoAccounts(db: Db, bcryptCost: number): Promise<bool
     })),
   );
   await db.transaction(async (tx) => {
-    await tx.insert(users).values(rows);
+    await insertUsers(tx, rows);
     await insertAudit(tx, {
       action: 'demo.accounts_seeded',
       reason: 'first start with an empty database',

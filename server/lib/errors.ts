@@ -22,7 +22,3 @@ export const errors = {
   authRequired: () => new AppError(401, 'auth.required', 'Sign in to continue.'),
   forbidden: () => new AppError(403, 'auth.forbidden', 'Your role does not allow this.'),
 };
-
-export function isAppError(e: unknown): e is AppError {
-  return e instanceof AppError;
-}

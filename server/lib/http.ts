@@ -1,6 +1,7 @@
 import type { Request, Response } from 'express';
-import type { ZodType } from 'zod';
+import type { z, ZodType } from 'zod';
 import type { Access } from '../../shared/schemas/roles';
+import type { SessionUser, StationPrincipal } from './auth';
 
 export type Method = 'get' | 'post' | 'put' | 'patch' | 'delete';
 
@@ -10,24 +11,138 @@ export type Method = 'get' | 'post' | 'put' | 'patch' | 'delete';
  */
 export type RouteAccess = Access | 'station' | { people: Access; station: true };
 
-export interface RouteDef {
+/** The caller a handler gets, already narrowed by the route's declared access. */
+export type CallerOf<A extends RouteAccess> = A extends 'anyone'
+  ? { user?: SessionUser; station?: StationPrincipal }
+  : A extends 'station'
+    ? { station: StationPrincipal; user?: undefined }
+    : A extends { people: Access; station: true }
+      ? { user: SessionUser; station?: undefined } | { station: StationPrincipal; user?: undefined }
+      : { user: SessionUser; station?: undefined };
+
+/** A response the route may give: its status, a line for the document and, for JSON, its schema. */
+export interface ResponseDoc {
+  description: string;
+  schema?: ZodType;
+  /** Defaults to application/json when a schema is given. */
+  contentType?: string;
+}
+
+/** The request parts a route declares; `createApp` validates each one before the handler runs. */
+export interface RequestSchemas<P = unknown, Q = unknown, B = unknown> {
+  params?: ZodType<P>;
+  query?: ZodType<Q>;
+  body?: ZodType<B>;
+}
+
+/** What a contract route's handler receives: parsed, typed values and the narrowed caller. */
+export interface RouteInput<A extends RouteAccess, P, Q, B> {
+  params: P;
+  query: Q;
+  body: B;
+  caller: CallerOf<A>;
+}
+
+interface RouteCommon {
   method: Method;
   /** Express 5 path, mounted as is (routes carry their full /api/... path). */
   path: string;
   access: RouteAccess;
   /** One line for the route list and the OpenAPI document. */
   summary: string;
-  /** Request body and query contracts, for the OpenAPI document (handlers still parse them). */
-  body?: ZodType;
-  query?: ZodType;
   /** Body is multipart/form-data (file upload); described in the OpenAPI document. */
   multipart?: { fileField: string; fields: Record<string, string> };
   /** Express middleware to run before the handler (e.g. multer for uploads). */
   before?: ((req: Request, res: Response, next: (err?: unknown) => void) => void)[];
-  handler: (req: Request, res: Response) => unknown;
+  /** Responses by status, for the OpenAPI document (400/401/403 are added from the access and schemas). */
+  responses?: Record<number, ResponseDoc>;
 }
 
-/** Identity helper that keeps route literals typed. */
+/**
+ * A route whose definition is its whole HTTP contract (the one way to add a route): `createApp`
+ * parses `request.params`, `request.query` and `request.body` with their zod schemas (a failure is
+ * the usual 400 with `issues`) and calls `handle` with the parsed values and the caller.
+ */
+export interface ContractRouteDef extends RouteCommon {
+  request?: RequestSchemas;
+  /**
+   * A body the service parses itself, for its own refusals and the verbatim record (the station's
+   * measurement post): described in the OpenAPI document, not parsed by `createApp`.
+   */
+  serviceParsedBody?: ZodType;
+  // The input's types are checked where the route is made (`defineRoute`); here it is stored erased.
+  // eslint-disable-next-line @typescript-eslint/no-explicit-any
+  handle: (input: RouteInput<any, any, any, any>, res: Response, req: Request) => unknown;
+  handler?: never;
+  body?: never;
+  query?: never;
+}
+
+/**
+ * The earlier form, still accepted so routes written against it keep working: the handler parses its
+ * own input; `body`/`query` only describe it in the OpenAPI document. Convert to `defineRoute`.
+ */
+export interface LegacyRouteDef extends RouteCommon {
+  body?: ZodType;
+  query?: ZodType;
+  handler: (req: Request, res: Response) => unknown;
+  handle?: never;
+  request?: never;
+  serviceParsedBody?: never;
+}
+
+export type RouteDef = ContractRouteDef | LegacyRouteDef;
+
+/** Identity helper that keeps route literals typed (either form). */
 export function route(def: RouteDef): RouteDef {
   return def;
+}
+
+type Out<S> = S extends ZodType ? z.output<S> : undefined;
+
+/**
+ * Defines a contract route: the handler's `params`, `query`, `body` and `caller` are typed from the
+ * route's own schemas and access, and `createApp` hands them over already validated.
+ */
+export function defineRoute<
+  const A extends RouteAccess,
+  PS extends ZodType | undefined = undefined,
+  QS extends ZodType | undefined = undefined,
+  BS extends ZodType | undefined = undefined,
+>(
+  def: RouteCommon & {
+    access: A;
+    serviceParsedBody?: ZodType;
+    request?: { params?: PS; query?: QS; body?: BS };
+    handle: (input: RouteInput<A, Out<PS>, Out<QS>, Out<BS>>, res: Response, req: Request) => unknown;
+  },
+): ContractRouteDef {
+  return def as unknown as ContractRouteDef;
+}
+
+/**
+ * The caller of a request whose access check has passed, in the shape `CallerOf` promises: the station
+ * for station routes (and for mixed routes when a key came, as the access check decides), the person
+ * otherwise, even when a request also carries the other credential.
+ */
+export function callerOf(
+  req: Request,
+  access: RouteAccess,
+): { user?: SessionUser; station?: StationPrincipal } {
+  if (access === 'anyone') return { user: req.user, station: req.station };
+  if (access === 'station') return { station: req.station };
+  if (typeof access === 'object' && !Array.isArray(access) && 'people' in access) {
+    return req.station ? { station: req.station } : { user: req.user };
+  }
+  return { user: req.user };
+}
+
+/** Parses a contract route's declared request parts (a ZodError becomes the usual 400). */
+export function parseRequest(r: ContractRouteDef, req: Request) {
+  const s = r.request ?? {};
+  return {
+    params: s.params ? s.params.parse(req.params) : undefined,
+    query: s.query ? s.query.parse(req.query) : undefined,
+    body: s.body ? s.body.parse(req.body ?? {}) : undefined,
+  };
 }

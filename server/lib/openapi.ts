@@ -9,13 +9,19 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
   const paths: Record<string, Record<string, unknown>> = {};
   for (const r of routes) {
     const path = r.path.replace(/:(\w+)/g, '{$1}');
-    const params = [...r.path.matchAll(/:(\w+)/g)].map((m) => ({
-      name: m[1],
-      in: 'path',
-      required: true,
-      schema: { type: 'string' },
-    }));
-    const query = r.query ? toQueryParams(r.query) : [];
+    const declared = r.request?.params ? toParams(r.request.params, 'path') : [];
+    const params = [...r.path.matchAll(/:(\w+)/g)].map(
+      (m) =>
+        declared.find((d) => d.name === m[1]) ?? {
+          name: m[1],
+          in: 'path',
+          required: true,
+          schema: { type: 'string' },
+        },
+    );
+    const querySchema = r.query ?? r.request?.query;
+    const query = querySchema ? toParams(querySchema, 'query') : [];
+    const bodySchema = r.body ?? r.request?.body ?? r.serviceParsedBody;
     const security =
       r.access === 'anyone'
         ? []
@@ -30,7 +36,24 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
       parameters: [...params, ...query],
       security,
       responses: {
-        '200': { description: 'Success' },
+        ...(r.responses ? {} : { '200': { description: 'Success' } }),
+        ...Object.fromEntries(
+          Object.entries(r.responses ?? {}).map(([status, doc]) => [
+            status,
+            {
+              description: doc.description,
+              ...(doc.schema || doc.contentType
+                ? {
+                    content: {
+                      [doc.contentType ?? 'application/json']: doc.schema
+                        ? { schema: z.toJSONSchema(doc.schema, { io: 'output', unrepresentable: 'any' }) }
+                        : {},
+                    },
+                  }
+                : {}),
+            },
+          ]),
+        ),
         '400': {
           description: 'Invalid request: `{ error: { code, message, issues: [{ path, message }] } }`',
         },
@@ -40,11 +63,11 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
           : {}),
       },
     };
-    if (r.body) {
+    if (bodySchema) {
       op.requestBody = {
         required: true,
         content: {
-          'application/json': { schema: z.toJSONSchema(r.body, { io: 'input', unrepresentable: 'any' }) },
+          'application/json': { schema: z.toJSONSchema(bodySchema, { io: 'input', unrepresentable: 'any' }) },
         },
       };
     }
@@ -87,15 +110,15 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
   };
 }
 
-function toQueryParams(schema: z.ZodType) {
+function toParams(schema: z.ZodType, where: 'query' | 'path') {
   const json = z.toJSONSchema(schema, { io: 'input', unrepresentable: 'any' }) as {
     properties?: Record<string, object>;
     required?: string[];
   };
   return Object.entries(json.properties ?? {}).map(([name, s]) => ({
     name,
-    in: 'query',
-    required: json.required?.includes(name) ?? false,
+    in: where,
+    required: where === 'path' || (json.required?.includes(name) ?? false),
     schema: s,
   }));
 }

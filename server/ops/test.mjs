@@ -1,5 +1,5 @@
 // `npm test`: the whole suite on a fresh machine. Installs what is missing (npm packages,
-// PostgreSQL, Chromium), then runs typecheck, lint, the schema-drift check, vitest (unit and
+// PostgreSQL, Chromium), then runs typecheck, lint, the dead-code check (knip), the schema-drift check, vitest (unit and
 // integration tests against the private test PostgreSQL) and the browser tests against a started
 // server. Ends with one line `tests: N passed, N failed` and a non-zero exit on any failure.
 import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
@@ -125,6 +125,8 @@ try {
 
   await step('typecheck', async () => (await runStep(bin('tsc'), ['-p', '.', '--noEmit'])) === 0);
   await step('lint', async () => (await runStep('npm', ['run', '-s', 'lint'])) === 0);
+  // Dead code: unused files, dependencies and exports (configuration and its reasons: .config/knip.jsonc).
+  await step('dead code', async () => (await runStep('npm', ['run', '-s', 'deadcode'])) === 0);
   await step('migrations match the schema', async () => {
     const r = await checkMigrationsMatchSchema();
     log(r.message);

@@ -23,7 +23,7 @@ export const modelInputSchema = z.object({
 });
 export type ModelInput = z.infer<typeof modelInputSchema>;
 
-export const recipeStatusSchema = z.enum(['draft', 'in_review', 'released', 'retired']);
+export const recipeStatusSchema = z.enum(['draft', 'in_review', 'released', 'retired', 'discarded']);
 export type RecipeStatus = z.infer<typeof recipeStatusSchema>;
 
 export const RECIPE_STATUS_LABELS: Record<RecipeStatus, string> = {
@@ -31,6 +31,7 @@ export const RECIPE_STATUS_LABELS: Record<RecipeStatus, string> = {
   in_review: 'In review',
   released: 'In force',
   retired: 'Retired',
+  discarded: 'Discarded',
 };
 
 export const createDraftSchema = z.object({
@@ -47,6 +48,8 @@ export const saveDraftSchema = z.object({
 });
 
 export const submitDraftSchema = z.object({ reason, revision: z.number().int().min(1) });
+/** Discarding a draft: the row stays (audited, with the reason), it leaves the working list. */
+export const discardDraftSchema = z.object({ reason, revision: z.number().int().min(1) });
 export const approveSchema = z.object({ comment: z.string().trim().max(2000).optional() });
 export const sendBackSchema = z.object({
   comment: z.string().trim().min(3, 'Tell the author what to change (at least 3 characters).').max(2000),
@@ -80,6 +83,9 @@ export interface RecipeVersionView {
   retiredAt: string | null;
   releaseDiff: RecipeFieldChange[] | null;
   replaces: { id: string; version: number } | null;
+  discardedBy: PersonRef | null;
+  discardedAt: string | null;
+  discardReason: string | null;
 }
 
 export interface ModelSummaryView {
@@ -102,7 +108,10 @@ export interface ModelSummaryView {
 }
 
 export interface ModelDetailView extends ModelSummaryView {
+  /** The working list: every version except discarded drafts. */
   versions: RecipeVersionView[];
+  /** Discarded drafts, kept for the record, newest first. */
+  discarded: RecipeVersionView[];
 }
 
 export const whatIfFiltersSchema = z
@@ -138,6 +147,26 @@ export interface WhatIfChangedUnit {
   after: { verdict: string; offsetDeg: number | null };
   /** Check codes whose outcome differs between the two versions. */
   checks: string[];
+  /** The unit's component lots (absent in runs stored before lots were recorded). */
+  lots?: { hallBoard: string | null; magnetRing: string | null; stator: string | null };
+}
+
+export type ComponentLotKind = 'hallBoard' | 'magnetRing' | 'stator';
+
+export const COMPONENT_LOT_LABELS: Record<ComponentLotKind, string> = {
+  hallBoard: 'Hall-board lot',
+  magnetRing: 'Magnet-ring lot',
+  stator: 'Stator lot',
+};
+
+/** One component lot among the replayed units: how many were replayed and how many would change. */
+export interface WhatIfLotGroup {
+  /** The lot code; null for units registered without one. */
+  lot: string | null;
+  replayed: number;
+  changed: number;
+  passToFail: number;
+  failToPass: number;
 }
 
 export interface WhatIfSummary {
@@ -151,6 +180,11 @@ export interface WhatIfSummary {
   histogram: { draft: OffsetHistogram; inForce: OffsetHistogram };
   /** Changed units, at most 500 listed (the counts above are complete). */
   changed: WhatIfChangedUnit[];
+  /**
+   * Changed units grouped by component lot, for each kind of lot: lots with at least one change, most
+   * changes first (at most 50 per kind; counts are complete). Absent in runs stored before lots were recorded.
+   */
+  lots?: Record<ComponentLotKind, WhatIfLotGroup[]>;
   measurementsPerSecond: number;
 }
 

@@ -90,8 +90,6 @@ export function capabilityFromFigures(
   };
 }
 
-export type WithinMethod = 'moving-range' | 'range' | 'stdev';
-
 /** σ within from the average moving range of consecutive values: MR̄ / d2(2). */
 export function sigmaFromMovingRange(values: readonly number[]): number {
   let sum = 0;

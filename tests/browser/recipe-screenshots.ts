@@ -1,6 +1,7 @@
 // Saves PNGs of the recipe desk's screens and checks each with axe: `npx tsx tests/browser/recipe-screenshots.ts`.
 // Needs a running server (PHASEWRIGHT_BASE_URL) with the demo line. It copies the first model's released
-// recipe into a draft, narrows its offset window and submits it for review (it does not approve it).
+// recipe into a draft, narrows its offset window and submits it for review (it does not approve it),
+// then copies another draft and discards it.
 import { mkdir } from 'node:fs/promises';
 import path from 'node:path';
 import type { Page } from 'playwright-core';
@@ -36,7 +37,7 @@ async function main() {
     await p.screenshot({ path: path.join(outDir, 'recipes-model-create-errors.png') });
     await p.keyboard.press('Escape');
     await p.getByRole('table', { name: 'Motor models' }).getByRole('link').first().click();
-    await p.getByRole('heading', { name: 'Recipe versions' }).waitFor();
+    await p.getByRole('heading', { name: 'Recipe versions', exact: true }).waitFor();
     await shot(p, 'recipes-model-detail');
     await p
       .getByRole('button', { name: /Copy into a new draft/ })
@@ -63,6 +64,20 @@ async function main() {
     await p.getByTestId('what-if-summary').waitFor({ timeout: 120_000 });
     await shot(p, 'recipes-review-author');
     const reviewUrl = p.url();
+    // A second draft that goes nowhere: discarded with a reason, kept on record off the working list.
+    await p.getByRole('link', { name: /All versions of/ }).click();
+    await p.getByRole('heading', { name: 'Recipe versions', exact: true }).waitFor();
+    await p
+      .getByRole('button', { name: /Copy into a new draft/ })
+      .first()
+      .click();
+    await p.getByRole('heading', { name: 'Discard this draft' }).waitFor();
+    await shot(p, 'recipes-draft-discard');
+    await p.getByLabel('Reason for discarding').fill('Copied by mistake');
+    await p.getByRole('button', { name: /Discard draft/ }).click();
+    await p.getByText(/Discarded drafts \(\d+\)/).click();
+    await p.getByText('Copied by mistake').first().waitFor();
+    await shot(p, 'recipes-model-discarded');
     await evan.context.close();
 
     const rosa = await freshPage(browser, { width: 1440, height: 900 }, true);

@@ -1,9 +1,9 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
+import { defineRoute, route } from '../../lib/http';
 import { auditEntries, auditTrail } from './audit.service';
 import { auditTrailQuerySchema } from '../../../shared/schemas/audit-trail';
-import type { AuditEntry } from '../../../shared/schemas/users';
+import { auditResponseSchema, type AuditEntry } from '../../../shared/schemas/users';
 
 const CSV_HEADER = ['at', 'who', 'action', 'subject_type', 'subject', 'reason', 'before', 'after'];
 
@@ -28,13 +28,15 @@ const querySchema = z.object({ limit: z.coerce.number().int().min(1).max(1000).d
 
 export function auditRoutes(deps: AppDeps) {
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/admin/audit',
       access: ['admin'],
       summary: 'Newest audit log entries',
-      handler: async (req, res) => {
-        const { limit } = querySchema.parse(req.query);
+      responses: { 200: { description: 'The newest entries first', schema: auditResponseSchema } },
+      request: { query: querySchema },
+      handle: async ({ query }, res) => {
+        const { limit } = query;
         res.json({ entries: await auditEntries(deps.db, limit) });
       },
     }),

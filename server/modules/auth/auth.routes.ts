@@ -1,4 +1,4 @@
-import type { Request } from 'express';
+import type { Request, Response } from 'express';
 import type { AppDeps } from '../../deps';
 import { randomUUID } from 'node:crypto';
 import {
@@ -10,7 +10,7 @@ import {
   signSession,
   verifyDeviceToken,
 } from '../../lib/auth';
-import { route } from '../../lib/http';
+import { defineRoute } from '../../lib/http';
 import {
   badgeSignInSchema,
   passwordResetRequestSchema,
@@ -53,7 +53,7 @@ export function authRoutes(deps: AppDeps) {
   });
   const startSession = (
     req: Request,
-    res: Parameters<Parameters<typeof route>[0]['handler']>[1],
+    res: Response,
     user: UserRecord,
   ) => {
     const now = deps.clock();
@@ -73,41 +73,43 @@ export function authRoutes(deps: AppDeps) {
     res.json({ user: toSessionUser(user) });
   };
   return [
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/auth/sign-in',
       access: 'anyone',
       summary: 'Sign in with user name and password',
-      handler: async (req, res) => {
-        const { username, password } = passwordSignInSchema.parse(req.body);
+      request: { body: passwordSignInSchema },
+      handle: async ({ body }, res, req) => {
+        const { username, password } = body;
         startSession(req, res, await signInWithPassword(ctx(req), username, password));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/auth/badge-sign-in',
       access: 'anyone',
       summary: 'Sign in at a station with badge code and PIN',
-      handler: async (req, res) => {
-        const { badgeCode, pin } = badgeSignInSchema.parse(req.body);
+      request: { body: badgeSignInSchema },
+      handle: async ({ body }, res, req) => {
+        const { badgeCode, pin } = body;
         startSession(req, res, await signInWithBadge(ctx(req), badgeCode, pin));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/auth/sign-out',
       access: 'anyone',
       summary: 'End this session (and every other session of the person: the token version moves on)',
-      handler: async (req, res) => {
-        if (req.user) {
+      handle: async ({ caller: { user } }, res, req) => {
+        if (user) {
           // Server-side revocation: a copied session cookie stops working at once.
-          await revokeSessions(deps.db, req.user.id);
+          await revokeSessions(deps.db, user.id);
           await insertAudit(deps.db, {
-            actorId: req.user.id,
-            actorName: req.user.displayName,
+            actorId: user.id,
+            actorName: user.displayName,
             action: 'auth.signed_out',
             subjectType: 'user',
-            subjectId: req.user.id,
+            subjectId: user.id,
             ip: req.ip ?? null,
           });
         }
@@ -115,22 +117,23 @@ export function authRoutes(deps: AppDeps) {
         res.status(204).end();
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/me',
       access: 'signed-in',
       summary: 'The signed-in person',
-      handler: (req, res) => {
-        res.json({ user: req.user });
+      handle: ({ caller }, res) => {
+        res.json({ user: caller.user });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/auth/password-reset',
       access: 'anyone',
       summary: 'E-mail a reset link (answered the same whether or not the address is known)',
-      handler: async (req, res) => {
-        const { email } = passwordResetRequestSchema.parse(req.body);
+      request: { body: passwordResetRequestSchema },
+      handle: async ({ body }, res, req) => {
+        const { email } = body;
         const user = await findUserByEmail(deps.db, email);
         await requestPasswordReset(deps.db, deps.mailer, user, {
           now: deps.clock(),
@@ -140,13 +143,14 @@ export function authRoutes(deps: AppDeps) {
         res.status(202).json({ accepted: true });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/auth/set-password',
       access: 'anyone',
       summary: 'Choose a password with an invitation or reset link',
-      handler: async (req, res) => {
-        const { token, password } = setPasswordSchema.parse(req.body);
+      request: { body: setPasswordSchema },
+      handle: async ({ body }, res, req) => {
+        const { token, password } = body;
         const user = await completeLinkToken(deps.db, token, password, {
           now: deps.clock(),
           bcryptCost: deps.env.BCRYPT_COST,

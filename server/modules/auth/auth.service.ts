@@ -1,6 +1,6 @@
 import { createHash, randomBytes } from 'node:crypto';
 import bcrypt from 'bcryptjs';
-import { eq, lt, or, sql } from 'drizzle-orm';
+import { eq, lt, or } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import type { Mailer } from '../mail/mail.service';
@@ -11,8 +11,9 @@ import {
   findUserByUsername,
   reserveSignInAttempt,
   updateUser,
+  nextTokenVersion,
 } from '../users/users.repository';
-import { users, type UserRecord } from '../users/users.table';
+import type { UserRecord } from '../users/users.table';
 import { authTokens } from './auth.table';
 import { LOCKOUT_MINUTES, authErrors } from './auth.errors';
 import type { FailureThrottle } from './throttle';
@@ -180,7 +181,7 @@ export async function signInWithBadge(ctx: AuthContext, badgeCode: string, pin: 
 
 /** Ends every session of a person (sign-out): sessions carry the token version, which moves on. */
 export async function revokeSessions(db: DbOrTx, userId: string): Promise<void> {
-  await updateUser(db, userId, { tokenVersion: sql`${users.tokenVersion} + 1` });
+  await updateUser(db, userId, { tokenVersion: nextTokenVersion() });
 }
 
 /** Resolves a session token's subject to a live account: null when disabled or revoked. */
@@ -242,7 +243,7 @@ export async function completeLinkToken(
       passwordHash,
       failedAttempts: 0,
       lockedUntil: null,
-      tokenVersion: sql`${users.tokenVersion} + 1`,
+      tokenVersion: nextTokenVersion(),
     });
     await insertAudit(tx, {
       actorId: row.userId,

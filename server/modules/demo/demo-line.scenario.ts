@@ -8,8 +8,6 @@ import type { Recipe } from '../../../shared/schemas/recipe';
  * the line benchmark all read it.
  */
 
-export const DEMO_COMPANY = 'Corvane Motion Ltd';
-export const DEMO_PLANT = 'Hollin Ridge Works';
 export const DEMO_LINE = 'Line 2';
 
 /** How a motor model's units come off the line (the physics the station sees; not the recipe). */

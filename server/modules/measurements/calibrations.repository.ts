@@ -398,3 +398,23 @@ export function stationCalibrationFilter(
   if (conds.length === 0) return undefined;
   return sql`exists (select 1 from calibrations c where c.unit_id = ${unitId} and c.purpose = 'station' and ${sql.join(conds, sql` and `)})`;
 }
+
+/**
+ * The selections other modules may ask `calibrationViews` for: they name what they want (a unit's,
+ * a station's), and only this module builds SQL on its tables.
+ */
+export const calibrationsOf = {
+  unit: (unitId: string): SQL => eq(calibrations.unitId, unitId),
+  /** The station's own results (not engineers' recomputations). */
+  station: (stationId: string): SQL => and(eq(calibrations.stationId, stationId), eq(calibrations.purpose, 'station'))!,
+};
+
+/** Whether the station measured the unit at least once (a station reads only its own units' papers). */
+export async function stationMeasuredUnit(db: DbOrTx, stationId: string, unitId: string): Promise<boolean> {
+  const [own] = await db
+    .select({ id: calibrations.id })
+    .from(calibrations)
+    .where(and(eq(calibrations.unitId, unitId), eq(calibrations.stationId, stationId)))
+    .limit(1);
+  return !!own;
+}

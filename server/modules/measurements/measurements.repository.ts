@@ -1,6 +1,6 @@
 import type pg from 'pg';
-import { prepared } from '../../db/prepared';
 import type { Measurement } from '../../../shared/schemas/measurement';
+import { prepared } from '../../db/prepared';
 import { eq, sql } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { measurements } from './measurements.table';
@@ -15,25 +15,29 @@ export interface ReplaySelection {
   lastUnits: number;
 }
 
-/**
- * The latest station measurement of each of the last `lastUnits` units of the model within the
- * selection, newest first (ids only; bodies are read in batches by `replayBatch`).
- */
-export async function replayMeasurementIds(pool: pg.Pool, s: ReplaySelection): Promise<string[]> {
-  const { rows } = await pool.query<{ id: string }>(
-    `select id from (
-        select distinct on (m.unit_id) m.id, m.received_at
-          from measurements m join units u on u.id = m.unit_id
-         where u.model_id = $1
-           and ($2::timestamptz is null or m.received_at >= $2)
-           and ($3::timestamptz is null or m.received_at <= $3)
-           and ($4::uuid[] is null or m.station_id = any($4))
-         order by m.unit_id, m.received_at desc) latest
-      order by received_at desc
-      limit $5`,
-    [s.modelId, s.from ?? null, s.to ?? null, s.stationIds?.length ? s.stationIds : null, s.lastUnits],
-  );
-  return rows.map((r) => r.id);
+const LATEST_OF_SELECTION = `
+  select id from (
+      select distinct on (m.unit_id) m.id, m.received_at
+        from measurements m join units u on u.id = m.unit_id
+       where u.model_id = $1
+         and ($2::timestamptz is null or m.received_at >= $2)
+         and ($3::timestamptz is null or m.received_at <= $3)
+         and ($4::uuid[] is null or m.station_id = any($4))
+       order by m.unit_id, m.received_at desc) latest
+    order by received_at desc
+    limit $5`;
+
+const selectionValues = (s: ReplaySelection) => [
+  s.modelId,
+  s.from ?? null,
+  s.to ?? null,
+  s.stationIds?.length ? s.stationIds : null,
+  s.lastUnits,
+];
+
+/** Parses a replay row's stored measurement (see `ReplayRow.payloadJson`). */
+export function replayMeasurement(row: ReplayRow): Measurement {
+  return JSON.parse(row.payloadJson) as Measurement;
 }
 
 export interface ReplayRow {
@@ -43,7 +47,12 @@ export interface ReplayRow {
   serial: string;
   receivedAt: Date;
   source: 'timings' | 'capture';
-  payload: Measurement;
+  /**
+   * The stored measurement as JSON text, parsed by the caller just before it is replayed: a parsed
+   * body then lives for one replay instead of a whole batch, which keeps the garbage collector's work
+   * and the peak memory small.
+   */
+  payloadJson: string;
   /** The capture's CSV text (null for posted timings: the JSON is the measurement). */
   payloadRaw: string | null;
   /** The station's own calibration with `baselineRecipeId` and this engine, when there is one. */
@@ -55,40 +64,106 @@ export interface ReplayRow {
   } | null;
 }
 
-/** Bodies of the given measurements, with the station calibration by the baseline version if stored. */
-export async function replayBatch(
+/** One what-if's stored measurements, read in batches through a cursor. */
+export interface ReplayStream {
+  /** Measurements in the selection (counted in the same snapshot the cursor reads). */
+  total: number;
+  /** Batches of at most `batchSize` rows; the next batch is fetched while the caller works on this one. */
+  batches: AsyncGenerator<ReplayRow[], void, void>;
+  /** Ends the read (also after an early stop); always call it. */
+  close: () => Promise<void>;
+}
+
+/**
+ * Streams the latest station measurement of each of the last `lastUnits` units of the model within
+ * the selection, with the station calibration by the baseline version (and this engine) when stored.
+ * One connection holds a read-only snapshot and a server-side cursor, so memory stays at about two
+ * batches whatever the selection's size, and nothing committed meanwhile changes the count or rows.
+ */
+export async function openReplayStream(
   pool: pg.Pool,
-  ids: string[],
+  s: ReplaySelection,
   baselineRecipeId: string,
   engineVersion: string,
-): Promise<ReplayRow[]> {
-  const { rows } = await pool.query(
-    prepared(
-      `select m.id, m.measurement_id, m.unit_id, m.serial, m.received_at, m.source, m.payload,
+  batchSize: number,
+): Promise<ReplayStream> {
+  const client = await pool.connect();
+  let pending: Promise<unknown> | null = null;
+  let closed = false;
+  const close = async (err?: Error) => {
+    if (closed) return;
+    closed = true;
+    await pending?.catch(() => {});
+    if (err) return client.release(err);
+    try {
+      await client.query('rollback');
+      client.release();
+    } catch (e) {
+      client.release(e as Error);
+    }
+  };
+  try {
+    await client.query('begin isolation level repeatable read read only');
+    const {
+      rows: [{ n }],
+    } = await client.query<{ n: number }>(
+      `select count(*)::int as n from (${LATEST_OF_SELECTION}) l`,
+      selectionValues(s),
+    );
+    await client.query(
+      `declare replay no scroll cursor for
+       select m.id, m.measurement_id, m.unit_id, m.serial, m.received_at, m.source, m.payload::text as payload_json,
               case when m.source = 'capture' then m.payload_raw end as payload_raw,
               c.verdict as base_verdict, c.offset_deg as base_offset,
               array(select x->>'code' from jsonb_array_elements(c.result->'checks') x
                      where x->>'passed' = 'false') as base_failed
-         from measurements m
-         left join calibrations c on c.measurement_pk = m.id and c.recipe_id = $2 and c.engine_version = $3
-                                 and c.purpose = 'station'
-        where m.id = any($1::uuid[])`,
-      [ids, baselineRecipeId, engineVersion],
-    ),
-  );
-  return rows.map((r) => ({
+         from (${LATEST_OF_SELECTION}) l
+         join measurements m on m.id = l.id
+         left join calibrations c on c.measurement_pk = m.id and c.recipe_id = $6 and c.engine_version = $7
+                                 and c.purpose = 'station'`,
+      [...selectionValues(s), baselineRecipeId, engineVersion],
+    );
+    const fetch = () => {
+      const q = client.query(`fetch forward ${Math.max(1, Math.floor(batchSize))} from replay`);
+      pending = q;
+      return q.then((r) => r.rows.map(toReplayRow));
+    };
+    const batches = async function* () {
+      try {
+        let next = fetch();
+        for (;;) {
+          const rows = await next;
+          if (rows.length === 0) return;
+          next = rows.length < batchSize ? Promise.resolve([]) : fetch();
+          yield rows;
+        }
+      } catch (e) {
+        await close(e as Error);
+        throw e;
+      }
+    };
+    return { total: n, batches: batches(), close: () => close() };
+  } catch (e) {
+    await close(e as Error);
+    throw e;
+  }
+}
+
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- a raw pg row of the replay cursor
+function toReplayRow(r: any): ReplayRow {
+  return {
     id: r.id,
     measurementId: r.measurement_id,
     unitId: r.unit_id,
     serial: r.serial,
     receivedAt: r.received_at,
     source: r.source,
-    payload: r.payload,
+    payloadJson: r.payload_json,
     payloadRaw: r.payload_raw,
     baseline: r.base_verdict
       ? { verdict: r.base_verdict, offsetDeg: r.base_offset, failedChecks: r.base_failed ?? [] }
       : null,
-  }));
+  };
 }
 
 /**

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
+import { defineRoute } from '../../lib/http';
 import {
   programmingConfirmationSchema,
   recomputeSchema,
@@ -42,26 +42,26 @@ export function measurementsRoutes(deps: AppDeps) {
   // A station whose qualification is overdue or failed is refused (423) before anything is stored.
   const gate = { db: deps.db, pool: deps.pool, clock: deps.clock, timeZone: deps.env.PLANT_TIME_ZONE };
   return [
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/station/measurements',
       access: 'station',
       summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
-      body: measurementSchema,
-      handler: async (req, res) => {
+      serviceParsedBody: measurementSchema,
+      handle: async ({ caller }, res, req) => {
         await assertProductionAllowed(
           gate,
-          req.station!.stationId,
+          caller.station.stationId,
           measurementSchema.shape.serial.safeParse(req.body?.serial).data,
         );
-        const accepted = await acceptMeasurement(ctx, req.station!, req.body, { raw: req.rawBody });
+        const accepted = await acceptMeasurement(ctx, caller.station, req.body, { raw: req.rawBody });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
           .location(accepted.resultUrl)
           .json(accepted);
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/station/captures',
       access: 'station',
@@ -75,14 +75,14 @@ export function measurementsRoutes(deps: AppDeps) {
         },
       },
       before: [captureUpload.single('capture')],
-      handler: async (req, res) => {
-        const fields = captureFields.parse(req.body ?? {});
-        await assertProductionAllowed(gate, req.station!.stationId, fields.serial);
+      request: { body: captureFields },
+      handle: async ({ body: fields, caller }, res, req) => {
+        await assertProductionAllowed(gate, caller.station.stationId, fields.serial);
         if (!req.file)
           throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
         // The bytes are parsed as they are; the text is made only for a capture worth storing.
-        const measurement = await measurementFromCapture(ctx, req.station!, fields, req.file.buffer);
-        const accepted = await acceptMeasurement(ctx, req.station!, measurement, {
+        const measurement = await measurementFromCapture(ctx, caller.station, fields, req.file.buffer);
+        const accepted = await acceptMeasurement(ctx, caller.station, measurement, {
           source: 'capture',
           raw: req.file.buffer.toString('utf8'),
         });
@@ -92,61 +92,55 @@ export function measurementsRoutes(deps: AppDeps) {
           .json(accepted);
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/station/measurements/:measurementId/result',
       access: 'station',
       summary: 'The calibration of a measurement; waitMs long-polls until it commits',
-      query: resultQuerySchema,
-      handler: async (req, res) => {
-        const { measurementId } = idParams.parse(req.params);
-        const { waitMs } = resultQuerySchema.parse(req.query);
-        const view = await waitForResult(deps, req.station!.stationId, measurementId, waitMs, req);
+      request: { params: idParams, query: resultQuerySchema },
+      handle: async ({ params: { measurementId }, query: { waitMs }, caller }, res, req) => {
+        const view = await waitForResult(deps, caller.station.stationId, measurementId, waitMs, req);
         res.json({ measurementId, status: view ? 'computed' : 'pending', calibration: view });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/station/measurements/:measurementId/programming',
       access: 'station',
       summary: 'Confirm the value written into the unit and read back',
-      body: programmingConfirmationSchema,
-      handler: async (req, res) => {
-        const { measurementId } = idParams.parse(req.params);
-        const body = programmingConfirmationSchema.parse(req.body);
-        res.json(await confirmProgramming(ctx, req.station!, measurementId, body));
+      request: { params: idParams, body: programmingConfirmationSchema },
+      handle: async ({ params: { measurementId }, body, caller }, res) => {
+        res.json(await confirmProgramming(ctx, caller.station, measurementId, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/measurements/:measurementId/recompute',
       access: ['engineer'],
       summary:
         'Recompute a stored measurement with a released recipe version (analysis only; the unit is unchanged)',
-      body: recomputeSchema,
-      handler: async (req, res) => {
-        const { measurementId } = idParams.parse(req.params);
-        const input = recomputeSchema.parse(req.body);
-        const out = await requestRecompute(ctx, req.user!, measurementId, input);
+      request: { params: idParams, body: recomputeSchema },
+      handle: async ({ params: { measurementId }, body: input, caller }, res) => {
+        const out = await requestRecompute(ctx, caller.user, measurementId, input);
         res.status(out.status === 'queued' ? 202 : 200).json(out);
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/station/heartbeat',
       access: 'station',
       summary: 'Tell the server the station is alive',
-      handler: async (req, res) => {
+      handle: async ({ caller: { station } }, res) => {
         const now = deps.clock();
-        await recordHeartbeat(deps.db, req.station!.stationId, now);
+        await recordHeartbeat(deps.db, station.stationId, now);
         await notifyLineEvent(deps.db, {
           type: 'station.heartbeat',
-          stationId: req.station!.stationId,
+          stationId: station.stationId,
           at: now.toISOString(),
         });
         res.json({
-          stationId: req.station!.stationId,
-          stationName: req.station!.stationName,
+          stationId: station.stationId,
+          stationName: station.stationName,
           at: now.toISOString(),
         });
       },

@@ -49,10 +49,6 @@ export async function openHolds(db: DbOrTx, limit: number) {
     .limit(limit);
 }
 
-export async function holdsOfUnit(db: DbOrTx, unitId: string): Promise<UnitHoldRecord[]> {
-  return db.select().from(unitHolds).where(eq(unitHolds.unitId, unitId)).orderBy(asc(unitHolds.heldAt));
-}
-
 export async function insertInvestigation(
   tx: DbOrTx,
   values: typeof investigations.$inferInsert,
@@ -103,14 +99,6 @@ export async function linkedUnitIds(db: DbOrTx, investigationId: string): Promis
     .where(eq(investigationUnits.investigationId, investigationId))
     .orderBy(asc(investigationUnits.addedAt));
   return rows.map((r) => r.unitId);
-}
-
-export async function investigationsOfUnit(db: DbOrTx, unitId: string) {
-  return db
-    .select({ inv: investigations })
-    .from(investigationUnits)
-    .innerJoin(investigations, eq(investigations.id, investigationUnits.investigationId))
-    .where(eq(investigationUnits.unitId, unitId));
 }
 
 export async function insertComment(tx: DbOrTx, values: typeof investigationComments.$inferInsert) {

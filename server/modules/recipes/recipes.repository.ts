@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, sql } from 'drizzle-orm';
+import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import {
   models,
@@ -156,4 +156,11 @@ export async function findModelWithActiveRecipe(
     ? await db.select().from(recipes).where(eq(recipes.id, model.activeRecipeId))
     : [];
   return { model, recipe: recipe ?? null };
+}
+
+/** Which of the given model ids exist. */
+export async function existingModelIds(db: DbOrTx, ids: string[]): Promise<Set<string>> {
+  if (ids.length === 0) return new Set();
+  const rows = await db.select({ id: models.id }).from(models).where(inArray(models.id, ids));
+  return new Set(rows.map((r) => r.id));
 }

@@ -313,6 +313,87 @@ describe('audit', () => {
   });
 });
 
+describe('discarding a draft', () => {
+  it('another engineer may discard a draft with a reason: it leaves the working list, its record stays, audited', async () => {
+    const { line, draft } = await modelWithDraft('DD-1');
+    const noReason = await api('rosa').post(`/api/recipes/${draft.id}/discard`, { revision: draft.revision });
+    expect(noReason.status).toBe(400);
+    t.setNow(new Date('2026-11-30T10:05:00Z'));
+    const gone = await api('rosa').post(`/api/recipes/${draft.id}/discard`, {
+      reason: 'Superseded by the window study',
+      revision: draft.revision,
+    });
+    t.setNow(null as unknown as Date);
+    expect(gone.status).toBe(200);
+    expect(gone.body).toMatchObject({
+      status: 'discarded',
+      discardedBy: { displayName: 'Rosa Kettleby' },
+      discardedAt: '2026-11-30T10:05:00.000Z',
+      discardReason: 'Superseded by the window study',
+    });
+    const model = (await api('quinn').get(`/api/models/${line.model.id}`)).body;
+    expect(model.versions.map((v: RecipeVersionView) => v.version)).toEqual([1]);
+    expect(model.discarded.map((v: RecipeVersionView) => v.id)).toEqual([draft.id]);
+    // The record stays, readable by id.
+    expect((await api('olga').get(`/api/recipes/${draft.id}`)).body.status).toBe('discarded');
+    const [audit] = await q<{ action: string; reason: string; before: unknown; after: unknown }>(
+      `select action, reason, before, after from audit_log where subject_id = $1 and action = 'recipes.draft_discarded'`,
+      [draft.id],
+    );
+    expect(audit).toMatchObject({
+      reason: 'Superseded by the window study',
+      before: { status: 'draft', revision: 1 },
+      after: { status: 'discarded', revision: 2 },
+    });
+  });
+
+  it('a discarded draft can no longer be saved, submitted or discarded again', async () => {
+    const { draft } = await modelWithDraft('DD-2');
+    await api('evan').post(`/api/recipes/${draft.id}/discard`, { reason: 'Wrong model', revision: 1 });
+    const save = await api('evan').patch(`/api/recipes/${draft.id}`, { body: draft.body, revision: 2 });
+    expect(save.status).toBe(409);
+    expect(save.body.error.code).toBe('recipes.not_a_draft');
+    expect(save.body.error.message).toContain('discarded');
+    const submit = await api('evan').post(`/api/recipes/${draft.id}/submit`, { reason: 'Try', revision: 2 });
+    expect(submit.status).toBe(409);
+    const again = await api('rosa').post(`/api/recipes/${draft.id}/discard`, { reason: 'Again', revision: 2 });
+    expect(again.status).toBe(409);
+  });
+
+  it('only drafts are discarded: a version in review or in force is refused; a stale revision gets the 409 naming who saved', async () => {
+    const { line, draft } = await modelWithDraft('DD-3');
+    const released = await api('evan').post(`/api/recipes/${line.recipe.id}/discard`, {
+      reason: 'Not allowed',
+      revision: 1,
+    });
+    expect(released.status).toBe(409);
+    expect(released.body.error.code).toBe('recipes.not_a_draft');
+    const saved = await api('evan').patch(`/api/recipes/${draft.id}`, {
+      body: { ...draft.body, maxAttempts: 4 },
+      revision: draft.revision,
+    });
+    expect(saved.status).toBe(200);
+    const stale = await api('rosa').post(`/api/recipes/${draft.id}/discard`, {
+      reason: 'Not needed',
+      revision: draft.revision,
+    });
+    expect(stale.status).toBe(409);
+    expect(stale.body.error.code).toBe('recipes.changed_meanwhile');
+    expect(stale.body.error.message).toContain('Evan Thorsby');
+    await narrowAndSubmit((await api('evan').get(`/api/recipes/${draft.id}`)).body);
+    const inReview = await api('rosa').post(`/api/recipes/${draft.id}/discard`, { reason: 'Late', revision: 4 });
+    expect(inReview.status).toBe(409);
+  });
+
+  it('operators, quality and administrators may not discard a draft', async () => {
+    const { draft } = await modelWithDraft('DD-4');
+    for (const who of ['olga', 'quinn', 'ada'] as const) {
+      const res = await api(who).post(`/api/recipes/${draft.id}/discard`, { reason: 'No', revision: 1 });
+      expect(res.status).toBe(403);
+    }
+  });
+});
+
 describe('who may do what', () => {
   it('operators and quality read recipes; only engineers change them; admins manage nothing here', async () => {
     const { line, draft } = await modelWithDraft('RO-1');

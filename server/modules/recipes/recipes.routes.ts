@@ -1,10 +1,11 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
+import { defineRoute } from '../../lib/http';
 import type { Access } from '../../../shared/schemas/roles';
 import {
   approveSchema,
   createDraftSchema,
+  discardDraftSchema,
   modelInputSchema,
   saveDraftSchema,
   sendBackSchema,
@@ -18,6 +19,7 @@ import {
   createDraft,
   createModel,
   diffVersions,
+  discardDraft,
   getVersion,
   listModels,
   modelDetail,
@@ -34,7 +36,7 @@ const runParams = z.object({ id: z.string().uuid('Not a what-if run id') });
 const diffQuery = z.object({ against: z.string().uuid('Name the version to compare with (against=<id>).') });
 
 /** Recipes are the process engineers' trade: they change them; everyone signed in reads them. */
-const ENGINEERS_ONLY: Access = { only: ['engineer'] };
+const ENGINEERS_ONLY = { only: ['engineer'] } as const satisfies Access;
 
 export function recipeDeskContext(deps: AppDeps): RecipeDeskContext {
   return {
@@ -51,178 +53,185 @@ export function recipesRoutes(deps: AppDeps) {
   const ctx = recipeDeskContext(deps);
   const whatIf = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/models',
       access: 'signed-in',
       summary: 'Motor models with the recipe version in force, stations, units built and first-pass yield',
-      handler: async (_req, res) => {
+      handle: async (_input, res) => {
         res.json({ models: await listModels(ctx) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/models',
       access: ENGINEERS_ONLY,
       summary: 'Create a motor model (audited with a reason)',
-      body: modelInputSchema,
-      handler: async (req, res) => {
-        res.status(201).json(await createModel(ctx, req.user!, modelInputSchema.parse(req.body)));
+      request: { body: modelInputSchema },
+      handle: async ({ body, caller }, res) => {
+        res.status(201).json(await createModel(ctx, caller.user, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/models/:id',
       access: 'signed-in',
       summary: 'One model with all its recipe versions',
-      handler: async (req, res) => {
-        res.json(await modelDetail(ctx, modelParams.parse(req.params).id));
+      request: { params: modelParams },
+      handle: async ({ params }, res) => {
+        res.json(await modelDetail(ctx, params.id));
       },
     }),
-    route({
+    defineRoute({
       method: 'patch',
       path: '/api/models/:id',
       access: ENGINEERS_ONLY,
       summary: 'Change a model: code, name, pole pairs (audited with before, after and a reason)',
-      body: modelInputSchema,
-      handler: async (req, res) => {
-        const { id } = modelParams.parse(req.params);
-        res.json(await updateModel(ctx, req.user!, id, modelInputSchema.parse(req.body)));
+      request: { params: modelParams, body: modelInputSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.json(await updateModel(ctx, caller.user, params.id, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/models/:id/recipes',
       access: ENGINEERS_ONLY,
       summary: 'Create a draft recipe version by copying any version of the model',
-      body: createDraftSchema,
-      handler: async (req, res) => {
-        const { id } = modelParams.parse(req.params);
-        res.status(201).json(await createDraft(ctx, req.user!, id, createDraftSchema.parse(req.body)));
+      request: { params: modelParams, body: createDraftSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.status(201).json(await createDraft(ctx, caller.user, params.id, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/recipe-settings',
       access: 'signed-in',
       summary: "The plant's release rule: two people (default) or one",
-      handler: (_req, res) => {
+      handle: (_input, res) => {
         res.json({ singlePersonRelease: ctx.singlePersonRelease });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/recipes/:id',
       access: 'signed-in',
       summary: 'One recipe version',
-      handler: async (req, res) => {
-        res.json(await getVersion(ctx, recipeParams.parse(req.params).id));
+      request: { params: recipeParams },
+      handle: async ({ params }, res) => {
+        res.json(await getVersion(ctx, params.id));
       },
     }),
-    route({
+    defineRoute({
       method: 'patch',
       path: '/api/recipes/:id',
       access: ENGINEERS_ONLY,
       summary: 'Save a draft (optimistic: 409 when someone saved it since the given revision)',
-      body: saveDraftSchema,
-      handler: async (req, res) => {
-        const { id } = recipeParams.parse(req.params);
-        res.json(await saveDraft(ctx, req.user!, id, saveDraftSchema.parse(req.body)));
+      request: { params: recipeParams, body: saveDraftSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.json(await saveDraft(ctx, caller.user, params.id, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/recipes/:id/diff',
       access: 'signed-in',
       summary: 'Field-by-field differences from another version (against) to this one',
-      query: diffQuery,
-      handler: async (req, res) => {
-        const { id } = recipeParams.parse(req.params);
-        res.json(await diffVersions(ctx, diffQuery.parse(req.query).against, id));
+      request: { params: recipeParams, query: diffQuery },
+      handle: async ({ params, query }, res) => {
+        res.json(await diffVersions(ctx, query.against, params.id));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/recipes/:id/submit',
       access: ENGINEERS_ONLY,
       summary: 'Submit a draft for review with a change reason (the other engineers get an e-mail)',
-      body: submitDraftSchema,
-      handler: async (req, res) => {
-        const { id } = recipeParams.parse(req.params);
-        res.json(await submitDraft(ctx, req.user!, id, submitDraftSchema.parse(req.body)));
+      request: { params: recipeParams, body: submitDraftSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.json(await submitDraft(ctx, caller.user, params.id, body));
       },
     }),
-    route({
+    defineRoute({
+      method: 'post',
+      path: '/api/recipes/:id/discard',
+      access: ENGINEERS_ONLY,
+      summary: 'Discard a draft with a reason (audited; the record stays, it leaves the working list)',
+      request: { params: recipeParams, body: discardDraftSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.json(await discardDraft(ctx, caller.user, params.id, body));
+      },
+    }),
+    defineRoute({
       method: 'post',
       path: '/api/recipes/:id/approve',
       access: ENGINEERS_ONLY,
       summary: 'Approve a version in review: it is released and in force for new measurements from now',
-      body: approveSchema,
-      handler: async (req, res) => {
-        const { id } = recipeParams.parse(req.params);
-        res.json(await approveVersion(ctx, req.user!, id, approveSchema.parse(req.body)));
+      request: { params: recipeParams, body: approveSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.json(await approveVersion(ctx, caller.user, params.id, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/recipes/:id/send-back',
       access: ENGINEERS_ONLY,
       summary: 'Send a version in review back to draft with a comment',
-      body: sendBackSchema,
-      handler: async (req, res) => {
-        const { id } = recipeParams.parse(req.params);
-        res.json(await sendBackVersion(ctx, req.user!, id, sendBackSchema.parse(req.body)));
+      request: { params: recipeParams, body: sendBackSchema },
+      handle: async ({ params, body, caller }, res) => {
+        res.json(await sendBackVersion(ctx, caller.user, params.id, body));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/recipes/:id/what-if',
       access: ENGINEERS_ONLY,
       summary:
         "Run this version over past units' stored measurements (analysis only; default: the last 1,000 units)",
-      body: startWhatIfSchema,
-      handler: async (req, res) => {
-        const { id } = recipeParams.parse(req.params);
-        const { filters } = startWhatIfSchema.parse(req.body ?? {});
+      request: { params: recipeParams, body: startWhatIfSchema },
+      handle: async ({ params, body, caller }, res) => {
         res
           .status(202)
-          .json(await startWhatIf(whatIf, req.user!, id, filters ?? whatIfFiltersSchema.parse({})));
+          .json(await startWhatIf(whatIf, caller.user, params.id, body.filters ?? whatIfFiltersSchema.parse({})));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/recipes/:id/what-if',
       access: 'signed-in',
       summary: 'The what-if runs of this version, newest first',
-      handler: async (req, res) => {
-        res.json({ runs: await listWhatIfs(whatIf, recipeParams.parse(req.params).id) });
+      request: { params: recipeParams },
+      handle: async ({ params }, res) => {
+        res.json({ runs: await listWhatIfs(whatIf, params.id) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/what-if/:id',
       access: 'signed-in',
       summary: 'One what-if run: progress, and its results once done',
-      handler: async (req, res) => {
-        res.json(await getWhatIf(whatIf, runParams.parse(req.params).id));
+      request: { params: runParams },
+      handle: async ({ params }, res) => {
+        res.json(await getWhatIf(whatIf, params.id));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/what-if/:id/cancel',
       access: ENGINEERS_ONLY,
       summary: 'Stop a queued or running what-if run',
-      handler: async (req, res) => {
-        res.json(await cancelWhatIf(whatIf, runParams.parse(req.params).id));
+      request: { params: runParams },
+      handle: async ({ params }, res) => {
+        res.json(await cancelWhatIf(whatIf, params.id));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/what-if/:id/events',
       access: 'signed-in',
       summary: 'Server-Sent Events: progress of one what-if run until it ends',
-      handler: async (req, res) => {
-        const { id } = runParams.parse(req.params);
+      request: { params: runParams },
+      responses: { 200: { description: 'An event stream of `progress` events', contentType: 'text/event-stream' } },
+      handle: async ({ params: { id } }, res, req) => {
         // Subscribe first, then read: a step that happens in between is still seen.
         const send = (event: string, data: unknown) =>
           res.write(`event: ${event}\ndata: ${JSON.stringify(data)}\n\n`);

@@ -85,6 +85,9 @@ export function versionView(
     retiredAt: iso(r.retiredAt),
     releaseDiff: r.releaseDiff,
     replaces: versionOf(r.replacesId),
+    discardedBy: ref(p, r.discardedBy),
+    discardedAt: iso(r.discardedAt),
+    discardReason: r.discardReason,
   };
 }
 
@@ -135,7 +138,12 @@ export async function modelDetail(
     repo.listRecipeRows(ctx.db, modelId),
     people(ctx.db),
   ]);
-  return { ...summary, versions: versions.map((v) => versionView(v, model, versions, p)) };
+  const views = versions.map((v) => versionView(v, model, versions, p));
+  return {
+    ...summary,
+    versions: views.filter((v) => v.status !== 'discarded'),
+    discarded: views.filter((v) => v.status === 'discarded'),
+  };
 }
 
 const modelAudit = (m: ModelRecord) => ({ code: m.code, name: m.name, polePairs: m.polePairs });
@@ -258,7 +266,13 @@ async function lostRace(db: Db, id: string, expectedStatus: RecipeRecord['status
 }
 
 function statusWords(s: RecipeRecord['status']): string {
-  return { draft: 'a draft', in_review: 'in review', released: 'released (in force)', retired: 'retired' }[s];
+  return {
+    draft: 'a draft',
+    in_review: 'in review',
+    released: 'released (in force)',
+    retired: 'retired',
+    discarded: 'discarded',
+  }[s];
 }
 
 export async function saveDraft(
@@ -294,6 +308,47 @@ export async function saveDraft(
       subjectId: id,
       before: { revision: before.revision, changes: diffRecipes(before.body, body) },
       after: { revision: after.revision, body },
+    });
+  });
+  return versionViewById(ctx.db, id);
+}
+
+/**
+ * An engineer (the author or another) discards a draft with a reason. The row stays with who, when
+ * and why; it leaves the model's working list and can no longer be saved, submitted or approved.
+ */
+export async function discardDraft(
+  ctx: RecipeDeskContext,
+  actor: SessionUser,
+  id: string,
+  input: { reason: string; revision: number },
+) {
+  const before = await repo.findRecipeRow(ctx.db, id);
+  if (!before) throw recipeErrors.notFound();
+  if (before.status !== 'draft') throw recipeErrors.notADraft(before.version, statusWords(before.status));
+  await ctx.db.transaction(async (tx) => {
+    const now = ctx.clock();
+    const after = await repo.updateRecipeRowIf(
+      tx,
+      id,
+      { status: 'draft', revision: input.revision },
+      {
+        status: 'discarded',
+        discardedBy: actor.id,
+        discardedAt: now,
+        discardReason: input.reason,
+        revision: input.revision + 1,
+      },
+    );
+    if (!after) return lostRace(ctx.db, id, 'draft');
+    await insertAudit(tx, {
+      actorId: actor.id,
+      action: 'recipes.draft_discarded',
+      subjectType: 'recipe',
+      subjectId: id,
+      reason: input.reason,
+      before: { status: 'draft', revision: before.revision },
+      after: { status: 'discarded', revision: after.revision, discardedAt: now.toISOString() },
     });
   });
   return versionViewById(ctx.db, id);

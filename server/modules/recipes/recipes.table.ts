@@ -31,10 +31,17 @@ export const models = pgTable(
   (t) => [uniqueIndex('models_code_key').on(sql`upper(${t.code})`)],
 );
 
-export const recipeStatusEnum = pgEnum('recipe_status', ['draft', 'in_review', 'released', 'retired']);
+export const recipeStatusEnum = pgEnum('recipe_status', [
+  'draft',
+  'in_review',
+  'released',
+  'retired',
+  'discarded',
+]);
 
 /**
- * Recipe versions: draft → in review → released → retired (in review may go back to draft).
+ * Recipe versions: draft → in review → released → retired (in review may go back to draft; a draft
+ * may be discarded, which keeps its row and takes it off the working list).
  * A released version is immutable (a trigger refuses changes to its body, release record and
  * deletion); retiring it is the only change allowed. Every calibration names the version it used.
  * `revision` counts saves of a draft, for optimistic concurrency.
@@ -70,6 +77,10 @@ export const recipes = pgTable(
     releasedBy: uuid().references(() => users.id),
     releasedAt: timestamp({ withTimezone: true }),
     retiredAt: timestamp({ withTimezone: true }),
+    /** Who discarded the draft, when and why (the row stays, for the record). */
+    discardedBy: uuid().references(() => users.id),
+    discardedAt: timestamp({ withTimezone: true }),
+    discardReason: text(),
   },
   (t) => [
     uniqueIndex('recipes_model_version_key').on(t.modelId, t.version),

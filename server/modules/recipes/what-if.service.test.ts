@@ -115,6 +115,33 @@ describe('what-if on past units', () => {
     expect(d.fromDeg).toBeLessThanOrEqual(-13);
   });
 
+  it('groups the changed units by hall-board, magnet-ring and stator lot, with the units replayed of each lot', async () => {
+    // Three of the four units that would now fail share a hall-board lot; one unit has no magnet lot.
+    const hall: Record<string, string> = { 'WI-00': 'HB-2446-C', 'WI-01': 'HB-2446-C', 'WI-06': 'HB-2446-C' };
+    for (const [i] of OFFSETS.entries()) {
+      const serial = `WI-${String(i).padStart(2, '0')}`;
+      await t.database.pool.query(
+        'update units set hall_board_lot = $2, magnet_ring_lot = $3, stator_lot = null where serial = $1',
+        [serial, hall[serial] ?? 'HB-2446-A', serial === 'WI-07' ? null : 'MR-7'],
+      );
+    }
+    const run = await whatIf(draft.id);
+    expect(run.summary!.lots).toEqual({
+      hallBoard: [
+        { lot: 'HB-2446-C', replayed: 3, changed: 3, passToFail: 3, failToPass: 0 },
+        { lot: 'HB-2446-A', replayed: 6, changed: 1, passToFail: 1, failToPass: 0 },
+      ],
+      magnetRing: [
+        { lot: 'MR-7', replayed: 8, changed: 3, passToFail: 3, failToPass: 0 },
+        { lot: null, replayed: 1, changed: 1, passToFail: 1, failToPass: 0 },
+      ],
+      stator: [{ lot: null, replayed: OFFSETS.length, changed: 4, passToFail: 4, failToPass: 0 }],
+    });
+    const listed = Object.fromEntries(run.summary!.changed.map((c) => [c.serial, c.lots]));
+    expect(listed['WI-00']).toEqual({ hallBoard: 'HB-2446-C', magnetRing: 'MR-7', stator: null });
+    expect(listed['WI-07']).toEqual({ hallBoard: 'HB-2446-A', magnetRing: null, stator: null });
+  });
+
   it('leaves no trace on units, measurements, calibrations, travelers, programming or recipes', async () => {
     const before = await fingerprint();
     const run = await whatIf(draft.id);

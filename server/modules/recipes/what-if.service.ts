@@ -6,18 +6,23 @@ import type { SessionUser } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
 import { ENGINE_VERSION } from '../../../shared/calibration';
 import type { CheckCode } from '../../../shared/schemas/calibration-result';
-import type {
-  OffsetHistogram,
-  WhatIfChangedUnit,
-  WhatIfFilters,
-  WhatIfProgress,
-  WhatIfRunView,
-  WhatIfSummary,
+import {
+  COMPONENT_LOT_LABELS,
+  type ComponentLotKind,
+  type OffsetHistogram,
+  type WhatIfChangedUnit,
+  type WhatIfFilters,
+  type WhatIfLotGroup,
+  type WhatIfProgress,
+  type WhatIfRunView,
+  type WhatIfSummary,
 } from '../../../shared/schemas/recipes';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import { runEngine } from '../measurements/measurements.service';
-import { replayBatch, replayMeasurementIds, type ReplayRow } from '../measurements/measurements.repository';
+import { openReplayStream, replayMeasurement, type ReplayRow } from '../measurements/measurements.repository';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import { listUsers } from '../users/users.repository';
+import { componentLotsByIds, type ComponentLots } from '../units/units.service';
 import { recipeErrors } from './recipes.errors';
 import * as repo from './recipes.repository';
 import type { RecipeRecord, WhatIfRunRecord } from './recipes.table';
@@ -32,6 +37,48 @@ export interface WhatIfContext {
 /** Measurements read and replayed per batch: bounded memory whatever the selection's size. */
 export const WHAT_IF_BATCH = 250;
 const MAX_LISTED = 500;
+/** Lots listed per kind of lot (hall board, magnet ring, stator); the counts behind them are complete. */
+const MAX_LOTS_LISTED = 50;
+const LOT_KINDS = Object.keys(COMPONENT_LOT_LABELS) as ComponentLotKind[];
+const NO_LOTS: ComponentLots = { hallBoard: null, magnetRing: null, stator: null };
+
+/** Replayed and changed units per component lot, for each kind of lot. */
+class LotTally {
+  private readonly byKind = new Map<ComponentLotKind, Map<string | null, WhatIfLotGroup>>(
+    LOT_KINDS.map((k) => [k, new Map()]),
+  );
+
+  add(lots: ComponentLots, change: 'none' | 'passToFail' | 'failToPass' | 'other') {
+    for (const kind of LOT_KINDS) {
+      const groups = this.byKind.get(kind)!;
+      const lot = lots[kind];
+      let g = groups.get(lot);
+      if (!g) groups.set(lot, (g = { lot, replayed: 0, changed: 0, passToFail: 0, failToPass: 0 }));
+      g.replayed++;
+      if (change === 'none') continue;
+      g.changed++;
+      if (change === 'passToFail') g.passToFail++;
+      if (change === 'failToPass') g.failToPass++;
+    }
+  }
+
+  /** Lots with at least one change, most changes first, then by share of the lot that changes. */
+  result(): Record<ComponentLotKind, WhatIfLotGroup[]> {
+    const out = {} as Record<ComponentLotKind, WhatIfLotGroup[]>;
+    for (const kind of LOT_KINDS) {
+      out[kind] = [...this.byKind.get(kind)!.values()]
+        .filter((g) => g.changed > 0)
+        .sort(
+          (a, b) =>
+            b.changed - a.changed ||
+            b.changed / b.replayed - a.changed / a.replayed ||
+            String(a.lot).localeCompare(String(b.lot)),
+        )
+        .slice(0, MAX_LOTS_LISTED);
+    }
+    return out;
+  }
+}
 
 const CHECK_LABELS: Record<CheckCode, string> = {
   'offset.within_limits': 'Offset within its window',
@@ -156,8 +203,8 @@ function outcomeOf(result: ReturnType<typeof runEngine>['result']): Outcome {
 }
 
 /** What one version says of one stored measurement: the same engine call as a recomputation. */
-export function replayOne(row: ReplayRow, recipe: RecipeRecord): Outcome {
-  return outcomeOf(runEngine({ ...row }, recipe).result);
+export function replayOne(row: ReplayRow, payload: Measurement, recipe: RecipeRecord): Outcome {
+  return outcomeOf(runEngine({ ...row, payload }, recipe).result);
 }
 
 function histogram(values: number[], fromDeg: number, toDeg: number): OffsetHistogram {
@@ -191,11 +238,19 @@ export async function runWhatIf(
     repo.findRecipeRow(ctx.db, run.baselineRecipeId),
   ]);
   const t0 = performance.now();
-  const ids = await replayMeasurementIds(ctx.pool, { modelId: run.modelId, ...run.filters });
+  const stream = await openReplayStream(
+    ctx.pool,
+    { modelId: run.modelId, ...run.filters },
+    baseline!.id,
+    ENGINE_VERSION,
+    WHAT_IF_BATCH,
+  );
+  const total = stream.total;
+  let processed = 0;
   let current = (await repo.updateWhatIfRun(ctx.db, runId, {
     status: 'running',
     startedAt: ctx.clock(),
-    total: ids.length,
+    total,
     processed: 0,
   }))!;
   await progress(ctx, current);
@@ -204,67 +259,83 @@ export async function runWhatIf(
   const forceOffsets: number[] = [];
   const causes = new Map<string, number>();
   const changed: WhatIfChangedUnit[] = [];
+  const lotTally = new LotTally();
   let passToFail = 0;
   let failToPass = 0;
   let unusable = 0;
   let changedCount = 0;
 
-  // The next batch is read while this one is replayed: the database and the engine work side by side.
-  const read = (i: number) =>
-    i < ids.length
-      ? replayBatch(ctx.pool, ids.slice(i, i + WHAT_IF_BATCH), baseline!.id, ENGINE_VERSION)
-      : null;
-  let next = read(0);
-  for (let i = 0; i < ids.length; i += WHAT_IF_BATCH) {
-    if ((await repo.findWhatIfRun(ctx.db, runId))?.cancelRequested) {
-      next?.catch(() => {}); // the batch read ahead is not needed any more
-      current = (await repo.updateWhatIfRun(ctx.db, runId, {
-        status: 'cancelled',
-        finishedAt: ctx.clock(),
-      }))!;
-      await progress(ctx, current);
-      return current;
-    }
-    const rows = (await next)!;
-    next = read(i + WHAT_IF_BATCH);
-    for (const row of rows) {
-      const after = replayOne(row, recipe!);
-      const before: Outcome = row.baseline
-        ? {
-            verdict: row.baseline.verdict,
-            offsetDeg: row.baseline.offsetDeg,
-            failed: new Set(row.baseline.failedChecks),
-          }
-        : recipe!.id === baseline!.id
-          ? after
-          : replayOne(row, baseline!);
-      if (after.offsetDeg !== null) draftOffsets.push(after.offsetDeg);
-      if (before.offsetDeg !== null) forceOffsets.push(before.offsetDeg);
-      if (after.verdict === 'unusable') unusable++;
-      if (before.verdict === after.verdict) continue;
-      if (before.verdict === 'pass' && after.verdict === 'fail') passToFail++;
-      if (before.verdict === 'fail' && after.verdict === 'pass') failToPass++;
-      changedCount++;
-      const differing = [...new Set([...before.failed, ...after.failed])].filter(
-        (c) => before.failed.has(c) !== after.failed.has(c),
+  try {
+    // The cursor fetches the next batch while this one is replayed: the database and the engine work
+    // side by side. Each batch's component lots come from the units module, read alongside.
+    for await (const rows of stream.batches) {
+      const lotsRead = componentLotsByIds(
+        ctx.db,
+        rows.map((r) => r.unitId),
       );
-      for (const c of differing) causes.set(c, (causes.get(c) ?? 0) + 1);
-      if (changed.length < MAX_LISTED) {
-        changed.push({
-          unitId: row.unitId,
-          serial: row.serial,
-          measurementId: row.measurementId,
-          receivedAt: row.receivedAt.toISOString(),
-          before: { verdict: before.verdict, offsetDeg: before.offsetDeg },
-          after: { verdict: after.verdict, offsetDeg: after.offsetDeg },
-          checks: differing,
-        });
+      const cancelAsked = (await repo.findWhatIfRun(ctx.db, runId))?.cancelRequested;
+      const lots = await lotsRead;
+      if (cancelAsked) {
+        current = (await repo.updateWhatIfRun(ctx.db, runId, {
+          status: 'cancelled',
+          finishedAt: ctx.clock(),
+        }))!;
+        await progress(ctx, current);
+        return current;
       }
+      for (const row of rows) {
+        const unitLots = lots.get(row.unitId) ?? NO_LOTS;
+        const payload = replayMeasurement(row);
+        const after = replayOne(row, payload, recipe!);
+        const before: Outcome = row.baseline
+          ? {
+              verdict: row.baseline.verdict,
+              offsetDeg: row.baseline.offsetDeg,
+              failed: new Set(row.baseline.failedChecks),
+            }
+          : recipe!.id === baseline!.id
+            ? after
+            : replayOne(row, payload, baseline!);
+        if (after.offsetDeg !== null) draftOffsets.push(after.offsetDeg);
+        if (before.offsetDeg !== null) forceOffsets.push(before.offsetDeg);
+        if (after.verdict === 'unusable') unusable++;
+        if (before.verdict === after.verdict) {
+          lotTally.add(unitLots, 'none');
+          continue;
+        }
+        const change =
+          before.verdict === 'pass' && after.verdict === 'fail'
+            ? 'passToFail'
+            : before.verdict === 'fail' && after.verdict === 'pass'
+              ? 'failToPass'
+              : 'other';
+        if (change === 'passToFail') passToFail++;
+        if (change === 'failToPass') failToPass++;
+        lotTally.add(unitLots, change);
+        changedCount++;
+        const differing = [...new Set([...before.failed, ...after.failed])].filter(
+          (c) => before.failed.has(c) !== after.failed.has(c),
+        );
+        for (const c of differing) causes.set(c, (causes.get(c) ?? 0) + 1);
+        if (changed.length < MAX_LISTED) {
+          changed.push({
+            unitId: row.unitId,
+            serial: row.serial,
+            measurementId: row.measurementId,
+            receivedAt: row.receivedAt.toISOString(),
+            before: { verdict: before.verdict, offsetDeg: before.offsetDeg },
+            after: { verdict: after.verdict, offsetDeg: after.offsetDeg },
+            checks: differing,
+            lots: unitLots,
+          });
+        }
+      }
+      processed += rows.length;
+      current = (await repo.updateWhatIfRun(ctx.db, runId, { processed }))!;
+      await progress(ctx, current);
     }
-    current = (await repo.updateWhatIfRun(ctx.db, runId, {
-      processed: Math.min(ids.length, i + rows.length),
-    }))!;
-    await progress(ctx, current);
+  } finally {
+    await stream.close();
   }
 
   const all = [...draftOffsets, ...forceOffsets];
@@ -272,21 +343,22 @@ export async function runWhatIf(
   const hi = all.length ? Math.min(181, Math.floor(Math.max(...all)) + 1) : 1;
   const seconds = (performance.now() - t0) / 1000;
   const summary: WhatIfSummary = {
-    measurements: ids.length,
+    measurements: processed,
     passToFail,
     failToPass,
-    unchanged: ids.length - changedCount,
+    unchanged: processed - changedCount,
     unusable,
     causes: [...causes.entries()]
       .map(([code, count]) => ({ code, label: CHECK_LABELS[code as CheckCode] ?? code, count }))
       .sort((a, b) => b.count - a.count),
     histogram: { draft: histogram(draftOffsets, lo, hi), inForce: histogram(forceOffsets, lo, hi) },
     changed: changed.sort((a, b) => b.receivedAt.localeCompare(a.receivedAt)),
-    measurementsPerSecond: seconds > 0 ? Math.round(ids.length / seconds) : 0,
+    lots: lotTally.result(),
+    measurementsPerSecond: seconds > 0 ? Math.round(processed / seconds) : 0,
   };
   current = (await repo.updateWhatIfRun(ctx.db, runId, {
     status: 'done',
-    processed: ids.length,
+    processed,
     summary,
     finishedAt: ctx.clock(),
   }))!;

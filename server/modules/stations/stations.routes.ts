@@ -1,14 +1,13 @@
-import { and, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
+import { defineRoute } from '../../lib/http';
 import {
   createStationKeySchema,
   createStationSchema,
   updateStationSchema,
 } from '../../../shared/schemas/line';
 import { calibrationViews } from '../measurements/measurements.service';
-import { calibrations } from '../measurements/measurements.table';
+import { calibrationsOf } from '../measurements/calibrations.repository';
 import {
   attendStation,
   createStation,
@@ -29,42 +28,39 @@ export const STATION_ONLINE_SECONDS = 60;
 
 export function stationsRoutes(deps: AppDeps) {
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations',
       access: 'signed-in',
       summary: 'Stations with their allowed models, attendance and last heartbeat',
-      handler: async (req, res) => {
+      handle: async ({ caller }, res) => {
         const views = await listStationViews(deps.db);
-        res.json({ stations: req.user!.role === 'admin' ? views : views.map((v) => ({ ...v, keys: [] })) });
+        res.json({ stations: caller.user.role === 'admin' ? views : views.map((v) => ({ ...v, keys: [] })) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations/:id/recent',
       access: 'signed-in',
       summary: 'The latest calibrations at a station',
-      query: recentQuery,
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        const { limit } = recentQuery.parse(req.query);
+      request: { params: idParams, query: recentQuery },
+      handle: async ({ params, query }, res) => {
+        const { id } = params;
+        const { limit } = query;
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
         res.json({
-          calibrations: await calibrationViews(
-            deps.db,
-            and(eq(calibrations.stationId, id), eq(calibrations.purpose, 'station')),
-            limit,
-          ),
+          calibrations: await calibrationViews(deps.db, calibrationsOf.station(id), limit),
         });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations/:id/health',
       access: 'signed-in',
       summary: 'Last heartbeat and job-queue state for a station screen',
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
+      request: { params: idParams },
+      handle: async ({ params }, res) => {
+        const { id } = params;
         const station = await findStation(deps.db, id);
         if (!station) throw stationErrors.notFound();
         const now = deps.clock();
@@ -81,25 +77,27 @@ export function stationsRoutes(deps: AppDeps) {
         });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/stations/:id/attend',
       access: ['operator'],
       summary: 'Take over a station panel: measurements from now on name this operator',
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        await attendStation(deps.db, req.user!, id, deps.clock());
-        res.json({ stationId: id, attendedBy: req.user!.id });
+      request: { params: idParams },
+      handle: async ({ params, caller }, res) => {
+        const { id } = params;
+        await attendStation(deps.db, caller.user, id, deps.clock());
+        res.json({ stationId: id, attendedBy: caller.user.id });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations/:id/events',
       access: 'signed-in',
       summary:
         'Server-Sent Events for one station: measurement received, computing, result, programming, traveler',
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
+      request: { params: idParams },
+      handle: async ({ params }, res, req) => {
+        const { id } = params;
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
         res.writeHead(200, {
           'content-type': 'text/event-stream; charset=utf-8',
@@ -119,49 +117,50 @@ export function stationsRoutes(deps: AppDeps) {
         });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/stations',
       access: ['admin'],
       summary: 'Create a station',
-      body: createStationSchema,
-      handler: async (req, res) => {
-        const row = await createStation(deps.db, req.user!, createStationSchema.parse(req.body));
+      request: { body: createStationSchema },
+      handle: async ({ body, caller }, res) => {
+        const row = await createStation(deps.db, caller.user, body);
         res.status(201).json({ station: (await listStationViews(deps.db)).find((s) => s.id === row.id) });
       },
     }),
-    route({
+    defineRoute({
       method: 'patch',
       path: '/api/admin/stations/:id',
       access: ['admin'],
       summary: 'Change a station: name, line, allowed models',
-      body: updateStationSchema,
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        await updateStation(deps.db, req.user!, id, updateStationSchema.parse(req.body));
+      request: { params: idParams, body: updateStationSchema },
+      handle: async ({ params, body, caller }, res) => {
+        const { id } = params;
+        await updateStation(deps.db, caller.user, id, body);
         res.json({ station: (await listStationViews(deps.db)).find((s) => s.id === id) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/stations/:id/keys',
       access: ['admin'],
       summary: 'Create a station API key (shown once)',
-      body: createStationKeySchema,
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        const { label } = createStationKeySchema.parse(req.body);
-        res.status(201).json(await createStationKey(deps.db, req.user!, id, label));
+      request: { params: idParams, body: createStationKeySchema },
+      handle: async ({ params, body, caller }, res) => {
+        const { id } = params;
+        const { label } = body;
+        res.status(201).json(await createStationKey(deps.db, caller.user, id, label));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/stations/:id/keys/:keyId/revoke',
       access: ['admin'],
       summary: 'Revoke a station API key',
-      handler: async (req, res) => {
-        const { id, keyId } = keyParams.parse(req.params);
-        await revokeStationKey(deps.db, req.user!, id, keyId, deps.clock());
+      request: { params: keyParams },
+      handle: async ({ params, caller }, res) => {
+        const { id, keyId } = params;
+        await revokeStationKey(deps.db, caller.user, id, keyId, deps.clock());
         res.status(204).end();
       },
     }),

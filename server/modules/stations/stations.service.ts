@@ -5,8 +5,8 @@ import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import { insertAudit } from '../audit/audit.repository';
-import { models } from '../recipes/recipes.table';
-import { users } from '../users/users.table';
+import { existingModelIds, listModelRows } from '../recipes/recipes.repository';
+import { displayNamesByIds } from '../users/users.repository';
 import type { StationView } from '../../../shared/schemas/line';
 import { createStationSchema, updateStationSchema } from '../../../shared/schemas/line';
 import { stationKeys, stations, type StationRecord } from './stations.table';
@@ -102,14 +102,9 @@ export async function findStation(db: DbOrTx, id: string): Promise<StationRecord
 export async function listStationViews(db: DbOrTx): Promise<StationView[]> {
   const rows = await db.select().from(stations).orderBy(asc(stations.line), asc(stations.name));
   const keys = await db.select().from(stationKeys).orderBy(asc(stationKeys.createdAt));
-  const modelRows = await db.select({ id: models.id, code: models.code }).from(models);
+  const modelRows = (await listModelRows(db)).map((m) => ({ id: m.id, code: m.code }));
   const userIds = rows.map((r) => r.attendedBy).filter((x): x is string => !!x);
-  const people = userIds.length
-    ? await db
-        .select({ id: users.id, displayName: users.displayName })
-        .from(users)
-        .where(inArray(users.id, userIds))
-    : [];
+  const people = [...(await displayNamesByIds(db, userIds))].map(([id, displayName]) => ({ id, displayName }));
   return rows.map((s) => ({
     id: s.id,
     name: s.name,
@@ -132,8 +127,8 @@ export async function listStationViews(db: DbOrTx): Promise<StationView[]> {
 
 async function checkModels(db: DbOrTx, ids: string[]) {
   if (ids.length === 0) return;
-  const found = await db.select({ id: models.id }).from(models).where(inArray(models.id, ids));
-  if (found.length !== new Set(ids).size) throw stationErrors.unknownModels();
+  const found = await existingModelIds(db, ids);
+  if (found.size !== new Set(ids).size) throw stationErrors.unknownModels();
 }
 
 function mapNameConflict(e: unknown, name: string): never {

@@ -23,10 +23,6 @@ export function barlowFontDirectory(): string {
   }
 }
 
-export function barlowFontPath(face: BarlowFace): string {
-  return join(barlowFontDirectory(), BARLOW_FACES[face]);
-}
-
 let buffers: Readonly<Record<BarlowFace, Buffer>> | undefined;
 
 // Read once per process: every render reuses the same bytes.

@@ -148,7 +148,6 @@ export const travelerDataSchema = z
 
 export type TravelerData = z.output<typeof travelerDataSchema>;
 export type TravelerDataInput = z.input<typeof travelerDataSchema>;
-export type EdgeResidual = z.output<typeof edgeResidualSchema>;
 export type TravelerCheck = z.output<typeof travelerCheckSchema>;
 export type ProgrammingConfirmation = z.output<typeof programmingSchema>;
 

@@ -4,8 +4,8 @@ import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
-import { route } from '../../lib/http';
-import { calibrations } from '../measurements/measurements.table';
+import { defineRoute } from '../../lib/http';
+import { stationMeasuredUnit } from '../measurements/calibrations.repository';
 import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
 import { travelers, type TravelerRecord } from './travelers.table';
@@ -26,39 +26,36 @@ export function travelersRoutes(deps: AppDeps) {
   /** A station key may read only the travelers of units it measured. */
   async function checkStationScope(stationId: string | undefined, unitId: string) {
     if (!stationId) return;
-    const [own] = await deps.db
-      .select({ id: calibrations.id })
-      .from(calibrations)
-      .where(and(eq(calibrations.unitId, unitId), eq(calibrations.stationId, stationId)))
-      .limit(1);
-    if (!own) throw errors.forbidden();
+    if (!(await stationMeasuredUnit(deps.db, stationId, unitId))) throw errors.forbidden();
   }
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/units/:serial/traveler.pdf',
       access: { people: ['operator', 'engineer', 'quality'], station: true },
       summary: 'The current traveler PDF of a unit (people, or the station that measured it)',
-      handler: async (req, res) => {
-        const { serial } = serialParams.parse(req.params);
+      request: { params: serialParams },
+      handle: async ({ params, caller }, res) => {
+        const { serial } = params;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        await checkStationScope(req.station?.stationId, unit.id);
+        await checkStationScope(caller.station?.stationId, unit.id);
         const doc = await currentTraveler(deps.db, unit.id, deps.clock());
         if (!doc) throw travelerErrors.none(unit.serial);
         sendPdf(res, doc, unit.serial);
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/units/:serial/travelers/:id',
       access: { people: ['operator', 'engineer', 'quality'], station: true },
       summary: 'One earlier traveler document of a unit',
-      handler: async (req, res) => {
-        const { serial, id } = docParams.parse(req.params);
+      request: { params: docParams },
+      handle: async ({ params, caller }, res) => {
+        const { serial, id } = params;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        await checkStationScope(req.station?.stationId, unit.id);
+        await checkStationScope(caller.station?.stationId, unit.id);
         const [doc] = await deps.db
           .select()
           .from(travelers)
@@ -67,18 +64,18 @@ export function travelersRoutes(deps: AppDeps) {
         sendPdf(res, doc, unit.serial);
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/units/:serial/traveler/print',
       access: ['operator', 'quality'],
       summary: 'Print (or reprint, marked with its number) the current traveler; audited',
-      body: printBody,
-      handler: async (req, res) => {
-        const { serial } = serialParams.parse(req.params);
-        const { pageSize } = printBody.parse(req.body ?? {});
+      request: { params: serialParams, body: printBody },
+      handle: async ({ params, body, caller }, res) => {
+        const { serial } = params;
+        const { pageSize } = body;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        const doc = await printTraveler(deps.db, req.user!, unit.id, unit.serial, pageSize, deps.clock());
+        const doc = await printTraveler(deps.db, caller.user, unit.id, unit.serial, pageSize, deps.clock());
         res.status(201).json({
           travelerId: doc.id,
           printNumber: doc.printNumber,

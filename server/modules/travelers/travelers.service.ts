@@ -1,4 +1,5 @@
 import { createHash } from 'node:crypto';
+import { travelerSettings } from '../../env';
 import { and, count, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
@@ -19,8 +20,8 @@ import { travelers, type TravelerRecord } from './travelers.table';
 
 /** The demo scenario's company and plant; a plant sets its own with TRAVELER_COMPANY / TRAVELER_PLANT. */
 export const TRAVELER_HEADER = {
-  companyName: process.env.TRAVELER_COMPANY ?? 'Corvane Motion Ltd',
-  plantName: process.env.TRAVELER_PLANT ?? 'Hollin Ridge Works',
+  companyName: travelerSettings().TRAVELER_COMPANY,
+  plantName: travelerSettings().TRAVELER_PLANT,
 };
 
 export const travelerErrors = {
@@ -112,7 +113,7 @@ export async function travelerData(
     measuredAt: row.m.receivedAt.toISOString(),
     computedAt: row.cal.computedAt.toISOString(),
     generatedAt: generatedAt.toISOString(),
-    timeZone: process.env.TRAVELER_TIME_ZONE ?? 'UTC',
+    timeZone: travelerSettings().TRAVELER_TIME_ZONE,
     recipe: {
       name: (row.recipe.body.name ?? row.model.code).replace(/[^A-Za-z0-9 ._\-/#+:]/g, '-'),
       version: row.recipe.version,

@@ -164,4 +164,3 @@ export async function searchUnitIds(db: DbOrTx, where: SQL | undefined): Promise
 
 /** The unit's id column, for other modules' conditions that correlate with a unit search. */
 export const unitIdColumn = units.id;
-export const unitModelIdColumn = units.modelId;

@@ -3,7 +3,7 @@ import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { AppError } from '../../lib/errors';
-import { route } from '../../lib/http';
+import { defineRoute } from '../../lib/http';
 import { registerUnitSchema } from '../../../shared/schemas/line';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
@@ -17,39 +17,40 @@ const upload = multer({
 
 export function unitsRoutes(deps: AppDeps) {
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/units/:serial',
       access: 'signed-in',
       summary: 'A unit with its calibrations, programming status and travelers',
-      handler: async (req, res) => {
-        const { serial } = serialParams.parse(req.params);
+      request: { params: serialParams },
+      handle: async ({ params }, res) => {
+        const { serial } = params;
         res.json(await unitDetail(deps.db, serial));
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/units',
       access: ['operator', 'engineer', 'quality'],
       summary: 'Register a unit against a model',
-      body: registerUnitSchema,
-      handler: async (req, res) => {
+      request: { body: registerUnitSchema },
+      handle: async ({ body, caller }, res) => {
         res
           .status(201)
-          .json({ unit: await registerUnit(deps.db, req.user!, registerUnitSchema.parse(req.body)) });
+          .json({ unit: await registerUnit(deps.db, caller.user, body) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/units/import',
       access: ['engineer', 'quality'],
       summary: 'Import units from a work-order CSV (all rows or none)',
       multipart: { fileField: 'file', fields: {} },
       before: [upload.single('file')],
-      handler: async (req, res) => {
+      handle: async ({ caller }, res, req) => {
         if (!req.file)
           throw new AppError(400, 'units.import_no_file', 'Attach the CSV as the form field "file".');
-        const report = await importUnits(deps.db, req.user!, req.file.buffer.toString('utf8'));
+        const report = await importUnits(deps.db, caller.user, req.file.buffer.toString('utf8'));
         res.status(report.errors.length ? 422 : 201).json(report);
       },
     }),

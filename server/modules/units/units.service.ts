@@ -1,13 +1,13 @@
 import Papa from 'papaparse';
-import { eq, inArray, sql } from 'drizzle-orm';
+import { inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import { insertAudit } from '../audit/audit.repository';
-import { models, recipes } from '../recipes/recipes.table';
+import { findModelRow, findModelWithActiveRecipe, listModelRows } from '../recipes/recipes.repository';
 import { calibrationViews } from '../measurements/measurements.service';
-import { calibrations } from '../measurements/measurements.table';
-import { travelers } from '../travelers/travelers.table';
+import { calibrationsOf } from '../measurements/calibrations.repository';
+import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import {
   registerUnitSchema,
   serialSchema,
@@ -41,10 +41,7 @@ export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<Unit
 }
 
 export async function unitView(db: DbOrTx, unit: UnitRecord): Promise<UnitView> {
-  const [model] = await db.select().from(models).where(eq(models.id, unit.modelId));
-  const [recipe] = model.activeRecipeId
-    ? await db.select().from(recipes).where(eq(recipes.id, model.activeRecipeId))
-    : [];
+  const { model, recipe } = (await findModelWithActiveRecipe(db, unit.modelId))!;
   return {
     id: unit.id,
     serial: unit.serial,
@@ -66,27 +63,17 @@ export async function unitView(db: DbOrTx, unit: UnitRecord): Promise<UnitView> 
 export async function unitDetail(db: DbOrTx, serial: string): Promise<UnitDetail> {
   const unit = await findUnitBySerial(db, serial);
   if (!unit) throw unitErrors.notFound(serial);
-  const docs = await db
-    .select({
-      id: travelers.id,
-      printNumber: travelers.printNumber,
-      pageSize: travelers.pageSize,
-      sha256: travelers.sha256,
-      createdAt: travelers.createdAt,
-    })
-    .from(travelers)
-    .where(eq(travelers.unitId, unit.id))
-    .orderBy(travelers.createdAt);
+  const docs = await listTravelerDocsOfUnit(db, unit.id);
   return {
     unit: await unitView(db, unit),
-    calibrations: await calibrationViews(db, eq(calibrations.unitId, unit.id), 100),
+    calibrations: await calibrationViews(db, calibrationsOf.unit(unit.id), 100),
     travelers: docs.map((d) => ({ ...d, createdAt: d.createdAt.toISOString() })),
   };
 }
 
 export async function registerUnit(db: Db, actor: SessionUser, input: RegisterUnit): Promise<UnitView> {
   const v = registerUnitSchema.parse(input);
-  const [model] = await db.select().from(models).where(eq(models.id, v.modelId));
+  const model = await findModelRow(db, v.modelId);
   if (!model) throw unitErrors.unknownModel();
   return db
     .transaction(async (tx) => {
@@ -146,7 +133,7 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
   }
   const errors: ImportReport['errors'] = [];
   for (const e of parsed.errors) errors.push({ row: (e.row ?? 0) + 2, serial: null, message: e.message });
-  const modelRows = await db.select().from(models);
+  const modelRows = await listModelRows(db);
   const byCode = new Map(modelRows.map((m) => [m.code.toUpperCase(), m]));
   const seen = new Map<string, number>();
   const values: (typeof units.$inferInsert)[] = [];
@@ -236,4 +223,25 @@ export async function serialsByIds(db: DbOrTx, ids: string[]): Promise<Map<strin
     .from(units)
     .where(inArray(units.id, ids));
   return new Map(rows.map((r) => [r.id, r.serial]));
+}
+
+export interface ComponentLots {
+  hallBoard: string | null;
+  magnetRing: string | null;
+  stator: string | null;
+}
+
+/** The component lots (hall board, magnet ring, stator) of the given units, by unit id. */
+export async function componentLotsByIds(db: DbOrTx, ids: string[]): Promise<Map<string, ComponentLots>> {
+  if (ids.length === 0) return new Map();
+  const rows = await db
+    .select({
+      id: units.id,
+      hallBoard: units.hallBoardLot,
+      magnetRing: units.magnetRingLot,
+      stator: units.statorLot,
+    })
+    .from(units)
+    .where(inArray(units.id, ids));
+  return new Map(rows.map(({ id, ...lots }) => [id, lots]));
 }

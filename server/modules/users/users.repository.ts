@@ -93,3 +93,15 @@ export async function displayNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<
     .where(inArray(users.id, ids));
   return new Map(rows.map((r) => [r.id, r.name]));
 }
+
+/** The update value that moves an account's token version on (ends all of its sessions). */
+export const nextTokenVersion = () => sql<number>`${users.tokenVersion} + 1`;
+
+export async function countUsers(db: DbOrTx): Promise<number> {
+  const [{ n }] = await db.select({ n: sql<number>`count(*)::int` }).from(users);
+  return n;
+}
+
+export async function insertUsers(db: DbOrTx, values: (typeof users.$inferInsert)[]): Promise<UserRecord[]> {
+  return db.insert(users).values(values).returning();
+}

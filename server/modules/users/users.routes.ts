@@ -1,8 +1,14 @@
 import type { Request } from 'express';
+import type { SessionUser } from '../../lib/auth';
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
-import { createUserSchema, updateUserSchema } from '../../../shared/schemas/users';
+import { defineRoute } from '../../lib/http';
+import {
+  createUserSchema,
+  updateUserSchema,
+  userListResponseSchema,
+  userResponseSchema,
+} from '../../../shared/schemas/users';
 import {
   createAccount,
   listAccounts,
@@ -15,65 +21,73 @@ import {
 const idParams = z.object({ id: z.string().uuid('Not an account id') });
 
 export function usersRoutes(deps: AppDeps) {
-  const ctx = (req: Request): UsersContext => ({
+  const ctx = (actor: SessionUser, req: Request): UsersContext => ({
     db: deps.db,
     mailer: deps.mailer,
     clock: deps.clock,
     bcryptCost: deps.env.BCRYPT_COST,
     publicUrl: deps.env.PUBLIC_URL,
-    actor: req.user!,
+    actor,
     ip: req.ip ?? '',
   });
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/admin/users',
       access: ['admin'],
       summary: 'List every account',
-      handler: async (_req, res) => {
+      responses: { 200: { description: 'Every account', schema: userListResponseSchema } },
+      handle: async (_input, res) => {
         res.json({ users: await listAccounts(deps.db) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/users',
       access: ['admin'],
       summary: 'Create an account (optionally e-mailing an invitation)',
-      handler: async (req, res) => {
-        const input = createUserSchema.parse(req.body);
-        res.status(201).json({ user: await createAccount(ctx(req), input) });
+      responses: { 201: { description: 'The account', schema: userResponseSchema } },
+      request: { body: createUserSchema },
+      handle: async ({ body, caller }, res, req) => {
+        const input = body;
+        res.status(201).json({ user: await createAccount(ctx(caller.user, req), input) });
       },
     }),
-    route({
+    defineRoute({
       method: 'patch',
       path: '/api/admin/users/:id',
       access: ['admin'],
       summary: 'Change an account: name, e-mail, role, badge, PIN, disabled',
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        const input = updateUserSchema.parse(req.body);
-        res.json({ user: await updateAccount(ctx(req), id, input) });
+      responses: { 200: { description: 'The account', schema: userResponseSchema } },
+      request: { params: idParams, body: updateUserSchema },
+      handle: async ({ params, body, caller }, res, req) => {
+        const { id } = params;
+        const input = body;
+        res.json({ user: await updateAccount(ctx(caller.user, req), id, input) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/users/:id/password-reset',
       access: ['admin'],
       summary: 'E-mail a password-reset link to the account',
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        await sendResetLink(ctx(req), id);
+      request: { params: idParams },
+      handle: async ({ params, caller }, res, req) => {
+        const { id } = params;
+        await sendResetLink(ctx(caller.user, req), id);
         res.status(202).json({ sent: true });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/users/:id/unlock',
       access: ['admin'],
       summary: 'Clear a lockout after failed sign-ins',
-      handler: async (req, res) => {
-        const { id } = idParams.parse(req.params);
-        res.json({ user: await unlockAccount(ctx(req), id) });
+      responses: { 200: { description: 'The account', schema: userResponseSchema } },
+      request: { params: idParams },
+      handle: async ({ params, caller }, res, req) => {
+        const { id } = params;
+        res.json({ user: await unlockAccount(ctx(caller.user, req), id) });
       },
     }),
   ];

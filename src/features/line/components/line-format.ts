@@ -26,12 +26,6 @@ export const VERDICT_LABELS: Record<Verdict, string> = {
   unusable: 'No result',
 };
 
-export const VERDICT_TONES: Record<Verdict, Tone> = {
-  pass: 'ok',
-  fail: 'fault',
-  unusable: 'warn',
-};
-
 // The offset is printed on the traveler too: one format for screen and paper.
 export { formatOffsetDeg } from '../../../../shared/wording';
 

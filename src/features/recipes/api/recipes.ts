@@ -152,3 +152,15 @@ export function useSendBack(id: string) {
     onSuccess: changed,
   });
 }
+
+export function useDiscardDraft(id: string) {
+  const changed = useVersionChanged();
+  return useMutation({
+    mutationFn: (input: { reason: string; revision: number }) =>
+      apiRequest<RecipeVersionView>(`/api/recipes/${encodeURIComponent(id)}/discard`, {
+        method: 'POST',
+        body: input,
+      }),
+    onSuccess: changed,
+  });
+}

@@ -120,6 +120,27 @@ function VersionList({ model, canChange }: { model: ModelDetailView; canChange: 
           ))}
         </tbody>
       </TableFrame>
+      {model.discarded.length ? (
+        <details className="mt-4">
+          <summary className="inline-flex min-h-target cursor-pointer items-center text-copper-200 underline underline-offset-4">
+            Discarded drafts ({model.discarded.length}), kept for the record
+          </summary>
+          <ul className="mt-2 flex flex-col gap-1">
+            {model.discarded.map((v) => (
+              <li key={v.id}>
+                <Link
+                  to={`/recipes/versions/${v.id}`}
+                  className="inline-flex min-h-target items-center text-copper-200 underline-offset-4 hover:underline"
+                >
+                  Version {v.version}
+                </Link>{' '}
+                discarded {v.discardedAt ? formatDateTime(v.discardedAt) : ''} by{' '}
+                {v.discardedBy?.displayName ?? '—'}: {v.discardReason}
+              </li>
+            ))}
+          </ul>
+        </details>
+      ) : null}
     </Panel>
   );
 }

@@ -6,9 +6,10 @@ const TONES: Record<RecipeStatus, Tone> = {
   in_review: 'warn',
   released: 'ok',
   retired: 'neutral',
+  discarded: 'neutral',
 };
 
-/** A version's state in words and shape: in force (circle), in review (triangle), draft and retired (dash). */
+/** A version's state in words and shape: in force (circle), in review (triangle), draft, retired and discarded (dash). */
 export function RecipeStatusChip({ status }: { status: RecipeStatus }) {
   return <StatusChip tone={TONES[status]}>{RECIPE_STATUS_LABELS[status]}</StatusChip>;
 }

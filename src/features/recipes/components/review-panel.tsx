@@ -5,7 +5,7 @@ import { Button } from '../../../components/ui/button';
 import { TextAreaField } from '../../../components/ui/field';
 import { Panel } from '../../../components/ui/panel';
 import { isApiError } from '../../../lib/api-client';
-import { useApprove, useRecipeSettings, useSendBack, useSubmitDraft } from '../api/recipes';
+import { useApprove, useDiscardDraft, useRecipeSettings, useSendBack, useSubmitDraft } from '../api/recipes';
 
 const messageOf = (e: unknown) => (isApiError(e) ? e.message : 'Something went wrong. Try again.');
 
@@ -121,6 +121,48 @@ function DecideForm({ version, meId }: { version: RecipeVersionView; meId: strin
           </div>
         </div>
       )}
+    </Panel>
+  );
+}
+
+/**
+ * Any engineer (the author or another) may discard a draft that is not going anywhere. The record stays,
+ * with who, when and why; it leaves the model's list of versions.
+ */
+export function DiscardPanel({ version, onDiscarded }: { version: RecipeVersionView; onDiscarded: () => void }) {
+  const discard = useDiscardDraft(version.id);
+  const [reason, setReason] = useState('');
+  const [error, setError] = useState<string | null>(null);
+  const go = async () => {
+    setError(null);
+    if (reason.trim().length < 3) return setError('Say why this draft is discarded (at least 3 characters).');
+    try {
+      await discard.mutateAsync({ reason: reason.trim(), revision: version.revision });
+      onDiscarded();
+    } catch (e) {
+      setError(messageOf(e));
+    }
+  };
+  return (
+    <Panel title="Discard this draft" titleId="discard-title">
+      <div className="flex max-w-2xl flex-col gap-4">
+        <p className="text-graphite-200">
+          Discarding keeps the draft on record (who, when and why, in the audit log) but takes it off the list
+          of versions. It can no longer be edited or submitted; copy it into a new draft to start again.
+        </p>
+        <TextAreaField
+          label="Reason for discarding"
+          required
+          value={reason}
+          error={error ?? undefined}
+          onChange={(e) => setReason(e.target.value)}
+        />
+        <div>
+          <Button busy={discard.isPending} onClick={() => void go()}>
+            Discard draft {version.version}
+          </Button>
+        </div>
+      </div>
     </Panel>
   );
 }

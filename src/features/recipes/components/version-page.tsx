@@ -1,5 +1,5 @@
 import { useState } from 'react';
-import { Link } from 'react-router';
+import { Link, useNavigate } from 'react-router';
 import type { RecipeVersionView } from '../../../../shared/schemas/recipes';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { LinkButton } from '../../../components/ui/button';
@@ -10,7 +10,7 @@ import { DiffTable } from './diff-table';
 import { DraftEditor } from './draft-editor';
 import { RecipeBodyView } from './recipe-body-view';
 import { RecipeStatusChip } from './recipe-status';
-import { ReviewPanel } from './review-panel';
+import { DiscardPanel, ReviewPanel } from './review-panel';
 import { WhatIfPanel } from './what-if-panel';
 
 function History({ v }: { v: RecipeVersionView }) {
@@ -34,6 +34,11 @@ function History({ v }: { v: RecipeVersionView }) {
     ],
     ['Retired', v.retiredAt ? formatDateTime(v.retiredAt) : null],
     ['Reviewer comment', v.reviewComment],
+    [
+      'Discarded by',
+      v.discardedBy && v.discardedAt ? `${v.discardedBy.displayName}, ${formatDateTime(v.discardedAt)}` : null,
+    ],
+    ['Why discarded', v.discardReason],
   ];
   return (
     <dl className="grid gap-x-6 gap-y-2 sm:grid-cols-[12rem_1fr]">
@@ -124,6 +129,7 @@ export function VersionPage({
 }) {
   const { version, inForce, stations } = useVersionAndModel(recipeId);
   const [unsaved, setUnsaved] = useState(false);
+  const navigate = useNavigate();
   if (version.isPending) return <Loading label="Loading the version…" />;
   if (version.isError) return <Alert tone="fault">Could not read the version: {version.error.message}</Alert>;
   const v = version.data;
@@ -134,6 +140,12 @@ export function VersionPage({
       {v.status === 'draft' && v.reviewComment ? (
         <Alert tone="info" title="Sent back by the reviewer">
           {v.reviewComment}
+        </Alert>
+      ) : null}
+      {v.status === 'discarded' ? (
+        <Alert tone="info" title="Discarded draft">
+          This draft was discarded and is kept only for the record. Copy it into a new draft from the list of
+          versions to start again.
         </Alert>
       ) : null}
       {v.status === 'in_review' ? (
@@ -159,6 +171,9 @@ export function VersionPage({
       {v.status === 'draft' ? (
         <ReviewPanel version={v} meId={meId} canChange={canChange} unsaved={unsaved} />
       ) : null}
+      {editable ? (
+        <DiscardPanel version={v} onDiscarded={() => void navigate(`/recipes/models/${v.modelId}`)} />
+      ) : null}
     </div>
   );
 }
@@ -183,7 +198,14 @@ export function ReviewScreen({
       {v.status !== 'in_review' ? (
         <Alert tone="info" title="Not waiting for review">
           Version {v.version} is{' '}
-          {v.status === 'draft' ? 'a draft' : v.status === 'released' ? 'in force' : 'retired'}.{' '}
+          {v.status === 'draft'
+            ? 'a draft'
+            : v.status === 'released'
+              ? 'in force'
+              : v.status === 'discarded'
+                ? 'a discarded draft'
+                : 'retired'}
+          .{' '}
           <Link className="underline" to={`/recipes/versions/${v.id}`}>
             Open the version
           </Link>

@@ -1,6 +1,12 @@
 import { useState } from 'react';
 import { Link } from 'react-router';
-import { whatIfFiltersSchema, type WhatIfRunView } from '../../../../shared/schemas/recipes';
+import {
+  COMPONENT_LOT_LABELS,
+  whatIfFiltersSchema,
+  type ComponentLotKind,
+  type WhatIfLotGroup,
+  type WhatIfRunView,
+} from '../../../../shared/schemas/recipes';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
@@ -11,6 +17,44 @@ import { isApiError } from '../../../lib/api-client';
 import { formatDateTime } from '../../../lib/format';
 import { useCancelWhatIf, useStartWhatIf, useWhatIfProgress, useWhatIfRuns } from '../api/what-if';
 import { OffsetHistogramChart } from './offset-histogram';
+
+const lotName = (lot: string | null | undefined) => lot ?? 'no lot recorded';
+
+/** Changed units per component lot: a bad lot shows as most of its units changing. */
+function LotGroups({ lots }: { lots: Record<ComponentLotKind, WhatIfLotGroup[]> }) {
+  const kinds = Object.keys(COMPONENT_LOT_LABELS) as ComponentLotKind[];
+  return (
+    <div data-testid="what-if-lots">
+      <h3 className="mb-2 text-lg font-semibold">Changed units by component lot</h3>
+      <div className="flex flex-col gap-4">
+        {kinds.map((kind) => (
+          <TableFrame key={kind} caption={`Changed units by ${COMPONENT_LOT_LABELS[kind].toLowerCase()}`}>
+            <thead>
+              <tr>
+                <Th>{COMPONENT_LOT_LABELS[kind]}</Th>
+                <Th>Changed of replayed</Th>
+                <Th>Pass → fail</Th>
+                <Th>Fail → pass</Th>
+              </tr>
+            </thead>
+            <tbody>
+              {lots[kind].map((g) => (
+                <tr key={g.lot ?? '(none)'}>
+                  <Td className="font-mono">{lotName(g.lot)}</Td>
+                  <Td>
+                    {g.changed} of {g.replayed} units ({Math.round((100 * g.changed) / g.replayed)} %)
+                  </Td>
+                  <Td>{g.passToFail} units</Td>
+                  <Td>{g.failToPass} units</Td>
+                </tr>
+              ))}
+            </tbody>
+          </TableFrame>
+        ))}
+      </div>
+    </div>
+  );
+}
 
 const deg = (v: number | null) => (v === null ? '—' : `${v.toFixed(2).replace('-', '−')} °e`);
 
@@ -236,6 +280,7 @@ function RunView({ run, recipeId, canRun }: { run: WhatIfRunView; recipeId: stri
               inForceLabel={`Version ${run.baseline.version} (in force)`}
             />
           </div>
+          {s.lots && s.changed.length ? <LotGroups lots={s.lots} /> : null}
           {s.changed.length ? (
             <TableFrame caption="Units whose verdict would change">
               <thead>
@@ -245,6 +290,7 @@ function RunView({ run, recipeId, canRun }: { run: WhatIfRunView; recipeId: stri
                   <Th>In force</Th>
                   <Th>Version {run.recipe.version}</Th>
                   <Th>Checks</Th>
+                  <Th>Lots (hall board, magnet ring, stator)</Th>
                 </tr>
               </thead>
               <tbody>
@@ -269,6 +315,11 @@ function RunView({ run, recipeId, canRun }: { run: WhatIfRunView; recipeId: stri
                       {c.checks
                         .map((code) => s.causes.find((x) => x.code === code)?.label ?? code)
                         .join(', ')}
+                    </Td>
+                    <Td className="font-mono">
+                      {c.lots
+                        ? [c.lots.hallBoard, c.lots.magnetRing, c.lots.stator].map(lotName).join(' · ')
+                        : '—'}
                     </Td>
                   </tr>
                 ))}

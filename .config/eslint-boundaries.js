@@ -1,0 +1,71 @@
+// A small local ESLint rule for the import zones DEVELOPERS.md promises. It resolves each relative
+// import against the importing file, so `../../line/api/x` is seen for what it is (another feature),
+// which a pattern on the import text alone cannot do.
+import path from 'node:path';
+
+const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), '..');
+
+/** `src/features/<x>/…` → x; `server/modules/<x>/…` → x. */
+const zoneOf = (rel) => {
+  const f = /^src\/features\/([^/]+)\//.exec(rel);
+  if (f) return { kind: 'feature', name: f[1] };
+  const m = /^server\/modules\/([^/]+)\//.exec(rel);
+  if (m) return { kind: 'module', name: m[1] };
+  return null;
+};
+
+const typeOnly = (node) =>
+  node.importKind === 'type' ||
+  node.exportKind === 'type' ||
+  (node.specifiers?.length > 0 && node.specifiers.every((s) => s.importKind === 'type' || s.exportKind === 'type'));
+
+const rule = {
+  meta: {
+    type: 'problem',
+    docs: { description: 'Client features do not import each other; modules read other modules only through their repository or service.' },
+    messages: {
+      feature:
+        'Client feature "{{from}}" imports feature "{{to}}": features never import each other; compose them in a route module (src/app/routes) or move the shared piece to src/components or src/lib.',
+      table:
+        "Imports {{target}}, another module's table: read \"{{to}}\" data through its repository or service (add a small function there).",
+    },
+    schema: [
+      {
+        type: 'object',
+        properties: {
+          /** Known table imports still to be replaced: { 'path/of/file.ts': ['module', …] }. */
+          pending: { type: 'object', additionalProperties: { type: 'array', items: { type: 'string' } } },
+        },
+        additionalProperties: false,
+      },
+    ],
+  },
+  create(context) {
+    const file = context.filename ?? context.getFilename();
+    const fromRel = path.relative(root, file).split(path.sep).join('/');
+    const from = zoneOf(fromRel);
+    const pending = new Set(context.options[0]?.pending?.[fromRel] ?? []);
+    const check = (node) => {
+      const source = node.source?.value;
+      if (typeof source !== 'string' || !source.startsWith('.')) return;
+      const targetRel = path.relative(root, path.resolve(path.dirname(file), source)).split(path.sep).join('/');
+      const to = zoneOf(`${targetRel}/`.replace(/\/+$/, '/')) ?? zoneOf(targetRel);
+      if (from?.kind === 'feature' && to?.kind === 'feature' && to.name !== from.name) {
+        context.report({ node, messageId: 'feature', data: { from: from.name, to: to.name } });
+        return;
+      }
+      const isTable = /\.table(\.ts)?$/.test(targetRel);
+      if (isTable && to?.kind === 'module' && to.name !== from?.name && !typeOnly(node) && !pending.has(to.name)) {
+        context.report({ node, messageId: 'table', data: { target: targetRel, to: to.name } });
+      }
+    };
+    return {
+      ImportDeclaration: check,
+      ExportNamedDeclaration: check,
+      ExportAllDeclaration: check,
+      ImportExpression: check,
+    };
+  },
+};
+
+export const boundaries = { rules: { boundaries: rule } };

@@ -1,0 +1,18 @@
+import { eq } from 'drizzle-orm';
+import type { DbOrTx } from '../../db/client';
+import { travelers } from './travelers.table';
+
+/** A unit's traveler documents (without their PDF bytes), oldest first. */
+export async function listTravelerDocsOfUnit(db: DbOrTx, unitId: string) {
+  return db
+    .select({
+      id: travelers.id,
+      printNumber: travelers.printNumber,
+      pageSize: travelers.pageSize,
+      sha256: travelers.sha256,
+      createdAt: travelers.createdAt,
+    })
+    .from(travelers)
+    .where(eq(travelers.unitId, unitId))
+    .orderBy(travelers.createdAt);
+}
