@@ -22,6 +22,8 @@ export interface JobQueue {
     payload: unknown,
     opts?: {
       singletonKey?: string;
+      /** Higher is fetched first (pg-boss orders by priority, then by age). */
+      priority?: number;
       db?: PgBoss.Db;
       /** Further notifications to send in the same statement as the workers' wake-up (saves a round trip). */
       notify?: { channel: string; payload: string }[];
@@ -88,7 +90,11 @@ export async function startJobQueue(
     async send(queue, payload, sendOpts) {
       const def = queues[queue];
       const data = def.payload.parse(payload);
-      const id = await boss.send(def.name, data, { singletonKey: sendOpts?.singletonKey, db: sendOpts?.db });
+      const id = await boss.send(def.name, data, {
+        singletonKey: sendOpts?.singletonKey,
+        priority: sendOpts?.priority,
+        db: sendOpts?.db,
+      });
       if (sendOpts?.wake === false) return id;
       const extra = sendOpts?.notify ?? [];
       const wake =

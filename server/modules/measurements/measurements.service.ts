@@ -7,7 +7,7 @@ import * as schema from '../../db/schema';
 import { prepared } from '../../db/prepared';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
-import { JOBS_WAKE_CHANNEL, queues } from '../../../jobs/queues';
+import { JOBS_WAKE_CHANNEL, queues, travelerRenderPriority } from '../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
 import type {
   CalibrationView,
@@ -493,7 +493,11 @@ export async function computeCalibration(
       await ctx.queue.send(
         'travelerRender',
         { calibrationId },
-        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
+        {
+          db: { executeSql: (text, values) => client.query(prepared(text, values)) },
+          wake: false,
+          priority: travelerRenderPriority(now),
+        },
       );
       // The watched control charts of this station and model take the new offset in (picked up at the
       // worker's next poll, within 2 s: alerts need no millisecond wake-up).
