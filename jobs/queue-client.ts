@@ -92,7 +92,8 @@ export async function startJobQueue(
       const data = def.payload.parse(payload);
       const id = await boss.send(def.name, data, {
         singletonKey: sendOpts?.singletonKey,
-        priority: sendOpts?.priority,
+        // pg-boss refuses a priority key whose value is not an integer, undefined included.
+        ...(sendOpts?.priority === undefined ? {} : { priority: sendOpts.priority }),
         db: sendOpts?.db,
       });
       if (sendOpts?.wake === false) return id;

@@ -1,5 +1,5 @@
 import PDFDocument from 'pdfkit';
-import { barlowFontSources } from './fonts';
+import { barlowFontSources, prepareDocumentFonts } from './fonts';
 import type { TravelerDataInput } from './traveler.types';
 import { parseTravelerData } from './traveler.types';
 import { formatTravelerCode } from './traveler.code';
@@ -66,6 +66,7 @@ export async function renderTravelerPdf(input: TravelerDataInput): Promise<Buffe
 
   // pdfkit's types admit only bytes or a path, but it takes a parsed font too (see fonts.ts).
   for (const [face, source] of Object.entries(barlowFontSources())) doc.registerFont(face, source as Buffer);
+  prepareDocumentFonts(doc);
 
   drawTraveler(doc, data, { code128, matrix });
 
