@@ -138,3 +138,34 @@ export async function ensureQueue(
     await boss.updateQueue(name, { name, ...policy });
   }
 }
+
+/**
+ * SQL that inserts one job of queue `queueParam` per row of `fromSql`, for use as a data-modifying CTE
+ * inside a producer's own statement: the job exists exactly when that statement commits, and sending it
+ * costs no round trip of its own. It applies the queue's policy (retries, backoff, expiry, retention) as
+ * pg-boss 10's own insert does (pg-boss/src/plans.js, insertJob), and the job is fetched, retried and
+ * expired by pg-boss like any other. The caller wakes the workers (pg_notify on JOBS_WAKE_CHANNEL) in the
+ * same statement.
+ */
+export function jobInsertSql(opts: {
+  /** Placeholder (e.g. '$7') holding the queue's name. */
+  queueParam: string;
+  /** SQL giving the job's data as jsonb, from the columns of `fromSql`. */
+  dataSql: string;
+  /** SQL giving the job's priority (higher first); 0 when absent. */
+  prioritySql?: string;
+  /** The rows to make jobs of (a CTE name). */
+  fromSql: string;
+}): string {
+  return `insert into ${BOSS_SCHEMA}.job (name, data, priority, dead_letter, expire_in, keep_until,
+                                  retry_limit, retry_delay, retry_backoff, policy)
+      select q.name, ${opts.dataSql}, ${opts.prioritySql ?? '0'}, q.dead_letter,
+             coalesce(q.expire_seconds * interval '1s', interval '15 minutes'),
+             now() + cast(coalesce((q.retention_minutes * 60)::text, '14 days') as interval),
+             coalesce(q.retry_limit, 2),
+             case when coalesce(q.retry_backoff, false) then greatest(coalesce(q.retry_delay, 0), 1)
+                  else coalesce(q.retry_delay, 0) end,
+             coalesce(q.retry_backoff, false), q.policy
+        from ${opts.fromSql} join ${BOSS_SCHEMA}.queue q on q.name = ${opts.queueParam}
+      returning id`;
+}

@@ -6,7 +6,7 @@ import type { Db, DbOrTx } from '../../db/client';
 import * as schema from '../../db/schema';
 import { prepared } from '../../db/prepared';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import type { JobQueue } from '../../../jobs/queue-client';
+import { jobInsertSql, type JobQueue } from '../../../jobs/queue-client';
 import { JOBS_WAKE_CHANNEL, queues, travelerRenderPriority } from '../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
 import type {
@@ -182,6 +182,77 @@ export async function acceptMeasurement(
   const recipe = await releasedRecipe(ctx.db, c.active_recipe_id);
   const usable = validateCalibrationInput(measurement, recipe.body);
   if (!usable.ok) throw measurementErrors.unusable(usable.issues);
+
+  // The usual case in one statement (one round trip, its own transaction): the unit registered if new,
+  // the measurement stored, its computation queued, the worker woken and the event sent. No row comes
+  // back only when a concurrent post won a race (the same serial first seen at two stations, or the same
+  // measurement posted twice at once): the transaction below sorts those out.
+  const receivedAt = ctx.clock();
+  const { rows: oneTrip } = await ctx.pool.query<{
+    id: string;
+    measurement_id: string;
+    unit_id: string;
+    serial: string;
+  }>(
+    prepared(
+      `with nu as (
+         insert into units (serial, model_id) select $11, $12 where $3::uuid is null
+         on conflict do nothing returning id, serial
+       ), u as (
+         select id, serial from nu
+         union all select $3::uuid, $4 where $3::uuid is not null
+       ), m as (
+         insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw,
+                                   payload_sha256, operator_id, received_at)
+         select $1, $2, u.id, u.serial, $5, $6, $7, $8, $9, $10 from u
+         on conflict do nothing returning id, measurement_id, unit_id, serial
+       ), j as (
+         ${jobInsertSql({
+           queueParam: '$13',
+           dataSql: `jsonb_build_object('measurementPk', m.id, 'recipeId', $14::text)`,
+           fromSql: 'm',
+         })}
+       )
+       select m.id, m.measurement_id, m.unit_id, m.serial,
+              pg_notify($15, $13),
+              pg_notify($16, json_build_object('type', 'measurement.received', 'stationId', $2::text,
+                'unitId', m.unit_id, 'serial', m.serial, 'measurementId', m.measurement_id, 'at', $17::text)::text),
+              -- A measurement is never stored without its job: no queue, no commit (the cast fails; it
+              -- names a column of m so the planner cannot fold it into a constant and fail every time).
+              case when exists (select 1 from j) then 0
+                   else ('no job queue ' || $13 || ' for measurement ' || m.id::text || ': run the migrations')::int
+              end as queued
+         from m`,
+      [
+        measurement.measurementId,
+        station.stationId,
+        c.unit_id,
+        c.unit_serial,
+        opts.source ?? 'timings',
+        canonical,
+        opts.raw ?? canonical,
+        digest,
+        c.attended_by,
+        receivedAt,
+        serialKey,
+        c.model_id,
+        queues.calibrationCompute.name,
+        recipe.id,
+        JOBS_WAKE_CHANNEL,
+        EVENTS_CHANNEL,
+        receivedAt.toISOString(),
+      ],
+    ),
+  );
+  if (oneTrip[0]) {
+    return {
+      measurementId: oneTrip[0].measurement_id,
+      serial: oneTrip[0].serial,
+      status: 'queued',
+      resultUrl: resultUrlFor(oneTrip[0].measurement_id),
+      repeated: false,
+    };
+  }
 
   const client = await ctx.pool.connect();
   try {
