@@ -500,6 +500,19 @@ export async function computeCalibration(
            programming_mismatch = case when $16 then false else programming_mismatch end
          where id = $3 and $17 and exists (select 1 from c)
          returning id
+       ), tj as (
+         ${jobInsertSql({
+           queueParam: '$23',
+           dataSql: `jsonb_build_object('calibrationId', c.id)`,
+           prioritySql: '$24::int',
+           fromSql: '(select id from c where $17) c',
+         })}
+       ), cw as (
+         ${jobInsertSql({
+           queueParam: '$25',
+           dataSql: `jsonb_build_object('stationId', $4::text, 'modelId', $26::text)`,
+           fromSql: '(select id from c where $17) c',
+         })}
        )
        select c.id,
               pg_notify($18, json_build_object('type', 'calibration.committed', 'stationId', $4::text,
@@ -531,6 +544,9 @@ export async function computeCalibration(
           now.toISOString(),
           JOBS_WAKE_CHANNEL,
           queues.travelerRender.name,
+          travelerRenderPriority(now),
+          queues.chartWatch.name,
+          recipe.modelId,
         ],
       ),
     );
@@ -560,24 +576,9 @@ export async function computeCalibration(
         after: { status: 'on_hold', attempts: next.attempts },
       });
     }
-    if (counts) {
-      await ctx.queue.send(
-        'travelerRender',
-        { calibrationId },
-        {
-          db: { executeSql: (text, values) => client.query(prepared(text, values)) },
-          wake: false,
-          priority: travelerRenderPriority(now),
-        },
-      );
-      // The watched control charts of this station and model take the new offset in (picked up at the
-      // worker's next poll, within 2 s: alerts need no millisecond wake-up).
-      await ctx.queue.send(
-        'chartWatch',
-        { stationId: measurement.station_id, modelId: recipe.modelId },
-        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
-      );
-    }
+    // The traveler render (newest first) and the watched charts' update were queued by the statement
+    // above, with the calibration (picked up at the chart worker's next poll, within 2 s: alerts need
+    // no millisecond wake-up).
     await client.query('COMMIT');
     return { calibrationId, created: true };
   } catch (e) {
