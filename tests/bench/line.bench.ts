@@ -140,6 +140,31 @@ async function rawInsertRate(url: string): Promise<number> {
   }
 }
 
+/**
+ * Bytes a unit costs in each big table: the table's whole size (heap, TOAST and indexes) over its rows.
+ * The tables hold only this bench's units, so this is the line's own mix.
+ */
+async function storageSizes(ownerUrl: string) {
+  const c = new pg.Client({ connectionString: ownerUrl });
+  await c.connect();
+  try {
+    await c.query('vacuum analyze measurements, calibrations, travelers');
+    const per = async (table: string, where = 'true') => {
+      const { rows } = await c.query<{ bytes: string; n: string }>(
+        `select pg_total_relation_size('${table}') as bytes, (select count(*) from ${table} where ${where}) as n`,
+      );
+      return Number(rows[0].bytes) / Math.max(1, Number(rows[0].n));
+    };
+    return {
+      measurement: await per('measurements'),
+      calibration: await per('calibrations'),
+      traveler: await per('travelers'),
+    };
+  } finally {
+    await c.end();
+  }
+}
+
 interface BenchStation {
   http: StationHttp;
   modelIndex: number;
@@ -259,7 +284,10 @@ async function main(): Promise<number> {
     SMTP_URL: `smtp://127.0.0.1:${await freePort()}`,
     MAILBOX_URL: '',
   };
-  const server = startService('server', TSX, ['server/main.ts'], { env, quiet: !process.env.BENCH_LINE_VERBOSE });
+  const server = startService('server', TSX, ['server/main.ts'], {
+    env,
+    quiet: !process.env.BENCH_LINE_VERBOSE,
+  });
   services.push(server);
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
   services.push(
@@ -322,6 +350,14 @@ async function main(): Promise<number> {
       `last traveler ${ms(travelers.lastBehindMs)} after the last calibration; ${travelers.missing} missing after ${TRAVELER_DRAIN_LIMIT_MS / 1000} s; load average ${load()}`,
   );
 
+  const sizes = await storageSizes(ownerUrl.toString());
+  log(
+    `bytes per unit (closed-loop units, rows with their indexes and TOAST): measurement ${sizes.measurement.toFixed(0)} B, ` +
+      `station calibration ${sizes.calibration.toFixed(0)} B, traveler PDF ${sizes.traveler.toFixed(0)} B; ` +
+      `≈ ${((sizes.measurement + sizes.calibration + sizes.traveler) / 1024).toFixed(1)} KiB a unit, ` +
+      `${(((sizes.measurement + sizes.calibration + sizes.traveler) * 1e6) / 1024 ** 3).toFixed(1)} GiB per million units`,
+  );
+
   const open = await openLoop(stations);
   log(
     `open loop at ${OPEN_RATE} posts/s (offered ${open.offeredRate.toFixed(1)}/s, ${open.posted} posts): post → result ` +
@@ -350,6 +386,7 @@ async function main(): Promise<number> {
         lastBehind: travelers.lastBehindMs,
         missing: travelers.missing,
       },
+      bytesPerUnit: sizes,
       loadAverage: loadavg(),
       openLoop: {
         ratePerSecond: OPEN_RATE,
