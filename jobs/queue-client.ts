@@ -32,6 +32,11 @@ export interface JobQueue {
     },
   ): Promise<string | null>;
   stats(): Promise<QueueStats>;
+  /**
+   * True when sending does nothing (the demo seed's queue): producers that insert jobs inside their own
+   * statements (jobInsertSql) must then insert none, and send no wake-up.
+   */
+  readonly silent?: boolean;
   boss: PgBoss;
   stop(): Promise<void>;
 }

@@ -210,16 +210,16 @@ export async function acceptMeasurement(
          ${jobInsertSql({
            queueParam: '$13',
            dataSql: `jsonb_build_object('measurementPk', m.id, 'recipeId', $14::text)`,
-           fromSql: 'm',
+           fromSql: '(select id from m where $18) m',
          })}
        )
        select m.id, m.measurement_id, m.unit_id, m.serial,
-              pg_notify($15, $13),
+              case when $18 then pg_notify($15, $13) end,
               pg_notify($16, json_build_object('type', 'measurement.received', 'stationId', $2::text,
                 'unitId', m.unit_id, 'serial', m.serial, 'measurementId', m.measurement_id, 'at', $17::text)::text),
               -- A measurement is never stored without its job: no queue, no commit (the cast fails; it
               -- names a column of m so the planner cannot fold it into a constant and fail every time).
-              case when exists (select 1 from j) then 0
+              case when exists (select 1 from j) or not $18 then 0
                    else ('no job queue ' || $13 || ' for measurement ' || m.id::text || ': run the migrations')::int
               end as queued
          from m`,
@@ -241,6 +241,8 @@ export async function acceptMeasurement(
         JOBS_WAKE_CHANNEL,
         EVENTS_CHANNEL,
         receivedAt.toISOString(),
+        // false for a queue that sends nothing (the demo seed computes in-process)
+        !ctx.queue.silent,
       ],
     ),
   );
@@ -505,20 +507,20 @@ export async function computeCalibration(
            queueParam: '$23',
            dataSql: `jsonb_build_object('calibrationId', c.id)`,
            prioritySql: '$24::int',
-           fromSql: '(select id from c where $17) c',
+           fromSql: '(select id from c where $17 and $27) c',
          })}
        ), cw as (
          ${jobInsertSql({
            queueParam: '$25',
            dataSql: `jsonb_build_object('stationId', $4::text, 'modelId', $26::text)`,
-           fromSql: '(select id from c where $17) c',
+           fromSql: '(select id from c where $17 and $27) c',
          })}
        )
        select c.id,
               pg_notify($18, json_build_object('type', 'calibration.committed', 'stationId', $4::text,
                 'unitId', $3::text, 'serial', $19::text, 'measurementId', $20::text, 'calibrationId', c.id,
                 'verdict', $6::text, 'at', $21::text)::text),
-              case when $17 then pg_notify($22, $23) end
+              case when $17 and $27 then pg_notify($22, $23) end
          from c left join u on true`,
         [
           measurement.id,
@@ -547,6 +549,7 @@ export async function computeCalibration(
           travelerRenderPriority(now),
           queues.chartWatch.name,
           recipe.modelId,
+          !ctx.queue.silent,
         ],
       ),
     );
