@@ -1,5 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../tests/harness/db';
+import { sessionCookie } from '../../tests/harness/test-app';
+import { seedDemoAccounts } from '../db/seed';
+import { parseEnv } from '../env';
 import { createLineFixture } from '../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../tests/harness/measurements';
 import { StationHttp, StationHttpError } from '../modules/demo/station-client';
@@ -11,7 +14,8 @@ import { TSX, startService, waitForHttp, type Service } from './services.mjs';
  * each kind of process is killed (SIGKILL, no goodbye). Afterwards every unit has exactly one measurement,
  * one station calibration and one first traveler: nothing lost, nothing twice. Each result is long-polled
  * on the other API process than the one that took the post, so a result reaches a client whichever
- * process it asks (the events travel by LISTEN/NOTIFY).
+ * process it asks (the events travel by LISTEN/NOTIFY); a station panel's event stream (SSE) opened on the
+ * process that survives sees the units posted to the one that is killed.
  */
 const UNITS = Number(process.env.MULTI_PROCESS_UNITS ?? 1000);
 const DUPLICATE_EVERY = 10; // every 10th unit is posted to both API processes at once
@@ -70,6 +74,7 @@ async function until(what: string, check: () => Promise<boolean>, timeoutMs: num
 beforeAll(async () => {
   database = await createTestDatabase();
   line = await createLineFixture(database.db);
+  await seedDemoAccounts(database.db, parseEnv({ ...process.env, DATABASE_URL: database.url }).BCRYPT_COST);
   // A job whose worker was killed is retried once its expiry passes: a short one keeps the test short.
   for (const name of ['calibration-compute', 'traveler-render']) {
     await database.ownerPool().query(`update pgboss.queue set expire_seconds = 5 where name = $1`, [name]);
@@ -98,6 +103,27 @@ describe('two API processes, two compute workers and two renderers on one databa
       const retry = { retryForMs: 1500, firstDelayMs: 100, maxDelayMs: 500 };
       const http = ports.map((port) => new StationHttp(`http://127.0.0.1:${port}`, line.key, retry));
       const alive = [true, true];
+
+      // A station panel follows the line's events on API process 1; units posted to process 2 show there.
+      const cookie = await sessionCookie(
+        `http://127.0.0.1:${ports[0]}` as never,
+        'olga.operator',
+        'demo-operator-pass',
+      );
+      const stream = await fetch(`http://127.0.0.1:${ports[0]}/api/stations/${line.station.id}/events`, {
+        headers: { cookie },
+      });
+      expect(stream.status).toBe(200);
+      const seen = { text: '' };
+      const unitOneEvents = () => seen.text.split('\n\n').filter((e) => e.includes('"SN-MP-00001"'));
+      const unitOneHas = (type: string) => unitOneEvents().some((e) => e.startsWith(`event: ${type}\n`));
+      const reading = (async () => {
+        const decoder = new TextDecoder();
+        for await (const chunk of stream.body as unknown as AsyncIterable<Uint8Array>) {
+          seen.text += decoder.decode(chunk, { stream: true });
+          if (unitOneHas('traveler.ready')) break;
+        }
+      })().catch(() => {});
 
       // A station that cannot reach one process posts to the other (a retry of the same measurement id).
       const postVia = async (first: number, m: ReturnType<typeof simulatedMeasurement>) => {
@@ -153,6 +179,16 @@ describe('two API processes, two compute workers and two renderers on one databa
         }),
       );
       expect(results).toHaveLength(UNITS);
+      // Unit 1 went to process 2: its events reached the stream on process 1.
+      await until(
+        'the stream to show unit 1 posted to the other process',
+        async () => unitOneHas('traveler.ready'),
+        120_000,
+      );
+      expect(unitOneHas('measurement.received')).toBe(true);
+      expect(unitOneHas('calibration.committed')).toBe(true);
+      await stream.body?.cancel().catch(() => {});
+      await reading;
 
       expect(await count(`select count(*)::int as n from measurements`)).toBe(UNITS);
       expect(await count(`select count(distinct serial)::int as n from measurements`)).toBe(UNITS);
