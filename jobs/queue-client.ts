@@ -23,6 +23,8 @@ export interface JobQueue {
     payload: unknown,
     opts?: {
       singletonKey?: string;
+      /** Higher is fetched first (pg-boss orders by priority, then by age). */
+      priority?: number;
       db?: PgBoss.Db;
       /** Further notifications to send in the same statement as the workers' wake-up (saves a round trip). */
       notify?: { channel: string; payload: string }[];
@@ -31,6 +33,11 @@ export interface JobQueue {
     },
   ): Promise<string | null>;
   stats(): Promise<QueueStats>;
+  /**
+   * True when sending does nothing (the demo seed's queue): producers that insert jobs inside their own
+   * statements (jobInsertSql) must then insert none, and send no wake-up.
+   */
+  readonly silent?: boolean;
   boss: PgBoss;
   stop(): Promise<void>;
 }
@@ -89,7 +96,12 @@ export async function startJobQueue(
     async send(queue, payload, sendOpts) {
       const def = queues[queue];
       const data = def.payload.parse(payload);
-      const id = await boss.send(def.name, data, { singletonKey: sendOpts?.singletonKey, db: sendOpts?.db });
+      const id = await boss.send(def.name, data, {
+        singletonKey: sendOpts?.singletonKey,
+        // pg-boss refuses a priority key whose value is not an integer, undefined included.
+        ...(sendOpts?.priority === undefined ? {} : { priority: sendOpts.priority }),
+        db: sendOpts?.db,
+      });
       if (sendOpts?.wake === false) return id;
       const extra = sendOpts?.notify ?? [];
       const wake =
@@ -131,4 +143,35 @@ export async function ensureQueue(
   ) {
     await boss.updateQueue(name, { name, ...policy });
   }
+}
+
+/**
+ * SQL that inserts one job of queue `queueParam` per row of `fromSql`, for use as a data-modifying CTE
+ * inside a producer's own statement: the job exists exactly when that statement commits, and sending it
+ * costs no round trip of its own. It applies the queue's policy (retries, backoff, expiry, retention) as
+ * pg-boss 10's own insert does (pg-boss/src/plans.js, insertJob), and the job is fetched, retried and
+ * expired by pg-boss like any other. The caller wakes the workers (pg_notify on JOBS_WAKE_CHANNEL) in the
+ * same statement.
+ */
+export function jobInsertSql(opts: {
+  /** Placeholder (e.g. '$7') holding the queue's name. */
+  queueParam: string;
+  /** SQL giving the job's data as jsonb, from the columns of `fromSql`. */
+  dataSql: string;
+  /** SQL giving the job's priority (higher first); 0 when absent. */
+  prioritySql?: string;
+  /** The rows to make jobs of (a CTE name). */
+  fromSql: string;
+}): string {
+  return `insert into ${BOSS_SCHEMA}.job (name, data, priority, dead_letter, expire_in, keep_until,
+                                  retry_limit, retry_delay, retry_backoff, policy)
+      select q.name, ${opts.dataSql}, ${opts.prioritySql ?? '0'}, q.dead_letter,
+             coalesce(q.expire_seconds * interval '1s', interval '15 minutes'),
+             now() + cast(coalesce((q.retention_minutes * 60)::text, '14 days') as interval),
+             coalesce(q.retry_limit, 2),
+             case when coalesce(q.retry_backoff, false) then greatest(coalesce(q.retry_delay, 0), 1)
+                  else coalesce(q.retry_delay, 0) end,
+             coalesce(q.retry_backoff, false), q.policy
+        from ${opts.fromSql} join ${BOSS_SCHEMA}.queue q on q.name = ${opts.queueParam}
+      returning id`;
 }

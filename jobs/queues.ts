@@ -47,6 +47,21 @@ export const queues = {
   },
 } as const;
 
+/**
+ * Render order of travelers when the renderers have a backlog: newest first. The unit at a station right
+ * now is the newest calibration of that station, so its traveler is rendered before any older one; an
+ * older unit's traveler (history) waits for a quiet moment, and a person who asks to print one gets it
+ * rendered in the request itself, never behind the queue (travelers.service: printTraveler,
+ * currentTraveler). pg-boss fetches the highest priority first, then the oldest: the priority is the
+ * commit time in whole seconds since 2026-01-01 UTC, which fits its int column until 2094.
+ */
+export const TRAVELER_PRIORITY_EPOCH_MS = Date.UTC(2026, 0, 1);
+
+export function travelerRenderPriority(committedAt: Date): number {
+  const seconds = Math.floor((committedAt.getTime() - TRAVELER_PRIORITY_EPOCH_MS) / 1000);
+  return Math.min(2 ** 31 - 1, Math.max(0, seconds));
+}
+
 /** PostgreSQL channel on which producers announce new jobs, so workers start them at once. */
 export const JOBS_WAKE_CHANNEL = 'phasewright_jobs';
 

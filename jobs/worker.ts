@@ -48,23 +48,27 @@ export async function startWorker(opts: {
     const def = queues[job.queue];
     const ids: string[] = [];
     for (let i = 0; i < job.concurrency; i++) {
-      ids.push(
-        await queue.boss.work(
-          def.name,
-          { pollingIntervalSeconds: 2, batchSize: job.batchSize },
-          async (jobs) => {
-            for (const j of jobs) {
-              try {
-                const payload = def.payload.parse(j.data ?? {});
-                await job.handler(deps, payload as never);
-              } catch (err) {
-                logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
-                await queue.boss.fail(def.name, j.id, { message: (err as Error).message ?? String(err) });
-              }
+      let loopId = '';
+      loopId = await queue.boss.work(
+        def.name,
+        { pollingIntervalSeconds: 2, batchSize: job.batchSize },
+        async (jobs) => {
+          for (const j of jobs) {
+            try {
+              const payload = def.payload.parse(j.data ?? {});
+              await job.handler(deps, payload as never);
+            } catch (err) {
+              logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
+              await queue.boss.fail(def.name, j.id, { message: (err as Error).message ?? String(err) });
             }
-          },
-        ),
+          }
+          // A full batch means more may be waiting (a backlog): fetch again at once. pg-boss 10 would
+          // otherwise sleep its polling interval after every batch, capping a loop at batchSize jobs
+          // per 2 s once the producers' wake-ups stop.
+          if (jobs.length >= job.batchSize && loopId) queue.boss.notifyWorker(loopId);
+        },
       );
+      ids.push(loopId);
     }
     loops.set(def.name, ids);
     if (job.schedule) await queue.boss.schedule(def.name, job.schedule, {}, { tz: 'UTC' });

@@ -16,6 +16,18 @@ import { superviseService } from './supervise.mjs';
 
 const log = prefixedLog('start');
 const dev = process.argv.includes('--dev');
+// How many of each process: one by default; `--scale` runs two of each; SCALE_API, SCALE_WORKERS and
+// SCALE_RENDERERS set each count. The processes share nothing but the database (see README: Scale).
+function scaleOf(name) {
+  const raw = process.env[name] ?? (process.argv.includes('--scale') ? '2' : '1');
+  const n = Number(raw);
+  if (!Number.isInteger(n) || n < 1 || n > 16) {
+    console.error(`${name} must be a whole number from 1 to 16, not "${raw}".`);
+    process.exit(2);
+  }
+  return n;
+}
+const scale = { api: scaleOf('SCALE_API'), workers: scaleOf('SCALE_WORKERS'), renderers: scaleOf('SCALE_RENDERERS') };
 const buildClient = !process.argv.includes('--no-build');
 const instance = process.env.PG_INSTANCE || 'dev';
 const port = Number(process.env.PORT ?? 3000);
@@ -189,17 +201,31 @@ try {
     ready: (service) => waitForHttp(`http://127.0.0.1:${port}/api/health`, service),
   });
   await server.firstStart;
+  // Further API processes on the next ports (PORT+1, …): a reverse proxy in front spreads clients over them.
+  for (let i = 2; i <= scale.api; i++) {
+    const extraPort = port + i - 1;
+    if (await portInUse(extraPort)) throw new Error(`Port ${extraPort} (API process ${i}) is already in use.`);
+    const extra = supervise(`server-${i}`, TSX, ['server/main.ts'], {
+      env: { ...env, PORT: String(extraPort), SEED_DEMO: 'false' },
+      ready: (service) => waitForHttp(`http://127.0.0.1:${extraPort}/api/health`, service),
+    });
+    await extra.firstStart;
+  }
 
   // Two worker processes: calibrations and housekeeping in one, the CPU-heavy traveler renders and
   // what-if replays in the other, so neither ever delays a result an operator is waiting for.
   const workerArgs = dev ? ['watch', 'jobs/worker.ts'] : ['jobs/worker.ts'];
-  supervise('worker', TSX, workerArgs, {
-    env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
-  });
+  for (let i = 1; i <= scale.workers; i++) {
+    supervise(i === 1 ? 'worker' : `worker-${i}`, TSX, workerArgs, {
+      env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
+    });
+  }
   // Renders and replays yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
-  supervise('renderer', 'nice', ['-n', '10', TSX, ...workerArgs], {
-    env: { ...env, WORKER_QUEUES: 'traveler-render,what-if-run' },
-  });
+  for (let i = 1; i <= scale.renderers; i++) {
+    supervise(i === 1 ? 'renderer' : `renderer-${i}`, 'nice', ['-n', '10', TSX, ...workerArgs], {
+      env: { ...env, WORKER_QUEUES: 'traveler-render,what-if-run' },
+    });
+  }
 
   if (dev)
     supervise('vite', join(repoRoot, 'node_modules', '.bin', 'vite'), ['--host', '127.0.0.1'], { env });
@@ -231,6 +257,11 @@ try {
     '    quality        quinn.quality  / demo-quality-pass',
     '    operator       olga.operator  / demo-operator-pass   (badge OP-1001, PIN 2468)',
     '',
+    ...(scale.api + scale.workers + scale.renderers > 3
+      ? [
+          `  Processes: ${scale.api} API (ports ${port}–${port + scale.api - 1}), ${scale.workers} compute workers, ${scale.renderers} renderers`,
+        ]
+      : []),
     `  Database: ${pg.external ? 'DATABASE_URL (external)' : `private PostgreSQL on 127.0.0.1:${pg.port}`}`,
     `  Mail: ${process.env.SMTP_URL ? 'SMTP_URL relay' : `local fake mail server (SMTP 127.0.0.1:${smtpPort}); see Admin → Outbox`}`,
     ...(demoStation

@@ -103,6 +103,7 @@ const BAD_UNIT_RATE = 0.03;
 export function silentSeedQueue(queue: JobQueue): JobQueue {
   return {
     ...queue,
+    silent: true,
     async send(name, payload, opts) {
       queues[name].payload.parse(payload);
       const extra = opts?.notify ?? [];

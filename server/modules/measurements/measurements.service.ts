@@ -6,8 +6,8 @@ import type { Db, DbOrTx } from '../../db/client';
 import * as schema from '../../db/schema';
 import { prepared } from '../../db/prepared';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import type { JobQueue } from '../../../jobs/queue-client';
-import { JOBS_WAKE_CHANNEL, queues } from '../../../jobs/queues';
+import { jobInsertSql, type JobQueue } from '../../../jobs/queue-client';
+import { JOBS_WAKE_CHANNEL, queues, travelerRenderPriority } from '../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
 import type {
   CalibrationView,
@@ -184,6 +184,79 @@ export async function acceptMeasurement(
   const recipe = await releasedRecipe(ctx.db, c.active_recipe_id);
   const usable = validateCalibrationInput(measurement, recipe.body);
   if (!usable.ok) throw measurementErrors.unusable(usable.issues);
+
+  // The usual case in one statement (one round trip, its own transaction): the unit registered if new,
+  // the measurement stored, its computation queued, the worker woken and the event sent. No row comes
+  // back only when a concurrent post won a race (the same serial first seen at two stations, or the same
+  // measurement posted twice at once): the transaction below sorts those out.
+  const receivedAt = ctx.clock();
+  const { rows: oneTrip } = await ctx.pool.query<{
+    id: string;
+    measurement_id: string;
+    unit_id: string;
+    serial: string;
+  }>(
+    prepared(
+      `with nu as (
+         insert into units (serial, model_id) select $11, $12 where $3::uuid is null
+         on conflict do nothing returning id, serial
+       ), u as (
+         select id, serial from nu
+         union all select $3::uuid, $4 where $3::uuid is not null
+       ), m as (
+         insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw,
+                                   payload_sha256, operator_id, received_at)
+         select $1, $2, u.id, u.serial, $5, $6, $7, $8, $9, $10 from u
+         on conflict do nothing returning id, measurement_id, unit_id, serial
+       ), j as (
+         ${jobInsertSql({
+           queueParam: '$13',
+           dataSql: `jsonb_build_object('measurementPk', m.id, 'recipeId', $14::text)`,
+           fromSql: '(select id from m where $18) m',
+         })}
+       )
+       select m.id, m.measurement_id, m.unit_id, m.serial,
+              case when $18 then pg_notify($15, $13) end,
+              pg_notify($16, json_build_object('type', 'measurement.received', 'stationId', $2::text,
+                'unitId', m.unit_id, 'serial', m.serial, 'measurementId', m.measurement_id, 'at', $17::text)::text),
+              -- A measurement is never stored without its job: no queue, no commit (the cast fails; it
+              -- names a column of m so the planner cannot fold it into a constant and fail every time).
+              case when exists (select 1 from j) or not $18 then 0
+                   else ('no job queue ' || $13 || ' for measurement ' || m.id::text || ': run the migrations')::int
+              end as queued
+         from m`,
+      [
+        measurement.measurementId,
+        station.stationId,
+        c.unit_id,
+        c.unit_serial,
+        opts.source ?? 'timings',
+        canonical,
+        opts.raw ?? canonical,
+        digest,
+        c.attended_by,
+        receivedAt,
+        serialKey,
+        c.model_id,
+        queues.calibrationCompute.name,
+        recipe.id,
+        JOBS_WAKE_CHANNEL,
+        EVENTS_CHANNEL,
+        receivedAt.toISOString(),
+        // false for a queue that sends nothing (the demo seed computes in-process)
+        !ctx.queue.silent,
+      ],
+    ),
+  );
+  if (oneTrip[0]) {
+    return {
+      measurementId: oneTrip[0].measurement_id,
+      serial: oneTrip[0].serial,
+      status: 'queued',
+      resultUrl: resultUrlFor(oneTrip[0].measurement_id),
+      repeated: false,
+    };
+  }
 
   const client = await ctx.pool.connect();
   try {
@@ -431,12 +504,25 @@ export async function computeCalibration(
            programming_mismatch = case when $16 then false else programming_mismatch end
          where id = $3 and $17 and exists (select 1 from c)
          returning id
+       ), tj as (
+         ${jobInsertSql({
+           queueParam: '$23',
+           dataSql: `jsonb_build_object('calibrationId', c.id)`,
+           prioritySql: '$24::int',
+           fromSql: '(select id from c where $17 and $27) c',
+         })}
+       ), cw as (
+         ${jobInsertSql({
+           queueParam: '$25',
+           dataSql: `jsonb_build_object('stationId', $4::text, 'modelId', $26::text)`,
+           fromSql: '(select id from c where $17 and $27) c',
+         })}
        )
        select c.id,
               pg_notify($18, json_build_object('type', 'calibration.committed', 'stationId', $4::text,
                 'unitId', $3::text, 'serial', $19::text, 'measurementId', $20::text, 'calibrationId', c.id,
                 'verdict', $6::text, 'at', $21::text)::text),
-              case when $17 then pg_notify($22, $23) end
+              case when $17 and $27 then pg_notify($22, $23) end
          from c left join u on true`,
         [
           measurement.id,
@@ -462,6 +548,10 @@ export async function computeCalibration(
           now.toISOString(),
           JOBS_WAKE_CHANNEL,
           queues.travelerRender.name,
+          travelerRenderPriority(now),
+          queues.chartWatch.name,
+          recipe.modelId,
+          !ctx.queue.silent,
         ],
       ),
     );
@@ -491,20 +581,9 @@ export async function computeCalibration(
         before: { status: unit.status, attempts: unit.attempts },
       });
     }
-    if (counts) {
-      await ctx.queue.send(
-        'travelerRender',
-        { calibrationId },
-        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
-      );
-      // The watched control charts of this station and model take the new offset in (picked up at the
-      // worker's next poll, within 2 s: alerts need no millisecond wake-up).
-      await ctx.queue.send(
-        'chartWatch',
-        { stationId: measurement.station_id, modelId: recipe.modelId },
-        { db: { executeSql: (text, values) => client.query(prepared(text, values)) }, wake: false },
-      );
-    }
+    // The traveler render (newest first) and the watched charts' update were queued by the statement
+    // above, with the calibration (picked up at the chart worker's next poll, within 2 s: alerts need
+    // no millisecond wake-up).
     await client.query('COMMIT');
     return { calibrationId, created: true };
   } catch (e) {

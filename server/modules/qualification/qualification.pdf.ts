@@ -1,6 +1,7 @@
 import PDFDocument from 'pdfkit';
 import { barlowFontSources, type BarlowFace } from '../travelers/fonts';
-import { markBad, markGood, PAGE_SIZES_PT } from '../travelers/traveler.render';
+import { markBad, markGood } from '../travelers/traveler.page';
+import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import type { GaugeStudyDetail, QualificationRunView } from '../../../shared/schemas/qualification';
 import type { GaugeFigures } from '../../../shared/statistics/gauge-study';

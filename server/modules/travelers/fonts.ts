@@ -1,4 +1,5 @@
 import { readFileSync } from 'node:fs';
+import { deflateSync } from 'node:zlib';
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 
@@ -100,6 +101,95 @@ function memoiseOutlineDecoding(glyph: unknown): void {
     decoded ??= { value: decode.call(this) };
     return decoded.value;
   };
+}
+
+// ---- Font files shared across documents -------------------------------------------------------------------
+//
+// Each PDF embeds the subset of each face it uses, and pdfkit encodes it (a TrueType file built glyph by
+// glyph) and deflates it for every document: about a fifth of a traveler's time. The subset numbers glyphs
+// in the order they are first drawn, so two travelers whose serials differ by one digit would build
+// different subsets. Every document's faces therefore start with the same glyphs in the same order: the
+// characters that change from unit to unit (digits, signs, capitals of serials); the fixed text around
+// them then adds its glyphs in the same order every time. The glyph list is nearly always the same, and
+// its file, encoded and deflated once, is reused as it is; a glyph outside it (an accented name) is
+// appended as usual and makes a file of its own, built once and remembered too. Seeding every printable
+// character instead would make each PDF about 14 KiB larger.
+
+const SUBSET_SEED_TEXT = '0123456789+-.,:/°−ABCDEFGHIJKLMNOPQRSTUVWXYZ';
+// Distinct glyph lists per face to remember; a traveler run uses a handful.
+const FONT_FILE_MEMO_LIMIT = 200;
+const fontFiles = new WeakMap<object, Map<string, Buffer>>();
+
+// pdfkit keeps, per document, each word it has laid out at its PDF scale. The words repeat from traveler to
+// traveler (labels, cautions, check sentences), and pdfkit never changes a run it has cached (it reuses
+// them within a document already), so each face shares one such cache across documents. It starts afresh
+// now and then so the unit-specific words (serials, times) do not pile up.
+const LAYOUT_CACHE_CHECK_EVERY = 200;
+const LAYOUT_CACHE_LIMIT = 20_000;
+const layoutCaches = new WeakMap<object, { words: Record<string, unknown>; uses: number }>();
+
+function sharedLayoutCache(font: object): Record<string, unknown> {
+  let cache = layoutCaches.get(font);
+  if (!cache)
+    layoutCaches.set(font, (cache = { words: Object.create(null) as Record<string, unknown>, uses: 0 }));
+  cache.uses += 1;
+  if (cache.uses % LAYOUT_CACHE_CHECK_EVERY === 0 && Object.keys(cache.words).length > LAYOUT_CACHE_LIMIT) {
+    cache.words = Object.create(null) as Record<string, unknown>;
+  }
+  return cache.words;
+}
+
+// What this code expects of pdfkit's internals; when they differ, nothing is changed (only slower).
+interface PdfRef {
+  data: Record<string, unknown>;
+  buffer: unknown[];
+  compress: boolean;
+}
+interface EmbeddedFace {
+  font: object;
+  layoutCache?: Record<string, unknown>;
+  encode(text: string): unknown;
+  subset: { glyphs: number[]; encode(): Uint8Array };
+}
+
+/**
+ * Prepares a fresh document's faces (call after registering them, before drawing): seeds each face's
+ * glyphs in a fixed order, and hands pdfkit each font file already encoded and deflated when the same
+ * glyph list was embedded before.
+ */
+export function prepareDocumentFonts(doc: PDFKit.PDFDocument): void {
+  const d = doc as unknown as { _font?: EmbeddedFace; ref(data?: object): PdfRef };
+  // pdfkit creates the font file's object, then asks the subset for its bytes: remember the newest object.
+  const ref = d.ref.bind(doc);
+  let newest: PdfRef | undefined;
+  d.ref = (data?: object) => (newest = ref(data));
+  for (const face of Object.keys(BARLOW_FACES)) {
+    doc.font(face);
+    const font = d._font;
+    if (typeof font?.encode !== 'function' || typeof font.subset?.encode !== 'function') return;
+    if (font.layoutCache) font.layoutCache = sharedLayoutCache(font.font);
+    for (const ch of SUBSET_SEED_TEXT) font.encode(ch);
+    let files = fontFiles.get(font.font);
+    if (!files) fontFiles.set(font.font, (files = new Map()));
+    const memo = files;
+    const encode = font.subset.encode.bind(font.subset);
+    font.subset.encode = () => {
+      const file = newest;
+      const fresh = file && file.buffer.length === 0 && Object.keys(file.data).length === 0;
+      if (!fresh || !file.compress) return encode();
+      const key = font.subset.glyphs.join(',');
+      let deflated = memo.get(key);
+      if (!deflated) {
+        deflated = deflateSync(encode());
+        if (memo.size >= FONT_FILE_MEMO_LIMIT) memo.clear();
+        memo.set(key, deflated);
+      }
+      // Already deflated: pdfkit writes it as it is, under the filter that says how to read it.
+      file.compress = false;
+      file.data.Filter = 'FlateDecode';
+      return deflated;
+    };
+  }
 }
 
 function memoiseShaping(font: ParsedFont): ParsedFont {

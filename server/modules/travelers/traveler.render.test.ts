@@ -88,26 +88,43 @@ function unit(overrides: Partial<TravelerDataInput> = {}): TravelerDataInput {
   };
 }
 
-async function readBack(pdf: Buffer) {
+// A thermal label printer's resolution: 203 dots per inch (8 dots per mm).
+const PRINTER_DPI = 203;
+
+async function readBack(pdf: Buffer, opts: { raster?: boolean } = {}) {
   const parser = new PDFParse({ data: new Uint8Array(pdf) });
   try {
     const text = await parser.getText();
     const info = await parser.getInfo({ parsePageInfo: true });
-    // imageThreshold 0: keep every image, however small (the default drops anything ≤ 80 px).
-    const images = await parser.getImage({ imageThreshold: 0, imageDataUrl: false });
-    return { text: text.text, info, images: images.pages.flatMap((p) => p.images) };
+    // The barcodes are vector paths: rasterise each page as a 203 dpi printer would (pdf.js), then decode.
+    const shots = opts.raster
+      ? await parser.getScreenshot({ scale: PRINTER_DPI / 72, imageDataUrl: false, imageBuffer: true })
+      : { pages: [] };
+    return { text: text.text, info, pages: shots.pages.map((p) => PNG.sync.read(Buffer.from(p.data))) };
   } finally {
     await parser.destroy();
   }
 }
 
-// Decodes an extracted image with the general-purpose zxing decoder, restricted to one symbology.
-function decode(pngBytes: Uint8Array, format: BarcodeFormat): string | null {
-  const png = PNG.sync.read(Buffer.from(pngBytes));
-  const luminance = new Uint8ClampedArray(png.width * png.height);
-  for (let i = 0; i < luminance.length; i += 1) {
-    const [r, g, b] = [png.data[4 * i], png.data[4 * i + 1], png.data[4 * i + 2]];
-    luminance[i] = (r * 299 + g * 587 + b * 114) / 1000;
+type Raster = { width: number; height: number; data: Buffer };
+
+// Decodes a region of a rasterised page with the general-purpose zxing decoder, restricted to one symbology.
+function decodeRegion(
+  png: Raster,
+  format: BarcodeFormat,
+  region: { x: number; y: number; w: number; h: number },
+): string | null {
+  const x0 = Math.max(0, Math.round(region.x));
+  const y0 = Math.max(0, Math.round(region.y));
+  const w = Math.min(png.width - x0, Math.round(region.w));
+  const h = Math.min(png.height - y0, Math.round(region.h));
+  const luminance = new Uint8ClampedArray(w * h);
+  for (let y = 0; y < h; y += 1) {
+    for (let x = 0; x < w; x += 1) {
+      const i = 4 * ((y0 + y) * png.width + x0 + x);
+      const [r, g, b] = [png.data[i], png.data[i + 1], png.data[i + 2]];
+      luminance[y * w + x] = (r * 299 + g * 587 + b * 114) / 1000;
+    }
   }
   const reader = new MultiFormatReader();
   const hints = new Map<DecodeHintType, unknown>([
@@ -115,24 +132,48 @@ function decode(pngBytes: Uint8Array, format: BarcodeFormat): string | null {
     [DecodeHintType.TRY_HARDER, true],
   ]);
   try {
-    const bitmap = new BinaryBitmap(
-      new HybridBinarizer(new RGBLuminanceSource(luminance, png.width, png.height)),
-    );
+    const bitmap = new BinaryBitmap(new HybridBinarizer(new RGBLuminanceSource(luminance, w, h)));
     return reader.decode(bitmap, hints).getText();
   } catch {
     return null;
   }
 }
 
-function decodeAny(images: { data: Uint8Array }[], format: BarcodeFormat): string[] {
-  return images.map((i) => decode(i.data, format)).filter((t): t is string => t !== null);
+// The barcodes sit in the identity band at the top of the first page: Code 128 on the left under the
+// serial, the Data Matrix at the right margin. Each is looked for in its part of the band, as a scanner
+// aimed at it would see it; texts found more than once are reported once.
+function decodeAny(pages: Raster[], format: BarcodeFormat): string[] {
+  const found = new Set<string>();
+  for (const png of pages.slice(0, 1)) {
+    const regions =
+      format === BarcodeFormat.DATA_MATRIX
+        ? [0.7, 0.74, 0.78].flatMap((x) =>
+            [0.08, 0.12, 0.16, 0.2].map((y) => ({
+              x: png.width * x,
+              y: png.height * y,
+              w: png.width * 0.26,
+              h: png.width * 0.22,
+            })),
+          )
+        : [0.04, 0.1, 0.16, 0.22].map((y) => ({
+            x: 0,
+            y: png.height * y,
+            w: png.width * 0.5,
+            h: png.height * 0.08,
+          }));
+    for (const region of regions) {
+      const text = decodeRegion(png, format, region);
+      if (text !== null) found.add(text);
+    }
+  }
+  return [...found];
 }
 
 describe('unit traveler PDF', () => {
   let passing: Awaited<ReturnType<typeof readBack>>;
 
   beforeAll(async () => {
-    passing = await readBack(await renderTravelerPdf(unit()));
+    passing = await readBack(await renderTravelerPdf(unit()), { raster: true });
   });
 
   it('prints the serial, verdict, offset in degrees and counts, and the demo plant', () => {
@@ -174,12 +215,12 @@ describe('unit traveler PDF', () => {
 
   it('encodes the serial in a Code 128 symbol that a general-purpose decoder reads back', () => {
     // Code 128 per ISO/IEC 15417, decoded by @zxing/library from the image embedded in the PDF.
-    expect(decodeAny(passing.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
+    expect(decodeAny(passing.pages, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
   });
 
   it('encodes serial, offset and recipe version in a Data Matrix that a general-purpose decoder reads back', () => {
     // Data Matrix (ECC 200) per ISO/IEC 16022, decoded by @zxing/library from the embedded image.
-    const texts = decodeAny(passing.images, BarcodeFormat.DATA_MATRIX);
+    const texts = decodeAny(passing.pages, BarcodeFormat.DATA_MATRIX);
     expect(texts).toHaveLength(1);
     const code = parseTravelerCode(texts[0]);
     expect(code.serial).toBe('CM57-24-008143');
@@ -191,11 +232,11 @@ describe('unit traveler PDF', () => {
   });
 
   it('marks a reprint with its print number and keeps both barcodes readable', async () => {
-    const reprint = await readBack(await renderTravelerPdf(unit({ printNumber: 3 })));
+    const reprint = await readBack(await renderTravelerPdf(unit({ printNumber: 3 })), { raster: true });
     expect(reprint.text).toContain('REPRINT 3');
     expect(reprint.text).not.toContain('ORIGINAL');
-    expect(decodeAny(reprint.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
-    expect(decodeAny(reprint.images, BarcodeFormat.DATA_MATRIX)).toHaveLength(1);
+    expect(decodeAny(reprint.pages, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
+    expect(decodeAny(reprint.pages, BarcodeFormat.DATA_MATRIX)).toHaveLength(1);
   });
 
   it('prints on A4 and on US Letter at their standard sizes', async () => {
@@ -203,12 +244,12 @@ describe('unit traveler PDF', () => {
     const a4 = passing.info.pages[0];
     expect(a4.width).toBeCloseTo(595.28, 1);
     expect(a4.height).toBeCloseTo(841.89, 1);
-    const letter = await readBack(await renderTravelerPdf(unit({ pageSize: 'LETTER' })));
+    const letter = await readBack(await renderTravelerPdf(unit({ pageSize: 'LETTER' })), { raster: true });
     expect(letter.info.total).toBe(1);
     expect(letter.info.pages[0].width).toBeCloseTo(612, 1);
     expect(letter.info.pages[0].height).toBeCloseTo(792, 1);
     expect(letter.text).toContain('Page 1 of 1');
-    expect(decodeAny(letter.images, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
+    expect(decodeAny(letter.pages, BarcodeFormat.CODE_128)).toContain('CM57-24-008143');
   });
 
   it('shows a failed unit as FAIL and REJECT with each failed check named and explained', async () => {
@@ -230,7 +271,7 @@ describe('unit traveler PDF', () => {
       },
       ...failing.checks.slice(1),
     ];
-    const { text: raw, images } = await readBack(await renderTravelerPdf(failing));
+    const { text: raw, pages } = await readBack(await renderTravelerPdf(failing), { raster: true });
     const text = raw.replace(/\s+/g, ' ');
     expect(text).toContain('FAIL');
     expect(text).toContain('1 of 3 checks failed');
@@ -240,7 +281,7 @@ describe('unit traveler PDF', () => {
     expect(text).toContain('REJECT: DO NOT SHIP');
     expect(text).toContain('DO NOT PROGRAM');
     expect(text).not.toContain('PENDING');
-    expect(parseTravelerCode(decodeAny(images, BarcodeFormat.DATA_MATRIX)[0]).verdict).toBe('fail');
+    expect(parseTravelerCode(decodeAny(pages, BarcodeFormat.DATA_MATRIX)[0]).verdict).toBe('fail');
   });
 
   it('flags a programming mismatch with both values, so the unit is not shipped', async () => {

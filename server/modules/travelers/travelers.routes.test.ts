@@ -58,7 +58,8 @@ describe('unit travelers', () => {
     await calibratedUnit('SN-TRAV-1');
     const res = await request(t.app)
       .get('/api/units/SN-TRAV-1/traveler.pdf')
-      .set('Origin', TEST_ORIGIN).set('Cookie', operator)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator)
       .buffer(true);
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('application/pdf');
@@ -75,16 +76,22 @@ describe('unit travelers', () => {
     const { calibrationId } = await calibratedUnit('SN-TRAV-2');
     const first = await request(t.app)
       .post('/api/units/SN-TRAV-2/traveler/print')
-      .set('Origin', TEST_ORIGIN).set('Cookie', operator)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator)
       .send({ pageSize: 'A4' });
     expect(first.status).toBe(201);
     expect(first.body.printNumber).toBe(1);
     const second = await request(t.app)
       .post('/api/units/SN-TRAV-2/traveler/print')
-      .set('Origin', TEST_ORIGIN).set('Cookie', operator)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator)
       .send({});
     expect(second.body.printNumber).toBe(2);
-    const doc = await request(t.app).get(second.body.url).set('Origin', TEST_ORIGIN).set('Cookie', operator).buffer(true);
+    const doc = await request(t.app)
+      .get(second.body.url)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator)
+      .buffer(true);
     expect(await pdfText(doc.body as Buffer)).toMatch(/REPRINT\s*2/);
     const { rows } = await t.database.pool.query(
       `select action from audit_log where subject_type = 'calibration' and subject_id = $1 order by id`,
@@ -106,10 +113,14 @@ describe('unit travelers', () => {
   it('says clearly when a unit has no traveler yet', async () => {
     const res = await request(t.app)
       .post('/api/units')
-      .set('Origin', TEST_ORIGIN).set('Cookie', operator)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator)
       .send({ serial: 'SN-TRAV-NONE', modelId: line.model.id });
     expect(res.status).toBe(201);
-    const pdf = await request(t.app).get('/api/units/SN-TRAV-NONE/traveler.pdf').set('Origin', TEST_ORIGIN).set('Cookie', operator);
+    const pdf = await request(t.app)
+      .get('/api/units/SN-TRAV-NONE/traveler.pdf')
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator);
     expect(pdf.status).toBe(404);
     expect(pdf.body.error.code).toBe('travelers.none');
   });

@@ -1,0 +1,246 @@
+import type { BarlowFace } from './fonts';
+import type { TravelerCheck, TravelerData } from './traveler.types';
+import {
+  formatCheckLimit as limitText,
+  formatCheckValue as valueText,
+  plainNumber,
+} from '../../../shared/calibration/check-guide';
+
+// The traveler's drawing kit: number and time formats, the Page (text lines, fields, rules, headings,
+// page breaks) and the state marks. The sections themselves are in traveler.layout.ts.
+
+// ---- Formatting ---------------------------------------------------------------------------------------
+
+// Up to 2 decimals, trailing zeros dropped, a true minus: 1480, 0.93, −17.85.
+export function plain(value: number): string {
+  return plainNumber(value);
+}
+
+const dateFormats = new Map<string, Intl.DateTimeFormat>();
+
+function dateFormat(timeZone: string): Intl.DateTimeFormat {
+  let format = dateFormats.get(timeZone);
+  if (!format) {
+    format = new Intl.DateTimeFormat('en-GB', {
+      timeZone,
+      year: 'numeric',
+      month: '2-digit',
+      day: '2-digit',
+      hour: '2-digit',
+      minute: '2-digit',
+      second: '2-digit',
+      hourCycle: 'h23',
+      timeZoneName: 'longOffset',
+    });
+    dateFormats.set(timeZone, format);
+  }
+  return format;
+}
+
+// "2026-12-02 14:03:11 UTC" or "2026-12-02 15:03:11 UTC+01:00": date first, 24-hour clock, offset stated.
+export function formatTime(iso: string, timeZone: string): string {
+  const parts: Record<string, string> = {};
+  for (const p of dateFormat(timeZone).formatToParts(new Date(iso))) parts[p.type] = p.value;
+  const name = parts.timeZoneName ?? 'GMT';
+  const offset = name === 'GMT' || name === 'GMT+00:00' ? 'UTC' : name.replace('GMT', 'UTC');
+  return `${parts.year}-${parts.month}-${parts.day} ${parts.hour}:${parts.minute}:${parts.second} ${offset}`;
+}
+
+// Values and limits print from the same table the station screen uses, so a minimum reads "≥" on both.
+export function formatCheckValue(check: TravelerCheck): string {
+  return valueText(check);
+}
+
+export function formatCheckLimit(check: TravelerCheck): string {
+  return limitText(check);
+}
+
+/** What the unit is, as the paper must say it before anything else: released, rejected or held. */
+export type Disposition = 'release' | 'reject' | 'hold';
+
+export function dispositionOf(data: Pick<TravelerData, 'verdict' | 'hold'>): Disposition {
+  if (data.hold) return 'hold';
+  return data.verdict === 'pass' ? 'release' : 'reject';
+}
+
+// ---- Drawing ------------------------------------------------------------------------------------------
+
+export type Doc = PDFKit.PDFDocument;
+export type Face = BarlowFace;
+export interface LineOptions {
+  color?: string;
+  // Given a width, the text is aligned within it and cut with an ellipsis when longer.
+  width?: number;
+  align?: 'left' | 'right' | 'center';
+}
+
+export const INK = '#000000';
+export const SOFT = '#4d4d4d';
+export const RULE = '#8c8c8c';
+export const TINT = '#e8e8e8';
+export const MARGIN = 36;
+export const FOOTER_H = 22;
+
+export class Page {
+  y = MARGIN;
+  readonly left = MARGIN;
+  readonly right: number;
+  readonly width: number;
+  readonly bottom: number;
+
+  constructor(
+    readonly doc: Doc,
+    readonly data: TravelerData,
+  ) {
+    this.right = doc.page.width - MARGIN;
+    this.width = this.right - this.left;
+    this.bottom = doc.page.height - MARGIN - FOOTER_H;
+  }
+
+  // One line of text. Alignment and truncation are done here rather than by pdfkit's line wrapper, which
+  // costs more than the drawing itself for short single-line strings.
+  text(face: Face, size: number, str: string, x: number, y: number, options: LineOptions = {}): void {
+    const { doc } = this;
+    doc
+      .font(face)
+      .fontSize(size)
+      .fillColor(options.color ?? INK);
+    let line = str;
+    const width = options.width;
+    // No Barlow glyph is wider than 1 em, so short left-aligned text needs no measuring.
+    if (width !== undefined && ((options.align ?? 'left') !== 'left' || str.length * size > width)) {
+      let measured = doc.widthOfString(line);
+      if (measured > width) {
+        while (line.length > 1 && doc.widthOfString(`${line}…`) > width) line = line.slice(0, -1).trimEnd();
+        line = `${line}…`;
+        measured = doc.widthOfString(line);
+      }
+      if (options.align === 'right') x += width - measured;
+      else if (options.align === 'center') x += (width - measured) / 2;
+    }
+    doc.text(line, x, y, { lineBreak: false });
+  }
+
+  // One line that must be read whole (a recipe name): shrinks down to minSize before it is ever cut.
+  fitText(
+    face: Face,
+    size: number,
+    str: string,
+    x: number,
+    y: number,
+    width: number,
+    minSize = 7,
+    color = INK,
+  ): void {
+    let s = size;
+    this.doc.font(face);
+    while (s > minSize && this.doc.fontSize(s).widthOfString(str) > width) s -= 0.5;
+    this.text(face, s, str, x, y + (size - s) * 0.7, { width, color });
+  }
+
+  label(str: string, x: number, y: number, options: LineOptions = {}): void {
+    this.text('semiBold', 6.5, str.toUpperCase(), x, y, { color: SOFT, ...options });
+  }
+
+  field(
+    label: string,
+    value: string,
+    x: number,
+    y: number,
+    width: number,
+    face: Face = 'regular',
+    fit = false,
+  ): void {
+    this.label(label, x, y);
+    if (fit) this.fitText(face, 9.5, value, x, y + 8.5, width);
+    else this.text(face, 9.5, value, x, y + 8.5, { width });
+  }
+
+  rule(y: number, weight = 0.5, color = RULE, x0 = this.left, x1 = this.right): void {
+    this.doc.save().moveTo(x0, y).lineTo(x1, y).lineWidth(weight).strokeColor(color).stroke().restore();
+  }
+
+  // A section heading: caps label on a hairline; returns the y below it.
+  heading(title: string, y = this.y, x0 = this.left, x1 = this.right): number {
+    this.text('bold', 7.5, title.toUpperCase(), x0, y, {});
+    this.rule(y + 10.5, 0.75, INK, x0, x1);
+    return y + 14;
+  }
+
+  ensure(height: number): void {
+    if (this.y + height <= this.bottom) return;
+    this.doc.addPage();
+    this.y = MARGIN;
+    this.text('bold', 9, `Unit ${this.data.serial}: calibration traveler (continued)`, this.left, this.y);
+    this.rule(this.y + 14, 1, INK);
+    this.y += 22;
+  }
+}
+
+// Marks that say the state by shape as well as by words: a ring with a tick for good, a filled square
+// with a cross for bad, an open ring for pending. They survive monochrome printers and colour blindness.
+export function markGood(doc: Doc, cx: number, cy: number, r: number, color = INK): void {
+  doc
+    .save()
+    .lineWidth(Math.max(1, r / 5))
+    .strokeColor(color)
+    .circle(cx, cy, r)
+    .stroke();
+  doc
+    .moveTo(cx - r * 0.5, cy + r * 0.02)
+    .lineTo(cx - r * 0.12, cy + r * 0.42)
+    .lineTo(cx + r * 0.55, cy - r * 0.4)
+    .lineWidth(Math.max(1.2, r / 4))
+    .lineCap('round')
+    .lineJoin('round')
+    .stroke()
+    .restore();
+}
+
+export function markBad(doc: Doc, cx: number, cy: number, r: number, ink = INK, paper = '#ffffff'): void {
+  doc
+    .save()
+    .rect(cx - r, cy - r, 2 * r, 2 * r)
+    .fill(ink);
+  const k = r * 0.5;
+  doc
+    .moveTo(cx - k, cy - k)
+    .lineTo(cx + k, cy + k)
+    .moveTo(cx + k, cy - k)
+    .lineTo(cx - k, cy + k)
+    .lineWidth(Math.max(1.2, r / 3.2))
+    .lineCap('round')
+    .strokeColor(paper)
+    .stroke()
+    .restore();
+}
+
+export function markPending(doc: Doc, cx: number, cy: number, r: number): void {
+  doc
+    .save()
+    .lineWidth(Math.max(1, r / 5))
+    .strokeColor(INK)
+    .dash(r / 2.5, { space: r / 3.5 })
+    .circle(cx, cy, r)
+    .stroke();
+  doc.undash().restore();
+}
+
+export function markWarning(doc: Doc, x: number, y: number, size: number): void {
+  const h = size * 0.88;
+  doc
+    .save()
+    .moveTo(x + size / 2, y)
+    .lineTo(x + size, y + h)
+    .lineTo(x, y + h)
+    .closePath()
+    .lineWidth(1.6)
+    .lineJoin('round')
+    .strokeColor(INK)
+    .stroke();
+  doc
+    .rect(x + size / 2 - size * 0.045, y + h * 0.32, size * 0.09, h * 0.36)
+    .rect(x + size / 2 - size * 0.045, y + h * 0.76, size * 0.09, size * 0.09)
+    .fill(INK)
+    .restore();
+}
