@@ -102,7 +102,19 @@ export function StationScreen({
   }, [attend, station.id]);
 
   // After a modal dialog closes, Chrome reports the scan field as focused but inserts no typed text
-  // until the field is focused afresh; so give it the focus again once the dialog is gone.
+  // until the field is focused afresh. A dialog closes in its own effect, which runs before this one in
+  // the same commit, so the scan field is armed again before a scanner's next key can arrive.
+  const dialogWasOpen = useRef(false);
+  useEffect(() => {
+    const open = registering !== null || confirmingPrint;
+    const input = scanRef.current;
+    if (dialogWasOpen.current && !open && input && !dialogOpen()) {
+      input.blur();
+      input.focus({ preventScroll: true });
+    }
+    dialogWasOpen.current = open;
+  }, [registering, confirmingPrint]);
+  // And once more when the dialog's close event has run (Escape, the Close button).
   const refocusScan = () =>
     window.setTimeout(() => {
       const input = scanRef.current;
