@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { seriousAxeFindings } from './a11y-kit';
 import { DEMO, freshPage, launchChromium, signInWithPassword } from './browser-kit';
-import { ensureTestBench } from './line-kit';
+import { apiSession, buildMeasurement, ensureTestBench, freshSerial, postMeasurement } from './line-kit';
 
 let browser: Browser;
 beforeAll(async () => {
@@ -158,6 +158,12 @@ describe('the shell at 1366 px', { timeout: 60_000 }, () => {
 
   it('draws the focus outline inside the controls of a scrolling list, where it cannot be clipped', async () => {
     const bench = await ensureTestBench();
+    // The station's recent-units list needs a unit measured there: this test makes its own.
+    const operator = await apiSession(DEMO.operator.username, DEMO.operator.password);
+    const serial = freshSerial();
+    await operator.call('POST', '/api/units', { serial, modelId: bench.model.id });
+    const posted = await postMeasurement(bench.key, buildMeasurement(bench.model, serial, 31).measurement);
+    expect(posted, JSON.stringify(posted.body)).toMatchObject({ status: 202 });
     const { context, page } = await freshPage(browser, { width: 1366, height: 768 });
     await signInWithPassword(page, DEMO.operator.username, DEMO.operator.password);
     await page.goto(`/station/${bench.station.id}`);
