@@ -7,10 +7,8 @@ import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation, stationNamesByIds } from '../stations/stations.service';
 import { findUnitBySerial, serialsByIds } from '../units/units.service';
 import { qualificationErrors } from './qualification.errors';
+import { computeReading } from './reading-engine';
 import { displayNamesByIds, findUserById } from '../users/users.repository';
-import { runEngine } from '../measurements/measurements.service';
-import { measurementErrors } from '../measurements/measurements.errors';
-import { validateCalibrationInput } from '../../../shared/calibration';
 import { createRng } from '../../../shared/simulation/rng';
 import {
   gaugeAnova,
@@ -277,24 +275,7 @@ export async function acceptStudyReading(
     if (free === undefined) throw studyErrors.allTrialsDone(unit.serial);
     trial = free;
   }
-  const found = await findModelWithActiveRecipe(db, study.modelId);
-  if (!found?.recipe) throw measurementErrors.noActiveRecipe(found?.model.code ?? '?');
-  const usable = validateCalibrationInput(measurement, found.recipe.body);
-  if (!usable.ok) throw measurementErrors.unusable(usable.issues);
-  const { result, stored } = runEngine(
-    {
-      source: 'timings',
-      payload: measurement,
-      payloadRaw: null,
-      measurementId: measurement.measurementId,
-      serial: unit.serial,
-    },
-    found.recipe,
-  );
-  if (!result || result.offsetDeg === null)
-    throw measurementErrors.unusable([
-      { path: 'segments', message: 'the engine could not compute an offset' },
-    ]);
+  const { offsetDeg, stored } = await computeReading(db, study.modelId, measurement, unit.serial);
   const stationRow = await findStation(db, station.stationId);
   const now = clock();
   return db.transaction(async (tx) => {
@@ -310,7 +291,7 @@ export async function acceptStudyReading(
         trial,
         serial: unit.serial,
         payload: measurement,
-        offsetDeg: result.offsetDeg!,
+        offsetDeg,
         result: stored as object,
         repeatReason: doneTrials.has(trial) ? (body.repeatReason ?? null) : null,
         measuredAt: now,

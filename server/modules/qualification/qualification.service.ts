@@ -10,9 +10,7 @@ import { findStation, stationNamesByIds } from '../stations/stations.service';
 import { findUnitBySerial } from '../units/units.service';
 import { listUsers } from '../users/users.repository';
 import { countStationMeasurementsSince } from '../measurements/measurements.repository';
-import { runEngine } from '../measurements/measurements.service';
-import { measurementErrors } from '../measurements/measurements.errors';
-import { ENGINE_VERSION, validateCalibrationInput } from '../../../shared/calibration';
+import { ENGINE_VERSION } from '../../../shared/calibration';
 import {
   decideQualification,
   type QualificationDecision,
@@ -28,6 +26,7 @@ import type {
   ReferenceUnitView,
 } from '../../../shared/schemas/qualification';
 import { qualificationErrors } from './qualification.errors';
+import { computeReading } from './reading-engine';
 import {
   plantShifts,
   qualificationOverrides,
@@ -422,26 +421,9 @@ export async function acceptQualificationReading(
   if (!stationRow?.allowedModelIds.includes(ref.modelId)) {
     throw qualificationErrors.referenceNotForStation(unit.serial, station.stationName);
   }
-  const found = await findModelWithActiveRecipe(deps.db, ref.modelId);
-  if (!found?.recipe) throw measurementErrors.noActiveRecipe(found?.model.code ?? '?');
-  const usable = validateCalibrationInput(measurement, found.recipe.body);
-  if (!usable.ok) throw measurementErrors.unusable(usable.issues);
-  const { result, stored } = runEngine(
-    {
-      source: 'timings',
-      payload: measurement,
-      payloadRaw: null,
-      measurementId: measurement.measurementId,
-      serial: unit.serial,
-    },
-    found.recipe,
-  );
-  if (!result || result.offsetDeg === null)
-    throw measurementErrors.unusable([
-      { path: 'segments', message: 'the engine could not compute an offset' },
-    ]);
+  const { recipe, result, offsetDeg, stored } = await computeReading(deps.db, ref.modelId, measurement, unit.serial);
   const certified = ref.certifiedOffsetDeg;
-  const deviationDeg = certified === null ? null : result.offsetDeg - certified;
+  const deviationDeg = certified === null ? null : offsetDeg - certified;
   const verdict =
     deviationDeg === null
       ? 'recorded'
@@ -455,11 +437,11 @@ export async function acceptQualificationReading(
       stationId: station.stationId,
       referenceUnitId: ref.id,
       serial: unit.serial,
-      recipeId: found.recipe.id,
+      recipeId: recipe.id,
       engineVersion: ENGINE_VERSION,
       payload: measurement,
       verdict,
-      offsetDeg: result.offsetDeg,
+      offsetDeg,
       certifiedOffsetDeg: certified,
       toleranceDeg: ref.toleranceDeg,
       deviationDeg,
