@@ -29,3 +29,13 @@ export function formatOffsetDeg(deg: number | null | undefined): string {
   const sign = Number(text) === 0 ? '±' : deg > 0 ? '+' : MINUS;
   return `${sign}${text} °e`;
 }
+
+/**
+ * A signed difference in degrees (a reading against its certified value, a bias): explicit sign, the
+ * decimals asked for, and the same rule for zero, so a tiny negative never reads "−0.000°".
+ */
+export function formatSignedDeg(deg: number, decimals = 2): string {
+  const text = Math.abs(deg).toFixed(decimals);
+  const sign = Number(text) === 0 ? '±' : deg > 0 ? '+' : MINUS;
+  return `${sign}${text}°`;
+}

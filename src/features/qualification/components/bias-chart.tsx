@@ -1,3 +1,4 @@
+import { formatSignedDeg } from '../../../../shared/wording';
 import type { QualificationRunView } from '../../../../shared/schemas/qualification';
 
 const W = 760;
@@ -77,11 +78,11 @@ export function BiasChart({ readings, timeZone }: { readings: QualificationRunVi
               height="10"
               fill="#ff7b72"
             >
-              <title>{`${fmt(r.measuredAt)}: ${r.serial} ${r.deviationDeg! >= 0 ? '+' : '−'}${Math.abs(r.deviationDeg!).toFixed(3)}° (failed)`}</title>
+              <title>{`${fmt(r.measuredAt)}: ${r.serial} ${formatSignedDeg(r.deviationDeg!, 3)} (failed)`}</title>
             </rect>
           ) : (
             <circle key={r.id} cx={x(r.measuredAt)} cy={y(r.deviationDeg!)} r="4.5" fill="#7ee787">
-              <title>{`${fmt(r.measuredAt)}: ${r.serial} ${r.deviationDeg! >= 0 ? '+' : '−'}${Math.abs(r.deviationDeg!).toFixed(3)}° (passed)`}</title>
+              <title>{`${fmt(r.measuredAt)}: ${r.serial} ${formatSignedDeg(r.deviationDeg!, 3)} (passed)`}</title>
             </circle>
           ),
         )}

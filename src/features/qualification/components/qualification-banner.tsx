@@ -1,3 +1,4 @@
+import { formatSignedDeg } from '../../../../shared/wording';
 import type { QualificationState } from '../../../../shared/schemas/qualification';
 import { useStationQualification } from '../api/qualification';
 
@@ -110,7 +111,7 @@ export function QualificationBanner({ stationId }: { stationId: string }) {
             Last reference reading: {last.serial} at {clock(last.measuredAt, s.timeZone)},{' '}
             {last.offsetDeg.toFixed(2)}°
             {dev !== null
-              ? `, ${dev >= 0 ? '+' : '−'}${Math.abs(dev).toFixed(2)}° from certified (± ${last.toleranceDeg.toFixed(2)}° allowed)`
+              ? `, ${formatSignedDeg(dev)} from certified (± ${last.toleranceDeg.toFixed(2)}° allowed)`
               : ''}{' '}
             —{' '}
             {last.verdict === 'pass'

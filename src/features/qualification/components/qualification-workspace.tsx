@@ -1,3 +1,4 @@
+import { formatSignedDeg } from '../../../../shared/wording';
 import { useState, type FormEvent } from 'react';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
@@ -284,7 +285,7 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
                     <Td>
                       {r.deviationDeg === null
                         ? '—'
-                        : `${r.deviationDeg >= 0 ? '+' : '−'}${Math.abs(r.deviationDeg).toFixed(3)}° (± ${r.toleranceDeg.toFixed(2)}°)`}
+                        : `${formatSignedDeg(r.deviationDeg, 3)} (± ${r.toleranceDeg.toFixed(2)}°)`}
                     </Td>
                     <Td className="font-semibold">
                       {r.verdict === 'pass'
