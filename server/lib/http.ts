@@ -146,3 +146,20 @@ export function parseRequest(r: ContractRouteDef, req: Request) {
     body: s.body ? s.body.parse(req.body ?? {}) : undefined,
   };
 }
+
+/**
+ * Sends a PDF the product made, to open in the browser's viewer (inline) under a file name, never
+ * cached (it may name a unit's state at the time it was asked for). `headers` adds more, such as a hash.
+ */
+export function sendPdf(
+  res: Response,
+  pdf: Buffer,
+  fileName: string,
+  headers: Record<string, string> = {},
+): void {
+  res.setHeader('content-type', 'application/pdf');
+  res.setHeader('content-disposition', `inline; filename="${fileName}"`);
+  res.setHeader('cache-control', 'no-store');
+  for (const [name, value] of Object.entries(headers)) res.setHeader(name, value);
+  res.end(pdf);
+}

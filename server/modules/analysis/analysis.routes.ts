@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
+import { defineRoute, sendPdf } from '../../lib/http';
 import type { Access } from '../../../shared/schemas/roles';
 import {
   analysisFilterSchema,
@@ -90,9 +90,7 @@ export function analysisRoutes(deps: AppDeps) {
           caller.user,
           query,
         );
-        res.setHeader('Content-Type', 'application/pdf');
-        res.setHeader('Content-Disposition', 'inline; filename="capability-report.pdf"');
-        res.end(pdf);
+        sendPdf(res, pdf, 'capability-report.pdf');
       },
     }),
     defineRoute({

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
+import { route, sendPdf } from '../../lib/http';
 import { gaugeStudyCreateSchema, studyMeasurementSchema } from '../../../shared/schemas/qualification';
 import { renderStudyReport } from './qualification.pdf';
 import {
@@ -56,10 +56,7 @@ export function gaugeStudyRoutes(deps: AppDeps) {
       handler: async (req, res) => {
         const study = await studyDetail(deps.db, idParams.parse(req.params).id);
         const pdf = await renderStudyReport(study, deps.env.PLANT_TIME_ZONE, deps.clock());
-        res
-          .type('application/pdf')
-          .set('Content-Disposition', `inline; filename="gauge-study-${study.id}.pdf"`)
-          .send(pdf);
+        sendPdf(res, pdf, `gauge-study-${study.id}.pdf`);
       },
     }),
     route({

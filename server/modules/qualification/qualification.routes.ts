@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
+import { route, sendPdf } from '../../lib/http';
 import {
   biasQuerySchema,
   certifyReferenceUnitSchema,
@@ -101,10 +101,7 @@ export function qualificationRoutes(deps: AppDeps) {
       handler: async (req, res) => {
         const run = await findRun(deps.db, idParams.parse(req.params).id);
         const pdf = await renderQualificationSlip(run, deps.env.PLANT_TIME_ZONE, deps.clock());
-        res
-          .type('application/pdf')
-          .set('Content-Disposition', `inline; filename="qualification-${run.id}.pdf"`)
-          .send(pdf);
+        sendPdf(res, pdf, `qualification-${run.id}.pdf`);
       },
     }),
     route({

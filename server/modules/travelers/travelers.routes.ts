@@ -4,7 +4,7 @@ import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
-import { defineRoute } from '../../lib/http';
+import { defineRoute, sendPdf } from '../../lib/http';
 import { stationMeasuredUnit } from '../measurements/calibrations.repository';
 import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
@@ -14,12 +14,8 @@ const serialParams = z.object({ serial: serialSchema });
 const docParams = z.object({ serial: serialSchema, id: z.string().uuid('Not a traveler id') });
 const printBody = z.object({ pageSize: z.enum(['A4', 'LETTER']).default('A4') });
 
-function sendPdf(res: Response, doc: TravelerRecord, serial: string) {
-  res.setHeader('content-type', 'application/pdf');
-  res.setHeader('content-disposition', `inline; filename="traveler-${serial}-print${doc.printNumber}.pdf"`);
-  res.setHeader('x-content-sha256', doc.sha256);
-  res.setHeader('cache-control', 'no-store');
-  res.end(doc.pdf);
+function sendTraveler(res: Response, doc: TravelerRecord, serial: string) {
+  sendPdf(res, doc.pdf, `traveler-${serial}-print${doc.printNumber}.pdf`, { 'x-content-sha256': doc.sha256 });
 }
 
 export function travelersRoutes(deps: AppDeps) {
@@ -42,7 +38,7 @@ export function travelersRoutes(deps: AppDeps) {
         await checkStationScope(caller.station?.stationId, unit.id);
         const doc = await currentTraveler(deps.db, unit.id, deps.clock());
         if (!doc) throw travelerErrors.none(unit.serial);
-        sendPdf(res, doc, unit.serial);
+        sendTraveler(res, doc, unit.serial);
       },
     }),
     defineRoute({
@@ -61,7 +57,7 @@ export function travelersRoutes(deps: AppDeps) {
           .from(travelers)
           .where(and(eq(travelers.id, id), eq(travelers.unitId, unit.id)));
         if (!doc) throw travelerErrors.notFound();
-        sendPdf(res, doc, unit.serial);
+        sendTraveler(res, doc, unit.serial);
       },
     }),
     defineRoute({
