@@ -251,6 +251,14 @@ export async function createDraft(
   return versionViewById(ctx.db, created.id);
 }
 
+/** The recipe version, refused unless it is still a draft (saved, discarded and submitted only then). */
+async function findDraft(ctx: RecipeDeskContext, id: string) {
+  const row = await repo.findRecipeRow(ctx.db, id);
+  if (!row) throw recipeErrors.notFound();
+  if (row.status !== 'draft') throw recipeErrors.notADraft(row.version, statusWords(row.status));
+  return row;
+}
+
 /** The 409 for a save or submit that lost a race, naming who changed the version and when. */
 async function lostRace(db: Db, id: string, expectedStatus: RecipeRecord['status']): Promise<never> {
   const now = await repo.findRecipeRow(db, id);
@@ -281,9 +289,7 @@ export async function saveDraft(
   id: string,
   input: { body: Recipe; notes?: string | null; revision: number },
 ) {
-  const before = await repo.findRecipeRow(ctx.db, id);
-  if (!before) throw recipeErrors.notFound();
-  if (before.status !== 'draft') throw recipeErrors.notADraft(before.version, statusWords(before.status));
+  const before = await findDraft(ctx, id);
   const model = await repo.findModelRow(ctx.db, before.modelId);
   if (input.body.polePairs !== model!.polePairs) throw recipeErrors.polePairsMismatch(model!.polePairs);
   const body = recipeSchema.parse(input.body);
@@ -323,9 +329,7 @@ export async function discardDraft(
   id: string,
   input: { reason: string; revision: number },
 ) {
-  const before = await repo.findRecipeRow(ctx.db, id);
-  if (!before) throw recipeErrors.notFound();
-  if (before.status !== 'draft') throw recipeErrors.notADraft(before.version, statusWords(before.status));
+  const before = await findDraft(ctx, id);
   await ctx.db.transaction(async (tx) => {
     const now = ctx.clock();
     const after = await repo.updateRecipeRowIf(
@@ -361,9 +365,7 @@ export async function submitDraft(
   id: string,
   input: { reason: string; revision: number },
 ) {
-  const before = await repo.findRecipeRow(ctx.db, id);
-  if (!before) throw recipeErrors.notFound();
-  if (before.status !== 'draft') throw recipeErrors.notADraft(before.version, statusWords(before.status));
+  const before = await findDraft(ctx, id);
   const model = (await repo.findModelRow(ctx.db, before.modelId))!;
   const inForce = model.activeRecipeId ? await repo.findRecipeRow(ctx.db, model.activeRecipeId) : undefined;
   const changes = inForce ? diffRecipes(inForce.body, before.body) : [];
