@@ -22,6 +22,13 @@ import {
   type SearchQuery,
 } from '../api/quality';
 import { BulkHoldDialog } from './bulk-hold-dialog';
+import { CHECK_GUIDE } from '../../../../shared/calibration/check-guide';
+
+/** The checks by the names people read on the traveler and the station screen (their codes stay in the URL). */
+const FAILED_CHECK_OPTIONS = [
+  { value: '', label: 'Any check' },
+  ...Object.entries(CHECK_GUIDE).map(([code, guide]) => ({ value: code, label: guide.name })),
+];
 
 // Sorting happens on the server (manual mode): the table only reports which column and direction.
 const features = tableFeatures({ rowSortingFeature });
@@ -272,11 +279,11 @@ export function ContainmentSearch({ initial }: { initial?: SearchForm }) {
           value={form.offsetMaxDeg}
           onChange={set('offsetMaxDeg')}
         />
-        <TextField
-          label="Failed check (code)"
+        <SelectField
+          label="Failed check"
           value={form.failedCheck}
           onChange={set('failedCheck')}
-          placeholder="offset.within_limits"
+          options={FAILED_CHECK_OPTIONS}
         />
         <SelectField
           label="Programming read-back"
