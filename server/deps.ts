@@ -5,6 +5,7 @@ import type { Logger } from './lib/logger';
 import type { Mailer } from './modules/mail/mail.service';
 import type { JobQueue } from '../jobs/queue-client';
 import type { EventHub } from './modules/events/event-hub';
+import type { ObjectStore } from './modules/storage/object-store';
 
 /**
  * Everything the HTTP app needs, passed in explicitly (tests build their own).
@@ -20,4 +21,6 @@ export interface AppDeps {
   queue: JobQueue;
   /** Line events from PostgreSQL LISTEN/NOTIFY (long-polls, Server-Sent Events). */
   events: EventHub;
+  /** S3-compatible object storage (investigation attachments). */
+  storage: ObjectStore;
 }

@@ -28,6 +28,23 @@ const envSchema = z.object({
   /** HTTP endpoint of the local fake mail server's mailbox (admin outbox); empty when a real relay is used. */
   MAILBOX_URL: z.string().default('http://127.0.0.1:2580'),
   MAIL_FROM: z.string().default('Phasewright <no-reply@phasewright.local>'),
+  /**
+   * S3-compatible object storage for investigation attachments; the defaults point at the local fake
+   * store that `npm start` runs. A real service works by setting these five (and path style if needed).
+   */
+  STORAGE_ENDPOINT: z
+    .string()
+    .url('STORAGE_ENDPOINT must be an http(s):// URL')
+    .default('http://127.0.0.1:2590'),
+  STORAGE_BUCKET: z.string().min(3).max(63).default('phasewright-attachments'),
+  STORAGE_REGION: z.string().min(1).default('us-east-1'),
+  STORAGE_ACCESS_KEY_ID: z.string().min(1).default('phasewright-local'),
+  STORAGE_SECRET_ACCESS_KEY: z.string().min(1).default('phasewright-local-secret'),
+  /** `true` (default): https://endpoint/bucket/key; `false`: https://bucket.endpoint/key. */
+  STORAGE_FORCE_PATH_STYLE: z
+    .enum(['true', 'false'])
+    .default('true')
+    .transform((v) => v === 'true'),
   /** Public base URL used in e-mailed links. */
   PUBLIC_URL: z.string().url().optional(),
   LOG_LEVEL: z.enum(['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent']).default('info'),
@@ -175,7 +192,11 @@ const demoSchema = z.object({
 /** The demo seed's and station simulator's settings. */
 export function demoSettings(source: NodeJS.ProcessEnv = process.env) {
   const d = parseOrExplain(demoSchema, source);
-  return { ...d, seedDemo: d.SEED_DEMO === 'true', DEMO_BASE_URL: d.DEMO_BASE_URL ?? `http://localhost:${d.PORT}` };
+  return {
+    ...d,
+    seedDemo: d.SEED_DEMO === 'true',
+    DEMO_BASE_URL: d.DEMO_BASE_URL ?? `http://localhost:${d.PORT}`,
+  };
 }
 
 const toolSchema = z.object({
@@ -187,8 +208,11 @@ const toolSchema = z.object({
   FAKE_SMTP_PORT: z.coerce.number().int().min(0).max(65535).default(2525),
   FAKE_MAIL_HTTP_PORT: z.coerce.number().int().min(0).max(65535).default(2580),
   FAKE_MAIL_STORE: z.string().optional(),
+  FAKE_STORAGE_PORT: z.coerce.number().int().min(0).max(65535).default(2590),
+  /** Where the fake object store keeps its files (`.data/objects` under `npm start`). */
+  FAKE_STORAGE_DIR: z.string().default('.data/objects'),
 });
-/** Settings of the command-line tools (migrate, backup, restore, fake mail). */
+/** Settings of the command-line tools (migrate, backup, restore, fake mail, fake object store). */
 export function toolSettings(source: NodeJS.ProcessEnv = process.env) {
   const t = parseOrExplain(toolSchema, source);
   return { ...t, DATABASE_OWNER_URL: t.DATABASE_OWNER_URL || undefined, PG_INSTANCE: t.PG_INSTANCE || 'dev' };

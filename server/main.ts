@@ -9,6 +9,7 @@ import { createSmtpMailer } from './modules/mail/mail.service';
 import { startJobQueue } from '../jobs/queue-client';
 import type { AppDeps } from './deps';
 import { createEventHub } from './modules/events/event-hub';
+import { createObjectStore, storageSettingsOf } from './modules/storage/object-store';
 
 /**
  * The API + client server. Wires real dependencies, applies migrations, optionally seeds the demo,
@@ -33,6 +34,13 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
   const mailer = createSmtpMailer(env.SMTP_URL, env.MAIL_FROM);
   const events = createEventHub(env.DATABASE_URL, logger);
   await events.ready;
+  const storage = createObjectStore(storageSettingsOf(env));
+  // The bucket is created when missing; a store that is not up yet is tried again on the first upload.
+  await storage
+    .ensureBucket()
+    .catch((err: unknown) =>
+      logger.warn({ err, endpoint: env.STORAGE_ENDPOINT }, 'object storage not reachable yet'),
+    );
   const deps: AppDeps = {
     events,
     env,
@@ -42,6 +50,7 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
     clock: () => new Date(),
     mailer,
     queue,
+    storage,
   };
   const app = createApp(deps);
   const server = app.listen(env.PORT, env.HOST);
@@ -59,6 +68,7 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
       await queue.stop();
       await events.close();
       mailer.close();
+      storage.close();
       await database.close();
     },
   };

@@ -43,6 +43,9 @@ export const APP_TABLE_ACCESS = {
   investigations: { update: 'row' },
   investigation_units: { update: [] },
   investigation_comments: { appendOnly: true },
+  // An attachment is a record of what was received: never edited or deleted; removing one only fills
+  // the removal columns (who, when, why), so the case's history keeps what it once held.
+  investigation_attachments: { update: ['removed_at', 'removed_by', 'removed_by_name', 'removed_reason'] },
   unit_holds: {
     update: ['released_at', 'released_by', 'released_by_name', 'disposition', 'release_reason', 'attempt_budget'],
   },

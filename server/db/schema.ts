@@ -9,4 +9,5 @@ export * from '../modules/measurements/measurements.table';
 export * from '../modules/travelers/travelers.table';
 export * from '../modules/alerts/alerts.table';
 export * from '../modules/quality/quality.table';
+export * from '../modules/quality/attachments.table';
 export * from '../modules/qualification/qualification.table';

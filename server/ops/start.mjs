@@ -1,5 +1,5 @@
-// `npm start`: installs what is missing, starts the private PostgreSQL, the local fake mail server,
-// the API + client server and the job workers, seeds the demo on first run, and on Ctrl-C (SIGINT or
+// `npm start`: installs what is missing, starts the private PostgreSQL, the local fake mail server, the
+// local fake object store, the API + client server and the job workers, seeds the demo on first run, and on Ctrl-C (SIGINT or
 // SIGTERM) stops everything it started. Until then it supervises: a process that dies is started
 // again after a growing pause while the others keep running, and a PostgreSQL server that dies is
 // started again (crash recovery) while every process reconnects. `--dev` serves the client from
@@ -27,12 +27,17 @@ function scaleOf(name) {
   }
   return n;
 }
-const scale = { api: scaleOf('SCALE_API'), workers: scaleOf('SCALE_WORKERS'), renderers: scaleOf('SCALE_RENDERERS') };
+const scale = {
+  api: scaleOf('SCALE_API'),
+  workers: scaleOf('SCALE_WORKERS'),
+  renderers: scaleOf('SCALE_RENDERERS'),
+};
 const buildClient = !process.argv.includes('--no-build');
 const instance = process.env.PG_INSTANCE || 'dev';
 const port = Number(process.env.PORT ?? 3000);
 const smtpPort = Number(process.env.FAKE_SMTP_PORT ?? 2525);
 const mailHttpPort = Number(process.env.FAKE_MAIL_HTTP_PORT ?? 2580);
+const storagePort = Number(process.env.FAKE_STORAGE_PORT ?? 2590);
 const dataDir = join(repoRoot, '.data');
 const demoKeyFile = process.env.DEMO_KEY_FILE ?? join(dataDir, 'demo-station-key.json');
 
@@ -196,6 +201,23 @@ try {
     env.MAILBOX_URL = process.env.MAILBOX_URL ?? '';
   }
 
+  // Object storage for attachments: the local fake S3-compatible store unless STORAGE_ENDPOINT names one.
+  if (!process.env.STORAGE_ENDPOINT) {
+    if (await portInUse(storagePort)) {
+      throw new Error(`The fake object store's port ${storagePort} is in use. Set FAKE_STORAGE_PORT.`);
+    }
+    const objects = supervise('objects', TSX, ['server/cli/fake-storage.ts'], {
+      env: {
+        ...env,
+        FAKE_STORAGE_PORT: String(storagePort),
+        FAKE_STORAGE_DIR: process.env.FAKE_STORAGE_DIR ?? join(dataDir, 'objects'),
+      },
+      ready: (service) => waitForHttp(`http://127.0.0.1:${storagePort}/_health`, service, 30_000),
+    });
+    await objects.firstStart;
+    env.STORAGE_ENDPOINT = `http://127.0.0.1:${storagePort}`;
+  }
+
   const server = supervise('server', TSX, dev ? ['watch', 'server/main.ts'] : ['server/main.ts'], {
     env,
     ready: (service) => waitForHttp(`http://127.0.0.1:${port}/api/health`, service),
@@ -204,7 +226,8 @@ try {
   // Further API processes on the next ports (PORT+1, …): a reverse proxy in front spreads clients over them.
   for (let i = 2; i <= scale.api; i++) {
     const extraPort = port + i - 1;
-    if (await portInUse(extraPort)) throw new Error(`Port ${extraPort} (API process ${i}) is already in use.`);
+    if (await portInUse(extraPort))
+      throw new Error(`Port ${extraPort} (API process ${i}) is already in use.`);
     const extra = supervise(`server-${i}`, TSX, ['server/main.ts'], {
       env: { ...env, PORT: String(extraPort), SEED_DEMO: 'false' },
       ready: (service) => waitForHttp(`http://127.0.0.1:${extraPort}/api/health`, service),
@@ -253,7 +276,7 @@ try {
     '  Demo sign-ins (invented people of the demo plant):',
     '    administrator  ada.admin      / demo-admin-pass',
     '    engineer       evan.engineer  / demo-engineer-pass',
-    '    engineer       rosa.engineer  / demo-engineer2-pass  (reviews Evan\'s recipe changes)',
+    "    engineer       rosa.engineer  / demo-engineer2-pass  (reviews Evan's recipe changes)",
     '    quality        quinn.quality  / demo-quality-pass',
     '    operator       olga.operator  / demo-operator-pass   (badge OP-1001, PIN 2468)',
     '',
@@ -263,6 +286,7 @@ try {
         ]
       : []),
     `  Database: ${pg.external ? 'DATABASE_URL (external)' : `private PostgreSQL on 127.0.0.1:${pg.port}`}`,
+    `  Attachments: ${process.env.STORAGE_ENDPOINT ? `object storage at ${process.env.STORAGE_ENDPOINT}` : `local fake object store (127.0.0.1:${storagePort}, files in .data/objects)`}`,
     `  Mail: ${process.env.SMTP_URL ? 'SMTP_URL relay' : `local fake mail server (SMTP 127.0.0.1:${smtpPort}); see Admin → Outbox`}`,
     ...(demoStation
       ? [

@@ -12,7 +12,7 @@ import { runStationSim, StationHttp, type StationSimReport } from '../modules/de
 
 // `npm start` under fire: the whole stack on a private database instance of its own (chaos), a
 // simulated station posting units the whole time, and each process killed with SIGKILL in turn —
-// the server, the calibration worker, the traveler renderer, the fake mail server and the PostgreSQL
+// the server, the calibration worker, the traveler renderer, the fake mail server, the fake object store and the PostgreSQL
 // postmaster. Afterwards every measurement accepted during the run has exactly one station
 // calibration and one traveler, and the station (whose retries a real station has too) lost no unit.
 // Recovery times are printed, not asserted (they depend on the machine's load).
@@ -32,6 +32,7 @@ let output = '';
 let appUrl = '';
 let baseUrl = '';
 let mailUrl = '';
+let objectsUrl = '';
 let key = '';
 let workDir = '';
 const testStart = new Date();
@@ -69,7 +70,13 @@ beforeAll(async () => {
   await admin.end();
 
   workDir = mkdtempSync(join(tmpdir(), 'pw-supervision-'));
-  const [port, smtpPort, mailPort] = [await freePort(), await freePort(), await freePort()];
+  const [port, smtpPort, mailPort, storagePort] = [
+    await freePort(),
+    await freePort(),
+    await freePort(),
+    await freePort(),
+  ];
+  objectsUrl = `http://127.0.0.1:${storagePort}/_health`;
   baseUrl = `http://127.0.0.1:${port}`;
   mailUrl = `http://127.0.0.1:${mailPort}/messages`;
   const keyFile = join(workDir, 'demo-station-key.json');
@@ -83,6 +90,9 @@ beforeAll(async () => {
       PORT: String(port),
       FAKE_SMTP_PORT: String(smtpPort),
       FAKE_MAIL_HTTP_PORT: String(mailPort),
+      FAKE_STORAGE_PORT: String(storagePort),
+      FAKE_STORAGE_DIR: join(workDir, 'objects'),
+      STORAGE_ENDPOINT: '',
       DEMO_KEY_FILE: keyFile,
       DEMO_LINE_UNITS: '8',
       QUEUE_MAINTENANCE_SECONDS: '2',
@@ -168,7 +178,7 @@ describe('npm start keeps the line running when a process dies', () => {
     const figures: { killed: string; processBackS: number | null; serviceBackS: number }[] = [];
     const probes: StationSimReport[] = [];
     try {
-      for (const target of ['server', 'worker', 'renderer', 'mail', 'postgres']) {
+      for (const target of ['server', 'worker', 'renderer', 'mail', 'objects', 'postgres']) {
         await sleep(1500);
         const before = state();
         const t0 = Date.now();
@@ -192,6 +202,9 @@ describe('npm start keeps the line running when a process dies', () => {
         if (target === 'mail') {
           await restarted();
           await until('mail answers again', 60_000, async () => (await fetch(mailUrl)).ok);
+        } else if (target === 'objects') {
+          await restarted();
+          await until('the object store answers again', 60_000, async () => (await fetch(objectsUrl)).ok);
         } else probes.push(await probeUnit(pool, target));
         const serviceBackS = (Date.now() - t0) / 1000;
         const after = await restarted();
@@ -207,7 +220,7 @@ describe('npm start keeps the line running when a process dies', () => {
       for (const f of figures) {
         process.stdout.write(
           `recovery after kill -9 of ${f.killed.padEnd(8)}: started again after ${f.processBackS?.toFixed(1)} s, ` +
-            `${f.killed === 'mail' ? 'mailbox answering' : 'a new unit calibrated with its traveler'} ${f.serviceBackS.toFixed(1)} s after the kill\n`,
+            `${f.killed === 'mail' ? 'mailbox answering' : f.killed === 'objects' ? 'object store answering' : 'a new unit calibrated with its traveler'} ${f.serviceBackS.toFixed(1)} s after the kill\n`,
         );
       }
       process.stdout.write(

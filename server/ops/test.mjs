@@ -54,7 +54,13 @@ async function browserSuite(pg, chromiumPath) {
   ownerUrl.pathname = `/${dbName}`;
 
   if ((await runStep(bin('vite'), ['build', '--logLevel', 'warn'])) !== 0) return false;
-  const [port, smtpPort, mailHttpPort] = [await freePort(), await freePort(), await freePort()];
+  const [port, smtpPort, mailHttpPort, storagePort] = [
+    await freePort(),
+    await freePort(),
+    await freePort(),
+    await freePort(),
+  ];
+  const objectsDir = join(resultsDir, 'objects');
   const env = {
     ...process.env,
     NODE_ENV: 'test',
@@ -70,12 +76,18 @@ async function browserSuite(pg, chromiumPath) {
     MAILBOX_URL: `http://127.0.0.1:${mailHttpPort}`,
     FAKE_SMTP_PORT: String(smtpPort),
     FAKE_MAIL_HTTP_PORT: String(mailHttpPort),
+    STORAGE_ENDPOINT: `http://127.0.0.1:${storagePort}`,
+    FAKE_STORAGE_PORT: String(storagePort),
+    FAKE_STORAGE_DIR: objectsDir,
   };
   const services = [];
   try {
     const mail = startService('mail', TSX, ['server/cli/fake-mail.ts'], { env, quiet: true });
     services.push(mail);
     await waitForHttp(`http://127.0.0.1:${mailHttpPort}/messages`, mail, 30_000);
+    const objects = startService('objects', TSX, ['server/cli/fake-storage.ts'], { env, quiet: true });
+    services.push(objects);
+    await waitForHttp(`http://127.0.0.1:${storagePort}/_health`, objects, 30_000);
     const server = startService('server', TSX, ['server/main.ts'], { env, quiet: true });
     services.push(server);
     await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);

@@ -1,3 +1,6 @@
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
 import { parseEnv } from '../../server/env';
 import { createApp } from '../../server/app';
 import type { AppDeps } from '../../server/deps';
@@ -8,6 +11,8 @@ import { seedDemoAccounts } from '../../server/db/seed';
 import { startJobQueue } from '../../jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
 import { createEventHub } from '../../server/modules/events/event-hub';
+import { startFakeObjectStore, type FakeObjectStore } from '../../server/modules/storage/fake-object-store';
+import { createObjectStore, storageSettingsOf } from '../../server/modules/storage/object-store';
 
 /**
  * The origin test requests claim (the test app's PUBLIC_URL). State-changing requests with a session
@@ -20,6 +25,8 @@ export interface TestApp {
   deps: AppDeps;
   database: TestDatabase;
   mail: FakeMailServer;
+  /** The local fake object store (its own temporary folder) the app's `storage` talks to. */
+  objects: FakeObjectStore;
   /** Moves the app's clock (lockouts, token expiry, sessions). */
   setNow(d: Date): void;
   close(): Promise<void>;
@@ -35,11 +42,15 @@ export async function createTestApp(
   // `database`: run on this one (e.g. a restored copy) instead of a fresh clone of the template.
   const database = opts.database ?? (await createTestDatabase());
   const mail = await startFakeMailServer({});
+  const objects = await startFakeObjectStore({
+    dir: fs.mkdtempSync(path.join(os.tmpdir(), 'pw-objects-')),
+  });
   const env = parseEnv({
     NODE_ENV: 'test',
     DATABASE_URL: database.url,
     SMTP_URL: `smtp://127.0.0.1:${mail.smtpPort}`,
     MAILBOX_URL: `http://127.0.0.1:${mail.httpPort}`,
+    STORAGE_ENDPOINT: `http://127.0.0.1:${objects.port}`,
     PUBLIC_URL: TEST_ORIGIN,
     LOG_LEVEL: 'silent',
     CLIENT_DIST: '/nonexistent',
@@ -60,12 +71,14 @@ export async function createTestApp(
     mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),
     queue,
     events,
+    storage: createObjectStore(storageSettingsOf(env)),
   };
   return {
     app: createApp(deps),
     deps,
     database,
     mail,
+    objects,
     setNow(d) {
       now = d;
     },
@@ -74,6 +87,9 @@ export async function createTestApp(
       await queue.stop();
       await events.close();
       await mail.close();
+      deps.storage.close();
+      await objects.close();
+      fs.rmSync(objects.dir, { recursive: true, force: true });
       await database.drop();
     },
   };

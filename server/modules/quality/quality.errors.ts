@@ -58,4 +58,28 @@ export const qualityErrors = {
       'quality.status_order',
       `An investigation moves open → contained → closed; it cannot go from ${from} back to ${to}.`,
     ),
+  attachmentTooLarge: (limitBytes: number) =>
+    new AppError(
+      413,
+      'quality.attachment_too_large',
+      `The file is larger than ${limitBytes / (1024 * 1024)} MB, the most one attachment may be. Nothing was stored.`,
+    ),
+  attachmentRefused: (fileName: string, found: string, allowed: string) =>
+    new AppError(
+      415,
+      'quality.attachment_type_refused',
+      `"${fileName}" cannot be attached: its contents are ${found}. Attach ${allowed}. Nothing was stored.`,
+    ),
+  attachmentMissingFile: () =>
+    new AppError(400, 'quality.attachment_no_file', 'Choose a file to attach (the form field "file").'),
+  attachmentNotFound: () =>
+    new AppError(404, 'quality.attachment_not_found', 'No such attachment on this investigation.'),
+  attachmentRemoved: () =>
+    new AppError(410, 'quality.attachment_removed', 'This attachment was removed from the investigation.'),
+  attachmentDamaged: () =>
+    new AppError(
+      502,
+      'quality.attachment_damaged',
+      'The stored file is missing or no longer matches the SHA-256 taken when it was attached, so it is not sent. Tell your administrator.',
+    ),
 };
