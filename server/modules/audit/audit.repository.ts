@@ -1,4 +1,4 @@
-import { and, desc, eq, gte, ilike, inArray, like, lte, or, type SQL } from 'drizzle-orm';
+import { and, desc, eq, gte, ilike, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { auditLog } from './audit.table';
 
@@ -57,6 +57,11 @@ export async function listAuditFiltered(
   f: {
     subjectTypes: readonly string[];
     subjectId?: string;
+    /**
+     * A unit's trail: its own entries (`subjectId`, subject type unit) and the entries of these cases
+     * that name its serial (it was linked or held under them).
+     */
+    unit?: { id: string; serial: string; caseIds: string[] };
     person?: string;
     action?: string;
     from?: string;
@@ -67,6 +72,21 @@ export async function listAuditFiltered(
   const conds: (SQL | undefined)[] = [
     inArray(auditLog.subjectType, [...f.subjectTypes]),
     f.subjectId ? eq(auditLog.subjectId, f.subjectId) : undefined,
+    f.unit
+      ? or(
+          and(eq(auditLog.subjectType, 'unit'), eq(auditLog.subjectId, f.unit.id)),
+          f.unit.caseIds.length
+            ? and(
+                eq(auditLog.subjectType, 'investigation'),
+                inArray(auditLog.subjectId, f.unit.caseIds),
+                or(
+                  sql`${auditLog.after} -> 'serials' ? ${f.unit.serial}`,
+                  sql`${auditLog.after} ->> 'serial' = ${f.unit.serial}`,
+                ),
+              )
+            : undefined,
+        )
+      : undefined,
     f.person ? ilike(auditLog.actorName, `%${f.person.replace(/[\\%_]/g, (c) => `\\${c}`)}%`) : undefined,
     f.action
       ? or(

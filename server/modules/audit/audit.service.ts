@@ -5,6 +5,7 @@ import { serialsByIds } from '../units/units.service';
 import { displayNamesByIds } from '../users/users.repository';
 import { listAudit, listAuditFiltered } from './audit.repository';
 import { unitIdsBySerials } from '../units/units.repository';
+import { investigationIdsOfUnit, investigationLabelsByIds } from '../quality/investigation-labels';
 import { QUALITY_AUDIT_SUBJECTS, type AuditTrailQuery } from '../../../shared/schemas/audit-trail';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
@@ -25,17 +26,20 @@ export async function auditEntries(db: DbOrTx, limit: number): Promise<AuditEntr
 
 /**
  * Quality's audit trail: entries about units, investigations, calibrations, measurements and recipes
- * (not accounts or sign-ins), filtered by unit, person, action and time, with names in place of ids.
+ * (not accounts or sign-ins), filtered by unit, person, action and time, with names in place of ids
+ * (a case is named by its reference and title). A unit's trail also holds the entries of the cases
+ * it is linked to that name it (linked to a case, held under it).
  */
 export async function auditTrail(db: DbOrTx, q: AuditTrailQuery): Promise<AuditEntry[]> {
-  let subjectId: string | undefined;
+  let unit: { id: string; serial: string; caseIds: string[] } | undefined;
   if (q.serial) {
-    subjectId = (await unitIdsBySerials(db, [q.serial])).get(q.serial);
-    if (!subjectId) return [];
+    const id = (await unitIdsBySerials(db, [q.serial])).get(q.serial);
+    if (!id) return [];
+    unit = { id, serial: q.serial, caseIds: await investigationIdsOfUnit(db, id) };
   }
   const rows = await listAuditFiltered(db, {
-    subjectTypes: q.serial ? ['unit'] : QUALITY_AUDIT_SUBJECTS,
-    subjectId,
+    subjectTypes: q.serial ? ['unit', 'investigation'] : QUALITY_AUDIT_SUBJECTS,
+    unit,
     person: q.person,
     action: q.action,
     from: q.from,
@@ -55,10 +59,11 @@ async function readable(db: DbOrTx, rows: Awaited<ReturnType<typeof listAudit>>)
     ),
   ];
   const actorIds = [...new Set(rows.filter((r) => !r.actorName && r.actorId).map((r) => r.actorId!))];
-  const [people, unitSerials, stationNames] = await Promise.all([
+  const [people, unitSerials, stationNames, cases] = await Promise.all([
     displayNamesByIds(db, [...new Set([...actorIds, ...ids('user')])]),
     serialsByIds(db, ids('unit')),
     stationNamesByIds(db, ids('station')),
+    investigationLabelsByIds(db, ids('investigation')),
   ]);
   return rows.map((r) => {
     const id = r.subjectId ?? '';
@@ -69,7 +74,9 @@ async function readable(db: DbOrTx, rows: Awaited<ReturnType<typeof listAudit>>)
           ? (unitSerials.get(id) ?? null)
           : r.subjectType === 'station'
             ? (stationNames.get(id) ?? null)
-            : (serialIn(r.after) ?? serialIn(r.before));
+            : r.subjectType === 'investigation'
+              ? (cases.get(id) ?? null)
+              : (serialIn(r.after) ?? serialIn(r.before));
     return {
       id: Number(r.id),
       at: r.at.toISOString(),

@@ -7,6 +7,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { ATTACHMENT_LIMIT_BYTES } from '../../../shared/schemas/attachments';
+import { createLineFixture } from '../../../tests/harness/line-fixtures';
 
 let t: TestApp;
 let quality = '';
@@ -319,5 +320,47 @@ describe('mail to the quality group', () => {
       .toBe(1);
     const done = (await mailbox()).find((m) => m.subject.includes(`${inv.reference} closed`))!;
     expect(done.text).toContain('Root cause: Transport damage to the rotor shaft');
+  });
+});
+
+describe('audit trail for quality', () => {
+  it("names cases by reference and title, and a unit's trail shows the cases it was linked to", async () => {
+    const line = await createLineFixture(t.deps.db, { code: 'AT-40' });
+    await t.database.pool.query('insert into units (serial, model_id) values ($1, $2), ($3, $2)', [
+      'ATT-0001',
+      line.model.id,
+      'ATT-0002',
+    ]);
+    const inv = await openCase('Noise after 200 hours');
+    const linked = await request(t.app)
+      .post(`/api/quality/investigations/${inv.id}/units`)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', quality)
+      .send({ serials: ['ATT-0001'] });
+    expect(linked.status).toBe(200);
+    await upload(quality, inv.id, png(), 'noise spectrum.png');
+
+    const added = await request(t.app)
+      .get('/api/audit?action=investigations.attachment_added&person=abernethy')
+      .set('Cookie', quality);
+    const entry = added.body.entries.find((e: { subjectId: string }) => e.subjectId === inv.id);
+    expect(entry).toMatchObject({
+      actorName: 'Quinn Abernethy',
+      subjectType: 'investigation',
+      subjectLabel: `${inv.reference} · Noise after 200 hours`,
+    });
+
+    const trail = await request(t.app).get('/api/audit?serial=ATT-0001').set('Cookie', quality);
+    expect(
+      trail.body.entries.map((e: { action: string; subjectLabel: string }) => [e.action, e.subjectLabel]),
+    ).toEqual([['investigations.units_linked', `${inv.reference} · Noise after 200 hours`]]);
+    // Another unit of the same line, never linked: its trail is empty, not the case's.
+    expect(
+      (await request(t.app).get('/api/audit?serial=ATT-0002').set('Cookie', quality)).body.entries,
+    ).toEqual([]);
+    const csv = await request(t.app).get('/api/audit.csv?serial=ATT-0001').set('Cookie', quality);
+    expect(csv.text).toContain(
+      `investigations.units_linked,investigation,${inv.reference} · Noise after 200 hours`,
+    );
   });
 });

@@ -8,6 +8,7 @@ import { Panel } from '../../../components/ui/panel';
 import { StatusChip } from '../../../components/ui/status-chip';
 import { formatDateTime } from '../../../lib/format';
 import { useAddComment, useInvestigation, useUpdateInvestigation } from '../api/quality';
+import { InvestigationAttachments } from './investigation-attachments';
 import { INVESTIGATION_STATUS_LABELS } from './quality-format';
 
 const TEXT_FIELDS = [
@@ -114,7 +115,7 @@ function Comments({ inv }: { inv: InvestigationDetail }) {
   );
 }
 
-/** One return or complaint: its fields, status, linked units and comment thread. */
+/** One return or complaint: its fields, status, attachments, linked units and comment thread. */
 export function InvestigationPage({ id }: { id: string }) {
   const inv = useInvestigation(id);
   if (inv.isPending) return <Loading label="Reading the investigation…" />;
@@ -138,7 +139,10 @@ export function InvestigationPage({ id }: { id: string }) {
         </span>
       </div>
       <div className="grid items-start gap-6 lg:grid-cols-[minmax(0,2fr)_minmax(0,1fr)]">
-        <CaseFields key={d.id + d.status} inv={d} />
+        <div className="flex flex-col gap-6">
+          <CaseFields key={d.id + d.status} inv={d} />
+          <InvestigationAttachments inv={d} />
+        </div>
         <div className="flex flex-col gap-6">
           <Panel title={`Linked units (${d.units.length})`} titleId="linked-title">
             {d.units.length === 0 ? (
