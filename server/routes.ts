@@ -13,6 +13,7 @@ import { measurementsRoutes } from './modules/measurements/measurements.routes';
 import { stationsRoutes } from './modules/stations/stations.routes';
 import { unitsRoutes } from './modules/units/units.routes';
 import { qualityRoutes } from './modules/quality/quality.routes';
+import { unitRecordRoutes } from './modules/quality/unit-record.routes';
 import { travelersRoutes } from './modules/travelers/travelers.routes';
 import { usersRoutes } from './modules/users/users.routes';
 import { qualificationRoutes } from './modules/qualification/qualification.routes';
@@ -38,6 +39,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...analysisRoutes(deps),
     ...alertsRoutes(deps),
     ...qualityRoutes(deps),
+    ...unitRecordRoutes(deps),
     ...qualificationRoutes(deps),
   ];
   routes.push(
