@@ -4,7 +4,7 @@ import { calibrationViews } from '../measurements/measurements.service';
 import { calibrationsOf } from '../measurements/calibrations.repository';
 import { measurementsOfUnit, programmingOfCalibrations } from '../measurements/measurements.repository';
 import { qualificationUseOfUnit } from '../qualification/qualification.service';
-import { findRecipeRow } from '../recipes/recipes.repository';
+import { releasedRecipe } from '../recipes/recipes.repository';
 import { stationNamesByIds } from '../stations/stations.service';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import { findUnitBySerial, unitErrors, unitView } from '../units/units.service';
@@ -118,25 +118,31 @@ export async function unitRecord(db: DbOrTx, serial: string): Promise<UnitRecord
   const calibrations = [...newestFirst].reverse();
   const calibrationIds = calibrations.map((c) => c.calibrationId);
   const recipeIds = [...new Set(calibrations.map((c) => c.recipe.id))];
-  const [programming, audit, recipeRows] = await Promise.all([
+  // Operators and who linked the unit are known now; programming stations are the measuring stations.
+  const personIds = new Set<string>();
+  for (const m of measured) if (m.operatorId) personIds.add(m.operatorId);
+  for (const l of linked) if (l.addedBy) personIds.add(l.addedBy);
+  const [programming, audit, recipeRows, people, stationNames] = await Promise.all([
     programmingOfCalibrations(db, calibrationIds),
     auditOfSubjects(db, [
       { type: 'unit', ids: [row.id] },
       { type: 'calibration', ids: calibrationIds },
       { type: 'measurement', ids: measured.map((m) => m.measurementId) },
     ]),
-    Promise.all(recipeIds.map((id) => findRecipeRow(db, id))),
-  ]);
-  const personIds = new Set<string>();
-  for (const m of measured) if (m.operatorId) personIds.add(m.operatorId);
-  for (const a of audit) if (a.actorId && !a.actorName) personIds.add(a.actorId);
-  for (const l of linked) if (l.addedBy) personIds.add(l.addedBy);
-  const [people, stationNames] = await Promise.all([
+    // Released versions are immutable and cached per process.
+    Promise.all(recipeIds.map((id) => releasedRecipe(db, id))),
     displayNamesByIds(db, [...personIds]),
     stationNamesByIds(db, [
-      ...new Set([...measured.map((m) => m.stationId), ...programming.map((p) => p.stationId)]),
+      ...new Set([...measured.map((m) => m.stationId), ...calibrations.map((c) => c.stationId)]),
     ]),
   ]);
+  // Audit entries keep the actor's name; only an entry without one needs a look-up.
+  const unnamed = [
+    ...new Set(
+      audit.filter((a) => a.actorId && !a.actorName && !people.has(a.actorId)).map((a) => a.actorId!),
+    ),
+  ];
+  if (unnamed.length) for (const [id, name] of await displayNamesByIds(db, unnamed)) people.set(id, name);
   const person = (id: string | null) => (id ? (people.get(id) ?? null) : null);
   const stationName = (id: string) => stationNames.get(id) ?? 'unknown station';
   const calById = new Map(calibrations.map((c) => [c.calibrationId, c]));
@@ -333,8 +339,7 @@ export async function unitRecord(db: DbOrTx, serial: string): Promise<UnitRecord
   );
   timeline.sort((a, b) => a.at.localeCompare(b.at) || order.get(a.kind)! - order.get(b.kind)!);
 
-  const recipes: RecordRecipe[] = recipeRows
-    .filter((r) => r !== undefined)
+  const recipes: RecordRecipe[] = [...recipeRows]
     .sort((a, b) => a.version - b.version)
     .map((r) => ({
       id: r.id,
