@@ -19,6 +19,7 @@ import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import { checkName, formatCheckLimit, formatCheckValue } from '../../../shared/calibration/check-guide';
 import type { CalibrationView } from '../../../shared/schemas/line';
+import { modelName } from './unit-record.service';
 import { TIMELINE_KIND_LABELS, type UnitRecord } from '../../../shared/schemas/unit-record';
 import { formatOffsetDeg } from '../../../shared/wording';
 
@@ -95,7 +96,7 @@ function drawIdentity(page: RecordPage, record: UnitRecord) {
   page.fitText('bold', 22, u.serial, left, y + 8, 190, 11);
   const x = left + 200;
   const w = (right - x) / 3;
-  page.field('Model', `${u.model.code} ${u.model.name}`, x, y, w * 2 - 8, 'semiBold', true);
+  page.field('Model', modelName(u.model), x, y, w * 2 - 8, 'semiBold', true);
   page.field('Work order', u.workOrder ?? '—', x + 2 * w, y, w);
   page.field('Hall-board lot', u.lots.hallBoard ?? '—', x, y + 21, w - 8);
   page.field('Magnet-ring lot', u.lots.magnetRing ?? '—', x + w, y + 21, w - 8);

@@ -54,6 +54,13 @@ const AUDIT_WORDS: Record<string, string> = {
 
 const SOURCE_WORDS = { timings: 'posted timings (JSON)', capture: 'sampled capture (CSV)' } as const;
 
+/** A model as the traveler names it: its name, with its code in front unless the name starts with it. */
+export function modelName(model: { code: string; name: string }): string {
+  return model.name.toUpperCase().startsWith(model.code.toUpperCase())
+    ? model.name
+    : `${model.code} ${model.name}`;
+}
+
 /** The limits and attempt budget of a recipe version, as the recipe desk names them. */
 function recipeLimitLines(body: Parameters<typeof recipeValue>[0]): { label: string; value: string }[] {
   const lines = RECIPE_FIELDS.filter((f) => f.path.startsWith('limits.'))
@@ -169,7 +176,7 @@ export async function unitRecord(db: DbOrTx, serial: string): Promise<UnitRecord
     });
 
   const registeredBy = audit.find((a) => a.action === 'units.registered' && a.subjectId === row.id);
-  add('registered', row.createdAt, `Registered as ${unit.model.code} ${unit.model.name}`, {
+  add('registered', row.createdAt, `Registered as ${modelName(unit.model)}`, {
     who: registeredBy ? (registeredBy.actorName ?? person(registeredBy.actorId)) : null,
     details: [
       {
