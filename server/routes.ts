@@ -14,6 +14,7 @@ import { stationsRoutes } from './modules/stations/stations.routes';
 import { unitsRoutes } from './modules/units/units.routes';
 import { qualityRoutes } from './modules/quality/quality.routes';
 import { attachmentsRoutes } from './modules/quality/attachments.routes';
+import { unitRecordRoutes } from './modules/quality/unit-record.routes';
 import { travelersRoutes } from './modules/travelers/travelers.routes';
 import { usersRoutes } from './modules/users/users.routes';
 import { qualificationRoutes } from './modules/qualification/qualification.routes';
@@ -40,6 +41,7 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...alertsRoutes(deps),
     ...qualityRoutes(deps),
     ...attachmentsRoutes(deps),
+    ...unitRecordRoutes(deps),
     ...qualificationRoutes(deps),
   ];
   routes.push(

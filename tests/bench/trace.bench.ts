@@ -3,7 +3,8 @@
 // hall-board lots and 30 days, one station measurement each and a second attempt for every fifth unit
 // (1.2 M calibrations), generated inside PostgreSQL by set-based INSERT … SELECT over generate_series.
 // Then times, through the services the routes call (no HTTP): a containment search by lot + time range +
-// station (p50/p95), the unit record's API (unitDetail, p50/p95), and one bulk hold of 10,000 units.
+// station (p50/p95), the unit record's API (unitDetail, p50/p95), and one bulk hold of 10,000 units; then
+// the unit record (unitRecord) and its PDF and ZIP exports (benchUnitRecord, p50/p95).
 // Prints figures with the load average; asserts nothing.
 import os from 'node:os';
 import pg from 'pg';
@@ -17,6 +18,14 @@ import { unitDetail } from '../../server/modules/units/units.service';
 import { bulkHold, searchUnits, type QualityContext } from '../../server/modules/quality/quality.service';
 import { createLogger } from '../../server/lib/logger';
 import { unitSearchQuerySchema } from '../../shared/schemas/quality';
+import { createHash } from 'node:crypto';
+import type { Db } from '../../server/db/client';
+import { unitRecord } from '../../server/modules/quality/unit-record.service';
+import { exportUnitRecordPdf, exportUnitRecordZip } from '../../server/modules/quality/unit-record.export';
+import type { SessionUser } from '../../server/lib/auth';
+import { calibrate, ENGINE_VERSION } from '../../shared/calibration';
+import type { Recipe } from '../../shared/schemas/recipe';
+import { simulatedMeasurement } from '../harness/measurements';
 
 process.env.PGPORT_BENCH ??= '55437';
 const UNITS = Number(process.env.BENCH_TRACE_UNITS ?? 1_000_000);
@@ -146,6 +155,19 @@ async function main() {
       `bulk hold of ${serials.length.toLocaleString('en')} units (one transaction, audited per unit): ${((performance.now() - h0) / 1000).toFixed(2)} s (held ${held.held})`,
     );
     for (const l of lines) console.log(l);
+    for (const l of await benchUnitRecord(
+      db,
+      pool,
+      { recipeId: model.active_recipe_id, stationId: stationIds[0] },
+      {
+        id: people[0].id,
+        username: 'bench.quality',
+        displayName: 'Bench Quality',
+        email: null,
+        role: 'quality',
+      },
+    ))
+      console.log(l);
     console.log(
       `load average (1/5/15 min): ${os
         .loadavg()
@@ -156,6 +178,75 @@ async function main() {
   } finally {
     if (handle.startedByUs) await handle.stop();
   }
+}
+
+// ---- The unit record and its exports (issue 13, "The unit record") ----------------------------------
+// Units from the bulk-held range (a hold and audit entries) and from anywhere else each get one more,
+// realistic station measurement: a simulated body posted as JSON, the engine's full result with its
+// checks, and a confirmed programming write. Then, through the services the routes call: the record API
+// (unitRecord), the PDF calibration record and the ZIP (PDF + raw files + SHA-256 manifest), each audited.
+async function benchUnitRecord(
+  db: Db,
+  pool: pg.Pool,
+  line: { recipeId: string; stationId: string },
+  actor: SessionUser,
+): Promise<string[]> {
+  const { rows: recipeRows } = await pool.query<{ body: Recipe }>('select body from recipes where id = $1', [
+    line.recipeId,
+  ]);
+  const recipe = recipeRows[0].body;
+  const serials = Array.from({ length: RUNS }, (_, i) =>
+    i % 2 === 0
+      ? `TR${String(1 + ((i * 397) % Math.min(10_000, UNITS))).padStart(7, '0')}`
+      : `TR${String(1 + ((i * 48_271) % UNITS)).padStart(7, '0')}`,
+  );
+  for (const [i, serial] of serials.entries()) {
+    const m = simulatedMeasurement(recipe, serial, { offsetDeg: 2 + (i % 5), seed: i + 1 });
+    const text = JSON.stringify(m);
+    const result = calibrate(m, recipe);
+    await pool.query(
+      `with u as (select id from units where serial = $1),
+            m as (insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw,
+                                            payload_sha256, received_at)
+                  select $2, $3, u.id, $1, 'timings', $4::jsonb, $4, $5, now() from u returning id, unit_id),
+            c as (insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict,
+                                            purpose, offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
+                  select m.id, $6, m.unit_id, $3, $7, $8, 'station', $9, $10, 2, $11::jsonb, 1, now() from m
+                  returning id, unit_id)
+       insert into programming_confirmations (calibration_id, unit_id, station_id, expected_counts, written_counts,
+                                              read_back_counts, matches, confirmed_at)
+       select c.id, c.unit_id, $3, $10, $10, $10, true, now() from c`,
+      [
+        serial,
+        m.measurementId,
+        line.stationId,
+        text,
+        createHash('sha256').update(text).digest('hex'),
+        line.recipeId,
+        ENGINE_VERSION,
+        result.verdict,
+        result.offsetDeg,
+        result.offsetCounts ?? 0,
+        JSON.stringify(result),
+      ],
+    );
+  }
+  const ctx = { db, clock: () => new Date() };
+  // Warm-up: the first PDF parses the fonts and the first record reads the released recipe once.
+  const record = await unitRecord(db, serials[0]);
+  await exportUnitRecordZip(ctx, actor, serials[1]);
+  return [
+    `unit record API (unitRecord: ${record.timeline.length} timeline entries for ${serials[0]}): ${await timed(
+      RUNS,
+      (i) => unitRecord(db, serials[i % serials.length]),
+    )}`,
+    `record export, PDF calibration record (audited): ${await timed(RUNS, (i) =>
+      exportUnitRecordPdf(ctx, actor, serials[i % serials.length]),
+    )}`,
+    `record export, ZIP of PDF + raw files + SHA-256 manifest (audited): ${await timed(RUNS, (i) =>
+      exportUnitRecordZip(ctx, actor, serials[i % serials.length]),
+    )}`,
+  ];
 }
 
 void main().catch((e: unknown) => {

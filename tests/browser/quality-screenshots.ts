@@ -45,6 +45,7 @@ async function main() {
     await page.getByRole('button', { name: 'Verify against the stored SHA-256' }).click();
     await page.getByTestId('sha-check').waitFor();
     await shot(page, 'quality-unit-raw-timings');
+    await page.getByTestId('unit-record').screenshot({ path: path.join(outDir, 'quality-unit-record.png') });
     await page.goto('/quality?view=audit');
     await page.getByTestId('trail-count').waitFor();
     await shot(page, 'quality-audit');

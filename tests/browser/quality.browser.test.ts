@@ -1,10 +1,13 @@
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
+import { strFromU8, unzipSync } from 'fflate';
 import { describe, expect, it } from 'vitest';
 import type { HeldUnitRow } from '../../shared/schemas/quality';
 import { axeFindings, DEMO, freshPage, launchChromium, signInWithPassword } from './browser-kit';
 import { apiSession } from './line-kit';
 
 describe('the quality workspace on the demo line', () => {
-  it("quality searches lot HB-2446-C, holds the result under a new investigation and opens one unit's raw timings", async () => {
+  it("quality searches lot HB-2446-C, holds the result under a new investigation, opens one unit's raw timings and exports its record", async () => {
     const browser = await launchChromium();
     try {
       const { page: p, context, pageErrors } = await freshPage(browser, { width: 1440, height: 900 }, true);
@@ -74,6 +77,32 @@ describe('the quality workspace on the demo line', () => {
       const download = p.waitForEvent('download');
       await p.getByRole('link', { name: /Download as posted/ }).click();
       expect((await download).suggestedFilename()).toContain(serials[0]);
+
+      // The unit's whole record names the new case, passes axe, and exports in one click: the ZIP holds the
+      // PDF calibration record and each measurement as posted, and its SHA-256 sums check out.
+      const timeline = p.getByTestId('unit-timeline');
+      await timeline.waitFor();
+      expect(await timeline.textContent()).toContain(`Linked to ${reference}`);
+      expect(await axeFindings(p)).toEqual([]);
+      const exported = p.waitForEvent('download');
+      await p.getByRole('link', { name: 'Export record (PDF + raw files, ZIP)' }).click();
+      const zip = await exported;
+      expect(zip.suggestedFilename()).toMatch(/-record\.zip$/);
+      const files = unzipSync(new Uint8Array(readFileSync((await zip.path())!)));
+      const names = Object.keys(files);
+      expect(names.some((n) => n.endsWith('-calibration-record.pdf'))).toBe(true);
+      expect(names.some((n) => /\/measurements\/\d{3}-.+\.(json|csv)$/.test(n))).toBe(true);
+      const sumsName = names.find((n) => n.endsWith('/SHA256SUMS.txt'))!;
+      const folder = sumsName.slice(0, -'SHA256SUMS.txt'.length);
+      for (const line of strFromU8(files[sumsName]).trim().split('\n')) {
+        const [hash, name] = line.split('  ');
+        expect(
+          createHash('sha256')
+            .update(files[folder + name])
+            .digest('hex'),
+        ).toBe(hash);
+      }
+      await p.getByText('Record exported (PDF and raw files, ZIP)').first().waitFor();
       expect(pageErrors).toEqual([]);
       await context.close();
     } finally {

@@ -1,4 +1,4 @@
-import { and, desc, eq, gte, ilike, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
+import { and, asc, desc, eq, gte, ilike, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { auditLog } from './audit.table';
 
@@ -103,4 +103,21 @@ export async function listAuditFiltered(
     .where(and(...conds.filter((c): c is SQL => c !== undefined)))
     .orderBy(desc(auditLog.id))
     .limit(f.limit);
+}
+
+/**
+ * Audit entries about any of the given subjects (type and ids), oldest first: what touched one unit is
+ * spread over the unit itself, its calibrations and its measurements.
+ */
+export async function auditOfSubjects(db: DbOrTx, subjects: { type: string; ids: string[] }[], limit = 2000) {
+  const conds = subjects
+    .filter((s) => s.ids.length > 0)
+    .map((s) => and(eq(auditLog.subjectType, s.type), inArray(auditLog.subjectId, s.ids)));
+  if (conds.length === 0) return [];
+  return db
+    .select()
+    .from(auditLog)
+    .where(or(...conds))
+    .orderBy(asc(auditLog.id))
+    .limit(limit);
 }

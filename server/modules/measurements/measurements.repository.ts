@@ -1,9 +1,9 @@
 import type pg from 'pg';
 import type { Measurement } from '../../../shared/schemas/measurement';
 import { prepared } from '../../db/prepared';
-import { eq, sql } from 'drizzle-orm';
+import { eq, inArray, sql } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
-import { measurements } from './measurements.table';
+import { measurements, programmingConfirmations } from './measurements.table';
 
 /** Which stored measurements a replay covers: one model, optionally a time range and stations. */
 export interface ReplaySelection {
@@ -203,4 +203,36 @@ export async function countStationMeasurementsSince(
     ]),
   );
   return rows[0].n;
+}
+
+/**
+ * A unit's measurements, oldest first: who posted them where and when, the stored hash and the size of the
+ * body as posted; with `bodies`, the text as posted too (the record's ZIP).
+ */
+export async function measurementsOfUnit(db: DbOrTx, unitId: string, bodies = false) {
+  return db
+    .select({
+      id: measurements.id,
+      measurementId: measurements.measurementId,
+      stationId: measurements.stationId,
+      operatorId: measurements.operatorId,
+      source: measurements.source,
+      receivedAt: measurements.receivedAt,
+      payloadSha256: measurements.payloadSha256,
+      chars: sql<number>`length(${measurements.payloadRaw})`.mapWith(Number),
+      payloadRaw: bodies ? measurements.payloadRaw : sql<string | null>`null`,
+    })
+    .from(measurements)
+    .where(eq(measurements.unitId, unitId))
+    .orderBy(measurements.receivedAt);
+}
+
+/** Every programming confirmation (write and read-back) of the given calibrations, oldest first. */
+export async function programmingOfCalibrations(db: DbOrTx, calibrationIds: string[]) {
+  if (calibrationIds.length === 0) return [];
+  return db
+    .select()
+    .from(programmingConfirmations)
+    .where(inArray(programmingConfirmations.calibrationId, calibrationIds))
+    .orderBy(programmingConfirmations.confirmedAt);
 }

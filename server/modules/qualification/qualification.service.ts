@@ -28,6 +28,7 @@ import type {
 import { qualificationErrors } from './qualification.errors';
 import { computeReading } from './reading-engine';
 import {
+  gaugeStudies,
   plantShifts,
   qualificationOverrides,
   qualificationPolicies,
@@ -421,7 +422,12 @@ export async function acceptQualificationReading(
   if (!stationRow?.allowedModelIds.includes(ref.modelId)) {
     throw qualificationErrors.referenceNotForStation(unit.serial, station.stationName);
   }
-  const { recipe, result, offsetDeg, stored } = await computeReading(deps.db, ref.modelId, measurement, unit.serial);
+  const { recipe, result, offsetDeg, stored } = await computeReading(
+    deps.db,
+    ref.modelId,
+    measurement,
+    unit.serial,
+  );
   const certified = ref.certifiedOffsetDeg;
   const deviationDeg = certified === null ? null : offsetDeg - certified;
   const verdict =
@@ -537,4 +543,33 @@ export async function findRun(db: DbOrTx, id: string): Promise<QualificationRunV
   const [row] = await db.select().from(qualificationRuns).where(eq(qualificationRuns.id, id));
   if (!row) throw qualificationErrors.runNotFound();
   return runView(db, row);
+}
+
+/**
+ * What qualification made of a unit, for its record: kept as a reference unit (with its certified value and
+ * how often stations read it), and the gauge studies it is a part of. Readings never change the unit.
+ */
+export async function qualificationUseOfUnit(db: DbOrTx, unitId: string) {
+  const [[ref], studies] = await Promise.all([
+    db
+      .select({
+        id: referenceUnits.id,
+        createdAt: referenceUnits.createdAt,
+        certifiedOffsetDeg: referenceUnits.certifiedOffsetDeg,
+        toleranceDeg: referenceUnits.toleranceDeg,
+        retiredAt: referenceUnits.retiredAt,
+        readings:
+          sql<number>`(select count(*) from qualification_runs r where r.reference_unit_id = ${referenceUnits.id})`.mapWith(
+            Number,
+          ),
+      })
+      .from(referenceUnits)
+      .where(eq(referenceUnits.unitId, unitId)),
+    db
+      .select({ name: gaugeStudies.name, createdAt: gaugeStudies.createdAt, status: gaugeStudies.status })
+      .from(gaugeStudies)
+      .where(sql`${gaugeStudies.partUnitIds} @> jsonb_build_array(${unitId}::text)`)
+      .orderBy(asc(gaugeStudies.createdAt)),
+  ]);
+  return { reference: ref ?? null, studies };
 }

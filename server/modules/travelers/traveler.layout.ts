@@ -419,7 +419,8 @@ function drawProgramming(page: Page): void {
   page.y = y + 4;
 }
 
-function drawSafety(page: Page): void {
+/** The safety cautions in their box (the one source is shared/wording.ts); other unit documents draw it too. */
+export function drawSafety(page: Page<Pick<TravelerData, 'serial'>>): void {
   const { doc, left, right } = page;
   const pad = 6;
   const textX = left + 40;

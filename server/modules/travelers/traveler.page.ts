@@ -81,7 +81,11 @@ export const TINT = '#e8e8e8';
 export const MARGIN = 36;
 export const FOOTER_H = 22;
 
-export class Page {
+/**
+ * A page being drawn: the traveler's, or another unit document in the same look (the calibration record),
+ * which names itself in the heading of a continued page.
+ */
+export class Page<D extends Pick<TravelerData, 'serial'> = TravelerData> {
   y = MARGIN;
   readonly left = MARGIN;
   readonly right: number;
@@ -90,7 +94,8 @@ export class Page {
 
   constructor(
     readonly doc: Doc,
-    readonly data: TravelerData,
+    readonly data: D,
+    readonly documentName = 'calibration traveler',
   ) {
     this.right = doc.page.width - MARGIN;
     this.width = this.right - this.left;
@@ -171,7 +176,7 @@ export class Page {
     if (this.y + height <= this.bottom) return;
     this.doc.addPage();
     this.y = MARGIN;
-    this.text('bold', 9, `Unit ${this.data.serial}: calibration traveler (continued)`, this.left, this.y);
+    this.text('bold', 9, `Unit ${this.data.serial}: ${this.documentName} (continued)`, this.left, this.y);
     this.rule(this.y + 14, 1, INK);
     this.y += 22;
   }

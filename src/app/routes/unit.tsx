@@ -5,6 +5,7 @@ import { UnitSearch } from '../../features/line/components/unit-search';
 import { useMe } from '../../features/auth/api/me';
 import { RecomputePanel } from '../../features/recipes/components/recompute-panel';
 import { RawTimings } from '../../features/quality/components/raw-timings';
+import { UnitTimeline } from '../../features/quality/components/unit-timeline';
 
 export function Component() {
   const { serial = '' } = useParams();
@@ -27,9 +28,14 @@ export function Component() {
         </div>
       ) : null}
       {me && ['quality', 'engineer', 'admin'].includes(me.role) ? (
-        <div className="mt-6">
-          <RawTimings key={serial} serial={serial} />
-        </div>
+        <>
+          <div className="mt-6">
+            <UnitTimeline key={serial} serial={serial} />
+          </div>
+          <div className="mt-6">
+            <RawTimings key={serial} serial={serial} />
+          </div>
+        </>
       ) : null}
     </div>
   );
