@@ -80,7 +80,9 @@ export const unitSearchPageSchema = z.object({
 export type UnitSearchPage = z.infer<typeof unitSearchPageSchema>;
 
 /** The filter names a search understands, in the order the form shows them (the URL keeps these). */
-export const UNIT_SEARCH_FILTER_KEYS = Object.keys(unitSearchFilterSchema.shape) as (keyof UnitSearchFilter)[];
+export const UNIT_SEARCH_FILTER_KEYS = Object.keys(
+  unitSearchFilterSchema.shape,
+) as (keyof UnitSearchFilter)[];
 
 /** A search saved under a name: the filter is kept as the form sends it (strings). */
 export const newSavedSearchSchema = z.object({
@@ -102,7 +104,9 @@ export type SavedSearch = z.infer<typeof savedSearchSchema>;
 /** The lists behind the search form's choices that the line's own lists do not give. */
 export const searchChoicesSchema = z.object({
   operators: z.array(z.object({ id: z.uuid(), name: z.string() })),
-  recipes: z.array(z.object({ id: z.uuid(), modelCode: z.string(), version: z.number().int(), status: z.string() })),
+  recipes: z.array(
+    z.object({ id: z.uuid(), modelCode: z.string(), version: z.number().int(), status: z.string() }),
+  ),
   engineVersions: z.array(z.string()),
 });
 export type SearchChoices = z.infer<typeof searchChoicesSchema>;

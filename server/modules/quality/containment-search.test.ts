@@ -22,7 +22,9 @@ beforeAll(async () => {
   engineer = await sessionCookie(t.app, 'evan.engineer', 'demo-engineer-pass');
   operator = await sessionCookie(t.app, 'olga.operator', 'demo-operator-pass');
   admin = await sessionCookie(t.app, 'ada.admin', 'demo-admin-pass');
-  const { rows } = await t.database.pool.query<{ username: string; id: string }>('select username, id from users');
+  const { rows } = await t.database.pool.query<{ username: string; id: string }>(
+    'select username, id from users',
+  );
   for (const r of rows) people[r.username] = r.id;
 });
 afterAll(async () => {
@@ -46,7 +48,10 @@ async function addUnit(serial: string, lots: { hb?: string; mr?: string; st?: st
 
 /** Measures a unit at the fixture's station with `who` signed in at its panel, at `at`. */
 async function measureBy(serial: string, who: string, at: string) {
-  await t.database.pool.query('update stations set attended_by = $1 where id = $2', [people[who], line.station.id]);
+  await t.database.pool.query('update stations set attended_by = $1 where id = $2', [
+    people[who],
+    line.station.id,
+  ]);
   t.setNow(new Date(at));
   const m = simulatedMeasurement(line.recipe.body, serial, { offsetDeg: 3 });
   const res = await request(t.app).post('/api/station/measurements').set('X-Station-Key', line.key).send(m);
@@ -59,7 +64,9 @@ async function measureBy(serial: string, who: string, at: string) {
 }
 
 const search = async (query: Record<string, string>) => {
-  const res = await as(quality).get(`/api/quality/units?${new URLSearchParams({ pageSize: '200', ...query })}`);
+  const res = await as(quality).get(
+    `/api/quality/units?${new URLSearchParams({ pageSize: '200', ...query })}`,
+  );
   expect(res.status).toBe(200);
   return (res.body.rows as { serial: string }[]).map((r) => r.serial).sort();
 };
@@ -85,7 +92,11 @@ describe('containment search: the filters added to the form', () => {
     expect(await search({ hallBoardLot: 'HB-OP1' })).toEqual(['OP-0001', 'OP-0002']);
     expect(await search({ magnetRingLot: 'MR-OP1' })).toEqual(['OP-0001', 'OP-0003']);
     expect(await search({ statorLot: 'ST-OP1' })).toEqual(['OP-0001', 'OP-0004']);
-    expect(await search({ serialFrom: 'OP-0002', serialTo: 'OP-0004' })).toEqual(['OP-0002', 'OP-0003', 'OP-0004']);
+    expect(await search({ serialFrom: 'OP-0002', serialTo: 'OP-0004' })).toEqual([
+      'OP-0002',
+      'OP-0003',
+      'OP-0004',
+    ]);
     expect(await search({ builtFrom: '2026-05-03T00:00:00Z', builtTo: '2026-05-31T00:00:00Z' })).toEqual([
       'OP-0003',
       'OP-0004',
@@ -170,7 +181,12 @@ describe('saved searches', () => {
       filter: { ...filter, statorLot: '', notAFilter: 'x' },
     });
     expect(saved.status).toBe(201);
-    expect(saved.body).toMatchObject({ name: 'Lot HB-OP1 after the 10th', filter, savedBy: 'Quinn Abernethy', mine: true });
+    expect(saved.body).toMatchObject({
+      name: 'Lot HB-OP1 after the 10th',
+      filter,
+      savedBy: 'Quinn Abernethy',
+      mine: true,
+    });
     const list = await as(engineer).get('/api/quality/saved-searches');
     expect(list.status).toBe(200);
     const mine = list.body.savedSearches.find((s: { id: string }) => s.id === saved.body.id);
@@ -178,7 +194,9 @@ describe('saved searches', () => {
     // Opening it is searching with its filter.
     expect(await search(mine.filter)).toEqual(['OP-0001', 'OP-0002']);
     expect((await as(operator).get('/api/quality/saved-searches')).status).toBe(403);
-    expect((await as(operator).post('/api/quality/saved-searches', { name: 'Mine', filter })).status).toBe(403);
+    expect((await as(operator).post('/api/quality/saved-searches', { name: 'Mine', filter })).status).toBe(
+      403,
+    );
     const { rows } = await t.database.pool.query(
       `select action, actor_name from audit_log where subject_type = 'saved_search' and subject_id = $1`,
       [saved.body.id],
@@ -191,7 +209,10 @@ describe('saved searches', () => {
     const taken = await as(engineer).post('/api/quality/saved-searches', { name: 'TAKEN NAME', filter });
     expect(taken.status).toBe(409);
     expect(taken.body.error.code).toBe('quality.saved_search_name_taken');
-    const empty = await as(quality).post('/api/quality/saved-searches', { name: 'Everything', filter: { lot: '' } });
+    const empty = await as(quality).post('/api/quality/saved-searches', {
+      name: 'Everything',
+      filter: { lot: '' },
+    });
     expect(empty.status).toBe(422);
     expect(empty.body.error.code).toBe('quality.saved_search_empty');
     const bad = await as(quality).post('/api/quality/saved-searches', {

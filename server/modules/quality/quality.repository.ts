@@ -135,7 +135,11 @@ export async function commentsOf(db: DbOrTx, investigationId: string) {
 }
 
 export async function listSavedSearchRows(db: DbOrTx): Promise<SavedSearchRecord[]> {
-  return db.select().from(savedSearches).orderBy(asc(sql`lower(${savedSearches.name})`)).limit(500);
+  return db
+    .select()
+    .from(savedSearches)
+    .orderBy(asc(sql`lower(${savedSearches.name})`))
+    .limit(500);
 }
 
 export async function findSavedSearch(db: DbOrTx, id: string): Promise<SavedSearchRecord | undefined> {

@@ -236,7 +236,10 @@ export function qualityRoutes(deps: AppDeps) {
       summary: 'A measurement exactly as the station posted it, with the stored SHA-256 in a header',
       request: { params: measurementParams },
       responses: {
-        200: { description: 'The JSON or capture CSV as posted (X-Stored-Sha256 header)', contentType: 'application/json' },
+        200: {
+          description: 'The JSON or capture CSV as posted (X-Stored-Sha256 header)',
+          contentType: 'application/json',
+        },
         404: json('No such measurement'),
       },
       handle: async ({ params }, res) => {

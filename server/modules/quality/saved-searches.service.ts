@@ -67,7 +67,8 @@ export async function deleteSavedSearch(ctx: Ctx, actor: SessionUser, id: string
   await ctx.db.transaction(async (tx) => {
     const row = await repo.findSavedSearch(tx, id);
     if (!row) throw qualityErrors.savedSearchNotFound();
-    if (row.savedBy !== actor.id && actor.role !== 'admin') throw qualityErrors.savedSearchNotYours(row.savedByName);
+    if (row.savedBy !== actor.id && actor.role !== 'admin')
+      throw qualityErrors.savedSearchNotYours(row.savedByName);
     await repo.deleteSavedSearchRow(tx, id);
     await insertAudit(tx, {
       actorId: actor.id,

@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, gte, inArray, lte, or, sql, type SQL } from 'drizzle-orm';
+import { and, eq, gte, inArray, lte, or, sql, type SQL } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { UnitSearchFilter, UnitSearchQuery } from '../../../shared/schemas/quality';
 import type { AnyPgColumn } from 'drizzle-orm/pg-core';
@@ -170,7 +170,12 @@ function escapeLike(s: string): string {
  * unit's calibrations (1 s on a million units, EXPLAIN in DEVELOPERS.md); planned alone, the filter
  * joins two index-only scans (lot, station + time) and only the matches are read and sorted.
  */
-function orderedHits(db: DbOrTx, q: Pick<UnitSearchQuery, 'sort' | 'dir'>, where: SQL | undefined, select: SQL) {
+function orderedHits(
+  db: DbOrTx,
+  q: Pick<UnitSearchQuery, 'sort' | 'dir'>,
+  where: SQL | undefined,
+  select: SQL,
+) {
   const dir = sql.raw(q.dir === 'desc' ? 'desc' : 'asc');
   return sql`with hits as materialized (${db.select({ id: units.id }).from(units).where(where)})
     select ${select} from hits join ${units} on ${units.id} = hits.id

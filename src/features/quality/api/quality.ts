@@ -78,7 +78,9 @@ export function useSavedSearches() {
   return useQuery({
     queryKey: qualityKeys.savedSearches(),
     queryFn: () =>
-      apiRequest<{ savedSearches: SavedSearch[] }>('/api/quality/saved-searches').then((b) => b.savedSearches),
+      apiRequest<{ savedSearches: SavedSearch[] }>('/api/quality/saved-searches').then(
+        (b) => b.savedSearches,
+      ),
   });
 }
 

@@ -294,7 +294,12 @@ export function ContainmentSearch() {
             onChange={set('builtFrom')}
             hint="When the unit was registered or imported"
           />
-          <TextField label="Built until" type="datetime-local" value={form.builtTo} onChange={set('builtTo')} />
+          <TextField
+            label="Built until"
+            type="datetime-local"
+            value={form.builtTo}
+            onChange={set('builtTo')}
+          />
         </Group>
         <Group legend="Parts">
           <TextField

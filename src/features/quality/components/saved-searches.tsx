@@ -3,12 +3,7 @@ import { Alert } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TextField } from '../../../components/ui/field';
 import { formatDateTime } from '../../../lib/format';
-import {
-  useDeleteSavedSearch,
-  useSaveSearch,
-  useSavedSearches,
-  type SearchForm,
-} from '../api/quality';
+import { useDeleteSavedSearch, useSaveSearch, useSavedSearches, type SearchForm } from '../api/quality';
 
 function nonEmpty(f: SearchForm): SearchForm {
   return Object.fromEntries(Object.entries(f).filter(([, v]) => v !== ''));
@@ -72,14 +67,17 @@ export function SavedSearches({
       ) : list.data && list.data.length === 0 ? (
         <p className="text-graphite-300">No saved searches yet.</p>
       ) : (
-        <ul className="flex flex-col divide-y divide-graphite-700 border-y border-graphite-700" data-testid="saved-searches">
+        <ul
+          className="flex flex-col divide-y divide-graphite-700 border-y border-graphite-700"
+          data-testid="saved-searches"
+        >
           {(list.data ?? []).map((s) => (
             <li key={s.id} className="flex flex-wrap items-center justify-between gap-3 py-2">
               <div>
                 <p className="font-semibold">{s.name}</p>
                 <p className="text-sm text-graphite-300">
-                  {Object.keys(s.filter).length} filter{Object.keys(s.filter).length === 1 ? '' : 's'} · saved by{' '}
-                  {s.savedBy} · {formatDateTime(s.createdAt)}
+                  {Object.keys(s.filter).length} filter{Object.keys(s.filter).length === 1 ? '' : 's'} · saved
+                  by {s.savedBy} · {formatDateTime(s.createdAt)}
                 </p>
               </div>
               <div className="flex gap-2">
