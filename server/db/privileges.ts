@@ -49,6 +49,8 @@ export const APP_TABLE_ACCESS = {
   unit_holds: {
     update: ['released_at', 'released_by', 'released_by_name', 'disposition', 'release_reason', 'attempt_budget'],
   },
+  // A saved containment search is kept or deleted whole (never edited); both are audited.
+  saved_searches: { update: [], delete: true },
   // Station qualification: a reference unit is certified or retired; a policy and the plant's shifts are
   // settings; readings of reference units and study trials, and lifted locks, are records.
   reference_units: { update: ['certified_offset_deg', 'tolerance_deg', 'certified_from', 'retired_at'] },

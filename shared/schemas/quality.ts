@@ -71,12 +71,45 @@ export const unitSearchRowSchema = z.object({
   updatedAt: z.string(),
 });
 export type UnitSearchRow = z.infer<typeof unitSearchRowSchema>;
-export interface UnitSearchPage {
-  rows: UnitSearchRow[];
-  total: number;
-  page: number;
-  pageSize: number;
-}
+export const unitSearchPageSchema = z.object({
+  rows: z.array(unitSearchRowSchema),
+  total: z.number().int(),
+  page: z.number().int(),
+  pageSize: z.number().int(),
+});
+export type UnitSearchPage = z.infer<typeof unitSearchPageSchema>;
+
+/** The filter names a search understands, in the order the form shows them (the URL keeps these). */
+export const UNIT_SEARCH_FILTER_KEYS = Object.keys(
+  unitSearchFilterSchema.shape,
+) as (keyof UnitSearchFilter)[];
+
+/** A search saved under a name: the filter is kept as the form sends it (strings). */
+export const newSavedSearchSchema = z.object({
+  name: z.string().trim().min(2, 'Give the search a name (at least 2 characters)').max(100),
+  filter: z.record(z.string(), z.string().max(200)),
+});
+export type NewSavedSearch = z.infer<typeof newSavedSearchSchema>;
+
+export const savedSearchSchema = z.object({
+  id: z.uuid(),
+  name: z.string(),
+  filter: z.record(z.string(), z.string()),
+  savedBy: z.string(),
+  mine: z.boolean(),
+  createdAt: z.string(),
+});
+export type SavedSearch = z.infer<typeof savedSearchSchema>;
+
+/** The lists behind the search form's choices that the line's own lists do not give. */
+export const searchChoicesSchema = z.object({
+  operators: z.array(z.object({ id: z.uuid(), name: z.string() })),
+  recipes: z.array(
+    z.object({ id: z.uuid(), modelCode: z.string(), version: z.number().int(), status: z.string() }),
+  ),
+  engineVersions: z.array(z.string()),
+});
+export type SearchChoices = z.infer<typeof searchChoicesSchema>;
 
 const reasonSchema = z.string().trim().min(3, 'Give a reason (at least 3 characters)').max(500);
 

@@ -32,22 +32,30 @@ export async function listAudit(db: DbOrTx, limit: number) {
   return db.select().from(auditLog).orderBy(desc(auditLog.id)).limit(limit);
 }
 
-/** Inserts many audit entries (one statement per 1,000), e.g. one per unit of a bulk hold. */
+/**
+ * Inserts many audit entries, e.g. one per unit of a bulk hold: the entries travel as one JSON
+ * parameter and PostgreSQL expands them (`jsonb_to_recordset`), one statement per 5,000 entries. Bind parameters per row (the earlier form) cost more to send and plan than the rows
+ * cost to write.
+ */
 export async function insertAuditMany(db: DbOrTx, entries: AuditInput[]): Promise<void> {
-  for (let i = 0; i < entries.length; i += 1000) {
-    await db.insert(auditLog).values(
-      entries.slice(i, i + 1000).map((entry) => ({
-        actorId: entry.actorId ?? null,
-        actorName: entry.actorName ?? null,
-        action: entry.action,
-        subjectType: entry.subjectType ?? null,
-        subjectId: entry.subjectId ?? null,
-        reason: entry.reason ?? null,
-        before: entry.before ?? null,
-        after: entry.after ?? null,
-        ip: entry.ip ?? null,
-      })),
-    );
+  for (let i = 0; i < entries.length; i += 5000) {
+    const rows = entries.slice(i, i + 5000).map((e) => ({
+      actor_id: e.actorId ?? null,
+      actor_name: e.actorName ?? null,
+      action: e.action,
+      subject_type: e.subjectType ?? null,
+      subject_id: e.subjectId ?? null,
+      reason: e.reason ?? null,
+      before: e.before ?? null,
+      after: e.after ?? null,
+      ip: e.ip ?? null,
+    }));
+    await db.execute(sql`
+      insert into ${auditLog} (actor_id, actor_name, action, subject_type, subject_id, reason, before, after, ip)
+      select actor_id, actor_name, action, subject_type, subject_id, reason, before, after, ip
+        from jsonb_to_recordset(${JSON.stringify(rows)}::jsonb)
+             as x(actor_id uuid, actor_name text, action text, subject_type text, subject_id text, reason text,
+                  before jsonb, after jsonb, ip text)`);
   }
 }
 

@@ -1,3 +1,4 @@
+import { sql } from 'drizzle-orm';
 import {
   boolean,
   doublePrecision,
@@ -103,6 +104,14 @@ export const calibrations = pgTable(
     ),
     index('calibrations_unit_idx').on(t.unitId, t.computedAt),
     index('calibrations_station_idx').on(t.stationId, t.computedAt),
+    // The containment search's station and time filters, answered from the index alone (the unit id
+    // rides along): station results only, which is all the search reads.
+    index('calibrations_station_search_idx')
+      .on(t.stationId, t.computedAt, t.unitId)
+      .where(sql`${t.purpose} = 'station'`),
+    index('calibrations_time_search_idx')
+      .on(t.computedAt, t.unitId)
+      .where(sql`${t.purpose} = 'station'`),
   ],
 );
 

@@ -82,4 +82,23 @@ export const qualityErrors = {
       'quality.attachment_damaged',
       'The stored file is missing or no longer matches the SHA-256 taken when it was attached, so it is not sent. Tell your administrator.',
     ),
+  savedSearchNameTaken: (name: string) =>
+    new AppError(
+      409,
+      'quality.saved_search_name_taken',
+      `A saved search is already called "${name}". Choose another name, or delete that one first.`,
+    ),
+  savedSearchEmpty: () =>
+    new AppError(
+      422,
+      'quality.saved_search_empty',
+      'Choose at least one filter before saving: an empty search finds every unit.',
+    ),
+  savedSearchNotFound: () => new AppError(404, 'quality.saved_search_not_found', 'No such saved search.'),
+  savedSearchNotYours: (by: string) =>
+    new AppError(
+      403,
+      'quality.saved_search_not_yours',
+      `Only ${by}, who saved this search, or an administrator may delete it.`,
+    ),
 };

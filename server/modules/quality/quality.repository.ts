@@ -4,8 +4,10 @@ import {
   investigationComments,
   investigations,
   investigationUnits,
+  savedSearches,
   unitHolds,
   type InvestigationRecord,
+  type SavedSearchRecord,
   type UnitHoldRecord,
 } from './quality.table';
 
@@ -21,6 +23,25 @@ export async function insertHolds(tx: DbOrTx, rows: (typeof unitHolds.$inferInse
     n += done.length;
   }
   return n;
+}
+
+/**
+ * Opens a person's hold on each unit in one statement (the ids travel as one array). A unit that
+ * already has an open hold keeps it (the partial unique index): the repeat adds nothing.
+ */
+export async function insertPersonHolds(
+  tx: DbOrTx,
+  unitIds: string[],
+  hold: { reason: string; heldBy: string; heldByName: string; heldAt: Date; investigationId: string | null },
+): Promise<number> {
+  if (unitIds.length === 0) return 0;
+  const res = await tx.execute(sql`
+    insert into ${unitHolds} (unit_id, reason, source, held_by, held_by_name, held_at, investigation_id)
+    select u, ${hold.reason}, 'person', ${hold.heldBy}::uuid, ${hold.heldByName}, ${hold.heldAt.toISOString()}::timestamptz,
+           ${hold.investigationId}::uuid
+      from unnest(${sql.param(unitIds)}::uuid[]) as u
+    on conflict do nothing`);
+  return res.rowCount ?? 0;
 }
 
 export async function closeOpenHolds(
@@ -84,12 +105,11 @@ export async function listInvestigationRows(db: DbOrTx) {
 }
 
 export async function linkUnits(tx: DbOrTx, investigationId: string, unitIds: string[], by: string | null) {
-  for (let i = 0; i < unitIds.length; i += 5000) {
-    await tx
-      .insert(investigationUnits)
-      .values(unitIds.slice(i, i + 5000).map((unitId) => ({ investigationId, unitId, addedBy: by })))
-      .onConflictDoNothing();
-  }
+  if (unitIds.length === 0) return;
+  await tx.execute(sql`
+    insert into ${investigationUnits} (investigation_id, unit_id, added_by)
+    select ${investigationId}::uuid, u, ${by}::uuid from unnest(${sql.param(unitIds)}::uuid[]) as u
+    on conflict do nothing`);
 }
 
 export async function linkedUnitIds(db: DbOrTx, investigationId: string): Promise<string[]> {
@@ -112,4 +132,31 @@ export async function commentsOf(db: DbOrTx, investigationId: string) {
     .from(investigationComments)
     .where(eq(investigationComments.investigationId, investigationId))
     .orderBy(asc(investigationComments.createdAt));
+}
+
+export async function listSavedSearchRows(db: DbOrTx): Promise<SavedSearchRecord[]> {
+  return db
+    .select()
+    .from(savedSearches)
+    .orderBy(asc(sql`lower(${savedSearches.name})`))
+    .limit(500);
+}
+
+export async function findSavedSearch(db: DbOrTx, id: string): Promise<SavedSearchRecord | undefined> {
+  const [row] = await db.select().from(savedSearches).where(eq(savedSearches.id, id));
+  return row;
+}
+
+/** Inserts a saved search; undefined when its name (case-insensitive) is taken. */
+export async function insertSavedSearch(
+  tx: DbOrTx,
+  values: typeof savedSearches.$inferInsert,
+): Promise<SavedSearchRecord | undefined> {
+  const [row] = await tx.insert(savedSearches).values(values).onConflictDoNothing().returning();
+  return row;
+}
+
+export async function deleteSavedSearchRow(tx: DbOrTx, id: string): Promise<SavedSearchRecord | undefined> {
+  const [row] = await tx.delete(savedSearches).where(eq(savedSearches.id, id)).returning();
+  return row;
 }

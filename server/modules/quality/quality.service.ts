@@ -3,7 +3,14 @@ import type { SessionUser } from '../../lib/auth';
 import type { Logger } from '../../lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit, insertAuditMany } from '../audit/audit.repository';
-import { findModelWithActiveRecipe, findRecipeRow, listModelRows } from '../recipes/recipes.repository';
+import {
+  findModelWithActiveRecipe,
+  findRecipeRow,
+  listModelRows,
+  listRecipeRows,
+} from '../recipes/recipes.repository';
+import { listUsers } from '../users/users.repository';
+import { ENGINE_VERSION } from '../../../shared/calibration/engine';
 import { storedMeasurement } from '../measurements/measurements.repository';
 import { CalibrationInputError } from '../../../shared/calibration';
 import { traceMeasurement } from '../../../shared/calibration/trace';
@@ -11,11 +18,13 @@ import type { Measurement } from '../../../shared/schemas/measurement';
 import type { RecipeRecord } from '../recipes/recipes.table';
 import { stationCalibrationFilter } from '../measurements/calibrations.repository';
 import {
+  lockAndHoldUnits,
   lockUnitsForHold,
   markUnitReleased,
   markUnitsHeld,
   searchUnitIds,
   searchUnitsPage,
+  streamSearchRows,
   unitIdColumn,
   unitIdsBySerials,
   unitSearchWhere,
@@ -34,6 +43,7 @@ import {
   type MeasurementTrace,
   type Release,
   type ReleaseResult,
+  type SearchChoices,
   type UnitSearchFilter,
   type UnitSearchPage,
   type UnitSearchQuery,
@@ -136,7 +146,9 @@ function searchWhere(f: UnitSearchFilter) {
 /**
  * Holds a selection or a whole search result, in one transaction: every unit gets its hold record and
  * its own audit entry, or none does. Safe to repeat: a unit already on hold stays held once (it is
- * only linked to the investigation); a scrapped unit is left alone and counted.
+ * only linked to the investigation); a scrapped unit is left alone and counted. Set-based: each step
+ * (find, lock in id order, mark held, open the holds, audit, link) is one statement over every unit,
+ * with the ids sent as one array, so 10,000 units take about as many round trips as one.
  */
 export async function bulkHold(
   ctx: QualityContext,
@@ -146,11 +158,14 @@ export async function bulkHold(
   const now = ctx.clock();
   let opened: Awaited<ReturnType<typeof openInvestigationIn>> | null = null;
   const result = await ctx.db.transaction(async (tx) => {
-    const ids = input.serials
-      ? await idsOfSerials(tx, input.serials)
-      : await searchUnitIds(tx, searchWhere(input.search!));
-    if (ids.length === 0) throw qualityErrors.nothingFound();
-    if (ids.length > BULK_LIMIT) throw qualityErrors.tooMany(ids.length, BULK_LIMIT);
+    let which: { ids: string[] } | { serials: string[] };
+    if (input.serials) which = { serials: [...new Set(input.serials)] };
+    else {
+      const ids = await searchUnitIds(tx, searchWhere(input.search!));
+      if (ids.length === 0) throw qualityErrors.nothingFound();
+      if (ids.length > BULK_LIMIT) throw qualityErrors.tooMany(ids.length, BULK_LIMIT);
+      which = { ids };
+    }
     let investigation: { id: string; reference: string } | null = null;
     if (input.newInvestigation) {
       opened = await openInvestigationIn(tx, actor, input.newInvestigation, now);
@@ -162,27 +177,26 @@ export async function bulkHold(
         throw qualityErrors.investigationClosed(investigationReference(inv.number));
       investigation = { id: inv.id, reference: investigationReference(inv.number) };
     }
-    const locked = await lockUnitsForHold(tx, ids);
-    const toHold = locked.filter((u) => u.status !== 'on_hold' && u.status !== 'scrapped');
+    // Locks in id order and marks the units held in one statement; an unknown serial undoes it all.
+    const locked = await lockAndHoldUnits(tx, which, input.reason, now);
+    if ('serials' in which) {
+      const found = new Set(locked.map((u) => u.serial));
+      const missing = which.serials.filter((s) => !found.has(s));
+      if (missing.length) throw qualityErrors.unknownSerials(missing);
+    }
+    const toHold = locked.filter((u) => u.held);
     const alreadyHeld = locked.filter((u) => u.status === 'on_hold').length;
     const scrapped = locked.length - toHold.length - alreadyHeld;
-    await markUnitsHeld(
+    await repo.insertPersonHolds(
       tx,
       toHold.map((u) => u.id),
-      input.reason,
-      now,
-    );
-    await repo.insertHolds(
-      tx,
-      toHold.map((u) => ({
-        unitId: u.id,
+      {
         reason: input.reason,
-        source: 'person' as const,
         heldBy: actor.id,
         heldByName: actor.displayName,
         heldAt: now,
         investigationId: investigation?.id ?? null,
-      })),
+      },
     );
     await insertAuditMany(
       tx,
@@ -350,7 +364,7 @@ export async function searchUnits(db: Db, q: UnitSearchQuery): Promise<UnitSearc
   const { rows, total } = await searchUnitsPage(db, q, searchWhere(q));
   const models = new Map((await listModelRows(db)).map((m) => [m.id, m.code]));
   return {
-    rows: rows.map(({ total: _t, modelId, ...r }) => ({
+    rows: rows.map(({ modelId, ...r }) => ({
       ...r,
       modelCode: models.get(modelId) ?? '',
       createdAt: r.createdAt.toISOString(),
@@ -359,6 +373,26 @@ export async function searchUnits(db: Db, q: UnitSearchQuery): Promise<UnitSearc
     total,
     page: q.page,
     pageSize: q.pageSize,
+  };
+}
+
+/**
+ * The search form's lists the line's own lists do not give: people who may stand at a panel (by
+ * name), every recipe version that was released, and the engine versions.
+ */
+export async function searchChoices(db: Db): Promise<SearchChoices> {
+  const [people, recipes, models] = await Promise.all([listUsers(db), listRecipeRows(db), listModelRows(db)]);
+  const codes = new Map(models.map((m) => [m.id, m.code]));
+  return {
+    operators: people
+      .filter((p) => p.role !== 'admin')
+      .map((p) => ({ id: p.id, name: p.displayName }))
+      .sort((a, b) => a.name.localeCompare(b.name)),
+    recipes: recipes
+      .filter((r) => r.status === 'released' || r.status === 'retired')
+      .map((r) => ({ id: r.id, modelCode: codes.get(r.modelId) ?? '', version: r.version, status: r.status }))
+      .sort((a, b) => a.modelCode.localeCompare(b.modelCode) || b.version - a.version),
+    engineVersions: [ENGINE_VERSION],
   };
 }
 
@@ -387,41 +421,41 @@ function csvCell(v: unknown): string {
 }
 
 /**
- * The whole result of a search as CSV, page by page (2,000 rows each) through `write`, so memory stays
- * flat however many units match.
+ * The whole result of a search as CSV, in the search's order, read through one cursor 2,000 rows at a
+ * time and handed to `write` as it comes, so memory stays flat however many units match.
  */
 export async function exportSearchCsv(
   db: Db,
   q: UnitSearchQuery,
   write: (chunk: string) => Promise<void> | void,
 ): Promise<number> {
+  const models = new Map((await listModelRows(db)).map((m) => [m.id, m.code]));
   await write(CSV_COLUMNS.join(',') + '\r\n');
   let n = 0;
-  for (let page = 1; ; page++) {
-    const res = await searchUnits(db, { ...q, page, pageSize: 2000 } as UnitSearchQuery);
-    const lines = res.rows.map((r) =>
+  await streamSearchRows(db, q, searchWhere(q), 2000, async (rows) => {
+    const lines = rows.map((r) =>
       [
         r.serial,
-        r.modelCode,
-        r.workOrder,
-        r.hallBoardLot,
-        r.magnetRingLot,
-        r.statorLot,
+        models.get(r.model_id) ?? '',
+        r.work_order,
+        r.hall_board_lot,
+        r.magnet_ring_lot,
+        r.stator_lot,
         r.status,
-        r.holdReason,
+        r.hold_reason,
         r.attempts,
-        r.currentOffsetDeg,
-        r.programmingMismatch,
-        r.createdAt,
-        r.updatedAt,
+        r.current_offset_deg,
+        r.programming_mismatch,
+        r.created_at,
+        r.updated_at,
       ]
         .map(csvCell)
         .join(','),
     );
-    if (lines.length) await write(lines.join('\r\n') + '\r\n');
     n += lines.length;
-    if (res.rows.length < 2000) return n;
-  }
+    await write(lines.join('\r\n') + '\r\n');
+  });
+  return n;
 }
 
 /** The raw data behind a measurement's numbers (see `traceMeasurement`), with its stored hash. */

@@ -3,6 +3,7 @@ import {
   date,
   index,
   integer,
+  jsonb,
   pgEnum,
   pgTable,
   primaryKey,
@@ -129,3 +130,23 @@ export const unitHolds = pgTable(
 
 export type UnitHoldRecord = typeof unitHolds.$inferSelect;
 export type InvestigationRecord = typeof investigations.$inferSelect;
+
+/**
+ * A containment search saved under a name, shared by the quality team: the filter as the form sends
+ * it (every value a string), so opening it fills the form and the URL exactly as it was. Saved and
+ * deleted, never edited; both audited.
+ */
+export const savedSearches = pgTable(
+  'saved_searches',
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    name: text().notNull(),
+    filter: jsonb().$type<Record<string, string>>().notNull(),
+    savedBy: uuid().references(() => users.id),
+    savedByName: text().notNull(),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex('saved_searches_name_key').on(sql`lower(${t.name})`)],
+);
+
+export type SavedSearchRecord = typeof savedSearches.$inferSelect;

@@ -45,9 +45,10 @@ export const units = pgTable(
   (t) => [
     uniqueIndex('units_serial_key').on(sql`upper(${t.serial})`),
     index('units_model_idx').on(t.modelId),
-    index('units_hall_lot_idx').on(t.hallBoardLot),
-    index('units_magnet_lot_idx').on(t.magnetRingLot),
-    index('units_stator_lot_idx').on(t.statorLot),
+    // With the id, a containment search by lot joins its other filters from the index alone.
+    index('units_hall_lot_idx').on(t.hallBoardLot, t.id),
+    index('units_magnet_lot_idx').on(t.magnetRingLot, t.id),
+    index('units_stator_lot_idx').on(t.statorLot, t.id),
   ],
 );
 

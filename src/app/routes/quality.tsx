@@ -20,7 +20,6 @@ export function Component() {
   // Engineers share the workspace; the audit trail is quality's (and administrators').
   const views = VIEWS.filter((v) => v.id !== 'audit' || me?.role === 'quality' || me?.role === 'admin');
   const view = views.find((v) => v.id === params.get('view'))?.id ?? 'held';
-  const lot = params.get('lot');
   return (
     <div>
       <title>{`${VIEWS.find((v) => v.id === view)!.label} · Quality · Phasewright`}</title>
@@ -45,7 +44,7 @@ export function Component() {
         ))}
       </nav>
       {view === 'held' ? <HeldUnits /> : null}
-      {view === 'search' ? <ContainmentSearch key={lot ?? ''} initial={lot ? { lot } : undefined} /> : null}
+      {view === 'search' ? <ContainmentSearch /> : null}
       {view === 'investigations' ? <Investigations /> : null}
       {view === 'audit' ? <AuditTrail /> : null}
     </div>

@@ -11,6 +11,8 @@ import type {
   MeasurementTrace,
   Release,
   ReleaseResult,
+  SavedSearch,
+  SearchChoices,
   UnitSearchPage,
 } from '../../../../shared/schemas/quality';
 import { apiRequest } from '../../../lib/api-client';
@@ -26,6 +28,7 @@ export const qualityKeys = {
   search: (q: SearchQuery) => [...qualityKeys.lists(), 'search', q] as const,
   investigations: () => [...qualityKeys.lists(), 'investigations'] as const,
   choices: () => [...qualityKeys.all, 'choices'] as const,
+  savedSearches: () => [...qualityKeys.lists(), 'saved-searches'] as const,
   details: () => [...qualityKeys.all, 'detail'] as const,
   detail: (id: string) => [...qualityKeys.details(), 'investigation', id] as const,
 };
@@ -55,18 +58,47 @@ export function useUnitSearch(q: SearchQuery | null) {
   });
 }
 
-/** Models and stations for the search form's lists. */
+/** Models, stations, people, recipe and engine versions for the search form's lists. */
 export function useSearchChoices() {
   return useQuery({
     queryKey: qualityKeys.choices(),
     staleTime: 5 * 60_000,
     queryFn: async () => {
-      const [m, s] = await Promise.all([
+      const [m, s, more] = await Promise.all([
         apiRequest<{ models: ModelView[] }>('/api/models'),
         apiRequest<{ stations: StationView[] }>('/api/stations'),
+        apiRequest<SearchChoices>('/api/quality/search-choices'),
       ]);
-      return { models: m.models, stations: s.stations };
+      return { models: m.models, stations: s.stations, ...more };
     },
+  });
+}
+
+export function useSavedSearches() {
+  return useQuery({
+    queryKey: qualityKeys.savedSearches(),
+    queryFn: () =>
+      apiRequest<{ savedSearches: SavedSearch[] }>('/api/quality/saved-searches').then(
+        (b) => b.savedSearches,
+      ),
+  });
+}
+
+export function useSaveSearch() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (input: { name: string; filter: SearchForm }) =>
+      apiRequest<SavedSearch>('/api/quality/saved-searches', { method: 'POST', body: input }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: qualityKeys.savedSearches() }),
+  });
+}
+
+export function useDeleteSavedSearch() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (id: string) =>
+      apiRequest<void>(`/api/quality/saved-searches/${encodeURIComponent(id)}`, { method: 'DELETE' }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: qualityKeys.savedSearches() }),
   });
 }
 

@@ -1,5 +1,5 @@
-import { useMemo, useState, type FormEvent } from 'react';
-import { Link } from 'react-router';
+import { useMemo, useState, type FormEvent, type ReactNode } from 'react';
+import { Link, useSearchParams } from 'react-router';
 import {
   createColumnHelper,
   rowSortingFeature,
@@ -7,7 +7,11 @@ import {
   useTable,
   type SortingState,
 } from '@tanstack/react-table';
-import type { BulkHoldResult, UnitSearchRow } from '../../../../shared/schemas/quality';
+import {
+  UNIT_SEARCH_FILTER_KEYS,
+  type BulkHoldResult,
+  type UnitSearchRow,
+} from '../../../../shared/schemas/quality';
 import { unitStatusSchema } from '../../../../shared/schemas/line';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button, buttonClass } from '../../../components/ui/button';
@@ -22,6 +26,7 @@ import {
   type SearchQuery,
 } from '../api/quality';
 import { BulkHoldDialog } from './bulk-hold-dialog';
+import { SavedSearches } from './saved-searches';
 import { CHECK_GUIDE } from '../../../../shared/calibration/check-guide';
 
 /** The checks by the names people read on the traveler and the station screen (their codes stay in the URL). */
@@ -42,20 +47,10 @@ const STATUS_WORDS: Record<string, string> = {
   scrapped: 'Scrapped',
 };
 
-const EMPTY: SearchForm = {
-  lot: '',
-  serialPrefix: '',
-  modelId: '',
-  stationId: '',
-  status: '',
-  verdict: '',
-  measuredFrom: '',
-  measuredTo: '',
-  offsetMinDeg: '',
-  offsetMaxDeg: '',
-  failedCheck: '',
-  programmingMismatch: '',
-};
+const EMPTY: SearchForm = Object.fromEntries(UNIT_SEARCH_FILTER_KEYS.map((k) => [k, '']));
+
+/** The filters given as a date and time: the form holds local wall time, the URL and the API an instant. */
+const TIME_KEYS = ['builtFrom', 'builtTo', 'measuredFrom', 'measuredTo'];
 
 const PAGE_SIZE = 50;
 
@@ -64,25 +59,67 @@ function toInstant(local: string): string {
   return local ? new Date(local).toISOString() : '';
 }
 
+/** An instant as the local wall time a datetime-local field shows (minutes). */
+function toLocalInput(instant: string): string {
+  const d = new Date(instant);
+  if (!instant || Number.isNaN(d.getTime())) return '';
+  const local = new Date(d.getTime() - d.getTimezoneOffset() * 60_000);
+  return local.toISOString().slice(0, 16);
+}
+
 function filtersOf(form: SearchForm): SearchForm {
-  return { ...form, measuredFrom: toInstant(form.measuredFrom), measuredTo: toInstant(form.measuredTo) };
+  const out: SearchForm = { ...form };
+  for (const k of TIME_KEYS) out[k] = toInstant(form[k] ?? '');
+  return out;
+}
+
+function formOf(filters: SearchForm): SearchForm {
+  const out: SearchForm = { ...EMPTY, ...filters };
+  for (const k of TIME_KEYS) out[k] = toLocalInput(filters[k] ?? '');
+  return out;
+}
+
+/** The search filters the URL names (anything else in it, such as the view, is left alone). */
+function filtersInUrl(params: URLSearchParams): SearchForm | null {
+  const found = UNIT_SEARCH_FILTER_KEYS.filter((k) => params.get(k));
+  if (found.length === 0) return params.get('all') === '1' ? { ...EMPTY } : null;
+  return { ...EMPTY, ...Object.fromEntries(found.map((k) => [k, params.get(k)!])) };
+}
+
+function Group({ legend, hint, children }: { legend: string; hint?: string; children: ReactNode }) {
+  return (
+    <fieldset className="grid gap-4 border-2 border-graphite-700 p-4 sm:grid-cols-2 lg:grid-cols-4">
+      <legend className="px-2 text-base font-semibold text-graphite-100">{legend}</legend>
+      {hint ? <p className="text-sm text-graphite-300 sm:col-span-2 lg:col-span-4">{hint}</p> : null}
+      {children}
+    </fieldset>
+  );
 }
 
 /**
  * Containment search: filters, one page of results sorted and counted by the server, a selection
  * that survives paging, a hold of the selection or of the whole result, and a CSV of the whole result.
  */
-export function ContainmentSearch({ initial }: { initial?: SearchForm }) {
-  const [form, setForm] = useState<SearchForm>({ ...EMPTY, ...initial });
-  const [applied, setApplied] = useState<SearchForm | null>(
-    initial ? filtersOf({ ...EMPTY, ...initial }) : null,
-  );
+export function ContainmentSearch() {
+  // The applied filter lives in the URL, so a search can be bookmarked, sent, or reopened with Back.
+  const [params, setParams] = useSearchParams();
+  const applied = useMemo(() => filtersInUrl(params), [params]);
+  const urlKey = applied ? `?${searchParams(applied)}` : '';
+  const [form, setForm] = useState<SearchForm>(() => (applied ? formOf(applied) : EMPTY));
+  const [shownKey, setShownKey] = useState(urlKey);
   const [sorting, setSorting] = useState<SortingState>([{ id: 'serial', desc: false }]);
   const [page, setPage] = useState(1);
   const [selected, setSelected] = useState<Set<string>>(new Set());
   const [holding, setHolding] = useState<'selection' | 'all' | null>(null);
   const [done, setDone] = useState<BulkHoldResult | null>(null);
   const choices = useSearchChoices();
+  if (shownKey !== urlKey) {
+    // The URL changed under the form (Back, a link, a saved search): show what it says.
+    setShownKey(urlKey);
+    setForm(applied ? formOf(applied) : EMPTY);
+    setPage(1);
+    setSelected(new Set());
+  }
 
   const query: SearchQuery | null = applied
     ? {
@@ -189,12 +226,21 @@ export function ContainmentSearch({ initial }: { initial?: SearchForm }) {
 
   const set = (key: string) => (event: { target: { value: string } }) =>
     setForm((f) => ({ ...f, [key]: event.target.value }));
-  const submit = (event: FormEvent) => {
-    event.preventDefault();
-    setApplied(filtersOf(form));
+  const apply = (filters: SearchForm | null) => {
+    const next = new URLSearchParams({ view: 'search' });
+    if (filters) for (const [k, v] of Object.entries(filters)) if (v !== '') next.set(k, v);
+    // An empty form still searches (every unit): the URL says so, as it says every other filter.
+    if (filters && next.size === 1) next.set('all', '1');
+    setParams(next);
     setPage(1);
     setSelected(new Set());
     setDone(null);
+  };
+  const submit = (event: FormEvent) => {
+    event.preventDefault();
+    const filters = filtersOf(form);
+    // An empty form still searches (every unit), so the view keeps a marker in the URL.
+    apply(filters);
   };
   const total = result.data?.total ?? 0;
   const pages = Math.max(1, Math.ceil(total / PAGE_SIZE));
@@ -203,113 +249,182 @@ export function ContainmentSearch({ initial }: { initial?: SearchForm }) {
 
   return (
     <div className="flex flex-col gap-5">
-      <form
-        onSubmit={submit}
-        className="grid gap-4 sm:grid-cols-2 lg:grid-cols-4"
-        aria-label="Search filters"
-      >
-        <TextField
-          label="Lot (any of the three)"
-          value={form.lot}
-          onChange={set('lot')}
-          placeholder="HB-2446-C"
-        />
-        <TextField label="Serial starts with" value={form.serialPrefix} onChange={set('serialPrefix')} />
-        <SelectField
-          label="Model"
-          value={form.modelId}
-          onChange={set('modelId')}
-          options={[
-            { value: '', label: 'Any model' },
-            ...models.map((m) => ({ value: m.id, label: `${m.code} · ${m.name}` })),
-          ]}
-        />
-        <SelectField
-          label="Station"
-          value={form.stationId}
-          onChange={set('stationId')}
-          options={[
-            { value: '', label: 'Any station' },
-            ...stations.map((s) => ({ value: s.id, label: s.name })),
-          ]}
-        />
-        <SelectField
-          label="Status"
-          value={form.status}
-          onChange={set('status')}
-          options={[
-            { value: '', label: 'Any status' },
-            ...unitStatusSchema.options.map((s) => ({ value: s, label: STATUS_WORDS[s] })),
-          ]}
-        />
-        <SelectField
-          label="Verdict of a station result"
-          value={form.verdict}
-          onChange={set('verdict')}
-          options={[
-            { value: '', label: 'Any verdict' },
-            { value: 'pass', label: 'Pass' },
-            { value: 'fail', label: 'Fail' },
-            { value: 'unusable', label: 'No result (unusable data)' },
-          ]}
-        />
-        <TextField
-          label="Measured from"
-          type="datetime-local"
-          value={form.measuredFrom}
-          onChange={set('measuredFrom')}
-        />
-        <TextField
-          label="Measured until"
-          type="datetime-local"
-          value={form.measuredTo}
-          onChange={set('measuredTo')}
-        />
-        <TextField
-          label="Offset at least (°)"
-          type="number"
-          step="0.1"
-          value={form.offsetMinDeg}
-          onChange={set('offsetMinDeg')}
-        />
-        <TextField
-          label="Offset at most (°)"
-          type="number"
-          step="0.1"
-          value={form.offsetMaxDeg}
-          onChange={set('offsetMaxDeg')}
-        />
-        <SelectField
-          label="Failed check"
-          value={form.failedCheck}
-          onChange={set('failedCheck')}
-          options={FAILED_CHECK_OPTIONS}
-        />
-        <SelectField
-          label="Programming read-back"
-          value={form.programmingMismatch}
-          onChange={set('programmingMismatch')}
-          options={[
-            { value: '', label: 'Any' },
-            { value: 'true', label: 'Mismatch' },
-            { value: 'false', label: 'No mismatch' },
-          ]}
-        />
-        <div className="flex flex-wrap items-end gap-3 sm:col-span-2 lg:col-span-4">
+      <form onSubmit={submit} className="flex flex-col gap-4" aria-label="Search filters">
+        <Group legend="Unit">
+          <SelectField
+            label="Model"
+            value={form.modelId}
+            onChange={set('modelId')}
+            options={[
+              { value: '', label: 'Any model' },
+              ...models.map((m) => ({ value: m.id, label: `${m.code} · ${m.name}` })),
+            ]}
+          />
+          <TextField label="Serial starts with" value={form.serialPrefix} onChange={set('serialPrefix')} />
+          <TextField
+            label="Serial from"
+            value={form.serialFrom}
+            onChange={set('serialFrom')}
+            hint="A range of serials, first and last included"
+          />
+          <TextField label="Serial to" value={form.serialTo} onChange={set('serialTo')} />
+          <SelectField
+            label="Status"
+            value={form.status}
+            onChange={set('status')}
+            options={[
+              { value: '', label: 'Any status' },
+              ...unitStatusSchema.options.map((s) => ({ value: s, label: STATUS_WORDS[s] })),
+            ]}
+          />
+          <SelectField
+            label="Programming read-back"
+            value={form.programmingMismatch}
+            onChange={set('programmingMismatch')}
+            options={[
+              { value: '', label: 'Any' },
+              { value: 'true', label: 'Mismatch' },
+              { value: 'false', label: 'No mismatch' },
+            ]}
+          />
+          <TextField
+            label="Built from"
+            type="datetime-local"
+            value={form.builtFrom}
+            onChange={set('builtFrom')}
+            hint="When the unit was registered or imported"
+          />
+          <TextField
+            label="Built until"
+            type="datetime-local"
+            value={form.builtTo}
+            onChange={set('builtTo')}
+          />
+        </Group>
+        <Group legend="Parts">
+          <TextField
+            label="Lot (any of the three)"
+            value={form.lot}
+            onChange={set('lot')}
+            placeholder="HB-2446-C"
+          />
+          <TextField label="Hall-board lot" value={form.hallBoardLot} onChange={set('hallBoardLot')} />
+          <TextField label="Magnet-ring lot" value={form.magnetRingLot} onChange={set('magnetRingLot')} />
+          <TextField label="Stator lot" value={form.statorLot} onChange={set('statorLot')} />
+        </Group>
+        <Group
+          legend="Station result"
+          hint="These must all hold for the same station result: a unit measured twice is found when one of its results matches every one."
+        >
+          <SelectField
+            label="Station"
+            value={form.stationId}
+            onChange={set('stationId')}
+            options={[
+              { value: '', label: 'Any station' },
+              ...stations.map((s) => ({ value: s.id, label: s.name })),
+            ]}
+          />
+          <SelectField
+            label="Operator at the panel"
+            value={form.operatorId}
+            onChange={set('operatorId')}
+            options={[
+              { value: '', label: 'Anyone' },
+              ...(choices.data?.operators ?? []).map((o) => ({ value: o.id, label: o.name })),
+            ]}
+          />
+          <TextField
+            label="Measured from"
+            type="datetime-local"
+            value={form.measuredFrom}
+            onChange={set('measuredFrom')}
+          />
+          <TextField
+            label="Measured until"
+            type="datetime-local"
+            value={form.measuredTo}
+            onChange={set('measuredTo')}
+          />
+          <SelectField
+            label="Recipe version"
+            value={form.recipeId}
+            onChange={set('recipeId')}
+            options={[
+              { value: '', label: 'Any recipe version' },
+              ...(choices.data?.recipes ?? []).map((r) => ({
+                value: r.id,
+                label: `${r.modelCode} v${r.version}${r.status === 'retired' ? ' (retired)' : ''}`,
+              })),
+            ]}
+          />
+          <SelectField
+            label="Engine version"
+            value={form.engineVersion}
+            onChange={set('engineVersion')}
+            options={[
+              { value: '', label: 'Any engine version' },
+              ...(choices.data?.engineVersions ?? []).map((v) => ({ value: v, label: v })),
+              // A version from a saved search or a link that this server no longer runs.
+              ...(form.engineVersion && !choices.data?.engineVersions.includes(form.engineVersion)
+                ? [{ value: form.engineVersion, label: form.engineVersion }]
+                : []),
+            ]}
+          />
+          <SelectField
+            label="Verdict of a station result"
+            value={form.verdict}
+            onChange={set('verdict')}
+            options={[
+              { value: '', label: 'Any verdict' },
+              { value: 'pass', label: 'Pass' },
+              { value: 'fail', label: 'Fail' },
+              { value: 'unusable', label: 'No result (unusable data)' },
+            ]}
+          />
+          <SelectField
+            label="Failed check"
+            value={form.failedCheck}
+            onChange={set('failedCheck')}
+            options={FAILED_CHECK_OPTIONS}
+          />
+          <TextField
+            label="Offset at least (°)"
+            type="number"
+            step="0.1"
+            value={form.offsetMinDeg}
+            onChange={set('offsetMinDeg')}
+          />
+          <TextField
+            label="Offset at most (°)"
+            type="number"
+            step="0.1"
+            value={form.offsetMaxDeg}
+            onChange={set('offsetMaxDeg')}
+          />
+        </Group>
+        <div className="flex flex-wrap items-end gap-3">
           <Button type="submit" variant="primary">
             Search
           </Button>
           <Button
             onClick={() => {
               setForm(EMPTY);
-              setApplied(null);
-              setSelected(new Set());
+              apply(null);
             }}
           >
             Clear
           </Button>
         </div>
       </form>
+
+      <SavedSearches
+        current={applied}
+        onOpen={(filter) => {
+          setForm(formOf(filter));
+          apply({ ...EMPTY, ...filter });
+        }}
+      />
 
       {done ? (
         <Alert tone="ok" title="Hold placed">

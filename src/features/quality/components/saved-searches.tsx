@@ -1,0 +1,103 @@
+import { useState, type FormEvent } from 'react';
+import { Alert } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TextField } from '../../../components/ui/field';
+import { formatDateTime } from '../../../lib/format';
+import { useDeleteSavedSearch, useSaveSearch, useSavedSearches, type SearchForm } from '../api/quality';
+
+function nonEmpty(f: SearchForm): SearchForm {
+  return Object.fromEntries(Object.entries(f).filter(([, v]) => v !== ''));
+}
+
+/**
+ * Searches saved under a name, shared by the team: save the search shown now, open one (it fills the
+ * form and runs), or delete one you saved.
+ */
+export function SavedSearches({
+  current,
+  onOpen,
+}: {
+  current: SearchForm | null;
+  onOpen: (filter: SearchForm) => void;
+}) {
+  const list = useSavedSearches();
+  const save = useSaveSearch();
+  const remove = useDeleteSavedSearch();
+  const [name, setName] = useState('');
+  const filter = current ? nonEmpty(current) : {};
+  const canSave = Object.keys(filter).length > 0;
+
+  const submit = (event: FormEvent) => {
+    event.preventDefault();
+    save.mutate({ name, filter }, { onSuccess: () => setName('') });
+  };
+
+  return (
+    <section aria-labelledby="saved-searches-heading" className="flex flex-col gap-3">
+      <h2 id="saved-searches-heading" className="text-xl font-semibold">
+        Saved searches
+      </h2>
+      <form onSubmit={submit} className="flex flex-wrap items-end gap-3" aria-label="Save this search">
+        <div className="min-w-64 flex-1">
+          <TextField
+            label="Name for this search"
+            value={name}
+            onChange={(e) => setName(e.target.value)}
+            hint={
+              canSave
+                ? 'Saves the filters of the search shown below, for the whole quality team.'
+                : 'Run a search with at least one filter first.'
+            }
+            error={save.error?.message}
+          />
+        </div>
+        <Button type="submit" disabled={!canSave || name.trim().length < 2 || save.isPending}>
+          Save this search
+        </Button>
+      </form>
+      {remove.error ? (
+        <Alert tone="fault" title="Not deleted">
+          {remove.error.message}
+        </Alert>
+      ) : null}
+      {list.isError ? (
+        <Alert tone="fault" title="Saved searches could not be read">
+          {list.error.message}
+        </Alert>
+      ) : list.data && list.data.length === 0 ? (
+        <p className="text-graphite-300">No saved searches yet.</p>
+      ) : (
+        <ul
+          className="flex flex-col divide-y divide-graphite-700 border-y border-graphite-700"
+          data-testid="saved-searches"
+        >
+          {(list.data ?? []).map((s) => (
+            <li key={s.id} className="flex flex-wrap items-center justify-between gap-3 py-2">
+              <div>
+                <p className="font-semibold">{s.name}</p>
+                <p className="text-sm text-graphite-300">
+                  {Object.keys(s.filter).length} filter{Object.keys(s.filter).length === 1 ? '' : 's'} · saved
+                  by {s.savedBy} · {formatDateTime(s.createdAt)}
+                </p>
+              </div>
+              <div className="flex gap-2">
+                <Button onClick={() => onOpen(s.filter)} aria-label={`Open saved search ${s.name}`}>
+                  Open
+                </Button>
+                {s.mine ? (
+                  <Button
+                    onClick={() => remove.mutate(s.id)}
+                    disabled={remove.isPending}
+                    aria-label={`Delete saved search ${s.name}`}
+                  >
+                    Delete
+                  </Button>
+                ) : null}
+              </div>
+            </li>
+          ))}
+        </ul>
+      )}
+    </section>
+  );
+}
