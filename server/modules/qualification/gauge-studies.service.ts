@@ -17,7 +17,7 @@ import {
   type GaugeAnovaResult,
   type GaugeRangeResult,
 } from '../../../shared/statistics/gauge-study';
-import { measurementSchema } from '../../../shared/schemas/measurement';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import type { GaugeStudyCreate } from '../../../shared/schemas/qualification';
 import {
   gaugeStudies,
@@ -240,9 +240,9 @@ export async function acceptStudyReading(
   clock: () => Date,
   station: StationPrincipal,
   studyId: string,
-  body: { measurement: unknown; repeatReason?: string; trial?: number },
+  body: { measurement: Measurement; repeatReason?: string; trial?: number },
 ) {
-  const measurement = measurementSchema.parse(body.measurement);
+  const { measurement } = body;
   const study = await studyRow(db, studyId);
   const [existing] = await db
     .select()
