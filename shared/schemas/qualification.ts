@@ -266,4 +266,6 @@ export interface StudyNextStep {
   done: number;
   total: number;
   appraiserLabel: string;
+  /** Operator studies: the other appraisers who still have trials (whom to hand the station to next). */
+  waitingFor: string[];
 }

@@ -8,6 +8,7 @@ import {
   createStudy,
   listStudies,
   nextStepsAt,
+  operatorChoices,
   studyDetail,
 } from './gauge-studies.service';
 
@@ -25,6 +26,16 @@ export function gaugeStudyRoutes(deps: AppDeps) {
       responses: { 200: json('`{ studies }`: summaries, newest first') },
       handle: async (_input, res) => {
         res.json({ studies: await listStudies(deps.db) });
+      },
+    }),
+    defineRoute({
+      method: 'get',
+      path: '/api/gauge-studies/operators',
+      access: ['engineer'],
+      summary: 'Operators who may be appraisers of a study (active operator accounts)',
+      responses: { 200: json('`{ operators }`: id and name, by name') },
+      handle: async (_input, res) => {
+        res.json({ operators: await operatorChoices(deps.db) });
       },
     }),
     defineRoute({
