@@ -44,7 +44,10 @@ async function main() {
   await eng.page.getByTestId('bias-chart').waitFor();
   await shot(eng.page, 'qualification-page-eol23', true);
   await eng.page.goto('/qualification/studies');
-  await eng.page.getByRole('button', { name: /fortnight close/ }).first().click();
+  await eng.page
+    .getByRole('button', { name: /fortnight close/ })
+    .first()
+    .click();
   await eng.page.getByTestId('study-charts').waitFor();
   await shot(eng.page, 'gauge-studies', true);
   await eng.page.getByLabel('Who are the appraisers?').selectOption('operator');
