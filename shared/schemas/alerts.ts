@@ -11,7 +11,7 @@ export const alertPointSchema = z.object({
 
 export const alertViewSchema = z.object({
   id: z.string(),
-  chart: z.enum(['imr', 'ewma']),
+  chart: z.enum(['imr', 'ewma', 'qualification']),
   chartLabel: z.string(),
   stationId: z.string(),
   station: z.string(),

@@ -20,11 +20,52 @@ export const createReferenceUnitSchema = z.object({
 });
 export type CreateReferenceUnit = z.infer<typeof createReferenceUnitSchema>;
 
-export const certifyReferenceUnitSchema = z.object({
-  stationId: z.uuid('Choose a station.'),
-  /** The latest this many readings of the unit at that station give the certified value. */
-  readings: z.number().int().min(2, 'Use at least 2 readings.').max(100, 'Use at most 100 readings.'),
+const certifyExclusion = z.object({
+  readingId: z.uuid(),
+  reason: z.string().trim().min(5, 'Say why the reading is left out (at least 5 characters).').max(300),
 });
+
+/**
+ * Certifying a reference unit from repeated readings at one station: either the readings the engineer
+ * chose (`readingIds`, with every reading left out named in `excluded` with a reason), or simply the
+ * latest `readings` of them.
+ */
+export const certifyReferenceUnitSchema = z
+  .object({
+    stationId: z.uuid('Choose a station.'),
+    readings: z
+      .number()
+      .int()
+      .min(2, 'Use at least 2 readings.')
+      .max(100, 'Use at most 100 readings.')
+      .optional(),
+    readingIds: z
+      .array(z.uuid())
+      .min(2, 'Choose at least 2 readings.')
+      .max(100, 'Use at most 100 readings.')
+      .optional(),
+    excluded: z.array(certifyExclusion).max(100).default([]),
+  })
+  .refine((c) => (c.readings === undefined) !== (c.readingIds === undefined), {
+    message: 'Either choose the readings or say how many of the latest to use, not both.',
+    path: ['readingIds'],
+  })
+  .refine((c) => !c.excluded.some((x) => c.readingIds?.includes(x.readingId)), {
+    message: 'A reading cannot be both chosen and left out.',
+    path: ['excluded'],
+  });
+export type CertifyReferenceUnit = z.input<typeof certifyReferenceUnitSchema>;
+
+const certifiedFromSchema = z.object({
+  stationId: z.string(),
+  n: z.number(),
+  sdDeg: z.number(),
+  expandedUncertaintyDeg: z.number(),
+  /** The readings the value was taken from (absent on values certified before readings could be chosen). */
+  readingIds: z.array(z.string()).optional(),
+  excluded: z.array(z.object({ readingId: z.string(), reason: z.string() })).optional(),
+});
+export type CertifiedFrom = z.infer<typeof certifiedFromSchema>;
 
 export const referenceUnitViewSchema = z.object({
   id: z.string(),
@@ -34,9 +75,7 @@ export const referenceUnitViewSchema = z.object({
   modelCode: z.string(),
   certifiedOffsetDeg: z.number().nullable(),
   toleranceDeg: z.number(),
-  certifiedFrom: z
-    .object({ stationId: z.string(), n: z.number(), sdDeg: z.number(), expandedUncertaintyDeg: z.number() })
-    .nullable(),
+  certifiedFrom: certifiedFromSchema.nullable(),
   retiredAt: z.string().nullable(),
 });
 export type ReferenceUnitView = z.infer<typeof referenceUnitViewSchema>;
@@ -62,7 +101,25 @@ export const plantShiftsSchema = z.object({
         startsAt: z.string().regex(/^([01]\d|2[0-3]):[0-5]\d$/, 'Give the start as HH:MM, e.g. 06:00.'),
       }),
     )
-    .max(12),
+    .max(12, 'At most 12 shifts.')
+    .superRefine((shifts, ctx) => {
+      // Two shifts starting at the same minute, or two of the same name, are a typing mistake.
+      shifts.forEach((s, i) => {
+        const earlier = shifts.slice(0, i);
+        if (earlier.some((e) => e.startsAt === s.startsAt))
+          ctx.addIssue({
+            code: 'custom',
+            path: [i, 'startsAt'],
+            message: `Two shifts start at ${s.startsAt}: give each shift its own start.`,
+          });
+        if (earlier.some((e) => e.name.trim().toLowerCase() === s.name.trim().toLowerCase()))
+          ctx.addIssue({
+            code: 'custom',
+            path: [i, 'name'],
+            message: `Two shifts are named "${s.name.trim()}": give each its own name.`,
+          });
+      });
+    }),
 });
 export type PlantShifts = z.infer<typeof plantShiftsSchema>;
 
@@ -209,4 +266,6 @@ export interface StudyNextStep {
   done: number;
   total: number;
   appraiserLabel: string;
+  /** Operator studies: the other appraisers who still have trials (whom to hand the station to next). */
+  waitingFor: string[];
 }

@@ -64,6 +64,7 @@ export const router = createBrowserRouter([
             children: [
               { index: true, lazy: () => import('./routes/qualification') },
               { path: 'studies', lazy: () => import('./routes/gauge-studies') },
+              { path: 'shifts', lazy: () => import('./routes/qualification-shifts') },
             ],
           },
           {

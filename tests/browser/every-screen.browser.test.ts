@@ -97,6 +97,9 @@ describe(
       await q.page.goto('/qualification/studies');
       await heading(q.page);
       await expectClean(q.page, '/qualification/studies');
+      await q.page.goto('/qualification/shifts');
+      await q.page.getByTestId('shift-rows').waitFor();
+      await expectClean(q.page, '/qualification/shifts');
       await q.page.goto('/admin/people');
       await q.page.getByTestId('not-allowed').waitFor();
       await expectClean(q.page, 'not allowed');

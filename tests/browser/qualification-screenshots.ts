@@ -44,9 +44,32 @@ async function main() {
   await eng.page.getByTestId('bias-chart').waitFor();
   await shot(eng.page, 'qualification-page-eol23', true);
   await eng.page.goto('/qualification/studies');
-  await eng.page.getByRole('button', { name: /fortnight close/ }).first().click();
+  await eng.page
+    .getByRole('button', { name: /fortnight close/ })
+    .first()
+    .click();
   await eng.page.getByTestId('study-charts').waitFor();
   await shot(eng.page, 'gauge-studies', true);
+  await eng.page.getByLabel('Who are the appraisers?').selectOption('operator');
+  await eng.page.getByLabel('Station where the operators measure').waitFor();
+  await eng.page.getByRole('form', { name: 'Design a gauge study' }).scrollIntoViewIfNeeded();
+  await shot(eng.page, 'gauge-studies-design-operators');
+  await eng.page.goto('/qualification/shifts');
+  await eng.page.getByTestId('shift-rows').waitFor();
+  await shot(eng.page, 'qualification-shifts', true);
+  // A duplicate start: the form says which field, before anything is sent.
+  await eng.page.getByLabel('Shift 2 starts at').fill('06:00');
+  await eng.page.getByRole('button', { name: 'Save the shifts' }).click();
+  await shot(eng.page, 'qualification-shifts-error', true);
+  await eng.page.goto('/qualification');
+  await eng.page.getByRole('button', { name: 'From readings…' }).first().click();
+  await eng.page.getByTestId('certify-figures').waitFor();
+  await eng.page.getByTestId('certify-panel').scrollIntoViewIfNeeded();
+  await shot(eng.page, 'qualification-certify');
+  await eng.page.goto('/analysis');
+  await eng.page.getByTestId('bias-chart').waitFor({ timeout: 30_000 });
+  await eng.page.getByTestId('bias-chart').scrollIntoViewIfNeeded();
+  await shot(eng.page, 'analysis-station-bias');
   await eng.context.close();
   await browser.close();
 }

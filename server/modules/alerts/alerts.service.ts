@@ -1,4 +1,4 @@
-import { and, desc, eq, inArray, sql } from 'drizzle-orm';
+import { and, desc, eq, inArray, ne, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
@@ -82,7 +82,13 @@ export async function watchStationModel(
       const charts = await tx
         .select()
         .from(watchedCharts)
-        .where(and(eq(watchedCharts.stationId, key.stationId), eq(watchedCharts.modelId, key.modelId)))
+        .where(
+          and(
+            eq(watchedCharts.stationId, key.stationId),
+            eq(watchedCharts.modelId, key.modelId),
+            ne(watchedCharts.kind, 'qualification'),
+          ),
+        )
         .orderBy(watchedCharts.kind)
         .for('update');
       // Every chart of the pair moves together; the oldest cursor decides where to read from.
@@ -115,7 +121,8 @@ export async function watchStationModel(
           const step = watchStep(
             state,
             {
-              kind: chart.kind,
+              // The query above leaves out the 'qualification' anchor rows.
+              kind: chart.kind as 'imr' | 'ewma',
               ruleSet: chart.ruleSet as 'western-electric' | 'nelson',
               rules: chart.rules,
               lambda: chart.lambda ?? 0.2,
@@ -229,6 +236,43 @@ async function mailSubscribers(deps: WatchDeps, raised: RaisedAlert[]) {
   }
 }
 
+/**
+ * Opens (or extends) the alert of a station × model's reference-unit readings: a failed qualification.
+ * The qualification module calls it; the chart row of kind 'qualification' only anchors the alert (the
+ * watch loop leaves it alone). The point is the reading: the reference unit and its deviation.
+ */
+export async function raiseQualificationAlert(
+  db: DbOrTx,
+  input: { stationId: string; modelId: string; ruleText: string; point: AlertPoint; at: Date },
+): Promise<string | null> {
+  await db
+    .insert(watchedCharts)
+    .values({
+      stationId: input.stationId,
+      modelId: input.modelId,
+      kind: 'qualification',
+      ruleSet: 'qualification',
+      rules: [1],
+      lambda: null,
+      limitWidth: null,
+      state: initialWatchState(),
+      createdAt: input.at,
+      updatedAt: input.at,
+    })
+    .onConflictDoNothing();
+  const [chart] = await db
+    .select({ id: watchedCharts.id })
+    .from(watchedCharts)
+    .where(
+      and(
+        eq(watchedCharts.stationId, input.stationId),
+        eq(watchedCharts.modelId, input.modelId),
+        eq(watchedCharts.kind, 'qualification'),
+      ),
+    );
+  return recordHit(db, chart.id, { rule: 1, ruleText: input.ruleText, points: [input.point] }, input.at);
+}
+
 export async function listAlerts(
   db: DbOrTx,
   q: { status: 'open' | 'acknowledged' | 'all'; stationId?: string; limit: number },
@@ -259,7 +303,12 @@ export async function listAlerts(
   return rows.map((r) => ({
     id: r.alert.id,
     chart: r.kind,
-    chartLabel: r.kind === 'ewma' ? 'EWMA of the offset' : 'Individuals chart of the offset',
+    chartLabel:
+      r.kind === 'ewma'
+        ? 'EWMA of the offset'
+        : r.kind === 'qualification'
+          ? 'Reference-unit qualification'
+          : 'Individuals chart of the offset',
     stationId: r.stationId,
     station: names.get(r.stationId)!,
     modelId: r.modelId,

@@ -16,7 +16,8 @@ import { stations } from '../stations/stations.table';
 import { users } from '../users/users.table';
 import type { WatchState } from './alerts.watch';
 
-export const watchedChartKindEnum = pgEnum('watched_chart_kind', ['imr', 'ewma']);
+/** 'qualification': the station's reference-unit readings (alerts raised by the qualification module, not watched here). */
+export const watchedChartKindEnum = pgEnum('watched_chart_kind', ['imr', 'ewma', 'qualification']);
 
 /**
  * A chart watched after every calibration: one station × one model, either individuals (with run rules) or

@@ -190,6 +190,19 @@ export async function storedMeasurement(db: DbOrTx, measurementId: string) {
   return row;
 }
 
+/**
+ * Whether a measurement with this idempotency key is already stored (any station): a repeated post gets
+ * its stored answer (or the 409 of a conflicting key) before the qualification gate is asked.
+ */
+export async function measurementIdTaken(pool: pg.Pool, measurementId: string): Promise<boolean> {
+  const { rows } = await pool.query<{ taken: boolean }>(
+    prepared('select exists (select 1 from measurements where measurement_id = $1) as taken', [
+      measurementId,
+    ]),
+  );
+  return rows[0].taken;
+}
+
 /** Production measurements a station has posted since an instant (qualification counts units by this). */
 export async function countStationMeasurementsSince(
   pool: pg.Pool,

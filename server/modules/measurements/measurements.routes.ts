@@ -10,6 +10,7 @@ import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/
 import { serialSchema } from '../../../shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
 import { assertProductionAllowed } from '../qualification/qualification.service';
+import { measurementIdTaken } from './measurements.repository';
 import { notifyLineEvent } from '../events/event-hub';
 import multer from 'multer';
 import { AppError } from '../../lib/errors';
@@ -41,6 +42,13 @@ export function measurementsRoutes(deps: AppDeps) {
   const ctx: LineContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
   // A station whose qualification is overdue or failed is refused (423) before anything is stored.
   const gate = { db: deps.db, pool: deps.pool, clock: deps.clock, timeZone: deps.env.PLANT_TIME_ZONE };
+  // Idempotency comes first: a post repeating a stored measurement gets its stored answer even while the
+  // station is locked (the station lost the first answer, not the right to it); a new one meets the gate.
+  const gateNew = async (stationId: string, measurementId: unknown, serial: unknown) => {
+    const id = measurementIdSchema.safeParse(measurementId).data;
+    if (id && (await measurementIdTaken(deps.pool, id))) return;
+    await assertProductionAllowed(gate, stationId, measurementSchema.shape.serial.safeParse(serial).data);
+  };
   return [
     defineRoute({
       method: 'post',
@@ -49,11 +57,7 @@ export function measurementsRoutes(deps: AppDeps) {
       summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
       serviceParsedBody: measurementSchema,
       handle: async ({ caller }, res, req) => {
-        await assertProductionAllowed(
-          gate,
-          caller.station.stationId,
-          measurementSchema.shape.serial.safeParse(req.body?.serial).data,
-        );
+        await gateNew(caller.station.stationId, req.body?.measurementId, req.body?.serial);
         const accepted = await acceptMeasurement(ctx, caller.station, req.body, { raw: req.rawBody });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
@@ -77,7 +81,7 @@ export function measurementsRoutes(deps: AppDeps) {
       before: [captureUpload.single('capture')],
       request: { body: captureFields },
       handle: async ({ body: fields, caller }, res, req) => {
-        await assertProductionAllowed(gate, caller.station.stationId, fields.serial);
+        await gateNew(caller.station.stationId, fields.measurementId, fields.serial);
         if (!req.file)
           throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
         // The bytes are parsed as they are; the text is made only for a capture worth storing.

@@ -4,7 +4,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
-import { createStation, createStationKey } from '../stations/stations.service';
+import { attendStation, createStation, createStationKey } from '../stations/stations.service';
+import { insertUser, listUsers } from '../users/users.repository';
 import { planRunOrder } from './gauge-studies.service';
 
 let t: TestApp;
@@ -196,5 +197,118 @@ describe('a spoiled trial', () => {
     const res = await postTrial(line.key, { measurement: m });
     expect(res.status).toBe(422);
     expect(res.body.error.code).toBe('gauge_studies.not_part');
+  });
+});
+
+describe('a gauge study whose appraisers are operators at one station', () => {
+  it('guides whoever is signed in at the station, hands over to the next operator, and gives results per operator', async () => {
+    const olga = (await listUsers(t.deps.db)).find((u) => u.username === 'olga.operator')!;
+    const otto = await insertUser(t.deps.db, {
+      username: 'otto.operator',
+      displayName: 'Otto Operator',
+      role: 'operator',
+    });
+    const choices = await request(t.app).get('/api/gauge-studies/operators').set('Cookie', engineer);
+    expect(choices.status).toBe(200);
+    expect(choices.body.operators.map((o: { name: string }) => o.name)).toEqual(
+      expect.arrayContaining([olga.displayName, 'Otto Operator']),
+    );
+    const withoutStation = await request(t.app)
+      .post('/api/gauge-studies')
+      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .send({
+        name: 'Two operators, one rig',
+        modelId: line.model.id,
+        appraiserKind: 'operator',
+        appraiserIds: [olga.id, otto.id],
+        partSerials: PARTS,
+        trials: 2,
+        toleranceDeg: 2,
+      });
+    expect(withoutStation.status).toBe(422);
+    expect(withoutStation.body.error.message).toMatch(/Choose the station where the operators measure/);
+    const created = await request(t.app)
+      .post('/api/gauge-studies')
+      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .send({
+        name: 'Two operators, one rig',
+        modelId: line.model.id,
+        appraiserKind: 'operator',
+        appraiserIds: [olga.id, otto.id],
+        stationId: second.id,
+        partSerials: PARTS,
+        trials: 2,
+        toleranceDeg: 2,
+        seed: 9,
+      });
+    expect(created.status).toBe(201);
+    studyId = created.body.study.id;
+    expect(created.body.study.appraisers.map((a: { name: string }) => a.name)).toEqual([
+      olga.displayName,
+      'Otto Operator',
+    ]);
+    const stepHere = async () =>
+      (
+        (await request(t.app).get('/api/station/gauge-studies/next').set('X-Station-Key', second.key)).body
+          .steps as {
+          studyId: string;
+          serial: string | null;
+          trial: number | null;
+          appraiserLabel: string;
+          waitingFor: string[];
+        }[]
+      ).find((s) => s.studyId === studyId);
+    // Nobody signed in: the station shows the study and whom it waits for, and takes no trial.
+    const idle = await stepHere();
+    expect(idle).toMatchObject({ serial: null, waitingFor: [olga.displayName, 'Otto Operator'] });
+    const m0 = simulatedMeasurement(line.recipe.body, PARTS[0], { offsetDeg: 1, seed: 500 });
+    const refused = await postTrial(second.key, { measurement: m0 });
+    expect(refused.status).toBe(409);
+    expect(refused.body.error.code).toBe('gauge_studies.not_appraiser');
+    // The study's station only: the other station is not where these operators measure.
+    await attendStation(t.deps.db, { ...olga, role: 'operator' }, line.station.id, new Date());
+    expect((await postTrial(line.key, { measurement: m0 })).status).toBe(409);
+    let seed = 600;
+    for (const person of [olga, otto]) {
+      await attendStation(t.deps.db, { ...person, role: 'operator' }, second.id, new Date());
+      for (;;) {
+        const step = await stepHere();
+        if (!step?.serial) {
+          // Done: the station names who measured (a finished study leaves the guide altogether).
+          if (step) expect(step.appraiserLabel).toBe(person.displayName);
+          break;
+        }
+        const m = simulatedMeasurement(line.recipe.body, step.serial, {
+          offsetDeg: TRUE_OFFSET[step.serial],
+          seed: seed++,
+        });
+        const res = await postTrial(second.key, { measurement: m });
+        expect(res.status).toBe(201);
+        expect(res.body.reading).toMatchObject({ serial: step.serial, trial: step.trial });
+      }
+      if (person === olga) expect((await stepHere())?.waitingFor).toEqual(['Otto Operator']);
+    }
+    const detail = (await request(t.app).get(`/api/gauge-studies/${studyId}`).set('Cookie', engineer)).body
+      .study;
+    expect(detail.status).toBe('finished');
+    // data[part][appraiser][trial]: two operators, two trials each.
+    expect(detail.results.data.map((p: number[][]) => p.map((a) => a.length))).toEqual([
+      [2, 2],
+      [2, 2],
+      [2, 2],
+    ]);
+    expect(detail.results.reading.reading).toBe('acceptable');
+    const rows = (
+      await t.database.pool.query(
+        'select distinct appraiser, operator_id from gauge_study_measurements where study_id = $1 order by appraiser',
+        [studyId],
+      )
+    ).rows;
+    expect(rows).toEqual([
+      { appraiser: 0, operator_id: olga.id },
+      { appraiser: 1, operator_id: otto.id },
+    ]);
   });
 });

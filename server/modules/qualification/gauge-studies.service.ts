@@ -8,7 +8,7 @@ import { findStation, stationNamesByIds } from '../stations/stations.service';
 import { findUnitBySerial, serialsByIds } from '../units/units.service';
 import { qualificationErrors } from './qualification.errors';
 import { computeReading } from './reading-engine';
-import { displayNamesByIds, findUserById } from '../users/users.repository';
+import { displayNamesByIds, findUserById, listUsers } from '../users/users.repository';
 import { createRng } from '../../../shared/simulation/rng';
 import {
   gaugeAnova,
@@ -17,7 +17,7 @@ import {
   type GaugeAnovaResult,
   type GaugeRangeResult,
 } from '../../../shared/statistics/gauge-study';
-import { measurementSchema } from '../../../shared/schemas/measurement';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import type { GaugeStudyCreate } from '../../../shared/schemas/qualification';
 import {
   gaugeStudies,
@@ -184,6 +184,19 @@ export interface StudyNextStep {
   done: number;
   total: number;
   appraiserLabel: string;
+  /**
+   * Operator studies: the appraisers who still have trials and are not the one signed in at the station
+   * (the hand-over: "next, sign in as …"). Empty for station studies.
+   */
+  waitingFor: string[];
+}
+
+/** Operators who may be appraisers of a study (active operator accounts), by name. */
+export async function operatorChoices(db: DbOrTx): Promise<{ id: string; name: string }[]> {
+  return (await listUsers(db))
+    .filter((u) => u.role === 'operator' && !u.disabled)
+    .map((u) => ({ id: u.id, name: u.displayName }))
+    .sort((a, b) => a.name.localeCompare(b.name));
 }
 
 /** The next step of the run order for the appraiser at a station, in every open study it takes part in. */
@@ -196,17 +209,33 @@ export async function nextStepsAt(db: DbOrTx, stationId: string): Promise<StudyN
   const out: StudyNextStep[] = [];
   for (const study of open) {
     const appraiser = await appraiserAt(db, study, stationId);
-    if (appraiser < 0) continue;
+    // An operator study at this station shows even when nobody (or someone else) is signed in: it says
+    // whom the station is waiting for.
+    const operatorStudyHere = study.appraiserKind === 'operator' && study.stationId === stationId;
+    if (appraiser < 0 && !operatorStudyHere) continue;
     const { latest } = await latestReadings(db, study.id);
-    const mine = study.runOrder.filter((s) => s.appraiser === appraiser);
-    const next = mine.find((s) => !latest.has(`${s.part}:${s.appraiser}:${s.trial}`)) ?? null;
+    const has = (s: GaugeRunStep) => latest.has(`${s.part}:${s.appraiser}:${s.trial}`);
+    const pending = (a: number) => study.runOrder.some((s) => s.appraiser === a && !has(s));
+    const names =
+      study.appraiserKind === 'station'
+        ? await stationNamesByIds(db, [stationId])
+        : await displayNamesByIds(db, study.appraiserIds);
+    const waitingFor =
+      study.appraiserKind === 'operator'
+        ? study.appraiserIds
+            .map((id, a) => ({ id, a }))
+            .filter(({ a }) => a !== appraiser && pending(a))
+            .map(({ id }) => names.get(id) ?? '?')
+        : [];
+    const mine = appraiser < 0 ? [] : study.runOrder.filter((s) => s.appraiser === appraiser);
+    const next = mine.find((s) => !has(s)) ?? null;
     const serials = await serialsOf(db, study);
     const label =
-      study.appraiserKind === 'station'
-        ? ((await stationNamesByIds(db, [stationId])).get(stationId) ?? '?')
-        : ((await displayNamesByIds(db, [study.appraiserIds[appraiser]])).get(
-            study.appraiserIds[appraiser],
-          ) ?? '?');
+      appraiser < 0
+        ? "the operator signed in here (not one of this study's appraisers)"
+        : study.appraiserKind === 'station'
+          ? (names.get(stationId) ?? '?')
+          : (names.get(study.appraiserIds[appraiser]) ?? '?');
     out.push({
       studyId: study.id,
       studyName: study.name,
@@ -214,11 +243,12 @@ export async function nextStepsAt(db: DbOrTx, stationId: string): Promise<StudyN
       part: next ? next.part + 1 : null,
       trial: next?.trial ?? null,
       trials: study.trials,
-      doneByAppraiser: mine.filter((s) => latest.has(`${s.part}:${s.appraiser}:${s.trial}`)).length,
+      doneByAppraiser: mine.filter(has).length,
       totalByAppraiser: mine.length,
       done: latest.size,
       total: study.runOrder.length,
       appraiserLabel: label,
+      waitingFor,
     });
   }
   return out;
@@ -240,9 +270,9 @@ export async function acceptStudyReading(
   clock: () => Date,
   station: StationPrincipal,
   studyId: string,
-  body: { measurement: unknown; repeatReason?: string; trial?: number },
+  body: { measurement: Measurement; repeatReason?: string; trial?: number },
 ) {
-  const measurement = measurementSchema.parse(body.measurement);
+  const { measurement } = body;
   const study = await studyRow(db, studyId);
   const [existing] = await db
     .select()

@@ -31,6 +31,12 @@ export const qualificationErrors = {
       'qualification.not_enough_readings',
       `Only ${have} reading${have === 1 ? '' : 's'} of this unit at that station; ${want} were asked for. Measure it again first.`,
     ),
+  readingNotOfUnit: () =>
+    new AppError(
+      422,
+      'qualification.reading_not_of_unit',
+      'Every chosen or left-out reading must be a reading of this reference unit at the chosen station.',
+    ),
   referenceOfOtherStation: () =>
     new AppError(
       422,

@@ -11,6 +11,8 @@ let engineer: string;
 let operator: string;
 let refId: string;
 let certifiedDeg: number;
+/** The first production unit the station measured once qualified (repeated while it is locked). */
+let firstProduction: ReturnType<typeof simulatedMeasurement>;
 
 const T0 = new Date('2026-03-02T08:00:00Z');
 const minutes = (n: number) => new Date(T0.getTime() + n * 60_000);
@@ -149,7 +151,8 @@ describe('qualification lockout', () => {
       ),
     ).toBe(0);
     t.setNow(minutes(1));
-    expect((await postProduction(simulatedMeasurement(line.recipe.body, 'SN-Q-OK-1'))).status).toBe(202);
+    firstProduction = simulatedMeasurement(line.recipe.body, 'SN-Q-OK-1');
+    expect((await postProduction(firstProduction)).status).toBe(202);
   });
 
   it('answers a repeated reading with the stored one and stores nothing new', async () => {
@@ -181,6 +184,28 @@ describe('qualification lockout', () => {
     expect(late.body.error.message).toMatch(/ran out at 12:10/);
   });
 
+  it('while locked, a repeat of a stored production measurement gets its stored answer; a new one is refused and stores nothing', async () => {
+    // Still 12:10 + : the time limit ran out and the station is locked.
+    const before = await count('measurements');
+    const calsBefore = await count('calibrations');
+    const again = await postProduction(firstProduction);
+    expect([200, 202]).toContain(again.status);
+    expect(again.body).toMatchObject({
+      measurementId: firstProduction.measurementId,
+      serial: 'SN-Q-OK-1',
+      repeated: true,
+    });
+    // The same key with another body is still the usual conflict, never a way around the lock.
+    const reused = await postProduction({ ...firstProduction, serial: 'SN-Q-REUSED' });
+    expect(reused.status).toBe(409);
+    expect(reused.body.error.code).toBe('measurements.id_conflict');
+    const fresh = await postProduction(simulatedMeasurement(line.recipe.body, 'SN-Q-NEW-WHILE-LOCKED'));
+    expect(fresh.status).toBe(423);
+    expect(await count('measurements')).toBe(before);
+    expect(await count('calibrations')).toBe(calsBefore);
+    expect(await count('units', `serial in ('SN-Q-REUSED', 'SN-Q-NEW-WHILE-LOCKED')`)).toBe(0);
+  });
+
   it('when the reference unit reads out of tolerance, then the station is locked as failed and engineers get an e-mail', async () => {
     t.setNow(minutes(5 * 60));
     const res = await postReading(
@@ -194,6 +219,20 @@ describe('qualification lockout', () => {
     expect(refused.body.error.code).toBe('qualification.failed');
     const mail = t.mail.messages().filter((m) => m.to.includes('evan.engineer@corvane.example'));
     expect(mail.some((m) => /EOL-Q1 failed its qualification/.test(m.subject))).toBe(true);
+    // …and an alert in the engineers' list, naming the reference unit and the reading.
+    const alerts = await request(t.app).get('/api/alerts').set('Cookie', engineer);
+    expect(alerts.status).toBe(200);
+    const raised = alerts.body.alerts.filter(
+      (a: { chart: string; station: string }) => a.chart === 'qualification' && a.station === 'EOL-Q1',
+    );
+    expect(raised).toHaveLength(1);
+    expect(raised[0]).toMatchObject({
+      model: 'QM-40',
+      status: 'open',
+      chartLabel: 'Reference-unit qualification',
+    });
+    expect(raised[0].ruleText).toMatch(/^Reference unit R-QM-01 read \+\d\.\d\d° from its certified value/);
+    expect(raised[0].points[0]).toMatchObject({ serial: 'R-QM-01', calibrationId: res.body.run.id });
   });
 
   it('lets an engineer lift the lock for a limited time with a reason (audited), and locks again when it expires', async () => {
@@ -266,5 +305,115 @@ describe('qualification lockout', () => {
     const owner = t.database.pool;
     await expect(owner.query(`update qualification_runs set offset_deg = 0`)).rejects.toThrow();
     await expect(owner.query(`delete from qualification_overrides`)).rejects.toThrow();
+  });
+});
+
+describe('certifying a reference unit from chosen readings', () => {
+  it('takes the mean and expanded uncertainty of the chosen readings, names each left out with a reason, and audits it', async () => {
+    const listed = await request(t.app)
+      .get(`/api/qualification/reference-units/${refId}/readings?stationId=${line.station.id}`)
+      .set('Cookie', engineer);
+    expect(listed.status).toBe(200);
+    const readings: { id: string; offsetDeg: number; verdict: string }[] = listed.body.readings;
+    const failed = readings.find((r) => r.verdict === 'fail')!;
+    const chosen = readings.filter((r) => r.verdict !== 'fail');
+    const missingReason = await request(t.app)
+      .post(`/api/qualification/reference-units/${refId}/certify`)
+      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .send({
+        stationId: line.station.id,
+        readingIds: chosen.map((r) => r.id),
+        excluded: [{ readingId: failed.id, reason: '' }],
+      });
+    expect(missingReason.status).toBe(400);
+    const res = await request(t.app)
+      .post(`/api/qualification/reference-units/${refId}/certify`)
+      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .send({
+        stationId: line.station.id,
+        readingIds: chosen.map((r) => r.id),
+        excluded: [{ readingId: failed.id, reason: 'Unit seated crooked in the fixture' }],
+      });
+    expect(res.status).toBe(200);
+    // Mean and 2·s/√n of the chosen values (GUM, JCGM 100:2008, type A with k = 2), computed here directly.
+    const values = chosen.map((r) => r.offsetDeg);
+    const mean = values.reduce((a, v) => a + v, 0) / values.length;
+    const sd = Math.sqrt(values.reduce((a, v) => a + (v - mean) ** 2, 0) / (values.length - 1));
+    expect(res.body.referenceUnit.certifiedOffsetDeg).toBeCloseTo(mean, 10);
+    expect(res.body.referenceUnit.certifiedFrom).toMatchObject({
+      n: values.length,
+      readingIds: chosen.map((r) => r.id),
+      excluded: [{ readingId: failed.id, reason: 'Unit seated crooked in the fixture' }],
+    });
+    expect(res.body.referenceUnit.certifiedFrom.expandedUncertaintyDeg).toBeCloseTo(
+      (2 * sd) / Math.sqrt(values.length),
+      10,
+    );
+    expect(
+      await count(
+        'audit_log',
+        `action = 'qualification.reference_certified' and reason like '%Unit seated crooked in the fixture'`,
+      ),
+    ).toBe(1);
+  });
+
+  it('refuses a reading of another station or unit, and an operator', async () => {
+    const bogus = await request(t.app)
+      .post(`/api/qualification/reference-units/${refId}/certify`)
+      .set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .send({ stationId: line.station.id, readingIds: [refId, line.station.id] });
+    expect(bogus.status).toBe(422);
+    expect(bogus.body.error.code).toBe('qualification.reading_not_of_unit');
+    const denied = await request(t.app)
+      .post(`/api/qualification/reference-units/${refId}/certify`)
+      .set('Cookie', operator)
+      .set('Origin', TEST_ORIGIN)
+      .send({ stationId: line.station.id, readings: 2 });
+    expect(denied.status).toBe(403);
+  });
+});
+
+describe('plant shifts', () => {
+  const putShifts = (cookie: string, body: unknown) =>
+    request(t.app)
+      .put('/api/qualification/shifts')
+      .set('Cookie', cookie)
+      .set('Origin', TEST_ORIGIN)
+      .send(body as object);
+
+  it('refuses two shifts at the same start or of the same name, and a malformed time, saying which', async () => {
+    const res = await putShifts(engineer, {
+      shifts: [
+        { name: 'Early', startsAt: '06:00' },
+        { name: 'early', startsAt: '06:00' },
+        { name: 'Night', startsAt: '25:00' },
+      ],
+    });
+    expect(res.status).toBe(400);
+    const issues: { path: string; message: string }[] = res.body.error.issues;
+    expect(issues.map((i) => i.path).sort()).toEqual([
+      'shifts.1.name',
+      'shifts.1.startsAt',
+      'shifts.2.startsAt',
+    ]);
+    expect(issues.find((i) => i.path === 'shifts.1.startsAt')!.message).toMatch(/Two shifts start at 06:00/);
+  });
+
+  it('are replaced by an engineer (audited, sorted by start) and refused to an operator', async () => {
+    const res = await putShifts(engineer, {
+      shifts: [
+        { name: 'Night', startsAt: '22:00' },
+        { name: 'Early', startsAt: '06:00' },
+        { name: 'Late', startsAt: '14:00' },
+      ],
+    });
+    expect(res.status).toBe(200);
+    expect(res.body.shifts.map((s: { name: string }) => s.name)).toEqual(['Early', 'Late', 'Night']);
+    expect(res.body.timeZone).toBeTruthy();
+    expect(await count('audit_log', `action = 'qualification.shifts_set'`)).toBe(2);
+    expect((await putShifts(operator, { shifts: [] })).status).toBe(403);
   });
 });

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { route, sendPdf } from '../../lib/http';
+import { defineRoute, sendPdf } from '../../lib/http';
 import {
   biasQuerySchema,
   certifyReferenceUnitSchema,
@@ -9,6 +9,9 @@ import {
   plantShiftsSchema,
   qualificationMeasurementSchema,
   qualificationPolicySchema,
+  qualificationRunViewSchema,
+  qualificationStateSchema,
+  referenceUnitViewSchema,
 } from '../../../shared/schemas/qualification';
 import {
   acceptQualificationReading,
@@ -19,6 +22,7 @@ import {
   getShifts,
   grantOverride,
   listReferenceUnits,
+  referenceReadings,
   setPolicy,
   setShifts,
   stationQualification,
@@ -30,6 +34,21 @@ import { gaugeStudyRoutes } from './gauge-studies.routes';
 import { renderQualificationSlip } from './qualification.pdf';
 
 const idParams = z.object({ id: z.uuid() });
+const readingsQuery = z.object({ stationId: z.uuid('Choose a station.') });
+const pdf = (description: string) => ({ 200: { description, contentType: 'application/pdf' } });
+const readingsResponse = z.object({ readings: z.array(qualificationRunViewSchema) });
+const referenceResponse = z.object({ referenceUnit: referenceUnitViewSchema });
+const policyResponse = z.object({ policy: qualificationPolicySchema.nullable() });
+const shiftsResponse = plantShiftsSchema.extend({ timeZone: z.string() });
+const readingResponse = z.object({
+  run: qualificationRunViewSchema,
+  state: qualificationStateSchema,
+  repeated: z.boolean(),
+});
+const overrideResponse = z.object({
+  override: z.object({ id: z.string(), stationId: z.string(), reason: z.string(), expiresAt: z.string() }),
+});
+const ENGINEERS = ['engineer'] as const;
 
 export function qualificationDeps(deps: AppDeps): QualificationDeps {
   return {
@@ -52,144 +71,169 @@ export function qualificationRoutes(deps: AppDeps) {
   };
   return [
     ...gaugeStudyRoutes(deps),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/station/qualification-readings',
       access: 'station',
       summary:
         'Post a reading of a reference unit (the measurement contract); 201 with the verdict and the station state',
-      body: qualificationMeasurementSchema,
-      handler: async (req, res) => {
-        const out = await acceptQualificationReading(q, req.station!, req.body);
+      request: { body: qualificationMeasurementSchema },
+      responses: {
+        201: { description: 'The reading, its verdict and the station state', schema: readingResponse },
+        200: { description: 'A repeated post: the stored reading', schema: readingResponse },
+      },
+      handle: async ({ body, caller }, res) => {
+        const out = await acceptQualificationReading(q, caller.station, body);
         res.status(out.repeated ? 200 : 201).json(out);
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/station/qualification',
       access: 'station',
       summary: "This station's qualification state (whether production posts are accepted)",
-      handler: async (req, res) => {
-        res.json(await state(req.station!.stationId));
+      responses: { 200: { description: 'The state in words', schema: qualificationStateSchema } },
+      handle: async ({ caller }, res) => {
+        res.json(await state(caller.station.stationId));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations/:id/qualification',
       access: 'signed-in',
       summary: "A station's qualification state, in words",
-      handler: async (req, res) => {
-        res.json(await state(idParams.parse(req.params).id));
+      request: { params: idParams },
+      responses: { 200: { description: 'The state in words', schema: qualificationStateSchema } },
+      handle: async ({ params }, res) => {
+        res.json(await state(params.id));
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations/:id/qualification/readings',
       access: 'signed-in',
       summary: "A station's reference readings, oldest first (the bias chart)",
-      query: biasQuerySchema,
-      handler: async (req, res) => {
-        const { limit } = biasQuerySchema.parse(req.query);
-        res.json({ readings: await stationRuns(deps.db, idParams.parse(req.params).id, limit) });
+      request: { params: idParams, query: biasQuerySchema },
+      responses: { 200: { description: 'Readings, oldest first', schema: readingsResponse } },
+      handle: async ({ params, query }, res) => {
+        res.json({ readings: await stationRuns(deps.db, params.id, query.limit) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/qualification/readings/:id/slip.pdf',
       access: 'signed-in',
       summary: 'The qualification slip of one reference reading (PDF, printed on demand)',
-      handler: async (req, res) => {
-        const run = await findRun(deps.db, idParams.parse(req.params).id);
-        const pdf = await renderQualificationSlip(run, deps.env.PLANT_TIME_ZONE, deps.clock());
-        sendPdf(res, pdf, `qualification-${run.id}.pdf`);
+      request: { params: idParams },
+      responses: pdf('The slip'),
+      handle: async ({ params }, res) => {
+        const run = await findRun(deps.db, params.id);
+        const slip = await renderQualificationSlip(run, deps.env.PLANT_TIME_ZONE, deps.clock());
+        sendPdf(res, slip, `qualification-${run.id}.pdf`);
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/stations/:id/qualification/policy',
       access: 'signed-in',
       summary: "A station's qualification policy (null: never locked)",
-      handler: async (req, res) => {
-        res.json({ policy: await getPolicy(deps.db, idParams.parse(req.params).id) });
+      request: { params: idParams },
+      responses: { 200: { description: 'The policy or null', schema: policyResponse } },
+      handle: async ({ params }, res) => {
+        res.json({ policy: await getPolicy(deps.db, params.id) });
       },
     }),
-    route({
+    defineRoute({
       method: 'put',
       path: '/api/stations/:id/qualification/policy',
-      access: ['engineer'],
+      access: ENGINEERS,
       summary: "Set a station's qualification policy (audited)",
-      body: qualificationPolicySchema,
-      handler: async (req, res) => {
-        const policy = qualificationPolicySchema.parse(req.body);
-        res.json({
-          policy: await setPolicy(deps.db, req.user!, idParams.parse(req.params).id, policy, deps.clock()),
-        });
+      request: { params: idParams, body: qualificationPolicySchema },
+      responses: { 200: { description: 'The policy as saved', schema: policyResponse } },
+      handle: async ({ params, body, caller }, res) => {
+        res.json({ policy: await setPolicy(deps.db, caller.user, params.id, body, deps.clock()) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/stations/:id/qualification/override',
-      access: ['engineer'],
+      access: ENGINEERS,
       summary: "Lift a station's qualification lock for a limited time, with a reason (audited)",
-      body: overrideSchema,
-      handler: async (req, res) => {
-        const input = overrideSchema.parse(req.body);
-        res
-          .status(201)
-          .json({ override: await grantOverride(q, req.user!, idParams.parse(req.params).id, input) });
+      request: { params: idParams, body: overrideSchema },
+      responses: { 201: { description: 'The lifted lock and when it returns', schema: overrideResponse } },
+      handle: async ({ params, body, caller }, res) => {
+        res.status(201).json({ override: await grantOverride(q, caller.user, params.id, body) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/qualification/reference-units',
       access: 'signed-in',
       summary: 'Reference units of every model',
-      handler: async (_req, res) => {
+      responses: {
+        200: {
+          description: 'Every reference unit',
+          schema: z.object({ referenceUnits: z.array(referenceUnitViewSchema) }),
+        },
+      },
+      handle: async (_input, res) => {
         res.json({ referenceUnits: await listReferenceUnits(deps.db) });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/qualification/reference-units',
-      access: ['engineer'],
+      access: ENGINEERS,
       summary:
         'Mark a registered unit as a reference unit, with its certified offset and tolerance (audited)',
-      body: createReferenceUnitSchema,
-      handler: async (req, res) => {
-        const input = createReferenceUnitSchema.parse(req.body);
-        res.status(201).json({ referenceUnit: await createReferenceUnit(deps.db, req.user!, input) });
+      request: { body: createReferenceUnitSchema },
+      responses: { 201: { description: 'The reference unit', schema: referenceResponse } },
+      handle: async ({ body, caller }, res) => {
+        res.status(201).json({ referenceUnit: await createReferenceUnit(deps.db, caller.user, body) });
       },
     }),
-    route({
+    defineRoute({
+      method: 'get',
+      path: '/api/qualification/reference-units/:id/readings',
+      access: 'signed-in',
+      summary: "A reference unit's readings at one station, newest first (to certify from)",
+      request: { params: idParams, query: readingsQuery },
+      responses: { 200: { description: 'Readings, newest first', schema: readingsResponse } },
+      handle: async ({ params, query }, res) => {
+        res.json({ readings: await referenceReadings(deps.db, params.id, query.stationId) });
+      },
+    }),
+    defineRoute({
       method: 'post',
       path: '/api/qualification/reference-units/:id/certify',
-      access: ['engineer'],
-      summary: "Set a reference unit's certified value from its latest readings at a station (audited)",
-      body: certifyReferenceUnitSchema,
-      handler: async (req, res) => {
-        const input = certifyReferenceUnitSchema.parse(req.body);
-        res.json({
-          referenceUnit: await certifyReferenceUnit(deps.db, req.user!, idParams.parse(req.params).id, input),
-        });
+      access: ENGINEERS,
+      summary:
+        "Set a reference unit's certified value from chosen readings at a station (each one left out with a reason), or its latest N (audited)",
+      request: { params: idParams, body: certifyReferenceUnitSchema },
+      responses: { 200: { description: 'The reference unit as certified', schema: referenceResponse } },
+      handle: async ({ params, body, caller }, res) => {
+        res.json({ referenceUnit: await certifyReferenceUnit(deps.db, caller.user, params.id, body) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/qualification/shifts',
       access: 'signed-in',
       summary: "The plant's shift starts (local plant time)",
-      handler: async (_req, res) => {
+      responses: { 200: { description: 'Shifts by start time', schema: shiftsResponse } },
+      handle: async (_input, res) => {
         res.json({ ...(await getShifts(deps.db)), timeZone: deps.env.PLANT_TIME_ZONE });
       },
     }),
-    route({
+    defineRoute({
       method: 'put',
       path: '/api/qualification/shifts',
-      access: ['engineer'],
+      access: ENGINEERS,
       summary: "Replace the plant's shift starts (audited)",
-      body: plantShiftsSchema,
-      handler: async (req, res) => {
-        res.json(await setShifts(deps.db, req.user!, plantShiftsSchema.parse(req.body)));
+      request: { body: plantShiftsSchema },
+      responses: { 200: { description: 'The shifts as saved', schema: shiftsResponse } },
+      handle: async ({ body, caller }, res) => {
+        res.json({ ...(await setShifts(deps.db, caller.user, body)), timeZone: deps.env.PLANT_TIME_ZONE });
       },
     }),
   ];

@@ -5,6 +5,8 @@ import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import type { Logger } from '../../lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit } from '../audit/audit.repository';
+import { raiseQualificationAlert } from '../alerts/alerts.service';
+import { formatSignedDeg } from '../../../shared/wording';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation, stationNamesByIds } from '../stations/stations.service';
 import { findUnitBySerial } from '../units/units.service';
@@ -18,6 +20,8 @@ import {
 import { certifiedValue } from '../../../shared/statistics/gauge-study';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
 import type {
+  CertifiedFrom,
+  CertifyReferenceUnit,
   CreateReferenceUnit,
   PlantShifts,
   QualificationPolicy,
@@ -110,31 +114,52 @@ export async function createReferenceUnit(
 }
 
 /**
- * Sets a reference unit's certified value from its latest `readings` readings at one station: their
- * mean, with the expanded uncertainty 2·s/√n beside it (audited).
+ * Sets a reference unit's certified value from its readings at one station: the readings the engineer
+ * chose (each one left out named with a reason) or the latest N. The value is their mean, with the
+ * expanded uncertainty 2·s/√n beside it (audited, with the readings used and those left out).
  */
 export async function certifyReferenceUnit(
   db: Db,
   actor: SessionUser,
   id: string,
-  input: { stationId: string; readings: number },
+  input: CertifyReferenceUnit,
 ): Promise<ReferenceUnitView> {
   const [ref] = await db.select().from(referenceUnits).where(eq(referenceUnits.id, id));
   if (!ref) throw qualificationErrors.referenceNotFound();
-  const rows = await db
-    .select({ offsetDeg: qualificationRuns.offsetDeg })
-    .from(qualificationRuns)
-    .where(and(eq(qualificationRuns.referenceUnitId, id), eq(qualificationRuns.stationId, input.stationId)))
-    .orderBy(desc(qualificationRuns.measuredAt))
-    .limit(input.readings);
-  if (rows.length < input.readings) throw qualificationErrors.notEnoughReadings(rows.length, input.readings);
+  const atStation = and(
+    eq(qualificationRuns.referenceUnitId, id),
+    eq(qualificationRuns.stationId, input.stationId),
+  );
+  const excluded = input.excluded ?? [];
+  let rows: { id: string; offsetDeg: number }[];
+  if (input.readingIds) {
+    const wanted = [...new Set([...input.readingIds, ...excluded.map((x) => x.readingId)])];
+    const found = await db
+      .select({ id: qualificationRuns.id, offsetDeg: qualificationRuns.offsetDeg })
+      .from(qualificationRuns)
+      .where(and(atStation, inArray(qualificationRuns.id, wanted)));
+    if (found.length !== wanted.length) throw qualificationErrors.readingNotOfUnit();
+    const byId = new Map(found.map((r) => [r.id, r]));
+    rows = input.readingIds.map((rid) => byId.get(rid)!);
+  } else {
+    const want = input.readings ?? 0;
+    rows = await db
+      .select({ id: qualificationRuns.id, offsetDeg: qualificationRuns.offsetDeg })
+      .from(qualificationRuns)
+      .where(atStation)
+      .orderBy(desc(qualificationRuns.measuredAt))
+      .limit(want);
+    if (rows.length < want) throw qualificationErrors.notEnoughReadings(rows.length, want);
+  }
   const c = certifiedValue(rows.map((r) => r.offsetDeg));
   return db.transaction(async (tx) => {
-    const certifiedFrom = {
+    const certifiedFrom: CertifiedFrom = {
       stationId: input.stationId,
       n: c.n,
       sdDeg: c.sd,
       expandedUncertaintyDeg: c.expandedUncertainty,
+      readingIds: rows.map((r) => r.id),
+      excluded: excluded.map((x) => ({ readingId: x.readingId, reason: x.reason })),
     };
     const [row] = await tx
       .update(referenceUnits)
@@ -147,11 +172,32 @@ export async function certifyReferenceUnit(
       action: 'qualification.reference_certified',
       subjectType: 'unit',
       subjectId: ref.unitId,
-      before: { certifiedOffsetDeg: ref.certifiedOffsetDeg },
+      reason: excluded.length
+        ? excluded.map((x) => `left out ${x.readingId}: ${x.reason}`).join('; ')
+        : undefined,
+      before: { certifiedOffsetDeg: ref.certifiedOffsetDeg, certifiedFrom: ref.certifiedFrom },
       after: { certifiedOffsetDeg: c.mean, ...certifiedFrom },
     });
     return (await referenceViews(tx, [row]))[0];
   });
+}
+
+/** A reference unit's readings at one station, newest first (what an engineer certifies from). */
+export async function referenceReadings(
+  db: DbOrTx,
+  id: string,
+  stationId: string,
+): Promise<QualificationRunView[]> {
+  const [ref] = await db.select().from(referenceUnits).where(eq(referenceUnits.id, id));
+  if (!ref) throw qualificationErrors.referenceNotFound();
+  const rows = await db
+    .select()
+    .from(qualificationRuns)
+    .where(and(eq(qualificationRuns.referenceUnitId, id), eq(qualificationRuns.stationId, stationId)))
+    .orderBy(desc(qualificationRuns.measuredAt))
+    .limit(100);
+  const names = await stationNamesByIds(db, [stationId]);
+  return rows.map((r) => runViewWith(r, names.get(r.stationId) ?? '?'));
 }
 
 // ---------------------------------------------------------------------------------------------------
@@ -394,9 +440,8 @@ export async function grantOverride(
 export async function acceptQualificationReading(
   deps: QualificationDeps,
   station: StationPrincipal,
-  body: unknown,
+  measurement: Measurement,
 ): Promise<{ run: QualificationRunView; state: QualificationState; repeated: boolean }> {
-  const measurement: Measurement = measurementSchema.parse(body);
   const [existing] = await deps.db
     .select()
     .from(qualificationRuns)
@@ -436,28 +481,47 @@ export async function acceptQualificationReading(
       : Math.abs(deviationDeg) <= ref.toleranceDeg && result.verdict === 'pass'
         ? 'pass'
         : 'fail';
-  const [row] = await deps.db
-    .insert(qualificationRuns)
-    .values({
-      measurementId: measurement.measurementId,
-      stationId: station.stationId,
-      referenceUnitId: ref.id,
-      serial: unit.serial,
-      recipeId: recipe.id,
-      engineVersion: ENGINE_VERSION,
-      payload: measurement,
-      verdict,
-      offsetDeg,
-      certifiedOffsetDeg: certified,
-      toleranceDeg: ref.toleranceDeg,
-      deviationDeg,
-      result: stored as object,
-      operatorId: stationRow.attendedBy,
-      measuredAt: deps.clock(),
-    })
-    .onConflictDoNothing()
-    .returning();
-  if (!row) return acceptQualificationReading(deps, station, body);
+  const row = await deps.db.transaction(async (tx) => {
+    const [inserted] = await tx
+      .insert(qualificationRuns)
+      .values({
+        measurementId: measurement.measurementId,
+        stationId: station.stationId,
+        referenceUnitId: ref.id,
+        serial: unit.serial,
+        recipeId: recipe.id,
+        engineVersion: ENGINE_VERSION,
+        payload: measurement,
+        verdict,
+        offsetDeg,
+        certifiedOffsetDeg: certified,
+        toleranceDeg: ref.toleranceDeg,
+        deviationDeg,
+        result: stored as object,
+        operatorId: stationRow.attendedBy,
+        measuredAt: deps.clock(),
+      })
+      .onConflictDoNothing()
+      .returning();
+    // A failure is an alert in the engineers' list as well as an e-mail; both or neither with the reading.
+    if (inserted?.verdict === 'fail') {
+      await raiseQualificationAlert(tx, {
+        stationId: station.stationId,
+        modelId: ref.modelId,
+        ruleText: `Reference unit ${unit.serial} read ${formatSignedDeg(inserted.deviationDeg ?? 0, 2)} from its certified value (allowed ± ${ref.toleranceDeg.toFixed(2)}°): the station is locked`,
+        point: {
+          serial: unit.serial,
+          unitId: unit.id,
+          calibrationId: inserted.id,
+          value: inserted.offsetDeg,
+          at: inserted.measuredAt.toISOString(),
+        },
+        at: inserted.measuredAt,
+      });
+    }
+    return inserted;
+  });
+  if (!row) return acceptQualificationReading(deps, station, measurement);
   if (verdict === 'fail') await mailEngineersAboutFailure(deps, row, station.stationName);
   const { decision: _d, ...state } = await stationQualification(deps, station.stationId);
   return { run: await runView(deps.db, row), state, repeated: false };
@@ -496,11 +560,15 @@ async function mailEngineersAboutFailure(
 
 async function runView(db: DbOrTx, r: QualificationRunRecord): Promise<QualificationRunView> {
   const names = await stationNamesByIds(db, [r.stationId]);
+  return runViewWith(r, names.get(r.stationId) ?? '?');
+}
+
+function runViewWith(r: QualificationRunRecord, stationName: string): QualificationRunView {
   return {
     id: r.id,
     measurementId: r.measurementId,
     stationId: r.stationId,
-    stationName: names.get(r.stationId) ?? '?',
+    stationName,
     serial: r.serial,
     verdict: r.verdict,
     offsetDeg: r.offsetDeg,
@@ -524,19 +592,7 @@ export async function stationRuns(
     .orderBy(desc(qualificationRuns.measuredAt))
     .limit(limit);
   const names = await stationNamesByIds(db, [stationId]);
-  return rows.reverse().map((r) => ({
-    id: r.id,
-    measurementId: r.measurementId,
-    stationId: r.stationId,
-    stationName: names.get(r.stationId) ?? '?',
-    serial: r.serial,
-    verdict: r.verdict,
-    offsetDeg: r.offsetDeg,
-    certifiedOffsetDeg: r.certifiedOffsetDeg,
-    toleranceDeg: r.toleranceDeg,
-    deviationDeg: r.deviationDeg,
-    measuredAt: r.measuredAt.toISOString(),
-  }));
+  return rows.reverse().map((r) => runViewWith(r, names.get(r.stationId) ?? '?'));
 }
 
 export async function findRun(db: DbOrTx, id: string): Promise<QualificationRunView> {

@@ -11,6 +11,7 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core';
+import type { CertifiedFrom } from '../../../shared/schemas/qualification';
 import { models, recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
@@ -35,13 +36,8 @@ export const referenceUnits = pgTable(
       .references(() => models.id),
     certifiedOffsetDeg: doublePrecision(),
     toleranceDeg: doublePrecision().notNull(),
-    /** How the certified value was found: n readings on a station, their sd and expanded uncertainty (k = 2). */
-    certifiedFrom: jsonb().$type<{
-      stationId: string;
-      n: number;
-      sdDeg: number;
-      expandedUncertaintyDeg: number;
-    } | null>(),
+    /** How the certified value was found: the readings on a station (and those left out, with reasons), sd, expanded uncertainty (k = 2). */
+    certifiedFrom: jsonb().$type<CertifiedFrom | null>(),
     createdBy: uuid().references(() => users.id),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     retiredAt: timestamp({ withTimezone: true }),

@@ -17,10 +17,18 @@ export async function computeReading(db: DbOrTx, modelId: string, measurement: M
   const usable = validateCalibrationInput(measurement, recipe.body);
   if (!usable.ok) throw measurementErrors.unusable(usable.issues);
   const { result, stored } = runEngine(
-    { source: 'timings', payload: measurement, payloadRaw: null, measurementId: measurement.measurementId, serial },
+    {
+      source: 'timings',
+      payload: measurement,
+      payloadRaw: null,
+      measurementId: measurement.measurementId,
+      serial,
+    },
     recipe,
   );
   if (!result || result.offsetDeg === null)
-    throw measurementErrors.unusable([{ path: 'segments', message: 'the engine could not compute an offset' }]);
+    throw measurementErrors.unusable([
+      { path: 'segments', message: 'the engine could not compute an offset' },
+    ]);
   return { recipe, result, offsetDeg: result.offsetDeg, stored };
 }

@@ -1,5 +1,6 @@
 import { PageHeader } from '../../components/ui/panel';
 import { AnalysisWorkspace } from '../../features/analysis/components/analysis-workspace';
+import { StationBiasSection } from '../../features/qualification/components/station-bias';
 
 export function Component() {
   return (
@@ -10,6 +11,9 @@ export function Component() {
         lead="Offsets across stations, lots and time: distribution and capability, control charts with run rules, comparisons and line health."
       />
       <AnalysisWorkspace />
+      <div className="mt-6">
+        <StationBiasSection />
+      </div>
     </div>
   );
 }

@@ -16,12 +16,20 @@ export function Component() {
         title="Station qualification"
         lead="Whether each station may calibrate: its reference-unit readings against the certified values, the bias over time, and the reference units."
         actions={
-          <Link
-            to="/qualification/studies"
-            className="inline-flex min-h-target items-center px-2 font-semibold"
-          >
-            Gauge R&R studies
-          </Link>
+          <>
+            <Link
+              to="/qualification/shifts"
+              className="inline-flex min-h-target items-center px-2 font-semibold"
+            >
+              Plant shifts
+            </Link>
+            <Link
+              to="/qualification/studies"
+              className="inline-flex min-h-target items-center px-2 font-semibold"
+            >
+              Gauge R&R studies
+            </Link>
+          </>
         }
       />
       {stations.isPending ? <Loading label="Fetching stations…" /> : null}

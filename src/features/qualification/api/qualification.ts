@@ -1,6 +1,8 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type {
+  CertifyReferenceUnit,
   GaugeStudyCreate,
+  PlantShifts,
   GaugeStudyDetail,
   GaugeStudySummary,
   StudyNextStep,
@@ -21,7 +23,70 @@ export const qualificationKeys = {
   readings: (stationId: string) => [...qualificationKeys.all, 'readings', stationId] as const,
   policy: (stationId: string) => [...qualificationKeys.all, 'policy', stationId] as const,
   references: () => [...qualificationKeys.all, 'references'] as const,
+  referenceReadings: (refId: string, stationId: string) =>
+    [...qualificationKeys.all, 'reference-readings', refId, stationId] as const,
+  shifts: () => [...qualificationKeys.all, 'shifts'] as const,
 };
+
+/** Stations by name, for choosing whose bias to show (only id and name are read). */
+export function useStationChoices() {
+  return useQuery({
+    queryKey: [...qualificationKeys.all, 'stations'] as const,
+    queryFn: () =>
+      apiRequest<{ stations: { id: string; name: string }[] }>('/api/stations').then((b) =>
+        b.stations.map((s) => ({ id: s.id, name: s.name })),
+      ),
+  });
+}
+
+export function useShifts() {
+  return useQuery({
+    queryKey: qualificationKeys.shifts(),
+    queryFn: () => apiRequest<PlantShifts & { timeZone: string }>('/api/qualification/shifts'),
+  });
+}
+
+export function useSetShifts() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: PlantShifts) =>
+      apiRequest<PlantShifts & { timeZone: string }>('/api/qualification/shifts', {
+        method: 'PUT',
+        body: input,
+      }),
+    onSuccess: (saved) => {
+      queryClient.setQueryData(qualificationKeys.shifts(), saved);
+      // Shift starts move every station's "qualified until".
+      void queryClient.invalidateQueries({ queryKey: qualificationKeys.states() });
+    },
+  });
+}
+
+export function useReferenceReadings(refId: string, stationId: string | null) {
+  return useQuery({
+    queryKey: qualificationKeys.referenceReadings(refId, stationId ?? ''),
+    queryFn: () =>
+      apiRequest<{ readings: QualificationRunView[] }>(
+        `/api/qualification/reference-units/${enc(refId)}/readings?stationId=${enc(stationId!)}`,
+      ).then((b) => b.readings),
+    enabled: stationId !== null,
+  });
+}
+
+export function useCertifyReference() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: ({ refId, input }: { refId: string; input: CertifyReferenceUnit }) =>
+      apiRequest<{ referenceUnit: ReferenceUnitView }>(
+        `/api/qualification/reference-units/${enc(refId)}/certify`,
+        { method: 'POST', body: input },
+      ),
+    onSuccess: () => {
+      void queryClient.invalidateQueries({ queryKey: qualificationKeys.references() });
+      void queryClient.invalidateQueries({ queryKey: qualificationKeys.states() });
+    },
+  });
+}
 
 export const stationQualificationQueryOptions = (stationId: string) =>
   queryOptions({
@@ -153,6 +218,17 @@ export function useModelChoices() {
       apiRequest<{ models: { id: string; code: string }[] }>('/api/models').then((b) =>
         b.models.map((m) => ({ id: m.id, code: m.code })),
       ),
+  });
+}
+
+export function useOperatorChoices(enabled: boolean) {
+  return useQuery({
+    queryKey: [...studyKeys.all, 'operators'] as const,
+    queryFn: () =>
+      apiRequest<{ operators: { id: string; name: string }[] }>('/api/gauge-studies/operators').then(
+        (b) => b.operators,
+      ),
+    enabled,
   });
 }
 

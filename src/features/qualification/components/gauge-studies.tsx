@@ -7,7 +7,13 @@ import { TableFrame, Td, Th } from '../../../components/ui/data-table';
 import { CheckboxField, SelectField, TextAreaField, TextField } from '../../../components/ui/field';
 import { Panel } from '../../../components/ui/panel';
 import { StatusChip } from '../../../components/ui/status-chip';
-import { useCreateStudy, useModelChoices, useStudies, useStudy } from '../api/qualification';
+import {
+  useCreateStudy,
+  useModelChoices,
+  useOperatorChoices,
+  useStudies,
+  useStudy,
+} from '../api/qualification';
 import { StudyCharts } from './study-charts';
 
 type StationChoice = { id: string; name: string };
@@ -168,18 +174,23 @@ function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCrea
   const create = useCreateStudy();
   const [name, setName] = useState('');
   const [modelId, setModelId] = useState('');
+  const [kind, setKind] = useState<'station' | 'operator'>('station');
+  const operators = useOperatorChoices(kind === 'operator');
   const [chosen, setChosen] = useState<string[]>([]);
+  const [studyStation, setStudyStation] = useState('');
   const [parts, setParts] = useState('');
   const [trials, setTrials] = useState('3');
   const [tolerance, setTolerance] = useState('2');
+  const choices: StationChoice[] = kind === 'station' ? stations : (operators.data ?? []);
   const submit = (e: FormEvent) => {
     e.preventDefault();
     create.mutate(
       {
         name,
         modelId: modelId || models.data?.[0]?.id || '',
-        appraiserKind: 'station',
+        appraiserKind: kind,
         appraiserIds: chosen,
+        ...(kind === 'operator' ? { stationId: studyStation || stations[0]?.id } : {}),
         partSerials: parts.split(/[\s,]+/).filter(Boolean),
         trials: Number(trials),
         toleranceDeg: Number(tolerance),
@@ -196,10 +207,40 @@ function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCrea
         onChange={(e) => setModelId(e.target.value)}
         options={(models.data ?? []).map((m) => ({ value: m.id, label: m.code }))}
       />
+      <SelectField
+        label="Who are the appraisers?"
+        hint="Stations: how much the rigs differ. Operators: how much the people using one rig differ."
+        value={kind}
+        onChange={(e) => {
+          setKind(e.target.value as 'station' | 'operator');
+          setChosen([]);
+        }}
+        options={[
+          { value: 'station', label: 'Stations (each measures every part)' },
+          { value: 'operator', label: 'Operators on one station' },
+        ]}
+      />
+      {kind === 'operator' ? (
+        <SelectField
+          label="Station where the operators measure"
+          hint="Each operator signs in at this station in turn; its screen shows whose trials are next."
+          value={studyStation || stations[0]?.id || ''}
+          onChange={(e) => setStudyStation(e.target.value)}
+          options={stations.map((s) => ({ value: s.id, label: s.name }))}
+        />
+      ) : (
+        <div />
+      )}
       <fieldset className="flex flex-col gap-1 md:col-span-2">
-        <legend className="mb-1 font-semibold text-graphite-100">Appraisers (stations; 3 is usual)</legend>
+        <legend className="mb-1 font-semibold text-graphite-100">
+          Appraisers ({kind === 'station' ? 'stations' : 'operators'}; 3 is usual)
+        </legend>
+        {kind === 'operator' && operators.isPending ? <Loading label="Fetching operators…" /> : null}
+        {kind === 'operator' && operators.data?.length === 0 ? (
+          <p className="text-graphite-300">No operator accounts yet.</p>
+        ) : null}
         <div className="flex flex-wrap gap-4">
-          {stations.map((s) => (
+          {choices.map((s) => (
             <CheckboxField
               key={s.id}
               label={s.name}
@@ -297,8 +338,9 @@ export function GaugeStudies({ stations, canEdit }: { stations: StationChoice[];
       {canEdit ? (
         <Panel title="Plan a new study" titleId="design-title">
           <p className="mb-3 text-graphite-300">
-            Every appraiser measures every part in each trial, in a random order the stations show step by
-            step. Study readings never change the units and print no traveler.
+            Every appraiser measures every part in each trial, in a random order the station screen shows step
+            by step (for operators: to whoever is signed in at the study's station). Study readings never
+            change the units and print no traveler.
           </p>
           <DesignForm stations={stations} onCreated={setSelected} />
         </Panel>

@@ -7,6 +7,7 @@ import { CheckboxField, SelectField, TextField } from '../../../components/ui/fi
 import { Panel } from '../../../components/ui/panel';
 import {
   useCreateReferenceUnit,
+  useShifts,
   useLiftLock,
   useReferenceUnits,
   useSetPolicy,
@@ -15,9 +16,15 @@ import {
   useStationReadings,
 } from '../api/qualification';
 import { BiasChart } from './bias-chart';
+import { CertifyPanel } from './certify-panel';
 import { QualificationBanner } from './qualification-banner';
 
 type StationChoice = { id: string; name: string };
+
+/** The plant time zone (the shifts answer carries it). */
+function useShiftsTimeZone(): string {
+  return useShifts().data?.timeZone ?? 'UTC';
+}
 
 function LiftLockForm({ stationId }: { stationId: string }) {
   const lift = useLiftLock();
@@ -153,17 +160,20 @@ function PolicyForm({ stationId }: { stationId: string }) {
   );
 }
 
-function ReferenceUnits({ canEdit }: { canEdit: boolean }) {
+function ReferenceUnits({ canEdit, stations }: { canEdit: boolean; stations: StationChoice[] }) {
   const refs = useReferenceUnits();
+  const [certifying, setCertifying] = useState<string | null>(null);
+  const [certified, setCertifiedNote] = useState<string | null>(null);
+  const tz = useShiftsTimeZone();
   const create = useCreateReferenceUnit();
   const [serial, setSerial] = useState('');
-  const [certified, setCertified] = useState('');
+  const [certifiedInput, setCertified] = useState('');
   const [tolerance, setTolerance] = useState('0.3');
   const submit = (e: FormEvent) => {
     e.preventDefault();
     create.mutate({
       serial,
-      certifiedOffsetDeg: certified.trim() === '' ? undefined : Number(certified),
+      certifiedOffsetDeg: certifiedInput.trim() === '' ? undefined : Number(certifiedInput),
       toleranceDeg: Number(tolerance),
     });
   };
@@ -179,6 +189,7 @@ function ReferenceUnits({ canEdit }: { canEdit: boolean }) {
               <Th>Certified offset</Th>
               <Th>Tolerance</Th>
               <Th>Certified from</Th>
+              {canEdit ? <Th>Certify</Th> : null}
             </tr>
           </thead>
           <tbody>
@@ -192,13 +203,46 @@ function ReferenceUnits({ canEdit }: { canEdit: boolean }) {
                 <Td>± {r.toleranceDeg.toFixed(2)}°</Td>
                 <Td>
                   {r.certifiedFrom
-                    ? `${r.certifiedFrom.n} readings, U = ± ${r.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° (k = 2)`
-                    : 'entered by an engineer'}
+                    ? `${r.certifiedFrom.n} readings${r.certifiedFrom.excluded?.length ? ` (${r.certifiedFrom.excluded.length} left out)` : ''}, U = ± ${r.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° (k = 2)`
+                    : r.certifiedOffsetDeg === null
+                      ? 'not yet'
+                      : 'entered by an engineer'}
                 </Td>
+                {canEdit ? (
+                  <Td>
+                    <Button
+                      variant="quiet"
+                      aria-pressed={certifying === r.id}
+                      onClick={() => {
+                        setCertifiedNote(null);
+                        setCertifying(certifying === r.id ? null : r.id);
+                      }}
+                    >
+                      From readings…
+                    </Button>
+                  </Td>
+                ) : null}
               </tr>
             ))}
           </tbody>
         </TableFrame>
+      ) : null}
+      {certified ? <Alert tone="ok">{certified}</Alert> : null}
+      {canEdit && certifying && refs.data?.find((r) => r.id === certifying) ? (
+        <CertifyPanel
+          key={certifying}
+          reference={refs.data.find((r) => r.id === certifying)!}
+          stations={stations}
+          timeZone={tz}
+          onDone={(saved) => {
+            setCertifying(null);
+            setCertifiedNote(
+              saved?.certifiedFrom
+                ? `${saved.serial} certified at ${saved.certifiedOffsetDeg?.toFixed(3)}° ± ${saved.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° from ${saved.certifiedFrom.n} readings (audited).`
+                : null,
+            );
+          }}
+        />
       ) : null}
       {canEdit ? (
         <form
@@ -216,7 +260,7 @@ function ReferenceUnits({ canEdit }: { canEdit: boolean }) {
             label="Certified offset (°, empty: certify from readings)"
             type="number"
             step="0.001"
-            value={certified}
+            value={certifiedInput}
             onChange={(e) => setCertified(e.target.value)}
           />
           <TextField
@@ -352,7 +396,7 @@ export function QualificationWorkspace({
         <Alert>No stations yet.</Alert>
       )}
       {stationId ? <StationPart key={stationId} stationId={stationId} canEdit={canEdit} /> : null}
-      <ReferenceUnits canEdit={canEdit} />
+      <ReferenceUnits canEdit={canEdit} stations={stations} />
     </div>
   );
 }

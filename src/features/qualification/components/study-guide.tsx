@@ -22,10 +22,16 @@ export function StudyGuide({ stationId }: { stationId: string }) {
                 <span className="font-mono text-copper-200">{s.serial}</span> (part {s.part}), trial {s.trial}{' '}
                 of {s.trials}. {s.doneByAppraiser} of {s.totalByAppraiser} done by {s.appraiserLabel}.
               </>
+            ) : s.totalByAppraiser === 0 ? (
+              <>
+                <span className="font-semibold">{s.studyName}</span>: waiting for one of its operators to sign
+                in here ({s.waitingFor.join(', ')}). {s.done} of {s.total} readings taken.
+              </>
             ) : (
               <>
                 <span className="font-semibold">{s.studyName}</span>: {s.appraiserLabel} has measured every
                 trial ({s.done} of {s.total} in the study).
+                {s.waitingFor.length ? ` Next, hand the station to ${s.waitingFor.join(' or ')}.` : ''}
               </>
             )}
           </li>

@@ -1,0 +1,1 @@
+ALTER TYPE "public"."watched_chart_kind" ADD VALUE 'qualification';
