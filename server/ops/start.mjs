@@ -9,7 +9,7 @@ import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { ensureDeps } from './ensure-deps.mjs';
-import { ensurePostgres, postmasterAlive } from './pg-local.mjs';
+import { ensurePostgres, ensureReplica, postmasterAlive } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
 import { TSX, portInUse, runStep, waitForHttp } from './services.mjs';
 import { superviseService } from './supervise.mjs';
@@ -27,8 +27,15 @@ function scaleOf(name) {
   }
   return n;
 }
-const scale = { api: scaleOf('SCALE_API'), workers: scaleOf('SCALE_WORKERS'), renderers: scaleOf('SCALE_RENDERERS') };
+const scale = {
+  api: scaleOf('SCALE_API'),
+  workers: scaleOf('SCALE_WORKERS'),
+  renderers: scaleOf('SCALE_RENDERERS'),
+};
 const buildClient = !process.argv.includes('--no-build');
+// `--replica`: a hot standby of the private database (port PGPORT_DEV_REPLICA, 55441) that statistics,
+// containment searches and exports read from (DATABASE_READ_URL); off by default.
+const withReplica = process.argv.includes('--replica');
 const instance = process.env.PG_INSTANCE || 'dev';
 const port = Number(process.env.PORT ?? 3000);
 const smtpPort = Number(process.env.FAKE_SMTP_PORT ?? 2525);
@@ -49,6 +56,7 @@ function sessionSecret() {
 
 const services = [];
 let pg = null;
+let replica = null;
 let ownPostgres = false;
 let pgWatch = null;
 let shuttingDown = false;
@@ -59,6 +67,10 @@ async function shutdown(code) {
   clearInterval(pgWatch);
   log('stopping…');
   for (const s of [...services].reverse()) await s.stop();
+  if (replica) {
+    await replica.stop();
+    log('PostgreSQL standby stopped');
+  }
   if (pg && ownPostgres) {
     await pg.stop();
     log('PostgreSQL stopped');
@@ -172,6 +184,14 @@ try {
   });
   if (migrated !== 0) throw new Error('The database migrations failed (output above).');
   watchPostgres();
+  if (withReplica) {
+    if (pg.external)
+      throw new Error(
+        '--replica makes a standby of the private database; with DATABASE_URL set DATABASE_READ_URL instead.',
+      );
+    replica = await ensureReplica(pg, { log: prefixedLog('postgres-standby') });
+    env.DATABASE_READ_URL = replica.url;
+  }
 
   if (!process.env.SMTP_URL) {
     if ((await portInUse(smtpPort)) || (await portInUse(mailHttpPort))) {
@@ -204,7 +224,8 @@ try {
   // Further API processes on the next ports (PORT+1, …): a reverse proxy in front spreads clients over them.
   for (let i = 2; i <= scale.api; i++) {
     const extraPort = port + i - 1;
-    if (await portInUse(extraPort)) throw new Error(`Port ${extraPort} (API process ${i}) is already in use.`);
+    if (await portInUse(extraPort))
+      throw new Error(`Port ${extraPort} (API process ${i}) is already in use.`);
     const extra = supervise(`server-${i}`, TSX, ['server/main.ts'], {
       env: { ...env, PORT: String(extraPort), SEED_DEMO: 'false' },
       ready: (service) => waitForHttp(`http://127.0.0.1:${extraPort}/api/health`, service),
@@ -253,7 +274,7 @@ try {
     '  Demo sign-ins (invented people of the demo plant):',
     '    administrator  ada.admin      / demo-admin-pass',
     '    engineer       evan.engineer  / demo-engineer-pass',
-    '    engineer       rosa.engineer  / demo-engineer2-pass  (reviews Evan\'s recipe changes)',
+    "    engineer       rosa.engineer  / demo-engineer2-pass  (reviews Evan's recipe changes)",
     '    quality        quinn.quality  / demo-quality-pass',
     '    operator       olga.operator  / demo-operator-pass   (badge OP-1001, PIN 2468)',
     '',
@@ -263,6 +284,11 @@ try {
         ]
       : []),
     `  Database: ${pg.external ? 'DATABASE_URL (external)' : `private PostgreSQL on 127.0.0.1:${pg.port}`}`,
+    ...(env.DATABASE_READ_URL
+      ? [
+          `  Statistics, searches and exports read from ${replica ? `the standby on 127.0.0.1:${replica.port}` : 'DATABASE_READ_URL'}`,
+        ]
+      : []),
     `  Mail: ${process.env.SMTP_URL ? 'SMTP_URL relay' : `local fake mail server (SMTP 127.0.0.1:${smtpPort}); see Admin → Outbox`}`,
     ...(demoStation
       ? [

@@ -113,7 +113,7 @@ export function qualityRoutes(deps: AppDeps) {
       summary: 'Containment search: units by any mix of filters, one page, sorted, with the total',
       query: unitSearchQuerySchema,
       handler: async (req, res) => {
-        res.json(await searchUnits(deps.db, unitSearchQuerySchema.parse(req.query)));
+        res.json(await searchUnits(deps.readDb, unitSearchQuerySchema.parse(req.query)));
       },
     }),
     route({
@@ -126,7 +126,7 @@ export function qualityRoutes(deps: AppDeps) {
         const q = unitSearchQuerySchema.parse(req.query);
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="containment-search.csv"');
-        await exportSearchCsv(deps.db, q, (chunk) =>
+        await exportSearchCsv(deps.readDb, q, (chunk) =>
           res.write(chunk) ? undefined : new Promise<void>((r) => res.once('drain', () => r())),
         );
         res.end();
