@@ -49,6 +49,13 @@ const TARGETS = {
   travelerLagP95Ms: 2000,
 };
 const TRAVELER_DRAIN_LIMIT_MS = 120_000;
+// BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
+// (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
+const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
+const node = (script: string): [string, string[]] =>
+  PROFILE_DIR
+    ? [process.execPath, ['--cpu-prof', '--cpu-prof-dir', PROFILE_DIR, '--import', 'tsx', script]]
+    : [TSX, [script]];
 
 const log = prefixedLog('bench:line');
 const verdict = (ok: boolean) => (ok ? 'met' : 'NOT met');
@@ -284,19 +291,19 @@ async function main(): Promise<number> {
     SMTP_URL: `smtp://127.0.0.1:${await freePort()}`,
     MAILBOX_URL: '',
   };
-  const server = startService('server', TSX, ['server/main.ts'], {
+  const server = startService('server', ...node('server/main.ts'), {
     env,
     quiet: !process.env.BENCH_LINE_VERBOSE,
   });
   services.push(server);
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
   services.push(
-    startService('worker', TSX, ['jobs/worker.ts'], {
+    startService('worker', ...node('jobs/worker.ts'), {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
     // Renders yield the CPU to calibrations (nice 10), as under `npm start`.
-    startService('renderer', 'nice', ['-n', '10', TSX, 'jobs/worker.ts'], {
+    startService('renderer', 'nice', ['-n', '10', ...node('jobs/worker.ts').flat()], {
       env: { ...env, WORKER_QUEUES: 'traveler-render' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
