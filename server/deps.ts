@@ -15,6 +15,13 @@ export interface AppDeps {
   env: Env;
   db: Db;
   pool: pg.Pool;
+  /**
+   * The heavy reads (statistics, containment searches, exports): a read replica when DATABASE_READ_URL
+   * is set, otherwise the same as `db`/`pool`. It may lag the primary by up to a few seconds; anything that
+   * writes, or reads what it has just written (the station path), uses `db`.
+   */
+  readDb: Db;
+  readPool: pg.Pool;
   logger: Logger;
   clock: () => Date;
   mailer: Mailer;

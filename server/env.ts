@@ -11,6 +11,14 @@ const envSchema = z.object({
   DATABASE_URL: z.string().url('DATABASE_URL must be a postgres:// URL'),
   /** The owner role, for migrations; without it DATABASE_URL's role migrates (one role does everything). */
   DATABASE_OWNER_URL: z.string().url('DATABASE_OWNER_URL must be a postgres:// URL').optional(),
+  /**
+   * A streaming-replication standby of DATABASE_URL's database, as the app role: statistics, containment
+   * searches and exports read from it. Unset (or empty): they read from the primary.
+   */
+  DATABASE_READ_URL: z.preprocess(
+    (v) => (v === '' ? undefined : v),
+    z.string().url('DATABASE_READ_URL must be a postgres:// URL').optional(),
+  ),
   /** Apply migrations when the server starts (npm start migrates in a step of its own and sets false). */
   MIGRATE_ON_START: z
     .enum(['true', 'false'])

@@ -25,6 +25,10 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
     await migrateDatabase(ownerUrl ?? env.DATABASE_URL, { appRole: appRoleOf(env.DATABASE_URL, ownerUrl) });
   }
   const database = createDatabase(env.DATABASE_URL, { max: 20, applicationName: 'phasewright-server' });
+  // Statistics, containment searches and exports read from the replica when there is one.
+  const readDatabase = env.DATABASE_READ_URL
+    ? createDatabase(env.DATABASE_READ_URL, { max: 10, applicationName: 'phasewright-server-read' })
+    : null;
   if (demoSettings(source).seedDemo) {
     if (await seedDemoAccounts(database.db, env.BCRYPT_COST)) logger.info('demo accounts created');
   }
@@ -46,6 +50,8 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
     env,
     db: database.db,
     pool: database.pool,
+    readDb: (readDatabase ?? database).db,
+    readPool: (readDatabase ?? database).pool,
     logger,
     clock: () => new Date(),
     mailer,
@@ -59,7 +65,7 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
     server.once('error', reject);
   });
   const port = (server.address() as AddressInfo).port;
-  logger.info({ port }, 'server listening');
+  logger.info({ port, readReplica: Boolean(readDatabase) }, 'server listening');
   return {
     port,
     deps,
@@ -69,6 +75,7 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
       await events.close();
       mailer.close();
       storage.close();
+      await readDatabase?.close();
       await database.close();
     },
   };

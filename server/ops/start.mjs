@@ -9,7 +9,7 @@ import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { ensureDeps } from './ensure-deps.mjs';
-import { ensurePostgres, postmasterAlive } from './pg-local.mjs';
+import { ensurePostgres, ensureReplica, postmasterAlive } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
 import { TSX, portInUse, runStep, waitForHttp } from './services.mjs';
 import { superviseService } from './supervise.mjs';
@@ -33,6 +33,9 @@ const scale = {
   renderers: scaleOf('SCALE_RENDERERS'),
 };
 const buildClient = !process.argv.includes('--no-build');
+// `--replica`: a hot standby of the private database (port PGPORT_DEV_REPLICA, 55441) that statistics,
+// containment searches and exports read from (DATABASE_READ_URL); off by default.
+const withReplica = process.argv.includes('--replica');
 const instance = process.env.PG_INSTANCE || 'dev';
 const port = Number(process.env.PORT ?? 3000);
 const smtpPort = Number(process.env.FAKE_SMTP_PORT ?? 2525);
@@ -54,6 +57,7 @@ function sessionSecret() {
 
 const services = [];
 let pg = null;
+let replica = null;
 let ownPostgres = false;
 let pgWatch = null;
 let shuttingDown = false;
@@ -64,6 +68,10 @@ async function shutdown(code) {
   clearInterval(pgWatch);
   log('stopping…');
   for (const s of [...services].reverse()) await s.stop();
+  if (replica) {
+    await replica.stop();
+    log('PostgreSQL standby stopped');
+  }
   if (pg && ownPostgres) {
     await pg.stop();
     log('PostgreSQL stopped');
@@ -177,6 +185,14 @@ try {
   });
   if (migrated !== 0) throw new Error('The database migrations failed (output above).');
   watchPostgres();
+  if (withReplica) {
+    if (pg.external)
+      throw new Error(
+        '--replica makes a standby of the private database; with DATABASE_URL set DATABASE_READ_URL instead.',
+      );
+    replica = await ensureReplica(pg, { log: prefixedLog('postgres-standby') });
+    env.DATABASE_READ_URL = replica.url;
+  }
 
   if (!process.env.SMTP_URL) {
     if ((await portInUse(smtpPort)) || (await portInUse(mailHttpPort))) {
@@ -287,6 +303,11 @@ try {
       : []),
     `  Database: ${pg.external ? 'DATABASE_URL (external)' : `private PostgreSQL on 127.0.0.1:${pg.port}`}`,
     `  Attachments: ${process.env.STORAGE_ENDPOINT ? `object storage at ${process.env.STORAGE_ENDPOINT}` : `local fake object store (127.0.0.1:${storagePort}, files in .data/objects)`}`,
+    ...(env.DATABASE_READ_URL
+      ? [
+          `  Statistics, searches and exports read from ${replica ? `the standby on 127.0.0.1:${replica.port}` : 'DATABASE_READ_URL'}`,
+        ]
+      : []),
     `  Mail: ${process.env.SMTP_URL ? 'SMTP_URL relay' : `local fake mail server (SMTP 127.0.0.1:${smtpPort}); see Admin → Outbox`}`,
     ...(demoStation
       ? [

@@ -6,7 +6,7 @@ import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { ensureChromium } from './ensure-chromium.mjs';
 import { ensureDeps } from './ensure-deps.mjs';
-import { ensurePostgres } from './pg-local.mjs';
+import { ensurePostgres, stopPostgres } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
 import { TSX, freePort, runStep, startService, waitForHttp } from './services.mjs';
 import { checkMigrationsMatchSchema } from './db-check.mjs';
@@ -165,7 +165,11 @@ try {
   log(`stopped: ${e instanceof Error ? e.message : String(e)}`);
   failures.push('setup');
 } finally {
-  if (pg?.startedByUs) await pg.stop();
+  if (pg?.startedByUs) {
+    // The hot standby the test harness keeps of it (tests/harness/global-setup.ts) stops with it.
+    await stopPostgres({ instance: 'test-replica', log: prefixedLog('postgres') }).catch(() => {});
+    await pg.stop();
+  }
 }
 const minutes = ((Date.now() - started) / 60_000).toFixed(1);
 if (failures.length > 0) log(`failed steps: ${failures.join(', ')}`);

@@ -10,7 +10,9 @@
 // Every figure is printed beside its target (see TARGETS), with the load average: a shared machine
 // makes the figures noisy, so compare ratios in one run rather than absolutes across runs.
 // Prints figures; exits non-zero only when a post or result failed. Stops everything it started.
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { availableParallelism, loadavg } from 'node:os';
+import { join } from 'node:path';
 import pg from 'pg';
 import { ensurePostgres } from '../../server/ops/pg-local.mjs';
 import { prefixedLog } from '../../server/ops/proc.mjs';
@@ -49,6 +51,13 @@ const TARGETS = {
   travelerLagP95Ms: 2000,
 };
 const TRAVELER_DRAIN_LIMIT_MS = 120_000;
+// BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
+// (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
+const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
+const node = (script: string): [string, string[]] =>
+  PROFILE_DIR
+    ? [process.execPath, ['--cpu-prof', '--cpu-prof-dir', PROFILE_DIR, '--import', 'tsx', script]]
+    : [TSX, [script]];
 
 const log = prefixedLog('bench:line');
 const verdict = (ok: boolean) => (ok ? 'met' : 'NOT met');
@@ -106,6 +115,52 @@ async function watchTravelers(url: string) {
     close: () => c.end(),
   };
 }
+/** Clock ticks a second of /proc's CPU times (Linux: 100 on every common configuration). */
+const TICKS_PER_SECOND = 100;
+
+/**
+ * CPU seconds (user + system) used so far by a process and all its descendants; for PostgreSQL the
+ * postmaster's own times include the backends that have exited (cutime/cstime), live ones are added.
+ * Linux only; 0 elsewhere. Wall-clock figures swing with other work on a shared machine; CPU time per
+ * unit much less, so it says where a unit's cost goes.
+ */
+function treeCpuSeconds(rootPid: number | undefined): number {
+  if (!rootPid || !existsSync('/proc')) return 0;
+  const stats = new Map<number, { ppid: number; own: number; children: number }>();
+  for (const entry of readdirSync('/proc')) {
+    if (!/^\d+$/.test(entry)) continue;
+    try {
+      const text = readFileSync(`/proc/${entry}/stat`, 'utf8');
+      const f = text.slice(text.lastIndexOf(')') + 2).split(' ');
+      // After the command name: state(3) ppid(4) … utime(14) stime(15) cutime(16) cstime(17), 1-based.
+      stats.set(Number(entry), {
+        ppid: Number(f[1]),
+        own: Number(f[11]) + Number(f[12]),
+        children: Number(f[13]) + Number(f[14]),
+      });
+    } catch {
+      // Gone meanwhile.
+    }
+  }
+  let ticks = 0;
+  const visit = (pid: number, root: boolean) => {
+    const s = stats.get(pid);
+    if (!s) return;
+    ticks += s.own + (root ? s.children : 0);
+    for (const [child, c] of stats) if (c.ppid === pid) visit(child, false);
+  };
+  visit(rootPid, true);
+  return ticks / TICKS_PER_SECOND;
+}
+
+function postmasterPid(dataDir: string): number | undefined {
+  try {
+    return Number(readFileSync(join(dataDir, 'postmaster.pid'), 'utf8').split('\n')[0]) || undefined;
+  } catch {
+    return undefined;
+  }
+}
+
 const services: Service[] = [];
 const started: { pg: Awaited<ReturnType<typeof ensurePostgres>> | null } = { pg: null };
 
@@ -284,19 +339,19 @@ async function main(): Promise<number> {
     SMTP_URL: `smtp://127.0.0.1:${await freePort()}`,
     MAILBOX_URL: '',
   };
-  const server = startService('server', TSX, ['server/main.ts'], {
+  const server = startService('server', ...node('server/main.ts'), {
     env,
     quiet: !process.env.BENCH_LINE_VERBOSE,
   });
   services.push(server);
   await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
   services.push(
-    startService('worker', TSX, ['jobs/worker.ts'], {
+    startService('worker', ...node('jobs/worker.ts'), {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
     // Renders yield the CPU to calibrations (nice 10), as under `npm start`.
-    startService('renderer', 'nice', ['-n', '10', TSX, 'jobs/worker.ts'], {
+    startService('renderer', 'nice', ['-n', '10', ...node('jobs/worker.ts').flat()], {
       env: { ...env, WORKER_QUEUES: 'traveler-render' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
@@ -330,6 +385,15 @@ async function main(): Promise<number> {
   log(`warm-up: ${warm.results} results, ${warm.errors} errors`);
   for (const e of warm.errorSamples) log(`warm-up error: ${e}`);
 
+  const [serverSvc, workerSvc, rendererSvc] = services;
+  const cpuNow = () => ({
+    server: treeCpuSeconds(serverSvc.child.pid),
+    worker: treeCpuSeconds(workerSvc.child.pid),
+    renderer: treeCpuSeconds(rendererSvc.child.pid),
+    postgres: treeCpuSeconds(postmasterPid(pgHandle.dataDir)),
+    stations: process.cpuUsage().user / 1e6 + process.cpuUsage().system / 1e6,
+  });
+  const cpuBefore = cpuNow();
   const watch = await watchTravelers(databaseUrl);
   watch.start();
   const closed = await closedLoop(stations, CLOSED_POSTS, 'LOAD');
@@ -348,6 +412,22 @@ async function main(): Promise<number> {
       `p50 ${ms(percentile(travelers.lags, 50))}, p95 ${ms(lagP95)}, max ${ms(Math.max(0, ...travelers.lags))} ` +
       `(target p95 ≤ ${TARGETS.travelerLagP95Ms} ms: ${verdict(travelers.missing === 0 && lagP95 <= TARGETS.travelerLagP95Ms)}); ` +
       `last traveler ${ms(travelers.lastBehindMs)} after the last calibration; ${travelers.missing} missing after ${TRAVELER_DRAIN_LIMIT_MS / 1000} s; load average ${load()}`,
+  );
+
+  const cpuAfter = cpuNow();
+  const cpuPerUnitMs = Object.fromEntries(
+    Object.entries(cpuAfter).map(([k, v]) => [
+      k,
+      Math.round(((v - cpuBefore[k as keyof typeof cpuAfter]) * 1000 * 10) / Math.max(1, closed.results)) /
+        10,
+    ]),
+  ) as Record<keyof typeof cpuAfter, number>;
+  const productMs = cpuPerUnitMs.server + cpuPerUnitMs.worker + cpuPerUnitMs.renderer + cpuPerUnitMs.postgres;
+  log(
+    `CPU per unit over the closed loop and its traveler backlog (user + system): API ${cpuPerUnitMs.server} ms, ` +
+      `compute worker ${cpuPerUnitMs.worker} ms, renderer ${cpuPerUnitMs.renderer} ms, PostgreSQL ${cpuPerUnitMs.postgres} ms ` +
+      `→ ${productMs.toFixed(1)} ms a unit, ${(1000 / productMs).toFixed(0)} units a second per core of this machine` +
+      ` (the simulated stations in this process: ${cpuPerUnitMs.stations} ms); load average ${load()}`,
   );
 
   const sizes = await storageSizes(ownerUrl.toString());
@@ -387,6 +467,7 @@ async function main(): Promise<number> {
         missing: travelers.missing,
       },
       bytesPerUnit: sizes,
+      cpuPerUnitMs,
       loadAverage: loadavg(),
       openLoop: {
         ratePerSecond: OPEN_RATE,

@@ -1,6 +1,6 @@
 import pg from 'pg';
 import type { TestProject } from 'vitest/node';
-import { ensurePostgres } from '../../server/ops/pg-local.mjs';
+import { ensurePostgres, ensureReplica } from '../../server/ops/pg-local.mjs';
 import { migrateDatabase } from '../../server/db/migrate';
 
 /** Databases of a run are named after the process that ran its global setup. */
@@ -23,6 +23,14 @@ declare module 'vitest' {
     databaseAppUrl: string;
     templateDatabase: string;
     runTag: string;
+    /**
+     * A hot standby of the test server (streaming replication): the app role's URL without the database
+     * name's meaning (the harness swaps it), and the superuser's over its Unix socket. Empty when the test
+     * server is external; `replicaError` says why it could not be made.
+     */
+    replicaAppUrl: string;
+    replicaSuperuserUrl: string;
+    replicaError: string;
   }
 }
 
@@ -43,6 +51,15 @@ export default async function setup(project: TestProject): Promise<() => Promise
     const pid = Number(/^pw_(?:t|tpl)_(\d+)/.exec(r.datname)?.[1]);
     if (!alive(pid)) await admin.query(`drop database if exists "${r.datname}" with (force)`);
   }
+  // The standby is made (or reused) while the server holds only the template databases: seconds.
+  let replica: Awaited<ReturnType<typeof ensureReplica>> = null;
+  let replicaError = '';
+  try {
+    replica = await ensureReplica(handle, { log: () => {} });
+    if (!replica) replicaError = 'the test server is external (TEST_DATABASE_URL): no standby is made';
+  } catch (e) {
+    replicaError = e instanceof Error ? e.message : String(e);
+  }
   await admin.query(`create database "${TEMPLATE_DB}"`);
   const templateUrl = new URL(handle.adminUrl);
   templateUrl.pathname = `/${TEMPLATE_DB}`;
@@ -52,6 +69,9 @@ export default async function setup(project: TestProject): Promise<() => Promise
   project.provide('databaseAppUrl', handle.url);
   project.provide('templateDatabase', TEMPLATE_DB);
   project.provide('runTag', runTag);
+  project.provide('replicaAppUrl', replica?.url ?? '');
+  project.provide('replicaSuperuserUrl', replica?.superuserUrl ?? '');
+  project.provide('replicaError', replicaError);
   return async () => {
     await admin.query(`drop database if exists "${TEMPLATE_DB}" with (force)`);
     await admin.end();

@@ -10,6 +10,7 @@ import { startFakeMailServer, type FakeMailServer } from '../../server/modules/m
 import { seedDemoAccounts } from '../../server/db/seed';
 import { startJobQueue } from '../../jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
+import type { Database } from '../../server/db/client';
 import { createEventHub } from '../../server/modules/events/event-hub';
 import { startFakeObjectStore, type FakeObjectStore } from '../../server/modules/storage/fake-object-store';
 import { createObjectStore, storageSettingsOf } from '../../server/modules/storage/object-store';
@@ -37,7 +38,7 @@ export interface TestApp {
  * fake mail server on free ports. Only the clock is controllable.
  */
 export async function createTestApp(
-  opts: { seed?: boolean; database?: TestDatabase } = {},
+  opts: { seed?: boolean; database?: TestDatabase; readDatabase?: Database } = {},
 ): Promise<TestApp> {
   // `database`: run on this one (e.g. a restored copy) instead of a fresh clone of the template.
   const database = opts.database ?? (await createTestDatabase());
@@ -66,6 +67,9 @@ export async function createTestApp(
     env,
     db: database.db,
     pool: database.pool,
+    // `readDatabase`: the heavy reads go there (a replica of `database`), as with DATABASE_READ_URL.
+    readDb: (opts.readDatabase ?? database).db,
+    readPool: (opts.readDatabase ?? database).pool,
     logger: createLogger('silent'),
     clock: () => now ?? new Date(),
     mailer: createSmtpMailer(env.SMTP_URL, env.MAIL_FROM),

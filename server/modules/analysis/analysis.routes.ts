@@ -34,7 +34,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'Stations, lots, operators and recipe versions with calibrations of a model (for the filter)',
       request: { query: optionsQuery },
       handle: async ({ query }, res) => {
-        res.json(await analysisOptions(deps.db, query.model));
+        res.json(await analysisOptions(deps.readDb, query.model));
       },
     }),
     defineRoute({
@@ -44,7 +44,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'Distribution, normality test and capability of a figure over the filtered calibrations',
       request: { query: analysisFilterSchema },
       handle: async ({ query }, res) => {
-        res.json(await distributionView(deps.db, query));
+        res.json(await distributionView(deps.readDb, query));
       },
     }),
     defineRoute({
@@ -54,7 +54,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'I-MR, X̄-R, X̄-S or EWMA chart of the filtered calibrations with run-rule violations',
       request: { query: controlChartQuerySchema },
       handle: async ({ query }, res) => {
-        res.json(await controlChartView(deps.db, query));
+        res.json(await controlChartView(deps.readDb, query));
       },
     }),
     defineRoute({
@@ -64,7 +64,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'Groups (station, lot, operator, recipe version) compared with a one-way test',
       request: { query: comparisonQuerySchema },
       handle: async ({ query }, res) => {
-        res.json(await comparisonView(deps.db, query));
+        res.json(await comparisonView(deps.readDb, query));
       },
     }),
     defineRoute({
@@ -74,7 +74,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'First-pass yield and retest rate per station per day, failed checks, placement trends',
       request: { query: analysisFilterSchema },
       handle: async ({ query }, res) => {
-        res.json(await lineHealthView(deps.db, query));
+        res.json(await lineHealthView(deps.readDb, query));
       },
     }),
     defineRoute({
@@ -85,7 +85,7 @@ export function analysisRoutes(deps: AppDeps) {
       request: { query: analysisFilterSchema },
       handle: async ({ query, caller }, res) => {
         const pdf = await capabilityReport(
-          deps.db,
+          deps.readDb,
           deps.clock,
           caller.user,
           query,
@@ -103,7 +103,7 @@ export function analysisRoutes(deps: AppDeps) {
         const filter = query;
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="calibrations.csv"');
-        await writeCalibrationsCsv(deps.pool, filter, res);
+        await writeCalibrationsCsv(deps.readPool, filter, res);
         res.end();
       },
     }),

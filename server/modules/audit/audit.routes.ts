@@ -57,7 +57,7 @@ export function auditRoutes(deps: AppDeps) {
       summary: 'The filtered audit trail as CSV',
       query: auditTrailQuerySchema,
       handler: async (req, res) => {
-        const entries = await auditTrail(deps.db, auditTrailQuerySchema.parse(req.query));
+        const entries = await auditTrail(deps.readDb, auditTrailQuerySchema.parse(req.query));
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="audit-trail.csv"');
         res.send(auditCsv(entries));

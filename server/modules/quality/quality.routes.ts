@@ -140,7 +140,7 @@ export function qualityRoutes(deps: AppDeps) {
       request: { query: unitSearchQuerySchema },
       responses: { 200: json('One page of matching units and the total count', unitSearchPageSchema) },
       handle: async ({ query }, res) => {
-        res.json(await searchUnits(deps.db, query));
+        res.json(await searchUnits(deps.readDb, query));
       },
     }),
     defineRoute({
@@ -153,7 +153,7 @@ export function qualityRoutes(deps: AppDeps) {
       handle: async ({ query }, res) => {
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="containment-search.csv"');
-        await exportSearchCsv(deps.db, query, (chunk) =>
+        await exportSearchCsv(deps.readDb, query, (chunk) =>
           res.write(chunk)
             ? undefined
             : new Promise<void>((r) => {

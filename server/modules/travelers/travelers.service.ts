@@ -1,4 +1,4 @@
-import { createHash } from 'node:crypto';
+import { createHash, randomUUID } from 'node:crypto';
 import { travelerSettings } from '../../env';
 import { and, count, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
@@ -8,7 +8,8 @@ import type { CalibrationResult } from '../../../shared/schemas/calibration-resu
 import { auditLog } from '../audit/audit.table';
 import { insertAudit } from '../audit/audit.repository';
 import { models, recipes } from '../recipes/recipes.table';
-import { notifyLineEvent } from '../events/event-hub';
+import { EVENTS_CHANNEL } from '../events/event-hub';
+import type { LineEvent } from '../../../shared/schemas/events';
 import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
 import { stations } from '../stations/stations.table';
 import { findUnitBySerial } from '../units/units.service';
@@ -42,6 +43,46 @@ export const travelerErrors = {
 
 const lotText = (v: string | null) => (v && /^[A-Za-z0-9]/.test(v) ? v : 'n/a');
 
+/**
+ * Everything a traveler prints, in one statement: the calibration, the few measurement columns it
+ * prints (never the stored bodies, which are most of a measurement row's bytes), unit, model, recipe,
+ * station, operator, the latest programming confirmation, and whether print 1 exists.
+ */
+async function travelerRow(db: DbOrTx, calibrationId: string) {
+  const [row] = await db
+    .select({
+      cal: calibrations,
+      m: { operatorId: measurements.operatorId, receivedAt: measurements.receivedAt },
+      unit: units,
+      model: models,
+      recipe: recipes,
+      station: stations,
+      operatorName: users.displayName,
+      conf: sql<{
+        matches: boolean;
+        writtenCounts: number;
+        readBackCounts: number;
+        checksum: string | null;
+        confirmedAt: string;
+      } | null>`(select json_build_object('matches', pc.matches, 'writtenCounts', pc.written_counts,
+          'readBackCounts', pc.read_back_counts, 'checksum', pc.checksum, 'confirmedAt', pc.confirmed_at)
+        from ${programmingConfirmations} pc where pc.calibration_id = ${calibrations.id}
+        order by pc.confirmed_at desc limit 1)`,
+      firstPrintId: sql<string | null>`(select t.id from ${travelers} t
+        where t.calibration_id = ${calibrations.id} and t.print_number = 1 limit 1)`,
+    })
+    .from(calibrations)
+    .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
+    .innerJoin(units, eq(units.id, calibrations.unitId))
+    .innerJoin(models, eq(models.id, units.modelId))
+    .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
+    .innerJoin(stations, eq(stations.id, calibrations.stationId))
+    .leftJoin(users, eq(users.id, measurements.operatorId))
+    .where(eq(calibrations.id, calibrationId));
+  return row;
+}
+type TravelerRow = NonNullable<Awaited<ReturnType<typeof travelerRow>>>;
+
 /** Gathers everything the traveler prints for one calibration. */
 export async function travelerData(
   db: DbOrTx,
@@ -50,33 +91,22 @@ export async function travelerData(
   pageSize: 'A4' | 'LETTER',
   generatedAt: Date,
 ): Promise<TravelerDataInput> {
-  const [row] = await db
-    .select({
-      cal: calibrations,
-      m: measurements,
-      unit: units,
-      model: models,
-      recipe: recipes,
-      station: stations,
-    })
-    .from(calibrations)
-    .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
-    .innerJoin(units, eq(units.id, calibrations.unitId))
-    .innerJoin(models, eq(models.id, units.modelId))
-    .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
-    .innerJoin(stations, eq(stations.id, calibrations.stationId))
-    .where(eq(calibrations.id, calibrationId));
+  const row = await travelerRow(db, calibrationId);
   if (!row || row.cal.verdict === 'unusable') throw travelerErrors.notPrintable();
+  return travelerDataOf(row, printNumber, pageSize, generatedAt);
+}
+
+function travelerDataOf(
+  row: TravelerRow,
+  printNumber: number,
+  pageSize: 'A4' | 'LETTER',
+  generatedAt: Date,
+): TravelerDataInput {
   const result = row.cal.result as CalibrationResult;
-  const [operator] = row.m.operatorId
-    ? await db.select().from(users).where(eq(users.id, row.m.operatorId))
-    : [];
-  const [conf] = await db
-    .select()
-    .from(programmingConfirmations)
-    .where(eq(programmingConfirmations.calibrationId, calibrationId))
-    .orderBy(desc(programmingConfirmations.confirmedAt))
-    .limit(1);
+  const conf = row.conf
+    ? { ...row.conf, confirmedAt: new Date(row.conf.confirmedAt), checksum: row.conf.checksum ?? '' }
+    : undefined;
+  const operator = row.operatorName ? { displayName: row.operatorName } : undefined;
   return {
     ...TRAVELER_HEADER,
     lineName: row.station.line,
@@ -180,42 +210,53 @@ async function lockCalibration(tx: DbOrTx, calibrationId: string): Promise<void>
   await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`traveler:${calibrationId}`}, 0))`);
 }
 
-/** The job: print 1 of a committed calibration's traveler, once (a second run finds it and stops). */
+/**
+ * The job: print 1 of a committed calibration's traveler, once (a second run finds it and stops). One
+ * statement reads everything it prints; the page is rendered outside any transaction; then, under a
+ * lock named after the calibration, one statement stores it (unless a concurrent run has) and announces
+ * it: five round trips in all.
+ */
 export async function renderFirstTraveler(
   db: Db,
   calibrationId: string,
   now: Date,
   pageSize: 'A4' | 'LETTER' = 'A4',
 ) {
-  const [cal] = await db.select().from(calibrations).where(eq(calibrations.id, calibrationId));
-  if (!cal) throw new Error(`calibration ${calibrationId} does not exist`);
-  if (cal.verdict === 'unusable') return null;
-  const [existing] = await db
-    .select({ id: travelers.id })
-    .from(travelers)
-    .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
-  if (existing) return existing.id;
+  const row = await travelerRow(db, calibrationId);
+  if (!row) throw new Error(`calibration ${calibrationId} does not exist`);
+  if (row.cal.verdict === 'unusable') return null;
+  if (row.firstPrintId) return row.firstPrintId;
+  const t0 = performance.now();
+  const pdf = await renderTravelerPdf(travelerDataOf(row, 1, pageSize, now));
+  const renderMs = Math.round(performance.now() - t0);
+  const id = randomUUID();
+  const event: LineEvent = {
+    type: 'traveler.ready',
+    stationId: row.cal.stationId,
+    unitId: row.cal.unitId,
+    serial: row.unit.serial,
+    calibrationId,
+    travelerId: id,
+    at: now.toISOString(),
+  };
   return db.transaction(async (tx) => {
     // Serialise concurrent runs of the same job on a lock named after the calibration (a row lock
     // would need UPDATE on calibrations, which the app role does not have: the table is append-only).
+    // The insert is a statement of its own after the lock, so its snapshot sees a concurrent run's print.
     await lockCalibration(tx, calibrationId);
-    const [again] = await tx
-      .select({ id: travelers.id })
-      .from(travelers)
-      .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
-    if (again) return again.id;
-    const row = await store(tx, calibrationId, cal.unitId, 1, pageSize, null, now);
-    const [unit] = await tx.select().from(units).where(eq(units.id, cal.unitId));
-    await notifyLineEvent(tx, {
-      type: 'traveler.ready',
-      stationId: cal.stationId,
-      unitId: cal.unitId,
-      serial: unit.serial,
-      calibrationId,
-      travelerId: row.id,
-      at: now.toISOString(),
-    });
-    return row.id;
+    const { rows } = await tx.execute<{ id: string }>(sql`
+      with existing as (
+        select id from ${travelers} where calibration_id = ${calibrationId}::uuid and print_number = 1 limit 1
+      ), ins as (
+        insert into ${travelers} (id, unit_id, calibration_id, print_number, page_size, pdf, sha256, bytes, render_ms, created_at)
+        select ${id}::uuid, ${row.cal.unitId}::uuid, ${calibrationId}::uuid, 1, ${pageSize}::page_size, ${pdf}::bytea,
+          ${createHash('sha256').update(pdf).digest('hex')}, ${pdf.length}::int, ${renderMs}::int, ${now.toISOString()}::timestamptz
+        where not exists (select 1 from existing)
+        returning id
+      )
+      select id, (select pg_notify(${EVENTS_CHANNEL}, ${JSON.stringify(event)})) as notified from ins
+      union all select id, null from existing`);
+    return rows[0].id;
   });
 }
 
