@@ -10,3 +10,4 @@ export * from '../modules/travelers/travelers.table';
 export * from '../modules/alerts/alerts.table';
 export * from '../modules/quality/quality.table';
 export * from '../modules/qualification/qualification.table';
+export * from '../modules/analysis/analysis.table';

@@ -71,6 +71,8 @@ export const controlChartQuerySchema = z.intersection(
       /** Optional baseline window: limits are computed from it and held for every point shown. */
       baselineFrom: z.iso.datetime({ offset: true }).optional(),
       baselineTo: z.iso.datetime({ offset: true }).optional(),
+      /** `saved`: the frozen limits in force for this scope when there are any; `shown`: from the points shown. */
+      limits: z.enum(['saved', 'shown']).default('saved'),
     })
     .refine((q) => !q.baselineFrom === !q.baselineTo, {
       message: 'A baseline window needs both a start and an end',
@@ -179,9 +181,12 @@ export const controlChartViewSchema = z.object({
   baseline: z.object({
     center: z.number(),
     sigma: z.number(),
-    source: z.enum(['shown', 'window']),
+    /** `shown`: from the points shown; `window`: a baseline window tried out; `saved`: frozen limits in force. */
+    source: z.enum(['shown', 'window', 'saved']),
     from: z.string().nullable(),
     to: z.string().nullable(),
+    /** The saved limits used (who set them, when, version), when `source` is `saved`. */
+    saved: z.lazy(() => limitSetViewSchema).nullable(),
   }),
   location: chartLineSchema,
   spread: chartLineSchema.nullable(),
@@ -284,3 +289,72 @@ export const CHECK_NAMES: Record<string, string> = {
   'speed.variation': 'Speed varied too much',
   'capture.ke_within_limits': 'Back-EMF constant outside limits',
 };
+
+/** The scope of frozen limits: a model's figure at one station, or across the model's stations. */
+export const limitScopeQuerySchema = z.object({
+  model: z.uuid('Choose a model'),
+  station: z.uuid().optional(),
+  figure: figureSchema.default('offsetDeg'),
+});
+export type LimitScopeQuery = z.infer<typeof limitScopeQuerySchema>;
+
+const reasonSchema = z.string().trim().min(3, 'Say why (at least 3 characters)').max(500);
+
+/**
+ * Freeze limits from a baseline window: the filter (one station or none) selects the values, the window
+ * bounds them in time, and the chart kind says how σ within is estimated.
+ */
+export const freezeLimitsSchema = z.intersection(
+  analysisFilterSchema,
+  z
+    .object({
+      chart: z.enum(['imr', 'xbar-r', 'xbar-s']).default('imr'),
+      subgroupSize: z.coerce.number().int().min(2).max(25).default(5),
+      baselineFrom: z.iso.datetime({ offset: true }),
+      baselineTo: z.iso.datetime({ offset: true }),
+      reason: reasonSchema,
+    })
+    .refine((q) => q.baselineFrom < q.baselineTo, {
+      message: 'The start of the baseline window must come before its end',
+      path: ['baselineTo'],
+    }),
+);
+export type FreezeLimitsInput = z.infer<typeof freezeLimitsSchema>;
+
+export const clearLimitsSchema = z.object({
+  model: z.uuid('Choose a model'),
+  station: z.uuid().optional(),
+  figure: figureSchema.default('offsetDeg'),
+  reason: reasonSchema,
+});
+export type ClearLimitsInput = z.infer<typeof clearLimitsSchema>;
+
+export const limitSetViewSchema = z.object({
+  id: z.string(),
+  version: z.number().int(),
+  /** `station`: limits of one station; `model`: of the model across its stations. */
+  scope: z.enum(['station', 'model']),
+  stationId: z.string().nullable(),
+  figure: figureSchema,
+  /** A clearing version: charts compute their limits from the data shown again. */
+  cleared: z.boolean(),
+  center: z.number().nullable(),
+  sigma: z.number().nullable(),
+  basis: z.enum(['imr', 'xbar-r', 'xbar-s']).nullable(),
+  subgroupSize: z.number().int().nullable(),
+  baselineFrom: z.string().nullable(),
+  baselineTo: z.string().nullable(),
+  points: z.number().int().nullable(),
+  reason: z.string(),
+  setBy: z.string(),
+  setAt: z.string(),
+});
+export type LimitSetView = z.infer<typeof limitSetViewSchema>;
+
+export const limitHistorySchema = z.object({
+  /** The limits charts of this scope use now (a station's own, else the model's), or null. */
+  inForce: limitSetViewSchema.nullable(),
+  /** Every version of exactly this scope, newest first. */
+  versions: z.array(limitSetViewSchema),
+});
+export type LimitHistory = z.infer<typeof limitHistorySchema>;

@@ -9,6 +9,7 @@ import type { Mailer } from '../mail/mail.service';
 import { stationCalibrationsAfter, stationModelPairs } from '../measurements/calibrations.repository';
 import { findStation } from '../stations/stations.service';
 import { findUserById } from '../users/users.repository';
+import { limitsInForce } from '../analysis/control-limits.service';
 import type { AlertView } from '../../../shared/schemas/alerts';
 import {
   alertSubscriptions,
@@ -30,6 +31,13 @@ const DEFAULT_CHARTS = [
   { kind: 'ewma' as const, ruleSet: 'western-electric', rules: [1, 2], lambda: 0.2, limitWidth: 3 },
 ];
 
+/** How people read each kind of watched chart. */
+export const CHART_LABELS = {
+  imr: 'Individuals chart of the offset',
+  ewma: 'EWMA of the offset',
+  'xbar-r': 'Subgroup means and ranges of the offset',
+} as const;
+
 export const alertErrors = {
   notFound: () => new AppError(404, 'alerts.not_found', 'There is no such alert.'),
   notOpen: () => new AppError(409, 'alerts.not_open', 'This alert has already been acknowledged.'),
@@ -43,7 +51,7 @@ export interface WatchDeps {
   publicUrl?: string;
 }
 
-async function ensureDefaultCharts(db: DbOrTx, stationId: string, modelId: string, now: Date) {
+export async function ensureDefaultCharts(db: DbOrTx, stationId: string, modelId: string, now: Date) {
   await db
     .insert(watchedCharts)
     .values(
@@ -82,9 +90,22 @@ export async function watchStationModel(
       const charts = await tx
         .select()
         .from(watchedCharts)
-        .where(and(eq(watchedCharts.stationId, key.stationId), eq(watchedCharts.modelId, key.modelId)))
+        .where(
+          and(
+            eq(watchedCharts.stationId, key.stationId),
+            eq(watchedCharts.modelId, key.modelId),
+            eq(watchedCharts.watched, true),
+          ),
+        )
         .orderBy(watchedCharts.kind)
         .for('update');
+      if (!charts.length) return 0;
+      // Frozen offset limits of the station (else of the model) replace each chart's own limits while in force.
+      const limits = await limitsInForce(tx, { ...key, figure: 'offsetDeg' });
+      const frozen =
+        limits && limits.center !== null && limits.sigma !== null
+          ? { id: limits.id, center: limits.center, sigma: limits.sigma }
+          : null;
       // Every chart of the pair moves together; the oldest cursor decides where to read from.
       const cursors = charts.map((c) => c.state.cursor);
       const oldest = cursors.some((c) => c === null)
@@ -120,6 +141,8 @@ export async function watchStationModel(
               rules: chart.rules,
               lambda: chart.lambda ?? 0.2,
               limitWidth: chart.limitWidth ?? 3,
+              subgroupSize: chart.subgroupSize ?? 5,
+              frozen,
             },
             point,
           );
@@ -205,7 +228,7 @@ async function mailSubscribers(deps: WatchDeps, raised: RaisedAlert[]) {
   const found = await findModelWithActiveRecipe(deps.db, chart.modelId);
   const lines = raised.map(
     (r) =>
-      `- ${r.chart.kind === 'ewma' ? 'EWMA' : 'Individuals'} chart: ${r.hit.ruleText} (units ${r.hit.points.map((p) => p.serial).join(', ')})`,
+      `- ${CHART_LABELS[r.chart.kind]}: ${r.hit.ruleText} (units ${r.hit.points.map((p) => p.serial).join(', ')})`,
   );
   for (const person of to) {
     try {
@@ -259,7 +282,7 @@ export async function listAlerts(
   return rows.map((r) => ({
     id: r.alert.id,
     chart: r.kind,
-    chartLabel: r.kind === 'ewma' ? 'EWMA of the offset' : 'Individuals chart of the offset',
+    chartLabel: CHART_LABELS[r.kind],
     stationId: r.stationId,
     station: names.get(r.stationId)!,
     modelId: r.modelId,

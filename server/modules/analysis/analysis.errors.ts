@@ -16,3 +16,14 @@ export const analysisErrors = {
       'The baseline window holds too few calibrations to compute limits. Choose a longer window.',
     ),
 };
+
+export const limitErrors = {
+  oneStation: () =>
+    new AppError(
+      422,
+      'analysis.limits_one_station',
+      'Frozen limits belong to one station or to the whole model: choose one station in the filter, or none.',
+    ),
+  unknownStation: () => new AppError(404, 'analysis.unknown_station', 'There is no such station.'),
+  nothingToClear: () => new AppError(409, 'analysis.no_limits', 'There are no frozen limits here to clear.'),
+};

@@ -4,9 +4,15 @@ import { defineRoute, sendPdf } from '../../lib/http';
 import type { Access } from '../../../shared/schemas/roles';
 import {
   analysisFilterSchema,
+  clearLimitsSchema,
   comparisonQuerySchema,
   controlChartQuerySchema,
+  freezeLimitsSchema,
+  limitHistorySchema,
+  limitScopeQuerySchema,
+  limitSetViewSchema,
 } from '../../../shared/schemas/analysis';
+import { clearLimits, freezeLimits, limitHistory } from './control-limits.service';
 import { writeCalibrationsCsv } from './analysis.export';
 import { capabilityReport } from './analysis.service';
 import {
@@ -22,6 +28,9 @@ import {
  * tracing a lot); administrators pass every role check.
  */
 export const ANALYSIS_ACCESS = ['engineer', 'quality'] as const satisfies Access;
+
+/** Frozen control limits are the process engineer's to set (administrators pass every role list). */
+const LIMITS_ACCESS = ['engineer'] as const satisfies Access;
 
 const optionsQuery = z.object({ model: z.uuid('Choose a model') });
 
@@ -59,6 +68,40 @@ export function analysisRoutes(deps: AppDeps) {
     }),
     defineRoute({
       method: 'get',
+      path: '/api/analysis/limits',
+      access: ANALYSIS_ACCESS,
+      summary:
+        'Frozen control limits of a station (or the model) and a figure: the ones in force and every version',
+      request: { query: limitScopeQuerySchema },
+      responses: { 200: { description: 'Limits in force and versions', schema: limitHistorySchema } },
+      handle: async ({ query }, res) => {
+        res.json(await limitHistory(deps.db, query));
+      },
+    }),
+    defineRoute({
+      method: 'post',
+      path: '/api/analysis/limits',
+      access: LIMITS_ACCESS,
+      summary: 'Freeze control limits from a baseline window (a new version, audited)',
+      request: { body: freezeLimitsSchema },
+      responses: { 201: { description: 'The saved version', schema: limitSetViewSchema } },
+      handle: async ({ body, caller }, res) => {
+        res.status(201).json(await freezeLimits(deps.db, deps.clock, caller.user, body));
+      },
+    }),
+    defineRoute({
+      method: 'post',
+      path: '/api/analysis/limits/clear',
+      access: LIMITS_ACCESS,
+      summary: 'Return a scope to limits computed from the data shown (a clearing version, audited)',
+      request: { body: clearLimitsSchema },
+      responses: { 201: { description: 'The clearing version', schema: limitSetViewSchema } },
+      handle: async ({ body, caller }, res) => {
+        res.status(201).json(await clearLimits(deps.db, deps.clock, caller.user, body));
+      },
+    }),
+    defineRoute({
+      method: 'get',
       path: '/api/analysis/comparison',
       access: ANALYSIS_ACCESS,
       summary: 'Groups (station, lot, operator, recipe version) compared with a one-way test',
@@ -84,12 +127,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'One-page capability report (PDF) of a figure for the filter',
       request: { query: analysisFilterSchema },
       handle: async ({ query, caller }, res) => {
-        const pdf = await capabilityReport(
-          deps.db,
-          deps.clock,
-          caller.user,
-          query,
-        );
+        const pdf = await capabilityReport(deps.db, deps.clock, caller.user, query);
         sendPdf(res, pdf, 'capability-report.pdf');
       },
     }),

@@ -49,6 +49,8 @@ import {
   type ChartRow,
 } from '../measurements/calibration-aggregates.repository';
 import { analysisErrors } from './analysis.errors';
+import type { ControlLimitSetRecord } from './analysis.table';
+import { baselineFromWindow, frozenBaseline, limitSetView, limitsInForce } from './control-limits.service';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import type { SessionUser } from '../../lib/auth';
@@ -184,21 +186,28 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
   const needed = size === 1 ? 2 : 2 * size;
   if (rows.length < needed) throw analysisErrors.tooFewForChart(rows.length, needed);
 
+  // A window being tried out wins; otherwise the frozen limits in force for this scope (one station's own,
+  // else the model's), unless the engineer asked for limits from the points shown.
   let frozen: Baseline | undefined;
+  let saved: ControlLimitSetRecord | null = null;
   if (q.baselineFrom && q.baselineTo) {
-    const { rows: base } = await newestFigures(db, q, {
-      from: new Date(q.baselineFrom),
-      to: new Date(q.baselineTo),
-      limit: 20_000,
-      withTotal: false,
+    frozen = (
+      await baselineFromWindow(
+        db,
+        q,
+        q.chart === 'ewma' ? 'imr' : q.chart,
+        size,
+        new Date(q.baselineFrom),
+        new Date(q.baselineTo),
+      )
+    ).baseline;
+  } else if (q.limits === 'saved') {
+    saved = await limitsInForce(db, {
+      modelId: q.model,
+      stationId: q.stations?.length === 1 ? q.stations[0] : null,
+      figure: q.figure,
     });
-    const values = base.map((r) => r.value);
-    const chart =
-      size === 1
-        ? individualsChart(values)
-        : subgroupChart(consecutiveSubgroups(values, size), q.chart === 'xbar-s' ? 'xbar-s' : 'xbar-r');
-    if (!chart || !(chart.baseline.sigma > 0)) throw analysisErrors.emptyBaseline();
-    frozen = chart.baseline;
+    frozen = frozenBaseline(saved) ?? undefined;
   }
 
   const values = rows.map((r) => r.value);
@@ -292,9 +301,10 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
     baseline: {
       center: baseline.center,
       sigma: baseline.sigma,
-      source: frozen ? 'window' : 'shown',
-      from: q.baselineFrom ?? null,
-      to: q.baselineTo ?? null,
+      source: saved ? 'saved' : frozen ? 'window' : 'shown',
+      from: saved ? (saved.baselineFrom?.toISOString() ?? null) : (q.baselineFrom ?? null),
+      to: saved ? (saved.baselineTo?.toISOString() ?? null) : (q.baselineTo ?? null),
+      saved: saved ? limitSetView(saved) : null,
     },
     location,
     spread,
@@ -311,9 +321,7 @@ export async function comparisonView(db: DbOrTx, q: ComparisonQuery): Promise<Co
       ...g,
       key: g.key ?? '',
       label:
-        g.key === null
-          ? 'Not recorded'
-          : (g.label ?? (q.by === 'operator' ? 'Unknown operator' : g.key)),
+        g.key === null ? 'Not recorded' : (g.label ?? (q.by === 'operator' ? 'Unknown operator' : g.key)),
     }))
     .sort((a, b) => a.label.localeCompare(b.label));
   const nonNormal = entries
