@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { TIME_PRESETS } from '../time/plant-time';
 
 /**
  * The process engineer's line statistics: one filter for every view, carried in the URL query string
@@ -39,6 +40,11 @@ export const analysisFilterSchema = z
     operators: list(z.uuid()),
     from: z.iso.datetime({ offset: true }).optional(),
     to: z.iso.datetime({ offset: true }).optional(),
+    /**
+     * A time preset in the plant's time zone, resolved by the server when the view is read (so "this shift"
+     * moves with the clock): it replaces `from`/`to`. `custom` and `all` leave them as given.
+     */
+    range: z.enum(TIME_PRESETS).optional(),
     verdict: z.enum(['pass', 'fail', 'all']).default('all'),
     /** Only each unit's first counted attempt, or every attempt. */
     attempts: z.enum(['first', 'all']).default('all'),
@@ -60,8 +66,10 @@ export const controlChartQuerySchema = z.intersection(
   z
     .object({
       chart: chartKindSchema.default('imr'),
-      /** Consecutive units per subgroup (X̄-R and X̄-S). */
+      /** Units per subgroup (X̄-R and X̄-S): consecutive ones, or at most this many from each hour or shift. */
       subgroupSize: z.coerce.number().int().min(2).max(25).default(5),
+      /** `count`: consecutive units; `hour` / `shift`: the first units of each hour or plant shift (local time). */
+      subgroupBy: z.enum(['count', 'hour', 'shift']).default('count'),
       lambda: z.coerce.number().gt(0).max(1).default(0.2),
       L: z.coerce.number().gt(0).max(6).default(3),
       ruleSet: z.enum(['western-electric', 'nelson']).default('western-electric'),
@@ -160,6 +168,8 @@ export const chartPointSchema = z.object({
   serial: z.string(),
   unitIds: z.array(z.string()),
   computedAt: z.string(),
+  /** The hour or shift of a subgroup taken by time (plant time), e.g. "2026-11-05 Early". */
+  period: z.string().optional(),
   value: z.number(),
   rules: z.array(z.number().int()),
 });
@@ -266,6 +276,9 @@ export const lineHealthViewSchema = z.object({
 export type LineHealthView = z.infer<typeof lineHealthViewSchema>;
 
 export const analysisOptionsSchema = z.object({
+  /** The plant's time zone (IANA name) and shifts, for time presets and subgroups by shift. */
+  timeZone: z.string(),
+  shifts: z.array(z.object({ name: z.string(), startsAt: z.string() })),
   stations: z.array(z.object({ id: z.string(), name: z.string() })),
   hallBoardLots: z.array(z.string()),
   magnetRingLots: z.array(z.string()),

@@ -9,6 +9,12 @@ export const analysisErrors = {
       'analysis.too_few_points',
       `The filter selects ${n} calibration${n === 1 ? '' : 's'}; this chart needs at least ${needed}. Widen the filter.`,
     ),
+  tooFewPeriods: (n: number, by: 'hour' | 'shift') =>
+    new AppError(
+      422,
+      'analysis.too_few_periods',
+      `The filter selects ${n} ${by === 'hour' ? 'hour' : 'shift'}${n === 1 ? '' : 's'} with two or more units; subgroups by ${by} need at least 2. Widen the time range.`,
+    ),
   emptyBaseline: () =>
     new AppError(
       422,

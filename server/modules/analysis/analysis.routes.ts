@@ -21,7 +21,10 @@ import {
   controlChartView,
   distributionView,
   lineHealthView,
+  readPlantTime,
+  resolveRange,
 } from './analysis.service';
+import type { AnalysisFilter } from '../../../shared/schemas/analysis';
 
 /**
  * Line statistics are read by process engineers (their daily work) and quality staff (capability evidence,
@@ -35,6 +38,11 @@ const LIMITS_ACCESS = ['engineer'] as const satisfies Access;
 const optionsQuery = z.object({ model: z.uuid('Choose a model') });
 
 export function analysisRoutes(deps: AppDeps) {
+  /** The filter with its time preset resolved now, in the plant's zone, and the plant's time settings. */
+  const resolved = async <F extends AnalysisFilter>(filter: F) => {
+    const time = await readPlantTime(deps.db, deps.env.PLANT_TIME_ZONE);
+    return { filter: resolveRange(filter, deps.clock(), time), time };
+  };
   return [
     defineRoute({
       method: 'get',
@@ -43,7 +51,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'Stations, lots, operators and recipe versions with calibrations of a model (for the filter)',
       request: { query: optionsQuery },
       handle: async ({ query }, res) => {
-        res.json(await analysisOptions(deps.db, query.model));
+        res.json(await analysisOptions(deps.db, query.model, deps.env.PLANT_TIME_ZONE));
       },
     }),
     defineRoute({
@@ -53,7 +61,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'Distribution, normality test and capability of a figure over the filtered calibrations',
       request: { query: analysisFilterSchema },
       handle: async ({ query }, res) => {
-        res.json(await distributionView(deps.db, query));
+        res.json(await distributionView(deps.db, (await resolved(query)).filter));
       },
     }),
     defineRoute({
@@ -63,7 +71,8 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'I-MR, X̄-R, X̄-S or EWMA chart of the filtered calibrations with run-rule violations',
       request: { query: controlChartQuerySchema },
       handle: async ({ query }, res) => {
-        res.json(await controlChartView(deps.db, query));
+        const { filter, time } = await resolved(query);
+        res.json(await controlChartView(deps.db, filter, time));
       },
     }),
     defineRoute({
@@ -107,7 +116,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'Groups (station, lot, operator, recipe version) compared with a one-way test',
       request: { query: comparisonQuerySchema },
       handle: async ({ query }, res) => {
-        res.json(await comparisonView(deps.db, query));
+        res.json(await comparisonView(deps.db, (await resolved(query)).filter));
       },
     }),
     defineRoute({
@@ -117,7 +126,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'First-pass yield and retest rate per station per day, failed checks, placement trends',
       request: { query: analysisFilterSchema },
       handle: async ({ query }, res) => {
-        res.json(await lineHealthView(deps.db, query));
+        res.json(await lineHealthView(deps.db, (await resolved(query)).filter));
       },
     }),
     defineRoute({
@@ -138,7 +147,7 @@ export function analysisRoutes(deps: AppDeps) {
       summary: 'The filtered calibrations as CSV (streamed; units in the headers)',
       request: { query: analysisFilterSchema },
       handle: async ({ query }, res) => {
-        const filter = query;
+        const { filter } = await resolved(query);
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="calibrations.csv"');
         await writeCalibrationsCsv(deps.pool, filter, res);

@@ -242,3 +242,53 @@ describe('choosing the watched charts', () => {
     expect((res.body.charts as WatchedChartView[]).every((c) => c.limits === 'frozen')).toBe(true);
   });
 });
+
+describe('time presets and subgroups by hour and by shift (plant time)', () => {
+  it('resolves “the last 7 days” on the server from local midnight six days ago', async () => {
+    const preset = await request(t.app)
+      .get('/api/analysis/distribution')
+      .query({ model: modelId, range: 'week' })
+      .set('Cookie', engineer);
+    // The test app's plant zone is UTC: the 13th at 00:00 to now.
+    const explicit = await request(t.app)
+      .get('/api/analysis/distribution')
+      .query({ model: modelId, from: '2026-11-13T00:00:00Z' })
+      .set('Cookie', engineer);
+    expect(preset.status).toBe(200);
+    expect(preset.body.n).toBe(explicit.body.n);
+    const all = await request(t.app)
+      .get('/api/analysis/distribution')
+      .query({ model: modelId })
+      .set('Cookie', engineer);
+    expect(preset.body.n).toBeLessThan(all.body.n);
+  });
+
+  it('takes up to N units of each shift as a subgroup, labelled with the shift, limits per subgroup size', async () => {
+    // The demo seed keeps the plant's shifts (through the qualification module).
+    const options = (
+      await request(t.app).get('/api/analysis/options').query({ model: modelId }).set('Cookie', engineer)
+    ).body as AnalysisOptions;
+    expect(options.shifts.length).toBeGreaterThan(1);
+    const names = options.shifts.map((s) => s.name);
+    const res = await chart({ chart: 'xbar-r', subgroupBy: 'shift', subgroupSize: '4', limits: 'shown' });
+    expect(res.status).toBe(200);
+    const v = res.body as ControlChartView;
+    expect(v.location.points.length).toBeGreaterThan(5);
+    for (const p of v.location.points) {
+      expect(names).toContain(p.period!.slice(11));
+      expect(p.period!.slice(0, 8)).toBe('2026-11-');
+      expect(p.unitIds.length).toBeGreaterThanOrEqual(2);
+      expect(p.unitIds.length).toBeLessThanOrEqual(4);
+    }
+    expect(new Set(v.location.points.map((p) => p.period)).size).toBe(v.location.points.length);
+    // A subgroup of 2 has wider limits than one of 4 (σ/√n).
+    const half = v.location.points.map((p, i) => [
+      p.unitIds.length,
+      v.location.ucl[i] - v.location.center[i],
+    ]);
+    const of = (n: number) => half.find(([k]) => k === n)?.[1];
+    if (of(2) !== undefined && of(4) !== undefined) expect(of(2)! / of(4)!).toBeCloseTo(Math.SQRT2, 8);
+    const hourly = await chart({ chart: 'xbar-s', subgroupBy: 'hour', subgroupSize: '3', limits: 'shown' });
+    expect([200, 422]).toContain(hourly.status);
+  });
+});
