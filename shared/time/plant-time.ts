@@ -112,3 +112,10 @@ export function periodKeyer(
     return `${prev.getUTCFullYear()}-${pad(prev.getUTCMonth() + 1)}-${pad(prev.getUTCDate())} ${sorted[sorted.length - 1].name}`;
   };
 }
+
+/** An instant as the plant's local "YYYY-MM-DDTHH:mm" (the value of a datetime-local field). */
+export function plantLocalInput(at: Date, timeZone: string): string {
+  const t = at.getTime();
+  const l = new Date(t + zoneOffsetMs(t, timeZone));
+  return `${l.getUTCFullYear()}-${pad(l.getUTCMonth() + 1)}-${pad(l.getUTCDate())}T${pad(l.getUTCHours())}:${pad(l.getUTCMinutes())}`;
+}
