@@ -123,7 +123,7 @@ export function WatchedCharts({ modelId, canChange }: { modelId: string; canChan
             options={stations.map(([id, name]) => ({ value: id, label: name }))}
           />
           <SelectField
-            label="Chart"
+            label="Chart to watch"
             value={kind}
             onChange={(e) => pick(station, e.target.value as Kind)}
             options={Object.entries(KINDS).map(([v, label]) => ({ value: v, label }))}
