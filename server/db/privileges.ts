@@ -36,6 +36,8 @@ export const APP_TABLE_ACCESS = {
   watched_charts: { update: 'row' },
   chart_alerts: { update: 'row' },
   alert_subscriptions: { update: 'row', delete: true },
+  // Frozen control limits: every save or clearing is a new version, kept as it was set.
+  control_limit_sets: { appendOnly: true },
   // A what-if run moves through queued → running → finished/cancelled and records its progress.
   what_if_runs: { update: 'row' },
   // Quality: a case is edited as it moves open → contained → closed; a hold is released once (the

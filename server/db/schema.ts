@@ -11,3 +11,4 @@ export * from '../modules/alerts/alerts.table';
 export * from '../modules/quality/quality.table';
 export * from '../modules/quality/attachments.table';
 export * from '../modules/qualification/qualification.table';
+export * from '../modules/analysis/analysis.table';

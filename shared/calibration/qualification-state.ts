@@ -43,7 +43,7 @@ export interface QualificationDecision {
 /** A qualification is "due soon" in its last 30 minutes, or its last 10 % of units (at least 1). */
 export const DUE_SOON_MINUTES = 30;
 
-function zoneOffsetMs(at: number, timeZone: string): number {
+export function zoneOffsetMs(at: number, timeZone: string): number {
   const parts = new Intl.DateTimeFormat('en-US', {
     timeZone,
     hourCycle: 'h23',
@@ -61,7 +61,7 @@ function zoneOffsetMs(at: number, timeZone: string): number {
 }
 
 /** The instant of a local wall-clock time (minutes after midnight of a local date) in a time zone. */
-function localInstant(y: number, m: number, d: number, minutes: number, timeZone: string): number {
+export function localInstant(y: number, m: number, d: number, minutes: number, timeZone: string): number {
   const guess = Date.UTC(y, m, d, 0, minutes);
   const first = guess - zoneOffsetMs(guess, timeZone);
   // Once more at the found instant, so a daylight-saving change between the two lands right.

@@ -11,7 +11,7 @@ export const alertPointSchema = z.object({
 
 export const alertViewSchema = z.object({
   id: z.string(),
-  chart: z.enum(['imr', 'ewma', 'qualification']),
+  chart: z.enum(['imr', 'ewma', 'qualification', 'xbar-r']),
   chartLabel: z.string(),
   stationId: z.string(),
   station: z.string(),
@@ -42,3 +42,57 @@ export const acknowledgeAlertSchema = z.object({
 });
 
 export const alertSubscriptionSchema = z.object({ subscribed: z.boolean() });
+
+export const watchedChartKindSchema = z.enum(['imr', 'ewma', 'xbar-r']);
+export const RULE_SET_SIZE = { 'western-electric': 4, nelson: 8 } as const;
+
+/** An engineer's choice for one chart of a station × model (a kind the pair lacks is added). */
+export const watchedChartSettingsSchema = z
+  .object({
+    stationId: z.uuid('Choose a station'),
+    modelId: z.uuid('Choose a model'),
+    kind: watchedChartKindSchema,
+    watched: z.boolean(),
+    ruleSet: z.enum(['western-electric', 'nelson']).default('western-electric'),
+    /** Rules judged (individuals and X̄-R); every rule of the set when left out. */
+    rules: z.array(z.number().int().min(1).max(8)).min(1).max(8).optional(),
+    /** EWMA weight λ and limit width L (in σ of the EWMA). */
+    lambda: z.number().gt(0).max(1).default(0.2),
+    limitWidth: z.number().gt(0).max(6).default(3),
+    /** X̄-R: consecutive units per subgroup. */
+    subgroupSize: z.number().int().min(2).max(25).default(5),
+  })
+  .refine((s) => !s.rules || s.rules.every((r) => r <= RULE_SET_SIZE[s.ruleSet]), {
+    message: 'Western Electric has rules 1 to 4; Nelson has rules 1 to 8',
+    path: ['rules'],
+  });
+export type WatchedChartSettings = z.infer<typeof watchedChartSettingsSchema>;
+
+export const watchedChartListQuerySchema = z.object({
+  modelId: z.uuid().optional(),
+  stationId: z.uuid().optional(),
+});
+
+export const watchedChartViewSchema = z.object({
+  id: z.string(),
+  stationId: z.string(),
+  station: z.string(),
+  modelId: z.string(),
+  model: z.string(),
+  kind: watchedChartKindSchema,
+  label: z.string(),
+  watched: z.boolean(),
+  ruleSet: z.enum(['western-electric', 'nelson']),
+  rules: z.array(z.number().int()),
+  lambda: z.number().nullable(),
+  limitWidth: z.number().nullable(),
+  subgroupSize: z.number().int().nullable(),
+  /** Who chose these settings and when (null: the product's default). */
+  changedBy: z.string().nullable(),
+  changedAt: z.string().nullable(),
+  /** `frozen`: an engineer's saved limits are in force; `own`: fixed from the chart's first points; `pending`: still collecting them. */
+  limits: z.enum(['frozen', 'own', 'pending']),
+  /** Points judged against the current limits. */
+  judged: z.number().int(),
+});
+export type WatchedChartView = z.infer<typeof watchedChartViewSchema>;

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { TIME_PRESETS } from '../time/plant-time';
 
 /**
  * The process engineer's line statistics: one filter for every view, carried in the URL query string
@@ -39,6 +40,11 @@ export const analysisFilterSchema = z
     operators: list(z.uuid()),
     from: z.iso.datetime({ offset: true }).optional(),
     to: z.iso.datetime({ offset: true }).optional(),
+    /**
+     * A time preset in the plant's time zone, resolved by the server when the view is read (so "this shift"
+     * moves with the clock): it replaces `from`/`to`. `custom` and `all` leave them as given.
+     */
+    range: z.enum(TIME_PRESETS).optional(),
     verdict: z.enum(['pass', 'fail', 'all']).default('all'),
     /** Only each unit's first counted attempt, or every attempt. */
     attempts: z.enum(['first', 'all']).default('all'),
@@ -60,8 +66,10 @@ export const controlChartQuerySchema = z.intersection(
   z
     .object({
       chart: chartKindSchema.default('imr'),
-      /** Consecutive units per subgroup (X̄-R and X̄-S). */
+      /** Units per subgroup (X̄-R and X̄-S): consecutive ones, or at most this many from each hour or shift. */
       subgroupSize: z.coerce.number().int().min(2).max(25).default(5),
+      /** `count`: consecutive units; `hour` / `shift`: the first units of each hour or plant shift (local time). */
+      subgroupBy: z.enum(['count', 'hour', 'shift']).default('count'),
       lambda: z.coerce.number().gt(0).max(1).default(0.2),
       L: z.coerce.number().gt(0).max(6).default(3),
       ruleSet: z.enum(['western-electric', 'nelson']).default('western-electric'),
@@ -71,6 +79,8 @@ export const controlChartQuerySchema = z.intersection(
       /** Optional baseline window: limits are computed from it and held for every point shown. */
       baselineFrom: z.iso.datetime({ offset: true }).optional(),
       baselineTo: z.iso.datetime({ offset: true }).optional(),
+      /** `saved`: the frozen limits in force for this scope when there are any; `shown`: from the points shown. */
+      limits: z.enum(['saved', 'shown']).default('saved'),
     })
     .refine((q) => !q.baselineFrom === !q.baselineTo, {
       message: 'A baseline window needs both a start and an end',
@@ -158,6 +168,8 @@ export const chartPointSchema = z.object({
   serial: z.string(),
   unitIds: z.array(z.string()),
   computedAt: z.string(),
+  /** The hour or shift of a subgroup taken by time (plant time), e.g. "2026-11-05 Early". */
+  period: z.string().optional(),
   value: z.number(),
   rules: z.array(z.number().int()),
 });
@@ -179,9 +191,12 @@ export const controlChartViewSchema = z.object({
   baseline: z.object({
     center: z.number(),
     sigma: z.number(),
-    source: z.enum(['shown', 'window']),
+    /** `shown`: from the points shown; `window`: a baseline window tried out; `saved`: frozen limits in force. */
+    source: z.enum(['shown', 'window', 'saved']),
     from: z.string().nullable(),
     to: z.string().nullable(),
+    /** The saved limits used (who set them, when, version), when `source` is `saved`. */
+    saved: z.lazy(() => limitSetViewSchema).nullable(),
   }),
   location: chartLineSchema,
   spread: chartLineSchema.nullable(),
@@ -261,6 +276,9 @@ export const lineHealthViewSchema = z.object({
 export type LineHealthView = z.infer<typeof lineHealthViewSchema>;
 
 export const analysisOptionsSchema = z.object({
+  /** The plant's time zone (IANA name) and shifts, for time presets and subgroups by shift. */
+  timeZone: z.string(),
+  shifts: z.array(z.object({ name: z.string(), startsAt: z.string() })),
   stations: z.array(z.object({ id: z.string(), name: z.string() })),
   hallBoardLots: z.array(z.string()),
   magnetRingLots: z.array(z.string()),
@@ -284,3 +302,72 @@ export const CHECK_NAMES: Record<string, string> = {
   'speed.variation': 'Speed varied too much',
   'capture.ke_within_limits': 'Back-EMF constant outside limits',
 };
+
+/** The scope of frozen limits: a model's figure at one station, or across the model's stations. */
+export const limitScopeQuerySchema = z.object({
+  model: z.uuid('Choose a model'),
+  station: z.uuid().optional(),
+  figure: figureSchema.default('offsetDeg'),
+});
+export type LimitScopeQuery = z.infer<typeof limitScopeQuerySchema>;
+
+const reasonSchema = z.string().trim().min(3, 'Say why (at least 3 characters)').max(500);
+
+/**
+ * Freeze limits from a baseline window: the filter (one station or none) selects the values, the window
+ * bounds them in time, and the chart kind says how σ within is estimated.
+ */
+export const freezeLimitsSchema = z.intersection(
+  analysisFilterSchema,
+  z
+    .object({
+      chart: z.enum(['imr', 'xbar-r', 'xbar-s']).default('imr'),
+      subgroupSize: z.coerce.number().int().min(2).max(25).default(5),
+      baselineFrom: z.iso.datetime({ offset: true }),
+      baselineTo: z.iso.datetime({ offset: true }),
+      reason: reasonSchema,
+    })
+    .refine((q) => q.baselineFrom < q.baselineTo, {
+      message: 'The start of the baseline window must come before its end',
+      path: ['baselineTo'],
+    }),
+);
+export type FreezeLimitsInput = z.infer<typeof freezeLimitsSchema>;
+
+export const clearLimitsSchema = z.object({
+  model: z.uuid('Choose a model'),
+  station: z.uuid().optional(),
+  figure: figureSchema.default('offsetDeg'),
+  reason: reasonSchema,
+});
+export type ClearLimitsInput = z.infer<typeof clearLimitsSchema>;
+
+export const limitSetViewSchema = z.object({
+  id: z.string(),
+  version: z.number().int(),
+  /** `station`: limits of one station; `model`: of the model across its stations. */
+  scope: z.enum(['station', 'model']),
+  stationId: z.string().nullable(),
+  figure: figureSchema,
+  /** A clearing version: charts compute their limits from the data shown again. */
+  cleared: z.boolean(),
+  center: z.number().nullable(),
+  sigma: z.number().nullable(),
+  basis: z.enum(['imr', 'xbar-r', 'xbar-s']).nullable(),
+  subgroupSize: z.number().int().nullable(),
+  baselineFrom: z.string().nullable(),
+  baselineTo: z.string().nullable(),
+  points: z.number().int().nullable(),
+  reason: z.string(),
+  setBy: z.string(),
+  setAt: z.string(),
+});
+export type LimitSetView = z.infer<typeof limitSetViewSchema>;
+
+export const limitHistorySchema = z.object({
+  /** The limits charts of this scope use now (a station's own, else the model's), or null. */
+  inForce: limitSetViewSchema.nullable(),
+  /** Every version of exactly this scope, newest first. */
+  versions: z.array(limitSetViewSchema),
+});
+export type LimitHistory = z.infer<typeof limitHistorySchema>;

@@ -2,7 +2,13 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { messagesByField } from './plain-messages';
 import { createStationSchema, registerUnitSchema } from './line';
-import { bulkHoldSchema, holdUnitSchema, newInvestigationSchema, releaseSchema, unitSearchQuerySchema } from './quality';
+import {
+  bulkHoldSchema,
+  holdUnitSchema,
+  newInvestigationSchema,
+  releaseSchema,
+  unitSearchQuerySchema,
+} from './quality';
 import { measurementSchema } from './measurement';
 import { createUserSchema, updateUserSchema } from './users';
 import { passwordSignInSchema, badgeSignInSchema } from './auth';

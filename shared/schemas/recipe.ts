@@ -6,11 +6,9 @@ import { z } from 'zod';
  */
 
 const range = (what: string) =>
-  z
-    .tuple([z.number(), z.number()])
-    .refine(([min, max]) => min <= max, {
-      message: `${what}: the lowest value must not exceed the highest.`,
-    });
+  z.tuple([z.number(), z.number()]).refine(([min, max]) => min <= max, {
+    message: `${what}: the lowest value must not exceed the highest.`,
+  });
 
 export const recipeLimitsSchema = z.object({
   /** Accepted offset window [min, max] in electrical degrees, inside (−180, 180]. */

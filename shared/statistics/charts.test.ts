@@ -6,6 +6,7 @@ import {
   individualsChart,
   subgroupChart,
   consecutiveSubgroups,
+  variableSubgroupChart,
 } from './charts';
 import { chartConstants } from './constants';
 
@@ -98,4 +99,27 @@ it('lets one gross value move the EWMA by at most λ·3σ, and leaves values wit
   // A lasting shift of 2σ is still caught: λ·2·(1 + 0.8 + 0.64 + …) passes 3·√(0.2/1.8) = 1.0 by the 4th point.
   const shift = ewmaChart([0, 2, 2, 2, 2], { lambda: 0.2, L: 3, asymptotic: true }, baseline)!;
   expect(shift.line.values[4]).toBeGreaterThan(shift.line.ucl[4]);
+});
+
+it('draws subgroups of unequal size with each point’s own limits, and equals the fixed-size chart when sizes agree', () => {
+  const groups = [
+    [10.1, 9.8, 10.4, 10.0, 9.9],
+    [10.3, 10.1, 9.7, 10.2, 10.0],
+    [9.6, 10.2, 10.1, 9.9, 10.4],
+  ];
+  for (const kind of ['xbar-r', 'xbar-s'] as const) {
+    const fixed = subgroupChart(groups, kind)!;
+    const variable = variableSubgroupChart(groups, kind)!;
+    expect(variable.baseline.center).toBeCloseTo(fixed.baseline.center, 12);
+    expect(variable.baseline.sigma).toBeCloseTo(fixed.baseline.sigma, 12);
+    expect(variable.location.ucl).toEqual(fixed.location.ucl.map((u) => expect.closeTo(u, 12)));
+    expect(variable.spread.ucl).toEqual(fixed.spread.ucl.map((u) => expect.closeTo(u, 12)));
+  }
+  // An hour with 2 units and one with 5: the smaller subgroup's mean gets wider limits, by √(5/2).
+  const c = variableSubgroupChart([[10, 10.4], ...groups], 'xbar-r', { center: 10, sigma: 0.3 })!;
+  const half = (i: number) => c.location.ucl[i] - c.location.center[i];
+  expect(half(0) / half(1)).toBeCloseTo(Math.sqrt(5 / 2), 12);
+  // Range limits of n = 2 and n = 5 against Montgomery's Appendix VI: D4·d2 = 3.267·1.128 and 2.114·2.326.
+  expect(c.spread.ucl[0]).toBeCloseTo(3.267 * 1.128 * 0.3, 2);
+  expect(c.spread.ucl[1]).toBeCloseTo(2.114 * 2.326 * 0.3, 2);
 });

@@ -196,3 +196,44 @@ export function ewmaChart(
   }
   return { kind: 'ewma', baseline, lambda, L, line, state };
 }
+
+/**
+ * X̄-R or X̄-S of subgroups of unequal size (units sampled per hour or per shift; each has 2…25 units). Each
+ * point has the limits of its own n: centre ± 3σ/√n, and d2(n)σ, D3/D4·d2(n)σ (c4(n)σ, B3/B4·c4(n)σ) for the
+ * spread. Computed σ within is the average of each subgroup's unbiased estimate, R/d2(n) or s/c4(n), and the
+ * centre is the mean of every value (Montgomery, Introduction to SPC, §6.3.1, variable sample size, with the
+ * simple average of the per-subgroup σ estimates). With equal sizes it equals `subgroupChart`.
+ */
+export function variableSubgroupChart(
+  subgroups: readonly (readonly number[])[],
+  kind: 'xbar-r' | 'xbar-s',
+  frozen?: Baseline,
+): ShewhartChart | null {
+  if (subgroups.length < 2) return null;
+  const ks = subgroups.map((g) => chartConstants(g.length));
+  const means = subgroups.map((g) => mean(g));
+  const spreads = subgroups.map((g) => (kind === 'xbar-r' ? Math.max(...g) - Math.min(...g) : sampleSd(g)));
+  const total = subgroups.reduce((a, g) => a + g.length, 0);
+  const baseline = frozen ?? {
+    center: subgroups.reduce((a, g) => a + g.reduce((b, x) => b + x, 0), 0) / total,
+    sigma: mean(spreads.map((s, i) => (kind === 'xbar-r' ? s / ks[i].d2 : s / ks[i].c4))),
+  };
+  const { center, sigma } = baseline;
+  const sm = subgroups.map((g) => sigma / Math.sqrt(g.length));
+  const location: ChartLine = {
+    values: means,
+    center: means.map(() => center),
+    ucl: sm.map((s) => center + 3 * s),
+    lcl: sm.map((s) => center - 3 * s),
+    sigma: sm,
+  };
+  const spreadCenter = ks.map((k) => (kind === 'xbar-r' ? k.d2 : k.c4) * sigma);
+  const spread: ChartLine = {
+    values: spreads,
+    center: spreadCenter,
+    ucl: ks.map((k, i) => (kind === 'xbar-r' ? k.D4 : k.B4) * spreadCenter[i]),
+    lcl: ks.map((k, i) => (kind === 'xbar-r' ? k.D3 : k.B3) * spreadCenter[i]),
+    sigma: ks.map((k) => (kind === 'xbar-r' ? k.d3 : Math.sqrt(1 - k.c4 * k.c4)) * sigma),
+  };
+  return { kind, subgroupSize: Math.max(...subgroups.map((g) => g.length)), baseline, location, spread };
+}

@@ -184,7 +184,9 @@ export function groupsBeyondThreshold(
   threshold: number,
 ): GroupDifference[] {
   return groupsBeyondThresholdFromMeans(
-    groups.filter((g) => g.values.length > 0).map((g) => ({ key: g.key, n: g.values.length, mean: mean(g.values) })),
+    groups
+      .filter((g) => g.values.length > 0)
+      .map((g) => ({ key: g.key, n: g.values.length, mean: mean(g.values) })),
     threshold,
   );
 }

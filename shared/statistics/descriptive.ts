@@ -58,7 +58,17 @@ export function describeFromSums(s: {
 }): Description {
   const { n } = s;
   if (n === 0 || s.mean === null)
-    return { n: 0, mean: null, sd: null, median: null, min: null, max: null, skewness: null, q1: null, q3: null };
+    return {
+      n: 0,
+      mean: null,
+      sd: null,
+      median: null,
+      min: null,
+      max: null,
+      skewness: null,
+      q1: null,
+      q3: null,
+    };
   const m2 = (s.ss2 ?? 0) / n;
   const m3 = (s.ss3 ?? 0) / n;
   const g1 = m2 > 0 ? m3 / Math.pow(m2, 1.5) : 0;

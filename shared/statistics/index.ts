@@ -33,6 +33,7 @@ export {
   ewmaStep,
   individualsChart,
   subgroupChart,
+  variableSubgroupChart,
   type Baseline,
   type ChartLine,
   type EwmaChart,

@@ -13,7 +13,10 @@ let pageErrors: string[];
 
 /** Ticks or clears one choice of a several-at-once filter (stations, lots…), leaving the picker closed. */
 async function pick(label: string, option: string, on: boolean) {
-  const field = page.locator('div', { has: page.getByText(label, { exact: true }) }).filter({ has: page.locator('details') }).last();
+  const field = page
+    .locator('div', { has: page.getByText(label, { exact: true }) })
+    .filter({ has: page.locator('details') })
+    .last();
   await field.locator('summary').click();
   const box = page.getByRole('group', { name: label }).getByLabel(option, { exact: true });
   // The choice lands in the URL through a navigation, after which the box shows it: click, then wait.
@@ -99,6 +102,55 @@ describe('line statistics on the demo line', () => {
       .waitFor();
   });
 
+  it('freezes the drifting station’s limits from a baseline window, saying who set them and when', async () => {
+    // The demo's fortnight ends today: its first days are the baseline.
+    const day = (back: number) => new Date(Date.now() - back * 86_400_000).toISOString().slice(0, 10);
+    await page.getByLabel('Limits from (local time)').fill(day(13));
+    await page.getByLabel('Limits until (local time)').fill(day(9));
+    await page.getByText(/held from the window .* \(not saved\)/).waitFor();
+    await page
+      .getByLabel('Why (kept with the limits and in the audit log)')
+      .fill('Steady first days of the fortnight');
+    await page.getByRole('button', { name: 'Save limits from the baseline window' }).click();
+    await page.getByRole('table', { name: /Every version of the frozen limits/ }).waitFor();
+    await page.getByText(/set by Evan Thorsby/).waitFor();
+    // Without a window tried out, the chart uses the saved limits and says whose they are.
+    await page.getByLabel('Limits from (local time)').fill('');
+    await page.getByLabel('Limits until (local time)').fill('');
+    await page.getByText(/frozen \(version \d+\) by Evan Thorsby/).waitFor();
+    await page.getByRole('table', { name: 'Watched charts of this model by station' }).waitFor();
+    await shot('analysis-frozen-limits');
+    expect(await axeFindings(page)).toEqual([]);
+  });
+
+  it('lets an engineer add a subgroup chart with Nelson’s rules to the watched charts', async () => {
+    const form = page.getByRole('form', { name: 'Change a watched chart' });
+    await form.getByLabel('Station').selectOption({ label: 'EOL-23' });
+    await form.getByLabel('Chart to watch').selectOption('xbar-r');
+    await form.getByLabel('Run rules').selectOption('nelson');
+    await form.getByRole('button', { name: 'Save this chart' }).click();
+    await page.getByText('Saved. The chart judges the calibrations from now on.').waitFor();
+    await page
+      .getByRole('table', { name: 'Watched charts of this model by station' })
+      .getByRole('row', { name: /EOL-23.*Subgroup means and ranges.*Nelson 1, 2, 3, 4, 5, 6, 7, 8/ })
+      .waitFor();
+    await shot('analysis-watched-charts');
+    expect(await axeFindings(page)).toEqual([]);
+  });
+
+  it('draws subgroups by shift in plant time', async () => {
+    await page.getByLabel('Chart', { exact: true }).selectOption('xbar-r');
+    await page.getByLabel('Subgroups').selectOption('shift');
+    await page
+      .getByText(/units per shift, plant time/)
+      .first()
+      .waitFor();
+    await shot('analysis-subgroups-by-shift');
+    expect(await axeFindings(page)).toEqual([]);
+    await page.getByLabel('Subgroups').selectOption('count');
+    await page.getByLabel('Chart', { exact: true }).selectOption('imr');
+  });
+
   it('compares several stations and lots at once, the choice kept in the URL', async () => {
     await pick('Stations', 'EOL-21', true);
     expect(new URL(page.url()).searchParams.get('stations')?.split(',')).toHaveLength(2);
@@ -108,7 +160,14 @@ describe('line statistics on the demo line', () => {
     await page.getByLabel('Compare by').selectOption('station');
     const table = page.getByRole('table', { name: /Groups by station/ });
     await table.waitFor();
-    await expect.poll(() => table.getByRole('row').filter({ hasText: /EOL-2[13]/ }).count()).toBe(2);
+    await expect
+      .poll(() =>
+        table
+          .getByRole('row')
+          .filter({ hasText: /EOL-2[13]/ })
+          .count(),
+      )
+      .toBe(2);
     expect(new URL(page.url()).searchParams.get('hallBoardLots')).toBe('HB-2446-C,HB-2446-A');
     // The closed picker names the lots chosen, in the order of the list.
     await page.locator('summary', { hasText: 'HB-2446-A, HB-2446-C' }).waitFor();

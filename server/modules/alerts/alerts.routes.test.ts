@@ -42,13 +42,15 @@ beforeAll(async () => {
   engineer = await sessionCookie(t.app, 'evan.engineer', 'demo-engineer-pass');
   const sub = await request(t.app)
     .put('/api/alerts/subscription')
-    .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
+    .set('Origin', TEST_ORIGIN)
+    .set('Cookie', engineer)
     .send({ subscribed: true });
   expect(sub.body).toEqual({ subscribed: true });
   // The seed brings the watched charts up to date itself (its history is computed without jobs).
   const seeded = await seedDemoLine(t.deps, { units: 600, now: NOW });
   expect(seeded.chartPoints).toBeGreaterThan(500);
-  alerts = (await request(t.app).get('/api/alerts').set('Origin', TEST_ORIGIN).set('Cookie', engineer)).body.alerts;
+  alerts = (await request(t.app).get('/api/alerts').set('Origin', TEST_ORIGIN).set('Cookie', engineer)).body
+    .alerts;
 }, 180_000);
 
 afterAll(async () => {
@@ -83,7 +85,11 @@ describe('watched charts on the demo line', () => {
   it('shows a station’s open alerts to its operator', async () => {
     const operator = await sessionCookie(t.app, 'olga.operator', 'demo-operator-pass');
     const stationId = alerts.find((a) => a.station === DRIFTING_STATION)!.stationId;
-    const res = await request(t.app).get('/api/alerts').query({ stationId }).set('Origin', TEST_ORIGIN).set('Cookie', operator);
+    const res = await request(t.app)
+      .get('/api/alerts')
+      .query({ stationId })
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', operator);
     expect(res.status).toBe(200);
     expect(res.body.alerts.every((a: AlertView) => a.station === DRIFTING_STATION)).toBe(true);
   });
@@ -94,17 +100,20 @@ describe('acknowledging', () => {
     const alert = alerts[0];
     const short = await request(t.app)
       .post(`/api/alerts/${alert.id}/acknowledge`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', engineer)
       .send({ comment: '' });
     expect(short.status).toBe(400);
     const ok = await request(t.app)
       .post(`/api/alerts/${alert.id}/acknowledge`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', engineer)
       .send({ comment: 'Detector delay re-measured on the rig; recalibration booked.' });
     expect(ok.status).toBe(204);
     const again = await request(t.app)
       .post(`/api/alerts/${alert.id}/acknowledge`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', engineer)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', engineer)
       .send({ comment: 'again' });
     expect(again.status).toBe(409);
     const { rows } = await t.database.pool.query(
@@ -118,7 +127,11 @@ describe('acknowledging', () => {
       },
     ]);
     const acked = (
-      await request(t.app).get('/api/alerts').query({ status: 'acknowledged' }).set('Origin', TEST_ORIGIN).set('Cookie', engineer)
+      await request(t.app)
+        .get('/api/alerts')
+        .query({ status: 'acknowledged' })
+        .set('Origin', TEST_ORIGIN)
+        .set('Cookie', engineer)
     ).body.alerts as AlertView[];
     expect(acked.find((a) => a.id === alert.id)).toMatchObject({
       acknowledgedBy: 'Evan Thorsby',

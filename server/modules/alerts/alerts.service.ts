@@ -9,6 +9,7 @@ import type { Mailer } from '../mail/mail.service';
 import { stationCalibrationsAfter, stationModelPairs } from '../measurements/calibrations.repository';
 import { findStation } from '../stations/stations.service';
 import { findUserById } from '../users/users.repository';
+import { limitsInForce } from '../analysis/control-limits.service';
 import type { AlertView } from '../../../shared/schemas/alerts';
 import {
   alertSubscriptions,
@@ -30,6 +31,14 @@ const DEFAULT_CHARTS = [
   { kind: 'ewma' as const, ruleSet: 'western-electric', rules: [1, 2], lambda: 0.2, limitWidth: 3 },
 ];
 
+/** How people read each kind of watched chart. */
+export const CHART_LABELS = {
+  imr: 'Individuals chart of the offset',
+  ewma: 'EWMA of the offset',
+  'xbar-r': 'Subgroup means and ranges of the offset',
+  qualification: 'Reference-unit qualification',
+} as const;
+
 export const alertErrors = {
   notFound: () => new AppError(404, 'alerts.not_found', 'There is no such alert.'),
   notOpen: () => new AppError(409, 'alerts.not_open', 'This alert has already been acknowledged.'),
@@ -43,7 +52,7 @@ export interface WatchDeps {
   publicUrl?: string;
 }
 
-async function ensureDefaultCharts(db: DbOrTx, stationId: string, modelId: string, now: Date) {
+export async function ensureDefaultCharts(db: DbOrTx, stationId: string, modelId: string, now: Date) {
   await db
     .insert(watchedCharts)
     .values(
@@ -87,10 +96,18 @@ export async function watchStationModel(
             eq(watchedCharts.stationId, key.stationId),
             eq(watchedCharts.modelId, key.modelId),
             ne(watchedCharts.kind, 'qualification'),
+            eq(watchedCharts.watched, true),
           ),
         )
         .orderBy(watchedCharts.kind)
         .for('update');
+      if (!charts.length) return 0;
+      // Frozen offset limits of the station (else of the model) replace each chart's own limits while in force.
+      const limits = await limitsInForce(tx, { ...key, figure: 'offsetDeg' });
+      const frozen =
+        limits && limits.center !== null && limits.sigma !== null
+          ? { id: limits.id, center: limits.center, sigma: limits.sigma }
+          : null;
       // Every chart of the pair moves together; the oldest cursor decides where to read from.
       const cursors = charts.map((c) => c.state.cursor);
       const oldest = cursors.some((c) => c === null)
@@ -127,6 +144,8 @@ export async function watchStationModel(
               rules: chart.rules,
               lambda: chart.lambda ?? 0.2,
               limitWidth: chart.limitWidth ?? 3,
+              subgroupSize: chart.subgroupSize ?? 5,
+              frozen,
             },
             point,
           );
@@ -212,7 +231,7 @@ async function mailSubscribers(deps: WatchDeps, raised: RaisedAlert[]) {
   const found = await findModelWithActiveRecipe(deps.db, chart.modelId);
   const lines = raised.map(
     (r) =>
-      `- ${r.chart.kind === 'ewma' ? 'EWMA' : 'Individuals'} chart: ${r.hit.ruleText} (units ${r.hit.points.map((p) => p.serial).join(', ')})`,
+      `- ${CHART_LABELS[r.chart.kind]}: ${r.hit.ruleText} (units ${r.hit.points.map((p) => p.serial).join(', ')})`,
   );
   for (const person of to) {
     try {
@@ -303,12 +322,7 @@ export async function listAlerts(
   return rows.map((r) => ({
     id: r.alert.id,
     chart: r.kind,
-    chartLabel:
-      r.kind === 'ewma'
-        ? 'EWMA of the offset'
-        : r.kind === 'qualification'
-          ? 'Reference-unit qualification'
-          : 'Individuals chart of the offset',
+    chartLabel: CHART_LABELS[r.kind],
     stationId: r.stationId,
     station: names.get(r.stationId)!,
     modelId: r.modelId,

@@ -1,5 +1,6 @@
 import { sql } from 'drizzle-orm';
 import {
+  boolean,
   doublePrecision,
   index,
   integer,
@@ -17,11 +18,12 @@ import { users } from '../users/users.table';
 import type { WatchState } from './alerts.watch';
 
 /** 'qualification': the station's reference-unit readings (alerts raised by the qualification module, not watched here). */
-export const watchedChartKindEnum = pgEnum('watched_chart_kind', ['imr', 'ewma', 'qualification']);
+export const watchedChartKindEnum = pgEnum('watched_chart_kind', ['imr', 'ewma', 'qualification', 'xbar-r']);
 
 /**
- * A chart watched after every calibration: one station × one model, either individuals (with run rules) or
- * EWMA. `state` holds everything the next point needs (limits once established, the last value, the run-rule
+ * A chart watched after every calibration: one station × one model and one kind: individuals or subgroup
+ * means and ranges (with run rules), or EWMA. Engineers choose the kinds, rules and weights; each pair starts
+ * with the default (individuals with Western Electric 1–4, and an EWMA). `state` holds everything the next point needs (limits once established, the last value, the run-rule
  * window, the EWMA statistic), so a new calibration is judged without reading the history again.
  */
 export const watchedCharts = pgTable(
@@ -39,6 +41,14 @@ export const watchedCharts = pgTable(
     rules: jsonb().$type<number[]>().notNull(),
     lambda: doublePrecision(),
     limitWidth: doublePrecision(),
+    /** Consecutive units per subgroup (X̄-R only). */
+    subgroupSize: integer(),
+    /** False when an engineer stopped watching this chart (the row stays, so the default is not made again). */
+    watched: boolean().notNull().default(true),
+    /** Who last chose this chart's settings (null: the product's default). */
+    changedBy: uuid().references(() => users.id),
+    changedByName: text(),
+    changedAt: timestamp({ withTimezone: true }),
     state: jsonb().$type<WatchState>().notNull(),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),

@@ -85,3 +85,44 @@ describe('watching a chart after each calibration', () => {
     expect(alreadySeen(state, 'c-new')).toBe(false);
   });
 });
+
+describe('watching with frozen limits and subgroups', () => {
+  const frozen = { id: 'limits-v1', center: 10, sigma: 1 };
+
+  it('judges from the first point against frozen limits, without collecting a baseline of its own', () => {
+    const { hits, state } = run({ ...imr, frozen }, [10, 10.2, 14]);
+    expect(state.baseline).toBeNull();
+    expect(hits).toEqual([{ rule: 1, at: 2, serials: ['SN-2'] }]);
+  });
+
+  it('starts the run rules again when the frozen limits change or are cleared', () => {
+    let state = initialWatchState();
+    const step = (settings: WatchSettings, i: number, v: number) => {
+      const r = watchStep(state, settings, point(i, v));
+      state = r.state;
+      return r.hits.map((h) => h.rule);
+    };
+    for (let i = 0; i < 7; i++) step({ ...imr, frozen }, i, 10.5);
+    expect(state.count).toBe(7);
+    // New limits: the seven points above the old centre do not count towards rule 4 any more.
+    expect(step({ ...imr, frozen: { id: 'limits-v2', center: 10, sigma: 1 } }, 7, 10.5)).toEqual([]);
+    expect(state.count).toBe(1);
+    expect(state.limitsId).toBe('limits-v2');
+    // Cleared, and no baseline of its own yet: it collects again.
+    step({ ...imr, frozen: null }, 8, 10.5);
+    expect(state.limitsId).toBeNull();
+    expect(state.warmup).toHaveLength(1);
+  });
+
+  it('X̄-R: judges each full subgroup once, names every unit of it, and flags a range beyond D4·d2·σ', () => {
+    const xbar: WatchSettings = { ...imr, kind: 'xbar-r', subgroupSize: 4, frozen };
+    // Subgroup 1 steady; subgroup 2 has its mean 2σ/√4·… far out: mean 12 > 10 + 3·1/√4 = 11.5 (rule 1).
+    // Subgroup 3: range 6 > D4·d2·σ = 2.282·2.059·1 ≈ 4.70 (Montgomery, Appendix VI, n = 4).
+    const { hits, state } = run(xbar, [10, 10.5, 9.5, 10, 12, 12, 12, 12, 7, 13, 10, 10, 10]);
+    expect(hits.map((h) => h.rule)).toEqual([1, 0]);
+    expect(hits[0]).toMatchObject({ at: 7, serials: ['SN-4', 'SN-5', 'SN-6', 'SN-7'] });
+    expect(hits[1]).toMatchObject({ at: 11, serials: ['SN-8', 'SN-9', 'SN-10', 'SN-11'] });
+    expect(state.count).toBe(3);
+    expect(state.subgroup).toHaveLength(1);
+  });
+});

@@ -1,4 +1,5 @@
 import {
+  chartConstants,
   clipForEwma,
   createRuleState,
   ewmaSigma,
@@ -29,15 +30,29 @@ export interface WatchState {
   recent: AlertPoint[];
   /** The last calibration taken in (computed time and id): the next run starts after it. */
   cursor: { at: string; id: string } | null;
+  /** X̄-R: the units of the subgroup being filled. */
+  subgroup?: AlertPoint[];
+  /** X̄-R: the units of the last subgroups judged (naming the units of a run). */
+  recentGroups?: AlertPoint[][];
+  /** The frozen limits (version id) the points since `count` 0 were judged against; null for the chart's own. */
+  limitsId?: string | null;
 }
 
 export interface WatchSettings {
-  kind: 'imr' | 'ewma';
+  kind: 'imr' | 'ewma' | 'xbar-r';
   ruleSet: RuleSet;
   rules: number[];
   lambda: number;
   limitWidth: number;
+  /** X̄-R: consecutive units per subgroup. */
+  subgroupSize?: number;
+  /** Frozen limits in force for the station × model (centre and σ within, and the version's id). */
+  frozen?: { id: string; center: number; sigma: number } | null;
 }
+
+/** The rule number an alert of a subgroup range outside its limits carries (run rules are 1–8). */
+export const RANGE_RULE = 0;
+export const RANGE_RULE_TEXT = 'Subgroup range outside its limits: the spread within a subgroup changed';
 
 export interface WatchHit {
   rule: number;
@@ -82,7 +97,16 @@ export function watchStep(
 ): { state: WatchState; hits: WatchHit[] } {
   const state: WatchState = structuredClone(previous);
   state.cursor = { at: point.at, id: point.calibrationId };
-  if (!state.baseline) {
+  const frozen = settings.frozen ?? null;
+  // Limits changed (frozen, re-frozen or cleared): the run rules and the EWMA start again against them.
+  if ((state.limitsId ?? null) !== (frozen?.id ?? null)) {
+    state.limitsId = frozen?.id ?? null;
+    restart(state, frozen ?? state.baseline);
+  }
+  let baseline: Baseline;
+  if (frozen) baseline = { center: frozen.center, sigma: frozen.sigma };
+  else if (state.baseline) baseline = state.baseline;
+  else {
     state.warmup.push({ value: point.value, calibrationId: point.calibrationId });
     if (state.warmup.length >= BASELINE_POINTS) {
       const chart = individualsChart(state.warmup.map((w) => w.value));
@@ -94,7 +118,10 @@ export function watchStep(
     }
     return { state, hits: [] };
   }
-  const { center, sigma } = state.baseline;
+  const { center, sigma } = baseline;
+
+  if (settings.kind === 'xbar-r') return subgroupStep(state, settings, point, baseline);
+
   state.recent.push(point);
   if (state.recent.length > RECENT) state.recent.splice(0, state.recent.length - RECENT);
   const index = state.count;
@@ -107,7 +134,7 @@ export function watchStep(
   if (settings.kind === 'ewma') {
     const ewma = ewmaStep(
       state.ewma ?? { count: 0, z: center },
-      clipForEwma(point.value, state.baseline),
+      clipForEwma(point.value, baseline),
       settings.lambda,
     );
     state.ewma = ewma;
@@ -129,5 +156,56 @@ export function watchStep(
     ruleText: RULE_TEXT[settings.ruleSet][h.rule - 1],
     points: byIndex(h.involved),
   }));
+  return { state, hits };
+}
+
+/** Starts the run rules, the EWMA and any open subgroup again (new limits). */
+function restart(state: WatchState, baseline: Baseline | null) {
+  state.rules = createRuleState();
+  state.count = 0;
+  state.recent = [];
+  state.subgroup = [];
+  state.recentGroups = [];
+  state.ewma = baseline ? { count: 0, z: baseline.center } : null;
+}
+
+/**
+ * X̄-R: collects `subgroupSize` consecutive units, then judges the subgroup's mean with the run rules (σ of a
+ * mean is σ/√n) and its range against D3·d2·σ and D4·d2·σ (the σ-known limits of the range chart).
+ */
+function subgroupStep(
+  state: WatchState,
+  settings: WatchSettings,
+  point: AlertPoint,
+  baseline: Baseline,
+): { state: WatchState; hits: WatchHit[] } {
+  const n = settings.subgroupSize ?? 5;
+  const group = [...(state.subgroup ?? []), point];
+  if (group.length < n) {
+    state.subgroup = group;
+    return { state, hits: [] };
+  }
+  state.subgroup = [];
+  const groups = [...(state.recentGroups ?? []), group];
+  if (groups.length > RECENT) groups.splice(0, groups.length - RECENT);
+  state.recentGroups = groups;
+  const index = state.count;
+  state.count += 1;
+  const values = group.map((p) => p.value);
+  const mean = values.reduce((a, b) => a + b, 0) / n;
+  const range = Math.max(...values) - Math.min(...values);
+  const k = chartConstants(n);
+  const hits: WatchHit[] = pushRulePoint(
+    state.rules,
+    { index, value: mean, z: (mean - baseline.center) / (baseline.sigma / Math.sqrt(n)) },
+    settings.ruleSet,
+    settings.rules,
+  ).map((h) => ({
+    rule: h.rule,
+    ruleText: RULE_TEXT[settings.ruleSet][h.rule - 1],
+    points: h.involved.flatMap((i) => groups[groups.length - 1 - (index - i)] ?? []),
+  }));
+  if (range > k.D4 * k.d2 * baseline.sigma || range < k.D3 * k.d2 * baseline.sigma)
+    hits.push({ rule: RANGE_RULE, ruleText: RANGE_RULE_TEXT, points: group });
   return { state, hits };
 }

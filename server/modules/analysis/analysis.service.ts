@@ -27,6 +27,7 @@ import {
   readCapability,
   RULE_TEXT,
   subgroupChart,
+  variableSubgroupChart,
   summarizeGroupFromFigures,
   welchAnovaFromSummaries,
   type Baseline,
@@ -49,9 +50,41 @@ import {
   type ChartRow,
 } from '../measurements/calibration-aggregates.repository';
 import { analysisErrors } from './analysis.errors';
+import type { ControlLimitSetRecord } from './analysis.table';
+import { baselineFromWindow, frozenBaseline, limitSetView, limitsInForce } from './control-limits.service';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import type { SessionUser } from '../../lib/auth';
+import { getShifts } from '../qualification/qualification.service';
+import { periodKeyer, presetStart, type PlantShift } from '../../../shared/time/plant-time';
+
+/** The plant's time zone and shifts (the qualification module keeps the shifts). */
+export interface PlantTime {
+  timeZone: string;
+  shifts: PlantShift[];
+}
+
+export async function readPlantTime(db: DbOrTx, timeZone: string): Promise<PlantTime> {
+  const { shifts } = await getShifts(db);
+  return {
+    timeZone,
+    shifts: shifts.map((s) => {
+      const [h, m] = s.startsAt.split(':').map(Number);
+      return { name: s.name, startMinute: h * 60 + m };
+    }),
+  };
+}
+
+/**
+ * The filter with a time preset turned into its bounds at this moment in the plant's zone ("this shift" from
+ * the running shift's start, "today" from local midnight…). Custom and unbounded ranges are left as given.
+ */
+export function resolveRange<F extends AnalysisFilter>(filter: F, now: Date, time: PlantTime): F {
+  if (!filter.range || filter.range === 'custom') return filter;
+  if (filter.range === 'all') return { ...filter, from: undefined, to: undefined };
+  const start = presetStart(filter.range, now, time.timeZone, time.shifts);
+  return { ...filter, from: start?.toISOString(), to: undefined };
+}
 
 /** Below this p-value the Anderson–Darling test says the values are not normal. */
 const NORMALITY_ALPHA = 0.05;
@@ -142,6 +175,7 @@ interface Plotted {
   serial: string;
   unitIds: string[];
   computedAt: string;
+  period?: string;
 }
 
 function pointsOf(line: ChartLine, plotted: Plotted[], hits: RuleHit[]) {
@@ -177,32 +211,76 @@ function plottedOf(rows: ChartRow[], size: number): Plotted[] {
   }));
 }
 
-export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promise<ControlChartView> {
+/**
+ * Subgroups by hour or by shift: the first `size` units of each period in production order (a rational
+ * subgroup sampled per period); periods with a single unit are left out (no spread within).
+ */
+function periodSubgroups(rows: ChartRow[], size: number, by: 'hour' | 'shift', time: PlantTime) {
+  const keyOf = periodKeyer(by, time.timeZone, time.shifts);
+  const groups: { period: string; rows: ChartRow[] }[] = [];
+  let current: { period: string; rows: ChartRow[] } | null = null;
+  for (const r of rows) {
+    const period = keyOf(r.computedAt);
+    if (!current || current.period !== period) {
+      current = { period, rows: [] };
+      groups.push(current);
+    }
+    if (current.rows.length < size) current.rows.push(r);
+  }
+  return groups.filter((g) => g.rows.length >= 2);
+}
+
+const UTC_NO_SHIFTS: PlantTime = { timeZone: 'UTC', shifts: [] };
+
+export async function controlChartView(
+  db: DbOrTx,
+  q: ControlChartQuery,
+  time: PlantTime = UTC_NO_SHIFTS,
+): Promise<ControlChartView> {
   await modelRecipe(db, q.model);
   const size = q.chart === 'xbar-r' || q.chart === 'xbar-s' ? q.subgroupSize : 1;
+  const byPeriod = size > 1 && q.subgroupBy !== 'count' ? (q.subgroupBy as 'hour' | 'shift') : null;
   const { rows, total } = await newestFigures(db, q, { limit: q.limit });
+  const periods = byPeriod ? periodSubgroups(rows, size, byPeriod, time) : null;
   const needed = size === 1 ? 2 : 2 * size;
-  if (rows.length < needed) throw analysisErrors.tooFewForChart(rows.length, needed);
+  if (periods ? periods.length < 2 : rows.length < needed)
+    throw periods
+      ? analysisErrors.tooFewPeriods(periods.length, byPeriod!)
+      : analysisErrors.tooFewForChart(rows.length, needed);
 
+  // A window being tried out wins; otherwise the frozen limits in force for this scope (one station's own,
+  // else the model's), unless the engineer asked for limits from the points shown.
   let frozen: Baseline | undefined;
+  let saved: ControlLimitSetRecord | null = null;
   if (q.baselineFrom && q.baselineTo) {
-    const { rows: base } = await newestFigures(db, q, {
-      from: new Date(q.baselineFrom),
-      to: new Date(q.baselineTo),
-      limit: 20_000,
-      withTotal: false,
+    frozen = (
+      await baselineFromWindow(
+        db,
+        q,
+        q.chart === 'ewma' ? 'imr' : q.chart,
+        size,
+        new Date(q.baselineFrom),
+        new Date(q.baselineTo),
+      )
+    ).baseline;
+  } else if (q.limits === 'saved') {
+    saved = await limitsInForce(db, {
+      modelId: q.model,
+      stationId: q.stations?.length === 1 ? q.stations[0] : null,
+      figure: q.figure,
     });
-    const values = base.map((r) => r.value);
-    const chart =
-      size === 1
-        ? individualsChart(values)
-        : subgroupChart(consecutiveSubgroups(values, size), q.chart === 'xbar-s' ? 'xbar-s' : 'xbar-r');
-    if (!chart || !(chart.baseline.sigma > 0)) throw analysisErrors.emptyBaseline();
-    frozen = chart.baseline;
+    frozen = frozenBaseline(saved) ?? undefined;
   }
 
   const values = rows.map((r) => r.value);
-  const plotted = plottedOf(rows, size);
+  const plotted: Plotted[] = periods
+    ? periods.map((g) => ({
+        serial: g.rows[g.rows.length - 1].serial,
+        unitIds: g.rows.map((r) => r.unitId),
+        computedAt: g.rows[g.rows.length - 1].computedAt.toISOString(),
+        period: g.period,
+      }))
+    : plottedOf(rows, size);
   const ruleSet = q.ruleSet;
   const rules = q.rules ?? allRules(ruleSet);
   const unit = ANALYSIS_FIGURES[q.figure].unit;
@@ -231,7 +309,13 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
     const c =
       size === 1
         ? individualsChart(values, frozen)!
-        : subgroupChart(consecutiveSubgroups(values, size), q.chart as 'xbar-r' | 'xbar-s', frozen)!;
+        : periods
+          ? variableSubgroupChart(
+              periods.map((g) => g.rows.map((r) => r.value)),
+              q.chart as 'xbar-r' | 'xbar-s',
+              frozen,
+            )!
+          : subgroupChart(consecutiveSubgroups(values, size), q.chart as 'xbar-r' | 'xbar-s', frozen)!;
     baseline = c.baseline;
     const loc = c.location;
     locationHits = evaluateRules(
@@ -245,7 +329,12 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
     );
     spreadHits = outsideLimits(c.spread);
     location = {
-      title: size === 1 ? `Individuals: ${figureLabel}` : `Subgroup means (${size} units): ${figureLabel}`,
+      title:
+        size === 1
+          ? `Individuals: ${figureLabel}`
+          : periods
+            ? `Subgroup means (up to ${size} units per ${byPeriod}, plant time): ${figureLabel}`
+            : `Subgroup means (${size} units): ${figureLabel}`,
       points: pointsOf(loc, plotted, locationHits),
       center: loc.center,
       ucl: loc.ucl,
@@ -292,9 +381,10 @@ export async function controlChartView(db: DbOrTx, q: ControlChartQuery): Promis
     baseline: {
       center: baseline.center,
       sigma: baseline.sigma,
-      source: frozen ? 'window' : 'shown',
-      from: q.baselineFrom ?? null,
-      to: q.baselineTo ?? null,
+      source: saved ? 'saved' : frozen ? 'window' : 'shown',
+      from: saved ? (saved.baselineFrom?.toISOString() ?? null) : (q.baselineFrom ?? null),
+      to: saved ? (saved.baselineTo?.toISOString() ?? null) : (q.baselineTo ?? null),
+      saved: saved ? limitSetView(saved) : null,
     },
     location,
     spread,
@@ -311,9 +401,7 @@ export async function comparisonView(db: DbOrTx, q: ComparisonQuery): Promise<Co
       ...g,
       key: g.key ?? '',
       label:
-        g.key === null
-          ? 'Not recorded'
-          : (g.label ?? (q.by === 'operator' ? 'Unknown operator' : g.key)),
+        g.key === null ? 'Not recorded' : (g.label ?? (q.by === 'operator' ? 'Unknown operator' : g.key)),
     }))
     .sort((a, b) => a.label.localeCompare(b.label));
   const nonNormal = entries
@@ -384,9 +472,14 @@ export async function lineHealthView(db: DbOrTx, filter: AnalysisFilter): Promis
   };
 }
 
-export async function analysisOptions(db: DbOrTx, modelId: string): Promise<AnalysisOptions> {
+export async function analysisOptions(
+  db: DbOrTx,
+  modelId: string,
+  timeZone: string,
+): Promise<AnalysisOptions> {
   await modelRecipe(db, modelId);
-  return analysisChoices(db, modelId);
+  const [choices, shifts] = await Promise.all([analysisChoices(db, modelId), getShifts(db)]);
+  return { ...choices, timeZone, shifts: shifts.shifts };
 }
 
 /** The filter in words for the report (names, not ids). */

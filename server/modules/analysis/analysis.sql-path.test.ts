@@ -61,7 +61,8 @@ function closeDeep(actual: unknown, expected: unknown, path = ''): void {
     expected.forEach((e, i) => closeDeep((actual as unknown[])[i], e, `${path}[${i}]`));
     return;
   }
-  for (const [k, v] of Object.entries(expected)) closeDeep((actual as Record<string, unknown>)[k], v, `${path}.${k}`);
+  for (const [k, v] of Object.entries(expected))
+    closeDeep((actual as Record<string, unknown>)[k], v, `${path}.${k}`);
 }
 
 async function valuesOf(filter: AnalysisFilter) {
@@ -95,7 +96,12 @@ describe('the database path of the distribution view equals the pure functions o
         histogram(values, hasLimits ? { min: limits.lsl ?? d.min!, max: limits.usl ?? d.max! } : undefined),
       );
       const ad = andersonDarling(values)!;
-      closeDeep(view.normality, { statistic: ad.statistic, adjusted: ad.adjusted, pValue: ad.pValue, n: ad.n });
+      closeDeep(view.normality, {
+        statistic: ad.statistic,
+        adjusted: ad.adjusted,
+        pValue: ad.pValue,
+        n: ad.n,
+      });
       const cap = hasLimits ? capability(values, limits) : null;
       if (cap) closeDeep(view.capability, cap);
       else expect(view.capability).toBeNull();

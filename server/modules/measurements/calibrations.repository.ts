@@ -322,6 +322,27 @@ export async function stationCalibrationsAfter(
   return rows.map((r) => ({ ...r, offsetDeg: r.offsetDeg! }));
 }
 
+/** The newest station calibration of a station × model (where a chart whose settings change starts after). */
+export async function newestStationCalibration(
+  db: DbOrTx,
+  q: { stationId: string; modelId: string },
+): Promise<{ at: Date; id: string } | null> {
+  const [row] = await db
+    .select({ at: calibrations.computedAt, id: calibrations.id })
+    .from(calibrations)
+    .innerJoin(units, eq(units.id, calibrations.unitId))
+    .where(
+      and(
+        eq(calibrations.stationId, q.stationId),
+        eq(units.modelId, q.modelId),
+        eq(calibrations.purpose, 'station'),
+      ),
+    )
+    .orderBy(desc(calibrations.computedAt), desc(calibrations.id))
+    .limit(1);
+  return row ?? null;
+}
+
 /** Every station × model pair with at least one station calibration: the watched charts there are. */
 export async function stationModelPairs(db: DbOrTx): Promise<{ stationId: string; modelId: string }[]> {
   return db

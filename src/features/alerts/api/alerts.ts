@@ -1,5 +1,5 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { AlertView } from '../../../../shared/schemas/alerts';
+import type { AlertView, WatchedChartSettings, WatchedChartView } from '../../../../shared/schemas/alerts';
 import { apiRequest } from '../../../lib/api-client';
 
 /** Query keys of the chart alerts; nobody writes these inline. */
@@ -52,5 +52,30 @@ export function useSetAlertSubscription() {
         body: { subscribed },
       }),
     onSuccess: (b) => queryClient.setQueryData(alertKeys.subscription(), b.subscribed),
+  });
+}
+
+export const watchedChartKeys = {
+  all: ['watched-charts'] as const,
+  list: (modelId: string) => [...watchedChartKeys.all, modelId] as const,
+};
+
+export function useWatchedCharts(modelId: string | null) {
+  return useQuery({
+    queryKey: watchedChartKeys.list(modelId ?? ''),
+    queryFn: () =>
+      apiRequest<{ charts: WatchedChartView[] }>(
+        `/api/alerts/charts?modelId=${encodeURIComponent(modelId!)}`,
+      ).then((b) => b.charts),
+    enabled: !!modelId,
+  });
+}
+
+export function useSetWatchedChart() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: WatchedChartSettings) =>
+      apiRequest<WatchedChartView>('/api/alerts/charts', { method: 'PUT', body }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: watchedChartKeys.all }),
   });
 }

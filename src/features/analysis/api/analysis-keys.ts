@@ -5,4 +5,6 @@ export const analysisKeys = {
   options: (model: string) => [...analysisKeys.all, 'options', model] as const,
   views: () => [...analysisKeys.all, 'view'] as const,
   view: (name: string, query: string) => [...analysisKeys.views(), name, query] as const,
+  limits: (model: string, station: string, figure: string) =>
+    [...analysisKeys.all, 'limits', model, station, figure] as const,
 };

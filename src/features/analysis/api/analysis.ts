@@ -1,9 +1,11 @@
-import { keepPreviousData, queryOptions, useQuery } from '@tanstack/react-query';
+import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type {
   AnalysisOptions,
   ComparisonView,
   ControlChartView,
   DistributionView,
+  LimitHistory,
+  LimitSetView,
   LineHealthView,
 } from '../../../../shared/schemas/analysis';
 import { apiRequest } from '../../../lib/api-client';
@@ -50,4 +52,36 @@ export const analysisViewQueryOptions = <N extends ViewName>(name: N, query: str
 
 export function useAnalysisView<N extends ViewName>(name: N, query: string, enabled: boolean) {
   return useQuery({ ...analysisViewQueryOptions(name, query), enabled });
+}
+
+/** Frozen limits of one station (or the model, station '') for a figure: in force and every version. */
+export function useLimitHistory(model: string | null, station: string, figure: string) {
+  return useQuery({
+    queryKey: analysisKeys.limits(model ?? '', station, figure),
+    queryFn: () =>
+      apiRequest<LimitHistory>(
+        `/api/analysis/limits?${new URLSearchParams({ model: model!, figure, ...(station ? { station } : {}) })}`,
+      ),
+    enabled: !!model,
+  });
+}
+
+/** Saves limits from a baseline window, or a clearing version; charts and limits are read again. */
+export function useSaveLimits() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (
+      input:
+        | { action: 'freeze'; body: Record<string, unknown> }
+        | { action: 'clear'; body: Record<string, unknown> },
+    ) =>
+      apiRequest<LimitSetView>(
+        input.action === 'freeze' ? '/api/analysis/limits' : '/api/analysis/limits/clear',
+        {
+          method: 'POST',
+          body: input.body,
+        },
+      ),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: analysisKeys.all }),
+  });
 }

@@ -12,6 +12,7 @@ export const FILTER_KEYS = [
   'operators',
   'from',
   'to',
+  'range',
   'verdict',
   'attempts',
   'purpose',
@@ -20,7 +21,17 @@ export const FILTER_KEYS = [
 
 export const VIEW_KEYS = {
   distribution: [] as string[],
-  'control-chart': ['chart', 'subgroupSize', 'lambda', 'L', 'ruleSet', 'baselineFrom', 'baselineTo'],
+  'control-chart': [
+    'chart',
+    'subgroupSize',
+    'subgroupBy',
+    'lambda',
+    'L',
+    'ruleSet',
+    'baselineFrom',
+    'baselineTo',
+    'limits',
+  ],
   comparison: ['by', 'threshold'],
   'line-health': [] as string[],
 } as const;
@@ -40,27 +51,20 @@ export function apiQuery(params: URLSearchParams, view: WorkspaceView): string {
     const value = params.get(key);
     if (value) out.set(key, value);
   }
-  // Time presets are resolved when the view is opened, so "the last 7 days" moves with the clock.
-  const preset = params.get('range');
-  if (preset && preset !== 'custom' && preset !== 'all') {
-    const hours = RANGE_HOURS[preset as keyof typeof RANGE_HOURS];
-    if (hours) {
-      const now = Date.now();
-      // Round to the minute so that the query key stays stable while a view is open.
-      const end = Math.ceil(now / 60_000) * 60_000;
-      out.set('from', new Date(end - hours * 3_600_000).toISOString());
-      out.delete('to');
-    }
+  // Time presets (this shift, today, 7 or 30 days) travel as they are: the server resolves them in the plant's
+  // time zone when it reads the view, so "this shift" moves with the clock.
+  if (out.get('range') && out.get('range') !== 'custom') {
+    out.delete('from');
+    out.delete('to');
   }
   return out.toString();
 }
 
-export const RANGE_HOURS = { shift: 8, day: 24, week: 24 * 7, month: 24 * 30 } as const;
 export const RANGE_LABELS: Record<string, string> = {
   all: 'Everything recorded',
-  shift: 'Last shift (8 hours)',
-  day: 'Last 24 hours',
-  week: 'Last 7 days',
-  month: 'Last 30 days',
+  shift: 'This shift (since it started)',
+  day: 'Today (since midnight)',
+  week: 'Last 7 days (from midnight)',
+  month: 'Last 30 days (from midnight)',
   custom: 'Custom range',
 };

@@ -1,3 +1,4 @@
+import type { ReactNode } from 'react';
 import { Link, useSearchParams } from 'react-router';
 import { ANALYSIS_FIGURES, type AnalysisFigure } from '../../../../shared/schemas/analysis';
 import { Alert, Loading } from '../../../components/ui/alert';
@@ -9,6 +10,7 @@ import { ComparisonPanel, ComparisonSettings } from './comparison-view';
 import { DistributionPanel } from './distribution-view';
 import { FilterBar } from './filter-bar';
 import { LineHealthPanel } from './health-view';
+import { LimitsPanel } from './limits-panel';
 
 function isView(v: string | null): v is WorkspaceView {
   return WORKSPACE_VIEWS.some((w) => w.id === v);
@@ -21,7 +23,15 @@ function ViewState({ error, pending }: { error: Error | null; pending: boolean }
 }
 
 /** The process engineer's statistics: one filter bar, four views, everything in the URL. */
-export function AnalysisWorkspace() {
+export function AnalysisWorkspace({
+  canSetLimits = false,
+  chartsExtra,
+}: {
+  /** Process engineers (and administrators) save and clear frozen limits. */
+  canSetLimits?: boolean;
+  /** Shown under the control charts (the watched charts, composed by the route). */
+  chartsExtra?: ReactNode;
+}) {
   const [params] = useSearchParams();
   const view: WorkspaceView = isView(params.get('view'))
     ? (params.get('view') as WorkspaceView)
@@ -108,6 +118,8 @@ export function AnalysisWorkspace() {
               ) : (
                 <ViewState error={null} pending={chart.isPending} />
               )}
+              <LimitsPanel canSet={canSetLimits} unit={unit} />
+              {chartsExtra}
             </div>
           ) : null}
           {view === 'comparison' ? (

@@ -31,14 +31,30 @@ export function ChartSettings() {
         ]}
       />
       {chart === 'xbar-r' || chart === 'xbar-s' ? (
-        <TextField
-          label="Units per subgroup"
-          type="number"
-          min={2}
-          max={25}
-          value={params.get('subgroupSize') ?? '5'}
-          onChange={(e) => set('subgroupSize', e.target.value, '5')}
-        />
+        <>
+          <SelectField
+            label="Subgroups"
+            value={params.get('subgroupBy') ?? 'count'}
+            onChange={(e) => set('subgroupBy', e.target.value, 'count')}
+            options={[
+              { value: 'count', label: 'Consecutive units' },
+              { value: 'hour', label: 'By hour (plant time)' },
+              { value: 'shift', label: 'By shift (plant shifts)' },
+            ]}
+          />
+          <TextField
+            label={
+              params.get('subgroupBy') && params.get('subgroupBy') !== 'count'
+                ? 'Units per subgroup (at most)'
+                : 'Units per subgroup'
+            }
+            type="number"
+            min={2}
+            max={25}
+            value={params.get('subgroupSize') ?? '5'}
+            onChange={(e) => set('subgroupSize', e.target.value, '5')}
+          />
+        </>
       ) : null}
       {chart === 'ewma' ? (
         <>
@@ -72,6 +88,15 @@ export function ChartSettings() {
           ]}
         />
       )}
+      <SelectField
+        label="Limits"
+        value={params.get('limits') ?? 'saved'}
+        onChange={(e) => set('limits', e.target.value, 'saved')}
+        options={[
+          { value: 'saved', label: 'Frozen limits when saved' },
+          { value: 'shown', label: 'Computed from the points shown' },
+        ]}
+      />
       <TextField
         label="Limits from (local time)"
         type="date"
@@ -99,9 +124,11 @@ export function ControlChartPanel({ view }: { view: View }) {
     <div className="flex flex-col gap-6">
       <p className="text-graphite-200">
         Centre {fmt(view.baseline.center, u, 3)}, σ within {fmt(view.baseline.sigma, u, 3)}, limits{' '}
-        {view.baseline.source === 'window'
-          ? `held from the window ${new Date(view.baseline.from!).toLocaleDateString()} to ${new Date(view.baseline.to!).toLocaleDateString()}`
-          : 'computed from the points shown'}
+        {view.baseline.source === 'saved' && view.baseline.saved
+          ? `frozen (version ${view.baseline.saved.version}${view.baseline.saved.scope === 'model' ? ', the model’s' : ''}) by ${view.baseline.saved.setBy} on ${new Date(view.baseline.saved.setAt).toLocaleString()}, from the window ${new Date(view.baseline.from!).toLocaleDateString()} to ${new Date(view.baseline.to!).toLocaleDateString()}`
+          : view.baseline.source === 'window'
+            ? `held from the window ${new Date(view.baseline.from!).toLocaleDateString()} to ${new Date(view.baseline.to!).toLocaleDateString()} (not saved)`
+            : 'computed from the points shown'}
         .
         {view.omitted > 0
           ? ` The ${view.omitted} oldest units are left out; the chart shows the newest.`

@@ -3,16 +3,22 @@ import { ANALYSIS_FIGURES } from '../../../../shared/schemas/analysis';
 import { SelectField, TextField } from '../../../components/ui/field';
 import { useAnalysisModels, useAnalysisOptions } from '../api/analysis';
 import { RANGE_LABELS } from '../api/filter-state';
+import { plantInstant, plantLocalInput } from '../../../../shared/time/plant-time';
 import { MultiPick } from './multi-pick';
 
-
 /** Converts between an ISO instant in the URL and the browser's local date-time input. */
-function toLocalInput(iso: string | null): string {
+/** A stored instant as the plant's local time for a datetime-local field. */
+function toPlantInput(iso: string | null, timeZone: string): string {
   if (!iso) return '';
   const d = new Date(iso);
-  if (Number.isNaN(d.getTime())) return '';
-  const pad = (n: number) => String(n).padStart(2, '0');
-  return `${d.getFullYear()}-${pad(d.getMonth() + 1)}-${pad(d.getDate())}T${pad(d.getHours())}:${pad(d.getMinutes())}`;
+  return Number.isNaN(d.getTime()) ? '' : plantLocalInput(d, timeZone);
+}
+
+/** A datetime-local value read as the plant's local time. */
+function fromPlantInput(value: string, timeZone: string): string | null {
+  if (!value) return null;
+  const [date, time] = value.split('T');
+  return plantInstant(date, time ?? '00:00', timeZone).toISOString();
 }
 
 /**
@@ -50,6 +56,7 @@ export function FilterBar() {
   };
 
   const range = params.get('range') ?? 'all';
+  const timeZone = o?.timeZone ?? 'UTC';
 
   return (
     <form
@@ -126,20 +133,25 @@ export function FilterBar() {
           })
         }
         options={Object.entries(RANGE_LABELS).map(([value, label]) => ({ value, label }))}
+        hint={
+          range !== 'all' && range !== 'custom'
+            ? `Plant time (${timeZone}); moves with the clock.`
+            : undefined
+        }
       />
       {range === 'custom' ? (
         <>
           <TextField
-            label="From (local time)"
+            label={`From (plant time, ${timeZone})`}
             type="datetime-local"
-            value={toLocalInput(params.get('from'))}
-            onChange={(e) => set({ from: e.target.value ? new Date(e.target.value).toISOString() : null })}
+            value={toPlantInput(params.get('from'), timeZone)}
+            onChange={(e) => set({ from: fromPlantInput(e.target.value, timeZone) })}
           />
           <TextField
-            label="To (local time)"
+            label={`To (plant time, ${timeZone})`}
             type="datetime-local"
-            value={toLocalInput(params.get('to'))}
-            onChange={(e) => set({ to: e.target.value ? new Date(e.target.value).toISOString() : null })}
+            value={toPlantInput(params.get('to'), timeZone)}
+            onChange={(e) => set({ to: fromPlantInput(e.target.value, timeZone) })}
           />
         </>
       ) : null}

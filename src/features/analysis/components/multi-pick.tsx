@@ -60,9 +60,7 @@ export function MultiPick({
               label={c.label}
               checked={chosen.includes(c.value)}
               onChange={(e) =>
-                onChange(
-                  e.target.checked ? [...chosen, c.value] : chosen.filter((v) => v !== c.value),
-                )
+                onChange(e.target.checked ? [...chosen, c.value] : chosen.filter((v) => v !== c.value))
               }
             />
           ))}
