@@ -40,14 +40,14 @@ import {
   placementTrend,
   programmingMismatchesByDay,
   stationDayHealth,
-} from '../measurements/calibrations.repository';
+} from '../read-models/calibration-figures.repository';
 import {
   comparisonAggregate,
   distributionAggregate,
   groupRankSums,
   newestFigures,
   type ChartRow,
-} from '../measurements/calibration-aggregates.repository';
+} from '../read-models/calibration-aggregates.repository';
 import { analysisErrors } from './analysis.errors';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';

@@ -1,4 +1,4 @@
-import { and, desc, eq, gte, ilike, inArray, like, lte, or, type SQL } from 'drizzle-orm';
+import { and, count, desc, eq, gte, ilike, inArray, like, lte, or, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { auditLog } from './audit.table';
 
@@ -83,4 +83,22 @@ export async function listAuditFiltered(
     .where(and(...conds.filter((c): c is SQL => c !== undefined)))
     .orderBy(desc(auditLog.id))
     .limit(f.limit);
+}
+
+/** How many entries name this subject with one of these actions (a traveler's print number counts them). */
+export async function countAuditOf(
+  db: DbOrTx,
+  q: { subjectType: string; subjectId: string; actions: string[] },
+): Promise<number> {
+  const [{ n }] = await db
+    .select({ n: count() })
+    .from(auditLog)
+    .where(
+      and(
+        eq(auditLog.subjectType, q.subjectType),
+        eq(auditLog.subjectId, q.subjectId),
+        inArray(auditLog.action, q.actions),
+      ),
+    );
+  return n;
 }

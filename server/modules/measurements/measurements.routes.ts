@@ -19,7 +19,7 @@ import {
   measurementFromCapture,
   measurementResult,
   requestRecompute,
-  type LineContext,
+  type MeasurementsContext,
 } from './measurements.service';
 
 /** Sampled captures up to 32 MB (about 400,000 rows of seven channels). */
@@ -38,7 +38,7 @@ const idParams = z.object({ measurementId: measurementIdSchema });
 
 /** The station protocol: what a test station's software calls with its own key. */
 export function measurementsRoutes(deps: AppDeps) {
-  const ctx: LineContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
+  const ctx: MeasurementsContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
   // A station whose qualification is overdue or failed is refused (423) before anything is stored.
   const gate = { db: deps.db, pool: deps.pool, clock: deps.clock, timeZone: deps.env.PLANT_TIME_ZONE };
   return [

@@ -6,7 +6,7 @@ import { insertAudit } from '../audit/audit.repository';
 import { listUsers } from '../users/users.repository';
 import { countUnitsByModel } from '../units/units.service';
 import { listStationsAllowingModels } from '../stations/stations.service';
-import { firstPassYieldByModel } from '../measurements/measurements.service';
+import { firstPassYieldByModel } from '../read-models/first-pass-yield.repository';
 import { recipeSchema, type Recipe } from '../../../shared/schemas/recipe';
 import { diffRecipes, hallLayoutLabel, type RecipeFieldChange } from '../../../shared/recipe/recipe-fields';
 import type {

@@ -6,8 +6,7 @@ import {
   createStationSchema,
   updateStationSchema,
 } from '../../../shared/schemas/line';
-import { calibrationViews } from '../measurements/measurements.service';
-import { calibrationsOf } from '../measurements/calibrations.repository';
+import { calibrationViews } from '../read-models/calibration-views';
 import {
   attendStation,
   createStation,
@@ -49,7 +48,7 @@ export function stationsRoutes(deps: AppDeps) {
         const { limit } = query;
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
         res.json({
-          calibrations: await calibrationViews(deps.db, calibrationsOf.station(id), limit),
+          calibrations: await calibrationViews(deps.db, { stationId: id, purpose: 'station', limit }),
         });
       },
     }),

@@ -274,3 +274,26 @@ export async function stationNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<
     .where(inArray(stations.id, ids));
   return new Map(rows.map((r) => [r.id, r.name]));
 }
+
+/** A station by its name, compared without regard to case. */
+export async function findStationByName(db: DbOrTx, name: string): Promise<StationRecord | undefined> {
+  const [row] = await db
+    .select()
+    .from(stations)
+    .where(sql`upper(${stations.name}) = ${name.toUpperCase()}`);
+  return row;
+}
+
+/** Revokes a station's live keys with this label; the revoked keys' ids and prefixes. */
+export async function revokeStationKeysLabelled(
+  db: DbOrTx,
+  stationId: string,
+  label: string,
+  now: Date,
+): Promise<{ id: string; prefix: string }[]> {
+  return db
+    .update(stationKeys)
+    .set({ revokedAt: now })
+    .where(and(eq(stationKeys.stationId, stationId), eq(stationKeys.label, label), isNull(stationKeys.revokedAt)))
+    .returning({ id: stationKeys.id, prefix: stationKeys.prefix });
+}

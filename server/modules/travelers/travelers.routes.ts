@@ -5,7 +5,7 @@ import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
 import { defineRoute, sendPdf } from '../../lib/http';
-import { stationMeasuredUnit } from '../measurements/calibrations.repository';
+import { stationMeasuredUnit } from '../calibrations/calibrations.repository';
 import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
 import { travelers, type TravelerRecord } from './travelers.table';

@@ -1,19 +1,15 @@
 import { createHash } from 'node:crypto';
 import { travelerSettings } from '../../env';
-import { and, count, desc, eq, inArray, sql } from 'drizzle-orm';
+import { and, desc, eq, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
-import { auditLog } from '../audit/audit.table';
-import { insertAudit } from '../audit/audit.repository';
-import { models, recipes } from '../recipes/recipes.table';
+import { countAuditOf, insertAudit } from '../audit/audit.repository';
 import { notifyLineEvent } from '../events/event-hub';
-import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { stations } from '../stations/stations.table';
-import { findUnitBySerial } from '../units/units.service';
-import { units } from '../units/units.table';
-import { users } from '../users/users.table';
+import { calibrationById, latestJudgedCalibrationOfUnit } from '../calibrations/calibrations.repository';
+import { travelerSource } from '../read-models/traveler-data.repository';
+import { findUnitBySerial, serialsByIds } from '../units/units.service';
 import { renderTravelerPdf } from './traveler.render';
 import type { TravelerDataInput } from './traveler.types';
 import { travelers, type TravelerRecord } from './travelers.table';
@@ -50,33 +46,10 @@ export async function travelerData(
   pageSize: 'A4' | 'LETTER',
   generatedAt: Date,
 ): Promise<TravelerDataInput> {
-  const [row] = await db
-    .select({
-      cal: calibrations,
-      m: measurements,
-      unit: units,
-      model: models,
-      recipe: recipes,
-      station: stations,
-    })
-    .from(calibrations)
-    .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
-    .innerJoin(units, eq(units.id, calibrations.unitId))
-    .innerJoin(models, eq(models.id, units.modelId))
-    .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
-    .innerJoin(stations, eq(stations.id, calibrations.stationId))
-    .where(eq(calibrations.id, calibrationId));
+  const row = await travelerSource(db, calibrationId);
   if (!row || row.cal.verdict === 'unusable') throw travelerErrors.notPrintable();
   const result = row.cal.result as CalibrationResult;
-  const [operator] = row.m.operatorId
-    ? await db.select().from(users).where(eq(users.id, row.m.operatorId))
-    : [];
-  const [conf] = await db
-    .select()
-    .from(programmingConfirmations)
-    .where(eq(programmingConfirmations.calibrationId, calibrationId))
-    .orderBy(desc(programmingConfirmations.confirmedAt))
-    .limit(1);
+  const { operator, conf } = row;
   return {
     ...TRAVELER_HEADER,
     lineName: row.station.line,
@@ -187,7 +160,7 @@ export async function renderFirstTraveler(
   now: Date,
   pageSize: 'A4' | 'LETTER' = 'A4',
 ) {
-  const [cal] = await db.select().from(calibrations).where(eq(calibrations.id, calibrationId));
+  const cal = await calibrationById(db, calibrationId);
   if (!cal) throw new Error(`calibration ${calibrationId} does not exist`);
   if (cal.verdict === 'unusable') return null;
   const [existing] = await db
@@ -205,12 +178,12 @@ export async function renderFirstTraveler(
       .where(and(eq(travelers.calibrationId, calibrationId), eq(travelers.printNumber, 1)));
     if (again) return again.id;
     const row = await store(tx, calibrationId, cal.unitId, 1, pageSize, null, now);
-    const [unit] = await tx.select().from(units).where(eq(units.id, cal.unitId));
+    const serial = (await serialsByIds(tx, [cal.unitId])).get(cal.unitId)!;
     await notifyLineEvent(tx, {
       type: 'traveler.ready',
       stationId: cal.stationId,
       unitId: cal.unitId,
-      serial: unit.serial,
+      serial,
       calibrationId,
       travelerId: row.id,
       at: now.toISOString(),
@@ -229,18 +202,7 @@ export async function currentTraveler(
   unitId: string,
   now: Date,
 ): Promise<TravelerRecord | undefined> {
-  const [latest] = await db
-    .select({ id: calibrations.id })
-    .from(calibrations)
-    .where(
-      and(
-        eq(calibrations.unitId, unitId),
-        eq(calibrations.purpose, 'station'),
-        inArray(calibrations.verdict, ['pass', 'fail']),
-      ),
-    )
-    .orderBy(desc(calibrations.computedAt))
-    .limit(1);
+  const latest = await latestJudgedCalibrationOfUnit(db, unitId);
   if (!latest) return undefined;
   const newest = () =>
     db
@@ -267,31 +229,15 @@ export async function printTraveler(
   pageSize: 'A4' | 'LETTER',
   now: Date,
 ): Promise<TravelerRecord> {
-  const [latest] = await db
-    .select()
-    .from(calibrations)
-    .where(
-      and(
-        eq(calibrations.unitId, unitId),
-        eq(calibrations.purpose, 'station'),
-        inArray(calibrations.verdict, ['pass', 'fail']),
-      ),
-    )
-    .orderBy(desc(calibrations.computedAt))
-    .limit(1);
+  const latest = await latestJudgedCalibrationOfUnit(db, unitId);
   if (!latest) throw travelerErrors.none(serial);
   return db.transaction(async (tx) => {
     await lockCalibration(tx, latest.id);
-    const [{ n }] = await tx
-      .select({ n: count() })
-      .from(auditLog)
-      .where(
-        and(
-          eq(auditLog.subjectType, 'calibration'),
-          eq(auditLog.subjectId, latest.id),
-          inArray(auditLog.action, ['travelers.printed', 'travelers.reprinted']),
-        ),
-      );
+    const n = await countAuditOf(tx, {
+      subjectType: 'calibration',
+      subjectId: latest.id,
+      actions: ['travelers.printed', 'travelers.reprinted'],
+    });
     const printNumber = n + 1;
     let doc: TravelerRecord | undefined;
     const unitNow = await findUnitBySerial(tx, serial);

@@ -5,8 +5,7 @@ import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelRow, findModelWithActiveRecipe, listModelRows } from '../recipes/recipes.repository';
-import { calibrationViews } from '../measurements/measurements.service';
-import { calibrationsOf } from '../measurements/calibrations.repository';
+import { calibrationViews } from '../read-models/calibration-views';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import {
   registerUnitSchema,
@@ -66,7 +65,7 @@ export async function unitDetail(db: DbOrTx, serial: string): Promise<UnitDetail
   const docs = await listTravelerDocsOfUnit(db, unit.id);
   return {
     unit: await unitView(db, unit),
-    calibrations: await calibrationViews(db, calibrationsOf.unit(unit.id), 100),
+    calibrations: await calibrationViews(db, { unitId: unit.id, limit: 100 }),
     travelers: docs.map((d) => ({ ...d, createdAt: d.createdAt.toISOString() })),
   };
 }
@@ -244,4 +243,15 @@ export async function componentLotsByIds(db: DbOrTx, ids: string[]): Promise<Map
     .from(units)
     .where(inArray(units.id, ids));
   return new Map(rows.map(({ id, ...lots }) => [id, lots]));
+}
+
+/** How many units there are, and how many are on hold (the demo seed's report). */
+export async function unitCounts(db: DbOrTx): Promise<{ units: number; onHold: number }> {
+  const [u] = await db
+    .select({
+      units: sql<number>`count(*)::int`,
+      onHold: sql<number>`count(*) filter (where ${units.status} = 'on_hold')::int`,
+    })
+    .from(units);
+  return u;
 }
