@@ -57,4 +57,6 @@ export const measurementErrors = {
     ),
   notFound: (id: string) =>
     new AppError(404, 'measurements.not_found', `No measurement "${id}" from this station.`),
+  captureNoFile: () =>
+    new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".'),
 };

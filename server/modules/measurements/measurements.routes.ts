@@ -12,7 +12,7 @@ import { recordHeartbeat } from '../stations/stations.service';
 import { assertProductionAllowed } from '../qualification/qualification.service';
 import { notifyLineEvent } from '../events/event-hub';
 import multer from 'multer';
-import { AppError } from '../../lib/errors';
+import { measurementErrors } from './measurements.errors';
 import {
   acceptMeasurement,
   confirmProgramming,
@@ -79,7 +79,7 @@ export function measurementsRoutes(deps: AppDeps) {
       handle: async ({ body: fields, caller }, res, req) => {
         await assertProductionAllowed(gate, caller.station.stationId, fields.serial);
         if (!req.file)
-          throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
+          throw measurementErrors.captureNoFile();
         // The bytes are parsed as they are; the text is made only for a capture worth storing.
         const measurement = await measurementFromCapture(ctx, caller.station, fields, req.file.buffer);
         const accepted = await acceptMeasurement(ctx, caller.station, measurement, {

@@ -14,9 +14,9 @@ import {
   findStation,
   listStationViews,
   revokeStationKey,
-  stationErrors,
   updateStation,
 } from './stations.service';
+import { stationErrors } from './stations.errors';
 
 const idParams = z.object({ id: z.string().uuid('Not a station id') });
 const keyParams = z.object({ id: z.string().uuid(), keyId: z.string().uuid() });

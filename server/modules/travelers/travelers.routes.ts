@@ -6,8 +6,10 @@ import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
 import { defineRoute, sendPdf } from '../../lib/http';
 import { stationMeasuredUnit } from '../calibrations/calibrations.repository';
-import { findUnitBySerial, unitErrors } from '../units/units.service';
-import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
+import { findUnitBySerial } from '../units/units.service';
+import { unitErrors } from '../units/units.errors';
+import { currentTraveler, printTraveler } from './travelers.service';
+import { travelerErrors } from './travelers.errors';
 import { travelers, type TravelerRecord } from './travelers.table';
 
 const serialParams = z.object({ serial: serialSchema });

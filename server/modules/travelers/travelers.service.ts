@@ -3,7 +3,7 @@ import { travelerSettings } from '../../env';
 import { and, desc, eq, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
+import { travelerErrors } from './travelers.errors';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
 import { countAuditOf, insertAudit } from '../audit/audit.repository';
 import { notifyLineEvent } from '../events/event-hub';
@@ -18,22 +18,6 @@ import { travelers, type TravelerRecord } from './travelers.table';
 export const TRAVELER_HEADER = {
   companyName: travelerSettings().TRAVELER_COMPANY,
   plantName: travelerSettings().TRAVELER_PLANT,
-};
-
-export const travelerErrors = {
-  none: (serial: string) =>
-    new AppError(
-      404,
-      'travelers.none',
-      `Unit ${serial} has no traveler yet: it appears once a calibration has a verdict.`,
-    ),
-  notFound: () => new AppError(404, 'travelers.not_found', 'No such traveler document for this unit.'),
-  notPrintable: () =>
-    new AppError(
-      409,
-      'travelers.not_printable',
-      'This calibration could not use its data, so it has no traveler.',
-    ),
 };
 
 const lotText = (v: string | null) => (v && /^[A-Za-z0-9]/.test(v) ? v : 'n/a');

@@ -2,7 +2,7 @@ import multer from 'multer';
 import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
-import { AppError } from '../../lib/errors';
+import { unitErrors } from './units.errors';
 import { defineRoute } from '../../lib/http';
 import { registerUnitSchema } from '../../../shared/schemas/line';
 import { importUnits, registerUnit, unitDetail } from './units.service';
@@ -49,7 +49,7 @@ export function unitsRoutes(deps: AppDeps) {
       before: [upload.single('file')],
       handle: async ({ caller }, res, req) => {
         if (!req.file)
-          throw new AppError(400, 'units.import_no_file', 'Attach the CSV as the form field "file".');
+          throw unitErrors.importNoFile();
         const report = await importUnits(deps.db, caller.user, req.file.buffer.toString('utf8'));
         res.status(report.errors.length ? 422 : 201).json(report);
       },

@@ -2,7 +2,7 @@ import Papa from 'papaparse';
 import { inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
+import { unitErrors } from './units.errors';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelRow, findModelWithActiveRecipe, listModelRows } from '../recipes/recipes.repository';
 import { calibrationViews } from '../read-models/calibration-views';
@@ -18,18 +18,6 @@ import {
 } from '../../../shared/schemas/line';
 import { units, type UnitRecord } from './units.table';
 import { normaliseSerial } from '../../../shared/schemas/serial';
-
-export const unitErrors = {
-  notFound: (serial: string) =>
-    new AppError(
-      404,
-      'units.not_found',
-      `No unit with serial "${serial}". Register it against a model first.`,
-    ),
-  exists: (serial: string) =>
-    new AppError(409, 'units.exists', `A unit with serial "${serial}" already exists.`),
-  unknownModel: () => new AppError(400, 'units.unknown_model', 'No such model.'),
-};
 
 export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<UnitRecord | undefined> {
   const [row] = await db
@@ -124,11 +112,7 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
   const headers = parsed.meta.fields ?? [];
   const missing = ['serial', 'model'].filter((c) => !headers.includes(c));
   if (missing.length) {
-    throw new AppError(
-      400,
-      'units.import_columns',
-      `The CSV lacks the column${missing.length > 1 ? 's' : ''} ${missing.join(', ')}. Expected: ${IMPORT_COLUMNS.join(', ')}.`,
-    );
+    throw unitErrors.importColumns(missing, IMPORT_COLUMNS);
   }
   const errors: ImportReport['errors'] = [];
   for (const e of parsed.errors) errors.push({ row: (e.row ?? 0) + 2, serial: null, message: e.message });
