@@ -27,6 +27,7 @@ export default tseslint.config(
         {
           patterns: [
             { group: ['**/server/**', '**/src/**', '**/jobs/**', '**/tests/**'], message: 'shared/ imports nothing from the other folders.' },
+            { regex: '^#(server|src|jobs|tests)/', message: 'shared/ imports nothing from the other folders.' },
             { group: ['node:*', 'fs', 'path', 'crypto', 'pg', 'drizzle-orm', 'drizzle-orm/*', 'express', 'react', 'react-dom'], message: 'shared/ is pure: zod and the standard library only.' },
           ],
         },
@@ -40,14 +41,27 @@ export default tseslint.config(
       ...reactHooks.configs.recommended.rules,
       'no-restricted-imports': [
         'error',
-        { patterns: [{ group: ['**/server/**', '**/jobs/**', 'node:*'], message: 'The client talks to the server over HTTP only.' }] },
+        {
+          patterns: [
+            { group: ['**/server/**', '**/jobs/**', 'node:*'], message: 'The client talks to the server over HTTP only.' },
+            { regex: '^#(server|jobs)/', message: 'The client talks to the server over HTTP only.' },
+          ],
+        },
       ],
     },
   },
   {
     files: ['server/**/*.ts', 'jobs/**/*.ts'],
     rules: {
-      'no-restricted-imports': ['error', { patterns: [{ group: ['**/src/**'], message: 'The server never imports client code.' }] }],
+      'no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            { group: ['**/src/**'], message: 'The server never imports client code.' },
+            { regex: '^#src/', message: 'The server never imports client code.' },
+          ],
+        },
+      ],
     },
   },
   // Zones (see eslint-boundaries.js): a client feature never imports another feature (route modules in
