@@ -2,6 +2,8 @@ import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { defineRoute } from '../../lib/http';
 import {
+  measurementAcceptedSchema,
+  measurementResultSchema,
   programmingConfirmationSchema,
   recomputeSchema,
   resultQuerySchema,
@@ -36,6 +38,22 @@ const captureFields = z.object({
 
 const idParams = z.object({ measurementId: measurementIdSchema });
 
+// Answers without a shared contract of their own (the station integrators' document reads them).
+const programmingRecordedSchema = z.object({
+  matches: z.boolean(),
+  expectedCounts: z.number().int(),
+  confirmedAt: z.string(),
+});
+const recomputeAnswerSchema = z.object({
+  measurementId: z.string(),
+  serial: z.string(),
+  recipe: z.object({ id: z.string(), version: z.number().int() }),
+  engineVersion: z.string(),
+  status: z.enum(['queued', 'computed']),
+  calibrationId: z.string().nullable(),
+});
+const heartbeatAnswerSchema = z.object({ stationId: z.string(), stationName: z.string(), at: z.string() });
+
 /** The station protocol: what a test station's software calls with its own key. */
 export function measurementsRoutes(deps: AppDeps) {
   const ctx: MeasurementsContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
@@ -48,6 +66,10 @@ export function measurementsRoutes(deps: AppDeps) {
       access: 'station',
       summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
       serviceParsedBody: measurementSchema,
+      responses: {
+        202: { description: 'Stored and queued (or a repeat not computed yet)', schema: measurementAcceptedSchema },
+        200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
+      },
       handle: async ({ caller }, res, req) => {
         await assertProductionAllowed(
           gate,
@@ -76,6 +98,10 @@ export function measurementsRoutes(deps: AppDeps) {
       },
       before: [captureUpload.single('capture')],
       request: { body: captureFields },
+      responses: {
+        202: { description: 'Stored and queued (or a repeat not computed yet)', schema: measurementAcceptedSchema },
+        200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
+      },
       handle: async ({ body: fields, caller }, res, req) => {
         await assertProductionAllowed(gate, caller.station.stationId, fields.serial);
         if (!req.file)
@@ -98,6 +124,7 @@ export function measurementsRoutes(deps: AppDeps) {
       access: 'station',
       summary: 'The calibration of a measurement; waitMs long-polls until it commits',
       request: { params: idParams, query: resultQuerySchema },
+      responses: { 200: { description: 'The calibration, or pending', schema: measurementResultSchema } },
       handle: async ({ params: { measurementId }, query: { waitMs }, caller }, res, req) => {
         const view = await waitForResult(deps, caller.station.stationId, measurementId, waitMs, req);
         res.json({ measurementId, status: view ? 'computed' : 'pending', calibration: view });
@@ -109,6 +136,7 @@ export function measurementsRoutes(deps: AppDeps) {
       access: 'station',
       summary: 'Confirm the value written into the unit and read back',
       request: { params: idParams, body: programmingConfirmationSchema },
+      responses: { 200: { description: 'Whether the read-back matched', schema: programmingRecordedSchema } },
       handle: async ({ params: { measurementId }, body, caller }, res) => {
         res.json(await confirmProgramming(ctx, caller.station, measurementId, body));
       },
@@ -120,6 +148,10 @@ export function measurementsRoutes(deps: AppDeps) {
       summary:
         'Recompute a stored measurement with a released recipe version (analysis only; the unit is unchanged)',
       request: { params: idParams, body: recomputeSchema },
+      responses: {
+        202: { description: 'Queued', schema: recomputeAnswerSchema },
+        200: { description: 'Computed already', schema: recomputeAnswerSchema },
+      },
       handle: async ({ params: { measurementId }, body: input, caller }, res) => {
         const out = await requestRecompute(ctx, caller.user, measurementId, input);
         res.status(out.status === 'queued' ? 202 : 200).json(out);
@@ -130,6 +162,7 @@ export function measurementsRoutes(deps: AppDeps) {
       path: '/api/station/heartbeat',
       access: 'station',
       summary: 'Tell the server the station is alive',
+      responses: { 200: { description: 'Heard', schema: heartbeatAnswerSchema } },
       handle: async ({ caller: { station } }, res) => {
         const now = deps.clock();
         await recordHeartbeat(deps.db, station.stationId, now);

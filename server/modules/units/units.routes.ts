@@ -4,7 +4,12 @@ import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { unitErrors } from './units.errors';
 import { defineRoute } from '../../lib/http';
-import { registerUnitSchema } from '../../../shared/schemas/line';
+import {
+  importReportSchema,
+  registerUnitSchema,
+  unitDetailSchema,
+  unitViewSchema,
+} from '../../../shared/schemas/line';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });
@@ -23,6 +28,7 @@ export function unitsRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'A unit with its calibrations, programming status and travelers',
       request: { params: serialParams },
+      responses: { 200: { description: 'The unit', schema: unitDetailSchema } },
       handle: async ({ params }, res) => {
         const { serial } = params;
         res.json(await unitDetail(deps.db, serial));
@@ -34,6 +40,7 @@ export function unitsRoutes(deps: AppDeps) {
       access: ['operator', 'engineer', 'quality'],
       summary: 'Register a unit against a model',
       request: { body: registerUnitSchema },
+      responses: { 201: { description: 'Registered', schema: z.object({ unit: unitViewSchema }) } },
       handle: async ({ body, caller }, res) => {
         res
           .status(201)
@@ -47,6 +54,10 @@ export function unitsRoutes(deps: AppDeps) {
       summary: 'Import units from a work-order CSV (all rows or none)',
       multipart: { fileField: 'file', fields: {} },
       before: [upload.single('file')],
+      responses: {
+        201: { description: 'Every row imported', schema: importReportSchema },
+        422: { description: 'Nothing imported: the rows that were refused', schema: importReportSchema },
+      },
       handle: async ({ caller }, res, req) => {
         if (!req.file)
           throw unitErrors.importNoFile();
