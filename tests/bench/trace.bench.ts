@@ -7,16 +7,16 @@
 // Prints figures with the load average; asserts nothing.
 import os from 'node:os';
 import pg from 'pg';
-import { ensurePostgres } from '#server/ops/pg-local.mjs';
-import { prefixedLog } from '#server/ops/proc.mjs';
-import { createDatabase } from '#server/db/client';
-import { runMigrations } from '#server/db/migrate';
-import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
-import { createStation } from '#server/modules/stations/stations.service';
-import { unitDetail } from '#server/modules/units/units.service';
-import { bulkHold, searchUnits, type QualityContext } from '#server/modules/quality/quality.service';
-import { createLogger } from '#server/lib/logger';
-import { unitSearchQuerySchema } from '#shared/schemas/quality';
+import { ensurePostgres } from '../../server/ops/pg-local.mjs';
+import { prefixedLog } from '../../server/ops/proc.mjs';
+import { createDatabase } from '../../server/db/client';
+import { runMigrations } from '../../server/db/migrate';
+import { createDemoCatalog } from '../../server/modules/demo/demo-line.seed';
+import { createStation } from '../../server/modules/stations/stations.service';
+import { unitDetail } from '../../server/modules/units/units.service';
+import { bulkHold, searchUnits, type QualityContext } from '../../server/modules/quality/quality.service';
+import { createLogger } from '../../server/lib/logger';
+import { unitSearchQuerySchema } from '../../shared/schemas/quality';
 
 process.env.PGPORT_BENCH ??= '55437';
 const UNITS = Number(process.env.BENCH_TRACE_UNITS ?? 1_000_000);

@@ -1,6 +1,6 @@
-import type { ModelView, StationView } from '#shared/schemas/line';
-import { createRng } from '#shared/simulation/rng';
-import { simulateMeasurement, type SimulationSpec } from '#shared/simulation/simulate';
+import type { ModelView, StationView } from '../../shared/schemas/line';
+import { createRng } from '../../shared/simulation/rng';
+import { simulateMeasurement, type SimulationSpec } from '../../shared/simulation/simulate';
 import { baseUrl, DEMO } from './browser-kit';
 
 /** A signed-in API session over fetch (cookie kept by hand), for setting up what a browser test needs. */

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { HeldUnitRow } from '#shared/schemas/quality';
+import type { HeldUnitRow } from '../../shared/schemas/quality';
 import { axeFindings, DEMO, freshPage, launchChromium, signInWithPassword } from './browser-kit';
 import { apiSession } from './line-kit';
 

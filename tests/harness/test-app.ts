@@ -1,13 +1,13 @@
-import { parseEnv } from '#server/env';
-import { createApp } from '#server/app';
-import type { AppDeps } from '#server/deps';
-import { createLogger } from '#server/lib/logger';
-import { createSmtpMailer } from '#server/modules/mail/mail.service';
-import { startFakeMailServer, type FakeMailServer } from '#server/modules/mail/fake-mail-server';
-import { seedDemoAccounts } from '#server/db/seed';
-import { startJobQueue } from '#jobs/queue-client';
+import { parseEnv } from '../../server/env';
+import { createApp } from '../../server/app';
+import type { AppDeps } from '../../server/deps';
+import { createLogger } from '../../server/lib/logger';
+import { createSmtpMailer } from '../../server/modules/mail/mail.service';
+import { startFakeMailServer, type FakeMailServer } from '../../server/modules/mail/fake-mail-server';
+import { seedDemoAccounts } from '../../server/db/seed';
+import { startJobQueue } from '../../jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
-import { createEventHub } from '#server/modules/events/event-hub';
+import { createEventHub } from '../../server/modules/events/event-hub';
 
 /**
  * The origin test requests claim (the test app's PUBLIC_URL). State-changing requests with a session

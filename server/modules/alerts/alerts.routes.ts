@@ -1,11 +1,11 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { route } from '#server/lib/http';
+import type { AppDeps } from '../../deps';
+import { route } from '../../lib/http';
 import {
   acknowledgeAlertSchema,
   alertListQuerySchema,
   alertSubscriptionSchema,
-} from '#shared/schemas/alerts';
+} from '../../../shared/schemas/alerts';
 import { acknowledgeAlert, isSubscribed, listAlerts, setSubscription } from './alerts.service';
 
 const idParams = z.object({ id: z.uuid() });

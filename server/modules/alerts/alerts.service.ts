@@ -1,15 +1,15 @@
 import { and, desc, eq, inArray, sql } from 'drizzle-orm';
-import type { Db, DbOrTx } from '#server/db/client';
-import type { SessionUser } from '#server/lib/auth';
-import { AppError } from '#server/lib/errors';
-import type { Logger } from '#server/lib/logger';
+import type { Db, DbOrTx } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
+import { AppError } from '../../lib/errors';
+import type { Logger } from '../../lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import type { Mailer } from '../mail/mail.service';
 import { stationCalibrationsAfter, stationModelPairs } from '../read-models/calibration-figures.repository';
 import { findStation } from '../stations/stations.service';
 import { findUserById } from '../users/users.repository';
-import type { AlertView } from '#shared/schemas/alerts';
+import type { AlertView } from '../../../shared/schemas/alerts';
 import {
   alertSubscriptions,
   chartAlerts,

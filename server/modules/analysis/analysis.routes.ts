@@ -1,12 +1,12 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { defineRoute, sendPdf } from '#server/lib/http';
-import type { Access } from '#shared/schemas/roles';
+import type { AppDeps } from '../../deps';
+import { defineRoute, sendPdf } from '../../lib/http';
+import type { Access } from '../../../shared/schemas/roles';
 import {
   analysisFilterSchema,
   comparisonQuerySchema,
   controlChartQuerySchema,
-} from '#shared/schemas/analysis';
+} from '../../../shared/schemas/analysis';
 import { writeCalibrationsCsv } from './analysis.export';
 import { capabilityReport } from './analysis.service';
 import {

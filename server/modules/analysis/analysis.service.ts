@@ -1,4 +1,4 @@
-import type { DbOrTx } from '#server/db/client';
+import type { DbOrTx } from '../../db/client';
 import {
   ANALYSIS_FIGURES,
   CHECK_NAMES,
@@ -10,8 +10,8 @@ import {
   type ControlChartView,
   type DistributionView,
   type LineHealthView,
-} from '#shared/schemas/analysis';
-import type { Recipe } from '#shared/schemas/recipe';
+} from '../../../shared/schemas/analysis';
+import type { Recipe } from '../../../shared/schemas/recipe';
 import {
   allRules,
   andersonDarling,
@@ -32,7 +32,7 @@ import {
   type Baseline,
   type ChartLine,
   type RuleHit,
-} from '#shared/statistics';
+} from '../../../shared/statistics';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import {
   analysisChoices,
@@ -51,7 +51,7 @@ import {
 import { analysisErrors } from './analysis.errors';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
-import type { SessionUser } from '#server/lib/auth';
+import type { SessionUser } from '../../lib/auth';
 
 /** Below this p-value the Anderson–Darling test says the values are not normal. */
 const NORMALITY_ALPHA = 0.05;

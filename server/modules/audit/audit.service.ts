@@ -1,11 +1,11 @@
-import type { DbOrTx } from '#server/db/client';
-import type { AuditEntry } from '#shared/schemas/users';
+import type { DbOrTx } from '../../db/client';
+import type { AuditEntry } from '../../../shared/schemas/users';
 import { stationNamesByIds } from '../stations/stations.service';
 import { serialsByIds } from '../units/units.service';
 import { displayNamesByIds } from '../users/users.repository';
 import { listAudit, listAuditFiltered } from './audit.repository';
 import { unitIdsBySerials } from '../units/units.repository';
-import { QUALITY_AUDIT_SUBJECTS, type AuditTrailQuery } from '#shared/schemas/audit-trail';
+import { QUALITY_AUDIT_SUBJECTS, type AuditTrailQuery } from '../../../shared/schemas/audit-trail';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 

@@ -11,7 +11,7 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core';
-import type { CalibrationResult } from '#shared/schemas/calibration-result';
+import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
 import { measurements } from '../measurements/measurements.table';
 import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';

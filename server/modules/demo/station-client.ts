@@ -1,11 +1,11 @@
-import type { CalibrationView } from '#shared/schemas/line';
-import type { Measurement } from '#shared/schemas/measurement';
+import type { CalibrationView } from '../../../shared/schemas/line';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import type {
   QualificationRunView,
   QualificationState,
   StudyNextStep,
-} from '#shared/schemas/qualification';
-import { createRng } from '#shared/simulation/rng';
+} from '../../../shared/schemas/qualification';
+import { createRng } from '../../../shared/simulation/rng';
 import type { DemoModel, DemoRig } from './demo-line.scenario';
 import { calibrationBlockChecksum, drawUnit, referenceUnitTruth, simulateRun } from './demo-physics';
 

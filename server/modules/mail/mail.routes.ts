@@ -1,7 +1,7 @@
-import type { AppDeps } from '#server/deps';
+import type { AppDeps } from '../../deps';
 import { mailErrors } from './mail.errors';
-import { route } from '#server/lib/http';
-import { outboxResponseSchema } from '#shared/schemas/users';
+import { route } from '../../lib/http';
+import { outboxResponseSchema } from '../../../shared/schemas/users';
 
 export function mailRoutes(deps: AppDeps) {
   return [

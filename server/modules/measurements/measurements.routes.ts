@@ -1,15 +1,15 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { defineRoute } from '#server/lib/http';
+import type { AppDeps } from '../../deps';
+import { defineRoute } from '../../lib/http';
 import {
   measurementAcceptedSchema,
   measurementResultSchema,
   programmingConfirmationSchema,
   recomputeSchema,
   resultQuerySchema,
-} from '#shared/schemas/line';
-import { measurementIdSchema, measurementSchema } from '#shared/schemas/measurement';
-import { serialSchema } from '#shared/schemas/serial';
+} from '../../../shared/schemas/line';
+import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/measurement';
+import { serialSchema } from '../../../shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
 import { assertProductionAllowed } from '../qualification/qualification.service';
 import { notifyLineEvent } from '../events/event-hub';

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { route, sendPdf } from '#server/lib/http';
-import { gaugeStudyCreateSchema, studyMeasurementSchema } from '#shared/schemas/qualification';
+import type { AppDeps } from '../../deps';
+import { route, sendPdf } from '../../lib/http';
+import { gaugeStudyCreateSchema, studyMeasurementSchema } from '../../../shared/schemas/qualification';
 import { renderStudyReport } from './qualification.pdf';
 import {
   acceptStudyReading,

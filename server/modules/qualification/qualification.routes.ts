@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { route, sendPdf } from '#server/lib/http';
+import type { AppDeps } from '../../deps';
+import { route, sendPdf } from '../../lib/http';
 import {
   biasQuerySchema,
   certifyReferenceUnitSchema,
@@ -9,7 +9,7 @@ import {
   plantShiftsSchema,
   qualificationMeasurementSchema,
   qualificationPolicySchema,
-} from '#shared/schemas/qualification';
+} from '../../../shared/schemas/qualification';
 import {
   acceptQualificationReading,
   certifyReferenceUnit,

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { route } from '#server/lib/http';
-import { serialSchema } from '#shared/schemas/serial';
+import type { AppDeps } from '../../deps';
+import { route } from '../../lib/http';
+import { serialSchema } from '../../../shared/schemas/serial';
 import {
   bulkHoldSchema,
   commentSchema,
@@ -10,7 +10,7 @@ import {
   newInvestigationSchema,
   releaseSchema,
   unitSearchQuerySchema,
-} from '#shared/schemas/quality';
+} from '../../../shared/schemas/quality';
 import {
   bulkHold,
   exportSearchCsv,

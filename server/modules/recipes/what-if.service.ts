@@ -1,10 +1,10 @@
 import type pg from 'pg';
-import { withTransaction } from '#server/db/transaction';
-import type { Db } from '#server/db/client';
-import type { SessionUser } from '#server/lib/auth';
-import type { JobQueue } from '#jobs/queue-client';
-import { ENGINE_VERSION } from '#shared/calibration';
-import type { CheckCode } from '#shared/schemas/calibration-result';
+import { withTransaction } from '../../db/transaction';
+import type { Db } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
+import type { JobQueue } from '../../../jobs/queue-client';
+import { ENGINE_VERSION } from '../../../shared/calibration';
+import type { CheckCode } from '../../../shared/schemas/calibration-result';
 import {
   COMPONENT_LOT_LABELS,
   type ComponentLotKind,
@@ -15,11 +15,11 @@ import {
   type WhatIfProgress,
   type WhatIfRunView,
   type WhatIfSummary,
-} from '#shared/schemas/recipes';
+} from '../../../shared/schemas/recipes';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import { runEngine } from '../measurements/measurements.service';
 import { openReplayStream, replayMeasurement, type ReplayRow } from '../measurements/measurements.repository';
-import type { Measurement } from '#shared/schemas/measurement';
+import type { Measurement } from '../../../shared/schemas/measurement';
 import { listUsers } from '../users/users.repository';
 import { componentLotsByIds, type ComponentLots } from '../units/units.service';
 import { recipeErrors } from './recipes.errors';

@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import type { AppDeps } from '#server/deps';
-import { defineRoute } from '#server/lib/http';
+import type { AppDeps } from '../../deps';
+import { defineRoute } from '../../lib/http';
 import {
   calibrationViewSchema,
   createStationKeySchema,
@@ -9,7 +9,7 @@ import {
   stationKeyCreatedSchema,
   stationViewSchema,
   updateStationSchema,
-} from '#shared/schemas/line';
+} from '../../../shared/schemas/line';
 import { calibrationViews } from '../read-models/calibration-views';
 import {
   attendStation,

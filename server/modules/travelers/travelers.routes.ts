@@ -1,9 +1,9 @@
 import type { Response } from 'express';
 import { z } from 'zod';
-import { serialSchema } from '#shared/schemas/serial';
-import type { AppDeps } from '#server/deps';
-import { errors } from '#server/lib/errors';
-import { defineRoute, sendPdf } from '#server/lib/http';
+import { serialSchema } from '../../../shared/schemas/serial';
+import type { AppDeps } from '../../deps';
+import { errors } from '../../lib/errors';
+import { defineRoute, sendPdf } from '../../lib/http';
 import { stationMeasuredUnit } from '../calibrations/calibrations.repository';
 import { findUnitBySerial } from '../units/units.service';
 import { unitErrors } from '../units/units.errors';

@@ -1,10 +1,10 @@
 import { createHash } from 'node:crypto';
-import { travelerSettings } from '#server/env';
+import { travelerSettings } from '../../env';
 import { and, desc, eq, sql } from 'drizzle-orm';
-import type { Db, DbOrTx } from '#server/db/client';
-import type { SessionUser } from '#server/lib/auth';
+import type { Db, DbOrTx } from '../../db/client';
+import type { SessionUser } from '../../lib/auth';
 import { travelerErrors } from './travelers.errors';
-import type { CalibrationResult } from '#shared/schemas/calibration-result';
+import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
 import { countAuditOf, insertAudit } from '../audit/audit.repository';
 import { notifyLineEvent } from '../events/event-hub';
 import { calibrationById, latestJudgedCalibrationOfUnit } from '../calibrations/calibrations.repository';

@@ -1,6 +1,6 @@
 import { and, asc, desc, eq, gte, inArray, lte, or, sql, type SQL } from 'drizzle-orm';
-import type { DbOrTx } from '#server/db/client';
-import type { UnitSearchFilter, UnitSearchQuery } from '#shared/schemas/quality';
+import type { DbOrTx } from '../../db/client';
+import type { UnitSearchFilter, UnitSearchQuery } from '../../../shared/schemas/quality';
 import { units, type UnitRecord } from './units.table';
 
 /** The columns of a unit that holds and releases read and change. */

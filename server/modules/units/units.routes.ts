@@ -1,15 +1,15 @@
 import multer from 'multer';
 import { z } from 'zod';
-import { serialSchema } from '#shared/schemas/serial';
-import type { AppDeps } from '#server/deps';
+import { serialSchema } from '../../../shared/schemas/serial';
+import type { AppDeps } from '../../deps';
 import { unitErrors } from './units.errors';
-import { defineRoute } from '#server/lib/http';
+import { defineRoute } from '../../lib/http';
 import {
   importReportSchema,
   registerUnitSchema,
   unitDetailSchema,
   unitViewSchema,
-} from '#shared/schemas/line';
+} from '../../../shared/schemas/line';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });

@@ -1,5 +1,5 @@
-import { PageHeader } from '#src/components/ui/panel';
-import { AnalysisWorkspace } from '#src/features/analysis/components/analysis-workspace';
+import { PageHeader } from '../../components/ui/panel';
+import { AnalysisWorkspace } from '../../features/analysis/components/analysis-workspace';
 
 export function Component() {
   return (

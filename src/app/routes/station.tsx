@@ -1,17 +1,17 @@
 import { Navigate, useParams, useSearchParams } from 'react-router';
-import { Alert, Loading } from '#src/components/ui/alert';
-import { LinkButton } from '#src/components/ui/button';
-import { PageHeader } from '#src/components/ui/panel';
-import { useStations } from '#src/features/line/api/line';
+import { Alert, Loading } from '../../components/ui/alert';
+import { LinkButton } from '../../components/ui/button';
+import { PageHeader } from '../../components/ui/panel';
+import { useStations } from '../../features/line/api/line';
 import {
   rememberedStationId,
   rememberStation,
   StationPicker,
-} from '#src/features/line/components/station-picker';
-import { StationScreen } from '#src/features/line/components/station-screen';
-import { OpenAlerts } from '#src/features/alerts/components/open-alerts';
-import { QualificationBanner } from '#src/features/qualification/components/qualification-banner';
-import { StudyGuide } from '#src/features/qualification/components/study-guide';
+} from '../../features/line/components/station-picker';
+import { StationScreen } from '../../features/line/components/station-screen';
+import { OpenAlerts } from '../../features/alerts/components/open-alerts';
+import { QualificationBanner } from '../../features/qualification/components/qualification-banner';
+import { StudyGuide } from '../../features/qualification/components/study-guide';
 
 /** /station picks the panel's station (or goes to the remembered one); /station/:id runs it. */
 export function Component() {

@@ -1,10 +1,10 @@
 import { useParams } from 'react-router';
-import { PageHeader } from '#src/components/ui/panel';
-import { UnitPage } from '#src/features/line/components/unit-page';
-import { UnitSearch } from '#src/features/line/components/unit-search';
-import { useMe } from '#src/features/auth/api/me';
-import { RecomputePanel } from '#src/features/recipes/components/recompute-panel';
-import { RawTimings } from '#src/features/quality/components/raw-timings';
+import { PageHeader } from '../../components/ui/panel';
+import { UnitPage } from '../../features/line/components/unit-page';
+import { UnitSearch } from '../../features/line/components/unit-search';
+import { useMe } from '../../features/auth/api/me';
+import { RecomputePanel } from '../../features/recipes/components/recompute-panel';
+import { RawTimings } from '../../features/quality/components/raw-timings';
 
 export function Component() {
   const { serial = '' } = useParams();

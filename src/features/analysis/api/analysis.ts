@@ -5,8 +5,8 @@ import type {
   ControlChartView,
   DistributionView,
   LineHealthView,
-} from '#shared/schemas/analysis';
-import { apiRequest } from '#src/lib/api-client';
+} from '../../../../shared/schemas/analysis';
+import { apiRequest } from '../../../lib/api-client';
 import { analysisKeys } from './analysis-keys';
 
 export type AnalysisModel = { id: string; code: string; name: string };

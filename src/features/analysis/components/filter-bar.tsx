@@ -1,6 +1,6 @@
 import { useSearchParams } from 'react-router';
-import { ANALYSIS_FIGURES } from '#shared/schemas/analysis';
-import { SelectField, TextField } from '#src/components/ui/field';
+import { ANALYSIS_FIGURES } from '../../../../shared/schemas/analysis';
+import { SelectField, TextField } from '../../../components/ui/field';
 import { useAnalysisModels, useAnalysisOptions } from '../api/analysis';
 import { RANGE_LABELS } from '../api/filter-state';
 import { MultiPick } from './multi-pick';

@@ -9,8 +9,8 @@ import type {
   UnitView,
   stationHealthSchema,
   stationKeyCreatedSchema,
-} from '#shared/schemas/line';
-import { apiRequest, isApiError } from '#src/lib/api-client';
+} from '../../../../shared/schemas/line';
+import { apiRequest, isApiError } from '../../../lib/api-client';
 import { lineKeys } from './line-keys';
 
 export type StationHealth = z.infer<typeof stationHealthSchema>;

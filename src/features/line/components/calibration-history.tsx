@@ -8,10 +8,10 @@ import {
   tableFeatures,
   useTable,
 } from '@tanstack/react-table';
-import type { CalibrationView } from '#shared/schemas/line';
-import { SortableTableContent, TableFrame } from '#src/components/ui/data-table';
-import { StatusChip } from '#src/components/ui/status-chip';
-import { formatDateTime } from '#src/lib/format';
+import type { CalibrationView } from '../../../../shared/schemas/line';
+import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { formatDateTime } from '../../../lib/format';
 import { PROGRAMMING_TONES, failedChecks, formatCounts, formatOffsetDeg } from './line-format';
 import { VerdictMark } from './verdict-banner';
 

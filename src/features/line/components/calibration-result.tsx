@@ -1,7 +1,7 @@
-import { formatCheckLimit, formatCheckValue } from '#shared/calibration/check-guide';
-import type { CalibrationView, ModelView } from '#shared/schemas/line';
-import { StatusChip } from '#src/components/ui/status-chip';
-import { formatDateTime } from '#src/lib/format';
+import { formatCheckLimit, formatCheckValue } from '../../../../shared/calibration/check-guide';
+import type { CalibrationView, ModelView } from '../../../../shared/schemas/line';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { formatDateTime } from '../../../lib/format';
 import { HallPolar } from './hall-polar';
 import {
   PROGRAMMING_LABELS,

@@ -1,5 +1,5 @@
-import type { EdgeTypeResult } from '#shared/schemas/calibration-result';
-import type { Recipe } from '#shared/schemas/recipe';
+import type { EdgeTypeResult } from '../../../../shared/schemas/calibration-result';
+import type { Recipe } from '../../../../shared/schemas/recipe';
 import { formatDeg } from './line-format';
 
 const PHASE_COLOURS = { A: 'var(--color-phase-a)', B: 'var(--color-phase-b)', C: 'var(--color-phase-c)' };

@@ -1,6 +1,6 @@
-import type { CalibrationView, UnitStatus } from '#shared/schemas/line';
-import { checkName } from '#shared/calibration/check-guide';
-import type { Tone } from '#src/components/ui/status-chip';
+import type { CalibrationView, UnitStatus } from '../../../../shared/schemas/line';
+import { checkName } from '../../../../shared/calibration/check-guide';
+import type { Tone } from '../../../components/ui/status-chip';
 
 export const UNIT_STATUS_LABELS: Record<UnitStatus, string> = {
   new: 'Not calibrated yet',
@@ -27,7 +27,7 @@ export const VERDICT_LABELS: Record<Verdict, string> = {
 };
 
 // The offset is printed on the traveler too: one format for screen and paper.
-export { formatOffsetDeg } from '#shared/wording';
+export { formatOffsetDeg } from '../../../../shared/wording';
 
 /** Firmware counts as the unit stores them, with thousands grouped: "766 counts". */
 export function formatCounts(counts: number | null | undefined): string {

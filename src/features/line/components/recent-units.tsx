@@ -1,4 +1,4 @@
-import { formatDateTime } from '#src/lib/format';
+import { formatDateTime } from '../../../lib/format';
 import { useStationRecent } from '../api/line';
 import { formatOffsetDeg } from './line-format';
 import { VerdictMark } from './verdict-banner';

@@ -1,9 +1,9 @@
 import { useEffect, useState } from 'react';
-import type { ModelView } from '#shared/schemas/line';
-import { Alert } from '#src/components/ui/alert';
-import { Button } from '#src/components/ui/button';
-import { Dialog } from '#src/components/ui/dialog';
-import { Kbd } from '#src/components/ui/kbd';
+import type { ModelView } from '../../../../shared/schemas/line';
+import { Alert } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { Dialog } from '../../../components/ui/dialog';
+import { Kbd } from '../../../components/ui/kbd';
 import { useRegisterUnit } from '../api/line';
 
 type RegisterUnitDialogProps = {

@@ -1,7 +1,7 @@
 import { QueryClient, QueryObserver } from '@tanstack/react-query';
 import { describe, expect, it } from 'vitest';
-import type { LineEvent } from '#shared/schemas/events';
-import type { CalibrationView, UnitDetail } from '#shared/schemas/line';
+import type { LineEvent } from '../../../../shared/schemas/events';
+import type { CalibrationView, UnitDetail } from '../../../../shared/schemas/line';
 import {
   freshCalibration,
   historyCalibration,

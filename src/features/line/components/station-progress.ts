@@ -1,5 +1,5 @@
-import type { LineEvent } from '#shared/schemas/events';
-import type { CalibrationView, UnitDetail } from '#shared/schemas/line';
+import type { LineEvent } from '../../../../shared/schemas/events';
+import type { CalibrationView, UnitDetail } from '../../../../shared/schemas/line';
 import type { Verdict } from './line-format';
 
 /**

@@ -1,12 +1,12 @@
 import { useCallback, useEffect, useReducer, useRef, useState, type ReactNode } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { Link } from 'react-router';
-import type { LineEvent } from '#shared/schemas/events';
-import type { StationView, UnitDetail } from '#shared/schemas/line';
-import { Alert, Loading } from '#src/components/ui/alert';
-import { Button } from '#src/components/ui/button';
-import { Dialog } from '#src/components/ui/dialog';
-import { Kbd } from '#src/components/ui/kbd';
+import type { LineEvent } from '../../../../shared/schemas/events';
+import type { StationView, UnitDetail } from '../../../../shared/schemas/line';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { Dialog } from '../../../components/ui/dialog';
+import { Kbd } from '../../../components/ui/kbd';
 import {
   useAttendStation,
   useModels,

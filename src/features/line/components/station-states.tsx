@@ -1,6 +1,6 @@
 import type { ReactNode } from 'react';
-import type { CalibrationView } from '#shared/schemas/line';
-import { formatDateTime } from '#src/lib/format';
+import type { CalibrationView } from '../../../../shared/schemas/line';
+import { formatDateTime } from '../../../lib/format';
 import { failedChecks, formatOffsetDeg } from './line-format';
 import { VerdictMark } from './verdict-banner';
 

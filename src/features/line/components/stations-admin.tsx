@@ -1,14 +1,14 @@
 import { useState, type FormEvent } from 'react';
-import { createStationSchema, type ModelView, type StationView } from '#shared/schemas/line';
-import { messagesByField } from '#shared/schemas/plain-messages';
-import { isApiError } from '#src/lib/api-client';
-import { Alert, Loading } from '#src/components/ui/alert';
-import { Button } from '#src/components/ui/button';
-import { TableFrame, Td, Th } from '#src/components/ui/data-table';
-import { Dialog } from '#src/components/ui/dialog';
-import { CheckboxField, TextField } from '#src/components/ui/field';
-import { StatusChip } from '#src/components/ui/status-chip';
-import { formatDateTime, formatRelative } from '#src/lib/format';
+import { createStationSchema, type ModelView, type StationView } from '../../../../shared/schemas/line';
+import { messagesByField } from '../../../../shared/schemas/plain-messages';
+import { isApiError } from '../../../lib/api-client';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { Dialog } from '../../../components/ui/dialog';
+import { CheckboxField, TextField } from '../../../components/ui/field';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { formatDateTime, formatRelative } from '../../../lib/format';
 import {
   useCreateStation,
   useCreateStationKey,

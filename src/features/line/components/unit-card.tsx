@@ -1,5 +1,5 @@
-import type { UnitView } from '#shared/schemas/line';
-import { StatusChip } from '#src/components/ui/status-chip';
+import type { UnitView } from '../../../../shared/schemas/line';
+import { StatusChip } from '../../../components/ui/status-chip';
 import { UNIT_STATUS_LABELS, UNIT_STATUS_TONES, formatCounts, formatOffsetDeg } from './line-format';
 
 /** Attempts as dots: filled ones used, hollow ones left; the numbers say the same in words. */

@@ -1,7 +1,7 @@
-import type { UnitDetail } from '#shared/schemas/line';
-import { Alert, Loading } from '#src/components/ui/alert';
-import { Panel } from '#src/components/ui/panel';
-import { formatDateTime } from '#src/lib/format';
+import type { UnitDetail } from '../../../../shared/schemas/line';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Panel } from '../../../components/ui/panel';
+import { formatDateTime } from '../../../lib/format';
 import { useModels, useUnit } from '../api/line';
 import { CalibrationHistory } from './calibration-history';
 import { CalibrationResult } from './calibration-result';

@@ -1,6 +1,6 @@
 import { useId, useState, type FormEvent } from 'react';
 import { useNavigate } from 'react-router';
-import { Button } from '#src/components/ui/button';
+import { Button } from '../../../components/ui/button';
 import { readScan } from './scan-field';
 
 /** Finds a unit by serial (typed or scanned) and opens its page. */

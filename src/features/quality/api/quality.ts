@@ -1,5 +1,5 @@
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { ModelView, StationView } from '#shared/schemas/line';
+import type { ModelView, StationView } from '../../../../shared/schemas/line';
 import type {
   BulkHold,
   BulkHoldResult,
@@ -12,8 +12,8 @@ import type {
   Release,
   ReleaseResult,
   UnitSearchPage,
-} from '#shared/schemas/quality';
-import { apiRequest } from '#src/lib/api-client';
+} from '../../../../shared/schemas/quality';
+import { apiRequest } from '../../../lib/api-client';
 
 /** Search filters as the form holds them: every value a string, '' meaning "any". */
 export type SearchForm = Record<string, string>;

@@ -1,12 +1,12 @@
 import { useState } from 'react';
 import { Link } from 'react-router';
-import type { InvestigationDetail, InvestigationUpdate } from '#shared/schemas/quality';
-import { Alert, Loading } from '#src/components/ui/alert';
-import { Button } from '#src/components/ui/button';
-import { TextAreaField } from '#src/components/ui/field';
-import { Panel } from '#src/components/ui/panel';
-import { StatusChip } from '#src/components/ui/status-chip';
-import { formatDateTime } from '#src/lib/format';
+import type { InvestigationDetail, InvestigationUpdate } from '../../../../shared/schemas/quality';
+import { Alert, Loading } from '../../../components/ui/alert';
+import { Button } from '../../../components/ui/button';
+import { TextAreaField } from '../../../components/ui/field';
+import { Panel } from '../../../components/ui/panel';
+import { StatusChip } from '../../../components/ui/status-chip';
+import { formatDateTime } from '../../../lib/format';
 import { useAddComment, useInvestigation, useUpdateInvestigation } from '../api/quality';
 import { INVESTIGATION_STATUS_LABELS } from './quality-format';
 
