@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: the demo fortnight is one scenario (catalog, stations, work orders, runs,
+// heartbeats, qualification, charts) in the order it happened; every write goes through the owning module.
 import { randomUUID } from 'node:crypto';
 import type pg from 'pg';
 import type { Db } from '../../db/client';

@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: every statistics statement shares the one filter (`conditions`) and figure
+// (`figureSql`) on the joined calibrations; splitting them would split the filter from its users.
 import { and, asc, desc, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
 import { PgDialect } from 'drizzle-orm/pg-core';
 import pg from 'pg';

@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: the life of a recipe version (draft → review → released → retired, discard)
+// with its audit and mail is one set of rules; the queries are in recipes.repository.ts.
 import type { Db } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import type { Logger } from '../../lib/logger';

@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: one run's life (start, cancel, the cursor-driven replay, its summary and
+// lot groups) reads as one story; the queries are in recipes.repository.ts and measurements.repository.ts.
 import type pg from 'pg';
 import { withTransaction } from '../../db/transaction';
 import type { Db } from '../../db/client';
