@@ -14,7 +14,8 @@ import { inputGuard } from './lib/input-guard';
 import { sameOriginGuard } from './lib/same-origin';
 import multer from 'multer';
 import { loadSessionUser } from './modules/auth/auth.service';
-import { authenticateStationKey, stationErrors } from './modules/stations/stations.service';
+import { authenticateStationKey } from './modules/stations/stations.service';
+import { stationErrors } from './modules/stations/stations.errors';
 
 /** Largest JSON body accepted (a 500-turn measurement with every edge is ~250 KB). */
 export const JSON_BODY_LIMIT = '2mb';

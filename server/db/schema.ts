@@ -6,6 +6,7 @@ export * from '../modules/recipes/recipes.table';
 export * from '../modules/units/units.table';
 export * from '../modules/stations/stations.table';
 export * from '../modules/measurements/measurements.table';
+export * from '../modules/calibrations/calibrations.table';
 export * from '../modules/travelers/travelers.table';
 export * from '../modules/alerts/alerts.table';
 export * from '../modules/quality/quality.table';

@@ -7,7 +7,7 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { and, desc, eq, inArray } from 'drizzle-orm';
 import { createDatabase } from '../../server/db/client';
-import { calibrations } from '../../server/modules/measurements/measurements.table';
+import { calibrations } from '../../server/modules/calibrations/calibrations.table';
 import { renderTravelerPdf } from '../../server/modules/travelers/traveler.render';
 import { travelerData } from '../../server/modules/travelers/travelers.service';
 import { findUnitBySerial } from '../../server/modules/units/units.service';

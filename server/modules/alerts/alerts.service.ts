@@ -6,7 +6,7 @@ import type { Logger } from '../../lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import type { Mailer } from '../mail/mail.service';
-import { stationCalibrationsAfter, stationModelPairs } from '../measurements/calibrations.repository';
+import { stationCalibrationsAfter, stationModelPairs } from '../read-models/calibration-figures.repository';
 import { findStation } from '../stations/stations.service';
 import { findUserById } from '../users/users.repository';
 import { limitsInForce } from '../analysis/control-limits.service';

@@ -4,7 +4,7 @@ import type { SessionUser } from '../../lib/auth';
 import { AppError } from '../../lib/errors';
 import { insertAudit } from '../audit/audit.repository';
 import { limitsInForce } from '../analysis/control-limits.service';
-import { newestStationCalibration } from '../measurements/calibrations.repository';
+import { newestStationCalibration } from '../read-models/calibration-figures.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation } from '../stations/stations.service';
 import { allRules } from '../../../shared/statistics';

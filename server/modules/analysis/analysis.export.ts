@@ -4,7 +4,7 @@ import { pipeline } from 'node:stream/promises';
 import type { Writable } from 'node:stream';
 import { to as copyTo } from 'pg-copy-streams';
 import { ANALYSIS_FIGURES, type AnalysisFilter } from '../../../shared/schemas/analysis';
-import { calibrationsCsvStatement } from '../measurements/calibrations.repository';
+import { calibrationsCsvStatement } from '../read-models/calibration-figures.repository';
 
 function columns(filter: AnalysisFilter) {
   const f = ANALYSIS_FIGURES[filter.figure];

@@ -41,14 +41,14 @@ import {
   placementTrend,
   programmingMismatchesByDay,
   stationDayHealth,
-} from '../measurements/calibrations.repository';
+} from '../read-models/calibration-figures.repository';
 import {
   comparisonAggregate,
   distributionAggregate,
   groupRankSums,
   newestFigures,
   type ChartRow,
-} from '../measurements/calibration-aggregates.repository';
+} from '../read-models/calibration-aggregates.repository';
 import { analysisErrors } from './analysis.errors';
 import type { ControlLimitSetRecord } from './analysis.table';
 import { baselineFromWindow, frozenBaseline, limitSetView, limitsInForce } from './control-limits.service';

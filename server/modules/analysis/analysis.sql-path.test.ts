@@ -18,7 +18,7 @@ import {
   summarizeGroup,
   welchAnova,
 } from '../../../shared/statistics';
-import { selectCalibrationFigures } from '../measurements/calibrations.repository';
+import { selectCalibrationFigures } from '../read-models/calibration-figures.repository';
 import { comparisonView, distributionView, figureLimits } from './analysis.service';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 

@@ -3,7 +3,7 @@ import type { SessionUser } from '../../lib/auth';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation } from '../stations/stations.service';
-import { newestFigures } from '../measurements/calibration-aggregates.repository';
+import { newestFigures } from '../read-models/calibration-aggregates.repository';
 import {
   consecutiveSubgroups,
   individualsChart,

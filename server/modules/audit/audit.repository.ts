@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, gte, ilike, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, gte, ilike, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { auditLog } from './audit.table';
 
@@ -128,4 +128,22 @@ export async function auditOfSubjects(db: DbOrTx, subjects: { type: string; ids:
     .where(or(...conds))
     .orderBy(asc(auditLog.id))
     .limit(limit);
+}
+
+/** How many entries name this subject with one of these actions (a traveler's print number counts them). */
+export async function countAuditOf(
+  db: DbOrTx,
+  q: { subjectType: string; subjectId: string; actions: string[] },
+): Promise<number> {
+  const [{ n }] = await db
+    .select({ n: count() })
+    .from(auditLog)
+    .where(
+      and(
+        eq(auditLog.subjectType, q.subjectType),
+        eq(auditLog.subjectId, q.subjectId),
+        inArray(auditLog.action, q.actions),
+      ),
+    );
+  return n;
 }

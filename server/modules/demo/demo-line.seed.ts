@@ -1,6 +1,7 @@
+// Over ~350 lines on purpose: the demo fortnight is one scenario (catalog, stations, work orders, runs,
+// heartbeats, qualification, charts) in the order it happened; every write goes through the owning module.
 import { randomUUID } from 'node:crypto';
 import type pg from 'pg';
-import { and, eq, inArray, isNull, sql } from 'drizzle-orm';
 import type { Db } from '../../db/client';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
@@ -12,24 +13,31 @@ import type { Logger } from '../../lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { watchEveryStationModel } from '../alerts/alerts.service';
 import { seedDemoQualification } from './demo-qualification.seed';
-import { models, recipes } from '../recipes/recipes.table';
+import {
+  findModelRow,
+  insertModelRow,
+  insertRecipeRow,
+  listModelRows,
+  updateModelRow,
+} from '../recipes/recipes.repository';
 import {
   acceptMeasurement,
   computeCalibration,
   confirmProgramming,
-  type LineContext,
+  type MeasurementsContext,
 } from '../measurements/measurements.service';
-import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
+import { countMeasurements, measurementIdentity } from '../measurements/measurements.repository';
+import { calibrationById, calibrationCounts } from '../calibrations/calibrations.repository';
 import {
   createStation,
   createStationKey,
   isLiveStationKey,
+  findStationByName,
   recordHeartbeat,
+  revokeStationKeysLabelled,
 } from '../stations/stations.service';
-import { stationKeys, stations } from '../stations/stations.table';
-import { importUnits } from '../units/units.service';
-import { units } from '../units/units.table';
-import { users } from '../users/users.table';
+import { findUnitBySerial, importUnits, unitCounts } from '../units/units.service';
+import { listUsers } from '../users/users.repository';
 import {
   DEMO_HALL_BOARD_LOTS,
   DEMO_KEY_LABEL,
@@ -124,13 +132,8 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
   const out = new Map<string, { modelId: string; recipeId: string; model: DemoModel }>();
   await db.transaction(async (tx) => {
     for (const m of DEMO_MODELS) {
-      const [model] = await tx
-        .insert(models)
-        .values({ code: m.code, name: m.name, polePairs: m.polePairs })
-        .returning();
-      const [recipe] = await tx
-        .insert(recipes)
-        .values({
+      const model = await insertModelRow(tx, { code: m.code, name: m.name, polePairs: m.polePairs });
+      const recipe = await insertRecipeRow(tx, {
           modelId: model.id,
           version: 1,
           status: 'released',
@@ -138,10 +141,9 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
           notes: 'First release for Line 2 end-of-line calibration.',
           createdBy: actor?.id ?? null,
           releasedBy: actor?.id ?? null,
-          releasedAt,
-        })
-        .returning();
-      await tx.update(models).set({ activeRecipeId: recipe.id }).where(eq(models.id, model.id));
+        releasedAt,
+      });
+      await updateModelRow(tx, model.id, { activeRecipeId: recipe.id });
       out.set(m.code, { modelId: model.id, recipeId: recipe.id, model: m });
     }
     await insertAudit(tx, {
@@ -155,16 +157,9 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
 
 /** The person the demo's work-order import is recorded under: the demo engineer, else any engineer or admin. */
 async function importActor(db: Db): Promise<SessionUser> {
-  const rows = await db
-    .select({
-      id: users.id,
-      username: users.username,
-      displayName: users.displayName,
-      email: users.email,
-      role: users.role,
-    })
-    .from(users)
-    .where(inArray(users.role, ['engineer', 'admin']));
+  const rows = (await listUsers(db))
+    .filter((u) => u.role === 'engineer' || u.role === 'admin')
+    .map((u) => ({ id: u.id, username: u.username, displayName: u.displayName, email: u.email, role: u.role }));
   const actor = rows.find((r) => r.username === 'evan.engineer') ?? rows[0];
   if (!actor) {
     throw new Error(
@@ -297,8 +292,7 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
     chartPoints: 0,
     ms: 0,
   };
-  const [{ n }] = await deps.db.select({ n: sql<number>`count(*)::int` }).from(models);
-  if (n > 0) return { ...empty, ms: performance.now() - t0 };
+  if ((await listModelRows(deps.db)).length > 0) return { ...empty, ms: performance.now() - t0 };
 
   const actor = await importActor(deps.db);
   const end = new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate()));
@@ -345,7 +339,7 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
     const recipeId = catalog.get(u.model.code)!.recipeId;
     const maxAttempts = u.model.recipe.maxAttempts;
     let t = u.at.getTime();
-    const at = (ms: number): LineContext => ({ ...deps, queue, clock: () => new Date(ms) });
+    const at = (ms: number): MeasurementsContext => ({ ...deps, queue, clock: () => new Date(ms) });
     let attempts = 0;
     for (let run = 1; run <= maxAttempts + 2 && attempts < maxAttempts; run++) {
       const measurementId = randomUUID();
@@ -357,26 +351,17 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
         { measurementId, serial: u.serial },
       );
       await acceptMeasurement(at(t), principal, measurement);
-      const [stored] = await deps.db
-        .select({ id: measurements.id })
-        .from(measurements)
-        .where(eq(measurements.measurementId, measurementId));
+      const stored = (await measurementIdentity(deps.db, measurementId))!;
       const computedAt = t + 40 + 200 * rng.next();
       const { calibrationId } = await computeCalibration(at(computedAt), {
         measurementPk: stored.id,
         recipeId,
       });
-      const [cal] = await deps.db
-        .select({ verdict: calibrations.verdict, offsetCounts: calibrations.offsetCounts })
-        .from(calibrations)
-        .where(eq(calibrations.id, calibrationId));
+      const cal = (await calibrationById(deps.db, calibrationId))!;
       if (cal.verdict !== 'unusable') attempts++;
       if (cal.verdict === 'fail') {
         // A failure a retest cannot mend puts the unit on hold at once: the operator stops there.
-        const [now] = await deps.db
-          .select({ status: units.status })
-          .from(units)
-          .where(eq(units.serial, u.serial));
+        const now = await findUnitBySerial(deps.db, u.serial);
         if (now?.status === 'on_hold') break;
       }
       if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
@@ -430,34 +415,14 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
 
 /** What the line holds now, for the seed's report. */
 export async function seedCounts(db: Db): Promise<Omit<SeedReport, 'seeded' | 'ms' | 'chartPoints'>> {
-  const [u] = await db
-    .select({
-      units: sql<number>`count(*)::int`,
-      onHold: sql<number>`count(*) filter (where ${units.status} = 'on_hold')::int`,
-    })
-    .from(units);
-  const [m] = await db.select({ n: sql<number>`count(*)::int` }).from(measurements);
-  const byVerdict = await db
-    .select({ verdict: calibrations.verdict, n: sql<number>`count(*)::int` })
-    .from(calibrations)
-    .groupBy(calibrations.verdict);
-  const [span] = await db
-    .select({
-      first: sql<string | null>`min(${calibrations.computedAt})::text`,
-      last: sql<string | null>`max(${calibrations.computedAt})::text`,
-    })
-    .from(calibrations);
-  const [c] = await db
-    .select({
-      n: sql<number>`count(*)::int`,
-      mismatches: sql<number>`count(*) filter (where not ${programmingConfirmations.matches})::int`,
-    })
-    .from(programmingConfirmations);
+  const u = await unitCounts(db);
+  const measured = await countMeasurements(db);
+  const { byVerdict, span, confirmations: c } = await calibrationCounts(db);
   const verdicts = Object.fromEntries(byVerdict.map((r) => [r.verdict, r.n]));
   const iso = (v: string | null) => (v ? new Date(v).toISOString() : null);
   return {
     units: u.units,
-    measurements: m.n,
+    measurements: measured,
     calibrations: { pass: verdicts.pass ?? 0, fail: verdicts.fail ?? 0, unusable: verdicts.unusable ?? 0 },
     onHold: u.onHold,
     confirmations: c.n,
@@ -485,27 +450,14 @@ export async function ensureDemoStationKey(
   now: Date,
   keep?: string,
 ): Promise<DemoStationKey & { kept: boolean }> {
-  const [station] = await db
-    .select()
-    .from(stations)
-    .where(sql`upper(${stations.name}) = ${DEMO_SIM_STATION.toUpperCase()}`);
+  const station = await findStationByName(db, DEMO_SIM_STATION);
   if (!station)
     throw new Error(`The demo station ${DEMO_SIM_STATION} does not exist: the demo line was not seeded.`);
-  const [model] = await db.select().from(models).where(eq(models.id, station.allowedModelIds[0]));
+  const model = (await findModelRow(db, station.allowedModelIds[0]))!;
   if (keep && (await isLiveStationKey(db, station.id, keep))) {
     return { stationId: station.id, stationName: station.name, modelCode: model.code, key: keep, kept: true };
   }
-  const revoked = await db
-    .update(stationKeys)
-    .set({ revokedAt: now })
-    .where(
-      and(
-        eq(stationKeys.stationId, station.id),
-        eq(stationKeys.label, DEMO_KEY_LABEL),
-        isNull(stationKeys.revokedAt),
-      ),
-    )
-    .returning({ id: stationKeys.id, prefix: stationKeys.prefix });
+  const revoked = await revokeStationKeysLabelled(db, station.id, DEMO_KEY_LABEL, now);
   if (revoked.length > 0) {
     await insertAudit(db, {
       action: 'stations.key_revoked',

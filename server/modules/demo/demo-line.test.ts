@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq, sql } from 'drizzle-orm';
 import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
 import { models } from '../recipes/recipes.table';
-import { calibrations } from '../measurements/measurements.table';
+import { calibrations } from '../calibrations/calibrations.table';
 import { authenticateStationKey } from '../stations/stations.service';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
-import { AppError } from '../../lib/errors';
+import { jobErrors } from './jobs.errors';
 import { route } from '../../lib/http';
 import { insertAudit } from '../audit/audit.repository';
 import { BOSS_SCHEMA } from '../../../jobs/queue-client';
@@ -55,11 +55,7 @@ export function jobsRoutes(deps: AppDeps) {
           [id],
         );
         if (!rows[0])
-          throw new AppError(
-            404,
-            'jobs.not_failed',
-            'No failed job with this id (it may have been replayed already).',
-          );
+          throw jobErrors.notFailed();
         await deps.queue.boss.retry(rows[0].name, id);
         await deps.pool.query(`select pg_notify('phasewright_jobs', $1)`, [rows[0].name]);
         await insertAudit(deps.db, {

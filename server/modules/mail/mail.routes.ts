@@ -1,5 +1,5 @@
 import type { AppDeps } from '../../deps';
-import { AppError } from '../../lib/errors';
+import { mailErrors } from './mail.errors';
 import { route } from '../../lib/http';
 import { outboxResponseSchema } from '../../../shared/schemas/users';
 
@@ -12,18 +12,14 @@ export function mailRoutes(deps: AppDeps) {
       summary: 'Messages received by the local fake mail server',
       handler: async (_req, res) => {
         if (!deps.env.MAILBOX_URL) {
-          throw new AppError(
-            409,
-            'mail.outbox_unavailable',
-            'Mail goes to a real relay (SMTP_URL); there is no local outbox to show.',
-          );
+          throw mailErrors.outboxUnavailable();
         }
         let body: unknown;
         try {
           const r = await fetch(`${deps.env.MAILBOX_URL}/messages`, { signal: AbortSignal.timeout(3000) });
           body = await r.json();
         } catch {
-          throw new AppError(503, 'mail.outbox_unreachable', 'The local mail server is not answering.');
+          throw mailErrors.outboxUnreachable();
         }
         res.json(outboxResponseSchema.parse(body));
       },

@@ -57,16 +57,6 @@ export const measurementErrors = {
     ),
   notFound: (id: string) =>
     new AppError(404, 'measurements.not_found', `No measurement "${id}" from this station.`),
-  notCalibrated: (id: string) =>
-    new AppError(
-      409,
-      'measurements.not_computed',
-      `Measurement "${id}" has no result yet; confirm programming after the result.`,
-    ),
-  unusableResult: (id: string) =>
-    new AppError(
-      409,
-      'measurements.unusable_result',
-      `Measurement "${id}" could not be used, so there is nothing to program.`,
-    ),
+  captureNoFile: () =>
+    new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".'),
 };

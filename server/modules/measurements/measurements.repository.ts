@@ -1,9 +1,9 @@
 import type pg from 'pg';
 import type { Measurement } from '../../../shared/schemas/measurement';
 import { prepared } from '../../db/prepared';
-import { eq, inArray, sql } from 'drizzle-orm';
+import { eq, sql } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
-import { measurements, programmingConfirmations } from './measurements.table';
+import { measurements, type MeasurementRecord } from './measurements.table';
 
 /** Which stored measurements a replay covers: one model, optionally a time range and stations. */
 export interface ReplaySelection {
@@ -240,12 +240,30 @@ export async function measurementsOfUnit(db: DbOrTx, unitId: string, bodies = fa
     .orderBy(measurements.receivedAt);
 }
 
-/** Every programming confirmation (write and read-back) of the given calibrations, oldest first. */
-export async function programmingOfCalibrations(db: DbOrTx, calibrationIds: string[]) {
-  if (calibrationIds.length === 0) return [];
-  return db
-    .select()
-    .from(programmingConfirmations)
-    .where(inArray(programmingConfirmations.calibrationId, calibrationIds))
-    .orderBy(programmingConfirmations.confirmedAt);
+/** A measurement's identity and hash (not its body). */
+export async function measurementIdentity(db: DbOrTx, measurementId: string) {
+  const [row] = await db
+    .select({
+      id: measurements.id,
+      measurementId: measurements.measurementId,
+      stationId: measurements.stationId,
+      unitId: measurements.unitId,
+      serial: measurements.serial,
+      payloadSha256: measurements.payloadSha256,
+    })
+    .from(measurements)
+    .where(eq(measurements.measurementId, measurementId));
+  return row;
+}
+export type MeasurementIdentity = NonNullable<Awaited<ReturnType<typeof measurementIdentity>>>;
+
+/** A stored measurement row by its primary key. */
+export async function measurementByPk(db: DbOrTx, pk: string): Promise<MeasurementRecord | undefined> {
+  const [row] = await db.select().from(measurements).where(eq(measurements.id, pk));
+  return row;
+}
+
+export async function countMeasurements(db: DbOrTx): Promise<number> {
+  const [m] = await db.select({ n: sql<number>`count(*)::int` }).from(measurements);
+  return m.n;
 }

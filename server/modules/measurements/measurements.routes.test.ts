@@ -4,14 +4,14 @@ import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../.
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import type { Recipe } from '../../../shared/schemas/recipe';
-import { computeCalibration, type LineContext } from './measurements.service';
+import { computeCalibration, type MeasurementsContext } from './measurements.service';
 import { simulateCapture } from '../../../shared/simulation/capture-sim';
 import { createRng } from '../../../shared/simulation/rng';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
 let other: Awaited<ReturnType<typeof createLineFixture>>;
-let ctx: LineContext;
+let ctx: MeasurementsContext;
 let recipe: Recipe;
 
 beforeAll(async () => {

@@ -2,6 +2,8 @@ import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { defineRoute } from '../../lib/http';
 import {
+  measurementAcceptedSchema,
+  measurementResultSchema,
   programmingConfirmationSchema,
   recomputeSchema,
   resultQuerySchema,
@@ -13,14 +15,14 @@ import { assertProductionAllowed } from '../qualification/qualification.service'
 import { measurementIdTaken } from './measurements.repository';
 import { notifyLineEvent } from '../events/event-hub';
 import multer from 'multer';
-import { AppError } from '../../lib/errors';
+import { measurementErrors } from './measurements.errors';
 import {
   acceptMeasurement,
   confirmProgramming,
   measurementFromCapture,
   measurementResult,
   requestRecompute,
-  type LineContext,
+  type MeasurementsContext,
 } from './measurements.service';
 
 /** Sampled captures up to 32 MB (about 400,000 rows of seven channels). */
@@ -37,9 +39,25 @@ const captureFields = z.object({
 
 const idParams = z.object({ measurementId: measurementIdSchema });
 
+// Answers without a shared contract of their own (the station integrators' document reads them).
+const programmingRecordedSchema = z.object({
+  matches: z.boolean(),
+  expectedCounts: z.number().int(),
+  confirmedAt: z.string(),
+});
+const recomputeAnswerSchema = z.object({
+  measurementId: z.string(),
+  serial: z.string(),
+  recipe: z.object({ id: z.string(), version: z.number().int() }),
+  engineVersion: z.string(),
+  status: z.enum(['queued', 'computed']),
+  calibrationId: z.string().nullable(),
+});
+const heartbeatAnswerSchema = z.object({ stationId: z.string(), stationName: z.string(), at: z.string() });
+
 /** The station protocol: what a test station's software calls with its own key. */
 export function measurementsRoutes(deps: AppDeps) {
-  const ctx: LineContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
+  const ctx: MeasurementsContext = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
   // A station whose qualification is overdue or failed is refused (423) before anything is stored.
   const gate = { db: deps.db, pool: deps.pool, clock: deps.clock, timeZone: deps.env.PLANT_TIME_ZONE };
   // Idempotency comes first: a post repeating a stored measurement gets its stored answer even while the
@@ -56,6 +74,10 @@ export function measurementsRoutes(deps: AppDeps) {
       access: 'station',
       summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
       serviceParsedBody: measurementSchema,
+      responses: {
+        202: { description: 'Stored and queued (or a repeat not computed yet)', schema: measurementAcceptedSchema },
+        200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
+      },
       handle: async ({ caller }, res, req) => {
         await gateNew(caller.station.stationId, req.body?.measurementId, req.body?.serial);
         const accepted = await acceptMeasurement(ctx, caller.station, req.body, { raw: req.rawBody });
@@ -80,10 +102,14 @@ export function measurementsRoutes(deps: AppDeps) {
       },
       before: [captureUpload.single('capture')],
       request: { body: captureFields },
+      responses: {
+        202: { description: 'Stored and queued (or a repeat not computed yet)', schema: measurementAcceptedSchema },
+        200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
+      },
       handle: async ({ body: fields, caller }, res, req) => {
         await gateNew(caller.station.stationId, fields.measurementId, fields.serial);
         if (!req.file)
-          throw new AppError(400, 'captures.no_file', 'Attach the CSV as the form field "capture".');
+          throw measurementErrors.captureNoFile();
         // The bytes are parsed as they are; the text is made only for a capture worth storing.
         const measurement = await measurementFromCapture(ctx, caller.station, fields, req.file.buffer);
         const accepted = await acceptMeasurement(ctx, caller.station, measurement, {
@@ -102,6 +128,7 @@ export function measurementsRoutes(deps: AppDeps) {
       access: 'station',
       summary: 'The calibration of a measurement; waitMs long-polls until it commits',
       request: { params: idParams, query: resultQuerySchema },
+      responses: { 200: { description: 'The calibration, or pending', schema: measurementResultSchema } },
       handle: async ({ params: { measurementId }, query: { waitMs }, caller }, res, req) => {
         const view = await waitForResult(deps, caller.station.stationId, measurementId, waitMs, req);
         res.json({ measurementId, status: view ? 'computed' : 'pending', calibration: view });
@@ -113,6 +140,7 @@ export function measurementsRoutes(deps: AppDeps) {
       access: 'station',
       summary: 'Confirm the value written into the unit and read back',
       request: { params: idParams, body: programmingConfirmationSchema },
+      responses: { 200: { description: 'Whether the read-back matched', schema: programmingRecordedSchema } },
       handle: async ({ params: { measurementId }, body, caller }, res) => {
         res.json(await confirmProgramming(ctx, caller.station, measurementId, body));
       },
@@ -124,6 +152,10 @@ export function measurementsRoutes(deps: AppDeps) {
       summary:
         'Recompute a stored measurement with a released recipe version (analysis only; the unit is unchanged)',
       request: { params: idParams, body: recomputeSchema },
+      responses: {
+        202: { description: 'Queued', schema: recomputeAnswerSchema },
+        200: { description: 'Computed already', schema: recomputeAnswerSchema },
+      },
       handle: async ({ params: { measurementId }, body: input, caller }, res) => {
         const out = await requestRecompute(ctx, caller.user, measurementId, input);
         res.status(out.status === 'queued' ? 202 : 200).json(out);
@@ -134,6 +166,7 @@ export function measurementsRoutes(deps: AppDeps) {
       path: '/api/station/heartbeat',
       access: 'station',
       summary: 'Tell the server the station is alive',
+      responses: { 200: { description: 'Heard', schema: heartbeatAnswerSchema } },
       handle: async ({ caller: { station } }, res) => {
         const now = deps.clock();
         await recordHeartbeat(deps.db, station.stationId, now);

@@ -3,11 +3,11 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
-import { computeCalibration, type LineContext } from '../measurements/measurements.service';
+import { computeCalibration, type MeasurementsContext } from '../measurements/measurements.service';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
-let ctx: LineContext;
+let ctx: MeasurementsContext;
 let quality = '';
 let engineer = '';
 let operator = '';

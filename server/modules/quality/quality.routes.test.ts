@@ -4,7 +4,7 @@ import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../.
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
 import { createHash } from 'node:crypto';
-import { computeCalibration, type LineContext } from '../measurements/measurements.service';
+import { computeCalibration, type MeasurementsContext } from '../measurements/measurements.service';
 import { canonicalMeasurementText } from '../../../shared/capture/as-posted';
 import { simulateCapture } from '../../../shared/simulation/capture-sim';
 import { createRng } from '../../../shared/simulation/rng';
@@ -12,7 +12,7 @@ import { createRng } from '../../../shared/simulation/rng';
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
 let other: Awaited<ReturnType<typeof createLineFixture>>;
-let ctx: LineContext;
+let ctx: MeasurementsContext;
 let quality = '';
 let engineer = '';
 let operator = '';

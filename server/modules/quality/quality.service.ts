@@ -16,7 +16,7 @@ import { CalibrationInputError } from '../../../shared/calibration';
 import { traceMeasurement } from '../../../shared/calibration/trace';
 import type { Measurement } from '../../../shared/schemas/measurement';
 import type { RecipeRecord } from '../recipes/recipes.table';
-import { stationCalibrationFilter } from '../measurements/calibrations.repository';
+import { stationCalibrationFilter } from '../calibrations/calibrations.repository';
 import {
   lockAndHoldUnits,
   lockUnitsForHold,

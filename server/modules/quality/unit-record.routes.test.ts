@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
 import { createLineFixture } from '../../../tests/harness/line-fixtures';
 import { simulatedMeasurement } from '../../../tests/harness/measurements';
-import { computeCalibration, type LineContext } from '../measurements/measurements.service';
+import { computeCalibration, type MeasurementsContext } from '../measurements/measurements.service';
 import { ENGINE_VERSION } from '../../../shared/calibration';
 import { SAFETY_CAUTIONS } from '../../../shared/wording';
 import type { UnitRecord } from '../../../shared/schemas/unit-record';
@@ -14,7 +14,7 @@ import { MANIFEST_NAME } from './unit-record.export';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
-let ctx: LineContext;
+let ctx: MeasurementsContext;
 let quality = '';
 let engineer = '';
 let operator = '';

@@ -1,13 +1,14 @@
 import type { DbOrTx } from '../../db/client';
 import { auditOfSubjects } from '../audit/audit.repository';
-import { calibrationViews } from '../measurements/measurements.service';
-import { calibrationsOf } from '../measurements/calibrations.repository';
-import { measurementsOfUnit, programmingOfCalibrations } from '../measurements/measurements.repository';
+import { calibrationViews } from '../read-models/calibration-views';
+import { measurementsOfUnit } from '../measurements/measurements.repository';
+import { programmingOfCalibrations } from '../calibrations/calibrations.repository';
 import { qualificationUseOfUnit } from '../qualification/qualification.service';
 import { releasedRecipe } from '../recipes/recipes.repository';
 import { stationNamesByIds } from '../stations/stations.service';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
-import { findUnitBySerial, unitErrors, unitView } from '../units/units.service';
+import { findUnitBySerial, unitView } from '../units/units.service';
+import { unitErrors } from '../units/units.errors';
 import { displayNamesByIds } from '../users/users.repository';
 import { checkName } from '../../../shared/calibration/check-guide';
 import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '../../../shared/recipe/recipe-fields';
@@ -115,7 +116,7 @@ export async function unitRecord(db: DbOrTx, serial: string): Promise<UnitRecord
   if (!row) throw unitErrors.notFound(serial);
   const [unit, newestFirst, measured, holds, linked, docs, qualification] = await Promise.all([
     unitView(db, row),
-    calibrationViews(db, calibrationsOf.unit(row.id), 1000),
+    calibrationViews(db, { unitId: row.id, limit: 1000 }),
     measurementsOfUnit(db, row.id),
     holdsOfUnit(db, row.id),
     investigationsOfUnit(db, row.id),

@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: the life of a recipe version (draft → review → released → retired, discard)
+// with its audit and mail is one set of rules; the queries are in recipes.repository.ts.
 import type { Db } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import type { Logger } from '../../lib/logger';
@@ -6,7 +8,7 @@ import { insertAudit } from '../audit/audit.repository';
 import { listUsers } from '../users/users.repository';
 import { countUnitsByModel } from '../units/units.service';
 import { listStationsAllowingModels } from '../stations/stations.service';
-import { firstPassYieldByModel } from '../measurements/measurements.service';
+import { firstPassYieldByModel } from '../read-models/first-pass-yield.repository';
 import { recipeSchema, type Recipe } from '../../../shared/schemas/recipe';
 import { diffRecipes, hallLayoutLabel, type RecipeFieldChange } from '../../../shared/recipe/recipe-fields';
 import type {

@@ -1,6 +1,7 @@
+// Over ~350 lines on purpose: one run's life (start, cancel, the cursor-driven replay, its summary and
+// lot groups) reads as one story; the queries are in recipes.repository.ts and measurements.repository.ts.
 import type pg from 'pg';
-import { drizzle } from 'drizzle-orm/node-postgres';
-import * as schema from '../../db/schema';
+import { withTransaction } from '../../db/transaction';
 import type { Db } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
 import type { JobQueue } from '../../../jobs/queue-client';
@@ -142,14 +143,12 @@ export async function startWhatIf(
   if (!recipe) throw recipeErrors.notFound();
   const model = await repo.findModelRow(ctx.db, recipe.modelId);
   if (!model?.activeRecipeId) throw recipeErrors.noRunnableVersion();
+  const baselineRecipeId = model.activeRecipeId;
   // The run and its job commit together, on one connection, as the station's measurement and its job do.
-  const client = await ctx.pool.connect();
-  try {
-    await client.query('BEGIN');
-    const tx = drizzle(client, { schema, casing: 'snake_case' });
-    const row = await repo.insertWhatIfRun(tx, {
+  const row = await withTransaction(ctx.pool, async ({ client, tx }) => {
+    const run = await repo.insertWhatIfRun(tx, {
       recipeId,
-      baselineRecipeId: model.activeRecipeId,
+      baselineRecipeId,
       modelId: model.id,
       filters,
       requestedBy: actor.id,
@@ -157,17 +156,12 @@ export async function startWhatIf(
     });
     await ctx.queue.send(
       'whatIfRun',
-      { runId: row.id },
+      { runId: run.id },
       { db: { executeSql: (text, values) => client.query(text, values) } },
     );
-    await client.query('COMMIT');
-    return toView(ctx.db, row);
-  } catch (e) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw e;
-  } finally {
-    client.release();
-  }
+    return run;
+  });
+  return toView(ctx.db, row);
 }
 
 /** Asks a queued or running what-if to stop; the worker stops at its next batch. */

@@ -2,12 +2,15 @@ import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { defineRoute } from '../../lib/http';
 import {
+  calibrationViewSchema,
   createStationKeySchema,
   createStationSchema,
+  stationHealthSchema,
+  stationKeyCreatedSchema,
+  stationViewSchema,
   updateStationSchema,
 } from '../../../shared/schemas/line';
-import { calibrationViews } from '../measurements/measurements.service';
-import { calibrationsOf } from '../measurements/calibrations.repository';
+import { calibrationViews } from '../read-models/calibration-views';
 import {
   attendStation,
   createStation,
@@ -15,9 +18,9 @@ import {
   findStation,
   listStationViews,
   revokeStationKey,
-  stationErrors,
   updateStation,
 } from './stations.service';
+import { stationErrors } from './stations.errors';
 
 const idParams = z.object({ id: z.string().uuid('Not a station id') });
 const keyParams = z.object({ id: z.string().uuid(), keyId: z.string().uuid() });
@@ -33,6 +36,7 @@ export function stationsRoutes(deps: AppDeps) {
       path: '/api/stations',
       access: 'signed-in',
       summary: 'Stations with their allowed models, attendance and last heartbeat',
+      responses: { 200: { description: 'Stations (keys for administrators only)', schema: z.object({ stations: z.array(stationViewSchema) }) } },
       handle: async ({ caller }, res) => {
         const views = await listStationViews(deps.db);
         res.json({ stations: caller.user.role === 'admin' ? views : views.map((v) => ({ ...v, keys: [] })) });
@@ -44,12 +48,13 @@ export function stationsRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'The latest calibrations at a station',
       request: { params: idParams, query: recentQuery },
+      responses: { 200: { description: 'The station with its newest results', schema: z.object({ calibrations: z.array(calibrationViewSchema) }) } },
       handle: async ({ params, query }, res) => {
         const { id } = params;
         const { limit } = query;
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
         res.json({
-          calibrations: await calibrationViews(deps.db, calibrationsOf.station(id), limit),
+          calibrations: await calibrationViews(deps.db, { stationId: id, purpose: 'station', limit }),
         });
       },
     }),
@@ -59,6 +64,7 @@ export function stationsRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'Last heartbeat and job-queue state for a station screen',
       request: { params: idParams },
+      responses: { 200: { description: 'Last heard and the job queue', schema: stationHealthSchema } },
       handle: async ({ params }, res) => {
         const { id } = params;
         const station = await findStation(deps.db, id);
@@ -83,6 +89,7 @@ export function stationsRoutes(deps: AppDeps) {
       access: ['operator'],
       summary: 'Take over a station panel: measurements from now on name this operator',
       request: { params: idParams },
+      responses: { 200: { description: 'Attended', schema: z.object({ stationId: z.string(), attendedBy: z.string() }) } },
       handle: async ({ params, caller }, res) => {
         const { id } = params;
         await attendStation(deps.db, caller.user, id, deps.clock());
@@ -96,6 +103,7 @@ export function stationsRoutes(deps: AppDeps) {
       summary:
         'Server-Sent Events for one station: measurement received, computing, result, programming, traveler',
       request: { params: idParams },
+      responses: { 200: { description: 'An event stream of the station', contentType: 'text/event-stream' } },
       handle: async ({ params }, res, req) => {
         const { id } = params;
         if (!(await findStation(deps.db, id))) throw stationErrors.notFound();
@@ -123,6 +131,7 @@ export function stationsRoutes(deps: AppDeps) {
       access: ['admin'],
       summary: 'Create a station',
       request: { body: createStationSchema },
+      responses: { 201: { description: 'Created', schema: z.object({ station: stationViewSchema }) } },
       handle: async ({ body, caller }, res) => {
         const row = await createStation(deps.db, caller.user, body);
         res.status(201).json({ station: (await listStationViews(deps.db)).find((s) => s.id === row.id) });
@@ -134,6 +143,7 @@ export function stationsRoutes(deps: AppDeps) {
       access: ['admin'],
       summary: 'Change a station: name, line, allowed models',
       request: { params: idParams, body: updateStationSchema },
+      responses: { 200: { description: 'Changed', schema: z.object({ station: stationViewSchema }) } },
       handle: async ({ params, body, caller }, res) => {
         const { id } = params;
         await updateStation(deps.db, caller.user, id, body);
@@ -146,6 +156,7 @@ export function stationsRoutes(deps: AppDeps) {
       access: ['admin'],
       summary: 'Create a station API key (shown once)',
       request: { params: idParams, body: createStationKeySchema },
+      responses: { 201: { description: 'The key, shown this once', schema: stationKeyCreatedSchema } },
       handle: async ({ params, body, caller }, res) => {
         const { id } = params;
         const { label } = body;
@@ -158,6 +169,7 @@ export function stationsRoutes(deps: AppDeps) {
       access: ['admin'],
       summary: 'Revoke a station API key',
       request: { params: keyParams },
+      responses: { 204: { description: 'Revoked' } },
       handle: async ({ params, caller }, res) => {
         const { id, keyId } = params;
         await revokeStationKey(deps.db, caller.user, id, keyId, deps.clock());

@@ -3,7 +3,7 @@ import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
 import type { z } from 'zod';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
+import { stationErrors } from './stations.errors';
 import { insertAudit } from '../audit/audit.repository';
 import { existingModelIds, listModelRows } from '../recipes/recipes.repository';
 import { displayNamesByIds } from '../users/users.repository';
@@ -12,21 +12,6 @@ import { createStationSchema, updateStationSchema } from '../../../shared/schema
 import { stationKeys, stations, type StationRecord } from './stations.table';
 
 export const STATION_KEY_PREFIX = 'pwsk_';
-
-export const stationErrors = {
-  notFound: () => new AppError(404, 'stations.not_found', 'No such station.'),
-  keyNotFound: () => new AppError(404, 'stations.key_not_found', 'No such key for this station.'),
-  nameTaken: (n: string) =>
-    new AppError(409, 'stations.name_taken', `A station named "${n}" already exists.`),
-  keyInvalid: () =>
-    new AppError(
-      401,
-      'station.key_invalid',
-      'The station key is not valid or was revoked. Ask an administrator for a new key.',
-    ),
-  unknownModels: () =>
-    new AppError(400, 'stations.unknown_model', 'One of the allowed models does not exist.'),
-};
 
 export function hashStationKey(key: string): string {
   return createHash('sha256').update(key).digest('hex');
@@ -273,4 +258,27 @@ export async function stationNamesByIds(db: DbOrTx, ids: string[]): Promise<Map<
     .from(stations)
     .where(inArray(stations.id, ids));
   return new Map(rows.map((r) => [r.id, r.name]));
+}
+
+/** A station by its name, compared without regard to case. */
+export async function findStationByName(db: DbOrTx, name: string): Promise<StationRecord | undefined> {
+  const [row] = await db
+    .select()
+    .from(stations)
+    .where(sql`upper(${stations.name}) = ${name.toUpperCase()}`);
+  return row;
+}
+
+/** Revokes a station's live keys with this label; the revoked keys' ids and prefixes. */
+export async function revokeStationKeysLabelled(
+  db: DbOrTx,
+  stationId: string,
+  label: string,
+  now: Date,
+): Promise<{ id: string; prefix: string }[]> {
+  return db
+    .update(stationKeys)
+    .set({ revokedAt: now })
+    .where(and(eq(stationKeys.stationId, stationId), eq(stationKeys.label, label), isNull(stationKeys.revokedAt)))
+    .returning({ id: stationKeys.id, prefix: stationKeys.prefix });
 }

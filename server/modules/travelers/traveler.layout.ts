@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: the page layout of the traveler is one drawing, section by section; the
+// code format, barcodes and fonts are in files of their own.
 import type { ProgrammingConfirmation, TravelerData } from './traveler.types';
 import { SENSORS } from './traveler.types';
 import { signed, TRAVELER_CODE_FORMAT } from './traveler.code';

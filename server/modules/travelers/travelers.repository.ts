@@ -1,4 +1,4 @@
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
 import { travelers } from './travelers.table';
 
@@ -15,4 +15,13 @@ export async function listTravelerDocsOfUnit(db: DbOrTx, unitId: string) {
     .from(travelers)
     .where(eq(travelers.unitId, unitId))
     .orderBy(travelers.createdAt);
+}
+
+/** One traveler document of a unit (undefined when the id is not one of this unit's). */
+export async function travelerDocOfUnit(db: DbOrTx, unitId: string, id: string) {
+  const [doc] = await db
+    .select()
+    .from(travelers)
+    .where(and(eq(travelers.id, id), eq(travelers.unitId, unitId)));
+  return doc;
 }

@@ -1,14 +1,16 @@
-import { and, eq } from 'drizzle-orm';
 import type { Response } from 'express';
 import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { errors } from '../../lib/errors';
 import { defineRoute, sendPdf } from '../../lib/http';
-import { stationMeasuredUnit } from '../measurements/calibrations.repository';
-import { findUnitBySerial, unitErrors } from '../units/units.service';
-import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
-import { travelers, type TravelerRecord } from './travelers.table';
+import { stationMeasuredUnit } from '../calibrations/calibrations.repository';
+import { findUnitBySerial } from '../units/units.service';
+import { unitErrors } from '../units/units.errors';
+import { currentTraveler, printTraveler } from './travelers.service';
+import { travelerErrors } from './travelers.errors';
+import { travelerDocOfUnit } from './travelers.repository';
+import type { TravelerRecord } from './travelers.table';
 
 const serialParams = z.object({ serial: serialSchema });
 const docParams = z.object({ serial: serialSchema, id: z.string().uuid('Not a traveler id') });
@@ -17,6 +19,14 @@ const printBody = z.object({ pageSize: z.enum(['A4', 'LETTER']).default('A4') })
 function sendTraveler(res: Response, doc: TravelerRecord, serial: string) {
   sendPdf(res, doc.pdf, `traveler-${serial}-print${doc.printNumber}.pdf`, { 'x-content-sha256': doc.sha256 });
 }
+
+const printedTravelerSchema = z.object({
+  travelerId: z.string(),
+  printNumber: z.number().int(),
+  pageSize: z.enum(['A4', 'LETTER']),
+  sha256: z.string(),
+  url: z.string(),
+});
 
 export function travelersRoutes(deps: AppDeps) {
   /** A station key may read only the travelers of units it measured. */
@@ -31,6 +41,7 @@ export function travelersRoutes(deps: AppDeps) {
       access: { people: ['operator', 'engineer', 'quality'], station: true },
       summary: 'The current traveler PDF of a unit (people, or the station that measured it)',
       request: { params: serialParams },
+      responses: { 200: { description: 'The traveler PDF', contentType: 'application/pdf' } },
       handle: async ({ params, caller }, res) => {
         const { serial } = params;
         const unit = await findUnitBySerial(deps.db, serial);
@@ -47,15 +58,13 @@ export function travelersRoutes(deps: AppDeps) {
       access: { people: ['operator', 'engineer', 'quality'], station: true },
       summary: 'One earlier traveler document of a unit',
       request: { params: docParams },
+      responses: { 200: { description: 'The traveler PDF', contentType: 'application/pdf' } },
       handle: async ({ params, caller }, res) => {
         const { serial, id } = params;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
         await checkStationScope(caller.station?.stationId, unit.id);
-        const [doc] = await deps.db
-          .select()
-          .from(travelers)
-          .where(and(eq(travelers.id, id), eq(travelers.unitId, unit.id)));
+        const doc = await travelerDocOfUnit(deps.db, unit.id, id);
         if (!doc) throw travelerErrors.notFound();
         sendTraveler(res, doc, unit.serial);
       },
@@ -66,6 +75,7 @@ export function travelersRoutes(deps: AppDeps) {
       access: ['operator', 'quality'],
       summary: 'Print (or reprint, marked with its number) the current traveler; audited',
       request: { params: serialParams, body: printBody },
+      responses: { 201: { description: 'The printed document', schema: printedTravelerSchema } },
       handle: async ({ params, body, caller }, res) => {
         const { serial } = params;
         const { pageSize } = body;

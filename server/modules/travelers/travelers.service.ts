@@ -1,20 +1,16 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { travelerSettings } from '../../env';
-import { and, count, desc, eq, inArray, sql } from 'drizzle-orm';
+import { and, desc, eq, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
+import { travelerErrors } from './travelers.errors';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
-import { auditLog } from '../audit/audit.table';
-import { insertAudit } from '../audit/audit.repository';
-import { models, recipes } from '../recipes/recipes.table';
+import { countAuditOf, insertAudit } from '../audit/audit.repository';
+import { latestJudgedCalibrationOfUnit } from '../calibrations/calibrations.repository';
+import { travelerSource, type TravelerSource } from '../read-models/traveler-data.repository';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import type { LineEvent } from '../../../shared/schemas/events';
-import { calibrations, measurements, programmingConfirmations } from '../measurements/measurements.table';
-import { stations } from '../stations/stations.table';
 import { findUnitBySerial } from '../units/units.service';
-import { units } from '../units/units.table';
-import { users } from '../users/users.table';
 import { renderTravelerPdf } from './traveler.render';
 import type { TravelerDataInput } from './traveler.types';
 import { travelers, type TravelerRecord } from './travelers.table';
@@ -25,63 +21,7 @@ export const TRAVELER_HEADER = {
   plantName: travelerSettings().TRAVELER_PLANT,
 };
 
-export const travelerErrors = {
-  none: (serial: string) =>
-    new AppError(
-      404,
-      'travelers.none',
-      `Unit ${serial} has no traveler yet: it appears once a calibration has a verdict.`,
-    ),
-  notFound: () => new AppError(404, 'travelers.not_found', 'No such traveler document for this unit.'),
-  notPrintable: () =>
-    new AppError(
-      409,
-      'travelers.not_printable',
-      'This calibration could not use its data, so it has no traveler.',
-    ),
-};
-
 const lotText = (v: string | null) => (v && /^[A-Za-z0-9]/.test(v) ? v : 'n/a');
-
-/**
- * Everything a traveler prints, in one statement: the calibration, the few measurement columns it
- * prints (never the stored bodies, which are most of a measurement row's bytes), unit, model, recipe,
- * station, operator, the latest programming confirmation, and whether print 1 exists.
- */
-async function travelerRow(db: DbOrTx, calibrationId: string) {
-  const [row] = await db
-    .select({
-      cal: calibrations,
-      m: { operatorId: measurements.operatorId, receivedAt: measurements.receivedAt },
-      unit: units,
-      model: models,
-      recipe: recipes,
-      station: stations,
-      operatorName: users.displayName,
-      conf: sql<{
-        matches: boolean;
-        writtenCounts: number;
-        readBackCounts: number;
-        checksum: string | null;
-        confirmedAt: string;
-      } | null>`(select json_build_object('matches', pc.matches, 'writtenCounts', pc.written_counts,
-          'readBackCounts', pc.read_back_counts, 'checksum', pc.checksum, 'confirmedAt', pc.confirmed_at)
-        from ${programmingConfirmations} pc where pc.calibration_id = ${calibrations.id}
-        order by pc.confirmed_at desc limit 1)`,
-      firstPrintId: sql<string | null>`(select t.id from ${travelers} t
-        where t.calibration_id = ${calibrations.id} and t.print_number = 1 limit 1)`,
-    })
-    .from(calibrations)
-    .innerJoin(measurements, eq(measurements.id, calibrations.measurementPk))
-    .innerJoin(units, eq(units.id, calibrations.unitId))
-    .innerJoin(models, eq(models.id, units.modelId))
-    .innerJoin(recipes, eq(recipes.id, calibrations.recipeId))
-    .innerJoin(stations, eq(stations.id, calibrations.stationId))
-    .leftJoin(users, eq(users.id, measurements.operatorId))
-    .where(eq(calibrations.id, calibrationId));
-  return row;
-}
-type TravelerRow = NonNullable<Awaited<ReturnType<typeof travelerRow>>>;
 
 /** Gathers everything the traveler prints for one calibration. */
 export async function travelerData(
@@ -91,22 +31,19 @@ export async function travelerData(
   pageSize: 'A4' | 'LETTER',
   generatedAt: Date,
 ): Promise<TravelerDataInput> {
-  const row = await travelerRow(db, calibrationId);
+  const row = await travelerSource(db, calibrationId);
   if (!row || row.cal.verdict === 'unusable') throw travelerErrors.notPrintable();
   return travelerDataOf(row, printNumber, pageSize, generatedAt);
 }
 
 function travelerDataOf(
-  row: TravelerRow,
+  row: TravelerSource,
   printNumber: number,
   pageSize: 'A4' | 'LETTER',
   generatedAt: Date,
 ): TravelerDataInput {
   const result = row.cal.result as CalibrationResult;
-  const conf = row.conf
-    ? { ...row.conf, confirmedAt: new Date(row.conf.confirmedAt), checksum: row.conf.checksum ?? '' }
-    : undefined;
-  const operator = row.operatorName ? { displayName: row.operatorName } : undefined;
+  const { operator, conf } = row;
   return {
     ...TRAVELER_HEADER,
     lineName: row.station.line,
@@ -222,7 +159,7 @@ export async function renderFirstTraveler(
   now: Date,
   pageSize: 'A4' | 'LETTER' = 'A4',
 ) {
-  const row = await travelerRow(db, calibrationId);
+  const row = await travelerSource(db, calibrationId);
   if (!row) throw new Error(`calibration ${calibrationId} does not exist`);
   if (row.cal.verdict === 'unusable') return null;
   if (row.firstPrintId) return row.firstPrintId;
@@ -270,18 +207,7 @@ export async function currentTraveler(
   unitId: string,
   now: Date,
 ): Promise<TravelerRecord | undefined> {
-  const [latest] = await db
-    .select({ id: calibrations.id })
-    .from(calibrations)
-    .where(
-      and(
-        eq(calibrations.unitId, unitId),
-        eq(calibrations.purpose, 'station'),
-        inArray(calibrations.verdict, ['pass', 'fail']),
-      ),
-    )
-    .orderBy(desc(calibrations.computedAt))
-    .limit(1);
+  const latest = await latestJudgedCalibrationOfUnit(db, unitId);
   if (!latest) return undefined;
   const newest = () =>
     db
@@ -308,31 +234,15 @@ export async function printTraveler(
   pageSize: 'A4' | 'LETTER',
   now: Date,
 ): Promise<TravelerRecord> {
-  const [latest] = await db
-    .select()
-    .from(calibrations)
-    .where(
-      and(
-        eq(calibrations.unitId, unitId),
-        eq(calibrations.purpose, 'station'),
-        inArray(calibrations.verdict, ['pass', 'fail']),
-      ),
-    )
-    .orderBy(desc(calibrations.computedAt))
-    .limit(1);
+  const latest = await latestJudgedCalibrationOfUnit(db, unitId);
   if (!latest) throw travelerErrors.none(serial);
   return db.transaction(async (tx) => {
     await lockCalibration(tx, latest.id);
-    const [{ n }] = await tx
-      .select({ n: count() })
-      .from(auditLog)
-      .where(
-        and(
-          eq(auditLog.subjectType, 'calibration'),
-          eq(auditLog.subjectId, latest.id),
-          inArray(auditLog.action, ['travelers.printed', 'travelers.reprinted']),
-        ),
-      );
+    const n = await countAuditOf(tx, {
+      subjectType: 'calibration',
+      subjectId: latest.id,
+      actions: ['travelers.printed', 'travelers.reprinted'],
+    });
     const printNumber = n + 1;
     let doc: TravelerRecord | undefined;
     const unitNow = await findUnitBySerial(tx, serial);

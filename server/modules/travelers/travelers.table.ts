@@ -1,5 +1,5 @@
 import { customType, index, integer, pgEnum, pgTable, text, timestamp, uuid } from 'drizzle-orm/pg-core';
-import { calibrations } from '../measurements/measurements.table';
+import { calibrations } from '../calibrations/calibrations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
 

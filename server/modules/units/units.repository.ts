@@ -283,3 +283,29 @@ export async function searchUnitIds(db: DbOrTx, where: SQL | undefined): Promise
 
 /** The unit's id column, for other modules' conditions that correlate with a unit search. */
 export const unitIdColumn = units.id;
+
+/**
+ * Registers a unit first seen at a station (the serial already normalised), or finds the one a
+ * concurrent post registered meanwhile.
+ */
+export async function registerSeenUnit(
+  tx: DbOrTx,
+  serialKey: string,
+  modelId: string,
+): Promise<{ id: string; serial: string }> {
+  const [inserted] = await tx
+    .insert(units)
+    .values({ serial: serialKey, modelId })
+    .onConflictDoNothing()
+    .returning({ id: units.id, serial: units.serial });
+  const unit =
+    inserted ??
+    (
+      await tx
+        .select({ id: units.id, serial: units.serial })
+        .from(units)
+        .where(sql`upper(${units.serial}) = ${serialKey}`)
+    )[0];
+  if (!unit) throw new Error(`unit ${serialKey} neither inserted nor found`);
+  return unit;
+}

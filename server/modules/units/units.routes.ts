@@ -2,9 +2,14 @@ import multer from 'multer';
 import { z } from 'zod';
 import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
-import { AppError } from '../../lib/errors';
+import { unitErrors } from './units.errors';
 import { defineRoute } from '../../lib/http';
-import { registerUnitSchema } from '../../../shared/schemas/line';
+import {
+  importReportSchema,
+  registerUnitSchema,
+  unitDetailSchema,
+  unitViewSchema,
+} from '../../../shared/schemas/line';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });
@@ -23,6 +28,7 @@ export function unitsRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'A unit with its calibrations, programming status and travelers',
       request: { params: serialParams },
+      responses: { 200: { description: 'The unit', schema: unitDetailSchema } },
       handle: async ({ params }, res) => {
         const { serial } = params;
         res.json(await unitDetail(deps.db, serial));
@@ -34,6 +40,7 @@ export function unitsRoutes(deps: AppDeps) {
       access: ['operator', 'engineer', 'quality'],
       summary: 'Register a unit against a model',
       request: { body: registerUnitSchema },
+      responses: { 201: { description: 'Registered', schema: z.object({ unit: unitViewSchema }) } },
       handle: async ({ body, caller }, res) => {
         res
           .status(201)
@@ -47,9 +54,13 @@ export function unitsRoutes(deps: AppDeps) {
       summary: 'Import units from a work-order CSV (all rows or none)',
       multipart: { fileField: 'file', fields: {} },
       before: [upload.single('file')],
+      responses: {
+        201: { description: 'Every row imported', schema: importReportSchema },
+        422: { description: 'Nothing imported: the rows that were refused', schema: importReportSchema },
+      },
       handle: async ({ caller }, res, req) => {
         if (!req.file)
-          throw new AppError(400, 'units.import_no_file', 'Attach the CSV as the form field "file".');
+          throw unitErrors.importNoFile();
         const report = await importUnits(deps.db, caller.user, req.file.buffer.toString('utf8'));
         res.status(report.errors.length ? 422 : 201).json(report);
       },

@@ -2,11 +2,10 @@ import Papa from 'papaparse';
 import { inArray, sql } from 'drizzle-orm';
 import type { Db, DbOrTx } from '../../db/client';
 import type { SessionUser } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
+import { unitErrors } from './units.errors';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelRow, findModelWithActiveRecipe, listModelRows } from '../recipes/recipes.repository';
-import { calibrationViews } from '../measurements/measurements.service';
-import { calibrationsOf } from '../measurements/calibrations.repository';
+import { calibrationViews } from '../read-models/calibration-views';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import {
   registerUnitSchema,
@@ -19,18 +18,6 @@ import {
 } from '../../../shared/schemas/line';
 import { units, type UnitRecord } from './units.table';
 import { normaliseSerial } from '../../../shared/schemas/serial';
-
-export const unitErrors = {
-  notFound: (serial: string) =>
-    new AppError(
-      404,
-      'units.not_found',
-      `No unit with serial "${serial}". Register it against a model first.`,
-    ),
-  exists: (serial: string) =>
-    new AppError(409, 'units.exists', `A unit with serial "${serial}" already exists.`),
-  unknownModel: () => new AppError(400, 'units.unknown_model', 'No such model.'),
-};
 
 export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<UnitRecord | undefined> {
   const [row] = await db
@@ -66,7 +53,7 @@ export async function unitDetail(db: DbOrTx, serial: string): Promise<UnitDetail
   const docs = await listTravelerDocsOfUnit(db, unit.id);
   return {
     unit: await unitView(db, unit),
-    calibrations: await calibrationViews(db, calibrationsOf.unit(unit.id), 100),
+    calibrations: await calibrationViews(db, { unitId: unit.id, limit: 100 }),
     travelers: docs.map((d) => ({ ...d, createdAt: d.createdAt.toISOString() })),
   };
 }
@@ -125,11 +112,7 @@ export async function importUnits(db: Db, actor: SessionUser, csvText: string): 
   const headers = parsed.meta.fields ?? [];
   const missing = ['serial', 'model'].filter((c) => !headers.includes(c));
   if (missing.length) {
-    throw new AppError(
-      400,
-      'units.import_columns',
-      `The CSV lacks the column${missing.length > 1 ? 's' : ''} ${missing.join(', ')}. Expected: ${IMPORT_COLUMNS.join(', ')}.`,
-    );
+    throw unitErrors.importColumns(missing, IMPORT_COLUMNS);
   }
   const errors: ImportReport['errors'] = [];
   for (const e of parsed.errors) errors.push({ row: (e.row ?? 0) + 2, serial: null, message: e.message });
@@ -244,4 +227,15 @@ export async function componentLotsByIds(db: DbOrTx, ids: string[]): Promise<Map
     .from(units)
     .where(inArray(units.id, ids));
   return new Map(rows.map(({ id, ...lots }) => [id, lots]));
+}
+
+/** How many units there are, and how many are on hold (the demo seed's report). */
+export async function unitCounts(db: DbOrTx): Promise<{ units: number; onHold: number }> {
+  const [u] = await db
+    .select({
+      units: sql<number>`count(*)::int`,
+      onHold: sql<number>`count(*) filter (where ${units.status} = 'on_hold')::int`,
+    })
+    .from(units);
+  return u;
 }

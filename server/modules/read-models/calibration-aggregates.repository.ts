@@ -5,8 +5,9 @@ import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
 import type { AnalysisFilter, CompareBy } from '../../../shared/schemas/analysis';
-import { calibrations, measurements } from './measurements.table';
-import { conditions, figureSql } from './calibrations.repository';
+import { calibrations } from '../calibrations/calibrations.table';
+import { measurements } from '../measurements/measurements.table';
+import { conditions, figureSql } from './calibration-figures.repository';
 
 /**
  * Line statistics aggregated inside PostgreSQL: the views read sums, quantiles and counts instead of every

@@ -1,4 +1,6 @@
-import { and, asc, desc, eq, gte, inArray, lt, sql, type AnyColumn, type SQL } from 'drizzle-orm';
+// Over ~350 lines on purpose: every statistics statement shares the one filter (`conditions`) and figure
+// (`figureSql`) on the joined calibrations; splitting them would split the filter from its users.
+import { and, asc, desc, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
 import { PgDialect } from 'drizzle-orm/pg-core';
 import pg from 'pg';
 import type { DbOrTx } from '../../db/client';
@@ -7,7 +9,8 @@ import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
 import type { AnalysisFigure, AnalysisFilter } from '../../../shared/schemas/analysis';
-import { calibrations, measurements, programmingConfirmations } from './measurements.table';
+import { calibrations, programmingConfirmations } from '../calibrations/calibrations.table';
+import { measurements } from '../measurements/measurements.table';
 
 /**
  * Read-only queries over calibrations for the line statistics. Calibrations are owned here; the joins
@@ -380,62 +383,4 @@ export function calibrationsCsvStatement(filter: AnalysisFilter): string {
     return pg.escapeLiteral(p instanceof Date ? p.toISOString() : String(p));
   });
   return text;
-}
-
-/**
- * The containment search's condition on a unit's station calibrations: some station calibration of
- * the unit (correlated on `unitId`) matches every given filter. Undefined when no filter is given.
- */
-export function stationCalibrationFilter(
-  unitId: AnyColumn,
-  f: {
-    stationId?: string;
-    operatorId?: string;
-    measuredFrom?: string;
-    measuredTo?: string;
-    recipeId?: string;
-    engineVersion?: string;
-    verdict?: 'pass' | 'fail' | 'unusable';
-    offsetMinDeg?: number;
-    offsetMaxDeg?: number;
-    failedCheck?: string;
-  },
-): SQL | undefined {
-  const conds: SQL[] = [];
-  if (f.stationId) conds.push(sql`c.station_id = ${f.stationId}`);
-  if (f.measuredFrom) conds.push(sql`c.computed_at >= ${f.measuredFrom}`);
-  if (f.measuredTo) conds.push(sql`c.computed_at <= ${f.measuredTo}`);
-  if (f.recipeId) conds.push(sql`c.recipe_id = ${f.recipeId}`);
-  if (f.engineVersion) conds.push(sql`c.engine_version = ${f.engineVersion}`);
-  if (f.verdict) conds.push(sql`c.verdict = ${f.verdict}`);
-  if (f.offsetMinDeg !== undefined) conds.push(sql`c.offset_deg >= ${f.offsetMinDeg}`);
-  if (f.offsetMaxDeg !== undefined) conds.push(sql`c.offset_deg <= ${f.offsetMaxDeg}`);
-  if (f.failedCheck)
-    conds.push(
-      sql`c.result->'checks' @> jsonb_build_array(jsonb_build_object('code', ${f.failedCheck}::text, 'passed', false))`,
-    );
-  if (f.operatorId)
-    conds.push(sql`exists (select 1 from measurements m where m.id = c.measurement_pk and m.operator_id = ${f.operatorId})`);
-  if (conds.length === 0) return undefined;
-  return sql`exists (select 1 from calibrations c where c.unit_id = ${unitId} and c.purpose = 'station' and ${sql.join(conds, sql` and `)})`;
-}
-
-/**
- * The selections other modules may ask `calibrationViews` for: they name what they want (a unit's,
- * a station's), and only this module builds SQL on its tables.
- */
-export const calibrationsOf = {
-  unit: (unitId: string): SQL => eq(calibrations.unitId, unitId),
-  /** The station's own results (not engineers' recomputations). */
-  station: (stationId: string): SQL => and(eq(calibrations.stationId, stationId), eq(calibrations.purpose, 'station'))!,
-};
-
-/** Whether the station measured the unit at least once (a station reads only its own units' papers). */
-export async function stationMeasuredUnit(db: DbOrTx, stationId: string, unitId: string): Promise<boolean> {
-  const [own] = await db
-    .select({ id: calibrations.id })
-    .from(calibrations)
-    .where(and(eq(calibrations.unitId, unitId), eq(calibrations.stationId, stationId)))
-    .limit(1);
-  return !!own;
 }

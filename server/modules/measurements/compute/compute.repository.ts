@@ -1,0 +1,153 @@
+import type pg from 'pg';
+import { namedStatement } from '../../../db/statement';
+import { prepared } from '../../../db/prepared';
+import { jobInsertSql } from '../../../../jobs/queue-client';
+import type { Measurement } from '../../../../shared/schemas/measurement';
+import type { CalibrationRecord } from '../../calibrations/calibrations.table';
+import type { UnitRecord } from '../../units/units.table';
+
+/**
+ * The computation's statements. Each does several things in one round trip on purpose (a round trip
+ * costs more than the engine): the calibration, the unit's new state, the follow-on jobs and the events
+ * commit in one statement. Nothing else builds SQL on the units table for a calibration.
+ */
+
+export interface MeasurementToCompute {
+  id: string;
+  measurement_id: string;
+  station_id: string;
+  unit_id: string;
+  serial: string;
+  source: 'timings' | 'capture';
+  payload: Measurement;
+  payload_raw: string | null;
+  /** The calibration of this (measurement, recipe, engine) when the job ran before. */
+  done_id: string | null;
+}
+
+/** The measurement, whether this job already ran, and the "computing" event, in one statement. */
+const claimStatement = namedStatement<{
+  measurementPk: string;
+  recipeId: string;
+  engineVersion: string;
+  eventsChannel: string;
+  atText: string;
+}>(
+  `with d as (select id from calibrations where measurement_pk = $measurementPk and recipe_id = $recipeId and engine_version = $engineVersion)
+     select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source, m.payload,
+            case when m.source = 'capture' then m.payload_raw end as payload_raw,
+            (select id from d) as done_id,
+            case when not exists (select 1 from d) then pg_notify($eventsChannel, json_build_object(
+              'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
+              'serial', m.serial, 'measurementId', m.measurement_id, 'at', $atText::text)::text) end as notified
+       from measurements m where m.id = $measurementPk`,
+);
+
+export async function claimMeasurement(
+  pool: pg.Pool,
+  values: Parameters<typeof claimStatement>[0],
+): Promise<MeasurementToCompute | undefined> {
+  const { rows } = await pool.query<MeasurementToCompute>(claimStatement(values));
+  return rows[0];
+}
+
+/** The unit's counters, locked until the transaction ends (one calibration of a unit at a time). */
+export async function lockUnitForCalibration(
+  client: pg.PoolClient,
+  unitId: string,
+): Promise<{ attempts: number; status: UnitRecord['status']; serial: string }> {
+  const { rows } = await client.query<{ attempts: number; status: UnitRecord['status']; serial: string }>(
+    prepared('select attempts, status, serial from units where id = $1 for update', [unitId]),
+  );
+  return rows[0];
+}
+
+/** Everything a station calibration's commit writes, by name. */
+export interface StationCalibrationCommit {
+  // The calibration row.
+  measurementPk: string;
+  recipeId: string;
+  unitId: string;
+  stationId: string;
+  engineVersion: string;
+  verdict: CalibrationRecord['verdict'];
+  offsetDeg: number | null;
+  offsetCounts: number | null;
+  attempt: number | null;
+  /** The engine's result (or its input error) as JSON text. */
+  resultJson: string;
+  computeMs: number;
+  computedAt: Date;
+  // The unit, changed only when the calibration is new and `counts`.
+  unitAttempts: number;
+  unitStatus: UnitRecord['status'];
+  holdReason: string | null;
+  /** A pass: the unit's current calibration and offset become this one's. */
+  passed: boolean;
+  /** The verdict counts as an attempt (not unusable input): the unit changes and the jobs are queued. */
+  counts: boolean;
+  // The commit event.
+  eventsChannel: string;
+  serial: string;
+  measurementId: string;
+  computedAtText: string;
+  // The follow-on jobs: the traveler render (newest first) and the watched charts' update.
+  wakeChannel: string;
+  travelerQueue: string;
+  travelerPriority: number;
+  chartQueue: string;
+  modelId: string;
+  /** false for a queue that sends nothing (the demo seed). */
+  sendsJobs: boolean;
+}
+
+/**
+ * The calibration, the unit's status and the commit event in one statement; nothing changes if this
+ * (measurement, recipe) pair was computed meanwhile (no row comes back).
+ */
+const commitStatement = namedStatement<StationCalibrationCommit>(
+  `with c as (
+         insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict,
+                                   offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
+         values ($measurementPk, $recipeId, $unitId, $stationId, $engineVersion, $verdict,
+                 $offsetDeg, $offsetCounts, $attempt, $resultJson, $computeMs, $computedAt)
+         on conflict do nothing returning id
+       ), u as (
+         update units set
+           attempts = $unitAttempts, status = $unitStatus, hold_reason = $holdReason, updated_at = $computedAt,
+           current_calibration_id = case when $passed then (select id from c) else current_calibration_id end,
+           current_offset_deg = case when $passed then $offsetDeg else current_offset_deg end,
+           current_offset_counts = case when $passed then $offsetCounts else current_offset_counts end,
+           programming_mismatch = case when $passed then false else programming_mismatch end
+         where id = $unitId and $counts and exists (select 1 from c)
+         returning id
+       ), tj as (
+         ${jobInsertSql({
+           queueParam: '$travelerQueue',
+           dataSql: `jsonb_build_object('calibrationId', c.id)`,
+           prioritySql: '$travelerPriority::int',
+           fromSql: '(select id from c where $counts and $sendsJobs) c',
+         })}
+       ), cw as (
+         ${jobInsertSql({
+           queueParam: '$chartQueue',
+           dataSql: `jsonb_build_object('stationId', $stationId::text, 'modelId', $modelId::text)`,
+           fromSql: '(select id from c where $counts and $sendsJobs) c',
+         })}
+       )
+       select c.id,
+              pg_notify($eventsChannel, json_build_object('type', 'calibration.committed', 'stationId', $stationId::text,
+                'unitId', $unitId::text, 'serial', $serial::text, 'measurementId', $measurementId::text, 'calibrationId', c.id,
+                'verdict', $verdict::text, 'at', $computedAtText::text)::text),
+              case when $counts and $sendsJobs then pg_notify($wakeChannel, $travelerQueue) end
+         from c left join u on true`,
+);
+
+/** Commits a station calibration (see `StationCalibrationCommit`); its id, or undefined if it existed. */
+export async function commitStationCalibration(
+  client: pg.PoolClient,
+  values: StationCalibrationCommit,
+): Promise<{ id: string } | undefined> {
+  const { rows } = await client.query<{ id: string }>(commitStatement(values));
+  return rows[0];
+}

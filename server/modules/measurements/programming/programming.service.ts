@@ -1,0 +1,67 @@
+import type { StationPrincipal } from '../../../lib/auth';
+import { withTransaction } from '../../../db/transaction';
+import type { ProgrammingConfirmation } from '../../../../shared/schemas/line';
+import type { LineEvent } from '../../../../shared/schemas/events';
+import { EVENTS_CHANNEL } from '../../events/event-hub';
+import { mismatchHoldReason, placeAutomaticHold } from '../../quality/quality.service';
+import { calibrationErrors } from '../../calibrations/calibrations.errors';
+import { measurementErrors } from '../measurements.errors';
+import type { MeasurementsContext } from '../measurements.context';
+import { measurementToConfirm, recordProgramming, type ProgrammingRecord } from './programming.repository';
+
+/** Records what the station wrote and read back; a mismatch flags the unit everywhere it is shown. */
+export async function confirmProgramming(
+  ctx: MeasurementsContext,
+  station: StationPrincipal,
+  measurementId: string,
+  body: ProgrammingConfirmation,
+) {
+  const m = await measurementToConfirm(ctx.pool, measurementId);
+  if (!m || m.station_id !== station.stationId) throw measurementErrors.notFound(measurementId);
+  if (!m.cal_id) throw calibrationErrors.notComputed(measurementId);
+  if (m.offset_counts === null) throw calibrationErrors.unusableResult(measurementId);
+  const calibrationId = m.cal_id;
+  const expected = m.offset_counts;
+  const matches = body.writtenCounts === expected && body.readBackCounts === expected;
+  const now = ctx.clock();
+  const reason = `expected ${expected}, written ${body.writtenCounts}, read back ${body.readBackCounts}`;
+  const record: ProgrammingRecord = {
+    calibrationId,
+    unitId: m.unit_id!,
+    stationId: station.stationId,
+    expectedCounts: expected,
+    writtenCounts: body.writtenCounts,
+    readBackCounts: body.readBackCounts,
+    checksum: body.checksum ?? null,
+    matches,
+    confirmedAt: now,
+    reason,
+    eventsChannel: EVENTS_CHANNEL,
+    eventJson: JSON.stringify({
+      type: 'programming.confirmed',
+      stationId: station.stationId,
+      unitId: m.unit_id!,
+      serial: m.serial,
+      calibrationId,
+      matches,
+      at: now.toISOString(),
+    } satisfies LineEvent),
+  };
+  // A match is the one statement, atomic on its own, so it goes without a transaction (two round trips
+  // fewer); a mismatch also puts the unit on hold (quality's containment), in the same transaction.
+  if (matches) {
+    await recordProgramming(ctx.pool, record);
+  } else {
+    await withTransaction(ctx.pool, async ({ client, tx }) => {
+      await recordProgramming(client, record);
+      await placeAutomaticHold(tx, {
+        unitId: m.unit_id!,
+        reason: mismatchHoldReason(expected, body.writtenCounts, body.readBackCounts),
+        source: 'programming_mismatch',
+        now,
+        setUnit: true,
+      });
+    });
+  }
+  return { matches, expectedCounts: expected, confirmedAt: now.toISOString() };
+}
