@@ -1,8 +1,15 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { messagesByField } from './plain-messages';
-import { createStationSchema, registerUnitSchema } from './line';
-import { bulkHoldSchema, holdUnitSchema, newInvestigationSchema, releaseSchema, unitSearchQuerySchema } from './quality';
+import { createStationSchema } from './stations';
+import { registerUnitSchema } from './units';
+import {
+  bulkHoldSchema,
+  holdUnitSchema,
+  newInvestigationSchema,
+  releaseSchema,
+  unitSearchQuerySchema,
+} from './quality';
 import { measurementSchema } from './measurement';
 import { createUserSchema, updateUserSchema } from './users';
 import { passwordSignInSchema, badgeSignInSchema } from './auth';

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { unitStatusSchema } from './line';
+import { unitStatusSchema } from './units';
 import { serialSchema } from './serial';
 import type { Recipe } from './recipe';
 import type { TracedSegment } from '../calibration/trace';

@@ -1,4 +1,4 @@
-import type { CalibrationView } from '../../../shared/schemas/line';
+import type { CalibrationView } from '../../../shared/schemas/calibrations';
 import type { Measurement } from '../../../shared/schemas/measurement';
 import type {
   QualificationRunView,

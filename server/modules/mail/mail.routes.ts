@@ -1,7 +1,7 @@
 import type { AppDeps } from '../../deps';
 import { AppError } from '../../lib/errors';
 import { route } from '../../lib/http';
-import { outboxResponseSchema } from '../../../shared/schemas/users';
+import { outboxResponseSchema } from '../../../shared/schemas/outbox';
 
 export function mailRoutes(deps: AppDeps) {
   return [

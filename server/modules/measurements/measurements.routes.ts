@@ -1,11 +1,8 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { defineRoute } from '../../lib/http';
-import {
-  programmingConfirmationSchema,
-  recomputeSchema,
-  resultQuerySchema,
-} from '../../../shared/schemas/line';
+import { programmingConfirmationSchema, recomputeSchema } from '../../../shared/schemas/calibrations';
+import { resultQuerySchema } from '../../../shared/schemas/measurements';
 import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/measurement';
 import { serialSchema } from '../../../shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';

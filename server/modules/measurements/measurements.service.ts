@@ -9,11 +9,8 @@ import type { SessionUser, StationPrincipal } from '../../lib/auth';
 import { jobInsertSql, type JobQueue } from '../../../jobs/queue-client';
 import { JOBS_WAKE_CHANNEL, queues, travelerRenderPriority } from '../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
-import type {
-  CalibrationView,
-  MeasurementAccepted,
-  ProgrammingConfirmation,
-} from '../../../shared/schemas/line';
+import type { CalibrationView, ProgrammingConfirmation } from '../../../shared/schemas/calibrations';
+import type { MeasurementAccepted } from '../../../shared/schemas/measurements';
 import {
   calibrate,
   CalibrationInputError,

@@ -5,7 +5,7 @@ import {
   createStationKeySchema,
   createStationSchema,
   updateStationSchema,
-} from '../../../shared/schemas/line';
+} from '../../../shared/schemas/stations';
 import { calibrationViews } from '../measurements/measurements.service';
 import { calibrationsOf } from '../measurements/calibrations.repository';
 import {

@@ -4,7 +4,7 @@ import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { AppError } from '../../lib/errors';
 import { defineRoute } from '../../lib/http';
-import { registerUnitSchema } from '../../../shared/schemas/line';
+import { registerUnitSchema } from '../../../shared/schemas/units';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });
@@ -35,9 +35,7 @@ export function unitsRoutes(deps: AppDeps) {
       summary: 'Register a unit against a model',
       request: { body: registerUnitSchema },
       handle: async ({ body, caller }, res) => {
-        res
-          .status(201)
-          .json({ unit: await registerUnit(deps.db, caller.user, body) });
+        res.status(201).json({ unit: await registerUnit(deps.db, caller.user, body) });
       },
     }),
     defineRoute({

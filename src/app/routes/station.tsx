@@ -2,13 +2,13 @@ import { Navigate, useParams, useSearchParams } from 'react-router';
 import { Alert, Loading } from '../../components/ui/alert';
 import { LinkButton } from '../../components/ui/button';
 import { PageHeader } from '../../components/ui/panel';
-import { useStations } from '../../features/line/api/line';
+import { useStations } from '../../features/stations/api/stations';
 import {
   rememberedStationId,
   rememberStation,
   StationPicker,
-} from '../../features/line/components/station-picker';
-import { StationScreen } from '../../features/line/components/station-screen';
+} from '../../features/stations/components/station-picker';
+import { StationScreen } from '../../features/stations/components/station-screen';
 import { OpenAlerts } from '../../features/alerts/components/open-alerts';
 import { QualificationBanner } from '../../features/qualification/components/qualification-banner';
 import { StudyGuide } from '../../features/qualification/components/study-guide';

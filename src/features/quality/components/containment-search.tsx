@@ -8,7 +8,7 @@ import {
   type SortingState,
 } from '@tanstack/react-table';
 import type { BulkHoldResult, UnitSearchRow } from '../../../../shared/schemas/quality';
-import { unitStatusSchema } from '../../../../shared/schemas/line';
+import { unitStatusSchema } from '../../../../shared/schemas/units';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button, buttonClass } from '../../../components/ui/button';
 import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';

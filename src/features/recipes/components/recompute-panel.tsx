@@ -1,6 +1,6 @@
 import { useState } from 'react';
 import { useMutation, useQuery } from '@tanstack/react-query';
-import type { UnitDetail } from '../../../../shared/schemas/line';
+import type { UnitDetail } from '../../../../shared/schemas/units';
 import { Alert } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
