@@ -15,8 +15,9 @@ import { models } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { users } from '../users/users.table';
 import type { WatchState } from './alerts.watch';
+import { CHART_ALERT_STATUSES, WATCHED_CHART_KINDS } from '../../../shared/schemas/alerts';
 
-export const watchedChartKindEnum = pgEnum('watched_chart_kind', ['imr', 'ewma']);
+export const watchedChartKindEnum = pgEnum('watched_chart_kind', WATCHED_CHART_KINDS);
 
 /**
  * A chart watched after every calibration: one station × one model, either individuals (with run rules) or
@@ -45,7 +46,7 @@ export const watchedCharts = pgTable(
   (t) => [uniqueIndex('watched_charts_station_model_kind_key').on(t.stationId, t.modelId, t.kind)],
 );
 
-export const chartAlertStatusEnum = pgEnum('chart_alert_status', ['open', 'acknowledged']);
+export const chartAlertStatusEnum = pgEnum('chart_alert_status', CHART_ALERT_STATUSES);
 
 /** A rule broken on a watched chart. At most one open alert per chart and rule (a partial unique index). */
 export const chartAlerts = pgTable(

@@ -9,10 +9,11 @@ import { stationMeasuredUnit } from '../measurements/calibrations.repository';
 import { findUnitBySerial, unitErrors } from '../units/units.service';
 import { currentTraveler, printTraveler, travelerErrors } from './travelers.service';
 import { travelers, type TravelerRecord } from './travelers.table';
+import { pageSizeSchema } from '../../../shared/schemas/travelers';
 
 const serialParams = z.object({ serial: serialSchema });
 const docParams = z.object({ serial: serialSchema, id: z.string().uuid('Not a traveler id') });
-const printBody = z.object({ pageSize: z.enum(['A4', 'LETTER']).default('A4') });
+const printBody = z.object({ pageSize: pageSizeSchema.default('A4') });
 
 function sendTraveler(res: Response, doc: TravelerRecord, serial: string) {
   sendPdf(res, doc.pdf, `traveler-${serial}-print${doc.printNumber}.pdf`, { 'x-content-sha256': doc.sha256 });

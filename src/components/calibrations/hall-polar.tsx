@@ -1,17 +1,19 @@
 import type { EdgeTypeResult } from '../../../shared/schemas/calibration-result';
 import type { Recipe } from '../../../shared/schemas/recipe';
-import { formatSignedDeg as formatDeg } from '../../../shared/wording';
+import { nominalEdgeDeg } from '../../../shared/calibration/hall-layout';
+import { formatSignedDeg } from '../../../shared/wording';
 
 const PHASE_COLOURS = { A: 'var(--color-phase-a)', B: 'var(--color-phase-b)', C: 'var(--color-phase-c)' };
 const SIZE = 300;
 const CENTRE = SIZE / 2;
 const RING = 96;
 
-/** Nominal electrical angle of an edge: sensor X rises at riseX and falls 180° later (forward turning). */
-export function nominalEdgeDeg(hallRiseDeg: Recipe['hallRiseDeg'], edge: EdgeTypeResult): number {
-  const rise = hallRiseDeg[edge.sensor];
-  return (((edge.edge === 'rise' ? rise : rise + 180) % 360) + 360) % 360;
-}
+/**
+ * Where an edge sits when the magnet is exactly where the recipe says: the engine's hall model (domain
+ * contract), turning forward, so the dial and the computation cannot disagree.
+ */
+const nominalOf = (hallRiseDeg: Recipe['hallRiseDeg'], e: EdgeTypeResult): number =>
+  nominalEdgeDeg(hallRiseDeg, e.sensor, e.edge, 'forward');
 
 /**
  * How much to widen angular deviations so they can be seen: residuals are a degree or two on a 360°
@@ -65,7 +67,7 @@ export function HallPolar({ edges, hallRiseDeg, limitDeg }: HallPolarProps) {
   const summary = edges
     .map(
       (e) =>
-        `${e.sensor} ${e.edge} at ${nominalEdgeDeg(hallRiseDeg, e)}°: ${e.residualDeg === null ? 'not measured' : formatDeg(e.residualDeg)}`,
+        `${e.sensor} ${e.edge} at ${nominalOf(hallRiseDeg, e)}°: ${e.residualDeg === null ? 'not measured' : formatSignedDeg(e.residualDeg)}`,
     )
     .join('; ');
   return (
@@ -108,7 +110,7 @@ export function HallPolar({ edges, hallRiseDeg, limitDeg }: HallPolarProps) {
           );
         })}
         {edges.map((e) => {
-          const nominal = nominalEdgeDeg(hallRiseDeg, e);
+          const nominal = nominalOf(hallRiseDeg, e);
           const colour = PHASE_COLOURS[e.sensor];
           const outside = limitDeg !== null && e.residualDeg !== null && Math.abs(e.residualDeg) > limitDeg;
           const measured = e.residualDeg === null ? null : nominal + k * e.residualDeg;
@@ -160,7 +162,7 @@ export function HallPolar({ edges, hallRiseDeg, limitDeg }: HallPolarProps) {
                 fontWeight={outside ? 700 : 500}
                 fill={outside ? 'var(--color-fault)' : 'var(--color-graphite-200)'}
               >
-                {e.residualDeg === null ? 'none' : `${formatDeg(e.residualDeg, 1)}${outside ? ' !' : ''}`}
+                {e.residualDeg === null ? 'none' : `${formatSignedDeg(e.residualDeg, 1)}${outside ? ' !' : ''}`}
               </text>
             </g>
           );
