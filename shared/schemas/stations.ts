@@ -29,7 +29,10 @@ export const createStationSchema = z.object({
 });
 export type CreateStation = z.infer<typeof createStationSchema>;
 export const updateStationSchema = createStationSchema.partial();
-export const createStationKeySchema = z.object({ label: z.string().trim().min(2).max(60) });
+export const createStationKeySchema = z.object({
+  label: z.string().trim().min(2, 'Give the key a label (2 to 60 characters), e.g. the station PC.').max(60),
+});
+export type CreateStationKey = z.infer<typeof createStationKeySchema>;
 export const stationKeyCreatedSchema = z.object({
   id: z.string(),
   label: z.string(),

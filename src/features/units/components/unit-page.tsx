@@ -1,5 +1,6 @@
 import type { UnitDetail } from '../../../../shared/schemas/units';
-import { Alert, Loading } from '../../../components/ui/alert';
+import { Alert } from '../../../components/ui/alert';
+import { QueryState } from '../../../components/ui/query-state';
 import { Panel } from '../../../components/ui/panel';
 import { formatDateTime } from '../../../lib/format';
 import { useModels } from '../../../lib/queries/models';
@@ -45,25 +46,29 @@ function TravelerList({ detail }: { detail: UnitDetail }) {
 /** One unit's record: who it is, its latest result, every calibration and every traveler printed. */
 export function UnitPage({ serial }: { serial: string }) {
   const unit = useUnit(serial);
+  return (
+    <QueryState
+      query={unit}
+      pending={`Looking up ${serial}…`}
+      failed={`Could not look up ${serial}`}
+      isEmpty={(detail) => detail === null}
+      empty={
+        <div className="flex max-w-xl flex-col gap-4">
+          <Alert tone="info" title="No such unit">
+            No unit with the serial <span className="font-mono">{serial}</span> is registered. Check the label
+            and search again.
+          </Alert>
+          <UnitSearch initial={serial} autoFocus />
+        </div>
+      }
+    >
+      {(detail) => <UnitRecord detail={detail!} />}
+    </QueryState>
+  );
+}
+
+function UnitRecord({ detail }: { detail: UnitDetail }) {
   const models = useModels();
-  if (unit.isPending) return <Loading label={`Looking up ${serial}…`} />;
-  if (unit.isError)
-    return (
-      <Alert tone="fault" title={`Could not look up ${serial}`}>
-        {unit.error.message}
-      </Alert>
-    );
-  const detail = unit.data;
-  if (!detail)
-    return (
-      <div className="flex max-w-xl flex-col gap-4">
-        <Alert tone="info" title="No such unit">
-          No unit with the serial <span className="font-mono">{serial}</span> is registered. Check the label
-          and search again.
-        </Alert>
-        <UnitSearch initial={serial} autoFocus />
-      </div>
-    );
   const model = models.data?.find((m) => m.id === detail.unit.model.id) ?? null;
   const latest = detail.calibrations.find((c) => c.purpose === 'station');
   return (
