@@ -18,6 +18,7 @@ import {
   StationHttpError,
 } from '../modules/demo/station-client';
 import { demoSettings } from '../env';
+import { formatSignedDeg } from '../../shared/wording';
 
 const USAGE = `Usage:
   npm run station:sim -- --units N [--rate R] [--concurrency C] [--seed S] [--json]
@@ -180,7 +181,7 @@ async function main(): Promise<number> {
       const dev =
         r.deviationDeg === null
           ? 'no certified value yet'
-          : `${r.deviationDeg >= 0 ? '+' : '−'}${Math.abs(r.deviationDeg).toFixed(3)}° (± ${r.toleranceDeg}°)`;
+          : `${formatSignedDeg(r.deviationDeg, 3)} (± ${r.toleranceDeg}°)`;
       process.stdout.write(`${serial} at ${stationName}: ${r.offsetDeg.toFixed(3)}°, ${dev}: ${r.verdict}\n`);
       if (i === readings - 1) process.stdout.write(`${out.state.sentence}\n`);
     }

@@ -1,6 +1,8 @@
 // Whether a station may calibrate production units, from its qualification policy and history.
 // Pure: the server gathers the facts, this decides; the same rules explain the state on the screen.
 
+import { formatSignedDeg } from '../wording';
+
 export interface QualificationPolicyRule {
   /** A qualification is due at every plant shift start. */
   atShiftStart: boolean;
@@ -145,7 +147,7 @@ export function decideQualification(f: QualificationFacts): QualificationDecisio
     lockSentence =
       dev === null
         ? `Qualification failed: reference unit ${f.lastFailure.serial} could not be measured. Check the rig, then ${measure} again.`
-        : `Qualification failed: reference unit ${f.lastFailure.serial} read ${dev >= 0 ? '+' : '−'}${Math.abs(dev).toFixed(2)}° from its certified value (allowed ± ${f.lastFailure.toleranceDeg.toFixed(2)}°). Check the rig, then ${measure} again.`;
+        : `Qualification failed: reference unit ${f.lastFailure.serial} read ${formatSignedDeg(dev)} from its certified value (allowed ± ${f.lastFailure.toleranceDeg.toFixed(2)}°). Check the rig, then ${measure} again.`;
   } else if (!f.lastPass) {
     lockedKind = 'overdue';
     lockSentence = `Overdue — ${measure}. The station has not been qualified yet.`;

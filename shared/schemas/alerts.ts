@@ -1,5 +1,11 @@
 import { z } from 'zod';
 
+/** Values of pgEnum `watched_chart_kind`: the individuals chart and the EWMA. */
+/** 'qualification': a station's reference-unit readings (alerts raised by the qualification module, not watched). */
+export const WATCHED_CHART_KINDS = ['imr', 'ewma', 'qualification', 'xbar-r'] as const;
+/** Values of pgEnum `chart_alert_status`. */
+export const CHART_ALERT_STATUSES = ['open', 'acknowledged'] as const;
+
 /** Alerts raised by the watched control charts (one station × one model each). */
 export const alertPointSchema = z.object({
   serial: z.string(),
@@ -11,7 +17,7 @@ export const alertPointSchema = z.object({
 
 export const alertViewSchema = z.object({
   id: z.string(),
-  chart: z.enum(['imr', 'ewma', 'qualification', 'xbar-r']),
+  chart: z.enum(WATCHED_CHART_KINDS),
   chartLabel: z.string(),
   stationId: z.string(),
   station: z.string(),
@@ -19,7 +25,7 @@ export const alertViewSchema = z.object({
   model: z.string(),
   rule: z.number().int(),
   ruleText: z.string(),
-  status: z.enum(['open', 'acknowledged']),
+  status: z.enum(CHART_ALERT_STATUSES),
   hits: z.number().int(),
   /** Units involved (offsets in electrical degrees), oldest first. */
   points: z.array(alertPointSchema),
@@ -32,7 +38,7 @@ export const alertViewSchema = z.object({
 export type AlertView = z.infer<typeof alertViewSchema>;
 
 export const alertListQuerySchema = z.object({
-  status: z.enum(['open', 'acknowledged', 'all']).default('open'),
+  status: z.enum([...CHART_ALERT_STATUSES, 'all']).default('open'),
   stationId: z.uuid().optional(),
   limit: z.coerce.number().int().min(1).max(500).default(100),
 });

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { TIME_PRESETS } from '../time/plant-time';
+import { calibrationPurposeSchema } from './calibrations';
 
 /**
  * The process engineer's line statistics: one filter for every view, carried in the URL query string
@@ -49,7 +50,7 @@ export const analysisFilterSchema = z
     /** Only each unit's first counted attempt, or every attempt. */
     attempts: z.enum(['first', 'all']).default('all'),
     /** The results stations got, or engineers' recomputations. */
-    purpose: z.enum(['station', 'recompute']).default('station'),
+    purpose: calibrationPurposeSchema.default('station'),
     figure: figureSchema.default('offsetDeg'),
   })
   .refine((f) => !f.from || !f.to || f.from < f.to, {

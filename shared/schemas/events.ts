@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { calibrationVerdictSchema } from './calibrations';
 
 /**
  * Events of the station line, pushed to the operator's screen (Server-Sent Events) and used to wake
@@ -28,7 +29,7 @@ export const lineEventSchema = z.discriminatedUnion('type', [
     serial: z.string(),
     measurementId: z.string(),
     calibrationId: z.string(),
-    verdict: z.enum(['pass', 'fail', 'unusable']),
+    verdict: calibrationVerdictSchema,
     at: z.string(),
   }),
   z.object({

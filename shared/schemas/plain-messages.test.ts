@@ -1,7 +1,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { messagesByField } from './plain-messages';
-import { createStationSchema, registerUnitSchema } from './line';
+import { createStationSchema } from './stations';
+import { registerUnitSchema } from './units';
 import {
   bulkHoldSchema,
   holdUnitSchema,

@@ -3,6 +3,13 @@ import type { GaugeAnovaResult, GaugeRangeResult, GaugeReading } from '../statis
 import { measurementSchema } from './measurement';
 import { serialSchema } from './serial';
 
+/** Values of pgEnum `qualification_verdict` (`recorded`: a reading without a certified value to judge). */
+export const QUALIFICATION_VERDICTS = ['pass', 'fail', 'recorded'] as const;
+/** Values of pgEnum `gauge_appraiser_kind`. */
+export const GAUGE_APPRAISER_KINDS = ['station', 'operator'] as const;
+/** Values of pgEnum `gauge_study_status`. */
+export const GAUGE_STUDY_STATUSES = ['open', 'finished'] as const;
+
 const offsetDeg = z
   .number()
   .min(-180, 'An offset is between −180° and 180°.')
@@ -150,7 +157,7 @@ export const qualificationStateSchema = z.object({
     .object({
       id: z.string(),
       serial: z.string(),
-      verdict: z.enum(['pass', 'fail', 'recorded']),
+      verdict: z.enum(QUALIFICATION_VERDICTS),
       offsetDeg: z.number(),
       deviationDeg: z.number().nullable(),
       toleranceDeg: z.number(),
@@ -166,7 +173,7 @@ export const qualificationRunViewSchema = z.object({
   stationId: z.string(),
   stationName: z.string(),
   serial: z.string(),
-  verdict: z.enum(['pass', 'fail', 'recorded']),
+  verdict: z.enum(QUALIFICATION_VERDICTS),
   offsetDeg: z.number(),
   certifiedOffsetDeg: z.number().nullable(),
   toleranceDeg: z.number(),
@@ -180,7 +187,7 @@ export const biasQuerySchema = z.object({ limit: z.coerce.number().int().min(1).
 export const gaugeStudyCreateSchema = z.object({
   name: z.string().trim().min(3, 'Name the study (at least 3 characters).').max(80),
   modelId: z.uuid('Choose a model.'),
-  appraiserKind: z.enum(['station', 'operator']),
+  appraiserKind: z.enum(GAUGE_APPRAISER_KINDS),
   /** Station ids (appraiserKind station) or operator user ids (appraiserKind operator). */
   appraiserIds: z.array(z.uuid()).min(2, 'A study needs at least 2 appraisers.').max(10),
   /** The station where operators measure (appraiserKind operator). */
@@ -216,7 +223,7 @@ export interface GaugeStudyDetail {
   parts: string[];
   trials: number;
   toleranceDeg: number;
-  status: 'open' | 'finished';
+  status: (typeof GAUGE_STUDY_STATUSES)[number];
   createdAt: string;
   finishedAt: string | null;
   done: number;
@@ -249,7 +256,7 @@ export interface GaugeStudySummary {
   appraisers: number;
   trials: number;
   toleranceDeg: number;
-  status: 'open' | 'finished';
+  status: (typeof GAUGE_STUDY_STATUSES)[number];
   createdAt: string;
   finishedAt: string | null;
 }

@@ -1,14 +1,17 @@
 import { z } from 'zod';
-import { unitStatusSchema } from './line';
+import { unitStatusSchema } from './units';
 import { serialSchema } from './serial';
 import type { Recipe } from './recipe';
 import type { TracedSegment } from '../calibration/trace';
+import { calibrationVerdictSchema } from './calibrations';
 
 /** An empty form field means "no filter". */
 const opt = <T extends z.ZodType>(schema: T) =>
   z.preprocess((v) => (v === '' || v === null ? undefined : v), schema.optional());
 const text = (max: number) => z.string().trim().min(1).max(max);
 
+/** Values of pgEnum `hold_source`: who or what put a unit on hold. */
+export const HOLD_SOURCES = ['person', 'retest_policy', 'programming_mismatch'] as const;
 export const HOLD_DISPOSITIONS = ['use_as_is', 'rework', 'recalibrate', 'scrap'] as const;
 export const holdDispositionSchema = z.enum(HOLD_DISPOSITIONS);
 export type HoldDisposition = z.infer<typeof holdDispositionSchema>;
@@ -38,7 +41,7 @@ export const unitSearchFilterSchema = z.object({
   operatorId: opt(z.uuid('Choose an operator from the list')),
   recipeId: opt(z.uuid('Choose a recipe version from the list')),
   engineVersion: opt(text(40)),
-  verdict: opt(z.enum(['pass', 'fail', 'unusable'])),
+  verdict: opt(calibrationVerdictSchema),
   offsetMinDeg: opt(z.coerce.number().min(-180).max(180)),
   offsetMaxDeg: opt(z.coerce.number().min(-180).max(180)),
   failedCheck: opt(text(60)),
@@ -175,7 +178,7 @@ export interface HeldUnitRow {
   serial: string;
   modelCode: string;
   reason: string;
-  source: 'person' | 'retest_policy' | 'programming_mismatch';
+  source: (typeof HOLD_SOURCES)[number];
   heldBy: string | null;
   heldAt: string;
   /** Whole hours the unit has been on hold, by the server's clock. */

@@ -2,6 +2,9 @@ import { z } from 'zod';
 import { recipeSchema } from './recipe';
 import type { RecipeFieldChange } from '../recipe/recipe-fields';
 
+/** Values of pgEnum `what_if_status`. */
+export const WHAT_IF_STATUSES = ['queued', 'running', 'done', 'cancelled', 'failed'] as const;
+
 /** HTTP contracts of the recipe desk: models, recipe versions, review and what-if runs. */
 
 const reason = z
@@ -23,7 +26,9 @@ export const modelInputSchema = z.object({
 });
 export type ModelInput = z.infer<typeof modelInputSchema>;
 
-export const recipeStatusSchema = z.enum(['draft', 'in_review', 'released', 'retired', 'discarded']);
+/** Values of pgEnum `recipe_status`. */
+export const RECIPE_STATUSES = ['draft', 'in_review', 'released', 'retired', 'discarded'] as const;
+export const recipeStatusSchema = z.enum(RECIPE_STATUSES);
 export type RecipeStatus = z.infer<typeof recipeStatusSchema>;
 
 export const RECIPE_STATUS_LABELS: Record<RecipeStatus, string> = {
@@ -193,7 +198,7 @@ export interface WhatIfRunView {
   recipe: { id: string; version: number };
   baseline: { id: string; version: number };
   modelId: string;
-  status: 'queued' | 'running' | 'done' | 'cancelled' | 'failed';
+  status: (typeof WHAT_IF_STATUSES)[number];
   filters: WhatIfFilters;
   total: number;
   processed: number;
@@ -209,7 +214,7 @@ export interface WhatIfRunView {
 export const whatIfProgressSchema = z.object({
   type: z.literal('whatif.progress'),
   runId: z.string(),
-  status: z.enum(['queued', 'running', 'done', 'cancelled', 'failed']),
+  status: z.enum(WHAT_IF_STATUSES),
   processed: z.number().int(),
   total: z.number().int(),
   at: z.string(),

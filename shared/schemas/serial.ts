@@ -59,3 +59,8 @@ export const serialSchema = z
     if (problem) ctx.addIssue({ code: 'custom', message: problem, input: raw });
   })
   .transform(normaliseSerial);
+
+/** Whether two serials (scanned, shown, announced by a station) name the same unit. */
+export function sameSerial(a: string | null | undefined, b: string | null | undefined): boolean {
+  return !!a && !!b && normaliseSerial(a) === normaliseSerial(b);
+}

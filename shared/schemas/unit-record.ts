@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { calibrationViewSchema, unitViewSchema } from './line';
+import { calibrationViewSchema } from './calibrations';
+import { unitViewSchema } from './units';
 
 /**
  * A unit's whole record (quality's unit page, its PDF and its ZIP): every event of the unit in time

@@ -2,6 +2,8 @@ import { z } from 'zod';
 import { roleSchema } from './roles';
 import { badgeCodeSchema, passwordSchema, pinSchema, usernameSchema } from './auth';
 
+/** People's accounts as administrators manage them. */
+
 export const userRowSchema = z.object({
   id: z.string().uuid(),
   username: z.string(),
@@ -71,46 +73,3 @@ export const updateUserSchema = z.object({
 export type UpdateUser = z.input<typeof updateUserSchema>;
 
 export const userResponseSchema = z.object({ user: userRowSchema });
-
-export const outboxMessageSchema = z.object({
-  id: z.string(),
-  from: z.string(),
-  to: z.array(z.string()),
-  subject: z.string(),
-  text: z.string(),
-  receivedAt: z.string(),
-});
-export type OutboxMessage = z.infer<typeof outboxMessageSchema>;
-export const outboxResponseSchema = z.object({ messages: z.array(outboxMessageSchema) });
-
-export const auditEntrySchema = z.object({
-  id: z.number().int(),
-  at: z.string(),
-  actorId: z.string().nullable(),
-  actorName: z.string().nullable(),
-  action: z.string(),
-  subjectType: z.string().nullable(),
-  subjectId: z.string().nullable(),
-  /** The subject in words for people (a person's name, a serial, a station's name), when known. */
-  subjectLabel: z.string().nullable(),
-  reason: z.string().nullable(),
-  before: z.unknown().nullable(),
-  after: z.unknown().nullable(),
-  ip: z.string().nullable(),
-});
-export type AuditEntry = z.infer<typeof auditEntrySchema>;
-export const auditResponseSchema = z.object({ entries: z.array(auditEntrySchema) });
-
-export const healthSchema = z.object({
-  status: z.enum(['ok', 'degraded']),
-  version: z.string(),
-  database: z.object({ ok: z.boolean(), latencyMs: z.number().nullable(), error: z.string().optional() }),
-  queue: z.object({
-    ok: z.boolean(),
-    queued: z.number().nullable(),
-    active: z.number().nullable(),
-    failed: z.number().nullable(),
-    error: z.string().optional(),
-  }),
-});
-export type Health = z.infer<typeof healthSchema>;

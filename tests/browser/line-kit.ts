@@ -1,4 +1,5 @@
-import type { ModelView, StationView } from '../../shared/schemas/line';
+import type { ModelView } from '../../shared/schemas/models';
+import type { StationView } from '../../shared/schemas/stations';
 import { createRng } from '../../shared/simulation/rng';
 import { simulateMeasurement, type SimulationSpec } from '../../shared/simulation/simulate';
 import { baseUrl, DEMO } from './browser-kit';

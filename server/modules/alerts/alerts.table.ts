@@ -16,9 +16,9 @@ import { models } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { users } from '../users/users.table';
 import type { WatchState } from './alerts.watch';
+import { CHART_ALERT_STATUSES, WATCHED_CHART_KINDS } from '../../../shared/schemas/alerts';
 
-/** 'qualification': the station's reference-unit readings (alerts raised by the qualification module, not watched here). */
-export const watchedChartKindEnum = pgEnum('watched_chart_kind', ['imr', 'ewma', 'qualification', 'xbar-r']);
+export const watchedChartKindEnum = pgEnum('watched_chart_kind', WATCHED_CHART_KINDS);
 
 /**
  * A chart watched after every calibration: one station × one model and one kind: individuals or subgroup
@@ -56,7 +56,7 @@ export const watchedCharts = pgTable(
   (t) => [uniqueIndex('watched_charts_station_model_kind_key').on(t.stationId, t.modelId, t.kind)],
 );
 
-export const chartAlertStatusEnum = pgEnum('chart_alert_status', ['open', 'acknowledged']);
+export const chartAlertStatusEnum = pgEnum('chart_alert_status', CHART_ALERT_STATUSES);
 
 /** A rule broken on a watched chart. At most one open alert per chart and rule (a partial unique index). */
 export const chartAlerts = pgTable(

@@ -3,7 +3,7 @@ import type { AppDeps } from '../../deps';
 import { defineRoute, route } from '../../lib/http';
 import { auditEntries, auditTrail } from './audit.service';
 import { auditTrailQuerySchema } from '../../../shared/schemas/audit-trail';
-import { auditResponseSchema, type AuditEntry } from '../../../shared/schemas/users';
+import { auditResponseSchema, type AuditEntry } from '../../../shared/schemas/audit';
 
 const CSV_HEADER = ['at', 'who', 'action', 'subject_type', 'subject', 'reason', 'before', 'after'];
 

@@ -1,5 +1,5 @@
 import type { DbOrTx } from '../../db/client';
-import type { AuditEntry } from '../../../shared/schemas/users';
+import type { AuditEntry } from '../../../shared/schemas/audit';
 import { stationNamesByIds } from '../stations/stations.service';
 import { serialsByIds } from '../units/units.service';
 import { displayNamesByIds } from '../users/users.repository';

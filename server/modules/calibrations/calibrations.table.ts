@@ -18,14 +18,15 @@ import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
+import { CALIBRATION_PURPOSES, CALIBRATION_VERDICTS } from '../../../shared/schemas/calibrations';
 
-export const calibrationVerdictEnum = pgEnum('calibration_verdict', ['pass', 'fail', 'unusable']);
+export const calibrationVerdictEnum = pgEnum('calibration_verdict', CALIBRATION_VERDICTS);
 
 /**
  * Why a calibration was computed: for the station that posted the measurement (it judges the unit),
  * or as a later recomputation by an engineer (analysis only: it never changes the unit).
  */
-export const calibrationPurposeEnum = pgEnum('calibration_purpose', ['station', 'recompute']);
+export const calibrationPurposeEnum = pgEnum('calibration_purpose', CALIBRATION_PURPOSES);
 
 /**
  * One computation of a measurement with one recipe version by one engine version. Never updated or

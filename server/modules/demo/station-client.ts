@@ -1,6 +1,6 @@
 // Over ~350 lines on purpose: the station simulator's whole client (HTTP with retries, the protocol's
 // steps, the operator's pace) is one small program a station integrator can read top to bottom.
-import type { CalibrationView } from '../../../shared/schemas/line';
+import type { CalibrationView } from '../../../shared/schemas/calibrations';
 import type { Measurement } from '../../../shared/schemas/measurement';
 import type {
   QualificationRunView,

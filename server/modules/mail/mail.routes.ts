@@ -1,7 +1,7 @@
 import type { AppDeps } from '../../deps';
 import { mailErrors } from './mail.errors';
 import { route } from '../../lib/http';
-import { outboxResponseSchema } from '../../../shared/schemas/users';
+import { outboxResponseSchema } from '../../../shared/schemas/outbox';
 
 export function mailRoutes(deps: AppDeps) {
   return [

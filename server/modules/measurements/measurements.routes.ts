@@ -4,10 +4,9 @@ import { defineRoute } from '../../lib/http';
 import {
   measurementAcceptedSchema,
   measurementResultSchema,
-  programmingConfirmationSchema,
-  recomputeSchema,
   resultQuerySchema,
-} from '../../../shared/schemas/line';
+} from '../../../shared/schemas/measurements';
+import { programmingConfirmationSchema, recomputeSchema } from '../../../shared/schemas/calibrations';
 import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/measurement';
 import { serialSchema } from '../../../shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
@@ -75,7 +74,10 @@ export function measurementsRoutes(deps: AppDeps) {
       summary: 'Post a measurement (idempotent on measurementId); 202 with the result URL',
       serviceParsedBody: measurementSchema,
       responses: {
-        202: { description: 'Stored and queued (or a repeat not computed yet)', schema: measurementAcceptedSchema },
+        202: {
+          description: 'Stored and queued (or a repeat not computed yet)',
+          schema: measurementAcceptedSchema,
+        },
         200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
       },
       handle: async ({ caller }, res, req) => {
@@ -103,13 +105,15 @@ export function measurementsRoutes(deps: AppDeps) {
       before: [captureUpload.single('capture')],
       request: { body: captureFields },
       responses: {
-        202: { description: 'Stored and queued (or a repeat not computed yet)', schema: measurementAcceptedSchema },
+        202: {
+          description: 'Stored and queued (or a repeat not computed yet)',
+          schema: measurementAcceptedSchema,
+        },
         200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
       },
       handle: async ({ body: fields, caller }, res, req) => {
         await gateNew(caller.station.stationId, fields.measurementId, fields.serial);
-        if (!req.file)
-          throw measurementErrors.captureNoFile();
+        if (!req.file) throw measurementErrors.captureNoFile();
         // The bytes are parsed as they are; the text is made only for a capture worth storing.
         const measurement = await measurementFromCapture(ctx, caller.station, fields, req.file.buffer);
         const accepted = await acceptMeasurement(ctx, caller.station, measurement, {

@@ -11,8 +11,9 @@ import {
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
+import { MEASUREMENT_SOURCES } from '../../../shared/schemas/measurements';
 
-export const measurementSourceEnum = pgEnum('measurement_source', ['timings', 'capture']);
+export const measurementSourceEnum = pgEnum('measurement_source', MEASUREMENT_SOURCES);
 
 /**
  * Raw measurements exactly as the station posted them (`payloadRaw` is the body's text, `payloadSha256`

@@ -5,6 +5,7 @@ import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import type { GaugeStudyDetail, QualificationRunView } from '../../../shared/schemas/qualification';
 import type { GaugeFigures } from '../../../shared/statistics/gauge-study';
+import { formatSignedDeg } from '../../../shared/wording';
 
 // Documents of station qualification in the traveler's look: Barlow, black ink, the company header over a
 // heavy rule, caps section headings on hairlines, and the traveler's good/bad marks (shape, not colour).
@@ -105,7 +106,7 @@ async function render(
   return done;
 }
 
-const signedDeg = (v: number, d = 3) => `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(d)}°`;
+const signedDeg = (v: number, d = 3) => formatSignedDeg(v, d);
 const when = (iso: string, timeZone: string) =>
   new Intl.DateTimeFormat('en-GB', { timeZone, dateStyle: 'medium', timeStyle: 'short' }).format(
     new Date(iso),

@@ -544,7 +544,7 @@ async function mailEngineersAboutFailure(
           `Hello ${person.displayName},`,
           '',
           `Station ${stationName} read reference unit ${run.serial} at ${run.offsetDeg.toFixed(2)}°, ` +
-            `${dev >= 0 ? '+' : '−'}${Math.abs(dev).toFixed(2)}° from its certified ${run.certifiedOffsetDeg?.toFixed(2)}° ` +
+            `${formatSignedDeg(dev)} from its certified ${run.certifiedOffsetDeg?.toFixed(2)}° ` +
             `(allowed ± ${run.toleranceDeg.toFixed(2)}°).`,
           'The station refuses production units until it reads a reference unit within tolerance, or an engineer lifts the lock for a while with a reason.',
           '',

@@ -16,6 +16,11 @@ import { models, recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
+import {
+  GAUGE_APPRAISER_KINDS,
+  GAUGE_STUDY_STATUSES,
+  QUALIFICATION_VERDICTS,
+} from '../../../shared/schemas/qualification';
 
 /**
  * A unit kept as a reference for its model: its certified offset and the tolerance a station's reading
@@ -69,7 +74,7 @@ export const plantShifts = pgTable('plant_shifts', {
   createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
 });
 
-export const qualificationVerdictEnum = pgEnum('qualification_verdict', ['pass', 'fail', 'recorded']);
+export const qualificationVerdictEnum = pgEnum('qualification_verdict', QUALIFICATION_VERDICTS);
 
 /**
  * A reading of a reference unit at a station (append-only). It is computed with the model's active
@@ -126,8 +131,8 @@ export const qualificationOverrides = pgTable(
   (t) => [index('qualification_overrides_station_idx').on(t.stationId, t.expiresAt)],
 );
 
-export const gaugeAppraiserKindEnum = pgEnum('gauge_appraiser_kind', ['station', 'operator']);
-export const gaugeStudyStatusEnum = pgEnum('gauge_study_status', ['open', 'finished']);
+export const gaugeAppraiserKindEnum = pgEnum('gauge_appraiser_kind', GAUGE_APPRAISER_KINDS);
+export const gaugeStudyStatusEnum = pgEnum('gauge_study_status', GAUGE_STUDY_STATUSES);
 
 export interface GaugeRunStep {
   part: number;

@@ -14,17 +14,13 @@ import {
 } from 'drizzle-orm/pg-core';
 import { users } from '../users/users.table';
 import { units } from '../units/units.table';
+import { HOLD_DISPOSITIONS, HOLD_SOURCES, INVESTIGATION_STATUSES } from '../../../shared/schemas/quality';
 
 /** Material-review dispositions of a released hold. `scrap` is final. */
-export const holdDispositionEnum = pgEnum('hold_disposition', [
-  'use_as_is',
-  'rework',
-  'recalibrate',
-  'scrap',
-]);
+export const holdDispositionEnum = pgEnum('hold_disposition', HOLD_DISPOSITIONS);
 /** Who or what put a unit on hold: a person, the recipe's retest policy, or a programming read-back mismatch. */
-export const holdSourceEnum = pgEnum('hold_source', ['person', 'retest_policy', 'programming_mismatch']);
-export const investigationStatusEnum = pgEnum('investigation_status', ['open', 'contained', 'closed']);
+export const holdSourceEnum = pgEnum('hold_source', HOLD_SOURCES);
+export const investigationStatusEnum = pgEnum('investigation_status', INVESTIGATION_STATUSES);
 
 /**
  * A return or complaint case. `reference` is the human number (INV-0001), given in order of opening.

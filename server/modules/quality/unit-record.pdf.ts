@@ -18,7 +18,7 @@ import {
 import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import { checkName, formatCheckLimit, formatCheckValue } from '../../../shared/calibration/check-guide';
-import type { CalibrationView } from '../../../shared/schemas/line';
+import type { CalibrationView } from '../../../shared/schemas/calibrations';
 import { modelName } from './unit-record.service';
 import { TIMELINE_KIND_LABELS, type UnitRecord } from '../../../shared/schemas/unit-record';
 import { formatOffsetDeg } from '../../../shared/wording';

@@ -12,7 +12,7 @@ import { unitErrors } from '../units/units.errors';
 import { displayNamesByIds } from '../users/users.repository';
 import { checkName } from '../../../shared/calibration/check-guide';
 import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '../../../shared/recipe/recipe-fields';
-import type { CalibrationView } from '../../../shared/schemas/line';
+import type { CalibrationView } from '../../../shared/schemas/calibrations';
 import { investigationReference } from '../../../shared/schemas/quality';
 import type {
   MeasurementFile,

@@ -1,6 +1,6 @@
 import { and, desc, eq, inArray, sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '../../db/client';
-import type { CalibrationView } from '../../../shared/schemas/line';
+import type { CalibrationView } from '../../../shared/schemas/calibrations';
 import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
 import { calibrations } from '../calibrations/calibrations.table';
 import { nextActionFor } from '../calibrations/next-action';
@@ -97,7 +97,11 @@ export async function calibrationViews(db: DbOrTx, q: CalibrationQuery = {}): Pr
     .innerJoin(units, eq(units.id, calibrations.unitId))
     .where(and(...whereOf(q)))
     // Newest first; a page after a cursor also orders by id, so equal instants split the same way each time.
-    .orderBy(...(q.before ? [desc(calibrations.computedAt), desc(calibrations.id)] : [desc(calibrations.computedAt)]))
+    .orderBy(
+      ...(q.before
+        ? [desc(calibrations.computedAt), desc(calibrations.id)]
+        : [desc(calibrations.computedAt)]),
+    )
     .limit(q.limit ?? 50);
   return rows.map((r) => {
     const isError = 'error' in r.cal.result;

@@ -16,6 +16,7 @@ import type { Recipe } from '../../../shared/schemas/recipe';
 import type { RecipeFieldChange } from '../../../shared/recipe/recipe-fields';
 import type { WhatIfFilters, WhatIfSummary } from '../../../shared/schemas/recipes';
 import { users } from '../users/users.table';
+import { RECIPE_STATUSES, WHAT_IF_STATUSES } from '../../../shared/schemas/recipes';
 
 /** A motor model built on the line. `activeRecipeId` is the released recipe version stations use now. */
 export const models = pgTable(
@@ -31,13 +32,7 @@ export const models = pgTable(
   (t) => [uniqueIndex('models_code_key').on(sql`upper(${t.code})`)],
 );
 
-export const recipeStatusEnum = pgEnum('recipe_status', [
-  'draft',
-  'in_review',
-  'released',
-  'retired',
-  'discarded',
-]);
+export const recipeStatusEnum = pgEnum('recipe_status', RECIPE_STATUSES);
 
 /**
  * Recipe versions: draft → in review → released → retired (in review may go back to draft; a draft
@@ -90,13 +85,7 @@ export const recipes = pgTable(
   ],
 );
 
-export const whatIfStatusEnum = pgEnum('what_if_status', [
-  'queued',
-  'running',
-  'done',
-  'cancelled',
-  'failed',
-]);
+export const whatIfStatusEnum = pgEnum('what_if_status', WHAT_IF_STATUSES);
 
 /**
  * A what-if run: one recipe version replayed over stored measurements of past units. It only reads

@@ -1,15 +1,15 @@
 import { z } from 'zod';
 import type { AppDeps } from '../../deps';
 import { defineRoute } from '../../lib/http';
+import { calibrationViewSchema } from '../../../shared/schemas/calibrations';
 import {
-  calibrationViewSchema,
   createStationKeySchema,
   createStationSchema,
   stationHealthSchema,
   stationKeyCreatedSchema,
   stationViewSchema,
   updateStationSchema,
-} from '../../../shared/schemas/line';
+} from '../../../shared/schemas/stations';
 import { calibrationViews } from '../read-models/calibration-views';
 import {
   attendStation,
@@ -36,7 +36,12 @@ export function stationsRoutes(deps: AppDeps) {
       path: '/api/stations',
       access: 'signed-in',
       summary: 'Stations with their allowed models, attendance and last heartbeat',
-      responses: { 200: { description: 'Stations (keys for administrators only)', schema: z.object({ stations: z.array(stationViewSchema) }) } },
+      responses: {
+        200: {
+          description: 'Stations (keys for administrators only)',
+          schema: z.object({ stations: z.array(stationViewSchema) }),
+        },
+      },
       handle: async ({ caller }, res) => {
         const views = await listStationViews(deps.db);
         res.json({ stations: caller.user.role === 'admin' ? views : views.map((v) => ({ ...v, keys: [] })) });
@@ -48,7 +53,12 @@ export function stationsRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'The latest calibrations at a station',
       request: { params: idParams, query: recentQuery },
-      responses: { 200: { description: 'The station with its newest results', schema: z.object({ calibrations: z.array(calibrationViewSchema) }) } },
+      responses: {
+        200: {
+          description: 'The station with its newest results',
+          schema: z.object({ calibrations: z.array(calibrationViewSchema) }),
+        },
+      },
       handle: async ({ params, query }, res) => {
         const { id } = params;
         const { limit } = query;
@@ -89,7 +99,9 @@ export function stationsRoutes(deps: AppDeps) {
       access: ['operator'],
       summary: 'Take over a station panel: measurements from now on name this operator',
       request: { params: idParams },
-      responses: { 200: { description: 'Attended', schema: z.object({ stationId: z.string(), attendedBy: z.string() }) } },
+      responses: {
+        200: { description: 'Attended', schema: z.object({ stationId: z.string(), attendedBy: z.string() }) },
+      },
       handle: async ({ params, caller }, res) => {
         const { id } = params;
         await attendStation(deps.db, caller.user, id, deps.clock());

@@ -7,8 +7,8 @@ import { stationErrors } from './stations.errors';
 import { insertAudit } from '../audit/audit.repository';
 import { existingModelIds, listModelRows } from '../recipes/recipes.repository';
 import { displayNamesByIds } from '../users/users.repository';
-import type { StationView } from '../../../shared/schemas/line';
-import { createStationSchema, updateStationSchema } from '../../../shared/schemas/line';
+import type { StationView } from '../../../shared/schemas/stations';
+import { createStationSchema, updateStationSchema } from '../../../shared/schemas/stations';
 import { stationKeys, stations, type StationRecord } from './stations.table';
 
 export const STATION_KEY_PREFIX = 'pwsk_';
@@ -89,7 +89,10 @@ export async function listStationViews(db: DbOrTx): Promise<StationView[]> {
   const keys = await db.select().from(stationKeys).orderBy(asc(stationKeys.createdAt));
   const modelRows = (await listModelRows(db)).map((m) => ({ id: m.id, code: m.code }));
   const userIds = rows.map((r) => r.attendedBy).filter((x): x is string => !!x);
-  const people = [...(await displayNamesByIds(db, userIds))].map(([id, displayName]) => ({ id, displayName }));
+  const people = [...(await displayNamesByIds(db, userIds))].map(([id, displayName]) => ({
+    id,
+    displayName,
+  }));
   return rows.map((s) => ({
     id: s.id,
     name: s.name,

@@ -9,12 +9,13 @@ import { findUnitBySerial } from '../units/units.service';
 import { unitErrors } from '../units/units.errors';
 import { currentTraveler, printTraveler } from './travelers.service';
 import { travelerErrors } from './travelers.errors';
+import { pageSizeSchema } from '../../../shared/schemas/travelers';
 import { travelerDocOfUnit } from './travelers.repository';
 import type { TravelerRecord } from './travelers.table';
 
 const serialParams = z.object({ serial: serialSchema });
 const docParams = z.object({ serial: serialSchema, id: z.string().uuid('Not a traveler id') });
-const printBody = z.object({ pageSize: z.enum(['A4', 'LETTER']).default('A4') });
+const printBody = z.object({ pageSize: pageSizeSchema.default('A4') });
 
 function sendTraveler(res: Response, doc: TravelerRecord, serial: string) {
   sendPdf(res, doc.pdf, `traveler-${serial}-print${doc.printNumber}.pdf`, { 'x-content-sha256': doc.sha256 });

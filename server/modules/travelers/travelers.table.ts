@@ -2,12 +2,13 @@ import { customType, index, integer, pgEnum, pgTable, text, timestamp, uuid } fr
 import { calibrations } from '../calibrations/calibrations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
+import { PAGE_SIZES } from '../../../shared/schemas/travelers';
 
 const bytea = customType<{ data: Buffer; driverData: Buffer }>({
   dataType: () => 'bytea',
 });
 
-export const pageSizeEnum = pgEnum('page_size', ['A4', 'LETTER']);
+export const pageSizeEnum = pgEnum('page_size', PAGE_SIZES);
 
 /**
  * Every traveler document produced, kept with its SHA-256: print 1 is rendered by a job as soon as

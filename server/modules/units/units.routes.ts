@@ -4,12 +4,8 @@ import { serialSchema } from '../../../shared/schemas/serial';
 import type { AppDeps } from '../../deps';
 import { unitErrors } from './units.errors';
 import { defineRoute } from '../../lib/http';
-import {
-  importReportSchema,
-  registerUnitSchema,
-  unitDetailSchema,
-  unitViewSchema,
-} from '../../../shared/schemas/line';
+import { importReportSchema } from '../../../shared/schemas/work-orders';
+import { registerUnitSchema, unitDetailSchema, unitViewSchema } from '../../../shared/schemas/units';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });
@@ -42,9 +38,7 @@ export function unitsRoutes(deps: AppDeps) {
       request: { body: registerUnitSchema },
       responses: { 201: { description: 'Registered', schema: z.object({ unit: unitViewSchema }) } },
       handle: async ({ body, caller }, res) => {
-        res
-          .status(201)
-          .json({ unit: await registerUnit(deps.db, caller.user, body) });
+        res.status(201).json({ unit: await registerUnit(deps.db, caller.user, body) });
       },
     }),
     defineRoute({
@@ -59,8 +53,7 @@ export function unitsRoutes(deps: AppDeps) {
         422: { description: 'Nothing imported: the rows that were refused', schema: importReportSchema },
       },
       handle: async ({ caller }, res, req) => {
-        if (!req.file)
-          throw unitErrors.importNoFile();
+        if (!req.file) throw unitErrors.importNoFile();
         const report = await importUnits(deps.db, caller.user, req.file.buffer.toString('utf8'));
         res.status(report.errors.length ? 422 : 201).json(report);
       },

@@ -9,13 +9,12 @@ import { calibrationViews } from '../read-models/calibration-views';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import {
   registerUnitSchema,
-  serialSchema,
-  type ImportReport,
   type RegisterUnit,
   type UnitDetail,
   type UnitView,
-  WORK_ORDER_COLUMNS,
-} from '../../../shared/schemas/line';
+} from '../../../shared/schemas/units';
+import { serialSchema } from '../../../shared/schemas/serial';
+import { type ImportReport, WORK_ORDER_COLUMNS } from '../../../shared/schemas/work-orders';
 import { units, type UnitRecord } from './units.table';
 import { normaliseSerial } from '../../../shared/schemas/serial';
 

@@ -12,8 +12,9 @@ import {
   uuid,
 } from 'drizzle-orm/pg-core';
 import { models } from '../recipes/recipes.table';
+import { UNIT_STATUSES } from '../../../shared/schemas/units';
 
-export const unitStatusEnum = pgEnum('unit_status', ['new', 'calibrated', 'failed', 'on_hold', 'scrapped']);
+export const unitStatusEnum = pgEnum('unit_status', UNIT_STATUSES);
 
 /**
  * A motor unit, by serial. `currentOffset*` is the latest passing calibration (what should be

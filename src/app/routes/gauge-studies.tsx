@@ -2,7 +2,7 @@ import { Link } from 'react-router';
 import { Alert, Loading } from '../../components/ui/alert';
 import { PageHeader } from '../../components/ui/panel';
 import { useMe } from '../../features/auth/api/me';
-import { useStations } from '../../features/line/api/line';
+import { useStations } from '../../features/stations/api/stations';
 import { GaugeStudies } from '../../features/qualification/components/gauge-studies';
 
 export function Component() {

@@ -2,7 +2,7 @@ import { Link } from 'react-router';
 import { ROLE_LABELS, roleAllows, type Role } from '../../../shared/schemas/roles';
 import { Panel, PageHeader } from '../../components/ui/panel';
 import { useMe } from '../../features/auth/api/me';
-import { UnitSearch } from '../../features/line/components/unit-search';
+import { UnitSearch } from '../../features/units/components/unit-search';
 import { HealthSummary } from '../../features/system/components/health-view';
 import { AlertSubscriptionToggle, OpenAlerts } from '../../features/alerts/components/open-alerts';
 import { NAV_ITEMS } from '../navigation';

@@ -1,14 +1,16 @@
 import { Navigate, useParams, useSearchParams } from 'react-router';
-import { Alert, Loading } from '../../components/ui/alert';
+import type { StationView } from '../../../shared/schemas/stations';
+import { Alert } from '../../components/ui/alert';
+import { QueryState } from '../../components/ui/query-state';
 import { LinkButton } from '../../components/ui/button';
 import { PageHeader } from '../../components/ui/panel';
-import { useStations } from '../../features/line/api/line';
+import { useStations } from '../../features/stations/api/stations';
 import {
   rememberedStationId,
   rememberStation,
   StationPicker,
-} from '../../features/line/components/station-picker';
-import { StationScreen } from '../../features/line/components/station-screen';
+} from '../../features/stations/components/station-picker';
+import { StationScreen } from '../../features/stations/components/station-screen';
 import { OpenAlerts } from '../../features/alerts/components/open-alerts';
 import { QualificationBanner } from '../../features/qualification/components/qualification-banner';
 import { StudyGuide } from '../../features/qualification/components/study-guide';
@@ -18,18 +20,25 @@ export function Component() {
   const { stationId } = useParams();
   const [search] = useSearchParams();
   const stations = useStations();
+  return (
+    <QueryState query={stations} pending="Fetching stations…" failed="Stations could not be read">
+      {(list) => <StationRoute stations={list} stationId={stationId} choose={search.get('choose') === '1'} />}
+    </QueryState>
+  );
+}
 
-  if (stations.isPending) return <Loading label="Fetching stations…" />;
-  if (stations.isError)
-    return (
-      <Alert tone="fault" title="Stations could not be read">
-        {stations.error.message}
-      </Alert>
-    );
-
+function StationRoute({
+  stations,
+  stationId,
+  choose,
+}: {
+  stations: StationView[];
+  stationId: string | undefined;
+  choose: boolean;
+}) {
   if (!stationId) {
     const remembered = rememberedStationId();
-    if (remembered && search.get('choose') !== '1' && stations.data.some((s) => s.id === remembered))
+    if (remembered && !choose && stations.some((s) => s.id === remembered))
       return <Navigate to={`/station/${remembered}`} replace />;
     return (
       <div>
@@ -38,12 +47,12 @@ export function Component() {
           title="Which station is this?"
           lead="Choose the station this panel stands at. The choice is remembered on this panel."
         />
-        <StationPicker stations={stations.data} />
+        <StationPicker stations={stations} />
       </div>
     );
   }
 
-  const station = stations.data.find((s) => s.id === stationId);
+  const station = stations.find((s) => s.id === stationId);
   if (!station)
     return (
       <div className="flex flex-col items-start gap-4">

@@ -1,7 +1,7 @@
 import { useParams } from 'react-router';
 import { PageHeader } from '../../components/ui/panel';
-import { UnitPage } from '../../features/line/components/unit-page';
-import { UnitSearch } from '../../features/line/components/unit-search';
+import { UnitPage } from '../../features/units/components/unit-page';
+import { UnitSearch } from '../../features/units/components/unit-search';
 import { useMe } from '../../features/auth/api/me';
 import { RecomputePanel } from '../../features/recipes/components/recompute-panel';
 import { RawTimings } from '../../features/quality/components/raw-timings';

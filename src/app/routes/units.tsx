@@ -1,5 +1,5 @@
 import { PageHeader, Panel } from '../../components/ui/panel';
-import { UnitSearch } from '../../features/line/components/unit-search';
+import { UnitSearch } from '../../features/units/components/unit-search';
 
 export function Component() {
   return (

@@ -4,7 +4,7 @@ import { withTransaction } from '../../../db/transaction';
 import { prepared } from '../../../db/prepared';
 import { JOBS_WAKE_CHANNEL, queues } from '../../../../jobs/queues';
 import { measurementSchema, type Measurement } from '../../../../shared/schemas/measurement';
-import type { MeasurementAccepted } from '../../../../shared/schemas/line';
+import type { MeasurementAccepted } from '../../../../shared/schemas/measurements';
 import type { LineEvent } from '../../../../shared/schemas/events';
 import { CalibrationInputError, validateCalibrationInput } from '../../../../shared/calibration';
 import { captureSignals, captureToMeasurement } from '../../../../shared/capture/capture';

@@ -1,6 +1,6 @@
 import type { StationPrincipal } from '../../../lib/auth';
 import { withTransaction } from '../../../db/transaction';
-import type { ProgrammingConfirmation } from '../../../../shared/schemas/line';
+import type { ProgrammingConfirmation } from '../../../../shared/schemas/calibrations';
 import type { LineEvent } from '../../../../shared/schemas/events';
 import { EVENTS_CHANNEL } from '../../events/event-hub';
 import { mismatchHoldReason, placeAutomaticHold } from '../../quality/quality.service';

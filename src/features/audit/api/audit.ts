@@ -1,5 +1,5 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { AuditEntry } from '../../../../shared/schemas/users';
+import type { AuditEntry } from '../../../../shared/schemas/audit';
 import { apiRequest } from '../../../lib/api-client';
 
 export type AuditFilters = { limit: number };

@@ -1,5 +1,5 @@
 import { useMemo, useState } from 'react';
-import type { AuditEntry } from '../../../../shared/schemas/users';
+import type { AuditEntry } from '../../../../shared/schemas/audit';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { SelectField, TextField } from '../../../components/ui/field';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';

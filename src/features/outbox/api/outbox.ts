@@ -1,5 +1,5 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { OutboxMessage } from '../../../../shared/schemas/users';
+import type { OutboxMessage } from '../../../../shared/schemas/outbox';
 import { apiRequest } from '../../../lib/api-client';
 
 export const outboxKeys = {

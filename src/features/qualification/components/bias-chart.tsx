@@ -58,7 +58,7 @@ export function BiasChart({ readings, timeZone }: { readings: QualificationRunVi
               strokeDasharray={v === 0 ? undefined : '6 4'}
             />
             <text x={PAD.l - 6} y={y(v) + 4} textAnchor="end" fontSize="13" fill="#e6edf3">
-              {v === 0 ? '0°' : `${v > 0 ? '+' : '−'}${Math.abs(v).toFixed(2)}°`}
+              {v === 0 ? '0°' : formatSignedDeg(v)}
             </text>
           </g>
         ))}
@@ -95,8 +95,8 @@ export function BiasChart({ readings, timeZone }: { readings: QualificationRunVi
       </svg>
       <figcaption className="text-graphite-200">
         Reading minus certified value, in degrees, over time. Dashed lines: the tolerance ± {tol.toFixed(2)}°.
-        Circles passed, squares failed. Mean bias {mean >= 0 ? '+' : '−'}
-        {Math.abs(mean).toFixed(3)}° over {judged.length} readings; {fails} failed.
+        Circles passed, squares failed. Mean bias {formatSignedDeg(mean, 3)} over {judged.length} readings;{' '}
+        {fails} failed.
       </figcaption>
     </figure>
   );

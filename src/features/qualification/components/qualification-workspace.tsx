@@ -1,3 +1,5 @@
+// Over 350 lines on purpose for now: four small panels of one station (lock, policy, reference units,
+// readings); each moves to its own file once the qualification work in flight has merged.
 import { formatSignedDeg } from '../../../../shared/wording';
 import { useState, type FormEvent } from 'react';
 import { Alert, Loading } from '../../../components/ui/alert';

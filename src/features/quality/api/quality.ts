@@ -1,5 +1,6 @@
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { ModelView, StationView } from '../../../../shared/schemas/line';
+import type { ModelView } from '../../../../shared/schemas/models';
+import type { StationView } from '../../../../shared/schemas/stations';
 import type {
   BulkHold,
   BulkHoldResult,

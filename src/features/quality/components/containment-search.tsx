@@ -12,7 +12,7 @@ import {
   type BulkHoldResult,
   type UnitSearchRow,
 } from '../../../../shared/schemas/quality';
-import { unitStatusSchema } from '../../../../shared/schemas/line';
+import { unitStatusSchema } from '../../../../shared/schemas/units';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { Button, buttonClass } from '../../../components/ui/button';
 import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';

@@ -1,6 +1,6 @@
 import { useState } from 'react';
 import { useMutation, useQuery } from '@tanstack/react-query';
-import type { UnitDetail } from '../../../../shared/schemas/line';
+import type { UnitDetail } from '../../../../shared/schemas/units';
 import { Alert } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
@@ -10,8 +10,9 @@ import { StatusChip } from '../../../components/ui/status-chip';
 import { apiRequest, isApiError } from '../../../lib/api-client';
 import { formatDateTime } from '../../../lib/format';
 import { recipesKeys, useModel } from '../api/recipes';
+import { formatOffsetDeg } from '../../../../shared/wording';
 
-const deg = (v: number | null) => (v === null ? '—' : `${v.toFixed(2).replace('-', '−')} °e`);
+const deg = formatOffsetDeg;
 
 /**
  * An engineer recomputes one of the unit's stored measurements with another released version of its

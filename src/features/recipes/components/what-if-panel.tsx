@@ -17,6 +17,7 @@ import { isApiError } from '../../../lib/api-client';
 import { formatDateTime } from '../../../lib/format';
 import { useCancelWhatIf, useStartWhatIf, useWhatIfProgress, useWhatIfRuns } from '../api/what-if';
 import { OffsetHistogramChart } from './offset-histogram';
+import { formatOffsetDeg } from '../../../../shared/wording';
 
 const lotName = (lot: string | null | undefined) => lot ?? 'no lot recorded';
 
@@ -56,7 +57,7 @@ function LotGroups({ lots }: { lots: Record<ComponentLotKind, WhatIfLotGroup[]> 
   );
 }
 
-const deg = (v: number | null) => (v === null ? '—' : `${v.toFixed(2).replace('-', '−')} °e`);
+const deg = formatOffsetDeg;
 
 /**
  * What this version would have said of units already built: it replays their stored measurements

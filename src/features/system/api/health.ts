@@ -1,5 +1,5 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import { healthSchema, type Health } from '../../../../shared/schemas/users';
+import { healthSchema, type Health } from '../../../../shared/schemas/health';
 import { apiRequest, isApiError } from '../../../lib/api-client';
 
 export const systemKeys = {

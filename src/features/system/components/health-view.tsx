@@ -1,4 +1,4 @@
-import type { Health } from '../../../../shared/schemas/users';
+import type { Health } from '../../../../shared/schemas/health';
 import { Alert, Loading } from '../../../components/ui/alert';
 import { StatusChip } from '../../../components/ui/status-chip';
 import { useHealth } from '../api/health';

@@ -1,5 +1,5 @@
 import { useState } from 'react';
-import { WORK_ORDER_COLUMNS, type ImportReport } from '../../../../shared/schemas/line';
+import { WORK_ORDER_COLUMNS, type ImportReport } from '../../../../shared/schemas/work-orders';
 import { Alert } from '../../../components/ui/alert';
 import { Button } from '../../../components/ui/button';
 import { TableFrame, Td, Th } from '../../../components/ui/data-table';
