@@ -3,9 +3,9 @@ import path from 'node:path';
 import pg from 'pg';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../tests/harness/test-app';
-import { createLineFixture } from '../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../tests/harness/measurements';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 
 /**
  * The worker as a real process: killed with SIGKILL in the middle of a calibration, the job is

@@ -1,4 +1,4 @@
-import { computeCalibration } from '../server/modules/measurements/measurements.service';
+import { computeCalibration } from '#server/modules/measurements/measurements.service';
 import type { QueuePayload } from './queues';
 import type { WorkerDeps } from './worker-deps';
 

@@ -1,4 +1,4 @@
-import { watchStationModel } from '../server/modules/alerts/alerts.service';
+import { watchStationModel } from '#server/modules/alerts/alerts.service';
 import type { QueuePayload } from './queues';
 import type { WorkerDeps } from './worker-deps';
 

@@ -1,5 +1,5 @@
 import type { WorkerDeps } from './worker-deps';
-import { pruneLinkTokens } from '../server/modules/auth/auth.service';
+import { pruneLinkTokens } from '#server/modules/auth/auth.service';
 
 /**
  * Every ten minutes: remove invitation and reset links that can no longer be used, and log the

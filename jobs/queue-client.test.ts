@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../tests/harness/test-app';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
 import { jobInsertSql } from './queue-client';
 import { queues } from './queues';
 

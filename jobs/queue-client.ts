@@ -1,7 +1,7 @@
 import PgBoss from 'pg-boss';
 import type pg from 'pg';
 import { JOBS_WAKE_CHANNEL, queues } from './queues';
-import { queueSettings } from '../server/env';
+import { queueSettings } from '#server/env';
 
 /** Where pg-boss keeps its tables, in the application's database. */
 export const BOSS_SCHEMA = 'pgboss';

@@ -1,4 +1,4 @@
-import { renderFirstTraveler } from '../server/modules/travelers/travelers.service';
+import { renderFirstTraveler } from '#server/modules/travelers/travelers.service';
 import type { QueuePayload } from './queues';
 import type { WorkerDeps } from './worker-deps';
 

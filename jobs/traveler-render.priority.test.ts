@@ -1,9 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
-import { createTestApp, type TestApp } from '../tests/harness/test-app';
-import { createLineFixture } from '../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../tests/harness/measurements';
-import { computeCalibration } from '../server/modules/measurements/measurements.service';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
+import { computeCalibration } from '#server/modules/measurements/measurements.service';
 import { queues, travelerRenderPriority } from './queues';
 
 let t: TestApp;

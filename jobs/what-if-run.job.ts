@@ -1,4 +1,4 @@
-import { runWhatIf } from '../server/modules/recipes/what-if.service';
+import { runWhatIf } from '#server/modules/recipes/what-if.service';
 import type { QueuePayload } from './queues';
 import type { WorkerDeps } from './worker-deps';
 

@@ -1,8 +1,8 @@
-import type { Db } from '../server/db/client';
-import type { Logger } from '../server/lib/logger';
+import type { Db } from '#server/db/client';
+import type { Logger } from '#server/lib/logger';
 import type { JobQueue } from './queue-client';
 import type pg from 'pg';
-import type { Mailer } from '../server/modules/mail/mail.service';
+import type { Mailer } from '#server/modules/mail/mail.service';
 
 /** What every job handler may use, passed in by the worker (tests build their own). */
 export interface WorkerDeps {

@@ -1,8 +1,8 @@
 import pg from 'pg';
-import { createDatabase } from '../server/db/client';
-import { parseEnv, workerSettings } from '../server/env';
-import { createSmtpMailer } from '../server/modules/mail/mail.service';
-import { createLogger, type Logger } from '../server/lib/logger';
+import { createDatabase } from '#server/db/client';
+import { parseEnv, workerSettings } from '#server/env';
+import { createSmtpMailer } from '#server/modules/mail/mail.service';
+import { createLogger, type Logger } from '#server/lib/logger';
 import { startJobQueue, type JobQueue } from './queue-client';
 import { JOBS_WAKE_CHANNEL, queues } from './queues';
 import { jobRegistry } from './registry';

@@ -4,7 +4,7 @@ import express, { type NextFunction, type Request, type Response } from 'express
 import helmet from 'helmet';
 import cookieParser from 'cookie-parser';
 import { ZodError } from 'zod';
-import '../shared/schemas/plain-messages';
+import '#shared/schemas/plain-messages';
 import type { AppDeps } from './deps';
 import { buildRoutes } from './routes';
 import { AppError } from './lib/errors';

@@ -3,7 +3,7 @@ import type { Env } from './env';
 import type { Db } from './db/client';
 import type { Logger } from './lib/logger';
 import type { Mailer } from './modules/mail/mail.service';
-import type { JobQueue } from '../jobs/queue-client';
+import type { JobQueue } from '#jobs/queue-client';
 import type { EventHub } from './modules/events/event-hub';
 import type { ObjectStore } from './modules/storage/object-store';
 

@@ -6,7 +6,7 @@ import { appRoleOf, migrateDatabase } from './db/migrate';
 import { seedDemoAccounts } from './db/seed';
 import { createLogger } from './lib/logger';
 import { createSmtpMailer } from './modules/mail/mail.service';
-import { startJobQueue } from '../jobs/queue-client';
+import { startJobQueue } from '#jobs/queue-client';
 import type { AppDeps } from './deps';
 import { createEventHub } from './modules/events/event-hub';
 import { createObjectStore, storageSettingsOf } from './modules/storage/object-store';

@@ -1,11 +1,11 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ROLES, roleAllows, type Role } from '../shared/schemas/roles';
-import { TEST_ORIGIN, createTestApp, type TestApp } from '../tests/harness/test-app';
+import { ROLES, roleAllows, type Role } from '#shared/schemas/roles';
+import { TEST_ORIGIN, createTestApp, type TestApp } from '#tests/harness/test-app';
 import { DEMO_ACCOUNTS } from './db/seed';
 import { buildRoutes } from './routes';
 import type { RouteDef } from './lib/http';
-import { createLineFixture } from '../tests/harness/line-fixtures';
+import { createLineFixture } from '#tests/harness/line-fixtures';
 
 /**
  * Walks every registered route for every kind of caller. A new route is covered the moment it is

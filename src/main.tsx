@@ -1,7 +1,7 @@
 import { StrictMode } from 'react';
 import { createRoot } from 'react-dom/client';
 import './styles.css';
-import '../shared/schemas/plain-messages';
+import '#shared/schemas/plain-messages';
 import { Providers } from './app/providers';
 import { AppRouter } from './app/router';
 

@@ -3,8 +3,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { calibrationResultSchema } from '../../shared/schemas/calibration-result';
-import { exampleCaptureCsv, exampleMeasurement, exampleRecipe } from '../../shared/simulation/examples';
+import { calibrationResultSchema } from '#shared/schemas/calibration-result';
+import { exampleCaptureCsv, exampleMeasurement, exampleRecipe } from '#shared/simulation/examples';
 
 const dir = mkdtempSync(join(tmpdir(), 'calc-cli-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

@@ -3,10 +3,10 @@
 // 2 for unusable input or arguments (reason on stderr), 1 for anything unexpected. No database needed.
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { extname, join, resolve } from 'node:path';
-import { calibrate, CalibrationInputError } from '../../shared/calibration/index';
-import { calibrateCapture } from '../../shared/capture/capture';
-import type { CalibrationResult } from '../../shared/schemas/calibration-result';
-import { exampleCaptureCsv, exampleMeasurement, exampleRecipe } from '../../shared/simulation/examples';
+import { calibrate, CalibrationInputError } from '#shared/calibration/index';
+import { calibrateCapture } from '#shared/capture/capture';
+import type { CalibrationResult } from '#shared/schemas/calibration-result';
+import { exampleCaptureCsv, exampleMeasurement, exampleRecipe } from '#shared/simulation/examples';
 
 const USAGE = `Usage:
   npm run -s calc -- --recipe recipe.json measurement.json|capture.csv [--format json|table]

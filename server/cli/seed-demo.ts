@@ -9,7 +9,7 @@ import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createDatabase } from '../db/client';
-import { startJobQueue } from '../../jobs/queue-client';
+import { startJobQueue } from '#jobs/queue-client';
 import { ensureDemoStationKey, seedDemoLine } from '../modules/demo/demo-line.seed';
 import { demoSettings } from '../env';
 

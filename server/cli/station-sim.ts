@@ -8,7 +8,7 @@ import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { DEMO_MODELS, DEMO_STATIONS, demoModel, type DemoRig } from '../modules/demo/demo-line.scenario';
 import { referenceSerial } from '../modules/demo/demo-physics';
-import { createRng } from '../../shared/simulation/rng';
+import { createRng } from '#shared/simulation/rng';
 import {
   measureReferenceUnit,
   percentile,
@@ -18,7 +18,7 @@ import {
   StationHttpError,
 } from '../modules/demo/station-client';
 import { demoSettings } from '../env';
-import { formatSignedDeg } from '../../shared/wording';
+import { formatSignedDeg } from '#shared/wording';
 
 const USAGE = `Usage:
   npm run station:sim -- --units N [--rate R] [--concurrency C] [--seed S] [--json]

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestDatabase, type TestDatabase } from '../../tests/harness/db';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
 
 // A database restart drops every connection, including one a transaction holds. The pool must not
 // let the dropped connection's 'error' event go unhandled (that would end the process).

@@ -3,7 +3,7 @@ import { fileURLToPath } from 'node:url';
 import { migrate } from 'drizzle-orm/node-postgres/migrator';
 import { createDatabase, type Db } from './client';
 import { grantAppPrivileges } from './privileges';
-import { installJobQueue } from '../../jobs/queue-client';
+import { installJobQueue } from '#jobs/queue-client';
 
 export const MIGRATIONS_FOLDER = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../drizzle');
 

@@ -1,6 +1,6 @@
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestDatabase, type TestDatabase } from '../../tests/harness/db';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
 import { APP_TABLE_ACCESS } from './privileges';
 
 // The app role is what the server, the worker and the renderer connect as. Whatever code runs in them,

@@ -1,5 +1,5 @@
 import type pg from 'pg';
-import { BOSS_SCHEMA } from '../../jobs/queue-client';
+import { BOSS_SCHEMA } from '#jobs/queue-client';
 
 /**
  * What the app role (the role the server, the worker and the renderer connect as) may do to each

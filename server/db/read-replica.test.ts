@@ -2,10 +2,10 @@ import pg from 'pg';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import { createDatabase, type Database } from './client';
-import { createTestDatabase, type TestDatabase } from '../../tests/harness/db';
-import { createTestApp, sessionCookie, type TestApp } from '../../tests/harness/test-app';
-import { createLineFixture } from '../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../tests/harness/measurements';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
+import { createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 import { computeCalibration } from '../modules/measurements/measurements.service';
 
 // The harness (tests/harness/global-setup.ts) keeps a hot standby of the test server, made with

@@ -2,7 +2,7 @@ import type { Db } from './client';
 import { countUsers, insertUsers } from '../modules/users/users.repository';
 import { hashSecret } from '../modules/auth/auth.service';
 import { insertAudit } from '../modules/audit/audit.repository';
-import type { Role } from '../../shared/schemas/roles';
+import type { Role } from '#shared/schemas/roles';
 
 /**
  * The demo accounts of the invented scenario (Corvane Motion Ltd, Hollin Ridge Works). Printed by

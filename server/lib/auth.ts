@@ -1,6 +1,6 @@
 import jwt from 'jsonwebtoken';
 import type { NextFunction, Request, Response } from 'express';
-import { roleAllows, type Role } from '../../shared/schemas/roles';
+import { roleAllows, type Role } from '#shared/schemas/roles';
 import { AppError, errors } from './errors';
 import type { RouteAccess } from './http';
 

@@ -2,8 +2,8 @@ import request from 'supertest';
 import { z } from 'zod';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createApp } from '../app';
-import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '../../tests/harness/test-app';
-import { createLineFixture } from '../../tests/harness/line-fixtures';
+import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
 import { defineRoute, route, type RouteDef } from './http';
 import { buildOpenApi } from './openapi';
 

@@ -1,6 +1,6 @@
 import type { Request, Response } from 'express';
 import type { z, ZodType } from 'zod';
-import type { Access } from '../../shared/schemas/roles';
+import type { Access } from '#shared/schemas/roles';
 import type { SessionUser, StationPrincipal } from './auth';
 
 export type Method = 'get' | 'post' | 'put' | 'patch' | 'delete';

@@ -2,9 +2,9 @@ import { gzipSync, brotliCompressSync } from 'node:zlib';
 import fc from 'fast-check';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../tests/harness/test-app';
-import { createLineFixture } from '../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../tests/harness/measurements';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 import { buildRoutes } from '../routes';
 
 let t: TestApp;

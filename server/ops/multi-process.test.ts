@@ -1,10 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestDatabase, type TestDatabase } from '../../tests/harness/db';
-import { sessionCookie } from '../../tests/harness/test-app';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
+import { sessionCookie } from '#tests/harness/test-app';
 import { seedDemoAccounts } from '../db/seed';
 import { parseEnv } from '../env';
-import { createLineFixture } from '../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../tests/harness/measurements';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 import { StationHttp, StationHttpError } from '../modules/demo/station-client';
 import { TSX, startService, waitForHttp, type Service } from './services.mjs';
 

@@ -1,4 +1,4 @@
-import type { Access } from '../../shared/schemas/roles';
+import type { Access } from '#shared/schemas/roles';
 
 export type NavItem = {
   to: string;

@@ -1,6 +1,6 @@
 import { Outlet, useRouteLoaderData } from 'react-router';
-import { roleAllows, type Access } from '../../shared/schemas/roles';
-import type { Me } from '../../shared/schemas/auth';
+import { roleAllows, type Access } from '#shared/schemas/roles';
+import type { Me } from '#shared/schemas/auth';
 import { NotAllowed } from './routes/not-allowed';
 
 /** Renders the child route only for roles that `access` admits; everyone else sees why not. */

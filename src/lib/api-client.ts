@@ -1,4 +1,4 @@
-import { apiErrorSchema } from '../../shared/schemas/auth';
+import { apiErrorSchema } from '#shared/schemas/auth';
 
 export type ApiIssue = { path: string; message: string };
 

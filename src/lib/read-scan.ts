@@ -1,4 +1,4 @@
-import { serialSchema } from '../../shared/schemas/serial';
+import { serialSchema } from '#shared/schemas/serial';
 
 /** Checks a finished scan; returns the serial to look up or the reason it was refused. */
 export function readScan(raw: string): { serial: string } | { error: string } {

@@ -5,16 +5,16 @@ import { closeSync, mkdtempSync, openSync, readFileSync, rmSync, statSync, write
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import Papa from 'papaparse';
-import { calibrate } from '../../shared/calibration/engine';
-import { wrapDeg180 } from '../../shared/calibration/angles';
-import { CROSSING_ANGLE_DEG } from '../../shared/calibration/angle-fit';
-import { calibrateCapture } from '../../shared/capture/capture';
-import { parseNumericCsv } from '../../shared/capture/csv';
-import type { Recipe } from '../../shared/schemas/recipe';
-import type { MeasurementSegment } from '../../shared/schemas/measurement';
-import { createRng } from '../../shared/simulation/rng';
-import { simulateMeasurement } from '../../shared/simulation/simulate';
-import { simulateCapture } from '../../shared/simulation/capture-sim';
+import { calibrate } from '#shared/calibration/engine';
+import { wrapDeg180 } from '#shared/calibration/angles';
+import { CROSSING_ANGLE_DEG } from '#shared/calibration/angle-fit';
+import { calibrateCapture } from '#shared/capture/capture';
+import { parseNumericCsv } from '#shared/capture/csv';
+import type { Recipe } from '#shared/schemas/recipe';
+import type { MeasurementSegment } from '#shared/schemas/measurement';
+import { createRng } from '#shared/simulation/rng';
+import { simulateMeasurement } from '#shared/simulation/simulate';
+import { simulateCapture } from '#shared/simulation/capture-sim';
 
 const TURNS = Number(process.env.BENCH_TURNS ?? 50);
 const SEEDS = Number(process.env.BENCH_SEEDS ?? 3);

@@ -3,11 +3,11 @@
 // what the product's ANOVA reports beside what the simulator was given: the parts' true offsets (their spread
 // is the part variation), the rigs' timing noise and detector delays, and the repeatability found by brute
 // force (one part measured 300 times on one rig). Prints figures; asserts nothing.
-import { calibrate } from '../../shared/calibration';
-import { createRng } from '../../shared/simulation/rng';
-import { gaugeAnova, gaugeAverageRange, readGauge } from '../../shared/statistics/gauge-study';
-import { DEMO_MODELS, type DemoRig } from '../../server/modules/demo/demo-line.scenario';
-import { referenceUnitTruth, simulateRun } from '../../server/modules/demo/demo-physics';
+import { calibrate } from '#shared/calibration';
+import { createRng } from '#shared/simulation/rng';
+import { gaugeAnova, gaugeAverageRange, readGauge } from '#shared/statistics/gauge-study';
+import { DEMO_MODELS, type DemoRig } from '#server/modules/demo/demo-line.scenario';
+import { referenceUnitTruth, simulateRun } from '#server/modules/demo/demo-physics';
 
 const model = DEMO_MODELS[0];
 const parts = Array.from({ length: 10 }, (_, i) => referenceUnitTruth(model, `GS-${i + 1}`));

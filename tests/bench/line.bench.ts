@@ -14,23 +14,23 @@ import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { availableParallelism, loadavg } from 'node:os';
 import { join } from 'node:path';
 import pg from 'pg';
-import { ensurePostgres } from '../../server/ops/pg-local.mjs';
-import { prefixedLog } from '../../server/ops/proc.mjs';
-import { TSX, freePort, startService, waitForHttp, type Service } from '../../server/ops/services.mjs';
-import { createDatabase } from '../../server/db/client';
-import { createStation, createStationKey } from '../../server/modules/stations/stations.service';
-import { createDemoCatalog } from '../../server/modules/demo/demo-line.seed';
-import { DEMO_MODELS, type DemoRig } from '../../server/modules/demo/demo-line.scenario';
-import { drawUnit, simulateRun, calibrationBlockChecksum } from '../../server/modules/demo/demo-physics';
+import { ensurePostgres } from '#server/ops/pg-local.mjs';
+import { prefixedLog } from '#server/ops/proc.mjs';
+import { TSX, freePort, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
+import { createDatabase } from '#server/db/client';
+import { createStation, createStationKey } from '#server/modules/stations/stations.service';
+import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
+import { DEMO_MODELS, type DemoRig } from '#server/modules/demo/demo-line.scenario';
+import { drawUnit, simulateRun, calibrationBlockChecksum } from '#server/modules/demo/demo-physics';
 import {
   percentile,
   runStationSim,
   StationHttp,
   type StationSimReport,
-} from '../../server/modules/demo/station-client';
-import { createRng } from '../../shared/simulation/rng';
-import { EVENTS_CHANNEL } from '../../server/modules/events/event-hub';
-import type { Measurement } from '../../shared/schemas/measurement';
+} from '#server/modules/demo/station-client';
+import { createRng } from '#shared/simulation/rng';
+import { EVENTS_CHANNEL } from '#server/modules/events/event-hub';
+import type { Measurement } from '#shared/schemas/measurement';
 
 process.env.PGPORT_BENCH ??= '55437';
 const STATIONS = 32;

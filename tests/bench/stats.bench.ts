@@ -7,23 +7,23 @@
 import { Writable } from 'node:stream';
 import { cpus, loadavg } from 'node:os';
 import pg from 'pg';
-import { ensurePostgres } from '../../server/ops/pg-local.mjs';
-import { prefixedLog } from '../../server/ops/proc.mjs';
-import { createDatabase } from '../../server/db/client';
-import { runMigrations } from '../../server/db/migrate';
-import { createDemoCatalog } from '../../server/modules/demo/demo-line.seed';
-import { createStation } from '../../server/modules/stations/stations.service';
+import { ensurePostgres } from '#server/ops/pg-local.mjs';
+import { prefixedLog } from '#server/ops/proc.mjs';
+import { createDatabase } from '#server/db/client';
+import { runMigrations } from '#server/db/migrate';
+import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
+import { createStation } from '#server/modules/stations/stations.service';
 import {
   comparisonView,
   controlChartView,
   distributionView,
-} from '../../server/modules/analysis/analysis.service';
-import { writeCalibrationsCsv } from '../../server/modules/analysis/analysis.export';
+} from '#server/modules/analysis/analysis.service';
+import { writeCalibrationsCsv } from '#server/modules/analysis/analysis.export';
 import {
   analysisFilterSchema,
   comparisonQuerySchema,
   controlChartQuerySchema,
-} from '../../shared/schemas/analysis';
+} from '#shared/schemas/analysis';
 
 process.env.PGPORT_BENCH ??= '55437';
 const ROWS = Number(process.env.BENCH_STATS_ROWS ?? 1_000_000);

@@ -2,8 +2,8 @@
 // on one core. Every traveler has its own serial and offset, as on the line, so nothing unit-specific
 // is reused between renders. Target: median ≤ 8 ms (wall clock, one core, quiet machine).
 import { availableParallelism, loadavg } from 'node:os';
-import { renderTravelerPdf } from '../../server/modules/travelers/traveler.render';
-import type { TravelerDataInput } from '../../server/modules/travelers/traveler.types';
+import { renderTravelerPdf } from '#server/modules/travelers/traveler.render';
+import type { TravelerDataInput } from '#server/modules/travelers/traveler.types';
 
 const WARM_UP = 40;
 const RUNS = Number(process.env.BENCH_RUNS ?? 300);

@@ -1,7 +1,7 @@
-import type { ModelView } from '../../shared/schemas/models';
-import type { StationView } from '../../shared/schemas/stations';
-import { createRng } from '../../shared/simulation/rng';
-import { simulateMeasurement, type SimulationSpec } from '../../shared/simulation/simulate';
+import type { ModelView } from '#shared/schemas/models';
+import type { StationView } from '#shared/schemas/stations';
+import { createRng } from '#shared/simulation/rng';
+import { simulateMeasurement, type SimulationSpec } from '#shared/simulation/simulate';
 import { baseUrl, DEMO } from './browser-kit';
 
 /** A signed-in API session over fetch (cookie kept by hand), for setting up what a browser test needs. */

@@ -2,7 +2,7 @@ import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { strFromU8, unzipSync } from 'fflate';
 import { describe, expect, it } from 'vitest';
-import type { HeldUnitRow } from '../../shared/schemas/quality';
+import type { HeldUnitRow } from '#shared/schemas/quality';
 import { axeFindings, DEMO, freshPage, launchChromium, signInWithPassword } from './browser-kit';
 import { apiSession } from './line-kit';
 

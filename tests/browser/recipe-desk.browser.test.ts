@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import type { UnitDetail } from '../../shared/schemas/units';
-import type { RecipeVersionView, WhatIfRunView } from '../../shared/schemas/recipes';
+import type { UnitDetail } from '#shared/schemas/units';
+import type { RecipeVersionView, WhatIfRunView } from '#shared/schemas/recipes';
 import { axeFindings, baseUrl, DEMO, freshPage, launchChromium, signInWithPassword } from './browser-kit';
 import { apiSession, buildMeasurement, ensureTestBench, freshSerial, postMeasurement } from './line-kit';
 

@@ -6,11 +6,11 @@ import { execFileSync } from 'node:child_process';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { and, desc, eq, inArray } from 'drizzle-orm';
-import { createDatabase } from '../../server/db/client';
-import { calibrations } from '../../server/modules/calibrations/calibrations.table';
-import { renderTravelerPdf } from '../../server/modules/travelers/traveler.render';
-import { travelerData } from '../../server/modules/travelers/travelers.service';
-import { findUnitBySerial } from '../../server/modules/units/units.service';
+import { createDatabase } from '#server/db/client';
+import { calibrations } from '#server/modules/calibrations/calibrations.table';
+import { renderTravelerPdf } from '#server/modules/travelers/traveler.render';
+import { travelerData } from '#server/modules/travelers/travelers.service';
+import { findUnitBySerial } from '#server/modules/units/units.service';
 
 async function main() {
   const url = process.env.DATABASE_URL;

@@ -1,7 +1,7 @@
 import { randomBytes } from 'node:crypto';
 import pg from 'pg';
 import { inject } from 'vitest';
-import { createDatabase, type Database } from '../../server/db/client';
+import { createDatabase, type Database } from '#server/db/client';
 
 export interface TestDatabase extends Database {
   /** The app role on this database: what the server, the worker and `db`/`pool` here connect as. */

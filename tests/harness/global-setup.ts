@@ -1,7 +1,7 @@
 import pg from 'pg';
 import type { TestProject } from 'vitest/node';
-import { ensurePostgres, ensureReplica } from '../../server/ops/pg-local.mjs';
-import { migrateDatabase } from '../../server/db/migrate';
+import { ensurePostgres, ensureReplica } from '#server/ops/pg-local.mjs';
+import { migrateDatabase } from '#server/db/migrate';
 
 /** Databases of a run are named after the process that ran its global setup. */
 const runTag = `${process.pid}`;

@@ -1,8 +1,8 @@
-import type { Db } from '../../server/db/client';
-import { models, recipes } from '../../server/modules/recipes/recipes.table';
-import { createStation, createStationKey } from '../../server/modules/stations/stations.service';
+import type { Db } from '#server/db/client';
+import { models, recipes } from '#server/modules/recipes/recipes.table';
+import { createStation, createStationKey } from '#server/modules/stations/stations.service';
 import { eq } from 'drizzle-orm';
-import type { Recipe } from '../../shared/schemas/recipe';
+import type { Recipe } from '#shared/schemas/recipe';
 
 /**
  * A recipe for tests: a 120° hall layout (rise angles 0/120/240 chosen for the test, not taken from a

@@ -1,8 +1,8 @@
 import { randomUUID } from 'node:crypto';
-import { createRng } from '../../shared/simulation/rng';
-import { simulateMeasurement, type SimulationSpec } from '../../shared/simulation/simulate';
-import type { Recipe } from '../../shared/schemas/recipe';
-import type { Measurement } from '../../shared/schemas/measurement';
+import { createRng } from '#shared/simulation/rng';
+import { simulateMeasurement, type SimulationSpec } from '#shared/simulation/simulate';
+import type { Recipe } from '#shared/schemas/recipe';
+import type { Measurement } from '#shared/schemas/measurement';
 
 /**
  * A measurement from the independent simulator for a unit built to `recipe`, turning forward at

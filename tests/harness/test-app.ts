@@ -1,19 +1,19 @@
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { parseEnv } from '../../server/env';
-import { createApp } from '../../server/app';
-import type { AppDeps } from '../../server/deps';
-import { createLogger } from '../../server/lib/logger';
-import { createSmtpMailer } from '../../server/modules/mail/mail.service';
-import { startFakeMailServer, type FakeMailServer } from '../../server/modules/mail/fake-mail-server';
-import { seedDemoAccounts } from '../../server/db/seed';
-import { startJobQueue } from '../../jobs/queue-client';
+import { parseEnv } from '#server/env';
+import { createApp } from '#server/app';
+import type { AppDeps } from '#server/deps';
+import { createLogger } from '#server/lib/logger';
+import { createSmtpMailer } from '#server/modules/mail/mail.service';
+import { startFakeMailServer, type FakeMailServer } from '#server/modules/mail/fake-mail-server';
+import { seedDemoAccounts } from '#server/db/seed';
+import { startJobQueue } from '#jobs/queue-client';
 import { createTestDatabase, type TestDatabase } from './db';
-import type { Database } from '../../server/db/client';
-import { createEventHub } from '../../server/modules/events/event-hub';
-import { startFakeObjectStore, type FakeObjectStore } from '../../server/modules/storage/fake-object-store';
-import { createObjectStore, storageSettingsOf } from '../../server/modules/storage/object-store';
+import type { Database } from '#server/db/client';
+import { createEventHub } from '#server/modules/events/event-hub';
+import { startFakeObjectStore, type FakeObjectStore } from '#server/modules/storage/fake-object-store';
+import { createObjectStore, storageSettingsOf } from '#server/modules/storage/object-store';
 
 /**
  * The origin test requests claim (the test app's PUBLIC_URL). State-changing requests with a session

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { DRIFTING_STATION } from '../demo/demo-line.scenario';
 

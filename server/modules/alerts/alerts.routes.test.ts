@@ -1,9 +1,9 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '#tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { DRIFTING_STATION } from '../demo/demo-line.scenario';
-import type { AlertView } from '../../../shared/schemas/alerts';
+import type { AlertView } from '#shared/schemas/alerts';
 import { watchStationModel } from './alerts.service';
 
 // A Thursday: the seeded fortnight runs from 5 to 19 November 2026.

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
-import type { Access } from '../../../shared/schemas/roles';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
+import type { Access } from '#shared/schemas/roles';
 import {
   acknowledgeAlertSchema,
   alertListQuerySchema,
@@ -10,7 +10,7 @@ import {
   watchedChartListQuerySchema,
   watchedChartSettingsSchema,
   watchedChartViewSchema,
-} from '../../../shared/schemas/alerts';
+} from '#shared/schemas/alerts';
 import { acknowledgeAlert, isSubscribed, listAlerts, setSubscription } from './alerts.service';
 import { listWatchedCharts, setWatchedChart } from './watched-charts.service';
 

@@ -1,8 +1,8 @@
 import { and, desc, eq, inArray, ne, sql } from 'drizzle-orm';
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
-import type { Logger } from '../../lib/logger';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
+import { AppError } from '#server/lib/errors';
+import type { Logger } from '#server/lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import type { Mailer } from '../mail/mail.service';
@@ -10,7 +10,7 @@ import { stationCalibrationsAfter, stationModelPairs } from '../read-models/cali
 import { findStation } from '../stations/stations.service';
 import { findUserById } from '../users/users.repository';
 import { limitsInForce } from '../analysis/control-limits.service';
-import type { AlertView } from '../../../shared/schemas/alerts';
+import type { AlertView } from '#shared/schemas/alerts';
 import {
   alertSubscriptions,
   chartAlerts,

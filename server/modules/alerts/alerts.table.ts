@@ -16,7 +16,7 @@ import { models } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { users } from '../users/users.table';
 import type { WatchState } from './alerts.watch';
-import { CHART_ALERT_STATUSES, WATCHED_CHART_KINDS } from '../../../shared/schemas/alerts';
+import { CHART_ALERT_STATUSES, WATCHED_CHART_KINDS } from '#shared/schemas/alerts';
 
 export const watchedChartKindEnum = pgEnum('watched_chart_kind', WATCHED_CHART_KINDS);
 

@@ -6,7 +6,7 @@ import {
   watchStep,
   type WatchSettings,
 } from './alerts.watch';
-import { evaluateRules } from '../../../shared/statistics';
+import { evaluateRules } from '#shared/statistics';
 
 const imr: WatchSettings = {
   kind: 'imr',

@@ -11,7 +11,7 @@ import {
   type EwmaState,
   type RuleSet,
   type RuleState,
-} from '../../../shared/statistics';
+} from '#shared/statistics';
 import type { AlertPoint } from './alerts.table';
 
 /** Points collected before the limits of a new watched chart are fixed from them. */

@@ -3,7 +3,7 @@ import type pg from 'pg';
 import { pipeline } from 'node:stream/promises';
 import type { Writable } from 'node:stream';
 import { to as copyTo } from 'pg-copy-streams';
-import { ANALYSIS_FIGURES, type AnalysisFilter } from '../../../shared/schemas/analysis';
+import { ANALYSIS_FIGURES, type AnalysisFilter } from '#shared/schemas/analysis';
 import { calibrationsCsvStatement } from '../read-models/calibration-figures.repository';
 
 function columns(filter: AnalysisFilter) {

@@ -2,7 +2,7 @@ import Papa from 'papaparse';
 import { PDFParse } from 'pdf-parse';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { DRIFTING_STATION, OFF_HALL_BOARD_LOT } from '../demo/demo-line.scenario';
 import type {
@@ -11,7 +11,7 @@ import type {
   ControlChartView,
   DistributionView,
   LineHealthView,
-} from '../../../shared/schemas/analysis';
+} from '#shared/schemas/analysis';
 
 // A Thursday: the seeded fortnight runs from 5 to 19 November 2026.
 const NOW = new Date('2026-11-19T09:30:00Z');

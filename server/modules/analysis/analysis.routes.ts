@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute, sendPdf } from '../../lib/http';
-import type { Access } from '../../../shared/schemas/roles';
+import type { AppDeps } from '#server/deps';
+import { defineRoute, sendPdf } from '#server/lib/http';
+import type { Access } from '#shared/schemas/roles';
 import {
   analysisFilterSchema,
   clearLimitsSchema,
@@ -11,7 +11,7 @@ import {
   limitHistorySchema,
   limitScopeQuerySchema,
   limitSetViewSchema,
-} from '../../../shared/schemas/analysis';
+} from '#shared/schemas/analysis';
 import { clearLimits, freezeLimits, limitHistory } from './control-limits.service';
 import { writeCalibrationsCsv } from './analysis.export';
 import { capabilityReport } from './analysis.service';
@@ -24,7 +24,7 @@ import {
   readPlantTime,
   resolveRange,
 } from './analysis.service';
-import type { AnalysisFilter } from '../../../shared/schemas/analysis';
+import type { AnalysisFilter } from '#shared/schemas/analysis';
 
 /**
  * Line statistics are read by process engineers (their daily work) and quality staff (capability evidence,

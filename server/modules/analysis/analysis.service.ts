@@ -1,4 +1,4 @@
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import {
   ANALYSIS_FIGURES,
   CHECK_NAMES,
@@ -10,8 +10,8 @@ import {
   type ControlChartView,
   type DistributionView,
   type LineHealthView,
-} from '../../../shared/schemas/analysis';
-import type { Recipe } from '../../../shared/schemas/recipe';
+} from '#shared/schemas/analysis';
+import type { Recipe } from '#shared/schemas/recipe';
 import {
   allRules,
   andersonDarling,
@@ -33,7 +33,7 @@ import {
   type Baseline,
   type ChartLine,
   type RuleHit,
-} from '../../../shared/statistics';
+} from '#shared/statistics';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import {
   analysisChoices,
@@ -54,9 +54,9 @@ import type { ControlLimitSetRecord } from './analysis.table';
 import { baselineFromWindow, frozenBaseline, limitSetView, limitsInForce } from './control-limits.service';
 import { renderCapabilityReport } from './capability-report';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
-import type { SessionUser } from '../../lib/auth';
+import type { SessionUser } from '#server/lib/auth';
 import { getShifts } from '../qualification/qualification.service';
-import { periodKeyer, presetStart, type PlantShift } from '../../../shared/time/plant-time';
+import { periodKeyer, presetStart, type PlantShift } from '#shared/time/plant-time';
 
 /** The plant's time zone and shifts (the qualification module keeps the shifts). */
 export interface PlantTime {

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { OFF_HALL_BOARD_LOT } from '../demo/demo-line.scenario';
 import {
@@ -7,7 +7,7 @@ import {
   comparisonQuerySchema,
   type AnalysisFilter,
   type ComparisonQuery,
-} from '../../../shared/schemas/analysis';
+} from '#shared/schemas/analysis';
 import {
   andersonDarling,
   capability,
@@ -17,7 +17,7 @@ import {
   kruskalWallis,
   summarizeGroup,
   welchAnova,
-} from '../../../shared/statistics';
+} from '#shared/statistics';
 import { selectCalibrationFigures } from '../read-models/calibration-figures.repository';
 import { comparisonView, distributionView, figureLimits } from './analysis.service';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';

@@ -1,6 +1,6 @@
 import PDFDocument from 'pdfkit';
-import { ANALYSIS_FIGURES, type DistributionView } from '../../../shared/schemas/analysis';
-import { normalPdf } from '../../../shared/statistics';
+import { ANALYSIS_FIGURES, type DistributionView } from '#shared/schemas/analysis';
+import { normalPdf } from '#shared/statistics';
 import { barlowFontSources } from '../travelers/fonts';
 
 // Barlow has no Greek letters: the report writes "sigma" in full.

@@ -1,5 +1,5 @@
 import { and, desc, eq, sql } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { controlLimitSets, type ControlLimitSetRecord } from './analysis.table';
 
 /** The scope key of a station's limits, or of the model's limits across stations. */

@@ -1,14 +1,14 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '#tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import type {
   AnalysisOptions,
   ControlChartView,
   LimitHistory,
   LimitSetView,
-} from '../../../shared/schemas/analysis';
-import type { WatchedChartView } from '../../../shared/schemas/alerts';
+} from '#shared/schemas/analysis';
+import type { WatchedChartView } from '#shared/schemas/alerts';
 
 // A Thursday: the seeded fortnight runs from 5 to 19 November 2026.
 const NOW = new Date('2026-11-19T09:30:00Z');

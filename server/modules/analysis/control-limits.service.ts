@@ -1,5 +1,5 @@
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation } from '../stations/stations.service';
@@ -9,7 +9,7 @@ import {
   individualsChart,
   subgroupChart,
   type Baseline,
-} from '../../../shared/statistics';
+} from '#shared/statistics';
 import type {
   AnalysisFigure,
   AnalysisFilter,
@@ -18,7 +18,7 @@ import type {
   LimitHistory,
   LimitScopeQuery,
   LimitSetView,
-} from '../../../shared/schemas/analysis';
+} from '#shared/schemas/analysis';
 import type { ControlLimitSetRecord } from './analysis.table';
 import { analysisErrors, limitErrors } from './analysis.errors';
 import { appendLimitVersion, limitVersions, newestLimitVersion } from './control-limits.repository';

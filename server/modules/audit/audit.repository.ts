@@ -1,5 +1,5 @@
 import { and, asc, count, desc, eq, gte, ilike, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { auditLog } from './audit.table';
 
 export interface AuditInput {

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute, route } from '../../lib/http';
+import type { AppDeps } from '#server/deps';
+import { defineRoute, route } from '#server/lib/http';
 import { auditEntries, auditTrail } from './audit.service';
-import { auditTrailQuerySchema } from '../../../shared/schemas/audit-trail';
-import { auditResponseSchema, type AuditEntry } from '../../../shared/schemas/audit';
+import { auditTrailQuerySchema } from '#shared/schemas/audit-trail';
+import { auditResponseSchema, type AuditEntry } from '#shared/schemas/audit';
 
 const CSV_HEADER = ['at', 'who', 'action', 'subject_type', 'subject', 'reason', 'before', 'after'];
 

@@ -1,6 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestDatabase, type TestDatabase } from '../../../tests/harness/db';
-import { seedDemoAccounts } from '../../db/seed';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
+import { seedDemoAccounts } from '#server/db/seed';
 import { findUserByUsername } from '../users/users.repository';
 import { insertAudit } from './audit.repository';
 import { auditEntries } from './audit.service';

@@ -1,12 +1,12 @@
-import type { DbOrTx } from '../../db/client';
-import type { AuditEntry } from '../../../shared/schemas/audit';
+import type { DbOrTx } from '#server/db/client';
+import type { AuditEntry } from '#shared/schemas/audit';
 import { stationNamesByIds } from '../stations/stations.service';
 import { serialsByIds } from '../units/units.service';
 import { displayNamesByIds } from '../users/users.repository';
 import { listAudit, listAuditFiltered } from './audit.repository';
 import { unitIdsBySerials } from '../units/units.repository';
 import { investigationIdsOfUnit, investigationLabelsByIds } from '../quality/investigation-labels';
-import { QUALITY_AUDIT_SUBJECTS, type AuditTrailQuery } from '../../../shared/schemas/audit-trail';
+import { QUALITY_AUDIT_SUBJECTS, type AuditTrailQuery } from '#shared/schemas/audit-trail';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestDatabase, type TestDatabase } from '../../../tests/harness/db';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
 import { insertAudit } from './audit.repository';
 
 let d: TestDatabase;

@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 /** Minutes an account stays locked (kept here so the refusal can say it; see auth.service.ts). */
 export const LOCKOUT_MINUTES = 15;

@@ -1,7 +1,7 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { sql } from 'drizzle-orm';
-import { TEST_ORIGIN, createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { TEST_ORIGIN, createTestApp, type TestApp } from '#tests/harness/test-app';
 import { LOCKOUT_THRESHOLD } from './auth.service';
 import { IP_FAILURE_LIMIT } from './auth.routes';
 

@@ -1,5 +1,5 @@
 import type { Request, Response } from 'express';
-import type { AppDeps } from '../../deps';
+import type { AppDeps } from '#server/deps';
 import { randomUUID } from 'node:crypto';
 import {
   DEVICE_COOKIE,
@@ -9,14 +9,14 @@ import {
   signDeviceToken,
   signSession,
   verifyDeviceToken,
-} from '../../lib/auth';
-import { defineRoute } from '../../lib/http';
+} from '#server/lib/auth';
+import { defineRoute } from '#server/lib/http';
 import {
   badgeSignInSchema,
   passwordResetRequestSchema,
   passwordSignInSchema,
   setPasswordSchema,
-} from '../../../shared/schemas/auth';
+} from '#shared/schemas/auth';
 import { insertAudit } from '../audit/audit.repository';
 import { findUserByEmail } from '../users/users.repository';
 import type { UserRecord } from '../users/users.table';

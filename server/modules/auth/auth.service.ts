@@ -1,8 +1,8 @@
 import { createHash, randomBytes } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import { eq, lt, or } from 'drizzle-orm';
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit } from '../audit/audit.repository';
 import {

@@ -2,8 +2,8 @@ import bcrypt from 'bcryptjs';
 import jwt from 'jsonwebtoken';
 import request from 'supertest';
 import { afterAll, afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
-import { createApp } from '../../app';
-import { TEST_ORIGIN, createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createApp } from '#server/app';
+import { TEST_ORIGIN, createTestApp, type TestApp } from '#tests/harness/test-app';
 import { LOCKOUT_MINUTES, LOCKOUT_THRESHOLD } from './auth.service';
 import { IP_FAILURE_LIMIT } from './auth.routes';
 

@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 /** Refusals about a measurement's calibration (codes are stable: stations key on them). */
 export const calibrationErrors = {

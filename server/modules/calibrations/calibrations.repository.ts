@@ -1,6 +1,6 @@
 import { and, desc, eq, inArray, sql, type AnyColumn, type SQL } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
-import { ENGINE_VERSION } from '../../../shared/calibration';
+import type { DbOrTx } from '#server/db/client';
+import { ENGINE_VERSION } from '#shared/calibration';
 import { calibrations, programmingConfirmations, type CalibrationRecord } from './calibrations.table';
 
 /**

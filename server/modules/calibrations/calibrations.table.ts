@@ -12,13 +12,13 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core';
-import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import type { CalibrationResult } from '#shared/schemas/calibration-result';
 import { measurements } from '../measurements/measurements.table';
 import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
-import { CALIBRATION_PURPOSES, CALIBRATION_VERDICTS } from '../../../shared/schemas/calibrations';
+import { CALIBRATION_PURPOSES, CALIBRATION_VERDICTS } from '#shared/schemas/calibrations';
 
 export const calibrationVerdictEnum = pgEnum('calibration_verdict', CALIBRATION_VERDICTS);
 

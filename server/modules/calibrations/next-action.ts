@@ -1,5 +1,5 @@
-import type { Check } from '../../../shared/schemas/calibration-result';
-import { failureStep } from '../../../shared/calibration/check-guide';
+import type { Check } from '#shared/schemas/calibration-result';
+import { failureStep } from '#shared/calibration/check-guide';
 
 /**
  * Operator wording for what to do next with the unit after this calibration. The failed checks pick

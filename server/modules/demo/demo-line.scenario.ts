@@ -1,4 +1,4 @@
-import type { Recipe } from '../../../shared/schemas/recipe';
+import type { Recipe } from '#shared/schemas/recipe';
 
 /**
  * The invented demo line: Corvane Motion Ltd, Hollin Ridge Works, Line 2. Two motor models, three

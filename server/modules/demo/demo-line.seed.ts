@@ -2,14 +2,14 @@
 // heartbeats, qualification, charts) in the order it happened; every write goes through the owning module.
 import { randomUUID } from 'node:crypto';
 import type pg from 'pg';
-import type { Db } from '../../db/client';
-import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import type { JobQueue } from '../../../jobs/queue-client';
-import { queues } from '../../../jobs/queues';
-import { createRng, type Rng } from '../../../shared/simulation/rng';
+import type { Db } from '#server/db/client';
+import type { SessionUser, StationPrincipal } from '#server/lib/auth';
+import type { JobQueue } from '#jobs/queue-client';
+import { queues } from '#jobs/queues';
+import { createRng, type Rng } from '#shared/simulation/rng';
 import { pino } from 'pino';
 import type { Mailer } from '../mail/mail.service';
-import type { Logger } from '../../lib/logger';
+import type { Logger } from '#server/lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import { watchEveryStationModel } from '../alerts/alerts.service';
 import { seedDemoQualification } from './demo-qualification.seed';

@@ -1,12 +1,12 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq, sql } from 'drizzle-orm';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
 import { models } from '../recipes/recipes.table';
 import { calibrations } from '../calibrations/calibrations.table';
 import { authenticateStationKey } from '../stations/stations.service';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
-import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import type { CalibrationResult } from '#shared/schemas/calibration-result';
 import {
   DEMO_SIM_STATION,
   DRIFTING_STATION,

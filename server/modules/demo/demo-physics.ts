@@ -1,6 +1,6 @@
-import type { HallSensor, Measurement } from '../../../shared/schemas/measurement';
-import { createRng, type Rng } from '../../../shared/simulation/rng';
-import { simulateMeasurement, type SimulationSpec } from '../../../shared/simulation/simulate';
+import type { HallSensor, Measurement } from '#shared/schemas/measurement';
+import { createRng, type Rng } from '#shared/simulation/rng';
+import { simulateMeasurement, type SimulationSpec } from '#shared/simulation/simulate';
 import { DEMO_TURNS_PER_SEGMENT, type DemoModel, type DemoRig } from './demo-line.scenario';
 
 /**

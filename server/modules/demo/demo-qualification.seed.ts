@@ -1,8 +1,8 @@
 import { randomUUID } from 'node:crypto';
 import type pg from 'pg';
-import type { Db } from '../../db/client';
-import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import { createRng } from '../../../shared/simulation/rng';
+import type { Db } from '#server/db/client';
+import type { SessionUser, StationPrincipal } from '#server/lib/auth';
+import { createRng } from '#shared/simulation/rng';
 import { registerUnit } from '../units/units.service';
 import {
   acceptQualificationReading,

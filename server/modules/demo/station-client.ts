@@ -1,13 +1,13 @@
 // Over ~350 lines on purpose: the station simulator's whole client (HTTP with retries, the protocol's
 // steps, the operator's pace) is one small program a station integrator can read top to bottom.
-import type { CalibrationView } from '../../../shared/schemas/calibrations';
-import type { Measurement } from '../../../shared/schemas/measurement';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import type { Measurement } from '#shared/schemas/measurement';
 import type {
   QualificationRunView,
   QualificationState,
   StudyNextStep,
-} from '../../../shared/schemas/qualification';
-import { createRng } from '../../../shared/simulation/rng';
+} from '#shared/schemas/qualification';
+import { createRng } from '#shared/simulation/rng';
 import type { DemoModel, DemoRig } from './demo-line.scenario';
 import { calibrationBlockChecksum, drawUnit, referenceUnitTruth, simulateRun } from './demo-physics';
 

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestDatabase, type TestDatabase } from '../../../tests/harness/db';
-import { createLogger } from '../../lib/logger';
-import type { LineEvent } from '../../../shared/schemas/events';
+import { createTestDatabase, type TestDatabase } from '#tests/harness/db';
+import { createLogger } from '#server/lib/logger';
+import type { LineEvent } from '#shared/schemas/events';
 import { createEventHub, notifyLineEvent } from './event-hub';
 
 // A database restart drops every connection. The LISTEN connection must survive it without an

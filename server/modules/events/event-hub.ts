@@ -1,10 +1,10 @@
 import { EventEmitter } from 'node:events';
 import pg from 'pg';
 import { sql } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
-import type { Logger } from '../../lib/logger';
-import { lineEventSchema, type LineEvent } from '../../../shared/schemas/events';
-import { whatIfProgressSchema, type WhatIfProgress } from '../../../shared/schemas/recipes';
+import type { DbOrTx } from '#server/db/client';
+import type { Logger } from '#server/lib/logger';
+import { lineEventSchema, type LineEvent } from '#shared/schemas/events';
+import { whatIfProgressSchema, type WhatIfProgress } from '#shared/schemas/recipes';
 
 /** The PostgreSQL channel every line event travels on (NOTIFY is delivered at commit). */
 export const EVENTS_CHANNEL = 'phasewright_events';

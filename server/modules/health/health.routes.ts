@@ -1,7 +1,7 @@
 import { sql } from 'drizzle-orm';
-import type { AppDeps } from '../../deps';
-import { route } from '../../lib/http';
-import type { Health } from '../../../shared/schemas/health';
+import type { AppDeps } from '#server/deps';
+import { route } from '#server/lib/http';
+import type { Health } from '#shared/schemas/health';
 
 export const APP_VERSION = '0.1.0';
 

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
+import type { AppDeps } from '#server/deps';
 import { jobErrors } from './jobs.errors';
-import { route } from '../../lib/http';
+import { route } from '#server/lib/http';
 import { insertAudit } from '../audit/audit.repository';
-import { BOSS_SCHEMA } from '../../../jobs/queue-client';
+import { BOSS_SCHEMA } from '#jobs/queue-client';
 
 const replayParams = z.object({ id: z.string().uuid('Not a job id') });
 

@@ -4,7 +4,7 @@ import type { AddressInfo } from 'node:net';
 import { randomUUID } from 'node:crypto';
 import smtpServerModule from 'smtp-server';
 import { simpleParser } from 'mailparser';
-import type { OutboxMessage } from '../../../shared/schemas/outbox';
+import type { OutboxMessage } from '#shared/schemas/outbox';
 
 /**
  * A local stand-in for a mail relay: accepts SMTP on loopback, keeps every message, and lists them

@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 export const mailErrors = {
   outboxUnavailable: () =>

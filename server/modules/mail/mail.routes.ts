@@ -1,7 +1,7 @@
-import type { AppDeps } from '../../deps';
+import type { AppDeps } from '#server/deps';
 import { mailErrors } from './mail.errors';
-import { route } from '../../lib/http';
-import { outboxResponseSchema } from '../../../shared/schemas/outbox';
+import { route } from '#server/lib/http';
+import { outboxResponseSchema } from '#shared/schemas/outbox';
 
 export function mailRoutes(deps: AppDeps) {
   return [

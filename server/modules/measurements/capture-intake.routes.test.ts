@@ -2,9 +2,9 @@ import v8 from 'node:v8';
 import vm from 'node:vm';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, type TestApp } from '../../../tests/harness/test-app';
-import { createLineFixture } from '../../../tests/harness/line-fixtures';
-import { CSV_LIMITS } from '../../../shared/capture/csv';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { CSV_LIMITS } from '#shared/capture/csv';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;

@@ -1,6 +1,6 @@
 import type pg from 'pg';
-import type { Db } from '../../db/client';
-import type { JobQueue } from '../../../jobs/queue-client';
+import type { Db } from '#server/db/client';
+import type { JobQueue } from '#jobs/queue-client';
 
 /** What every part of the measurements module (intake, compute, recompute, programming) is given. */
 export interface MeasurementsContext {

@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 export const measurementErrors = {
   // One answer for every reuse of an id that is not a repeat of this station's own upload: it says

@@ -1,8 +1,8 @@
 import type pg from 'pg';
-import type { Measurement } from '../../../shared/schemas/measurement';
-import { prepared } from '../../db/prepared';
+import type { Measurement } from '#shared/schemas/measurement';
+import { prepared } from '#server/db/prepared';
 import { eq, sql } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { measurements, type MeasurementRecord } from './measurements.table';
 
 /** Which stored measurements a replay covers: one model, optionally a time range and stations. */

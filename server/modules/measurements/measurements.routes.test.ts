@@ -1,12 +1,12 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
-import { createLineFixture } from '../../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../../tests/harness/measurements';
-import type { Recipe } from '../../../shared/schemas/recipe';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
+import type { Recipe } from '#shared/schemas/recipe';
 import { computeCalibration, type MeasurementsContext } from './measurements.service';
-import { simulateCapture } from '../../../shared/simulation/capture-sim';
-import { createRng } from '../../../shared/simulation/rng';
+import { simulateCapture } from '#shared/simulation/capture-sim';
+import { createRng } from '#shared/simulation/rng';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;

@@ -1,14 +1,14 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
 import {
   measurementAcceptedSchema,
   measurementResultSchema,
   resultQuerySchema,
-} from '../../../shared/schemas/measurements';
-import { programmingConfirmationSchema, recomputeSchema } from '../../../shared/schemas/calibrations';
-import { measurementIdSchema, measurementSchema } from '../../../shared/schemas/measurement';
-import { serialSchema } from '../../../shared/schemas/serial';
+} from '#shared/schemas/measurements';
+import { programmingConfirmationSchema, recomputeSchema } from '#shared/schemas/calibrations';
+import { measurementIdSchema, measurementSchema } from '#shared/schemas/measurement';
+import { serialSchema } from '#shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
 import { assertProductionAllowed } from '../qualification/qualification.service';
 import { measurementIdTaken } from './measurements.repository';

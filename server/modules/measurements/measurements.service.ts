@@ -1,5 +1,5 @@
-import type { StationPrincipal } from '../../lib/auth';
-import type { DbOrTx } from '../../db/client';
+import type { StationPrincipal } from '#server/lib/auth';
+import type { DbOrTx } from '#server/db/client';
 import { calibrationViews } from '../read-models/calibration-views';
 import { measurementErrors } from './measurements.errors';
 import { measurementIdentity } from './measurements.repository';

@@ -11,7 +11,7 @@ import {
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
-import { MEASUREMENT_SOURCES } from '../../../shared/schemas/measurements';
+import { MEASUREMENT_SOURCES } from '#shared/schemas/measurements';
 
 export const measurementSourceEnum = pgEnum('measurement_source', MEASUREMENT_SOURCES);
 

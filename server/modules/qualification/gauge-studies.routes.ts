@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute, sendPdf } from '../../lib/http';
-import { gaugeStudyCreateSchema, studyMeasurementSchema } from '../../../shared/schemas/qualification';
+import type { AppDeps } from '#server/deps';
+import { defineRoute, sendPdf } from '#server/lib/http';
+import { gaugeStudyCreateSchema, studyMeasurementSchema } from '#shared/schemas/qualification';
 import { renderStudyReport } from './qualification.pdf';
 import {
   acceptStudyReading,

@@ -1,7 +1,7 @@
 import { asc, desc, eq } from 'drizzle-orm';
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import { AppError } from '../../lib/errors';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser, StationPrincipal } from '#server/lib/auth';
+import { AppError } from '#server/lib/errors';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation, stationNamesByIds } from '../stations/stations.service';
@@ -9,16 +9,16 @@ import { findUnitBySerial, serialsByIds } from '../units/units.service';
 import { qualificationErrors } from './qualification.errors';
 import { computeReading } from './reading-engine';
 import { displayNamesByIds, findUserById, listUsers } from '../users/users.repository';
-import { createRng } from '../../../shared/simulation/rng';
+import { createRng } from '#shared/simulation/rng';
 import {
   gaugeAnova,
   gaugeAverageRange,
   readGauge,
   type GaugeAnovaResult,
   type GaugeRangeResult,
-} from '../../../shared/statistics/gauge-study';
-import type { Measurement } from '../../../shared/schemas/measurement';
-import type { GaugeStudyCreate } from '../../../shared/schemas/qualification';
+} from '#shared/statistics/gauge-study';
+import type { Measurement } from '#shared/schemas/measurement';
+import type { GaugeStudyCreate } from '#shared/schemas/qualification';
 import {
   gaugeStudies,
   gaugeStudyMeasurements,

@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 export const qualificationErrors = {
   /** 423 Locked: the station must be qualified before it calibrates production units. */

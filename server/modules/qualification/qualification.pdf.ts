@@ -3,9 +3,9 @@ import { barlowFontSources, type BarlowFace } from '../travelers/fonts';
 import { markBad, markGood } from '../travelers/traveler.page';
 import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
-import type { GaugeStudyDetail, QualificationRunView } from '../../../shared/schemas/qualification';
-import type { GaugeFigures } from '../../../shared/statistics/gauge-study';
-import { formatSignedDeg } from '../../../shared/wording';
+import type { GaugeStudyDetail, QualificationRunView } from '#shared/schemas/qualification';
+import type { GaugeFigures } from '#shared/statistics/gauge-study';
+import { formatSignedDeg } from '#shared/wording';
 
 // Documents of station qualification in the traveler's look: Barlow, black ink, the company header over a
 // heavy rule, caps section headings on hairlines, and the traveler's good/bad marks (shape, not colour).

@@ -1,9 +1,9 @@
 import request from 'supertest';
 import { PDFParse } from 'pdf-parse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
-import { createLineFixture } from '../../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../../tests/harness/measurements';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;

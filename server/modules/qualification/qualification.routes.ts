@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute, sendPdf } from '../../lib/http';
+import type { AppDeps } from '#server/deps';
+import { defineRoute, sendPdf } from '#server/lib/http';
 import {
   biasQuerySchema,
   certifyReferenceUnitSchema,
@@ -12,7 +12,7 @@ import {
   qualificationRunViewSchema,
   qualificationStateSchema,
   referenceUnitViewSchema,
-} from '../../../shared/schemas/qualification';
+} from '#shared/schemas/qualification';
 import {
   acceptQualificationReading,
   certifyReferenceUnit,

@@ -1,24 +1,24 @@
 import type pg from 'pg';
 import { and, asc, desc, eq, gt, inArray, isNull, sql } from 'drizzle-orm';
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser, StationPrincipal } from '../../lib/auth';
-import type { Logger } from '../../lib/logger';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser, StationPrincipal } from '#server/lib/auth';
+import type { Logger } from '#server/lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit } from '../audit/audit.repository';
 import { raiseQualificationAlert } from '../alerts/alerts.service';
-import { formatSignedDeg } from '../../../shared/wording';
+import { formatSignedDeg } from '#shared/wording';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation, stationNamesByIds } from '../stations/stations.service';
 import { findUnitBySerial } from '../units/units.service';
 import { listUsers } from '../users/users.repository';
 import { countStationMeasurementsSince } from '../measurements/measurements.repository';
-import { ENGINE_VERSION } from '../../../shared/calibration';
+import { ENGINE_VERSION } from '#shared/calibration';
 import {
   decideQualification,
   type QualificationDecision,
-} from '../../../shared/calibration/qualification-state';
-import { certifiedValue } from '../../../shared/statistics/gauge-study';
-import { measurementSchema, type Measurement } from '../../../shared/schemas/measurement';
+} from '#shared/calibration/qualification-state';
+import { certifiedValue } from '#shared/statistics/gauge-study';
+import { measurementSchema, type Measurement } from '#shared/schemas/measurement';
 import type {
   CertifiedFrom,
   CertifyReferenceUnit,
@@ -28,7 +28,7 @@ import type {
   QualificationRunView,
   QualificationState,
   ReferenceUnitView,
-} from '../../../shared/schemas/qualification';
+} from '#shared/schemas/qualification';
 import { qualificationErrors } from './qualification.errors';
 import { computeReading } from './reading-engine';
 import {

@@ -11,7 +11,7 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core';
-import type { CertifiedFrom } from '../../../shared/schemas/qualification';
+import type { CertifiedFrom } from '#shared/schemas/qualification';
 import { models, recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
@@ -20,7 +20,7 @@ import {
   GAUGE_APPRAISER_KINDS,
   GAUGE_STUDY_STATUSES,
   QUALIFICATION_VERDICTS,
-} from '../../../shared/schemas/qualification';
+} from '#shared/schemas/qualification';
 
 /**
  * A unit kept as a reference for its model: its certified offset and the tolerance a station's reading

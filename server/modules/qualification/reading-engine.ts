@@ -1,9 +1,9 @@
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { runEngine } from '../measurements/measurements.service';
 import { measurementErrors } from '../measurements/measurements.errors';
-import { validateCalibrationInput } from '../../../shared/calibration';
-import type { Measurement } from '../../../shared/schemas/measurement';
+import { validateCalibrationInput } from '#shared/calibration';
+import type { Measurement } from '#shared/schemas/measurement';
 
 /**
  * Computes a reading that is not production (a reference unit's qualification reading or a gauge-study

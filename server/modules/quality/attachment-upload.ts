@@ -6,7 +6,7 @@ import { Transform } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type { Request, Response } from 'express';
 import multer from 'multer';
-import { ATTACHMENT_LIMIT_BYTES } from '../../../shared/schemas/attachments';
+import { ATTACHMENT_LIMIT_BYTES } from '#shared/schemas/attachments';
 import { qualityErrors } from './quality.errors';
 
 /** An upload spooled to a private temporary file, with what was measured while it streamed in. */

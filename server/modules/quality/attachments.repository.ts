@@ -1,5 +1,5 @@
 import { and, asc, eq, isNull } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { investigationAttachments, type InvestigationAttachmentRecord } from './attachments.table';
 
 export async function insertAttachment(

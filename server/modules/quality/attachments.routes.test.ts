@@ -5,9 +5,9 @@ import path from 'node:path';
 import { PNG } from 'pngjs';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
-import { ATTACHMENT_LIMIT_BYTES } from '../../../shared/schemas/attachments';
-import { createLineFixture } from '../../../tests/harness/line-fixtures';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
+import { ATTACHMENT_LIMIT_BYTES } from '#shared/schemas/attachments';
+import { createLineFixture } from '#tests/harness/line-fixtures';
 
 let t: TestApp;
 let quality = '';

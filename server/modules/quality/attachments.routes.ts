@@ -1,13 +1,13 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
 import {
   ATTACHMENT_KINDS_TEXT,
   ATTACHMENT_LIMIT_BYTES,
   attachmentListSchema,
   attachmentSchema,
   removeAttachmentSchema,
-} from '../../../shared/schemas/attachments';
+} from '#shared/schemas/attachments';
 import { discardSpooled, receiveAttachment, spooledFile } from './attachment-upload';
 import {
   addAttachment,

@@ -1,8 +1,8 @@
 import { createHash, randomUUID } from 'node:crypto';
 import fs from 'node:fs';
-import type { Db } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
-import type { Logger } from '../../lib/logger';
+import type { Db } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
+import type { Logger } from '#server/lib/logger';
 import { insertAudit } from '../audit/audit.repository';
 import type { ObjectStore } from '../storage/object-store';
 import {
@@ -10,8 +10,8 @@ import {
   ATTACHMENT_LIMIT_BYTES,
   type Attachment,
   type RemoveAttachment,
-} from '../../../shared/schemas/attachments';
-import { investigationReference } from '../../../shared/schemas/quality';
+} from '#shared/schemas/attachments';
+import { investigationReference } from '#shared/schemas/quality';
 import { attachmentKind } from './attachment-kind';
 import type { SpooledFile } from './attachment-upload';
 import * as repo from './attachments.repository';

@@ -1,6 +1,6 @@
 import { eq, inArray } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
-import { investigationReference } from '../../../shared/schemas/quality';
+import type { DbOrTx } from '#server/db/client';
+import { investigationReference } from '#shared/schemas/quality';
 import { investigations, investigationUnits } from './quality.table';
 
 /** "INV-0007 · Motor stalls at start" for each case id, for lists that name cases (the audit trail). */

@@ -1,5 +1,5 @@
-import type { DbOrTx } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
+import type { DbOrTx } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
 import { insertAudit } from '../audit/audit.repository';
 import { listUsers } from '../users/users.repository';
 import { unitIdsBySerials, unitSummariesByIds } from '../units/units.repository';
@@ -10,7 +10,7 @@ import {
   type InvestigationSummary,
   type InvestigationUpdate,
   type NewInvestigation,
-} from '../../../shared/schemas/quality';
+} from '#shared/schemas/quality';
 import { qualityErrors } from './quality.errors';
 import * as repo from './quality.repository';
 import type { InvestigationRecord } from './quality.table';

@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 const listed = (serials: string[]) =>
   serials.slice(0, 5).join(', ') + (serials.length > 5 ? ` and ${serials.length - 5} more` : '');

@@ -1,5 +1,5 @@
 import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import {
   investigationComments,
   investigations,

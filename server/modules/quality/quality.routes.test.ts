@@ -1,13 +1,13 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '../../../tests/harness/test-app';
-import { createLineFixture } from '../../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../../tests/harness/measurements';
+import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 import { createHash } from 'node:crypto';
 import { computeCalibration, type MeasurementsContext } from '../measurements/measurements.service';
-import { canonicalMeasurementText } from '../../../shared/capture/as-posted';
-import { simulateCapture } from '../../../shared/simulation/capture-sim';
-import { createRng } from '../../../shared/simulation/rng';
+import { canonicalMeasurementText } from '#shared/capture/as-posted';
+import { simulateCapture } from '#shared/simulation/capture-sim';
+import { createRng } from '#shared/simulation/rng';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;

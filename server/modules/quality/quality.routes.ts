@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
-import type { Access } from '../../../shared/schemas/roles';
-import { serialSchema } from '../../../shared/schemas/serial';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
+import type { Access } from '#shared/schemas/roles';
+import { serialSchema } from '#shared/schemas/serial';
 import {
   bulkHoldSchema,
   commentSchema,
@@ -15,7 +15,7 @@ import {
   searchChoicesSchema,
   unitSearchPageSchema,
   unitSearchQuerySchema,
-} from '../../../shared/schemas/quality';
+} from '#shared/schemas/quality';
 import {
   bulkHold,
   exportSearchCsv,

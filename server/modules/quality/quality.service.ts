@@ -1,6 +1,6 @@
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
-import type { Logger } from '../../lib/logger';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
+import type { Logger } from '#server/lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit, insertAuditMany } from '../audit/audit.repository';
 import {
@@ -10,11 +10,11 @@ import {
   listRecipeRows,
 } from '../recipes/recipes.repository';
 import { listUsers } from '../users/users.repository';
-import { ENGINE_VERSION } from '../../../shared/calibration/engine';
+import { ENGINE_VERSION } from '#shared/calibration/engine';
 import { storedMeasurement } from '../measurements/measurements.repository';
-import { CalibrationInputError } from '../../../shared/calibration';
-import { traceMeasurement } from '../../../shared/calibration/trace';
-import type { Measurement } from '../../../shared/schemas/measurement';
+import { CalibrationInputError } from '#shared/calibration';
+import { traceMeasurement } from '#shared/calibration/trace';
+import type { Measurement } from '#shared/schemas/measurement';
 import type { RecipeRecord } from '../recipes/recipes.table';
 import { stationCalibrationFilter } from '../calibrations/calibrations.repository';
 import {
@@ -32,8 +32,8 @@ import {
   type UnitHoldState,
 } from '../units/units.repository';
 import type { UnitRecord } from '../units/units.table';
-import type { Check } from '../../../shared/schemas/calibration-result';
-import { failureStep, repairHoldReason } from '../../../shared/calibration/check-guide';
+import type { Check } from '#shared/schemas/calibration-result';
+import { failureStep, repairHoldReason } from '#shared/calibration/check-guide';
 import {
   investigationReference,
   type BulkHold,
@@ -47,7 +47,7 @@ import {
   type UnitSearchFilter,
   type UnitSearchPage,
   type UnitSearchQuery,
-} from '../../../shared/schemas/quality';
+} from '#shared/schemas/quality';
 import { qualityErrors } from './quality.errors';
 import * as repo from './quality.repository';
 import { openInvestigationIn, notifyQualityGroup } from './investigations.service';

@@ -14,7 +14,7 @@ import {
 } from 'drizzle-orm/pg-core';
 import { users } from '../users/users.table';
 import { units } from '../units/units.table';
-import { HOLD_DISPOSITIONS, HOLD_SOURCES, INVESTIGATION_STATUSES } from '../../../shared/schemas/quality';
+import { HOLD_DISPOSITIONS, HOLD_SOURCES, INVESTIGATION_STATUSES } from '#shared/schemas/quality';
 
 /** Material-review dispositions of a released hold. `scrap` is final. */
 export const holdDispositionEnum = pgEnum('hold_disposition', HOLD_DISPOSITIONS);

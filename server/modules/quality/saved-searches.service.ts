@@ -1,11 +1,11 @@
-import type { SessionUser } from '../../lib/auth';
+import type { SessionUser } from '#server/lib/auth';
 import { insertAudit } from '../audit/audit.repository';
 import {
   UNIT_SEARCH_FILTER_KEYS,
   unitSearchFilterSchema,
   type NewSavedSearch,
   type SavedSearch,
-} from '../../../shared/schemas/quality';
+} from '#shared/schemas/quality';
 import type { SavedSearchRecord } from './quality.table';
 import { qualityErrors } from './quality.errors';
 import * as repo from './quality.repository';

@@ -1,11 +1,11 @@
 import { createHash } from 'node:crypto';
 import { strToU8, zipSync, type Zippable } from 'fflate';
-import type { Db } from '../../db/client';
-import { travelerSettings } from '../../env';
-import type { SessionUser } from '../../lib/auth';
+import type { Db } from '#server/db/client';
+import { travelerSettings } from '#server/env';
+import type { SessionUser } from '#server/lib/auth';
 import { insertAudit } from '../audit/audit.repository';
 import { measurementsOfUnit } from '../measurements/measurements.repository';
-import type { UnitRecord } from '../../../shared/schemas/unit-record';
+import type { UnitRecord } from '#shared/schemas/unit-record';
 import { renderUnitRecordPdf } from './unit-record.pdf';
 import { unitRecord } from './unit-record.service';
 

@@ -17,11 +17,11 @@ import {
 } from '../travelers/traveler.page';
 import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
-import { checkName, formatCheckLimit, formatCheckValue } from '../../../shared/calibration/check-guide';
-import type { CalibrationView } from '../../../shared/schemas/calibrations';
+import { checkName, formatCheckLimit, formatCheckValue } from '#shared/calibration/check-guide';
+import type { CalibrationView } from '#shared/schemas/calibrations';
 import { modelName } from './unit-record.service';
-import { TIMELINE_KIND_LABELS, type UnitRecord } from '../../../shared/schemas/unit-record';
-import { formatOffsetDeg } from '../../../shared/wording';
+import { TIMELINE_KIND_LABELS, type UnitRecord } from '#shared/schemas/unit-record';
+import { formatOffsetDeg } from '#shared/wording';
 
 // The unit's calibration record on paper, in the traveler's look (its fonts, drawing kit, marks and the
 // safety box): every attempt with its recipe version, engine version and checks, the programming, the

@@ -1,5 +1,5 @@
 import { asc, eq } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { investigations, investigationUnits, unitHolds } from './quality.table';
 
 /** Every hold of a unit with its release, oldest first, and the investigation it was placed under. */

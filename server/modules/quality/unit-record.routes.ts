@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute, sendPdf } from '../../lib/http';
-import type { Access } from '../../../shared/schemas/roles';
-import { serialSchema } from '../../../shared/schemas/serial';
-import { unitRecordSchema } from '../../../shared/schemas/unit-record';
+import type { AppDeps } from '#server/deps';
+import { defineRoute, sendPdf } from '#server/lib/http';
+import type { Access } from '#shared/schemas/roles';
+import { serialSchema } from '#shared/schemas/serial';
+import { unitRecordSchema } from '#shared/schemas/unit-record';
 import { exportUnitRecordPdf, exportUnitRecordZip } from './unit-record.export';
 import { unitRecord } from './unit-record.service';
 

@@ -1,4 +1,4 @@
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { auditOfSubjects } from '../audit/audit.repository';
 import { calibrationViews } from '../read-models/calibration-views';
 import { measurementsOfUnit } from '../measurements/measurements.repository';
@@ -10,18 +10,18 @@ import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import { findUnitBySerial, unitView } from '../units/units.service';
 import { unitErrors } from '../units/units.errors';
 import { displayNamesByIds } from '../users/users.repository';
-import { checkName } from '../../../shared/calibration/check-guide';
-import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '../../../shared/recipe/recipe-fields';
-import type { CalibrationView } from '../../../shared/schemas/calibrations';
-import { investigationReference } from '../../../shared/schemas/quality';
+import { checkName } from '#shared/calibration/check-guide';
+import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '#shared/recipe/recipe-fields';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import { investigationReference } from '#shared/schemas/quality';
 import type {
   MeasurementFile,
   RecordRecipe,
   TimelineEntry,
   TimelineKind,
   UnitRecord,
-} from '../../../shared/schemas/unit-record';
-import { formatOffsetDeg } from '../../../shared/wording';
+} from '#shared/schemas/unit-record';
+import { formatOffsetDeg } from '#shared/wording';
 import { holdsOfUnit, investigationsOfUnit } from './unit-record.repository';
 
 // A unit's whole record, read through each owning module's functions (three rounds of parallel queries:

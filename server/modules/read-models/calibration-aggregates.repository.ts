@@ -1,10 +1,10 @@
 import { and, sql, type SQL } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
-import type { AnalysisFilter, CompareBy } from '../../../shared/schemas/analysis';
+import type { AnalysisFilter, CompareBy } from '#shared/schemas/analysis';
 import { calibrations } from '../calibrations/calibrations.table';
 import { measurements } from '../measurements/measurements.table';
 import { conditions, figureSql } from './calibration-figures.repository';

@@ -3,12 +3,12 @@
 import { and, asc, desc, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
 import { PgDialect } from 'drizzle-orm/pg-core';
 import pg from 'pg';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
-import type { AnalysisFigure, AnalysisFilter } from '../../../shared/schemas/analysis';
+import type { AnalysisFigure, AnalysisFilter } from '#shared/schemas/analysis';
 import { calibrations, programmingConfirmations } from '../calibrations/calibrations.table';
 import { measurements } from '../measurements/measurements.table';
 

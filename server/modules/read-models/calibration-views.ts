@@ -1,7 +1,7 @@
 import { and, desc, eq, inArray, sql, type SQL } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
-import type { CalibrationView } from '../../../shared/schemas/calibrations';
-import type { CalibrationResult } from '../../../shared/schemas/calibration-result';
+import type { DbOrTx } from '#server/db/client';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import type { CalibrationResult } from '#shared/schemas/calibration-result';
 import { calibrations } from '../calibrations/calibrations.table';
 import { nextActionFor } from '../calibrations/next-action';
 import { measurements } from '../measurements/measurements.table';

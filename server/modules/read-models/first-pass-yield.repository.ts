@@ -1,5 +1,5 @@
 import { and, eq, sql } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { calibrations } from '../calibrations/calibrations.table';
 import { units } from '../units/units.table';
 

@@ -1,5 +1,5 @@
 import { eq, sql } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { calibrations, programmingConfirmations } from '../calibrations/calibrations.table';
 import { measurements } from '../measurements/measurements.table';
 import { models, recipes } from '../recipes/recipes.table';

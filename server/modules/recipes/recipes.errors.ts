@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 export const recipeErrors = {
   modelNotFound: () => new AppError(404, 'recipes.model_not_found', 'No such model.'),

@@ -1,10 +1,10 @@
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '../../../tests/harness/test-app';
-import { createLineFixture } from '../../../tests/harness/line-fixtures';
-import { simulatedMeasurement } from '../../../tests/harness/measurements';
+import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '#tests/harness/test-app';
+import { createLineFixture } from '#tests/harness/line-fixtures';
+import { simulatedMeasurement } from '#tests/harness/measurements';
 import { computeCalibration } from '../measurements/measurements.service';
-import type { RecipeVersionView } from '../../../shared/schemas/recipes';
+import type { RecipeVersionView } from '#shared/schemas/recipes';
 import { approveVersion } from './recipes.service';
 import { recipeDeskContext } from './recipes.routes';
 import { findUserByUsername } from '../users/users.repository';

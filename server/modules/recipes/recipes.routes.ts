@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
-import type { Access } from '../../../shared/schemas/roles';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
+import type { Access } from '#shared/schemas/roles';
 import {
   approveSchema,
   createDraftSchema,
@@ -12,7 +12,7 @@ import {
   startWhatIfSchema,
   submitDraftSchema,
   whatIfFiltersSchema,
-} from '../../../shared/schemas/recipes';
+} from '#shared/schemas/recipes';
 import { cancelWhatIf, getWhatIf, listWhatIfs, startWhatIf } from './what-if.service';
 import {
   approveVersion,

@@ -1,23 +1,23 @@
 // Over ~350 lines on purpose: the life of a recipe version (draft → review → released → retired, discard)
 // with its audit and mail is one set of rules; the queries are in recipes.repository.ts.
-import type { Db } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
-import type { Logger } from '../../lib/logger';
+import type { Db } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
+import type { Logger } from '#server/lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit } from '../audit/audit.repository';
 import { listUsers } from '../users/users.repository';
 import { countUnitsByModel } from '../units/units.service';
 import { listStationsAllowingModels } from '../stations/stations.service';
 import { firstPassYieldByModel } from '../read-models/first-pass-yield.repository';
-import { recipeSchema, type Recipe } from '../../../shared/schemas/recipe';
-import { diffRecipes, hallLayoutLabel, type RecipeFieldChange } from '../../../shared/recipe/recipe-fields';
+import { recipeSchema, type Recipe } from '#shared/schemas/recipe';
+import { diffRecipes, hallLayoutLabel, type RecipeFieldChange } from '#shared/recipe/recipe-fields';
 import type {
   ModelDetailView,
   ModelInput,
   ModelSummaryView,
   PersonRef,
   RecipeVersionView,
-} from '../../../shared/schemas/recipes';
+} from '#shared/schemas/recipes';
 import { recipeErrors } from './recipes.errors';
 import * as repo from './recipes.repository';
 import type { ModelRecord, RecipeRecord } from './recipes.table';

@@ -12,11 +12,11 @@ import {
   uuid,
   type AnyPgColumn,
 } from 'drizzle-orm/pg-core';
-import type { Recipe } from '../../../shared/schemas/recipe';
-import type { RecipeFieldChange } from '../../../shared/recipe/recipe-fields';
-import type { WhatIfFilters, WhatIfSummary } from '../../../shared/schemas/recipes';
+import type { Recipe } from '#shared/schemas/recipe';
+import type { RecipeFieldChange } from '#shared/recipe/recipe-fields';
+import type { WhatIfFilters, WhatIfSummary } from '#shared/schemas/recipes';
 import { users } from '../users/users.table';
-import { RECIPE_STATUSES, WHAT_IF_STATUSES } from '../../../shared/schemas/recipes';
+import { RECIPE_STATUSES, WHAT_IF_STATUSES } from '#shared/schemas/recipes';
 
 /** A motor model built on the line. `activeRecipeId` is the released recipe version stations use now. */
 export const models = pgTable(

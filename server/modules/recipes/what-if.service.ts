@@ -1,12 +1,12 @@
 // Over ~350 lines on purpose: one run's life (start, cancel, the cursor-driven replay, its summary and
 // lot groups) reads as one story; the queries are in recipes.repository.ts and measurements.repository.ts.
 import type pg from 'pg';
-import { withTransaction } from '../../db/transaction';
-import type { Db } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
-import type { JobQueue } from '../../../jobs/queue-client';
-import { ENGINE_VERSION } from '../../../shared/calibration';
-import type { CheckCode } from '../../../shared/schemas/calibration-result';
+import { withTransaction } from '#server/db/transaction';
+import type { Db } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
+import type { JobQueue } from '#jobs/queue-client';
+import { ENGINE_VERSION } from '#shared/calibration';
+import type { CheckCode } from '#shared/schemas/calibration-result';
 import {
   COMPONENT_LOT_LABELS,
   type ComponentLotKind,
@@ -17,11 +17,11 @@ import {
   type WhatIfProgress,
   type WhatIfRunView,
   type WhatIfSummary,
-} from '../../../shared/schemas/recipes';
+} from '#shared/schemas/recipes';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import { runEngine } from '../measurements/measurements.service';
 import { openReplayStream, replayMeasurement, type ReplayRow } from '../measurements/measurements.repository';
-import type { Measurement } from '../../../shared/schemas/measurement';
+import type { Measurement } from '#shared/schemas/measurement';
 import { listUsers } from '../users/users.repository';
 import { componentLotsByIds, type ComponentLots } from '../units/units.service';
 import { recipeErrors } from './recipes.errors';

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
-import { calibrationViewSchema } from '../../../shared/schemas/calibrations';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
+import { calibrationViewSchema } from '#shared/schemas/calibrations';
 import {
   createStationKeySchema,
   createStationSchema,
@@ -9,7 +9,7 @@ import {
   stationKeyCreatedSchema,
   stationViewSchema,
   updateStationSchema,
-} from '../../../shared/schemas/stations';
+} from '#shared/schemas/stations';
 import { calibrationViews } from '../read-models/calibration-views';
 import {
   attendStation,

@@ -1,14 +1,14 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
 import type { z } from 'zod';
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser, StationPrincipal } from '../../lib/auth';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser, StationPrincipal } from '#server/lib/auth';
 import { stationErrors } from './stations.errors';
 import { insertAudit } from '../audit/audit.repository';
 import { existingModelIds, listModelRows } from '../recipes/recipes.repository';
 import { displayNamesByIds } from '../users/users.repository';
-import type { StationView } from '../../../shared/schemas/stations';
-import { createStationSchema, updateStationSchema } from '../../../shared/schemas/stations';
+import type { StationView } from '#shared/schemas/stations';
+import { createStationSchema, updateStationSchema } from '#shared/schemas/stations';
 import { stationKeys, stations, type StationRecord } from './stations.table';
 
 export const STATION_KEY_PREFIX = 'pwsk_';

@@ -1,5 +1,5 @@
 import type { Readable } from 'node:stream';
-import type { Env } from '../../env';
+import type { Env } from '#server/env';
 import {
   CreateBucketCommand,
   DeleteObjectCommand,

@@ -30,8 +30,8 @@ import {
   type Doc,
   type Face,
 } from './traveler.page';
-import { checkName } from '../../../shared/calibration/check-guide';
-import { formatOffsetDeg, SAFETY_CAUTIONS, SAFETY_TITLE } from '../../../shared/wording';
+import { checkName } from '#shared/calibration/check-guide';
+import { formatOffsetDeg, SAFETY_CAUTIONS, SAFETY_TITLE } from '#shared/wording';
 
 // The traveler's page layout: one section after another, top to bottom, then the footers.
 

@@ -4,7 +4,7 @@ import {
   formatCheckLimit as limitText,
   formatCheckValue as valueText,
   plainNumber,
-} from '../../../shared/calibration/check-guide';
+} from '#shared/calibration/check-guide';
 
 // The traveler's drawing kit: number and time formats, the Page (text lines, fields, rules, headings,
 // page breaks) and the state marks. The sections themselves are in traveler.layout.ts.

@@ -10,10 +10,10 @@ import { PDFParse } from 'pdf-parse';
 import { PNG } from 'pngjs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { formatTravelerCode, parseTravelerCode, renderTravelerPdf, SAFETY_CAUTIONS } from './traveler.render';
-import { checkName, formatCheckLimit } from '../../../shared/calibration/check-guide';
-import { calibrate } from '../../../shared/calibration/engine';
-import { createRng, exampleRecipe, simulateMeasurement } from '../../../shared/simulation';
-import type { SimulationSpec } from '../../../shared/simulation/simulate';
+import { checkName, formatCheckLimit } from '#shared/calibration/check-guide';
+import { calibrate } from '#shared/calibration/engine';
+import { createRng, exampleRecipe, simulateMeasurement } from '#shared/simulation';
+import type { SimulationSpec } from '#shared/simulation/simulate';
 import type { TravelerDataInput } from './traveler.types';
 import { TravelerDataError, parseTravelerData } from './traveler.types';
 

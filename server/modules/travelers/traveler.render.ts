@@ -6,7 +6,7 @@ import { formatTravelerCode } from './traveler.code';
 import { code128Symbol, dataMatrixSymbol } from './traveler.barcodes';
 import { drawTraveler } from './traveler.layout';
 import { dispositionOf, MARGIN } from './traveler.page';
-import { SAFETY_CAUTIONS } from '../../../shared/wording';
+import { SAFETY_CAUTIONS } from '#shared/wording';
 
 export { SAFETY_CAUTIONS };
 export { formatTravelerCode, parseTravelerCode } from './traveler.code';

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { serialSchema } from '../../../shared/schemas/serial';
+import { serialSchema } from '#shared/schemas/serial';
 
 // Everything the unit traveler prints, and nothing else. Self-contained on purpose: the job that renders
 // a traveler maps the committed calibration, the unit and the station into this shape, so the renderer

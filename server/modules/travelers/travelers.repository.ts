@@ -1,5 +1,5 @@
 import { and, eq } from 'drizzle-orm';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { travelers } from './travelers.table';
 
 /** A unit's traveler documents (without their PDF bytes), oldest first. */

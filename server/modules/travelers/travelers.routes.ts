@@ -1,15 +1,15 @@
 import type { Response } from 'express';
 import { z } from 'zod';
-import { serialSchema } from '../../../shared/schemas/serial';
-import type { AppDeps } from '../../deps';
-import { errors } from '../../lib/errors';
-import { defineRoute, sendPdf } from '../../lib/http';
+import { serialSchema } from '#shared/schemas/serial';
+import type { AppDeps } from '#server/deps';
+import { errors } from '#server/lib/errors';
+import { defineRoute, sendPdf } from '#server/lib/http';
 import { stationMeasuredUnit } from '../calibrations/calibrations.repository';
 import { findUnitBySerial } from '../units/units.service';
 import { unitErrors } from '../units/units.errors';
 import { currentTraveler, printTraveler } from './travelers.service';
 import { travelerErrors } from './travelers.errors';
-import { pageSizeSchema } from '../../../shared/schemas/travelers';
+import { pageSizeSchema } from '#shared/schemas/travelers';
 import { travelerDocOfUnit } from './travelers.repository';
 import type { TravelerRecord } from './travelers.table';
 

@@ -2,7 +2,7 @@ import { customType, index, integer, pgEnum, pgTable, text, timestamp, uuid } fr
 import { calibrations } from '../calibrations/calibrations.table';
 import { units } from '../units/units.table';
 import { users } from '../users/users.table';
-import { PAGE_SIZES } from '../../../shared/schemas/travelers';
+import { PAGE_SIZES } from '#shared/schemas/travelers';
 
 const bytea = customType<{ data: Buffer; driverData: Buffer }>({
   dataType: () => 'bytea',

@@ -1,6 +1,6 @@
 import { and, eq, gte, inArray, lte, or, sql, type SQL } from 'drizzle-orm';
-import type { Db, DbOrTx } from '../../db/client';
-import type { UnitSearchFilter, UnitSearchQuery } from '../../../shared/schemas/quality';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { UnitSearchFilter, UnitSearchQuery } from '#shared/schemas/quality';
 import type { AnyPgColumn } from 'drizzle-orm/pg-core';
 import { units, type UnitRecord } from './units.table';
 

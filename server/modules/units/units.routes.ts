@@ -1,11 +1,11 @@
 import multer from 'multer';
 import { z } from 'zod';
-import { serialSchema } from '../../../shared/schemas/serial';
-import type { AppDeps } from '../../deps';
+import { serialSchema } from '#shared/schemas/serial';
+import type { AppDeps } from '#server/deps';
 import { unitErrors } from './units.errors';
-import { defineRoute } from '../../lib/http';
-import { importReportSchema } from '../../../shared/schemas/work-orders';
-import { registerUnitSchema, unitDetailSchema, unitViewSchema } from '../../../shared/schemas/units';
+import { defineRoute } from '#server/lib/http';
+import { importReportSchema } from '#shared/schemas/work-orders';
+import { registerUnitSchema, unitDetailSchema, unitViewSchema } from '#shared/schemas/units';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });

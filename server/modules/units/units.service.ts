@@ -1,7 +1,7 @@
 import Papa from 'papaparse';
 import { inArray, sql } from 'drizzle-orm';
-import type { Db, DbOrTx } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
+import type { Db, DbOrTx } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
 import { unitErrors } from './units.errors';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelRow, findModelWithActiveRecipe, listModelRows } from '../recipes/recipes.repository';
@@ -12,11 +12,11 @@ import {
   type RegisterUnit,
   type UnitDetail,
   type UnitView,
-} from '../../../shared/schemas/units';
-import { serialSchema } from '../../../shared/schemas/serial';
-import { type ImportReport, WORK_ORDER_COLUMNS } from '../../../shared/schemas/work-orders';
+} from '#shared/schemas/units';
+import { serialSchema } from '#shared/schemas/serial';
+import { type ImportReport, WORK_ORDER_COLUMNS } from '#shared/schemas/work-orders';
 import { units, type UnitRecord } from './units.table';
-import { normaliseSerial } from '../../../shared/schemas/serial';
+import { normaliseSerial } from '#shared/schemas/serial';
 
 export async function findUnitBySerial(db: DbOrTx, serial: string): Promise<UnitRecord | undefined> {
   const [row] = await db

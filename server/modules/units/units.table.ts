@@ -12,7 +12,7 @@ import {
   uuid,
 } from 'drizzle-orm/pg-core';
 import { models } from '../recipes/recipes.table';
-import { UNIT_STATUSES } from '../../../shared/schemas/units';
+import { UNIT_STATUSES } from '#shared/schemas/units';
 
 export const unitStatusEnum = pgEnum('unit_status', UNIT_STATUSES);
 

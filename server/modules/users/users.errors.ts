@@ -1,4 +1,4 @@
-import { AppError } from '../../lib/errors';
+import { AppError } from '#server/lib/errors';
 
 export const userErrors = {
   notFound: () => new AppError(404, 'users.not_found', 'No such account.'),

@@ -1,6 +1,6 @@
 import { asc, eq, inArray, sql } from 'drizzle-orm';
 import type { PgUpdateSetSource } from 'drizzle-orm/pg-core';
-import type { DbOrTx } from '../../db/client';
+import type { DbOrTx } from '#server/db/client';
 import { users, type UserRecord } from './users.table';
 
 export async function findUserById(db: DbOrTx, id: string): Promise<UserRecord | undefined> {

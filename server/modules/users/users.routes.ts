@@ -1,14 +1,14 @@
 import type { Request } from 'express';
-import type { SessionUser } from '../../lib/auth';
+import type { SessionUser } from '#server/lib/auth';
 import { z } from 'zod';
-import type { AppDeps } from '../../deps';
-import { defineRoute } from '../../lib/http';
+import type { AppDeps } from '#server/deps';
+import { defineRoute } from '#server/lib/http';
 import {
   createUserSchema,
   updateUserSchema,
   userListResponseSchema,
   userResponseSchema,
-} from '../../../shared/schemas/users';
+} from '#shared/schemas/users';
 import {
   createAccount,
   listAccounts,

@@ -1,9 +1,9 @@
 import { and, eq, ne, sql } from 'drizzle-orm';
-import type { Db } from '../../db/client';
-import type { SessionUser } from '../../lib/auth';
+import type { Db } from '#server/db/client';
+import type { SessionUser } from '#server/lib/auth';
 import type { Mailer } from '../mail/mail.service';
-import type { UserRow } from '../../../shared/schemas/users';
-import { createUserSchema, updateUserSchema } from '../../../shared/schemas/users';
+import type { UserRow } from '#shared/schemas/users';
+import { createUserSchema, updateUserSchema } from '#shared/schemas/users';
 import type { z } from 'zod';
 import { insertAudit } from '../audit/audit.repository';
 import { INVITE_TTL_HOURS, hashSecret, issueLinkToken, requestPasswordReset } from '../auth/auth.service';

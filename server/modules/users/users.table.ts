@@ -1,6 +1,6 @@
 import { sql } from 'drizzle-orm';
 import { boolean, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from 'drizzle-orm/pg-core';
-import { ROLES } from '../../../shared/schemas/roles';
+import { ROLES } from '#shared/schemas/roles';
 
 export const roleEnum = pgEnum('role', ROLES);
 

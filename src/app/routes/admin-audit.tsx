@@ -1,5 +1,5 @@
-import { PageHeader } from '../../components/ui/panel';
-import { AuditLog } from '../../features/audit/components/audit-log';
+import { PageHeader } from '#src/components/ui/panel';
+import { AuditLog } from '#src/features/audit/components/audit-log';
 
 export function Component() {
   return (

@@ -1,5 +1,5 @@
-import { PageHeader } from '../../components/ui/panel';
-import { FailedJobs } from '../../features/job-queue/components/failed-jobs';
+import { PageHeader } from '#src/components/ui/panel';
+import { FailedJobs } from '#src/features/job-queue/components/failed-jobs';
 
 export function Component() {
   return (

@@ -1,5 +1,5 @@
-import { PageHeader } from '../../components/ui/panel';
-import { OutboxView } from '../../features/outbox/components/outbox-view';
+import { PageHeader } from '#src/components/ui/panel';
+import { OutboxView } from '#src/features/outbox/components/outbox-view';
 
 export function Component() {
   return (

@@ -1,6 +1,6 @@
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { PeopleAdmin } from '../../features/users/components/people-admin';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { PeopleAdmin } from '#src/features/users/components/people-admin';
 
 export function Component() {
   const { data: me } = useMe();

@@ -1,5 +1,5 @@
-import { PageHeader } from '../../components/ui/panel';
-import { StationsAdmin } from '../../features/stations/components/stations-admin';
+import { PageHeader } from '#src/components/ui/panel';
+import { StationsAdmin } from '#src/features/stations/components/stations-admin';
 
 export function Component() {
   return (

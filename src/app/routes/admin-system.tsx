@@ -1,5 +1,5 @@
-import { PageHeader, Panel } from '../../components/ui/panel';
-import { HealthDetails } from '../../features/system/components/health-view';
+import { PageHeader, Panel } from '#src/components/ui/panel';
+import { HealthDetails } from '#src/features/system/components/health-view';
 
 export function Component() {
   return (

@@ -1,9 +1,9 @@
 import { useSearchParams } from 'react-router';
-import { PageHeader } from '../../components/ui/panel';
-import { AnalysisWorkspace } from '../../features/analysis/components/analysis-workspace';
-import { StationBiasSection } from '../../features/qualification/components/station-bias';
-import { WatchedCharts } from '../../features/alerts/components/watched-charts';
-import { useMe } from '../../features/auth/api/me';
+import { PageHeader } from '#src/components/ui/panel';
+import { AnalysisWorkspace } from '#src/features/analysis/components/analysis-workspace';
+import { StationBiasSection } from '#src/features/qualification/components/station-bias';
+import { WatchedCharts } from '#src/features/alerts/components/watched-charts';
+import { useMe } from '#src/features/auth/api/me';
 
 export function Component() {
   const [params] = useSearchParams();

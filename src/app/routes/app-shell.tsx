@@ -7,12 +7,12 @@ import {
   useNavigation,
   type LoaderFunctionArgs,
 } from 'react-router';
-import { ROLE_LABELS, roleAllows } from '../../../shared/schemas/roles';
-import { BrandMark, BrandName } from '../../components/ui/brand-mark';
-import { Button } from '../../components/ui/button';
-import { meQueryOptions, useMe } from '../../features/auth/api/me';
-import { useSignOut } from '../../features/auth/api/sign-in';
-import { queryClient } from '../../lib/query-client';
+import { ROLE_LABELS, roleAllows } from '#shared/schemas/roles';
+import { BrandMark, BrandName } from '#src/components/ui/brand-mark';
+import { Button } from '#src/components/ui/button';
+import { meQueryOptions, useMe } from '#src/features/auth/api/me';
+import { useSignOut } from '#src/features/auth/api/sign-in';
+import { queryClient } from '#src/lib/query-client';
 import { NAV_ITEMS } from '../navigation';
 
 /** The shell needs a session: without one, go to sign-in and come back here afterwards. */

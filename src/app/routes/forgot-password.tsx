@@ -1,5 +1,5 @@
 import { Link } from 'react-router';
-import { ForgotPasswordForm } from '../../features/auth/components/forgot-password-form';
+import { ForgotPasswordForm } from '#src/features/auth/components/forgot-password-form';
 import { AuthLayout } from '../auth-layout';
 
 export function Component() {

@@ -1,9 +1,9 @@
 import { Link } from 'react-router';
-import { Alert, Loading } from '../../components/ui/alert';
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { useStations } from '../../features/stations/api/stations';
-import { GaugeStudies } from '../../features/qualification/components/gauge-studies';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { useStations } from '#src/features/stations/api/stations';
+import { GaugeStudies } from '#src/features/qualification/components/gauge-studies';
 
 export function Component() {
   const stations = useStations();

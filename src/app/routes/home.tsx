@@ -1,10 +1,10 @@
 import { Link } from 'react-router';
-import { ROLE_LABELS, roleAllows, type Role } from '../../../shared/schemas/roles';
-import { Panel, PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { UnitSearch } from '../../features/units/components/unit-search';
-import { HealthSummary } from '../../features/system/components/health-view';
-import { AlertSubscriptionToggle, OpenAlerts } from '../../features/alerts/components/open-alerts';
+import { ROLE_LABELS, roleAllows, type Role } from '#shared/schemas/roles';
+import { Panel, PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { UnitSearch } from '#src/features/units/components/unit-search';
+import { HealthSummary } from '#src/features/system/components/health-view';
+import { AlertSubscriptionToggle, OpenAlerts } from '#src/features/alerts/components/open-alerts';
 import { NAV_ITEMS } from '../navigation';
 
 const ROLE_DUTIES: Record<Role, string> = {

@@ -1,4 +1,4 @@
-import { Loading } from '../../components/ui/alert';
+import { Loading } from '#src/components/ui/alert';
 
 export function LoadingScreen() {
   return (

@@ -1,5 +1,5 @@
-import { LinkButton } from '../../components/ui/button';
-import { Panel } from '../../components/ui/panel';
+import { LinkButton } from '#src/components/ui/button';
+import { Panel } from '#src/components/ui/panel';
 
 /** What a signed-in person sees on a screen their role does not open. */
 export function NotAllowed() {

@@ -1,6 +1,6 @@
 import { useLocation } from 'react-router';
-import { LinkButton } from '../../components/ui/button';
-import { Panel } from '../../components/ui/panel';
+import { LinkButton } from '#src/components/ui/button';
+import { Panel } from '#src/components/ui/panel';
 
 export function Component() {
   const { pathname } = useLocation();

@@ -1,7 +1,7 @@
 import { Link } from 'react-router';
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { ShiftsEditor } from '../../features/qualification/components/shifts-editor';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { ShiftsEditor } from '#src/features/qualification/components/shifts-editor';
 
 export function Component() {
   const me = useMe();

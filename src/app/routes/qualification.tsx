@@ -1,9 +1,9 @@
 import { Link } from 'react-router';
-import { Alert, Loading } from '../../components/ui/alert';
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { useStations } from '../../features/stations/api/stations';
-import { QualificationWorkspace } from '../../features/qualification/components/qualification-workspace';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { useStations } from '#src/features/stations/api/stations';
+import { QualificationWorkspace } from '#src/features/qualification/components/qualification-workspace';
 
 export function Component() {
   const stations = useStations();

@@ -1,7 +1,7 @@
 import { Link, useParams } from 'react-router';
-import { PageHeader } from '../../components/ui/panel';
-import { useInvestigation } from '../../features/quality/api/quality';
-import { InvestigationPage } from '../../features/quality/components/investigation-page';
+import { PageHeader } from '#src/components/ui/panel';
+import { useInvestigation } from '#src/features/quality/api/quality';
+import { InvestigationPage } from '#src/features/quality/components/investigation-page';
 
 export function Component() {
   const { id = '' } = useParams();

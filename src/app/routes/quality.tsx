@@ -1,10 +1,10 @@
 import { Link, useSearchParams } from 'react-router';
-import { AuditTrail } from '../../features/audit/components/audit-trail';
-import { useMe } from '../../features/auth/api/me';
-import { PageHeader } from '../../components/ui/panel';
-import { ContainmentSearch } from '../../features/quality/components/containment-search';
-import { HeldUnits } from '../../features/quality/components/held-units';
-import { Investigations } from '../../features/quality/components/investigations';
+import { AuditTrail } from '#src/features/audit/components/audit-trail';
+import { useMe } from '#src/features/auth/api/me';
+import { PageHeader } from '#src/components/ui/panel';
+import { ContainmentSearch } from '#src/features/quality/components/containment-search';
+import { HeldUnits } from '#src/features/quality/components/held-units';
+import { Investigations } from '#src/features/quality/components/investigations';
 
 const VIEWS = [
   { id: 'held', label: 'Held units' },

@@ -1,7 +1,7 @@
 import { useParams } from 'react-router';
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { ModelDetail } from '../../features/recipes/components/model-detail';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { ModelDetail } from '#src/features/recipes/components/model-detail';
 
 export function Component() {
   const { modelId = '' } = useParams();

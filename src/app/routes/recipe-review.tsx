@@ -1,8 +1,8 @@
 import { useParams } from 'react-router';
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { useVersion } from '../../features/recipes/api/recipes';
-import { ReviewScreen } from '../../features/recipes/components/version-page';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { useVersion } from '#src/features/recipes/api/recipes';
+import { ReviewScreen } from '#src/features/recipes/components/version-page';
 
 export function Component() {
   const { recipeId = '' } = useParams();

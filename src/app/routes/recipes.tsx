@@ -1,11 +1,11 @@
 import { useState } from 'react';
 import { useNavigate } from 'react-router';
-import { Button } from '../../components/ui/button';
-import { Dialog } from '../../components/ui/dialog';
-import { PageHeader } from '../../components/ui/panel';
-import { useMe } from '../../features/auth/api/me';
-import { ModelForm } from '../../features/recipes/components/model-form';
-import { ModelsList } from '../../features/recipes/components/models-list';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { PageHeader } from '#src/components/ui/panel';
+import { useMe } from '#src/features/auth/api/me';
+import { ModelForm } from '#src/features/recipes/components/model-form';
+import { ModelsList } from '#src/features/recipes/components/models-list';
 
 export function Component() {
   const { data: me } = useMe();

@@ -1,7 +1,7 @@
 import { isRouteErrorResponse, useRouteError } from 'react-router';
-import { BrandMark, BrandName } from '../../components/ui/brand-mark';
-import { buttonClass } from '../../components/ui/button';
-import { isApiError } from '../../lib/api-client';
+import { BrandMark, BrandName } from '#src/components/ui/brand-mark';
+import { buttonClass } from '#src/components/ui/button';
+import { isApiError } from '#src/lib/api-client';
 
 /** Shown when a screen fails to load or render. Says what happened and offers a way back. */
 export function RouteErrorPage() {

@@ -1,7 +1,7 @@
 import { Link, useSearchParams } from 'react-router';
-import { Alert } from '../../components/ui/alert';
-import { LinkButton } from '../../components/ui/button';
-import { SetPasswordForm } from '../../features/auth/components/set-password-form';
+import { Alert } from '#src/components/ui/alert';
+import { LinkButton } from '#src/components/ui/button';
+import { SetPasswordForm } from '#src/features/auth/components/set-password-form';
 import { AuthLayout } from '../auth-layout';
 
 export function Component() {

@@ -1,9 +1,9 @@
 import { redirect, useNavigate, useSearchParams, type LoaderFunctionArgs } from 'react-router';
-import { Alert } from '../../components/ui/alert';
-import { meQueryOptions } from '../../features/auth/api/me';
-import { SignInForm } from '../../features/auth/components/sign-in-form';
-import type { SignInMode } from '../../features/auth/components/sign-in-messages';
-import { queryClient } from '../../lib/query-client';
+import { Alert } from '#src/components/ui/alert';
+import { meQueryOptions } from '#src/features/auth/api/me';
+import { SignInForm } from '#src/features/auth/components/sign-in-form';
+import type { SignInMode } from '#src/features/auth/components/sign-in-messages';
+import { queryClient } from '#src/lib/query-client';
 import { AuthLayout } from '../auth-layout';
 import { safeNextPath } from '../safe-next';
 

@@ -1,19 +1,19 @@
 import { Navigate, useParams, useSearchParams } from 'react-router';
-import type { StationView } from '../../../shared/schemas/stations';
-import { Alert } from '../../components/ui/alert';
-import { QueryState } from '../../components/ui/query-state';
-import { LinkButton } from '../../components/ui/button';
-import { PageHeader } from '../../components/ui/panel';
-import { useStations } from '../../features/stations/api/stations';
+import type { StationView } from '#shared/schemas/stations';
+import { Alert } from '#src/components/ui/alert';
+import { QueryState } from '#src/components/ui/query-state';
+import { LinkButton } from '#src/components/ui/button';
+import { PageHeader } from '#src/components/ui/panel';
+import { useStations } from '#src/features/stations/api/stations';
 import {
   rememberedStationId,
   rememberStation,
   StationPicker,
-} from '../../features/stations/components/station-picker';
-import { StationScreen } from '../../features/stations/components/station-screen';
-import { OpenAlerts } from '../../features/alerts/components/open-alerts';
-import { QualificationBanner } from '../../features/qualification/components/qualification-banner';
-import { StudyGuide } from '../../features/qualification/components/study-guide';
+} from '#src/features/stations/components/station-picker';
+import { StationScreen } from '#src/features/stations/components/station-screen';
+import { OpenAlerts } from '#src/features/alerts/components/open-alerts';
+import { QualificationBanner } from '#src/features/qualification/components/qualification-banner';
+import { StudyGuide } from '#src/features/qualification/components/study-guide';
 
 /** /station picks the panel's station (or goes to the remembered one); /station/:id runs it. */
 export function Component() {

@@ -1,11 +1,11 @@
 import { useParams } from 'react-router';
-import { PageHeader } from '../../components/ui/panel';
-import { UnitPage } from '../../features/units/components/unit-page';
-import { UnitSearch } from '../../features/units/components/unit-search';
-import { useMe } from '../../features/auth/api/me';
-import { RecomputePanel } from '../../features/recipes/components/recompute-panel';
-import { RawTimings } from '../../features/quality/components/raw-timings';
-import { UnitTimeline } from '../../features/quality/components/unit-timeline';
+import { PageHeader } from '#src/components/ui/panel';
+import { UnitPage } from '#src/features/units/components/unit-page';
+import { UnitSearch } from '#src/features/units/components/unit-search';
+import { useMe } from '#src/features/auth/api/me';
+import { RecomputePanel } from '#src/features/recipes/components/recompute-panel';
+import { RawTimings } from '#src/features/quality/components/raw-timings';
+import { UnitTimeline } from '#src/features/quality/components/unit-timeline';
 
 export function Component() {
   const { serial = '' } = useParams();

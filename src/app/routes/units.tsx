@@ -1,5 +1,5 @@
-import { PageHeader, Panel } from '../../components/ui/panel';
-import { UnitSearch } from '../../features/units/components/unit-search';
+import { PageHeader, Panel } from '#src/components/ui/panel';
+import { UnitSearch } from '#src/features/units/components/unit-search';
 
 export function Component() {
   return (

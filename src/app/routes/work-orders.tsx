@@ -1,5 +1,5 @@
-import { PageHeader } from '../../components/ui/panel';
-import { WorkOrderImport } from '../../features/work-orders/components/work-order-import';
+import { PageHeader } from '#src/components/ui/panel';
+import { WorkOrderImport } from '#src/features/work-orders/components/work-order-import';
 
 export function Component() {
   return (

@@ -1,6 +1,6 @@
 /** How calibrations read on screen: verdicts, counts, failed checks, programming. Offsets: shared/wording. */
-import type { CalibrationView } from '../../../shared/schemas/calibrations';
-import { checkName } from '../../../shared/calibration/check-guide';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import { checkName } from '#shared/calibration/check-guide';
 import type { Tone } from '../ui/status-chip';
 
 export type Verdict = CalibrationView['verdict'];

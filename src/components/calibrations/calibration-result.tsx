@@ -1,11 +1,11 @@
-import { formatCheckLimit, formatCheckValue } from '../../../shared/calibration/check-guide';
-import type { CalibrationView } from '../../../shared/schemas/calibrations';
-import type { ModelView } from '../../../shared/schemas/models';
+import { formatCheckLimit, formatCheckValue } from '#shared/calibration/check-guide';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import type { ModelView } from '#shared/schemas/models';
 import { StatusChip } from '../ui/status-chip';
-import { formatDateTime } from '../../lib/format';
+import { formatDateTime } from '#src/lib/format';
 import { HallPolar } from './hall-polar';
 import { PROGRAMMING_LABELS, PROGRAMMING_TONES, failedChecks, formatCounts } from './calibration-format';
-import { formatOffsetDeg } from '../../../shared/wording';
+import { formatOffsetDeg } from '#shared/wording';
 import { VerdictBanner, VerdictMark } from './verdict-banner';
 
 type CalibrationResultProps = {

@@ -1,7 +1,7 @@
-import type { EdgeTypeResult } from '../../../shared/schemas/calibration-result';
-import type { Recipe } from '../../../shared/schemas/recipe';
-import { nominalEdgeDeg } from '../../../shared/calibration/hall-layout';
-import { formatSignedDeg } from '../../../shared/wording';
+import type { EdgeTypeResult } from '#shared/schemas/calibration-result';
+import type { Recipe } from '#shared/schemas/recipe';
+import { nominalEdgeDeg } from '#shared/calibration/hall-layout';
+import { formatSignedDeg } from '#shared/wording';
 
 const PHASE_COLOURS = { A: 'var(--color-phase-a)', B: 'var(--color-phase-b)', C: 'var(--color-phase-c)' };
 const SIZE = 300;

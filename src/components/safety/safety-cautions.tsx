@@ -1,4 +1,4 @@
-import { SAFETY_CAUTIONS, SAFETY_TITLE } from '../../../shared/wording';
+import { SAFETY_CAUTIONS, SAFETY_TITLE } from '#shared/wording';
 
 /** The cautions for back-driven motors (the same words as on the traveler): always on screen, never in the way. */
 export function SafetyCautions() {

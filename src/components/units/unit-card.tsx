@@ -1,8 +1,8 @@
-import type { UnitView } from '../../../shared/schemas/units';
+import type { UnitView } from '#shared/schemas/units';
 import { StatusChip } from '../ui/status-chip';
 import { UNIT_STATUS_LABELS, UNIT_STATUS_TONES } from './unit-status';
 import { formatCounts } from '../calibrations/calibration-format';
-import { formatOffsetDeg } from '../../../shared/wording';
+import { formatOffsetDeg } from '#shared/wording';
 
 /** Attempts as dots: filled ones used, hollow ones left; the numbers say the same in words. */
 function AttemptDots({ used, max }: { used: number; max: number | null }) {

@@ -1,4 +1,4 @@
-import type { UnitStatus } from '../../../shared/schemas/units';
+import type { UnitStatus } from '#shared/schemas/units';
 import type { Tone } from '../ui/status-chip';
 
 /** A unit's status in words and tone, the same on every screen. */

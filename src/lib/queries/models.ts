@@ -1,5 +1,5 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { ModelView } from '../../../shared/schemas/models';
+import type { ModelView } from '#shared/schemas/models';
 import { apiRequest } from '../api-client';
 
 /** Models as the line reads them (code, pole pairs, recipe in force), read by several features. */

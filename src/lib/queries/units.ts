@@ -1,7 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import { normaliseSerial } from '../../../shared/schemas/serial';
-import type { PageSize } from '../../../shared/schemas/travelers';
-import type { RegisterUnit, UnitDetail, UnitView } from '../../../shared/schemas/units';
+import { normaliseSerial } from '#shared/schemas/serial';
+import type { PageSize } from '#shared/schemas/travelers';
+import type { RegisterUnit, UnitDetail, UnitView } from '#shared/schemas/units';
 import { apiRequest, isApiError } from '../api-client';
 
 /**

@@ -1,10 +1,10 @@
 import type pg from 'pg';
-import { namedStatement } from '../../../db/statement';
-import { prepared } from '../../../db/prepared';
-import { jobInsertSql } from '../../../../jobs/queue-client';
-import type { Measurement } from '../../../../shared/schemas/measurement';
-import type { CalibrationRecord } from '../../calibrations/calibrations.table';
-import type { UnitRecord } from '../../units/units.table';
+import { namedStatement } from '#server/db/statement';
+import { prepared } from '#server/db/prepared';
+import { jobInsertSql } from '#jobs/queue-client';
+import type { Measurement } from '#shared/schemas/measurement';
+import type { CalibrationRecord } from '#server/modules/calibrations/calibrations.table';
+import type { UnitRecord } from '#server/modules/units/units.table';
 
 /**
  * The computation's statements. Each does several things in one round trip on purpose (a round trip

@@ -1,10 +1,10 @@
-import { ENGINE_VERSION } from '../../../../shared/calibration';
-import { JOBS_WAKE_CHANNEL, queues, travelerRenderPriority } from '../../../../jobs/queues';
-import { withTransaction } from '../../../db/transaction';
-import { EVENTS_CHANNEL } from '../../events/event-hub';
-import { releasedRecipe } from '../../recipes/recipes.repository';
-import { nextUnitState, placeAutomaticHold } from '../../quality/quality.service';
-import { calibrationOfKey } from '../../calibrations/calibrations.repository';
+import { ENGINE_VERSION } from '#shared/calibration';
+import { JOBS_WAKE_CHANNEL, queues, travelerRenderPriority } from '#jobs/queues';
+import { withTransaction } from '#server/db/transaction';
+import { EVENTS_CHANNEL } from '#server/modules/events/event-hub';
+import { releasedRecipe } from '#server/modules/recipes/recipes.repository';
+import { nextUnitState, placeAutomaticHold } from '#server/modules/quality/quality.service';
+import { calibrationOfKey } from '#server/modules/calibrations/calibrations.repository';
 import type { MeasurementsContext } from '../measurements.context';
 import { recomputeCalibration, type RecomputeRequest } from '../recompute/recompute.service';
 import { claimMeasurement, commitStationCalibration, lockUnitForCalibration } from './compute.repository';

@@ -1,9 +1,9 @@
-import { calibrate, CalibrationInputError } from '../../../../shared/calibration';
-import { calibrateCapture } from '../../../../shared/capture/capture';
-import type { CalibrationResult } from '../../../../shared/schemas/calibration-result';
-import type { Measurement } from '../../../../shared/schemas/measurement';
-import type { CalibrationRecord } from '../../calibrations/calibrations.table';
-import type { RecipeRecord } from '../../recipes/recipes.table';
+import { calibrate, CalibrationInputError } from '#shared/calibration';
+import { calibrateCapture } from '#shared/capture/capture';
+import type { CalibrationResult } from '#shared/schemas/calibration-result';
+import type { Measurement } from '#shared/schemas/measurement';
+import type { CalibrationRecord } from '#server/modules/calibrations/calibrations.table';
+import type { RecipeRecord } from '#server/modules/recipes/recipes.table';
 
 /**
  * Runs the engine on a stored measurement: a capture is recomputed from its CSV, posted timings from

@@ -1,7 +1,7 @@
 import type pg from 'pg';
-import { namedStatement } from '../../../db/statement';
-import { jobInsertSql } from '../../../../jobs/queue-client';
-import type { UnitRecord } from '../../units/units.table';
+import { namedStatement } from '#server/db/statement';
+import { jobInsertSql } from '#jobs/queue-client';
+import type { UnitRecord } from '#server/modules/units/units.table';
 
 /**
  * The station intake's statements. They read and write the units, stations and models beside the

@@ -1,5 +1,5 @@
 import type pg from 'pg';
-import { namedStatement } from '../../../db/statement';
+import { namedStatement } from '#server/db/statement';
 
 /**
  * The programming confirmation's statements: the measurement with its newest calibration, and the

@@ -1,10 +1,10 @@
-import type { StationPrincipal } from '../../../lib/auth';
-import { withTransaction } from '../../../db/transaction';
-import type { ProgrammingConfirmation } from '../../../../shared/schemas/calibrations';
-import type { LineEvent } from '../../../../shared/schemas/events';
-import { EVENTS_CHANNEL } from '../../events/event-hub';
-import { mismatchHoldReason, placeAutomaticHold } from '../../quality/quality.service';
-import { calibrationErrors } from '../../calibrations/calibrations.errors';
+import type { StationPrincipal } from '#server/lib/auth';
+import { withTransaction } from '#server/db/transaction';
+import type { ProgrammingConfirmation } from '#shared/schemas/calibrations';
+import type { LineEvent } from '#shared/schemas/events';
+import { EVENTS_CHANNEL } from '#server/modules/events/event-hub';
+import { mismatchHoldReason, placeAutomaticHold } from '#server/modules/quality/quality.service';
+import { calibrationErrors } from '#server/modules/calibrations/calibrations.errors';
 import { measurementErrors } from '../measurements.errors';
 import type { MeasurementsContext } from '../measurements.context';
 import { measurementToConfirm, recordProgramming, type ProgrammingRecord } from './programming.repository';

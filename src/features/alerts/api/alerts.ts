@@ -1,6 +1,6 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { AlertView, WatchedChartSettings, WatchedChartView } from '../../../../shared/schemas/alerts';
-import { apiRequest } from '../../../lib/api-client';
+import type { AlertView, WatchedChartSettings, WatchedChartView } from '#shared/schemas/alerts';
+import { apiRequest } from '#src/lib/api-client';
 
 /** Query keys of the chart alerts; nobody writes these inline. */
 export const alertKeys = {

@@ -1,9 +1,9 @@
 import { useState } from 'react';
 import { Link } from 'react-router';
-import type { AlertView } from '../../../../shared/schemas/alerts';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { CheckboxField, TextAreaField } from '../../../components/ui/field';
+import type { AlertView } from '#shared/schemas/alerts';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { CheckboxField, TextAreaField } from '#src/components/ui/field';
 import {
   useAcknowledgeAlert,
   useAlertSubscription,

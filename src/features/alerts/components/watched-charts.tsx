@@ -1,9 +1,9 @@
 import { useState } from 'react';
-import { RULE_SET_SIZE, type WatchedChartView } from '../../../../shared/schemas/alerts';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { CheckboxField, SelectField, TextField } from '../../../components/ui/field';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { RULE_SET_SIZE, type WatchedChartView } from '#shared/schemas/alerts';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { CheckboxField, SelectField, TextField } from '#src/components/ui/field';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { useSetWatchedChart, useWatchedCharts } from '../api/alerts';
 
 const KINDS = {

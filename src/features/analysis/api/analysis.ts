@@ -7,8 +7,8 @@ import type {
   LimitHistory,
   LimitSetView,
   LineHealthView,
-} from '../../../../shared/schemas/analysis';
-import { apiRequest } from '../../../lib/api-client';
+} from '#shared/schemas/analysis';
+import { apiRequest } from '#src/lib/api-client';
 import { analysisKeys } from './analysis-keys';
 
 export type AnalysisModel = { id: string; code: string; name: string };

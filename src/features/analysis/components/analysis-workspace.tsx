@@ -1,8 +1,8 @@
 import type { ReactNode } from 'react';
 import { Link, useSearchParams } from 'react-router';
-import { ANALYSIS_FIGURES, type AnalysisFigure } from '../../../../shared/schemas/analysis';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Panel } from '../../../components/ui/panel';
+import { ANALYSIS_FIGURES, type AnalysisFigure } from '#shared/schemas/analysis';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Panel } from '#src/components/ui/panel';
 import { useAnalysisView } from '../api/analysis';
 import { apiQuery, WORKSPACE_VIEWS, type WorkspaceView } from '../api/filter-state';
 import { ChartSettings, ControlChartPanel } from './chart-view';

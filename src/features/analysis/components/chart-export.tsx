@@ -1,4 +1,4 @@
-import { buttonClass } from '../../../components/ui/button';
+import { buttonClass } from '#src/components/ui/button';
 
 function download(href: string, name: string) {
   const a = document.createElement('a');

@@ -1,7 +1,7 @@
 import { Link, useSearchParams } from 'react-router';
-import type { ControlChartView as View } from '../../../../shared/schemas/analysis';
-import { SelectField, TextField } from '../../../components/ui/field';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import type { ControlChartView as View } from '#shared/schemas/analysis';
+import { SelectField, TextField } from '#src/components/ui/field';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { ControlChartPlot } from './control-chart-plot';
 import { fmt } from './stat-format';
 

@@ -1,8 +1,8 @@
 import { useSearchParams } from 'react-router';
-import { COMPARE_BY, type ComparisonView as View } from '../../../../shared/schemas/analysis';
-import { Alert } from '../../../components/ui/alert';
-import { SelectField, TextField } from '../../../components/ui/field';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { COMPARE_BY, type ComparisonView as View } from '#shared/schemas/analysis';
+import { Alert } from '#src/components/ui/alert';
+import { SelectField, TextField } from '#src/components/ui/field';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { fmt, fmtP } from './stat-format';
 import { SvgExport } from './chart-export';
 

@@ -1,8 +1,8 @@
-import type { DistributionView as View } from '../../../../shared/schemas/analysis';
-import { normalPdf } from '../../../../shared/statistics';
-import { Alert } from '../../../components/ui/alert';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import type { DistributionView as View } from '#shared/schemas/analysis';
+import { normalPdf } from '#shared/statistics';
+import { Alert } from '#src/components/ui/alert';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { fmt, fmtP, READING_TEXT } from './stat-format';
 import { SvgExport } from './chart-export';
 

@@ -1,9 +1,9 @@
 import { useSearchParams } from 'react-router';
-import { ANALYSIS_FIGURES } from '../../../../shared/schemas/analysis';
-import { SelectField, TextField } from '../../../components/ui/field';
+import { ANALYSIS_FIGURES } from '#shared/schemas/analysis';
+import { SelectField, TextField } from '#src/components/ui/field';
 import { useAnalysisModels, useAnalysisOptions } from '../api/analysis';
 import { RANGE_LABELS } from '../api/filter-state';
-import { plantInstant, plantLocalInput } from '../../../../shared/time/plant-time';
+import { plantInstant, plantLocalInput } from '#shared/time/plant-time';
 import { MultiPick } from './multi-pick';
 
 /** Converts between an ISO instant in the URL and the browser's local date-time input. */

@@ -1,5 +1,5 @@
-import type { LineHealthView as View } from '../../../../shared/schemas/analysis';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import type { LineHealthView as View } from '#shared/schemas/analysis';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { fmt } from './stat-format';
 
 export function LineHealthPanel({ view }: { view: View }) {

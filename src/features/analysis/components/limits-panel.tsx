@@ -1,9 +1,9 @@
 import { useState } from 'react';
 import { useSearchParams } from 'react-router';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextField } from '../../../components/ui/field';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextField } from '#src/components/ui/field';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { useLimitHistory, useSaveLimits } from '../api/analysis';
 import { FILTER_KEYS } from '../api/filter-state';
 import { fmt } from './stat-format';

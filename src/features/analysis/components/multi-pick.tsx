@@ -1,5 +1,5 @@
 import { useId } from 'react';
-import { CheckboxField } from '../../../components/ui/field';
+import { CheckboxField } from '#src/components/ui/field';
 
 /** What the closed picker says: every choice, or the names chosen (a count beyond three). */
 export function pickSummary(chosen: string[], choices: { value: string; label: string }[]): string {

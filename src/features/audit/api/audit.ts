@@ -1,6 +1,6 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { AuditEntry } from '../../../../shared/schemas/audit';
-import { apiRequest } from '../../../lib/api-client';
+import type { AuditEntry } from '#shared/schemas/audit';
+import { apiRequest } from '#src/lib/api-client';
 
 export type AuditFilters = { limit: number };
 

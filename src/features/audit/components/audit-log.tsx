@@ -1,9 +1,9 @@
 import { useMemo, useState } from 'react';
-import type { AuditEntry } from '../../../../shared/schemas/audit';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { SelectField, TextField } from '../../../components/ui/field';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { formatDateTime } from '../../../lib/format';
+import type { AuditEntry } from '#shared/schemas/audit';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { SelectField, TextField } from '#src/components/ui/field';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { formatDateTime } from '#src/lib/format';
 import { useAuditLog } from '../api/audit';
 
 const LIMITS = [50, 200, 1000] as const;

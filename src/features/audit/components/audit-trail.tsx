@@ -1,9 +1,9 @@
 import { useState, type FormEvent } from 'react';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button, buttonClass } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { TextField } from '../../../components/ui/field';
-import { formatDateTime } from '../../../lib/format';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button, buttonClass } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { TextField } from '#src/components/ui/field';
+import { formatDateTime } from '#src/lib/format';
 import { auditTrailParams, useAuditTrail, type AuditTrailFilters } from '../api/audit';
 
 const EMPTY: AuditTrailFilters = { serial: '', person: '', action: '', from: '', to: '' };

@@ -1,6 +1,6 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { Me, MeResponse } from '../../../../shared/schemas/auth';
-import { apiRequest, isApiError } from '../../../lib/api-client';
+import type { Me, MeResponse } from '#shared/schemas/auth';
+import { apiRequest, isApiError } from '#src/lib/api-client';
 import { authKeys } from './auth-keys';
 
 /** Who is signed in, or null when nobody is (401 `auth.required` is an answer here, not an error). */

@@ -1,6 +1,6 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
-import type { MeResponse, SetPassword } from '../../../../shared/schemas/auth';
-import { apiRequest } from '../../../lib/api-client';
+import type { MeResponse, SetPassword } from '#shared/schemas/auth';
+import { apiRequest } from '#src/lib/api-client';
 import { authKeys } from './auth-keys';
 
 /** Always answered 202, known address or not, so nobody can probe for accounts. */

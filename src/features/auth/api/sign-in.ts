@@ -1,6 +1,6 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
-import type { BadgeSignIn, MeResponse, PasswordSignIn } from '../../../../shared/schemas/auth';
-import { apiRequest } from '../../../lib/api-client';
+import type { BadgeSignIn, MeResponse, PasswordSignIn } from '#shared/schemas/auth';
+import { apiRequest } from '#src/lib/api-client';
 import { authKeys } from './auth-keys';
 
 /**

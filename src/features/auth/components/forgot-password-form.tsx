@@ -2,11 +2,11 @@ import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import type { z } from 'zod';
-import { passwordResetRequestSchema } from '../../../../shared/schemas/auth';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextField } from '../../../components/ui/field';
-import { applyServerErrors } from '../../../lib/form-errors';
+import { passwordResetRequestSchema } from '#shared/schemas/auth';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextField } from '#src/components/ui/field';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useRequestPasswordReset } from '../api/password';
 
 type ResetRequest = z.input<typeof passwordResetRequestSchema>;

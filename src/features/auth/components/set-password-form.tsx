@@ -2,12 +2,12 @@ import { useState, type ReactNode } from 'react';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import { z } from 'zod';
-import { passwordSchema } from '../../../../shared/schemas/auth';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextField } from '../../../components/ui/field';
-import { isApiError } from '../../../lib/api-client';
-import { applyServerErrors } from '../../../lib/form-errors';
+import { passwordSchema } from '#shared/schemas/auth';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextField } from '#src/components/ui/field';
+import { isApiError } from '#src/lib/api-client';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useSetPassword } from '../api/password';
 
 // Confirmation is a client-side courtesy; the contract carries only the password.

@@ -8,11 +8,11 @@ import {
   type BadgeSignIn,
   type Me,
   type PasswordSignIn,
-} from '../../../../shared/schemas/auth';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextField } from '../../../components/ui/field';
-import { applyServerErrors } from '../../../lib/form-errors';
+} from '#shared/schemas/auth';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextField } from '#src/components/ui/field';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useBadgeSignIn, usePasswordSignIn } from '../api/sign-in';
 import { signInErrorMessage, type SignInMode } from './sign-in-messages';
 

@@ -1,4 +1,4 @@
-import { isApiError } from '../../../lib/api-client';
+import { isApiError } from '#src/lib/api-client';
 
 export type SignInMode = 'password' | 'badge';
 

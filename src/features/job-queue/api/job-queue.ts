@@ -1,5 +1,5 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import { apiRequest } from '../../../lib/api-client';
+import { apiRequest } from '#src/lib/api-client';
 
 export type FailedJob = {
   id: string;

@@ -1,8 +1,8 @@
 import { useState } from 'react';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { formatDateTime } from '../../../lib/format';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { formatDateTime } from '#src/lib/format';
 import { useFailedJobs, useReplayJob } from '../api/job-queue';
 
 /** Jobs that used up their retries: what they were for, why they failed, and a way to run them again. */

@@ -1,6 +1,6 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { OutboxMessage } from '../../../../shared/schemas/outbox';
-import { apiRequest } from '../../../lib/api-client';
+import type { OutboxMessage } from '#shared/schemas/outbox';
+import { apiRequest } from '#src/lib/api-client';
 
 export const outboxKeys = {
   all: ['outbox'] as const,

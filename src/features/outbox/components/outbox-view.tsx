@@ -1,6 +1,6 @@
 import { useState } from 'react';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { formatDateTime, formatRelative } from '../../../lib/format';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { formatDateTime, formatRelative } from '#src/lib/format';
 import { useOutbox } from '../api/outbox';
 import { LinkifiedText } from './linkified-text';
 

@@ -10,8 +10,8 @@ import type {
   QualificationRunView,
   QualificationState,
   ReferenceUnitView,
-} from '../../../../shared/schemas/qualification';
-import { apiRequest } from '../../../lib/api-client';
+} from '#shared/schemas/qualification';
+import { apiRequest } from '#src/lib/api-client';
 
 const enc = encodeURIComponent;
 

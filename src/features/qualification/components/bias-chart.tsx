@@ -1,5 +1,5 @@
-import { formatSignedDeg } from '../../../../shared/wording';
-import type { QualificationRunView } from '../../../../shared/schemas/qualification';
+import { formatSignedDeg } from '#shared/wording';
+import type { QualificationRunView } from '#shared/schemas/qualification';
 
 const W = 760;
 const H = 300;

@@ -1,11 +1,11 @@
 import { useState, type FormEvent } from 'react';
-import { certifiedValue } from '../../../../shared/statistics/gauge-study';
-import type { ReferenceUnitView } from '../../../../shared/schemas/qualification';
-import { formatSignedDeg } from '../../../../shared/wording';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { SelectField, TextField } from '../../../components/ui/field';
+import { certifiedValue } from '#shared/statistics/gauge-study';
+import type { ReferenceUnitView } from '#shared/schemas/qualification';
+import { formatSignedDeg } from '#shared/wording';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { SelectField, TextField } from '#src/components/ui/field';
 import { useCertifyReference, useReferenceReadings } from '../api/qualification';
 
 type Choice = 'use' | 'leave-out' | 'skip';

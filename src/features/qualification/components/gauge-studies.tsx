@@ -1,12 +1,12 @@
 import { useState, type FormEvent } from 'react';
-import type { GaugeFigures } from '../../../../shared/statistics/gauge-study';
-import type { GaugeStudyDetail } from '../../../../shared/schemas/qualification';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { CheckboxField, SelectField, TextAreaField, TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { StatusChip } from '../../../components/ui/status-chip';
+import type { GaugeFigures } from '#shared/statistics/gauge-study';
+import type { GaugeStudyDetail } from '#shared/schemas/qualification';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { CheckboxField, SelectField, TextAreaField, TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { StatusChip } from '#src/components/ui/status-chip';
 import {
   useCreateStudy,
   useModelChoices,

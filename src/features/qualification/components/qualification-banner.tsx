@@ -1,5 +1,5 @@
-import { formatSignedDeg } from '../../../../shared/wording';
-import type { QualificationState } from '../../../../shared/schemas/qualification';
+import { formatSignedDeg } from '#shared/wording';
+import type { QualificationState } from '#shared/schemas/qualification';
 import { useStationQualification } from '../api/qualification';
 
 const look: Record<

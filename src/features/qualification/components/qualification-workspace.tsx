@@ -1,12 +1,12 @@
 // Over 350 lines on purpose for now: four small panels of one station (lock, policy, reference units,
 // readings); each moves to its own file once the qualification work in flight has merged.
-import { formatSignedDeg } from '../../../../shared/wording';
+import { formatSignedDeg } from '#shared/wording';
 import { useState, type FormEvent } from 'react';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { CheckboxField, SelectField, TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { CheckboxField, SelectField, TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
 import {
   useCreateReferenceUnit,
   useShifts,

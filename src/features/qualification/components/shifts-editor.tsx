@@ -1,11 +1,11 @@
 import { useState, type FormEvent } from 'react';
-import { plantShiftsSchema, type PlantShifts } from '../../../../shared/schemas/qualification';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { isApiError } from '../../../lib/api-client';
+import { plantShiftsSchema, type PlantShifts } from '#shared/schemas/qualification';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { isApiError } from '#src/lib/api-client';
 import { useSetShifts, useShifts } from '../api/qualification';
 
 type Row = { key: number; name: string; startsAt: string };

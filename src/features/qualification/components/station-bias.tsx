@@ -1,7 +1,7 @@
 import { useState } from 'react';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { SelectField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { SelectField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
 import { useShifts, useStationChoices, useStationReadings } from '../api/qualification';
 import { BiasChart } from './bias-chart';
 

@@ -1,4 +1,4 @@
-import type { GaugeStudyDetail } from '../../../../shared/schemas/qualification';
+import type { GaugeStudyDetail } from '#shared/schemas/qualification';
 
 const W = 640;
 const H = 260;

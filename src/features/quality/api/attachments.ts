@@ -1,7 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import { apiErrorSchema } from '../../../../shared/schemas/auth';
-import { attachmentSchema, type Attachment } from '../../../../shared/schemas/attachments';
-import { ApiError, apiRequest } from '../../../lib/api-client';
+import { apiErrorSchema } from '#shared/schemas/auth';
+import { attachmentSchema, type Attachment } from '#shared/schemas/attachments';
+import { ApiError, apiRequest } from '#src/lib/api-client';
 import { qualityKeys } from './quality';
 
 const base = (caseId: string) => `/api/quality/investigations/${encodeURIComponent(caseId)}/attachments`;

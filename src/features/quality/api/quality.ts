@@ -1,6 +1,6 @@
 import { keepPreviousData, queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { ModelView } from '../../../../shared/schemas/models';
-import type { StationView } from '../../../../shared/schemas/stations';
+import type { ModelView } from '#shared/schemas/models';
+import type { StationView } from '#shared/schemas/stations';
 import type {
   BulkHold,
   BulkHoldResult,
@@ -15,8 +15,8 @@ import type {
   SavedSearch,
   SearchChoices,
   UnitSearchPage,
-} from '../../../../shared/schemas/quality';
-import { apiRequest } from '../../../lib/api-client';
+} from '#shared/schemas/quality';
+import { apiRequest } from '#src/lib/api-client';
 
 /** Search filters as the form holds them: every value a string, '' meaning "any". */
 export type SearchForm = Record<string, string>;

@@ -1,6 +1,6 @@
 import { useQuery, useQueryClient } from '@tanstack/react-query';
-import type { UnitRecord } from '../../../../shared/schemas/unit-record';
-import { apiRequest } from '../../../lib/api-client';
+import type { UnitRecord } from '#shared/schemas/unit-record';
+import { apiRequest } from '#src/lib/api-client';
 import { qualityKeys } from './quality';
 
 const unitRecordKey = (serial: string) => [...qualityKeys.details(), 'unit-record', serial] as const;

@@ -1,9 +1,9 @@
 import { useState } from 'react';
-import type { BulkHold, BulkHoldResult, UnitSearchFilter } from '../../../../shared/schemas/quality';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { SelectField, TextAreaField, TextField } from '../../../components/ui/field';
+import type { BulkHold, BulkHoldResult, UnitSearchFilter } from '#shared/schemas/quality';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { SelectField, TextAreaField, TextField } from '#src/components/ui/field';
 import { useBulkHold, useInvestigations } from '../api/quality';
 
 type Target = { serials: string[] } | { search: Record<string, string>; count: number };

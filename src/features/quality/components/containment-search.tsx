@@ -11,13 +11,13 @@ import {
   UNIT_SEARCH_FILTER_KEYS,
   type BulkHoldResult,
   type UnitSearchRow,
-} from '../../../../shared/schemas/quality';
-import { unitStatusSchema } from '../../../../shared/schemas/units';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button, buttonClass } from '../../../components/ui/button';
-import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';
-import { SelectField, TextField } from '../../../components/ui/field';
-import { formatDateTime } from '../../../lib/format';
+} from '#shared/schemas/quality';
+import { unitStatusSchema } from '#shared/schemas/units';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button, buttonClass } from '#src/components/ui/button';
+import { SortableTableContent, TableFrame } from '#src/components/ui/data-table';
+import { SelectField, TextField } from '#src/components/ui/field';
+import { formatDateTime } from '#src/lib/format';
 import {
   searchParams,
   useSearchChoices,
@@ -27,7 +27,7 @@ import {
 } from '../api/quality';
 import { BulkHoldDialog } from './bulk-hold-dialog';
 import { SavedSearches } from './saved-searches';
-import { CHECK_GUIDE } from '../../../../shared/calibration/check-guide';
+import { CHECK_GUIDE } from '#shared/calibration/check-guide';
 
 /** The checks by the names people read on the traveler and the station screen (their codes stay in the URL). */
 const FAILED_CHECK_OPTIONS = [

@@ -1,9 +1,9 @@
 import { useState } from 'react';
 import { Link } from 'react-router';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { formatDateTime } from '../../../lib/format';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { formatDateTime } from '#src/lib/format';
 import { useHeldUnits } from '../api/quality';
 import { holdAge } from './quality-format';
 import { ReleaseDialog } from './release-dialog';

@@ -1,16 +1,16 @@
 import { useId, useRef, useState } from 'react';
-import type { InvestigationDetail } from '../../../../shared/schemas/quality';
+import type { InvestigationDetail } from '#shared/schemas/quality';
 import {
   ATTACHMENT_KINDS_TEXT,
   ATTACHMENT_LIMIT_BYTES,
   type Attachment,
-} from '../../../../shared/schemas/attachments';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { formatDateTime } from '../../../lib/format';
+} from '#shared/schemas/attachments';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { formatDateTime } from '#src/lib/format';
 import { attachmentHref, useAddAttachment, useAttachments, useRemoveAttachment } from '../api/attachments';
 
 const LIMIT_MB = ATTACHMENT_LIMIT_BYTES / (1024 * 1024);

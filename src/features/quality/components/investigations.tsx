@@ -1,12 +1,12 @@
 import { useState } from 'react';
 import { Link } from 'react-router';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { TextAreaField, TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { formatDateTime } from '../../../lib/format';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { TextAreaField, TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { formatDateTime } from '#src/lib/format';
 import { useCreateInvestigation, useInvestigations } from '../api/quality';
 import { INVESTIGATION_STATUS_LABELS } from './quality-format';
 

@@ -1,4 +1,4 @@
-import type { HoldDisposition } from '../../../../shared/schemas/quality';
+import type { HoldDisposition } from '#shared/schemas/quality';
 
 export const DISPOSITION_LABELS: Record<HoldDisposition, string> = {
   use_as_is: 'Use as is',

@@ -1,13 +1,13 @@
 import { useEffect, useRef, useState } from 'react';
 import uPlot from 'uplot';
 import 'uplot/dist/uPlot.min.css';
-import type { MeasurementTrace } from '../../../../shared/schemas/quality';
-import { canonicalMeasurementText } from '../../../../shared/capture/as-posted';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button, buttonClass } from '../../../components/ui/button';
-import { SelectField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { formatDateTime } from '../../../lib/format';
+import type { MeasurementTrace } from '#shared/schemas/quality';
+import { canonicalMeasurementText } from '#shared/capture/as-posted';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button, buttonClass } from '#src/components/ui/button';
+import { SelectField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { formatDateTime } from '#src/lib/format';
 import { useMeasurementTrace, useUnitMeasurements } from '../api/quality';
 
 const AXIS = '#a5b1ba';

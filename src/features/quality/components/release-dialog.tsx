@@ -1,9 +1,9 @@
 import { useState } from 'react';
-import { HOLD_DISPOSITIONS, type HoldDisposition } from '../../../../shared/schemas/quality';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { TextAreaField } from '../../../components/ui/field';
+import { HOLD_DISPOSITIONS, type HoldDisposition } from '#shared/schemas/quality';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { TextAreaField } from '#src/components/ui/field';
 import { useRelease } from '../api/quality';
 import { DISPOSITION_EFFECTS, DISPOSITION_LABELS } from './quality-format';
 

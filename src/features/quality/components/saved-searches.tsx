@@ -1,8 +1,8 @@
 import { useState, type FormEvent } from 'react';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextField } from '../../../components/ui/field';
-import { formatDateTime } from '../../../lib/format';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextField } from '#src/components/ui/field';
+import { formatDateTime } from '#src/lib/format';
 import { useDeleteSavedSearch, useSaveSearch, useSavedSearches, type SearchForm } from '../api/quality';
 
 function nonEmpty(f: SearchForm): SearchForm {

@@ -4,12 +4,12 @@ import {
   TIMELINE_KINDS,
   type TimelineEntry,
   type TimelineKind,
-} from '../../../../shared/schemas/unit-record';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { buttonClass } from '../../../components/ui/button';
-import { Panel } from '../../../components/ui/panel';
-import { StatusChip, type Tone } from '../../../components/ui/status-chip';
-import { formatDateTime } from '../../../lib/format';
+} from '#shared/schemas/unit-record';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { buttonClass } from '#src/components/ui/button';
+import { Panel } from '#src/components/ui/panel';
+import { StatusChip, type Tone } from '#src/components/ui/status-chip';
+import { formatDateTime } from '#src/lib/format';
 import { unitRecordExportUrl, useRefreshUnitRecord, useUnitRecord } from '../api/unit-record';
 
 const TONES: Record<TimelineEntry['tone'], Tone> = {

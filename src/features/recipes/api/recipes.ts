@@ -1,13 +1,13 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { Recipe } from '../../../../shared/schemas/recipe';
+import type { Recipe } from '#shared/schemas/recipe';
 import type {
   ModelDetailView,
   ModelInput,
   ModelSummaryView,
   RecipeVersionView,
-} from '../../../../shared/schemas/recipes';
-import type { RecipeFieldChange } from '../../../../shared/recipe/recipe-fields';
-import { apiRequest } from '../../../lib/api-client';
+} from '#shared/schemas/recipes';
+import type { RecipeFieldChange } from '#shared/recipe/recipe-fields';
+import { apiRequest } from '#src/lib/api-client';
 
 export const recipesKeys = {
   all: ['recipes'] as const,

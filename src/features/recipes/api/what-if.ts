@@ -4,8 +4,8 @@ import {
   whatIfProgressSchema,
   type WhatIfFilters,
   type WhatIfRunView,
-} from '../../../../shared/schemas/recipes';
-import { apiRequest } from '../../../lib/api-client';
+} from '#shared/schemas/recipes';
+import { apiRequest } from '#src/lib/api-client';
 import { recipesKeys } from './recipes';
 
 export const whatIfKeys = {

@@ -1,5 +1,5 @@
-import { formatRecipeValue, type RecipeFieldChange } from '../../../../shared/recipe/recipe-fields';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { formatRecipeValue, type RecipeFieldChange } from '#shared/recipe/recipe-fields';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 
 /** Field-by-field changes, old → new, each with its unit. */
 export function DiffTable({

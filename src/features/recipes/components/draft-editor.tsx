@@ -1,13 +1,13 @@
 import { useEffect, useState } from 'react';
 import { get, useForm, type FieldErrors, type Path, type Resolver } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { RECIPE_FIELDS, type RecipeField } from '../../../../shared/recipe/recipe-fields';
-import type { RecipeVersionView } from '../../../../shared/schemas/recipes';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { CheckboxField, TextAreaField, TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { isApiError } from '../../../lib/api-client';
+import { RECIPE_FIELDS, type RecipeField } from '#shared/recipe/recipe-fields';
+import type { RecipeVersionView } from '#shared/schemas/recipes';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { CheckboxField, TextAreaField, TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { isApiError } from '#src/lib/api-client';
 import { useSaveDraft } from '../api/recipes';
 import {
   recipeFormErrorMap,

@@ -2,11 +2,11 @@ import { useState } from 'react';
 import { useForm } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import type { z } from 'zod';
-import { modelInputSchema, type ModelDetailView } from '../../../../shared/schemas/recipes';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextAreaField, TextField } from '../../../components/ui/field';
-import { applyServerErrors } from '../../../lib/form-errors';
+import { modelInputSchema, type ModelDetailView } from '#shared/schemas/recipes';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextAreaField, TextField } from '#src/components/ui/field';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useCreateModel, useUpdateModel } from '../api/recipes';
 
 type Values = z.output<typeof modelInputSchema>;

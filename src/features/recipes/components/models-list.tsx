@@ -1,6 +1,6 @@
 import { Link } from 'react-router';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { useModels } from '../api/recipes';
 
 function yieldText(y: { firstMeasured: number; passedFirst: number; pct: number | null }): string {

@@ -1,4 +1,4 @@
-import type { OffsetHistogram } from '../../../../shared/schemas/recipes';
+import type { OffsetHistogram } from '#shared/schemas/recipes';
 
 /**
  * Two offset distributions on one axis: the version under test (filled bars) beside the version in

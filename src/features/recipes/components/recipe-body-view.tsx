@@ -1,6 +1,6 @@
-import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '../../../../shared/recipe/recipe-fields';
-import type { Recipe } from '../../../../shared/schemas/recipe';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
+import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '#shared/recipe/recipe-fields';
+import type { Recipe } from '#shared/schemas/recipe';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 
 /** A version's every field, read-only: value with unit and what the field does. */
 export function RecipeBodyView({ body, caption }: { body: Recipe; caption: string }) {

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { recipeSchema, type Recipe } from '../../../../shared/schemas/recipe';
+import { recipeSchema, type Recipe } from '#shared/schemas/recipe';
 
 /**
  * The editor validates with the shared recipe schema, the same one the server applies. The form holds

@@ -1,5 +1,5 @@
-import { RECIPE_STATUS_LABELS, type RecipeStatus } from '../../../../shared/schemas/recipes';
-import { StatusChip, type Tone } from '../../../components/ui/status-chip';
+import { RECIPE_STATUS_LABELS, type RecipeStatus } from '#shared/schemas/recipes';
+import { StatusChip, type Tone } from '#src/components/ui/status-chip';
 
 const TONES: Record<RecipeStatus, Tone> = {
   draft: 'neutral',

@@ -1,16 +1,16 @@
 import { useState } from 'react';
 import { useMutation, useQuery } from '@tanstack/react-query';
-import type { UnitDetail } from '../../../../shared/schemas/units';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { SelectField, TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { apiRequest, isApiError } from '../../../lib/api-client';
-import { formatDateTime } from '../../../lib/format';
+import type { UnitDetail } from '#shared/schemas/units';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { SelectField, TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { apiRequest, isApiError } from '#src/lib/api-client';
+import { formatDateTime } from '#src/lib/format';
 import { recipesKeys, useModel } from '../api/recipes';
-import { formatOffsetDeg } from '../../../../shared/wording';
+import { formatOffsetDeg } from '#shared/wording';
 
 const deg = formatOffsetDeg;
 

@@ -1,10 +1,10 @@
 import { useState } from 'react';
-import type { RecipeVersionView } from '../../../../shared/schemas/recipes';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TextAreaField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { isApiError } from '../../../lib/api-client';
+import type { RecipeVersionView } from '#shared/schemas/recipes';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TextAreaField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { isApiError } from '#src/lib/api-client';
 import { useApprove, useDiscardDraft, useRecipeSettings, useSendBack, useSubmitDraft } from '../api/recipes';
 
 const messageOf = (e: unknown) => (isApiError(e) ? e.message : 'Something went wrong. Try again.');

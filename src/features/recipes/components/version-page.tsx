@@ -1,10 +1,10 @@
 import { useState } from 'react';
 import { Link, useNavigate } from 'react-router';
-import type { RecipeVersionView } from '../../../../shared/schemas/recipes';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { LinkButton } from '../../../components/ui/button';
-import { Panel } from '../../../components/ui/panel';
-import { formatDateTime } from '../../../lib/format';
+import type { RecipeVersionView } from '#shared/schemas/recipes';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { LinkButton } from '#src/components/ui/button';
+import { Panel } from '#src/components/ui/panel';
+import { formatDateTime } from '#src/lib/format';
 import { useDiff, useModel, useVersion } from '../api/recipes';
 import { DiffTable } from './diff-table';
 import { DraftEditor } from './draft-editor';

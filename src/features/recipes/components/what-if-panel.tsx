@@ -6,18 +6,18 @@ import {
   type ComponentLotKind,
   type WhatIfLotGroup,
   type WhatIfRunView,
-} from '../../../../shared/schemas/recipes';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { CheckboxField, TextField } from '../../../components/ui/field';
-import { Panel } from '../../../components/ui/panel';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { isApiError } from '../../../lib/api-client';
-import { formatDateTime } from '../../../lib/format';
+} from '#shared/schemas/recipes';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { CheckboxField, TextField } from '#src/components/ui/field';
+import { Panel } from '#src/components/ui/panel';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { isApiError } from '#src/lib/api-client';
+import { formatDateTime } from '#src/lib/format';
 import { useCancelWhatIf, useStartWhatIf, useWhatIfProgress, useWhatIfRuns } from '../api/what-if';
 import { OffsetHistogramChart } from './offset-histogram';
-import { formatOffsetDeg } from '../../../../shared/wording';
+import { formatOffsetDeg } from '#shared/wording';
 
 const lotName = (lot: string | null | undefined) => lot ?? 'no lot recorded';
 

@@ -1,12 +1,12 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { CalibrationView } from '../../../../shared/schemas/calibrations';
+import type { CalibrationView } from '#shared/schemas/calibrations';
 import type {
   CreateStation,
   StationHealth,
   StationKeyCreated,
   StationView,
-} from '../../../../shared/schemas/stations';
-import { apiRequest } from '../../../lib/api-client';
+} from '#shared/schemas/stations';
+import { apiRequest } from '#src/lib/api-client';
 import { stationKeys } from './station-keys';
 
 const enc = encodeURIComponent;

@@ -1,5 +1,5 @@
 import { useEffect, useRef, useState } from 'react';
-import { lineEventSchema, type LineEvent } from '../../../../shared/schemas/events';
+import { lineEventSchema, type LineEvent } from '#shared/schemas/events';
 
 export type EventsConnection = 'connecting' | 'live' | 'reconnecting';
 

@@ -1,5 +1,5 @@
-import type { Verdict } from '../../../components/calibrations/calibration-format';
-import { VERDICT_LABELS } from '../../../components/calibrations/calibration-format';
+import type { Verdict } from '#src/components/calibrations/calibration-format';
+import { VERDICT_LABELS } from '#src/components/calibrations/calibration-format';
 import type { ProgressPhase } from './station-progress';
 
 export type { ProgressPhase };

@@ -1,11 +1,11 @@
 import { useState, type Dispatch } from 'react';
-import type { PageSize } from '../../../../shared/schemas/travelers';
-import type { UnitDetail } from '../../../../shared/schemas/units';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { Kbd } from '../../../components/ui/kbd';
-import { usePrintTraveler } from '../../../lib/queries/units';
+import type { PageSize } from '#shared/schemas/travelers';
+import type { UnitDetail } from '#shared/schemas/units';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { Kbd } from '#src/components/ui/kbd';
+import { usePrintTraveler } from '#src/lib/queries/units';
 import type { LastPrint, StationAction } from './station-progress';
 
 const PAGE_SIZE_KEY = 'phasewright.station.pageSize';

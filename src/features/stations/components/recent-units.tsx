@@ -1,7 +1,7 @@
-import { formatDateTime } from '../../../lib/format';
+import { formatDateTime } from '#src/lib/format';
 import { useStationRecent } from '../api/stations';
-import { formatOffsetDeg } from '../../../../shared/wording';
-import { VerdictMark } from '../../../components/calibrations/verdict-banner';
+import { formatOffsetDeg } from '#shared/wording';
+import { VerdictMark } from '#src/components/calibrations/verdict-banner';
 
 function clock(iso: string): string {
   const d = new Date(iso);

@@ -1,11 +1,11 @@
 import { useState } from 'react';
-import type { ModelView } from '../../../../shared/schemas/models';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { Kbd } from '../../../components/ui/kbd';
-import { useHotkeys } from '../../../lib/use-hotkeys';
-import { useRegisterUnit } from '../../../lib/queries/units';
+import type { ModelView } from '#shared/schemas/models';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { Kbd } from '#src/components/ui/kbd';
+import { useHotkeys } from '#src/lib/use-hotkeys';
+import { useRegisterUnit } from '#src/lib/queries/units';
 
 type RegisterUnitDialogProps = {
   serial: string | null;

@@ -1,5 +1,5 @@
 import { useCallback, useEffect, useId, useRef, useState, type RefObject } from 'react';
-import { readScan } from '../../../lib/read-scan';
+import { readScan } from '#src/lib/read-scan';
 
 /** Typed characters wait this long for more (or Enter) before they count as stray and are cleared, ms. */
 export const STRAY_CLEAR_MS = 4000;

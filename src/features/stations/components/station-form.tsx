@@ -1,17 +1,17 @@
 import { useState } from 'react';
 import { useForm, useWatch } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import type { ModelView } from '../../../../shared/schemas/models';
+import type { ModelView } from '#shared/schemas/models';
 import {
   createStationSchema,
   type CreateStation,
   type StationView,
-} from '../../../../shared/schemas/stations';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { CheckboxField, TextField } from '../../../components/ui/field';
-import { applyServerErrors } from '../../../lib/form-errors';
+} from '#shared/schemas/stations';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { CheckboxField, TextField } from '#src/components/ui/field';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useCreateStation, useUpdateStation } from '../api/stations';
 
 const FIELDS = ['name', 'line', 'allowedModelIds'] as const;

@@ -1,5 +1,5 @@
-import { StatusChip } from '../../../components/ui/status-chip';
-import { formatDateTime } from '../../../lib/format';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { formatDateTime } from '#src/lib/format';
 import { useStationHealth } from '../api/stations';
 import type { EventsConnection } from '../api/use-station-events';
 

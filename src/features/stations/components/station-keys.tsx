@@ -6,14 +6,14 @@ import {
   type CreateStationKey,
   type StationKeyCreated,
   type StationView,
-} from '../../../../shared/schemas/stations';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { Dialog } from '../../../components/ui/dialog';
-import { TextField } from '../../../components/ui/field';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { applyServerErrors } from '../../../lib/form-errors';
-import { formatDateTime, formatRelative } from '../../../lib/format';
+} from '#shared/schemas/stations';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { Dialog } from '#src/components/ui/dialog';
+import { TextField } from '#src/components/ui/field';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { applyServerErrors } from '#src/lib/form-errors';
+import { formatDateTime, formatRelative } from '#src/lib/format';
 import { useCreateStationKey, useRevokeStationKey } from '../api/stations';
 
 /** A station's keys: the list with their use, a new key (shown once), and revoking one. */

@@ -1,6 +1,6 @@
 import { useNavigate } from 'react-router';
-import type { StationView } from '../../../../shared/schemas/stations';
-import { formatRelative } from '../../../lib/format';
+import type { StationView } from '#shared/schemas/stations';
+import { formatRelative } from '#src/lib/format';
 
 export const STATION_CHOICE_KEY = 'phasewright.station.id';
 

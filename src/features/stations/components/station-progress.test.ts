@@ -1,8 +1,8 @@
 import { QueryClient, QueryObserver } from '@tanstack/react-query';
 import { describe, expect, it } from 'vitest';
-import type { LineEvent } from '../../../../shared/schemas/events';
-import type { CalibrationView } from '../../../../shared/schemas/calibrations';
-import type { UnitDetail } from '../../../../shared/schemas/units';
+import type { LineEvent } from '#shared/schemas/events';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import type { UnitDetail } from '#shared/schemas/units';
 import {
   freshCalibration,
   historyCalibration,

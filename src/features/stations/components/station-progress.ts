@@ -1,9 +1,9 @@
-import type { LineEvent } from '../../../../shared/schemas/events';
-import type { CalibrationView } from '../../../../shared/schemas/calibrations';
-import type { UnitDetail } from '../../../../shared/schemas/units';
-import { sameSerial } from '../../../../shared/schemas/serial';
-import type { Verdict } from '../../../components/calibrations/calibration-format';
-import type { PrintedTraveler } from '../../../lib/queries/units';
+import type { LineEvent } from '#shared/schemas/events';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import type { UnitDetail } from '#shared/schemas/units';
+import { sameSerial } from '#shared/schemas/serial';
+import type { Verdict } from '#src/components/calibrations/calibration-format';
+import type { PrintedTraveler } from '#src/lib/queries/units';
 
 /**
  * What the station screen shows, as a pure reducer (the screen's state machine): which unit is on

@@ -1,9 +1,9 @@
 import type { ReactNode } from 'react';
-import type { CalibrationView } from '../../../../shared/schemas/calibrations';
-import { formatDateTime } from '../../../lib/format';
-import { failedChecks } from '../../../components/calibrations/calibration-format';
-import { formatOffsetDeg } from '../../../../shared/wording';
-import { VerdictMark } from '../../../components/calibrations/verdict-banner';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import { formatDateTime } from '#src/lib/format';
+import { failedChecks } from '#src/components/calibrations/calibration-format';
+import { formatOffsetDeg } from '#shared/wording';
+import { VerdictMark } from '#src/components/calibrations/verdict-banner';
 
 /** Triangle with a bar: a scan or serial the screen cannot use. */
 function WarningShape({ size }: { size: number }) {

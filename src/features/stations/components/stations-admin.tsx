@@ -1,11 +1,11 @@
 import { useState } from 'react';
-import type { StationView } from '../../../../shared/schemas/stations';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { QueryState } from '../../../components/ui/query-state';
-import { formatDateTime, formatRelative } from '../../../lib/format';
-import { useModels } from '../../../lib/queries/models';
+import type { StationView } from '#shared/schemas/stations';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { QueryState } from '#src/components/ui/query-state';
+import { formatDateTime, formatRelative } from '#src/lib/format';
+import { useModels } from '#src/lib/queries/models';
 import { useStations } from '../api/stations';
 import { StationDialog } from './station-form';
 import { KeyList, NewKeyDialog, RevokeKeyDialog, type StationKey } from './station-keys';

@@ -1,6 +1,6 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import { healthSchema, type Health } from '../../../../shared/schemas/health';
-import { apiRequest, isApiError } from '../../../lib/api-client';
+import { healthSchema, type Health } from '#shared/schemas/health';
+import { apiRequest, isApiError } from '#src/lib/api-client';
 
 export const systemKeys = {
   all: ['system'] as const,

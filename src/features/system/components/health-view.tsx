@@ -1,6 +1,6 @@
-import type { Health } from '../../../../shared/schemas/health';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { StatusChip } from '../../../components/ui/status-chip';
+import type { Health } from '#shared/schemas/health';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { StatusChip } from '#src/components/ui/status-chip';
 import { useHealth } from '../api/health';
 
 function StatusWord({ ok }: { ok: boolean }) {

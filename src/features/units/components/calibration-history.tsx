@@ -8,17 +8,17 @@ import {
   tableFeatures,
   useTable,
 } from '@tanstack/react-table';
-import type { CalibrationView } from '../../../../shared/schemas/calibrations';
-import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { formatDateTime } from '../../../lib/format';
+import type { CalibrationView } from '#shared/schemas/calibrations';
+import { SortableTableContent, TableFrame } from '#src/components/ui/data-table';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { formatDateTime } from '#src/lib/format';
 import {
   PROGRAMMING_TONES,
   failedChecks,
   formatCounts,
-} from '../../../components/calibrations/calibration-format';
-import { formatOffsetDeg } from '../../../../shared/wording';
-import { VerdictMark } from '../../../components/calibrations/verdict-banner';
+} from '#src/components/calibrations/calibration-format';
+import { formatOffsetDeg } from '#shared/wording';
+import { VerdictMark } from '#src/components/calibrations/verdict-banner';
 
 const features = tableFeatures({
   rowSortingFeature,

@@ -1,13 +1,13 @@
-import type { UnitDetail } from '../../../../shared/schemas/units';
-import { Alert } from '../../../components/ui/alert';
-import { QueryState } from '../../../components/ui/query-state';
-import { Panel } from '../../../components/ui/panel';
-import { formatDateTime } from '../../../lib/format';
-import { useModels } from '../../../lib/queries/models';
-import { useUnit } from '../../../lib/queries/units';
+import type { UnitDetail } from '#shared/schemas/units';
+import { Alert } from '#src/components/ui/alert';
+import { QueryState } from '#src/components/ui/query-state';
+import { Panel } from '#src/components/ui/panel';
+import { formatDateTime } from '#src/lib/format';
+import { useModels } from '#src/lib/queries/models';
+import { useUnit } from '#src/lib/queries/units';
 import { CalibrationHistory } from './calibration-history';
-import { CalibrationResult } from '../../../components/calibrations/calibration-result';
-import { UnitCard } from '../../../components/units/unit-card';
+import { CalibrationResult } from '#src/components/calibrations/calibration-result';
+import { UnitCard } from '#src/components/units/unit-card';
 import { UnitSearch } from './unit-search';
 
 function TravelerList({ detail }: { detail: UnitDetail }) {

@@ -1,7 +1,7 @@
 import { useId, useState, type FormEvent } from 'react';
 import { useNavigate } from 'react-router';
-import { Button } from '../../../components/ui/button';
-import { readScan } from '../../../lib/read-scan';
+import { Button } from '#src/components/ui/button';
+import { readScan } from '#src/lib/read-scan';
 
 /** Finds a unit by serial (typed or scanned) and opens its page. */
 export function UnitSearch({ autoFocus = false, initial = '' }: { autoFocus?: boolean; initial?: string }) {

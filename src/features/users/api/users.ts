@@ -1,6 +1,6 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { CreateUser, UpdateUser, UserRow } from '../../../../shared/schemas/users';
-import { apiRequest } from '../../../lib/api-client';
+import type { CreateUser, UpdateUser, UserRow } from '#shared/schemas/users';
+import { apiRequest } from '#src/lib/api-client';
 
 export type UserListFilters = Record<string, never>;
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { UserRow } from '../../../../shared/schemas/users';
+import type { UserRow } from '#shared/schemas/users';
 import { accountStatus } from './account-status';
 
 const now = new Date('2026-12-02T12:00:00Z');

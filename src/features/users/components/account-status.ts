@@ -1,5 +1,5 @@
-import type { UserRow } from '../../../../shared/schemas/users';
-import type { Tone } from '../../../components/ui/status-chip';
+import type { UserRow } from '#shared/schemas/users';
+import type { Tone } from '#src/components/ui/status-chip';
 
 export type AccountStatus = 'active' | 'disabled' | 'locked' | 'invited';
 

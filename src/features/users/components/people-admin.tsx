@@ -1,7 +1,7 @@
 import { useCallback, useState } from 'react';
-import type { UserRow } from '../../../../shared/schemas/users';
-import { Alert, Loading } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
+import type { UserRow } from '#shared/schemas/users';
+import { Alert, Loading } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
 import { useUnlockUser, useUsers } from '../api/users';
 import { CreateUserDialog } from './create-user-dialog';
 import { EditUserDialog } from './edit-user-dialog';

@@ -13,13 +13,13 @@ import {
   useTable,
   type FilterFn,
 } from '@tanstack/react-table';
-import { ROLE_LABELS, ROLES } from '../../../../shared/schemas/roles';
-import type { UserRow } from '../../../../shared/schemas/users';
-import { Button } from '../../../components/ui/button';
-import { SortableTableContent, TableFrame } from '../../../components/ui/data-table';
-import { SelectField, TextField } from '../../../components/ui/field';
-import { StatusChip } from '../../../components/ui/status-chip';
-import { formatDateTime, formatRelative } from '../../../lib/format';
+import { ROLE_LABELS, ROLES } from '#shared/schemas/roles';
+import type { UserRow } from '#shared/schemas/users';
+import { Button } from '#src/components/ui/button';
+import { SortableTableContent, TableFrame } from '#src/components/ui/data-table';
+import { SelectField, TextField } from '#src/components/ui/field';
+import { StatusChip } from '#src/components/ui/status-chip';
+import { formatDateTime, formatRelative } from '#src/lib/format';
 import { accountStatus, STATUS_LABELS, STATUS_TONES, type AccountStatus } from './account-status';
 
 const features = tableFeatures({

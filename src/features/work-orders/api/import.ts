@@ -1,6 +1,6 @@
 import { useMutation } from '@tanstack/react-query';
-import { importReportSchema, type ImportReport } from '../../../../shared/schemas/work-orders';
-import { ApiError } from '../../../lib/api-client';
+import { importReportSchema, type ImportReport } from '#shared/schemas/work-orders';
+import { ApiError } from '#src/lib/api-client';
 
 /** Uploads a work-order CSV; a report with row errors (422) is an answer, not a failure. */
 export function useImportWorkOrder() {

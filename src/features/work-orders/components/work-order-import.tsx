@@ -1,9 +1,9 @@
 import { useState } from 'react';
-import { WORK_ORDER_COLUMNS, type ImportReport } from '../../../../shared/schemas/work-orders';
-import { Alert } from '../../../components/ui/alert';
-import { Button } from '../../../components/ui/button';
-import { TableFrame, Td, Th } from '../../../components/ui/data-table';
-import { Panel } from '../../../components/ui/panel';
+import { WORK_ORDER_COLUMNS, type ImportReport } from '#shared/schemas/work-orders';
+import { Alert } from '#src/components/ui/alert';
+import { Button } from '#src/components/ui/button';
+import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { Panel } from '#src/components/ui/panel';
 import { useImportWorkOrder } from '../api/import';
 
 const TEMPLATE = `${WORK_ORDER_COLUMNS.join(',')}\nSN-0001,CV-57B,WO-1001,HB-0001-A,MR-0001-A,ST-0001-A\n`;
