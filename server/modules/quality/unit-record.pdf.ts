@@ -2,7 +2,6 @@ import PDFDocument from 'pdfkit';
 import { barlowFontSources, prepareDocumentFonts } from '../travelers/fonts';
 import { drawSafety } from '../travelers/traveler.layout';
 import {
-  FOOTER_H,
   formatTime,
   INK,
   MARGIN,
@@ -14,6 +13,7 @@ import {
   SOFT,
   TINT,
   type Face,
+  drawPageFooters,
 } from '../travelers/traveler.page';
 import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
@@ -398,36 +398,10 @@ function drawTimeline(page: RecordPage, record: UnitRecord, timeZone: string) {
 }
 
 function drawFooters(doc: PDFKit.PDFDocument, serial: string, at: string, timeZone: string) {
-  const range = doc.bufferedPageRange();
-  for (let i = range.start; i < range.start + range.count; i += 1) {
-    doc.switchToPage(i);
-    const left = MARGIN;
-    const right = doc.page.width - MARGIN;
-    const y = doc.page.height - MARGIN - FOOTER_H + 8;
-    const bottomMargin = doc.page.margins.bottom;
-    doc.page.margins.bottom = 0;
-    doc.save().moveTo(left, y).lineTo(right, y).lineWidth(0.75).strokeColor(INK).stroke().restore();
-    doc
-      .font('regular')
-      .fontSize(7)
-      .fillColor(SOFT)
-      .text(
-        `Unit ${serial} · calibration record · generated ${formatTime(at, timeZone)} · times in ${timeZone} · Phasewright`,
-        left,
-        y + 4,
-        { lineBreak: false },
-      );
-    doc
-      .font('semiBold')
-      .fontSize(7)
-      .fillColor(INK)
-      .text(`Page ${i - range.start + 1} of ${range.count}`, right - 80, y + 4, {
-        width: 80,
-        align: 'right',
-        lineBreak: false,
-      });
-    doc.page.margins.bottom = bottomMargin;
-  }
+  drawPageFooters(
+    doc,
+    `Unit ${serial} · calibration record · generated ${formatTime(at, timeZone)} · times in ${timeZone} · Phasewright`,
+  );
 }
 
 /**

@@ -12,12 +12,10 @@ import {
 } from './traveler.barcodes';
 import {
   dispositionOf,
-  FOOTER_H,
   formatCheckLimit,
   formatCheckValue,
   formatTime,
   INK,
-  MARGIN,
   markBad,
   markGood,
   markPending,
@@ -29,6 +27,7 @@ import {
   TINT,
   type Doc,
   type Face,
+  drawPageFooters,
 } from './traveler.page';
 import { checkName } from '#shared/calibration/check-guide';
 import { formatOffsetDeg, SAFETY_CAUTIONS, SAFETY_TITLE } from '#shared/wording';
@@ -474,37 +473,10 @@ function drawSignOff(page: Page): void {
 }
 
 function drawFooters(doc: Doc, data: TravelerData): void {
-  const range = doc.bufferedPageRange();
   const generated = formatTime(data.generatedAt, data.timeZone);
   const printed = data.printNumber > 1 ? `REPRINT ${data.printNumber}` : 'Original print';
-  for (let i = range.start; i < range.start + range.count; i += 1) {
-    doc.switchToPage(i);
-    const left = MARGIN;
-    const right = doc.page.width - MARGIN;
-    const y = doc.page.height - MARGIN - FOOTER_H + 8;
-    // Writing below the bottom margin would make pdfkit open a new page.
-    const bottomMargin = doc.page.margins.bottom;
-    doc.page.margins.bottom = 0;
-    doc.save().moveTo(left, y).lineTo(right, y).lineWidth(0.75).strokeColor(INK).stroke().restore();
-    doc
-      .font('regular')
-      .fontSize(7)
-      .fillColor(SOFT)
-      .text(
-        `Unit ${data.serial} · ${printed} · generated ${generated} · times in ${data.timeZone} · Phasewright traveler, code format ${TRAVELER_CODE_FORMAT}`,
-        left,
-        y + 4,
-        { lineBreak: false },
-      );
-    doc
-      .font('semiBold')
-      .fontSize(7)
-      .fillColor(INK)
-      .text(`Page ${i - range.start + 1} of ${range.count}`, right - 80, y + 4, {
-        width: 80,
-        align: 'right',
-        lineBreak: false,
-      });
-    doc.page.margins.bottom = bottomMargin;
-  }
+  drawPageFooters(
+    doc,
+    `Unit ${data.serial} · ${printed} · generated ${generated} · times in ${data.timeZone} · Phasewright traveler, code format ${TRAVELER_CODE_FORMAT}`,
+  );
 }

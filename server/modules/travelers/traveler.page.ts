@@ -249,3 +249,36 @@ export function markWarning(doc: Doc, x: number, y: number, size: number): void 
     .fill(INK)
     .restore();
 }
+
+/**
+ * Draws every buffered page's footer: a rule, `caption` on the left and "Page i of n" on the right. Shared by
+ * every document drawn with this kit (traveler, calibration record), so their footers cannot drift apart.
+ */
+export function drawPageFooters(doc: Doc, caption: string): void {
+  const range = doc.bufferedPageRange();
+  for (let i = range.start; i < range.start + range.count; i += 1) {
+    doc.switchToPage(i);
+    const left = MARGIN;
+    const right = doc.page.width - MARGIN;
+    const y = doc.page.height - MARGIN - FOOTER_H + 8;
+    // Writing below the bottom margin would make pdfkit open a new page.
+    const bottomMargin = doc.page.margins.bottom;
+    doc.page.margins.bottom = 0;
+    doc.save().moveTo(left, y).lineTo(right, y).lineWidth(0.75).strokeColor(INK).stroke().restore();
+    doc
+      .font('regular')
+      .fontSize(7)
+      .fillColor(SOFT)
+      .text(caption, left, y + 4, { lineBreak: false });
+    doc
+      .font('semiBold')
+      .fontSize(7)
+      .fillColor(INK)
+      .text(`Page ${i - range.start + 1} of ${range.count}`, right - 80, y + 4, {
+        width: 80,
+        align: 'right',
+        lineBreak: false,
+      });
+    doc.page.margins.bottom = bottomMargin;
+  }
+}
