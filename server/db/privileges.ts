@@ -29,6 +29,10 @@ export const APP_TABLE_ACCESS = {
   station_keys: { update: ['last_used_at', 'revoked_at'] },
   measurements: { appendOnly: true },
   calibrations: { appendOnly: true },
+  // The statistics' copy of each calibration, written by triggers only (migration 0021): inserted with its
+  // calibration (as the inserting role), a changed unit's serial, model or lots carried over by a function
+  // that runs as the owner. The app role reads it and may not change a row.
+  calibration_stats: { update: [] },
   programming_confirmations: { appendOnly: true },
   travelers: { appendOnly: true },
   // Line statistics: a watched chart's saved state moves on with every calibration; an alert is

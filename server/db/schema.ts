@@ -13,3 +13,4 @@ export * from '../modules/quality/quality.table';
 export * from '../modules/quality/attachments.table';
 export * from '../modules/qualification/qualification.table';
 export * from '../modules/analysis/analysis.table';
+export * from '../modules/calibrations/calibration-stats.table';

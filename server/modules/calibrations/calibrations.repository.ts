@@ -87,7 +87,9 @@ export function stationCalibrationFilter(
       sql`c.result->'checks' @> jsonb_build_array(jsonb_build_object('code', ${f.failedCheck}::text, 'passed', false))`,
     );
   if (f.operatorId)
-    conds.push(sql`exists (select 1 from measurements m where m.id = c.measurement_pk and m.operator_id = ${f.operatorId})`);
+    conds.push(
+      sql`exists (select 1 from measurements m where m.id = c.measurement_pk and m.operator_id = ${f.operatorId})`,
+    );
   if (conds.length === 0) return undefined;
   return sql`exists (select 1 from calibrations c where c.unit_id = ${unitId} and c.purpose = 'station' and ${sql.join(conds, sql` and `)})`;
 }

@@ -1,20 +1,19 @@
-import { and, sql, type SQL } from 'drizzle-orm';
+import { and, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '#server/db/client';
-import { recipes } from '../recipes/recipes.table';
 import { stations } from '../stations/stations.table';
-import { units } from '../units/units.table';
 import { users } from '../users/users.table';
-import type { AnalysisFilter, CompareBy } from '#shared/schemas/analysis';
-import { calibrations } from '../calibrations/calibrations.table';
-import { measurements } from '../measurements/measurements.table';
-import { conditions, figureSql } from './calibration-figures.repository';
+import type { AnalysisFigure, AnalysisFilter, CompareBy } from '#shared/schemas/analysis';
+import { calibrationStats } from '../calibrations/calibration-stats.table';
 
 /**
  * Line statistics aggregated inside PostgreSQL: the views read sums, quantiles and counts instead of every
- * calibration, so a view over hundreds of thousands of calibrations moves a few kilobytes. Each figure here is
- * computed the way the pure functions in shared/statistics compute it from the values (the tests hold both
- * paths equal on the same data); what needs every value in order (the Anderson–Darling test) gets a bounded
- * sample of the newest values, with its size.
+ * calibration, so a view over hundreds of thousands of calibrations moves a few kilobytes. They read
+ * `calibration_stats`, the narrow copy of each calibration that PostgreSQL keeps beside it (migration 0021:
+ * model, station, lots, recipe version, operator and every figure as a column), so a whole-model view reads
+ * one narrow table with no join. Each figure here is computed the way the pure functions in
+ * shared/statistics compute it from the values (the tests hold both paths equal on the same data, the values
+ * read from the calibrations themselves); what needs every value in order (the Anderson–Darling test) gets a
+ * bounded sample of the newest values, with its size.
  */
 
 /** The newest values handed to the normality test: above this, the test sees only these. */
@@ -24,17 +23,57 @@ export const GROUP_NORMALITY_SAMPLE = 1000;
 /** Outliers listed per group (as in the pure box figures). */
 const MAX_OUTLIERS = 200;
 
-/** FROM … WHERE of the filtered calibrations, joining only what the filter or the grouping needs. */
-function selection(f: AnalysisFilter, need: { recipe?: boolean; measurement?: boolean; user?: boolean } = {}) {
-  const value = figureSql(f.figure);
-  const joins: SQL[] = [sql`inner join ${units} on ${units.id} = ${calibrations.unitId}`];
-  if (need.recipe || f.recipeVersions)
-    joins.push(sql`inner join ${recipes} on ${recipes.id} = ${calibrations.recipeId}`);
-  if (need.measurement || need.user || f.operators)
-    joins.push(sql`inner join ${measurements} on ${measurements.id} = ${calibrations.measurementPk}`);
-  if (need.user) joins.push(sql`left join ${users} on ${users.id} = ${measurements.operatorId}`);
-  const where = and(...conditions(f), sql`${value} is not null`);
-  return { value, from: sql`from ${calibrations} ${sql.join(joins, sql` `)} where ${where}` };
+const s = calibrationStats;
+
+/** The column of each figure. */
+function figureColumn(figure: AnalysisFigure) {
+  switch (figure) {
+    case 'offsetDeg':
+      return s.offsetDeg;
+    case 'lagDeg':
+      return s.lagDeg;
+    case 'speedRpm':
+      return s.speedRpm;
+    case 'fitResidualDeg':
+      return s.fitResidualDeg;
+    case 'keVPerKrpm':
+      return s.keVPerKrpm;
+    case 'placementADeg':
+      return s.placementADeg;
+    case 'placementBDeg':
+      return s.placementBDeg;
+    case 'placementCDeg':
+      return s.placementCDeg;
+  }
+}
+
+/** WHERE conditions of the filter on calibration_stats (the figure's value present). */
+function statsConditions(f: AnalysisFilter): SQL[] {
+  const value = figureColumn(f.figure);
+  const out: (SQL | undefined)[] = [
+    eq(s.modelId, f.model),
+    eq(s.purpose, f.purpose),
+    f.stations ? inArray(s.stationId, f.stations) : undefined,
+    f.hallBoardLots ? inArray(s.hallBoardLot, f.hallBoardLots) : undefined,
+    f.magnetRingLots ? inArray(s.magnetRingLot, f.magnetRingLots) : undefined,
+    f.statorLots ? inArray(s.statorLot, f.statorLots) : undefined,
+    f.recipeVersions ? inArray(s.recipeVersion, f.recipeVersions) : undefined,
+    f.operators ? inArray(s.operatorId, f.operators) : undefined,
+    f.from ? gte(s.computedAt, new Date(f.from)) : undefined,
+    f.to ? lt(s.computedAt, new Date(f.to)) : undefined,
+    f.verdict === 'all' ? inArray(s.verdict, ['pass', 'fail']) : eq(s.verdict, f.verdict),
+    f.attempts === 'first' ? eq(s.attempt, 1) : undefined,
+    sql`${value} is not null`,
+  ];
+  return out.filter((c): c is SQL => c !== undefined);
+}
+
+/** FROM … WHERE of the filtered calibrations, and the figure's column. */
+export function statsSelection(f: AnalysisFilter, extra: SQL[] = []) {
+  return {
+    value: sql`${figureColumn(f.figure)}`,
+    from: sql`from ${s} where ${and(...statsConditions(f), ...extra)}`,
+  };
 }
 
 /**
@@ -78,34 +117,38 @@ export async function distributionAggregate(
   filter: AnalysisFilter,
   extent: { lsl: number | null; usl: number | null } | null,
 ): Promise<DistributionAggregate> {
-  const { value, from } = selection(filter);
+  const { value, from } = statsSelection(filter);
   const useExtent = extent !== null;
   const lsl = extent?.lsl ?? null;
   const usl = extent?.usl ?? null;
+  // One read of the selection in production order (along the model's time index): the moving ranges and
+  // each value's place in that order come with it. Then one sort by value (quartiles) and one pass over
+  // the read values for the histogram and the moments about the mean.
   const res = await inSortRoom(
     db,
     sql`
     with sel as materialized (
-      select ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
+      select v, abs(v - lag(v) over w) as d, row_number() over w as rn from (
+        select ${value} as v, ${s.computedAt} as t, ${s.calibrationId} as id ${from}
+      ) f
+      window w as (order by t, id)
     ),
     m as (
-      select n, mean, mn, mx, q[1] as q1, q[2] as q2, q[3] as q3 from (
-        select count(*)::int as n, avg(v) as mean, min(v) as mn, max(v) as mx,
+      select n, mean, mn, mx, mr, q[1] as q1, q[2] as q2, q[3] as q3 from (
+        select count(*)::int as n, avg(v) as mean, min(v) as mn, max(v) as mx, sum(d) as mr,
           percentile_cont(array[0.25, 0.5, 0.75]) within group (order by v) as q
         from sel
       ) a
     ),
-    mom as (select sum((v - m.mean) ^ 2) as ss2, sum((v - m.mean) ^ 3) as ss3 from sel, m),
-    mr as (select sum(abs(d)) as mr from (select v - lag(v) over (order by t, id) as d from sel) x),
     ext as (
       select
         case when ${useExtent} then least(coalesce(${lsl}::float8, mn), mn) else mn end as lo,
         case when ${useExtent} then greatest(coalesce(${usl}::float8, mx), mx) else mx end as hi,
-        n, q1, q3
+        n, q1, q3, mean
       from m where n > 0
     ),
     bw as (
-      select lo, hi,
+      select lo, hi, mean,
         case when hi = lo then 1
           else greatest(5, least(80, ceil((hi - lo) / case when q3 - q1 > 0 then 2 * (q3 - q1) / cbrt(n)
                                                          else (hi - lo) / 10 end)))::int
@@ -113,14 +156,17 @@ export async function distributionAggregate(
       from ext
     ),
     hist as (
-      select least(bw.bins - 1, floor((v - bw.lo) / ((bw.hi - bw.lo) / bw.bins)))::int as i, count(*)::int as c
-      from sel, bw where bw.hi > bw.lo group by 1
+      select case when bw.hi > bw.lo then least(bw.bins - 1, floor((v - bw.lo) / ((bw.hi - bw.lo) / bw.bins)))::int
+                  else 0 end as i,
+        count(*)::int as c, sum((v - bw.mean) ^ 2) as s2, sum((v - bw.mean) ^ 3) as s3
+      from sel, bw group by 1
     )
-    select m.n, m.mean, mom.ss2, mom.ss3, m.mn, m.mx, m.q1, m.q2, m.q3, mr.mr,
+    select m.n, m.mean, m.mn, m.mx, m.q1, m.q2, m.q3, m.mr,
+      (select sum(s2) from hist) as ss2, (select sum(s3) from hist) as ss3,
       (select lo from bw) as lo, (select hi from bw) as hi, (select bins from bw) as bins,
       (select json_agg(json_build_array(i, c)) from hist) as hist,
-      (select array_agg(v) from (select v from sel order by t desc, id desc limit ${NORMALITY_SAMPLE}) s) as newest
-    from m, mom, mr`,
+      (select array_agg(v order by rn desc) from sel where rn > m.n - ${NORMALITY_SAMPLE}) as newest
+    from m`,
   );
   const r = res.rows[0];
   const n = Number(r.n);
@@ -151,28 +197,26 @@ export async function distributionAggregate(
 }
 
 /** SQL of the grouping key and its label (labels are read after grouping, from small tables). */
-function groupSql(by: CompareBy): { key: SQL; label: SQL; need: Parameters<typeof selection>[1] } {
+function groupSql(by: CompareBy): { key: SQL; label: SQL } {
   switch (by) {
     case 'station':
       return {
-        key: sql`${calibrations.stationId}::text`,
-        label: sql`(select ${stations.name} from ${stations} where ${stations.id}::text = g.g)`,
-        need: {},
+        key: sql`${s.stationId}::text`,
+        label: sql`(select ${stations.name} from ${stations} where ${stations.id}::text collate "C" = g.g)`,
       };
     case 'hallBoardLot':
-      return { key: sql`${units.hallBoardLot}`, label: sql`nullif(g.g, '')`, need: {} };
+      return { key: sql`${s.hallBoardLot}`, label: sql`nullif(g.g, '')` };
     case 'magnetRingLot':
-      return { key: sql`${units.magnetRingLot}`, label: sql`nullif(g.g, '')`, need: {} };
+      return { key: sql`${s.magnetRingLot}`, label: sql`nullif(g.g, '')` };
     case 'statorLot':
-      return { key: sql`${units.statorLot}`, label: sql`nullif(g.g, '')`, need: {} };
+      return { key: sql`${s.statorLot}`, label: sql`nullif(g.g, '')` };
     case 'operator':
       return {
-        key: sql`${measurements.operatorId}::text`,
-        label: sql`(select ${users.displayName} from ${users} where ${users.id}::text = g.g)`,
-        need: { measurement: true },
+        key: sql`${s.operatorId}::text`,
+        label: sql`(select ${users.displayName} from ${users} where ${users.id}::text collate "C" = g.g)`,
       };
     case 'recipeVersion':
-      return { key: sql`${recipes.version}::text`, label: sql`'Recipe version ' || g.g`, need: { recipe: true } };
+      return { key: sql`${s.recipeVersion}::text`, label: sql`'Recipe version ' || g.g` };
   }
 }
 
@@ -202,12 +246,15 @@ export async function comparisonAggregate(
   by: CompareBy,
 ): Promise<GroupAggregate[]> {
   const group = groupSql(by);
-  const { value, from } = selection(filter, group.need);
+  const { value, from } = statsSelection(filter);
   const res = await inSortRoom(
     db,
     sql`
+    -- Groups compare byte-wise (collation "C"): sorting by a lot under the database's language collation
+    -- cost several times more, and equality is the same.
     with sel as materialized (
-      select coalesce(${group.key}, '') as g, ${value} as v, ${calibrations.computedAt} as t, ${calibrations.id} as id ${from}
+      select coalesce(${group.key}, '') collate "C" as g, ${value} as v, ${s.computedAt} as t,
+        ${s.calibrationId} as id ${from}
     ),
     g as (
       select g, n, mean, sd, q[1] as q1, q[2] as q2, q[3] as q3 from (
@@ -216,15 +263,13 @@ export async function comparisonAggregate(
         from sel group by g
       ) a
     ),
-    fence as (select g, q1 - 1.5 * (q3 - q1) as lo, q3 + 1.5 * (q3 - q1) as hi from g),
-    inside as (
-      select s.g, min(v) as in_low, max(v) as in_high
-      from sel s join fence f on f.g = s.g where v >= f.lo and v <= f.hi group by s.g
-    ),
-    outside as (
-      select g, (array_agg(v order by v))[1:${MAX_OUTLIERS}] as outliers from (
-        select s.g, s.v from sel s join fence f on f.g = s.g where s.v < f.lo or s.v > f.hi
-      ) o group by g
+    -- One pass for both sides of the fences: the whisker ends inside, the values outside.
+    box as (
+      select s.g, min(s.v) filter (where s.v >= f.lo and s.v <= f.hi) as in_low,
+        max(s.v) filter (where s.v >= f.lo and s.v <= f.hi) as in_high,
+        array_agg(s.v) filter (where s.v < f.lo or s.v > f.hi) as outside
+      from sel s join (select g, q1 - 1.5 * (q3 - q1) as lo, q3 + 1.5 * (q3 - q1) as hi from g) f on f.g = s.g
+      group by s.g
     ),
     newest as (
       select g, array_agg(v) as vs from (
@@ -232,10 +277,9 @@ export async function comparisonAggregate(
       ) x where rn <= ${GROUP_NORMALITY_SAMPLE} group by g
     )
     select g.g as key, ${group.label} as label, g.n, g.mean, g.sd, g.q1, g.q2, g.q3,
-      inside.in_low, inside.in_high, outside.outliers, newest.vs as newest
+      box.in_low, box.in_high, box.outside, newest.vs as newest
     from g
-    left join inside on inside.g = g.g
-    left join outside on outside.g = g.g
+    join box on box.g = g.g
     join newest on newest.g = g.g`,
   );
   return res.rows.map((r) => {
@@ -250,7 +294,11 @@ export async function comparisonAggregate(
       q3: Number(r.q3),
       inLow: num(r.in_low),
       inHigh: num(r.in_high),
-      outliers: ((r.outliers as (number | string)[] | null) ?? []).map(Number),
+      // The lowest outside values, ascending (few: those beyond 1.5 IQR of the box).
+      outliers: ((r.outside as (number | string)[] | null) ?? [])
+        .map(Number)
+        .sort((a, b) => a - b)
+        .slice(0, MAX_OUTLIERS),
       newest: ((r.newest as (number | string)[] | null) ?? []).map(Number),
     };
   });
@@ -266,7 +314,7 @@ export async function groupRankSums(
   by: CompareBy,
 ): Promise<{ rankSums: Map<string, number>; ties: number }> {
   const group = groupSql(by);
-  const { value, from } = selection(filter, group.need);
+  const { value, from } = statsSelection(filter);
   const res = await inSortRoom(
     db,
     sql`
@@ -289,12 +337,11 @@ export async function groupRankSums(
 }
 
 /** How many calibrations the filter selects (with a value of its figure). */
-export async function countCalibrationFigures(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
-  const { from } = selection(filter);
+async function countCalibrationFigures(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
+  const { from } = statsSelection(filter);
   const res = await db.execute<{ n: string }>(sql`select count(*) as n ${from}`);
   return Number(res.rows[0].n);
 }
-
 
 export interface ChartRow {
   calibrationId: string;
@@ -314,27 +361,31 @@ export async function newestFigures(
   opts: { limit: number; from?: Date; to?: Date; withTotal?: boolean },
 ): Promise<{ rows: ChartRow[]; total: number }> {
   const window: SQL[] = [];
-  if (opts.from) window.push(sql` and ${calibrations.computedAt} >= ${opts.from.toISOString()}`);
-  if (opts.to) window.push(sql` and ${calibrations.computedAt} < ${opts.to.toISOString()}`);
-  const { value, from } = selection(filter);
-  const rowsQuery = db.execute<Record<string, unknown>>(sql`
-    select ${calibrations.id} as id, ${calibrations.unitId} as unit_id, ${units.serial} as serial,
-      ${calibrations.computedAt} as t, ${value} as v
-    ${from} ${sql.join(window, sql``)}
-    order by ${calibrations.computedAt} desc, ${calibrations.id} desc
+  if (opts.from) window.push(gte(s.computedAt, opts.from));
+  if (opts.to) window.push(lt(s.computedAt, opts.to));
+  const { value, from } = statsSelection(filter, window);
+  // Backwards along the station's (or the model's) time index, stopping at the limit.
+  const rowsQuery = db.execute<{ id: string; unit_id: string; serial: string; t: string; v: number }>(sql`
+    select ${s.calibrationId} as id, ${s.unitId} as unit_id, ${s.serial} as serial, ${s.computedAt} as t,
+      ${value} as v
+    ${from}
+    order by ${s.computedAt} desc, ${s.calibrationId} desc
     limit ${opts.limit}`);
   const [res, total] = await Promise.all([
     rowsQuery,
     opts.withTotal === false ? Promise.resolve(-1) : countCalibrationFigures(db, filter),
   ]);
-  const rows = res.rows
-    .map((r) => ({
-      calibrationId: r.id as string,
-      unitId: r.unit_id as string,
-      serial: r.serial as string,
-      computedAt: new Date(r.t as string),
+  const found = res.rows;
+  const rows = new Array<ChartRow>(found.length);
+  for (let i = 0, k = found.length - 1; k >= 0; i++, k--) {
+    const r = found[k];
+    rows[i] = {
+      calibrationId: r.id,
+      unitId: r.unit_id,
+      serial: r.serial,
+      computedAt: new Date(r.t),
       value: Number(r.v),
-    }))
-    .reverse();
+    };
+  }
   return { rows, total };
 }
