@@ -134,13 +134,13 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
     for (const m of DEMO_MODELS) {
       const model = await insertModelRow(tx, { code: m.code, name: m.name, polePairs: m.polePairs });
       const recipe = await insertRecipeRow(tx, {
-          modelId: model.id,
-          version: 1,
-          status: 'released',
-          body: m.recipe,
-          notes: 'First release for Line 2 end-of-line calibration.',
-          createdBy: actor?.id ?? null,
-          releasedBy: actor?.id ?? null,
+        modelId: model.id,
+        version: 1,
+        status: 'released',
+        body: m.recipe,
+        notes: 'First release for Line 2 end-of-line calibration.',
+        createdBy: actor?.id ?? null,
+        releasedBy: actor?.id ?? null,
         releasedAt,
       });
       await updateModelRow(tx, model.id, { activeRecipeId: recipe.id });
@@ -159,7 +159,13 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
 async function importActor(db: Db): Promise<SessionUser> {
   const rows = (await listUsers(db))
     .filter((u) => u.role === 'engineer' || u.role === 'admin')
-    .map((u) => ({ id: u.id, username: u.username, displayName: u.displayName, email: u.email, role: u.role }));
+    .map((u) => ({
+      id: u.id,
+      username: u.username,
+      displayName: u.displayName,
+      email: u.email,
+      role: u.role,
+    }));
   const actor = rows.find((r) => r.username === 'evan.engineer') ?? rows[0];
   if (!actor) {
     throw new Error(

@@ -13,20 +13,20 @@ import {
   qualificationStateSchema,
   referenceUnitViewSchema,
 } from '#shared/schemas/qualification';
+import { acceptQualificationReading, findRun, stationRuns } from './qualification-readings.service';
 import {
-  acceptQualificationReading,
   certifyReferenceUnit,
   createReferenceUnit,
-  findRun,
+  listReferenceUnits,
+  referenceReadings,
+} from './reference-units.service';
+import {
   getPolicy,
   getShifts,
   grantOverride,
-  listReferenceUnits,
-  referenceReadings,
   setPolicy,
   setShifts,
   stationQualification,
-  stationRuns,
   type QualificationDeps,
 } from './qualification.service';
 

@@ -3,7 +3,7 @@ import { auditOfSubjects } from '../audit/audit.repository';
 import { calibrationViews } from '../read-models/calibration-views';
 import { measurementsOfUnit } from '../measurements/measurements.repository';
 import { programmingOfCalibrations } from '../calibrations/calibrations.repository';
-import { qualificationUseOfUnit } from '../qualification/qualification.service';
+import { qualificationUseOfUnit } from '../qualification/reference-units.service';
 import { releasedRecipe } from '../recipes/recipes.repository';
 import { stationNamesByIds } from '../stations/stations.service';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
