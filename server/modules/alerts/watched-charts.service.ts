@@ -11,7 +11,7 @@ import type { WatchedChartSettings, WatchedChartView } from '#shared/schemas/ale
 import { alertErrors } from './alerts.errors';
 import { watchedCharts, type WatchedChartRecord } from './alerts.table';
 import { CHART_LABELS, ensureDefaultCharts } from './alerts.service';
-import { type WatchState } from './alerts.watch';
+import { initialWatchState, type WatchState } from './alerts.watch';
 
 /** The watched charts (of a model, a station, or all), with the limits each judges against. */
 export async function listWatchedCharts(
