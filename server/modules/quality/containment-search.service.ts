@@ -14,7 +14,6 @@ import {
   type UnitSearchQuery,
 } from '#shared/schemas/quality';
 import { qualityErrors } from './quality.errors';
-import * as repo from './quality.repository';
 
 import { searchWhere } from './quality.service';
 

@@ -4,17 +4,16 @@ import {
   markBad,
   markGood,
   markPending,
-  Page,
   RULE,
   SOFT,
   TINT,
   type Face,
+  type Page,
 } from '../travelers/traveler.page';
 import { checkName, formatCheckLimit, formatCheckValue } from '#shared/calibration/check-guide';
 import type { CalibrationView } from '#shared/schemas/calibrations';
 import { TIMELINE_KIND_LABELS, type UnitRecord } from '#shared/schemas/unit-record';
 import { formatOffsetDeg } from '#shared/wording';
-
 import { DISPOSITION_WORDS } from './unit-record.wording';
 
 // The sections of the unit's calibration record on paper after its header and identity block: each attempt
