@@ -18,7 +18,6 @@ import { analysisErrors } from './analysis.errors';
 import type { ControlLimitSetRecord } from './analysis.table';
 import { baselineFromWindow, frozenBaseline, limitSetView, limitsInForce } from './control-limits.service';
 import { periodKeyer } from '#shared/time/plant-time';
-
 import { modelRecipe, type PlantTime } from './analysis.service';
 
 // The control chart of a filter: its points, limits (frozen or computed), subgroups by size or by plant period, and

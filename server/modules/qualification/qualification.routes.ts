@@ -29,7 +29,6 @@ import {
   stationQualification,
   type QualificationDeps,
 } from './qualification.service';
-
 import { gaugeStudyRoutes } from './gauge-studies.routes';
 import { renderQualificationSlip } from './qualification.pdf';
 

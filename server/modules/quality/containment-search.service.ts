@@ -7,14 +7,13 @@ import { CalibrationInputError } from '#shared/calibration';
 import { traceMeasurement } from '#shared/calibration/trace';
 import type { Measurement } from '#shared/schemas/measurement';
 import { searchUnitsPage, streamSearchRows } from '../units/units.repository';
-import {
-  type MeasurementTrace,
-  type SearchChoices,
-  type UnitSearchPage,
-  type UnitSearchQuery,
+import type {
+  MeasurementTrace,
+  SearchChoices,
+  UnitSearchPage,
+  UnitSearchQuery,
 } from '#shared/schemas/quality';
 import { qualityErrors } from './quality.errors';
-
 import { searchWhere } from './quality.service';
 
 // The containment search: one page, its choices, its CSV, and the raw data behind a found unit's numbers.

@@ -3,10 +3,9 @@ import { insertAuditMany } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { lockUnitsForHold, markUnitReleased, type UnitHoldState } from '../units/units.repository';
 import type { UnitRecord } from '../units/units.table';
-import { type HoldDisposition, type Release, type ReleaseResult } from '#shared/schemas/quality';
+import type { HoldDisposition, Release, ReleaseResult } from '#shared/schemas/quality';
 import { qualityErrors } from './quality.errors';
 import * as repo from './quality.repository';
-
 import { idsOfSerials, type QualityContext } from './quality.service';
 
 // Releases: a disposition per unit, the state it leaves the unit in, and the audit trail.

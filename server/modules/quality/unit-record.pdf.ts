@@ -5,9 +5,8 @@ import { formatTime, INK, MARGIN, markBad, Page, SOFT, drawPageFooters } from '.
 import { PAGE_SIZES_PT } from '../travelers/traveler.render';
 import { TRAVELER_HEADER } from '../travelers/travelers.service';
 import { modelName } from './unit-record.wording';
-import { type UnitRecord } from '#shared/schemas/unit-record';
+import type { UnitRecord } from '#shared/schemas/unit-record';
 import { formatOffsetDeg } from '#shared/wording';
-
 import {
   drawAttempt,
   drawFiles,

@@ -136,7 +136,8 @@ export async function updateAccount(
         email: v.email === undefined ? undefined : v.email,
         role: v.role,
         disabled: v.disabled,
-        badgeCode: v.badgeCode === undefined ? undefined : badgeCleared ? null : normaliseBadgeCode(v.badgeCode),
+        badgeCode:
+          v.badgeCode === undefined ? undefined : badgeCleared ? null : normaliseBadgeCode(v.badgeCode),
         pinHash: badgeCleared ? null : pinHash,
         // A role change or disabling ends the person's open sessions at once.
         tokenVersion: roleChanges || disabling ? sql`${users.tokenVersion} + 1` : undefined,
