@@ -105,12 +105,8 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
       requireAccess(r.access),
       ...(r.before ?? []),
       async (req: Request, res: Response) => {
-        if (r.handle) {
-          const { params, query, body } = parseRequest(r, req);
-          await r.handle({ params, query, body, caller: callerOf(req, r.access) }, res, req);
-        } else {
-          await r.handler(req, res);
-        }
+        const { params, query, body } = parseRequest(r, req);
+        await r.handle({ params, query, body, caller: callerOf(req, r.access) }, res, req);
       },
     );
   }

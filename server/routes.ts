@@ -1,5 +1,5 @@
 import type { AppDeps } from './deps';
-import { route, type RouteDef } from './lib/http';
+import { defineRoute, type RouteDef } from './lib/http';
 import { buildOpenApi } from './lib/openapi';
 import { alertsRoutes } from './modules/alerts/alerts.routes';
 import { analysisRoutes } from './modules/analysis/analysis.routes';
@@ -45,12 +45,13 @@ export function buildRoutes(deps: AppDeps): RouteDef[] {
     ...qualificationRoutes(deps),
   ];
   routes.push(
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/openapi.json',
       access: 'anyone',
       summary: 'This API as an OpenAPI 3.1 document',
-      handler: (_req, res) => {
+      responses: { 200: { description: 'The OpenAPI 3.1 document', contentType: 'application/json' } },
+      handle: (_input, res) => {
         res.json(buildOpenApi(routes, APP_VERSION));
       },
     }),

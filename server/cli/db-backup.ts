@@ -16,7 +16,11 @@ try {
   const outDir = resolve(values.out ?? toolSettings().BACKUP_DIR ?? join(repoRoot, '.data', 'backups'));
   const pg = await ensurePostgres({ instance: toolSettings().PG_INSTANCE, log: () => {} });
   const t0 = performance.now();
-  const { manifest, dumpPath, manifestPath } = await backupDatabase({ ownerUrl: pg.ownerUrl, outDir });
+  const { manifest, dumpPath, manifestPath } = await backupDatabase({
+    ownerUrl: pg.ownerUrl,
+    outDir,
+    now: new Date(),
+  });
   const rows = Object.values(manifest.rowCounts).reduce((a, b) => a + b, 0);
   const show = (p: string) => (p.startsWith(repoRoot) ? relative(repoRoot, p) : p);
   process.stdout.write(

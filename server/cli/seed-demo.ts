@@ -59,7 +59,7 @@ try {
   const t0 = performance.now();
   let lastLine = t0;
   const report = await seedDemoLine(
-    { db: database.db, pool: database.pool, queue },
+    { db: database.db, pool: database.pool, queue, clock: () => new Date() },
     {
       units: count,
       timeZone: demo.PLANT_TIME_ZONE,

@@ -120,8 +120,8 @@ async function contentFigures(client: pg.ClientBase) {
  * Dumps the database `ownerUrl` names (as its owner, who can read everything) into `outDir` and writes
  * the manifest beside it. Returns the manifest and both paths.
  */
-export async function backupDatabase(opts: { ownerUrl: string; outDir: string; now?: Date }) {
-  const now = opts.now ?? new Date();
+export async function backupDatabase(opts: { ownerUrl: string; outDir: string; now: Date }) {
+  const now = opts.now;
   mkdirSync(opts.outDir, { recursive: true, mode: 0o700 });
   const database = decodeURIComponent(new URL(opts.ownerUrl).pathname.replace(/^\//, ''));
   const stamp = now

@@ -4,7 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createApp } from '../app';
 import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '#tests/harness/test-app';
 import { createLineFixture } from '#tests/harness/line-fixtures';
-import { defineRoute, route, type RouteDef } from './http';
+import { defineRoute, type RouteDef } from './http';
 import { buildOpenApi } from './openapi';
 
 let t: TestApp;
@@ -30,7 +30,9 @@ const routes: RouteDef[] = [
     handle: ({ params, query, body, caller }, res) => {
       ran++;
       // Typed: caller.user is a SessionUser here (the access names people), no `!` needed.
-      res.json(echoResponse.parse({ id: params.id, limit: query.limit, note: body.note, who: caller.user.username }));
+      res.json(
+        echoResponse.parse({ id: params.id, limit: query.limit, note: body.note, who: caller.user.username }),
+      );
     },
   }),
   defineRoute({
@@ -40,15 +42,6 @@ const routes: RouteDef[] = [
     summary: 'Says who called',
     handle: ({ caller }, res) => {
       res.json(caller.station ? { station: caller.station.stationName } : { person: caller.user.username });
-    },
-  }),
-  route({
-    method: 'get',
-    path: '/api/contract-check/legacy/:id',
-    access: 'signed-in',
-    summary: 'A route in the earlier form, parsing its own input',
-    handler: (req, res) => {
-      res.json({ id: req.params.id, user: req.user!.username });
     },
   }),
 ];
@@ -66,7 +59,7 @@ afterAll(async () => {
 const ID = '3f2c9b1e-8a4d-4c2b-9e1f-0a1b2c3d4e5f';
 
 describe('the route definition is the HTTP contract', () => {
-  it('the handler gets params, query and body parsed by the route\'s own schemas, defaults applied', async () => {
+  it("the handler gets params, query and body parsed by the route's own schemas, defaults applied", async () => {
     const res = await request(app)
       .post(`/api/contract-check/${ID}`)
       .set('Origin', TEST_ORIGIN)
@@ -120,11 +113,6 @@ describe('the route definition is the HTTP contract', () => {
     expect(mixed.body).toEqual({ station: 'EOL-HT-1' });
   });
 
-  it('a route in the earlier form, without request schemas, still works', async () => {
-    const res = await request(app).get(`/api/contract-check/legacy/${ID}`).set('Cookie', evan);
-    expect(res.body).toEqual({ id: ID, user: 'evan.engineer' });
-  });
-
   it('request and response schemas go into the OpenAPI document', () => {
     const doc = buildOpenApi(routes, 'test') as {
       paths: Record<string, Record<string, Record<string, unknown>>>;
@@ -132,10 +120,18 @@ describe('the route definition is the HTTP contract', () => {
     const op = doc.paths['/api/contract-check/{id}'].post as {
       parameters: { name: string; in: string; required: boolean; schema: Record<string, unknown> }[];
       requestBody: { content: Record<string, { schema: { properties: Record<string, unknown> } }> };
-      responses: Record<string, { content?: Record<string, { schema: { properties: Record<string, unknown> } }> }>;
+      responses: Record<
+        string,
+        { content?: Record<string, { schema: { properties: Record<string, unknown> } }> }
+      >;
     };
     expect(op.parameters).toEqual([
-      expect.objectContaining({ name: 'id', in: 'path', required: true, schema: expect.objectContaining({ format: 'uuid' }) }),
+      expect.objectContaining({
+        name: 'id',
+        in: 'path',
+        required: true,
+        schema: expect.objectContaining({ format: 'uuid' }),
+      }),
       expect.objectContaining({ name: 'limit', in: 'query', required: false }),
     ]);
     expect(Object.keys(op.requestBody.content['application/json'].schema.properties)).toEqual(['note']);

@@ -59,11 +59,11 @@ interface RouteCommon {
 }
 
 /**
- * A route whose definition is its whole HTTP contract (the one way to add a route): `createApp`
+ * A route whose definition is its whole HTTP contract (the only way to add a route): `createApp`
  * parses `request.params`, `request.query` and `request.body` with their zod schemas (a failure is
  * the usual 400 with `issues`) and calls `handle` with the parsed values and the caller.
  */
-export interface ContractRouteDef extends RouteCommon {
+export interface RouteDef extends RouteCommon {
   request?: RequestSchemas;
   /**
    * A body the service parses itself, for its own refusals and the verbatim record (the station's
@@ -73,29 +73,6 @@ export interface ContractRouteDef extends RouteCommon {
   // The input's types are checked where the route is made (`defineRoute`); here it is stored erased.
   // eslint-disable-next-line @typescript-eslint/no-explicit-any
   handle: (input: RouteInput<any, any, any, any>, res: Response, req: Request) => unknown;
-  handler?: never;
-  body?: never;
-  query?: never;
-}
-
-/**
- * The earlier form, still accepted so routes written against it keep working: the handler parses its
- * own input; `body`/`query` only describe it in the OpenAPI document. Convert to `defineRoute`.
- */
-export interface LegacyRouteDef extends RouteCommon {
-  body?: ZodType;
-  query?: ZodType;
-  handler: (req: Request, res: Response) => unknown;
-  handle?: never;
-  request?: never;
-  serviceParsedBody?: never;
-}
-
-export type RouteDef = ContractRouteDef | LegacyRouteDef;
-
-/** Identity helper that keeps route literals typed (either form). */
-export function route(def: RouteDef): RouteDef {
-  return def;
 }
 
 type Out<S> = S extends ZodType ? z.output<S> : undefined;
@@ -116,8 +93,8 @@ export function defineRoute<
     request?: { params?: PS; query?: QS; body?: BS };
     handle: (input: RouteInput<A, Out<PS>, Out<QS>, Out<BS>>, res: Response, req: Request) => unknown;
   },
-): ContractRouteDef {
-  return def as unknown as ContractRouteDef;
+): RouteDef {
+  return def as unknown as RouteDef;
 }
 
 /**
@@ -138,7 +115,7 @@ export function callerOf(
 }
 
 /** Parses a contract route's declared request parts (a ZodError becomes the usual 400). */
-export function parseRequest(r: ContractRouteDef, req: Request) {
+export function parseRequest(r: RouteDef, req: Request) {
   const s = r.request ?? {};
   return {
     params: s.params ? s.params.parse(req.params) : undefined,

@@ -19,9 +19,9 @@ export function buildOpenApi(routes: RouteDef[], version: string) {
           schema: { type: 'string' },
         },
     );
-    const querySchema = r.query ?? r.request?.query;
+    const querySchema = r.request?.query;
     const query = querySchema ? toParams(querySchema, 'query') : [];
-    const bodySchema = r.body ?? r.request?.body ?? r.serviceParsedBody;
+    const bodySchema = r.request?.body ?? r.serviceParsedBody;
     const security =
       r.access === 'anyone'
         ? []

@@ -19,6 +19,14 @@ export const badgeCodeSchema = z
   .max(32, 'At most 32 characters')
   .regex(/^[A-Za-z0-9-]+$/, 'Letters, digits and dashes only');
 
+/**
+ * The one spelling of a badge code: without surrounding white space (a scanner's CR/LF), upper-cased.
+ * It is what is stored, looked up (`upper(badge_code) = <normalised>`) and named in the sign-in throttle.
+ */
+export function normaliseBadgeCode(raw: string): string {
+  return raw.trim().toUpperCase();
+}
+
 export const pinSchema = z.string().regex(/^\d{4,8}$/, '4 to 8 digits');
 
 export const passwordSignInSchema = z.object({
@@ -49,6 +57,7 @@ export type MeResponse = z.infer<typeof meResponseSchema>;
 export const passwordResetRequestSchema = z.object({
   email: z.string().trim().email('Enter an e-mail address'),
 });
+export const passwordResetAcceptedSchema = z.object({ accepted: z.literal(true) });
 
 /** Completing an invitation or a reset: the single-use token from the e-mail and the new password. */
 export const setPasswordSchema = z.object({

@@ -60,64 +60,85 @@ export const sendBackSchema = z.object({
   comment: z.string().trim().min(3, 'Tell the author what to change (at least 3 characters).').max(2000),
 });
 
-export interface PersonRef {
-  id: string;
-  displayName: string;
-}
+export const personRefSchema = z.object({ id: z.string(), displayName: z.string() });
+export type PersonRef = z.infer<typeof personRefSchema>;
 
-export interface RecipeVersionView {
-  id: string;
-  modelId: string;
-  modelCode: string;
-  version: number;
-  status: RecipeStatus;
-  body: z.infer<typeof recipeSchema>;
-  notes: string | null;
-  revision: number;
-  basedOn: { id: string; version: number } | null;
-  createdBy: PersonRef | null;
-  createdAt: string;
-  updatedBy: PersonRef | null;
-  updatedAt: string | null;
-  changeReason: string | null;
-  submittedBy: PersonRef | null;
-  submittedAt: string | null;
-  reviewComment: string | null;
-  releasedBy: PersonRef | null;
-  releasedAt: string | null;
-  retiredAt: string | null;
-  releaseDiff: RecipeFieldChange[] | null;
-  replaces: { id: string; version: number } | null;
-  discardedBy: PersonRef | null;
-  discardedAt: string | null;
-  discardReason: string | null;
-}
+const versionRef = z.object({ id: z.string(), version: z.number().int() });
+const recipeLeaf = z.union([z.string(), z.number(), z.boolean(), z.null()]);
 
-export interface ModelSummaryView {
-  id: string;
-  code: string;
-  name: string;
-  polePairs: number;
-  activeRecipe: {
-    id: string;
-    version: number;
-    name: string | null;
-    body: z.infer<typeof recipeSchema>;
-  } | null;
-  hallLayout: string | null;
-  countsPerTurn: number | null;
-  stations: { id: string; name: string }[];
-  unitsBuilt: number;
+/** One field that differs between two recipe versions (see `diffRecipes`). */
+export const recipeFieldChangeSchema = z.object({
+  path: z.string(),
+  label: z.string(),
+  unit: z.string(),
+  before: recipeLeaf,
+  after: recipeLeaf,
+}) satisfies z.ZodType<RecipeFieldChange>;
+
+export const recipeVersionViewSchema = z.object({
+  id: z.string(),
+  modelId: z.string(),
+  modelCode: z.string(),
+  version: z.number().int(),
+  status: recipeStatusSchema,
+  body: recipeSchema,
+  notes: z.string().nullable(),
+  revision: z.number().int(),
+  basedOn: versionRef.nullable(),
+  createdBy: personRefSchema.nullable(),
+  createdAt: z.string(),
+  updatedBy: personRefSchema.nullable(),
+  updatedAt: z.string().nullable(),
+  changeReason: z.string().nullable(),
+  submittedBy: personRefSchema.nullable(),
+  submittedAt: z.string().nullable(),
+  reviewComment: z.string().nullable(),
+  releasedBy: personRefSchema.nullable(),
+  releasedAt: z.string().nullable(),
+  retiredAt: z.string().nullable(),
+  releaseDiff: z.array(recipeFieldChangeSchema).nullable(),
+  replaces: versionRef.nullable(),
+  discardedBy: personRefSchema.nullable(),
+  discardedAt: z.string().nullable(),
+  discardReason: z.string().nullable(),
+});
+export type RecipeVersionView = z.infer<typeof recipeVersionViewSchema>;
+
+export const modelSummaryViewSchema = z.object({
+  id: z.string(),
+  code: z.string(),
+  name: z.string(),
+  polePairs: z.number().int(),
+  activeRecipe: z
+    .object({ id: z.string(), version: z.number().int(), name: z.string().nullable(), body: recipeSchema })
+    .nullable(),
+  hallLayout: z.string().nullable(),
+  countsPerTurn: z.number().nullable(),
+  stations: z.array(z.object({ id: z.string(), name: z.string() })),
+  unitsBuilt: z.number().int(),
   /** First-pass yield over the last 7 days: units whose first station measurement passed, of units first measured. */
-  firstPassYield7d: { firstMeasured: number; passedFirst: number; pct: number | null };
-}
+  firstPassYield7d: z.object({
+    firstMeasured: z.number().int(),
+    passedFirst: z.number().int(),
+    pct: z.number().nullable(),
+  }),
+});
+export type ModelSummaryView = z.infer<typeof modelSummaryViewSchema>;
 
-export interface ModelDetailView extends ModelSummaryView {
+export const modelDetailViewSchema = modelSummaryViewSchema.extend({
   /** The working list: every version except discarded drafts. */
-  versions: RecipeVersionView[];
+  versions: z.array(recipeVersionViewSchema),
   /** Discarded drafts, kept for the record, newest first. */
-  discarded: RecipeVersionView[];
-}
+  discarded: z.array(recipeVersionViewSchema),
+});
+export type ModelDetailView = z.infer<typeof modelDetailViewSchema>;
+
+/** Field-by-field changes from one version to another (`GET /api/recipes/:id/diff`). */
+export const recipeDiffSchema = z.object({
+  from: versionRef.extend({ modelId: z.string() }),
+  to: versionRef.extend({ modelId: z.string() }),
+  changes: z.array(recipeFieldChangeSchema),
+});
 
 export const whatIfFiltersSchema = z
   .object({
@@ -137,24 +158,34 @@ export type WhatIfFilters = z.infer<typeof whatIfFiltersSchema>;
 export const startWhatIfSchema = z.object({ filters: whatIfFiltersSchema.optional() });
 
 /** Counts of offsets in 1 °e bins, `fromDeg` is the lower edge of the first bin. */
-export interface OffsetHistogram {
-  fromDeg: number;
-  binDeg: number;
-  counts: number[];
-}
+const offsetHistogramSchema = z.object({
+  fromDeg: z.number(),
+  binDeg: z.number(),
+  counts: z.array(z.number().int()),
+});
+export type OffsetHistogram = z.infer<typeof offsetHistogramSchema>;
 
-export interface WhatIfChangedUnit {
-  unitId: string;
-  serial: string;
-  measurementId: string;
-  receivedAt: string;
-  before: { verdict: string; offsetDeg: number | null };
-  after: { verdict: string; offsetDeg: number | null };
+const outcome = z.object({ verdict: z.string(), offsetDeg: z.number().nullable() });
+
+const whatIfChangedUnitSchema = z.object({
+  unitId: z.string(),
+  serial: z.string(),
+  measurementId: z.string(),
+  receivedAt: z.string(),
+  before: outcome,
+  after: outcome,
   /** Check codes whose outcome differs between the two versions. */
-  checks: string[];
+  checks: z.array(z.string()),
   /** The unit's component lots (absent in runs stored before lots were recorded). */
-  lots?: { hallBoard: string | null; magnetRing: string | null; stator: string | null };
-}
+  lots: z
+    .object({
+      hallBoard: z.string().nullable(),
+      magnetRing: z.string().nullable(),
+      stator: z.string().nullable(),
+    })
+    .optional(),
+});
+export type WhatIfChangedUnit = z.infer<typeof whatIfChangedUnitSchema>;
 
 export type ComponentLotKind = 'hallBoard' | 'magnetRing' | 'stator';
 
@@ -165,50 +196,59 @@ export const COMPONENT_LOT_LABELS: Record<ComponentLotKind, string> = {
 };
 
 /** One component lot among the replayed units: how many were replayed and how many would change. */
-export interface WhatIfLotGroup {
+const whatIfLotGroupSchema = z.object({
   /** The lot code; null for units registered without one. */
-  lot: string | null;
-  replayed: number;
-  changed: number;
-  passToFail: number;
-  failToPass: number;
-}
+  lot: z.string().nullable(),
+  replayed: z.number().int(),
+  changed: z.number().int(),
+  passToFail: z.number().int(),
+  failToPass: z.number().int(),
+});
+export type WhatIfLotGroup = z.infer<typeof whatIfLotGroupSchema>;
 
-export interface WhatIfSummary {
-  measurements: number;
-  passToFail: number;
-  failToPass: number;
-  unchanged: number;
-  unusable: number;
+const whatIfSummarySchema = z.object({
+  measurements: z.number().int(),
+  passToFail: z.number().int(),
+  failToPass: z.number().int(),
+  unchanged: z.number().int(),
+  unusable: z.number().int(),
   /** How many verdict changes each check's outcome took part in, by check code. */
-  causes: { code: string; label: string; count: number }[];
-  histogram: { draft: OffsetHistogram; inForce: OffsetHistogram };
+  causes: z.array(z.object({ code: z.string(), label: z.string(), count: z.number().int() })),
+  histogram: z.object({ draft: offsetHistogramSchema, inForce: offsetHistogramSchema }),
   /** Changed units, at most 500 listed (the counts above are complete). */
-  changed: WhatIfChangedUnit[];
+  changed: z.array(whatIfChangedUnitSchema),
   /**
    * Changed units grouped by component lot, for each kind of lot: lots with at least one change, most
    * changes first (at most 50 per kind; counts are complete). Absent in runs stored before lots were recorded.
    */
-  lots?: Record<ComponentLotKind, WhatIfLotGroup[]>;
-  measurementsPerSecond: number;
-}
+  lots: z
+    .object({
+      hallBoard: z.array(whatIfLotGroupSchema),
+      magnetRing: z.array(whatIfLotGroupSchema),
+      stator: z.array(whatIfLotGroupSchema),
+    })
+    .optional(),
+  measurementsPerSecond: z.number(),
+});
+export type WhatIfSummary = z.infer<typeof whatIfSummarySchema>;
 
-export interface WhatIfRunView {
-  id: string;
-  recipe: { id: string; version: number };
-  baseline: { id: string; version: number };
-  modelId: string;
-  status: (typeof WHAT_IF_STATUSES)[number];
-  filters: WhatIfFilters;
-  total: number;
-  processed: number;
-  summary: WhatIfSummary | null;
-  error: string | null;
-  requestedBy: PersonRef | null;
-  createdAt: string;
-  startedAt: string | null;
-  finishedAt: string | null;
-}
+export const whatIfRunViewSchema = z.object({
+  id: z.string(),
+  recipe: versionRef,
+  baseline: versionRef,
+  modelId: z.string(),
+  status: z.enum(WHAT_IF_STATUSES),
+  filters: whatIfFiltersSchema,
+  total: z.number().int(),
+  processed: z.number().int(),
+  summary: whatIfSummarySchema.nullable(),
+  error: z.string().nullable(),
+  requestedBy: personRefSchema.nullable(),
+  createdAt: z.string(),
+  startedAt: z.string().nullable(),
+  finishedAt: z.string().nullable(),
+});
+export type WhatIfRunView = z.infer<typeof whatIfRunViewSchema>;
 
 /** Progress of a what-if run, pushed over the event hub (Server-Sent Events to the recipe screens). */
 export const whatIfProgressSchema = z.object({

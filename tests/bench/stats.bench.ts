@@ -13,11 +13,8 @@ import { createDatabase } from '#server/db/client';
 import { runMigrations } from '#server/db/migrate';
 import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
 import { createStation } from '#server/modules/stations/stations.service';
-import {
-  comparisonView,
-  controlChartView,
-  distributionView,
-} from '#server/modules/analysis/analysis.service';
+import { comparisonView, distributionView } from '#server/modules/analysis/analysis.service';
+import { controlChartView } from '#server/modules/analysis/control-chart.service';
 import { writeCalibrationsCsv } from '#server/modules/analysis/analysis.export';
 import {
   analysisFilterSchema,

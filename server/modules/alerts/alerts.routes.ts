@@ -11,7 +11,7 @@ import {
   watchedChartSettingsSchema,
   watchedChartViewSchema,
 } from '#shared/schemas/alerts';
-import { acknowledgeAlert, isSubscribed, listAlerts, setSubscription } from './alerts.service';
+import { acknowledgeAlert, isSubscribed, listAlerts, setSubscription } from './alert-list.service';
 import { listWatchedCharts, setWatchedChart } from './watched-charts.service';
 
 const idParams = z.object({ id: z.uuid() });

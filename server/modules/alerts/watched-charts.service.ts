@@ -1,7 +1,6 @@
 import { and, asc, eq, ne } from 'drizzle-orm';
 import type { Db, DbOrTx } from '#server/db/client';
 import type { SessionUser } from '#server/lib/auth';
-import { AppError } from '#server/lib/errors';
 import { insertAudit } from '../audit/audit.repository';
 import { limitsInForce } from '../analysis/control-limits.service';
 import { newestStationCalibration } from '../read-models/calibration-figures.repository';
@@ -9,14 +8,10 @@ import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation } from '../stations/stations.service';
 import { allRules } from '#shared/statistics';
 import type { WatchedChartSettings, WatchedChartView } from '#shared/schemas/alerts';
+import { alertErrors } from './alerts.errors';
 import { watchedCharts, type WatchedChartRecord } from './alerts.table';
 import { CHART_LABELS, ensureDefaultCharts } from './alerts.service';
 import { initialWatchState, type WatchState } from './alerts.watch';
-
-const watchedChartErrors = {
-  unknownStation: () => new AppError(404, 'alerts.unknown_station', 'There is no such station.'),
-  unknownModel: () => new AppError(404, 'alerts.unknown_model', 'There is no such model.'),
-};
 
 /** The watched charts (of a model, a station, or all), with the limits each judges against. */
 export async function listWatchedCharts(
@@ -52,7 +47,8 @@ export async function listWatchedCharts(
 }
 
 function view(r: WatchedChartRecord, names: Map<string, string>, frozen: boolean): WatchedChartView {
-  if (r.kind === 'qualification') throw new Error('A qualification chart is not a configurable watched chart');
+  if (r.kind === 'qualification')
+    throw new Error('A qualification chart is not a configurable watched chart');
   return {
     id: r.id,
     stationId: r.stationId,
@@ -85,8 +81,8 @@ export async function setWatchedChart(
   actor: SessionUser,
   input: WatchedChartSettings,
 ): Promise<WatchedChartView> {
-  if (!(await findStation(db, input.stationId))) throw watchedChartErrors.unknownStation();
-  if (!(await findModelWithActiveRecipe(db, input.modelId))) throw watchedChartErrors.unknownModel();
+  if (!(await findStation(db, input.stationId))) throw alertErrors.unknownStation();
+  if (!(await findModelWithActiveRecipe(db, input.modelId))) throw alertErrors.unknownModel();
   const now = clock();
   const pair = { stationId: input.stationId, modelId: input.modelId };
   await ensureDefaultCharts(db, input.stationId, input.modelId, now);

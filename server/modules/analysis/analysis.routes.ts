@@ -18,12 +18,12 @@ import { capabilityReport } from './analysis.service';
 import {
   analysisOptions,
   comparisonView,
-  controlChartView,
   distributionView,
   lineHealthView,
   readPlantTime,
   resolveRange,
 } from './analysis.service';
+import { controlChartView } from './control-chart.service';
 import type { AnalysisFilter } from '#shared/schemas/analysis';
 
 /**

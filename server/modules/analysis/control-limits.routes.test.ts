@@ -2,12 +2,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, sessionCookie, TEST_ORIGIN, type TestApp } from '#tests/harness/test-app';
 import { seedDemoLine } from '../demo/demo-line.seed';
-import type {
-  AnalysisOptions,
-  ControlChartView,
-  LimitHistory,
-  LimitSetView,
-} from '#shared/schemas/analysis';
+import type { AnalysisOptions, ControlChartView, LimitHistory, LimitSetView } from '#shared/schemas/analysis';
 import type { WatchedChartView } from '#shared/schemas/alerts';
 
 // A Thursday: the seeded fortnight runs from 5 to 19 November 2026.

@@ -4,12 +4,7 @@ import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation } from '../stations/stations.service';
 import { newestFigures } from '../read-models/calibration-aggregates.repository';
-import {
-  consecutiveSubgroups,
-  individualsChart,
-  subgroupChart,
-  type Baseline,
-} from '#shared/statistics';
+import { consecutiveSubgroups, individualsChart, subgroupChart, type Baseline } from '#shared/statistics';
 import type {
   AnalysisFigure,
   AnalysisFilter,

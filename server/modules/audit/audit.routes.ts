@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import type { AppDeps } from '#server/deps';
-import { defineRoute, route } from '#server/lib/http';
+import { defineRoute } from '#server/lib/http';
 import { auditEntries, auditTrail } from './audit.service';
 import { auditTrailQuerySchema } from '#shared/schemas/audit-trail';
 import { auditResponseSchema, type AuditEntry } from '#shared/schemas/audit';
@@ -40,24 +40,28 @@ export function auditRoutes(deps: AppDeps) {
         res.json({ entries: await auditEntries(deps.db, limit) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/audit',
       access: ['quality'],
       summary: 'The audit trail of units, investigations and recipes, filtered (quality and admins)',
-      query: auditTrailQuerySchema,
-      handler: async (req, res) => {
-        res.json({ entries: await auditTrail(deps.db, auditTrailQuerySchema.parse(req.query)) });
+      request: { query: auditTrailQuerySchema },
+      responses: { 200: { description: 'The matching entries, newest first', schema: auditResponseSchema } },
+      handle: async ({ query }, res) => {
+        res.json({ entries: await auditTrail(deps.db, query) });
       },
     }),
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/audit.csv',
       access: ['quality'],
       summary: 'The filtered audit trail as CSV',
-      query: auditTrailQuerySchema,
-      handler: async (req, res) => {
-        const entries = await auditTrail(deps.readDb, auditTrailQuerySchema.parse(req.query));
+      request: { query: auditTrailQuerySchema },
+      responses: {
+        200: { description: 'The matching entries as CSV, newest first', contentType: 'text/csv' },
+      },
+      handle: async ({ query }, res) => {
+        const entries = await auditTrail(deps.readDb, query);
         res.setHeader('Content-Type', 'text/csv; charset=utf-8');
         res.setHeader('Content-Disposition', 'attachment; filename="audit-trail.csv"');
         res.send(auditCsv(entries));

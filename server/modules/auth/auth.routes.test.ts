@@ -155,13 +155,15 @@ describe('sessions', () => {
     ).rows;
     const noReason = await request(t.app)
       .patch(`/api/admin/users/${id}`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', cookieOf(admin))
       .send({ role: 'engineer' });
     expect(noReason.status).toBe(400);
     expect(noReason.body.error.code).toBe('users.reason_required');
     const changed = await request(t.app)
       .patch(`/api/admin/users/${id}`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', cookieOf(admin))
       .send({ role: 'engineer', reason: 'moved to process engineering' });
     expect(changed.status).toBe(200);
     const me = await request(t.app).get('/api/me').set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(q));
@@ -169,14 +171,16 @@ describe('sessions', () => {
     expect(me.body.error.code).toBe('auth.session_revoked');
     await request(t.app)
       .patch(`/api/admin/users/${id}`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', cookieOf(admin))
       .send({ role: 'quality', reason: 'back' });
   });
 
   it('rejects a forged token', async () => {
     const me = await request(t.app)
       .get('/api/me')
-      .set('Origin', TEST_ORIGIN).set('Cookie', 'pw_session=eyJhbGciOiJIUzI1NiJ9.eyJzdWIiOiJ4In0.bad');
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', 'pw_session=eyJhbGciOiJIUzI1NiJ9.eyJzdWIiOiJ4In0.bad');
     expect(me.status).toBe(401);
   });
 
@@ -185,7 +189,10 @@ describe('sessions', () => {
     const op = await request(t.app)
       .post('/api/auth/badge-sign-in')
       .send({ badgeCode: 'OP-1001', pin: '2468' });
-    const res = await request(t.app).get('/api/admin/users').set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(op));
+    const res = await request(t.app)
+      .get('/api/admin/users')
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', cookieOf(op));
     expect(res.status).toBe(403);
     expect(res.body.error.code).toBe('auth.forbidden');
   });
@@ -196,7 +203,8 @@ describe('invitations and password resets by e-mail', () => {
     const admin = await signIn('ada.admin', 'demo-admin-pass', '10.9.4.1');
     const created = await request(t.app)
       .post('/api/admin/users')
-      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', cookieOf(admin))
       .send({
         username: 'nia.new',
         displayName: 'Nia New',
@@ -251,7 +259,8 @@ describe('invitations and password resets by e-mail', () => {
     const before = (await t.database.db.execute(sql`select count(*)::int as n from users`)).rows[0];
     const res = await request(t.app)
       .post('/api/admin/users')
-      .set('Origin', TEST_ORIGIN).set('Cookie', cookieOf(admin))
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', cookieOf(admin))
       .send({ username: 'Bad Name!', displayName: '', role: 'wizard', sendInvite: true });
     expect(res.status).toBe(400);
     expect(res.body.error.issues.map((i: { path: string }) => i.path)).toEqual(

@@ -13,6 +13,8 @@ import {
 import { defineRoute } from '#server/lib/http';
 import {
   badgeSignInSchema,
+  meResponseSchema,
+  passwordResetAcceptedSchema,
   passwordResetRequestSchema,
   passwordSignInSchema,
   setPasswordSchema,
@@ -51,11 +53,7 @@ export function authRoutes(deps: AppDeps) {
       deps.clock(),
     ),
   });
-  const startSession = (
-    req: Request,
-    res: Response,
-    user: UserRecord,
-  ) => {
+  const startSession = (req: Request, res: Response, user: UserRecord) => {
     const now = deps.clock();
     setSessionCookie(
       res,
@@ -79,6 +77,7 @@ export function authRoutes(deps: AppDeps) {
       access: 'anyone',
       summary: 'Sign in with user name and password',
       request: { body: passwordSignInSchema },
+      responses: { 200: { description: 'Signed in: the session cookie is set', schema: meResponseSchema } },
       handle: async ({ body }, res, req) => {
         const { username, password } = body;
         startSession(req, res, await signInWithPassword(ctx(req), username, password));
@@ -90,6 +89,7 @@ export function authRoutes(deps: AppDeps) {
       access: 'anyone',
       summary: 'Sign in at a station with badge code and PIN',
       request: { body: badgeSignInSchema },
+      responses: { 200: { description: 'Signed in: the session cookie is set', schema: meResponseSchema } },
       handle: async ({ body }, res, req) => {
         const { badgeCode, pin } = body;
         startSession(req, res, await signInWithBadge(ctx(req), badgeCode, pin));
@@ -100,6 +100,7 @@ export function authRoutes(deps: AppDeps) {
       path: '/api/auth/sign-out',
       access: 'anyone',
       summary: 'End this session (and every other session of the person: the token version moves on)',
+      responses: { 204: { description: 'Signed out: the session cookie is cleared' } },
       handle: async ({ caller: { user } }, res, req) => {
         if (user) {
           // Server-side revocation: a copied session cookie stops working at once.
@@ -122,6 +123,7 @@ export function authRoutes(deps: AppDeps) {
       path: '/api/me',
       access: 'signed-in',
       summary: 'The signed-in person',
+      responses: { 200: { description: 'The signed-in person', schema: meResponseSchema } },
       handle: ({ caller }, res) => {
         res.json({ user: caller.user });
       },
@@ -132,6 +134,12 @@ export function authRoutes(deps: AppDeps) {
       access: 'anyone',
       summary: 'E-mail a reset link (answered the same whether or not the address is known)',
       request: { body: passwordResetRequestSchema },
+      responses: {
+        202: {
+          description: 'Accepted, whether or not the address is known',
+          schema: passwordResetAcceptedSchema,
+        },
+      },
       handle: async ({ body }, res, req) => {
         const { email } = body;
         const user = await findUserByEmail(deps.db, email);
@@ -149,6 +157,12 @@ export function authRoutes(deps: AppDeps) {
       access: 'anyone',
       summary: 'Choose a password with an invitation or reset link',
       request: { body: setPasswordSchema },
+      responses: {
+        200: {
+          description: 'Password set and signed in: the session cookie is set',
+          schema: meResponseSchema,
+        },
+      },
       handle: async ({ body }, res, req) => {
         const { token, password } = body;
         const user = await completeLinkToken(deps.db, token, password, {

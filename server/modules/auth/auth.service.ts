@@ -2,6 +2,7 @@ import { createHash, randomBytes } from 'node:crypto';
 import bcrypt from 'bcryptjs';
 import { eq, lt, or } from 'drizzle-orm';
 import type { Db, DbOrTx } from '#server/db/client';
+import { normaliseBadgeCode } from '#shared/schemas/auth';
 import type { SessionUser } from '#server/lib/auth';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit } from '../audit/audit.repository';
@@ -176,7 +177,7 @@ export async function signInWithPassword(ctx: AuthContext, username: string, pas
 
 export async function signInWithBadge(ctx: AuthContext, badgeCode: string, pin: string) {
   const user = await findUserByBadge(ctx.db, badgeCode);
-  return checkCredential(ctx, 'badge', user, pin, `badge:${badgeCode.trim().toUpperCase()}`);
+  return checkCredential(ctx, 'badge', user, pin, `badge:${normaliseBadgeCode(badgeCode)}`);
 }
 
 /** Ends every session of a person (sign-out): sessions carry the token version, which moves on. */

@@ -60,6 +60,8 @@ export interface SeedDeps {
   logger?: Logger;
   /** Mails subscribers about alerts the seeded history raises; the demo's first start passes none. */
   mailer?: Mailer | null;
+  /** The source of "now" when `now` is not given: the seed runs at this moment. */
+  clock: () => Date;
 }
 
 export interface SeedOptions {
@@ -67,7 +69,7 @@ export interface SeedOptions {
   units?: number;
   /** Seed of the scenario's random draws (default 2446). */
   seed?: number;
-  /** The moment the seed runs; production covers the 14 days before today's midnight (UTC). */
+  /** The moment the seed runs (default: the clock's now); production covers the 14 days before today's midnight (UTC). */
   now?: Date;
   /** Units computed at the same time (default 6). */
   concurrency?: number;
@@ -134,13 +136,13 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
     for (const m of DEMO_MODELS) {
       const model = await insertModelRow(tx, { code: m.code, name: m.name, polePairs: m.polePairs });
       const recipe = await insertRecipeRow(tx, {
-          modelId: model.id,
-          version: 1,
-          status: 'released',
-          body: m.recipe,
-          notes: 'First release for Line 2 end-of-line calibration.',
-          createdBy: actor?.id ?? null,
-          releasedBy: actor?.id ?? null,
+        modelId: model.id,
+        version: 1,
+        status: 'released',
+        body: m.recipe,
+        notes: 'First release for Line 2 end-of-line calibration.',
+        createdBy: actor?.id ?? null,
+        releasedBy: actor?.id ?? null,
         releasedAt,
       });
       await updateModelRow(tx, model.id, { activeRecipeId: recipe.id });
@@ -159,7 +161,13 @@ export async function createDemoCatalog(db: Db, actor: { id: string } | null, re
 async function importActor(db: Db): Promise<SessionUser> {
   const rows = (await listUsers(db))
     .filter((u) => u.role === 'engineer' || u.role === 'admin')
-    .map((u) => ({ id: u.id, username: u.username, displayName: u.displayName, email: u.email, role: u.role }));
+    .map((u) => ({
+      id: u.id,
+      username: u.username,
+      displayName: u.displayName,
+      email: u.email,
+      role: u.role,
+    }));
   const actor = rows.find((r) => r.username === 'evan.engineer') ?? rows[0];
   if (!actor) {
     throw new Error(
@@ -278,7 +286,7 @@ export async function seedDemoLine(deps: SeedDeps, opts: SeedOptions = {}): Prom
   const count = opts.units ?? 2500;
   if (!Number.isInteger(count) || count < 1)
     throw new Error(`The demo line needs at least 1 unit (got ${count}).`);
-  const now = opts.now ?? new Date();
+  const now = opts.now ?? deps.clock();
   const empty: SeedReport = {
     seeded: false,
     units: 0,

@@ -17,7 +17,7 @@ import {
   DEMO_MODELS,
 } from './demo-line.scenario';
 import { stationQualification } from '../qualification/qualification.service';
-import { studyDetail } from '../qualification/gauge-studies.service';
+import { studyDetail } from '../qualification/gauge-study-results.service';
 import { ensureDemoStationKey, seedDemoLine, type SeedReport } from './demo-line.seed';
 
 const DAY_MS = 86_400_000;

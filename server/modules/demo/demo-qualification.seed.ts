@@ -4,13 +4,9 @@ import type { Db } from '#server/db/client';
 import type { SessionUser, StationPrincipal } from '#server/lib/auth';
 import { createRng } from '#shared/simulation/rng';
 import { registerUnit } from '../units/units.service';
-import {
-  acceptQualificationReading,
-  certifyReferenceUnit,
-  createReferenceUnit,
-  setPolicy,
-  setShifts,
-} from '../qualification/qualification.service';
+import { acceptQualificationReading } from '../qualification/qualification-readings.service';
+import { certifyReferenceUnit, createReferenceUnit } from '../qualification/reference-units.service';
+import { setPolicy, setShifts } from '../qualification/qualification.service';
 import { acceptStudyReading, createStudy } from '../qualification/gauge-studies.service';
 import { DEMO_MODELS, DEMO_STATIONS } from './demo-line.scenario';
 import { referenceSerial, referenceUnitTruth, simulateRun } from './demo-physics';

@@ -2,11 +2,7 @@
 // steps, the operator's pace) is one small program a station integrator can read top to bottom.
 import type { CalibrationView } from '#shared/schemas/calibrations';
 import type { Measurement } from '#shared/schemas/measurement';
-import type {
-  QualificationRunView,
-  QualificationState,
-  StudyNextStep,
-} from '#shared/schemas/qualification';
+import type { QualificationRunView, QualificationState, StudyNextStep } from '#shared/schemas/qualification';
 import { createRng } from '#shared/simulation/rng';
 import type { DemoModel, DemoRig } from './demo-line.scenario';
 import { calibrationBlockChecksum, drawUnit, referenceUnitTruth, simulateRun } from './demo-physics';

@@ -1,18 +1,22 @@
 import { sql } from 'drizzle-orm';
 import type { AppDeps } from '#server/deps';
-import { route } from '#server/lib/http';
-import type { Health } from '#shared/schemas/health';
+import { defineRoute } from '#server/lib/http';
+import { healthSchema, type Health } from '#shared/schemas/health';
 
 export const APP_VERSION = '0.1.0';
 
 export function healthRoutes(deps: AppDeps) {
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/health',
       access: 'anyone',
       summary: 'Database and job-queue status',
-      handler: async (_req, res) => {
+      responses: {
+        200: { description: 'The database and the job queue answer', schema: healthSchema },
+        503: { description: 'The database or the job queue does not answer', schema: healthSchema },
+      },
+      handle: async (_input, res) => {
         const started = performance.now();
         let database: Health['database'];
         try {

@@ -1,11 +1,9 @@
-import { z } from 'zod';
 import type { AppDeps } from '#server/deps';
 import { jobErrors } from './jobs.errors';
-import { route } from '#server/lib/http';
+import { defineRoute } from '#server/lib/http';
 import { insertAudit } from '../audit/audit.repository';
 import { BOSS_SCHEMA } from '#jobs/queue-client';
-
-const replayParams = z.object({ id: z.string().uuid('Not a job id') });
+import { failedJobsResponseSchema, jobIdParamsSchema, jobReplayedSchema } from '#shared/schemas/jobs';
 
 interface FailedJobRow {
   id: string;
@@ -20,12 +18,13 @@ interface FailedJobRow {
 /** Jobs that used up their retries, for an administrator to read and replay. */
 export function jobsRoutes(deps: AppDeps) {
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/admin/jobs/failed',
       access: ['admin'],
       summary: 'Jobs that failed after their retries, newest first, with the error',
-      handler: async (_req, res) => {
+      responses: { 200: { description: 'At most 200 failed jobs', schema: failedJobsResponseSchema } },
+      handle: async (_input, res) => {
         const { rows } = await deps.pool.query<FailedJobRow>(
           `select id, name, data, output, retry_count, created_on, completed_on
              from ${BOSS_SCHEMA}.job where state = 'failed' order by completed_on desc nulls last limit 200`,
@@ -43,24 +42,24 @@ export function jobsRoutes(deps: AppDeps) {
         });
       },
     }),
-    route({
+    defineRoute({
       method: 'post',
       path: '/api/admin/jobs/:id/replay',
       access: ['admin'],
       summary: 'Run a failed job again',
-      handler: async (req, res) => {
-        const { id } = replayParams.parse(req.params);
+      request: { params: jobIdParamsSchema },
+      responses: { 202: { description: 'The job is queued again', schema: jobReplayedSchema } },
+      handle: async ({ params: { id }, caller }, res) => {
         const { rows } = await deps.pool.query<{ name: string }>(
           `select name from ${BOSS_SCHEMA}.job where id = $1 and state = 'failed'`,
           [id],
         );
-        if (!rows[0])
-          throw jobErrors.notFailed();
+        if (!rows[0]) throw jobErrors.notFailed();
         await deps.queue.boss.retry(rows[0].name, id);
         await deps.pool.query(`select pg_notify('phasewright_jobs', $1)`, [rows[0].name]);
         await insertAudit(deps.db, {
-          actorId: req.user!.id,
-          actorName: req.user!.displayName,
+          actorId: caller.user.id,
+          actorName: caller.user.displayName,
           action: 'jobs.replayed',
           subjectType: 'job',
           subjectId: id,

@@ -1,16 +1,22 @@
 import type { AppDeps } from '#server/deps';
 import { mailErrors } from './mail.errors';
-import { route } from '#server/lib/http';
+import { defineRoute } from '#server/lib/http';
 import { outboxResponseSchema } from '#shared/schemas/outbox';
 
 export function mailRoutes(deps: AppDeps) {
   return [
-    route({
+    defineRoute({
       method: 'get',
       path: '/api/admin/outbox',
       access: ['admin'],
       summary: 'Messages received by the local fake mail server',
-      handler: async (_req, res) => {
+      responses: {
+        200: {
+          description: 'The messages, as the fake mail server keeps them',
+          schema: outboxResponseSchema,
+        },
+      },
+      handle: async (_input, res) => {
         if (!deps.env.MAILBOX_URL) {
           throw mailErrors.outboxUnavailable();
         }

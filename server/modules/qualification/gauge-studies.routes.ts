@@ -3,14 +3,8 @@ import type { AppDeps } from '#server/deps';
 import { defineRoute, sendPdf } from '#server/lib/http';
 import { gaugeStudyCreateSchema, studyMeasurementSchema } from '#shared/schemas/qualification';
 import { renderStudyReport } from './qualification.pdf';
-import {
-  acceptStudyReading,
-  createStudy,
-  listStudies,
-  nextStepsAt,
-  operatorChoices,
-  studyDetail,
-} from './gauge-studies.service';
+import { acceptStudyReading, createStudy, nextStepsAt, operatorChoices } from './gauge-studies.service';
+import { listStudies, studyDetail } from './gauge-study-results.service';
 
 const idParams = z.object({ id: z.uuid() });
 const json = (description: string) => ({ description, contentType: 'application/json' });

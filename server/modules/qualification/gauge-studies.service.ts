@@ -1,22 +1,14 @@
-import { asc, desc, eq } from 'drizzle-orm';
+import { asc, eq } from 'drizzle-orm';
 import type { Db, DbOrTx } from '#server/db/client';
 import type { SessionUser, StationPrincipal } from '#server/lib/auth';
-import { AppError } from '#server/lib/errors';
 import { insertAudit } from '../audit/audit.repository';
 import { findModelWithActiveRecipe } from '../recipes/recipes.repository';
 import { findStation, stationNamesByIds } from '../stations/stations.service';
 import { findUnitBySerial, serialsByIds } from '../units/units.service';
-import { qualificationErrors } from './qualification.errors';
+import { qualificationErrors, studyErrors } from './qualification.errors';
 import { computeReading } from './reading-engine';
 import { displayNamesByIds, findUserById, listUsers } from '../users/users.repository';
 import { createRng } from '#shared/simulation/rng';
-import {
-  gaugeAnova,
-  gaugeAverageRange,
-  readGauge,
-  type GaugeAnovaResult,
-  type GaugeRangeResult,
-} from '#shared/statistics/gauge-study';
 import type { Measurement } from '#shared/schemas/measurement';
 import type { GaugeStudyCreate } from '#shared/schemas/qualification';
 import {
@@ -25,33 +17,6 @@ import {
   type GaugeRunStep,
   type GaugeStudyRecord,
 } from './qualification.table';
-
-export const studyErrors = {
-  notFound: () => new AppError(404, 'gauge_studies.not_found', 'There is no such gauge study.'),
-  finished: () =>
-    new AppError(409, 'gauge_studies.finished', 'This gauge study is finished: it takes no more readings.'),
-  notAppraiser: (station: string) =>
-    new AppError(
-      409,
-      'gauge_studies.not_appraiser',
-      `Station ${station} (or the operator signed in at it) is not an appraiser of this study.`,
-    ),
-  notPart: (serial: string) =>
-    new AppError(422, 'gauge_studies.not_part', `Unit ${serial} is not one of this study's parts.`),
-  trialDone: (serial: string, trial: number) =>
-    new AppError(
-      409,
-      'gauge_studies.trial_done',
-      `Trial ${trial} of part ${serial} is already measured. To measure it again (a spoiled trial), give the trial and a reason.`,
-    ),
-  allTrialsDone: (serial: string) =>
-    new AppError(
-      409,
-      'gauge_studies.all_trials_done',
-      `Every trial of part ${serial} is measured. To repeat a spoiled one, give the trial and a reason.`,
-    ),
-  badDesign: (message: string) => new AppError(422, 'gauge_studies.bad_design', message),
-};
 
 /**
  * The run order: each trial is a round in which every appraiser measures every part once, in an order
@@ -145,14 +110,14 @@ export async function createStudy(db: Db, actor: SessionUser, input: GaugeStudyC
   });
 }
 
-async function studyRow(db: DbOrTx, id: string): Promise<GaugeStudyRecord> {
+export async function studyRow(db: DbOrTx, id: string): Promise<GaugeStudyRecord> {
   const [row] = await db.select().from(gaugeStudies).where(eq(gaugeStudies.id, id));
   if (!row) throw studyErrors.notFound();
   return row;
 }
 
 /** The latest reading of each (part, appraiser, trial): a repeated spoiled trial replaces the earlier one. */
-async function latestReadings(db: DbOrTx, studyId: string) {
+export async function latestReadings(db: DbOrTx, studyId: string) {
   const rows = await db
     .select()
     .from(gaugeStudyMeasurements)
@@ -254,7 +219,7 @@ export async function nextStepsAt(db: DbOrTx, stationId: string): Promise<StudyN
   return out;
 }
 
-async function serialsOf(db: DbOrTx, study: GaugeStudyRecord): Promise<string[]> {
+export async function serialsOf(db: DbOrTx, study: GaugeStudyRecord): Promise<string[]> {
   const map = await serialsByIds(db, study.partUnitIds);
   return study.partUnitIds.map((id) => map.get(id) ?? '?');
 }
@@ -348,7 +313,7 @@ export async function acceptStudyReading(
   });
 }
 
-function readingView(r: typeof gaugeStudyMeasurements.$inferSelect) {
+export function readingView(r: typeof gaugeStudyMeasurements.$inferSelect) {
   return {
     id: r.id,
     measurementId: r.measurementId,
@@ -359,81 +324,5 @@ function readingView(r: typeof gaugeStudyMeasurements.$inferSelect) {
     offsetDeg: r.offsetDeg,
     repeatReason: r.repeatReason,
     measuredAt: r.measuredAt.toISOString(),
-  };
-}
-
-export interface StudyResults {
-  anova: GaugeAnovaResult;
-  averageRange: GaugeRangeResult;
-  reading: ReturnType<typeof readGauge>;
-  readingOfTolerance: ReturnType<typeof readGauge> | null;
-  /** data[part][appraiser][trial], degrees. */
-  data: number[][][];
-}
-
-export async function listStudies(db: DbOrTx) {
-  const rows = await db.select().from(gaugeStudies).orderBy(desc(gaugeStudies.createdAt));
-  return rows.map((r) => ({
-    id: r.id,
-    name: r.name,
-    modelId: r.modelId,
-    appraiserKind: r.appraiserKind,
-    parts: r.partUnitIds.length,
-    appraisers: r.appraiserIds.length,
-    trials: r.trials,
-    toleranceDeg: r.toleranceDeg,
-    status: r.status,
-    createdAt: r.createdAt.toISOString(),
-    finishedAt: r.finishedAt?.toISOString() ?? null,
-  }));
-}
-
-/** A study with its design, its readings and, once every trial is in, its results by both methods. */
-export async function studyDetail(db: DbOrTx, id: string) {
-  const study = await studyRow(db, id);
-  const { all, latest } = await latestReadings(db, id);
-  const serials = await serialsOf(db, study);
-  const names =
-    study.appraiserKind === 'station'
-      ? await stationNamesByIds(db, study.appraiserIds)
-      : await displayNamesByIds(db, study.appraiserIds);
-  const found = await findModelWithActiveRecipe(db, study.modelId);
-  let results: StudyResults | null = null;
-  if (latest.size === study.runOrder.length) {
-    const data = study.partUnitIds.map((_, p) =>
-      study.appraiserIds.map((_a, a) =>
-        Array.from({ length: study.trials }, (_t, t) => latest.get(`${p}:${a}:${t + 1}`)!.offsetDeg),
-      ),
-    );
-    const anova = gaugeAnova(data, { tolerance: study.toleranceDeg });
-    const averageRange = gaugeAverageRange(data, { tolerance: study.toleranceDeg });
-    results = {
-      anova,
-      averageRange,
-      reading: readGauge(anova.percentOfTv.grr, anova.ndc),
-      readingOfTolerance: anova.percentOfTolerance
-        ? readGauge(anova.percentOfTolerance.grr, anova.ndc)
-        : null,
-      data,
-    };
-  }
-  return {
-    id: study.id,
-    name: study.name,
-    modelId: study.modelId,
-    modelCode: found?.model.code ?? '?',
-    appraiserKind: study.appraiserKind,
-    appraisers: study.appraiserIds.map((aid) => ({ id: aid, name: names.get(aid) ?? '?' })),
-    stationId: study.stationId,
-    parts: serials,
-    trials: study.trials,
-    toleranceDeg: study.toleranceDeg,
-    status: study.status,
-    createdAt: study.createdAt.toISOString(),
-    finishedAt: study.finishedAt?.toISOString() ?? null,
-    done: latest.size,
-    total: study.runOrder.length,
-    readings: all.map(readingView),
-    results,
   };
 }

@@ -52,3 +52,31 @@ export const qualificationErrors = {
   runNotFound: () =>
     new AppError(404, 'qualification.run_not_found', 'There is no such qualification reading.'),
 };
+
+/** The refusals of gauge studies (their codes are `gauge_studies.*`). */
+export const studyErrors = {
+  notFound: () => new AppError(404, 'gauge_studies.not_found', 'There is no such gauge study.'),
+  finished: () =>
+    new AppError(409, 'gauge_studies.finished', 'This gauge study is finished: it takes no more readings.'),
+  notAppraiser: (station: string) =>
+    new AppError(
+      409,
+      'gauge_studies.not_appraiser',
+      `Station ${station} (or the operator signed in at it) is not an appraiser of this study.`,
+    ),
+  notPart: (serial: string) =>
+    new AppError(422, 'gauge_studies.not_part', `Unit ${serial} is not one of this study's parts.`),
+  trialDone: (serial: string, trial: number) =>
+    new AppError(
+      409,
+      'gauge_studies.trial_done',
+      `Trial ${trial} of part ${serial} is already measured. To measure it again (a spoiled trial), give the trial and a reason.`,
+    ),
+  allTrialsDone: (serial: string) =>
+    new AppError(
+      409,
+      'gauge_studies.all_trials_done',
+      `Every trial of part ${serial} is measured. To repeat a spoiled one, give the trial and a reason.`,
+    ),
+  badDesign: (message: string) => new AppError(422, 'gauge_studies.bad_design', message),
+};

@@ -13,23 +13,22 @@ import {
   qualificationStateSchema,
   referenceUnitViewSchema,
 } from '#shared/schemas/qualification';
+import { acceptQualificationReading, findRun, stationRuns } from './qualification-readings.service';
 import {
-  acceptQualificationReading,
   certifyReferenceUnit,
   createReferenceUnit,
-  findRun,
+  listReferenceUnits,
+  referenceReadings,
+} from './reference-units.service';
+import {
   getPolicy,
   getShifts,
   grantOverride,
-  listReferenceUnits,
-  referenceReadings,
   setPolicy,
   setShifts,
   stationQualification,
-  stationRuns,
   type QualificationDeps,
 } from './qualification.service';
-
 import { gaugeStudyRoutes } from './gauge-studies.routes';
 import { renderQualificationSlip } from './qualification.pdf';
 

@@ -16,17 +16,15 @@ import {
   unitSearchPageSchema,
   unitSearchQuerySchema,
 } from '#shared/schemas/quality';
+import { bulkHold, heldUnits, type QualityContext } from './quality.service';
 import {
-  bulkHold,
   exportSearchCsv,
-  heldUnits,
   measurementAsPosted,
   measurementTrace,
-  releaseUnits,
   searchChoices,
   searchUnits,
-  type QualityContext,
-} from './quality.service';
+} from './containment-search.service';
+import { releaseUnits } from './releases.service';
 import {
   addComment,
   createInvestigation,

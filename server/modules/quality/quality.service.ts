@@ -3,33 +3,18 @@ import type { SessionUser } from '#server/lib/auth';
 import type { Logger } from '#server/lib/logger';
 import type { Mailer } from '../mail/mail.service';
 import { insertAudit, insertAuditMany } from '../audit/audit.repository';
-import {
-  findModelWithActiveRecipe,
-  findRecipeRow,
-  listModelRows,
-  listRecipeRows,
-} from '../recipes/recipes.repository';
-import { listUsers } from '../users/users.repository';
-import { ENGINE_VERSION } from '#shared/calibration/engine';
-import { storedMeasurement } from '../measurements/measurements.repository';
-import { CalibrationInputError } from '#shared/calibration';
-import { traceMeasurement } from '#shared/calibration/trace';
-import type { Measurement } from '#shared/schemas/measurement';
+import { listModelRows } from '../recipes/recipes.repository';
 import type { RecipeRecord } from '../recipes/recipes.table';
 import { stationCalibrationFilter } from '../calibrations/calibrations.repository';
 import {
   lockAndHoldUnits,
   lockUnitsForHold,
-  markUnitReleased,
   markUnitsHeld,
   searchUnitIds,
-  searchUnitsPage,
-  streamSearchRows,
   unitIdColumn,
   unitIdsBySerials,
   unitSearchWhere,
   unitSummariesByIds,
-  type UnitHoldState,
 } from '../units/units.repository';
 import type { UnitRecord } from '../units/units.table';
 import type { Check } from '#shared/schemas/calibration-result';
@@ -39,14 +24,7 @@ import {
   type BulkHold,
   type BulkHoldResult,
   type HeldUnitRow,
-  type HoldDisposition,
-  type MeasurementTrace,
-  type Release,
-  type ReleaseResult,
-  type SearchChoices,
   type UnitSearchFilter,
-  type UnitSearchPage,
-  type UnitSearchQuery,
 } from '#shared/schemas/quality';
 import { qualityErrors } from './quality.errors';
 import * as repo from './quality.repository';
@@ -131,7 +109,7 @@ export async function placeAutomaticHold(
   return added > 0;
 }
 
-async function idsOfSerials(db: DbOrTx, serials: string[]): Promise<string[]> {
+export async function idsOfSerials(db: DbOrTx, serials: string[]): Promise<string[]> {
   const unique = [...new Set(serials)];
   const found = await unitIdsBySerials(db, unique);
   const missing = unique.filter((s) => !found.has(s));
@@ -139,7 +117,7 @@ async function idsOfSerials(db: DbOrTx, serials: string[]): Promise<string[]> {
   return unique.map((s) => found.get(s)!);
 }
 
-function searchWhere(f: UnitSearchFilter) {
+export function searchWhere(f: UnitSearchFilter) {
   return unitSearchWhere(f, stationCalibrationFilter(unitIdColumn, f));
 }
 
@@ -229,96 +207,6 @@ export async function bulkHold(
   return result;
 }
 
-/** The unit's state after a release with this disposition (attempt budget from its active recipe). */
-function releasedState(
-  u: UnitHoldState,
-  disposition: HoldDisposition,
-): { status: UnitRecord['status']; attempts: number } {
-  switch (disposition) {
-    case 'use_as_is':
-      return { status: 'calibrated', attempts: u.attempts };
-    case 'rework':
-      // Repaired hardware invalidates the old offset: the unit is calibrated afresh.
-      return { status: 'new', attempts: 0 };
-    case 'recalibrate':
-      return {
-        status: u.currentCalibrationId ? 'calibrated' : u.attempts > 0 ? 'failed' : 'new',
-        attempts: 0,
-      };
-    case 'scrap':
-      return { status: 'scrapped', attempts: u.attempts };
-  }
-}
-
-/**
- * Releases held units with one disposition and a reason, all or none: every unit must be on hold, and
- * "use as is" needs a passing calibration. Recalibrate and rework restart the attempt count under the
- * active recipe's budget; scrap is final. Quality staff and engineers only.
- */
-export async function releaseUnits(
-  ctx: QualityContext,
-  actor: SessionUser,
-  input: Release,
-): Promise<ReleaseResult> {
-  if (actor.role === 'operator') throw qualityErrors.mayNotRelease();
-  const now = ctx.clock();
-  return ctx.db.transaction(async (tx) => {
-    const ids = await idsOfSerials(tx, input.serials);
-    const locked = await lockUnitsForHold(tx, ids);
-    const scrapped = locked.filter((u) => u.status === 'scrapped');
-    if (scrapped.length) throw qualityErrors.scrapped(scrapped.map((u) => u.serial));
-    const notHeld = locked.filter((u) => u.status !== 'on_hold');
-    if (notHeld.length) throw qualityErrors.notOnHold(notHeld.map((u) => u.serial));
-    if (input.disposition === 'use_as_is') {
-      const noPass = locked.filter((u) => !u.currentCalibrationId);
-      if (noPass.length) throw qualityErrors.noPassToUse(noPass.map((u) => u.serial));
-    }
-    const budgets = new Map<string, number | null>();
-    const budgetOf = async (modelId: string) => {
-      if (!budgets.has(modelId))
-        budgets.set(
-          modelId,
-          (await findModelWithActiveRecipe(tx, modelId))?.recipe?.body.maxAttempts ?? null,
-        );
-      return budgets.get(modelId)!;
-    };
-    const restarts = input.disposition === 'recalibrate' || input.disposition === 'rework';
-    const out: ReleaseResult['units'] = [];
-    const audits = [];
-    for (const u of locked) {
-      const next = releasedState(u, input.disposition);
-      await markUnitReleased(tx, u.id, next, now);
-      out.push({ serial: u.serial, status: next.status, attempts: next.attempts });
-      audits.push({
-        actorId: actor.id,
-        actorName: actor.displayName,
-        action: 'units.released',
-        subjectType: 'unit',
-        subjectId: u.id,
-        reason: input.reason,
-        before: { status: u.status, holdReason: u.holdReason, attempts: u.attempts },
-        after: { status: next.status, attempts: next.attempts, disposition: input.disposition },
-      });
-    }
-    // One budget per release record: units of one release usually share a model.
-    const budget = restarts && locked[0] ? await budgetOf(locked[0].modelId) : null;
-    await repo.closeOpenHolds(
-      tx,
-      locked.map((u) => u.id),
-      {
-        releasedAt: now,
-        releasedBy: actor.id,
-        releasedByName: actor.displayName,
-        disposition: input.disposition,
-        releaseReason: input.reason,
-        attemptBudget: budget,
-      },
-    );
-    await insertAuditMany(tx, audits);
-    return { released: locked.length, disposition: input.disposition, units: out };
-  });
-}
-
 /** Units on hold now, oldest hold first: age, reason, who, and the investigation it belongs to. */
 export async function heldUnits(ctx: Pick<QualityContext, 'db' | 'clock'>): Promise<HeldUnitRow[]> {
   const rows = await repo.openHolds(ctx.db, 2000);
@@ -357,143 +245,4 @@ export async function heldUnits(ctx: Pick<QualityContext, 'db' | 'clock'>): Prom
           : null,
       };
     });
-}
-
-/** One page of a containment search with the total count. */
-export async function searchUnits(db: Db, q: UnitSearchQuery): Promise<UnitSearchPage> {
-  const { rows, total } = await searchUnitsPage(db, q, searchWhere(q));
-  const models = new Map((await listModelRows(db)).map((m) => [m.id, m.code]));
-  return {
-    rows: rows.map(({ modelId, ...r }) => ({
-      ...r,
-      modelCode: models.get(modelId) ?? '',
-      createdAt: r.createdAt.toISOString(),
-      updatedAt: r.updatedAt.toISOString(),
-    })),
-    total,
-    page: q.page,
-    pageSize: q.pageSize,
-  };
-}
-
-/**
- * The search form's lists the line's own lists do not give: people who may stand at a panel (by
- * name), every recipe version that was released, and the engine versions.
- */
-export async function searchChoices(db: Db): Promise<SearchChoices> {
-  const [people, recipes, models] = await Promise.all([listUsers(db), listRecipeRows(db), listModelRows(db)]);
-  const codes = new Map(models.map((m) => [m.id, m.code]));
-  return {
-    operators: people
-      .filter((p) => p.role !== 'admin')
-      .map((p) => ({ id: p.id, name: p.displayName }))
-      .sort((a, b) => a.name.localeCompare(b.name)),
-    recipes: recipes
-      .filter((r) => r.status === 'released' || r.status === 'retired')
-      .map((r) => ({ id: r.id, modelCode: codes.get(r.modelId) ?? '', version: r.version, status: r.status }))
-      .sort((a, b) => a.modelCode.localeCompare(b.modelCode) || b.version - a.version),
-    engineVersions: [ENGINE_VERSION],
-  };
-}
-
-const CSV_COLUMNS = [
-  'serial',
-  'model',
-  'work_order',
-  'hall_board_lot',
-  'magnet_ring_lot',
-  'stator_lot',
-  'status',
-  'hold_reason',
-  'attempts',
-  'offset_deg',
-  'programming_mismatch',
-  'registered_at',
-  'updated_at',
-];
-
-function csvCell(v: unknown): string {
-  if (v === null || v === undefined) return '';
-  const s = String(v);
-  // A leading = + - @ would be read as a formula by a spreadsheet.
-  const safe = /^[=+\-@]/.test(s) && !/^-?\d/.test(s) ? `'${s}` : s;
-  return /[",\n\r]/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
-}
-
-/**
- * The whole result of a search as CSV, in the search's order, read through one cursor 2,000 rows at a
- * time and handed to `write` as it comes, so memory stays flat however many units match.
- */
-export async function exportSearchCsv(
-  db: Db,
-  q: UnitSearchQuery,
-  write: (chunk: string) => Promise<void> | void,
-): Promise<number> {
-  const models = new Map((await listModelRows(db)).map((m) => [m.id, m.code]));
-  await write(CSV_COLUMNS.join(',') + '\r\n');
-  let n = 0;
-  await streamSearchRows(db, q, searchWhere(q), 2000, async (rows) => {
-    const lines = rows.map((r) =>
-      [
-        r.serial,
-        models.get(r.model_id) ?? '',
-        r.work_order,
-        r.hall_board_lot,
-        r.magnet_ring_lot,
-        r.stator_lot,
-        r.status,
-        r.hold_reason,
-        r.attempts,
-        r.current_offset_deg,
-        r.programming_mismatch,
-        r.created_at,
-        r.updated_at,
-      ]
-        .map(csvCell)
-        .join(','),
-    );
-    n += lines.length;
-    await write(lines.join('\r\n') + '\r\n');
-  });
-  return n;
-}
-
-/** The raw data behind a measurement's numbers (see `traceMeasurement`), with its stored hash. */
-export async function measurementTrace(db: Db, measurementId: string): Promise<MeasurementTrace> {
-  const m = await storedMeasurement(db, measurementId);
-  if (!m) throw qualityErrors.measurementNotFound(measurementId);
-  const recipe = m.recipeId ? await findRecipeRow(db, m.recipeId) : undefined;
-  let segments: MeasurementTrace['segments'] = [];
-  let problem: string | null = null;
-  if (!recipe) problem = 'This measurement has no station result yet, so there is no recipe to read it with.';
-  else {
-    try {
-      segments = traceMeasurement(m.payload as Measurement, recipe.body);
-    } catch (e) {
-      if (!(e instanceof CalibrationInputError)) throw e;
-      problem = `The data could not be used: ${e.message}`;
-    }
-  }
-  return {
-    measurementId: m.measurementId,
-    serial: m.serial,
-    source: m.source,
-    receivedAt: m.receivedAt.toISOString(),
-    payloadSha256: m.payloadSha256,
-    recipe: recipe ? { id: recipe.id, version: recipe.version, body: recipe.body } : null,
-    segments,
-    problem,
-  };
-}
-
-/** The measurement exactly as the station posted it (JSON text or capture CSV). */
-export async function measurementAsPosted(db: Db, measurementId: string) {
-  const m = await storedMeasurement(db, measurementId);
-  if (!m) throw qualityErrors.measurementNotFound(measurementId);
-  return {
-    text: m.payloadRaw ?? JSON.stringify(m.payload),
-    contentType: m.source === 'capture' ? 'text/csv; charset=utf-8' : 'application/json; charset=utf-8',
-    fileName: `${m.serial}-${m.measurementId}.${m.source === 'capture' ? 'csv' : 'json'}`,
-    payloadSha256: m.payloadSha256,
-  };
 }

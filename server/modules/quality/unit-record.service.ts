@@ -3,16 +3,13 @@ import { auditOfSubjects } from '../audit/audit.repository';
 import { calibrationViews } from '../read-models/calibration-views';
 import { measurementsOfUnit } from '../measurements/measurements.repository';
 import { programmingOfCalibrations } from '../calibrations/calibrations.repository';
-import { qualificationUseOfUnit } from '../qualification/qualification.service';
+import { qualificationUseOfUnit } from '../qualification/reference-units.service';
 import { releasedRecipe } from '../recipes/recipes.repository';
 import { stationNamesByIds } from '../stations/stations.service';
 import { listTravelerDocsOfUnit } from '../travelers/travelers.repository';
 import { findUnitBySerial, unitView } from '../units/units.service';
 import { unitErrors } from '../units/units.errors';
 import { displayNamesByIds } from '../users/users.repository';
-import { checkName } from '#shared/calibration/check-guide';
-import { formatRecipeValue, RECIPE_FIELDS, recipeValue } from '#shared/recipe/recipe-fields';
-import type { CalibrationView } from '#shared/schemas/calibrations';
 import { investigationReference } from '#shared/schemas/quality';
 import type {
   MeasurementFile,
@@ -23,92 +20,18 @@ import type {
 } from '#shared/schemas/unit-record';
 import { formatOffsetDeg } from '#shared/wording';
 import { holdsOfUnit, investigationsOfUnit } from './unit-record.repository';
+import {
+  AUDIT_WORDS,
+  calibrationEntry,
+  modelName,
+  DISPOSITION_WORDS,
+  HOLD_SOURCE_WHO,
+  recipeLimitLines,
+  SOURCE_WORDS,
+} from './unit-record.wording';
 
 // A unit's whole record, read through each owning module's functions (three rounds of parallel queries:
 // the unit; what hangs off it; what hangs off its calibrations and measurements, with the names).
-
-const DISPOSITION_WORDS = {
-  use_as_is: 'use as is',
-  rework: 'rework',
-  recalibrate: 'recalibrate',
-  scrap: 'scrap',
-} as const;
-
-const HOLD_SOURCE_WHO = {
-  retest_policy: 'Retest policy (automatic)',
-  programming_mismatch: 'Programming check (automatic)',
-} as const;
-
-/** Audit actions in plain words; anything not listed shows its code. */
-const AUDIT_WORDS: Record<string, string> = {
-  'units.registered': 'Registered',
-  'units.held': 'Put on hold',
-  'units.released': 'Released from hold',
-  'units.held_by_retest_policy': 'Put on hold by the retest policy',
-  'units.held_by_programming_mismatch': 'Put on hold by the programming check',
-  'units.programming_mismatch': 'Programming read-back mismatch recorded',
-  'units.record_exported': 'Record exported',
-  'travelers.printed': 'Traveler printed',
-  'travelers.reprinted': 'Traveler reprinted',
-  'calibrations.recomputed': 'Recomputation recorded',
-};
-
-const SOURCE_WORDS = { timings: 'posted timings (JSON)', capture: 'sampled capture (CSV)' } as const;
-
-/** A model as the traveler names it: its name, with its code in front unless the name starts with it. */
-export function modelName(model: { code: string; name: string }): string {
-  return model.name.toUpperCase().startsWith(model.code.toUpperCase())
-    ? model.name
-    : `${model.code} ${model.name}`;
-}
-
-/** The limits and attempt budget of a recipe version, as the recipe desk names them. */
-function recipeLimitLines(body: Parameters<typeof recipeValue>[0]): { label: string; value: string }[] {
-  const lines = RECIPE_FIELDS.filter((f) => f.path.startsWith('limits.'))
-    .map((f) => ({ f, v: recipeValue(body, f.path) }))
-    .filter(({ v }) => v !== null)
-    .map(({ f, v }) => ({ label: f.label, value: formatRecipeValue(v, f.unit) }));
-  lines.push({ label: 'Calibration attempts allowed', value: String(body.maxAttempts) });
-  return lines;
-}
-
-function checksLine(c: CalibrationView): string {
-  const checks = c.result?.checks ?? [];
-  const failed = checks.filter((x) => !x.passed).length;
-  if (checks.length === 0) return 'none recorded';
-  return failed === 0 ? `all ${checks.length} passed` : `${failed} of ${checks.length} failed`;
-}
-
-function calibrationEntry(c: CalibrationView, who: string | null): TimelineEntry {
-  const verdict = c.verdict.toUpperCase();
-  const station = c.purpose === 'station';
-  const attempt =
-    c.attempt === null ? 'not counted as an attempt' : `attempt ${c.attempt} of ${c.maxAttempts}`;
-  const details = [
-    {
-      label: 'Offset',
-      value: c.offsetDeg === null ? '—' : `${formatOffsetDeg(c.offsetDeg)} (${c.offsetCounts} counts)`,
-    },
-    { label: 'Recipe', value: `${c.recipe.name ?? 'recipe'} v${c.recipe.version}` },
-    { label: 'Engine version', value: c.engineVersion },
-    { label: 'Checks', value: checksLine(c) },
-    { label: 'Measurement', value: c.measurementId },
-  ];
-  if (c.error) details.push({ label: 'Why unusable', value: c.error.message });
-  if (!station && c.reason) details.push({ label: 'Reason', value: c.reason });
-  return {
-    at: c.computedAt,
-    kind: station ? 'calibration' : 'recomputation',
-    title: station
-      ? `Calibrated at ${c.stationName}: ${verdict}, ${attempt}`
-      : `Recomputed with recipe v${c.recipe.version} and engine ${c.engineVersion}: ${verdict} (analysis only, the unit is unchanged)`,
-    who,
-    details,
-    tone: c.verdict === 'pass' ? 'good' : c.verdict === 'fail' ? 'bad' : 'warn',
-    failedChecks: (c.result?.checks ?? []).filter((x) => !x.passed).map((x) => checkName(x.code)),
-    measurementId: c.measurementId,
-  };
-}
 
 /** Everything that happened to one unit, oldest first, with names instead of ids. */
 export async function unitRecord(db: DbOrTx, serial: string): Promise<UnitRecord> {

@@ -32,8 +32,10 @@ afterAll(async () => {
 
 const api = (who: keyof typeof as) => ({
   get: (path: string) => request(t.app).get(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]),
-  post: (path: string, body: object = {}) => request(t.app).post(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]).send(body),
-  patch: (path: string, body: object) => request(t.app).patch(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]).send(body),
+  post: (path: string, body: object = {}) =>
+    request(t.app).post(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]).send(body),
+  patch: (path: string, body: object) =>
+    request(t.app).patch(path).set('Origin', TEST_ORIGIN).set('Cookie', as[who]).send(body),
 });
 
 async function q<T = Record<string, unknown>>(text: string, values: unknown[] = []): Promise<T[]> {
@@ -151,7 +153,9 @@ describe('recipe lifecycle', () => {
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe('recipes.not_a_draft');
     await expect(
-      asOwner(`update recipes set body = jsonb_set(body, '{maxAttempts}', '9') where id = $1`, [line.recipe.id]),
+      asOwner(`update recipes set body = jsonb_set(body, '{maxAttempts}', '9') where id = $1`, [
+        line.recipe.id,
+      ]),
     ).rejects.toThrow(/immutable/);
     await expect(
       asOwner(`update recipes set release_diff = '[]' where id = $1`, [line.recipe.id]),
@@ -160,7 +164,9 @@ describe('recipe lifecycle', () => {
       /cannot be deleted/,
     );
     // The processes' own role may not delete a recipe at all.
-    await expect(q('delete from recipes where id = $1', [line.recipe.id])).rejects.toThrow(/permission denied/);
+    await expect(q('delete from recipes where id = $1', [line.recipe.id])).rejects.toThrow(
+      /permission denied/,
+    );
   });
 
   it('a version in review keeps the body the reviewer sees: saving it is refused until it is sent back', async () => {
@@ -356,7 +362,10 @@ describe('discarding a draft', () => {
     expect(save.body.error.message).toContain('discarded');
     const submit = await api('evan').post(`/api/recipes/${draft.id}/submit`, { reason: 'Try', revision: 2 });
     expect(submit.status).toBe(409);
-    const again = await api('rosa').post(`/api/recipes/${draft.id}/discard`, { reason: 'Again', revision: 2 });
+    const again = await api('rosa').post(`/api/recipes/${draft.id}/discard`, {
+      reason: 'Again',
+      revision: 2,
+    });
     expect(again.status).toBe(409);
   });
 
@@ -381,7 +390,10 @@ describe('discarding a draft', () => {
     expect(stale.body.error.code).toBe('recipes.changed_meanwhile');
     expect(stale.body.error.message).toContain('Evan Thorsby');
     await narrowAndSubmit((await api('evan').get(`/api/recipes/${draft.id}`)).body);
-    const inReview = await api('rosa').post(`/api/recipes/${draft.id}/discard`, { reason: 'Late', revision: 4 });
+    const inReview = await api('rosa').post(`/api/recipes/${draft.id}/discard`, {
+      reason: 'Late',
+      revision: 4,
+    });
     expect(inReview.status).toBe(409);
   });
 

@@ -12,6 +12,11 @@ import {
   startWhatIfSchema,
   submitDraftSchema,
   whatIfFiltersSchema,
+  modelDetailViewSchema,
+  modelSummaryViewSchema,
+  recipeDiffSchema,
+  recipeVersionViewSchema,
+  whatIfRunViewSchema,
 } from '#shared/schemas/recipes';
 import { cancelWhatIf, getWhatIf, listWhatIfs, startWhatIf } from './what-if.service';
 import {
@@ -34,6 +39,10 @@ const modelParams = z.object({ id: z.string().uuid('Not a model id') });
 const recipeParams = z.object({ id: z.string().uuid('Not a recipe version id') });
 const runParams = z.object({ id: z.string().uuid('Not a what-if run id') });
 const diffQuery = z.object({ against: z.string().uuid('Name the version to compare with (against=<id>).') });
+
+const modelsResponse = z.object({ models: z.array(modelSummaryViewSchema) });
+const recipeSettingsResponse = z.object({ singlePersonRelease: z.boolean() });
+const whatIfRunsResponse = z.object({ runs: z.array(whatIfRunViewSchema) });
 
 /** Recipes are the process engineers' trade: they change them; everyone signed in reads them. */
 const ENGINEERS_ONLY = { only: ['engineer'] } as const satisfies Access;
@@ -58,6 +67,7 @@ export function recipesRoutes(deps: AppDeps) {
       path: '/api/models',
       access: 'signed-in',
       summary: 'Motor models with the recipe version in force, stations, units built and first-pass yield',
+      responses: { 200: { description: 'Every model, by code', schema: modelsResponse } },
       handle: async (_input, res) => {
         res.json({ models: await listModels(ctx) });
       },
@@ -68,6 +78,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Create a motor model (audited with a reason)',
       request: { body: modelInputSchema },
+      responses: { 201: { description: 'The new model with its versions', schema: modelDetailViewSchema } },
       handle: async ({ body, caller }, res) => {
         res.status(201).json(await createModel(ctx, caller.user, body));
       },
@@ -78,6 +89,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'One model with all its recipe versions',
       request: { params: modelParams },
+      responses: { 200: { description: 'The model with its versions', schema: modelDetailViewSchema } },
       handle: async ({ params }, res) => {
         res.json(await modelDetail(ctx, params.id));
       },
@@ -88,6 +100,9 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Change a model: code, name, pole pairs (audited with before, after and a reason)',
       request: { params: modelParams, body: modelInputSchema },
+      responses: {
+        200: { description: 'The changed model with its versions', schema: modelDetailViewSchema },
+      },
       handle: async ({ params, body, caller }, res) => {
         res.json(await updateModel(ctx, caller.user, params.id, body));
       },
@@ -98,6 +113,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Create a draft recipe version by copying any version of the model',
       request: { params: modelParams, body: createDraftSchema },
+      responses: { 201: { description: 'The new draft', schema: recipeVersionViewSchema } },
       handle: async ({ params, body, caller }, res) => {
         res.status(201).json(await createDraft(ctx, caller.user, params.id, body));
       },
@@ -107,6 +123,7 @@ export function recipesRoutes(deps: AppDeps) {
       path: '/api/recipe-settings',
       access: 'signed-in',
       summary: "The plant's release rule: two people (default) or one",
+      responses: { 200: { description: 'The release rule', schema: recipeSettingsResponse } },
       handle: (_input, res) => {
         res.json({ singlePersonRelease: ctx.singlePersonRelease });
       },
@@ -117,6 +134,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'One recipe version',
       request: { params: recipeParams },
+      responses: { 200: { description: 'The version', schema: recipeVersionViewSchema } },
       handle: async ({ params }, res) => {
         res.json(await getVersion(ctx, params.id));
       },
@@ -127,6 +145,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Save a draft (optimistic: 409 when someone saved it since the given revision)',
       request: { params: recipeParams, body: saveDraftSchema },
+      responses: { 200: { description: 'The saved draft', schema: recipeVersionViewSchema } },
       handle: async ({ params, body, caller }, res) => {
         res.json(await saveDraft(ctx, caller.user, params.id, body));
       },
@@ -137,6 +156,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'Field-by-field differences from another version (against) to this one',
       request: { params: recipeParams, query: diffQuery },
+      responses: { 200: { description: 'The changed fields, in recipe order', schema: recipeDiffSchema } },
       handle: async ({ params, query }, res) => {
         res.json(await diffVersions(ctx, query.against, params.id));
       },
@@ -147,6 +167,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Submit a draft for review with a change reason (the other engineers get an e-mail)',
       request: { params: recipeParams, body: submitDraftSchema },
+      responses: { 200: { description: 'The version, now in review', schema: recipeVersionViewSchema } },
       handle: async ({ params, body, caller }, res) => {
         res.json(await submitDraft(ctx, caller.user, params.id, body));
       },
@@ -157,6 +178,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Discard a draft with a reason (audited; the record stays, it leaves the working list)',
       request: { params: recipeParams, body: discardDraftSchema },
+      responses: { 200: { description: 'The discarded draft', schema: recipeVersionViewSchema } },
       handle: async ({ params, body, caller }, res) => {
         res.json(await discardDraft(ctx, caller.user, params.id, body));
       },
@@ -167,6 +189,12 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Approve a version in review: it is released and in force for new measurements from now',
       request: { params: recipeParams, body: approveSchema },
+      responses: {
+        200: {
+          description: 'The version, now released (or still in review)',
+          schema: recipeVersionViewSchema,
+        },
+      },
       handle: async ({ params, body, caller }, res) => {
         res.json(await approveVersion(ctx, caller.user, params.id, body));
       },
@@ -177,6 +205,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Send a version in review back to draft with a comment',
       request: { params: recipeParams, body: sendBackSchema },
+      responses: { 200: { description: 'The version, back to draft', schema: recipeVersionViewSchema } },
       handle: async ({ params, body, caller }, res) => {
         res.json(await sendBackVersion(ctx, caller.user, params.id, body));
       },
@@ -188,10 +217,13 @@ export function recipesRoutes(deps: AppDeps) {
       summary:
         "Run this version over past units' stored measurements (analysis only; default: the last 1,000 units)",
       request: { params: recipeParams, body: startWhatIfSchema },
+      responses: { 202: { description: 'The queued run', schema: whatIfRunViewSchema } },
       handle: async ({ params, body, caller }, res) => {
         res
           .status(202)
-          .json(await startWhatIf(whatIf, caller.user, params.id, body.filters ?? whatIfFiltersSchema.parse({})));
+          .json(
+            await startWhatIf(whatIf, caller.user, params.id, body.filters ?? whatIfFiltersSchema.parse({})),
+          );
       },
     }),
     defineRoute({
@@ -200,6 +232,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'The what-if runs of this version, newest first',
       request: { params: recipeParams },
+      responses: { 200: { description: 'The runs, newest first', schema: whatIfRunsResponse } },
       handle: async ({ params }, res) => {
         res.json({ runs: await listWhatIfs(whatIf, params.id) });
       },
@@ -210,6 +243,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'One what-if run: progress, and its results once done',
       request: { params: runParams },
+      responses: { 200: { description: 'The run', schema: whatIfRunViewSchema } },
       handle: async ({ params }, res) => {
         res.json(await getWhatIf(whatIf, params.id));
       },
@@ -220,6 +254,7 @@ export function recipesRoutes(deps: AppDeps) {
       access: ENGINEERS_ONLY,
       summary: 'Stop a queued or running what-if run',
       request: { params: runParams },
+      responses: { 200: { description: 'The run, asked to stop', schema: whatIfRunViewSchema } },
       handle: async ({ params }, res) => {
         res.json(await cancelWhatIf(whatIf, params.id));
       },
@@ -230,7 +265,9 @@ export function recipesRoutes(deps: AppDeps) {
       access: 'signed-in',
       summary: 'Server-Sent Events: progress of one what-if run until it ends',
       request: { params: runParams },
-      responses: { 200: { description: 'An event stream of `progress` events', contentType: 'text/event-stream' } },
+      responses: {
+        200: { description: 'An event stream of `progress` events', contentType: 'text/event-stream' },
+      },
       handle: async ({ params: { id } }, res, req) => {
         // Subscribe first, then read: a step that happens in between is still seen.
         const send = (event: string, data: unknown) =>

@@ -39,11 +39,13 @@ beforeAll(async () => {
   }
   const copy = await request(t.app)
     .post(`/api/models/${line.model.id}/recipes`)
-    .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+    .set('Origin', TEST_ORIGIN)
+    .set('Cookie', evan)
     .send({ fromRecipeId: line.recipe.id });
   const saved = await request(t.app)
     .patch(`/api/recipes/${copy.body.id}`)
-    .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+    .set('Origin', TEST_ORIGIN)
+    .set('Cookie', evan)
     .send({
       body: { ...copy.body.body, limits: { ...copy.body.body.limits, offsetDeg: [-5, 5] } },
       revision: 1,
@@ -58,12 +60,15 @@ afterAll(async () => {
 async function whatIf(recipeId: string, filters?: object): Promise<WhatIfRunView> {
   const started = await request(t.app)
     .post(`/api/recipes/${recipeId}/what-if`)
-    .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+    .set('Origin', TEST_ORIGIN)
+    .set('Cookie', evan)
     .send(filters ? { filters } : {});
   expect(started.status).toBe(202);
   expect(started.body).toMatchObject({ status: 'queued', filters: { lastUnits: 1000 } });
   await runWhatIf(ctx(), started.body.id);
-  return (await request(t.app).get(`/api/what-if/${started.body.id}`).set('Origin', TEST_ORIGIN).set('Cookie', evan)).body;
+  return (
+    await request(t.app).get(`/api/what-if/${started.body.id}`).set('Origin', TEST_ORIGIN).set('Cookie', evan)
+  ).body;
 }
 
 /** A fingerprint of every row of the tables a what-if must never touch. */
@@ -154,11 +159,18 @@ describe('what-if on past units', () => {
     // Release the draft, then recompute every replayed measurement with it through the recompute API.
     const submitted = await request(t.app)
       .post(`/api/recipes/${draft.id}/submit`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', evan)
       .send({ reason: 'Narrow the window', revision: draft.revision });
     expect(submitted.status).toBe(200);
     expect(
-      (await request(t.app).post(`/api/recipes/${draft.id}/approve`).set('Origin', TEST_ORIGIN).set('Cookie', rosa).send({})).status,
+      (
+        await request(t.app)
+          .post(`/api/recipes/${draft.id}/approve`)
+          .set('Origin', TEST_ORIGIN)
+          .set('Cookie', rosa)
+          .send({})
+      ).status,
     ).toBe(200);
     const { rows: ms } = await t.database.pool.query<{ measurement_id: string; serial: string }>(
       `select m.measurement_id, m.serial from measurements m join units u on u.id = m.unit_id where u.model_id = $1`,
@@ -168,7 +180,8 @@ describe('what-if on past units', () => {
     for (const m of ms) {
       const asked = await request(t.app)
         .post(`/api/measurements/${m.measurement_id}/recompute`)
-        .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+        .set('Origin', TEST_ORIGIN)
+        .set('Cookie', evan)
         .send({ recipeId: draft.id, reason: 'compare with the what-if' });
       expect(asked.status).toBe(202);
       const { rows: jobs } = await t.database.pool.query(
@@ -201,18 +214,21 @@ describe('what-if on past units', () => {
     const other = await createLineFixture(t.deps.db, { code: 'WI-2', stationName: 'EOL-WI-2' });
     const started = await request(t.app)
       .post(`/api/recipes/${other.recipe.id}/what-if`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', evan)
       .send({});
     const cancelled = await request(t.app)
       .post(`/api/what-if/${started.body.id}/cancel`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', evan)
       .send({});
     expect(cancelled.status).toBe(200);
     const run = await runWhatIf(ctx(), started.body.id);
     expect(run).toMatchObject({ status: 'cancelled', processed: 0 });
     const again = await request(t.app)
       .post(`/api/what-if/${started.body.id}/cancel`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', evan)
       .send({});
     expect(again.status).toBe(409);
   });
@@ -222,18 +238,30 @@ describe('what-if on past units', () => {
     const quinn = await sessionCookie(t.app, 'quinn.quality', 'demo-quality-pass');
     for (const who of [olga, quinn]) {
       expect(
-        (await request(t.app).post(`/api/recipes/${draft.id}/what-if`).set('Origin', TEST_ORIGIN).set('Cookie', who).send({})).status,
+        (
+          await request(t.app)
+            .post(`/api/recipes/${draft.id}/what-if`)
+            .set('Origin', TEST_ORIGIN)
+            .set('Cookie', who)
+            .send({})
+        ).status,
       ).toBe(403);
-      expect((await request(t.app).get(`/api/recipes/${draft.id}/what-if`).set('Origin', TEST_ORIGIN).set('Cookie', who)).status).toBe(
-        200,
-      );
+      expect(
+        (
+          await request(t.app)
+            .get(`/api/recipes/${draft.id}/what-if`)
+            .set('Origin', TEST_ORIGIN)
+            .set('Cookie', who)
+        ).status,
+      ).toBe(200);
     }
   });
 
   it('refuses a time range that ends before it starts, in plain words', async () => {
     const res = await request(t.app)
       .post(`/api/recipes/${draft.id}/what-if`)
-      .set('Origin', TEST_ORIGIN).set('Cookie', evan)
+      .set('Origin', TEST_ORIGIN)
+      .set('Cookie', evan)
       .send({ filters: { from: '2026-11-30T00:00:00Z', to: '2026-11-01T00:00:00Z' } });
     expect(res.status).toBe(400);
     expect(res.body.error.issues[0]).toMatchObject({

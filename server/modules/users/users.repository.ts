@@ -1,6 +1,7 @@
 import { asc, eq, inArray, sql } from 'drizzle-orm';
 import type { PgUpdateSetSource } from 'drizzle-orm/pg-core';
 import type { DbOrTx } from '#server/db/client';
+import { normaliseBadgeCode } from '#shared/schemas/auth';
 import { users, type UserRecord } from './users.table';
 
 export async function findUserById(db: DbOrTx, id: string): Promise<UserRecord | undefined> {
@@ -25,7 +26,7 @@ export async function findUserByBadge(db: DbOrTx, badgeCode: string): Promise<Us
   const [row] = await db
     .select()
     .from(users)
-    .where(sql`upper(${users.badgeCode}) = ${badgeCode.trim().toUpperCase()}`);
+    .where(sql`upper(${users.badgeCode}) = ${normaliseBadgeCode(badgeCode)}`);
   return row;
 }
 

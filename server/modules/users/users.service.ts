@@ -1,5 +1,6 @@
 import { and, eq, ne, sql } from 'drizzle-orm';
 import type { Db } from '#server/db/client';
+import { normaliseBadgeCode } from '#shared/schemas/auth';
 import type { SessionUser } from '#server/lib/auth';
 import type { Mailer } from '../mail/mail.service';
 import type { UserRow } from '#shared/schemas/users';
@@ -76,7 +77,7 @@ export async function createAccount(
         email: v.email ?? null,
         role: v.role,
         passwordHash,
-        badgeCode: v.badgeCode ? v.badgeCode.toUpperCase() : null,
+        badgeCode: v.badgeCode ? normaliseBadgeCode(v.badgeCode) : null,
         pinHash,
       });
       await insertAudit(tx, {
@@ -135,7 +136,8 @@ export async function updateAccount(
         email: v.email === undefined ? undefined : v.email,
         role: v.role,
         disabled: v.disabled,
-        badgeCode: v.badgeCode === undefined ? undefined : badgeCleared ? null : v.badgeCode.toUpperCase(),
+        badgeCode:
+          v.badgeCode === undefined ? undefined : badgeCleared ? null : normaliseBadgeCode(v.badgeCode),
         pinHash: badgeCleared ? null : pinHash,
         // A role change or disabling ends the person's open sessions at once.
         tokenVersion: roleChanges || disabling ? sql`${users.tokenVersion} + 1` : undefined,
