@@ -28,7 +28,9 @@ describe('Data Matrix encoder', () => {
       expect(Array.from(ours.pixs).join('')).toBe(theirs.pixs);
       sizes.add(ours.size);
     }
-    expect([...sizes].sort((a, b) => a - b)).toEqual([10, 12, 14, 16, 18, 20, 22, 24, 26, 32, 36, 40, 44, 48, 52, 64]);
+    expect([...sizes].sort((a, b) => a - b)).toEqual([
+      10, 12, 14, 16, 18, 20, 22, 24, 26, 32, 36, 40, 44, 48, 52, 64,
+    ]);
   });
 
   it('leaves text outside ASCII or beyond a 104 × 104 symbol to the caller', () => {

@@ -119,13 +119,49 @@ function placement(nrow: number, ncol: number): Int32Array {
   let col = 0;
   do {
     if (row === nrow && col === 0)
-      corner(chr++, [[nrow - 1, 0], [nrow - 1, 1], [nrow - 1, 2], [0, ncol - 2], [0, ncol - 1], [1, ncol - 1], [2, ncol - 1], [3, ncol - 1]]);
+      corner(chr++, [
+        [nrow - 1, 0],
+        [nrow - 1, 1],
+        [nrow - 1, 2],
+        [0, ncol - 2],
+        [0, ncol - 1],
+        [1, ncol - 1],
+        [2, ncol - 1],
+        [3, ncol - 1],
+      ]);
     if (row === nrow - 2 && col === 0 && ncol % 4 !== 0)
-      corner(chr++, [[nrow - 3, 0], [nrow - 2, 0], [nrow - 1, 0], [0, ncol - 4], [0, ncol - 3], [0, ncol - 2], [0, ncol - 1], [1, ncol - 1]]);
+      corner(chr++, [
+        [nrow - 3, 0],
+        [nrow - 2, 0],
+        [nrow - 1, 0],
+        [0, ncol - 4],
+        [0, ncol - 3],
+        [0, ncol - 2],
+        [0, ncol - 1],
+        [1, ncol - 1],
+      ]);
     if (row === nrow - 2 && col === 0 && ncol % 8 === 4)
-      corner(chr++, [[nrow - 3, 0], [nrow - 2, 0], [nrow - 1, 0], [0, ncol - 2], [0, ncol - 1], [1, ncol - 1], [2, ncol - 1], [3, ncol - 1]]);
+      corner(chr++, [
+        [nrow - 3, 0],
+        [nrow - 2, 0],
+        [nrow - 1, 0],
+        [0, ncol - 2],
+        [0, ncol - 1],
+        [1, ncol - 1],
+        [2, ncol - 1],
+        [3, ncol - 1],
+      ]);
     if (row === nrow + 4 && col === 2 && ncol % 8 === 0)
-      corner(chr++, [[nrow - 1, 0], [nrow - 1, ncol - 1], [0, ncol - 3], [0, ncol - 2], [0, ncol - 1], [1, ncol - 3], [1, ncol - 2], [1, ncol - 1]]);
+      corner(chr++, [
+        [nrow - 1, 0],
+        [nrow - 1, ncol - 1],
+        [0, ncol - 3],
+        [0, ncol - 2],
+        [0, ncol - 1],
+        [1, ncol - 3],
+        [1, ncol - 2],
+        [1, ncol - 1],
+      ]);
     do {
       if (row < nrow && col >= 0 && a[row * ncol + col] === -3) utah(row, col, chr++);
       row -= 2;

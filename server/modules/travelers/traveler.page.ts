@@ -80,7 +80,14 @@ interface LineDrawer {
 }
 // Options _fragment would get from doc.text(line, x, y, { lineBreak: false }), plus the rendered width and
 // word count it would otherwise measure for links and underlines, which the traveler never draws.
-const FRAGMENT_OPTIONS = Object.freeze({ lineBreak: false, columns: 0, columnGap: 18, rotation: 0, textWidth: 0, wordCount: 0 });
+const FRAGMENT_OPTIONS = Object.freeze({
+  lineBreak: false,
+  columns: 0,
+  columnGap: 18,
+  rotation: 0,
+  textWidth: 0,
+  wordCount: 0,
+});
 
 /**
  * Draws one line of text exactly as doc.text(str, x, y, { lineBreak: false }) does, without measuring
