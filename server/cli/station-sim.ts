@@ -37,10 +37,11 @@ const USAGE = `Usage:
   --concurrency C   units in the rig at the same time (default 2)
   --seed S          seed of the units' physics (default: from the clock)
   --json            print one JSON object at the end:
-                    { posted, calibrated, passed, failed, errors, qualifications, latencyMs: { p50, p95, max } }
+                    { posted, calibrated, passed, failed, held, errors, qualifications, latencyMs: { p50, p95, max } }
                     posted = measurements posted (retests included); calibrated = units whose
                     calibration came back; passed/failed = units that ended with a pass / with the
-                    recipe's attempts used up (on hold); errors = protocol or connection errors;
+                    recipe's attempts used up (on hold); held = units put on hold earlier (sent to
+                    repair), not retested; errors = protocol or connection errors;
                     latencyMs = post → result; qualifications = reference readings taken because
                     the server refused production until the station was qualified (423).
   --key KEY         the station key (default: the demo station key npm start writes to
@@ -222,6 +223,7 @@ async function main(): Promise<number> {
     calibrated: report.calibrated,
     passed: report.passed,
     failed: report.failed,
+    held: report.held,
     errors: report.errors,
     qualifications: report.qualifications,
     latencyMs,
@@ -231,7 +233,8 @@ async function main(): Promise<number> {
     process.stdout.write(
       [
         `${report.posted} measurements posted in ${seconds.toFixed(1)} s`,
-        `${report.calibrated} of ${units} units calibrated: ${report.passed} passed, ${report.failed} failed (on hold)`,
+        `${report.calibrated} of ${units} units calibrated: ${report.passed} passed, ${report.failed} failed (on hold)` +
+          (report.held ? `, ${report.held} held for repair after a failed attempt (not retested)` : ''),
         `${report.errors} errors`,
         `${report.qualifications} reference reading${report.qualifications === 1 ? '' : 's'} taken to qualify the station`,
         `post → result: p50 ${latencyMs.p50} ms, p95 ${latencyMs.p95} ms, max ${latencyMs.max} ms`,

@@ -254,6 +254,8 @@ async function closedLoop(stations: BenchStation[], posts: number, tag: string) 
     posted: reports.reduce((s, r) => s + r.posted, 0),
     results: latencies.length,
     errors: reports.reduce((s, r) => s + r.errors, 0),
+    // Units the server held after a failed attempt (sent to repair): the station stops there, no error.
+    held: reports.reduce((s, r) => s + r.held, 0),
     errorSamples: errors.slice(0, 5),
     latencies,
   };
@@ -402,7 +404,7 @@ async function main(): Promise<number> {
   log(
     `closed loop, ${STATIONS} stations one unit at a time: ${closed.posted} posts, ${closed.results} results in ${closed.seconds.toFixed(1)} s → ${throughput.toFixed(0)} calibrations/s ` +
       `(target ≥ ${TARGETS.calibrationsPerSecond}: ${verdict(throughput >= TARGETS.calibrationsPerSecond)}); ` +
-      `post → result p50 ${ms(percentile(closed.latencies, 50))}, p95 ${ms(percentile(closed.latencies, 95))}, p99 ${ms(percentile(closed.latencies, 99))}; ${closed.errors} errors; load average ${load()}`,
+      `post → result p50 ${ms(percentile(closed.latencies, 50))}, p95 ${ms(percentile(closed.latencies, 95))}, p99 ${ms(percentile(closed.latencies, 99))}; ${closed.held} units held for repair (not retested); ${closed.errors} errors; load average ${load()}`,
   );
   const travelers = await watch.drain(TRAVELER_DRAIN_LIMIT_MS);
   await watch.close();

@@ -209,6 +209,11 @@ export interface StationSimReport {
   passed: number;
   /** Units that used up the recipe's attempts without a pass (the server puts them on hold). */
   failed: number;
+  /**
+   * Units the server put on hold before their attempts ran out (sent to repair): a retest is refused with
+   * 409 units.on_hold, and the station stops measuring that unit, as an operator would.
+   */
+  held: number;
   errors: number;
   /** Post → result times, ms, in the order they completed. */
   latenciesMs: number[];
@@ -253,6 +258,7 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
     calibrated: 0,
     passed: 0,
     failed: 0,
+    held: 0,
     errors: 0,
     latenciesMs: [],
     qualifications: 0,
@@ -328,6 +334,10 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
           break;
         }
       } catch (e) {
+        if (e instanceof StationHttpError && e.status === 409 && e.code === 'units.on_hold') {
+          report.held++;
+          break;
+        }
         report.errors++;
         o.onError?.(e instanceof Error ? e.message : String(e));
         break;

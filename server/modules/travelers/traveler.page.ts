@@ -74,6 +74,37 @@ export interface LineOptions {
   align?: 'left' | 'right' | 'center';
 }
 
+// What drawLine expects of pdfkit's internals (0.20): the method doc.text() ends in for one line.
+interface LineDrawer {
+  _fragment?: (text: string, x: number, y: number, options: object) => void;
+}
+// Options _fragment would get from doc.text(line, x, y, { lineBreak: false }), plus the rendered width and
+// word count it would otherwise measure for links and underlines, which the traveler never draws.
+const FRAGMENT_OPTIONS = Object.freeze({
+  lineBreak: false,
+  columns: 0,
+  columnGap: 18,
+  rotation: 0,
+  textWidth: 0,
+  wordCount: 0,
+});
+
+/**
+ * Draws one line of text exactly as doc.text(str, x, y, { lineBreak: false }) does, without measuring
+ * it twice more (pdfkit measures a line for links and underlines, then to advance its cursor): a third of
+ * a traveler's text output. The drawing kit always gives x and y, so pdfkit's cursor is not needed.
+ */
+function drawLine(doc: Doc, str: string, x: number, y: number): void {
+  const fragment = (doc as unknown as LineDrawer)._fragment;
+  if (typeof fragment !== 'function') {
+    doc.text(str, x, y, { lineBreak: false });
+    return;
+  }
+  doc.x = x;
+  doc.y = y;
+  fragment.call(doc, str, x, y, FRAGMENT_OPTIONS);
+}
+
 export const INK = '#000000';
 export const SOFT = '#4d4d4d';
 export const RULE = '#8c8c8c';
@@ -123,7 +154,7 @@ export class Page<D extends Pick<TravelerData, 'serial'> = TravelerData> {
       if (options.align === 'right') x += width - measured;
       else if (options.align === 'center') x += (width - measured) / 2;
     }
-    doc.text(line, x, y, { lineBreak: false });
+    drawLine(doc, line, x, y);
   }
 
   // One line that must be read whole (a recipe name): shrinks down to minSize before it is ever cut.

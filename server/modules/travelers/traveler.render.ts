@@ -1,5 +1,6 @@
 import PDFDocument from 'pdfkit';
 import { barlowFontSources, prepareDocumentFonts } from './fonts';
+import { batchPdfOutput } from './pdf-output';
 import type { TravelerDataInput } from './traveler.types';
 import { parseTravelerData } from './traveler.types';
 import { formatTravelerCode } from './traveler.code';
@@ -51,6 +52,7 @@ export async function renderTravelerPdf(input: TravelerDataInput): Promise<Buffe
       ModDate: generatedAt,
     },
   });
+  batchPdfOutput(doc);
   const chunks: Buffer[] = [];
   const done = new Promise<Buffer>((resolve, reject) => {
     doc.on('data', (chunk: Buffer) => chunks.push(chunk));
