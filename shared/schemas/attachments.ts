@@ -11,6 +11,17 @@ export const ATTACHMENT_LIMIT_BYTES = 20 * 1024 * 1024;
 /** The kinds accepted, in the words the screen and the refusals use. */
 export const ATTACHMENT_KINDS_TEXT = 'PNG or JPEG pictures, PDF, CSV or plain text, and ZIP archives';
 
+/** The upload form: one file within the limit (the server checks its kind by its bytes). */
+export const attachmentUploadSchema = z.object({
+  file: z
+    .file('Choose a file to attach')
+    .max(
+      ATTACHMENT_LIMIT_BYTES,
+      `Too large: one attachment may be at most ${ATTACHMENT_LIMIT_BYTES / (1024 * 1024)} MB.`,
+    ),
+});
+export type AttachmentUpload = z.infer<typeof attachmentUploadSchema>;
+
 export const attachmentSchema = z.object({
   id: z.uuid(),
   fileName: z.string(),

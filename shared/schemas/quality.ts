@@ -155,7 +155,7 @@ export interface BulkHoldResult {
 
 export const releaseSchema = z.object({
   serials: z.array(serialSchema).min(1).max(20000),
-  disposition: holdDispositionSchema,
+  disposition: z.enum(HOLD_DISPOSITIONS, 'Choose what happens to the units'),
   reason: reasonSchema,
 });
 export type Release = z.infer<typeof releaseSchema>;

@@ -140,6 +140,8 @@ export const recipeDiffSchema = z.object({
   changes: z.array(recipeFieldChangeSchema),
 });
 
+const LAST_UNITS = 'Enter a whole number from 1 to 100,000.';
+
 export const whatIfFiltersSchema = z
   .object({
     /** Measurements received from this time (ISO 8601); empty: no lower bound. */
@@ -147,7 +149,7 @@ export const whatIfFiltersSchema = z
     to: z.string().datetime({ offset: true }).optional(),
     stationIds: z.array(z.string().uuid()).max(100).optional(),
     /** The most recent units of the model to replay (each unit's station measurements). */
-    lastUnits: z.number().int().min(1).max(100_000).default(1000),
+    lastUnits: z.number(LAST_UNITS).int(LAST_UNITS).min(1, LAST_UNITS).max(100_000, LAST_UNITS).default(1000),
   })
   .refine((f) => !f.from || !f.to || f.from <= f.to, {
     message: 'The start of the time range must not be after its end.',

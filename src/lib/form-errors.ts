@@ -32,3 +32,16 @@ export function applyServerErrors<T extends FieldValues>(
   }
   return unplaced ? error.message : null;
 }
+
+/**
+ * For a form of one text field (a reason, a comment): every refusal, whether it names the field or not (a
+ * conflict, a rule), is shown under that field.
+ */
+export function showServerErrorOn<T extends FieldValues>(
+  error: unknown,
+  setError: UseFormSetError<T>,
+  field: Path<T>,
+): void {
+  const message = applyServerErrors(error, setError, [field]);
+  if (message) setError(field, { type: 'server', message });
+}

@@ -25,3 +25,8 @@ export function formatRelative(iso: string | null | undefined, now: Date = new D
   if (seconds < 86_400) return `${Math.floor(seconds / 3600)} h ago`;
   return formatDateTime(iso);
 }
+
+/** A browser `datetime-local` value (the user's local time) as an ISO instant; empty stays empty. */
+export function localToInstant(local: string): string {
+  return local ? new Date(local).toISOString() : '';
+}

@@ -118,9 +118,24 @@ describe('line statistics on the demo line', () => {
     await page.getByLabel('Limits from (local time)').fill('');
     await page.getByLabel('Limits until (local time)').fill('');
     await page.getByText(/frozen \(version \d+\) by Evan Thorsby/).waitFor();
-    await page.getByRole('table', { name: 'Watched charts of this model by station' }).waitFor();
+    const watched = page.getByRole('table', { name: 'Watched charts of this model by station' });
+    await watched.waitFor();
     await shot('analysis-frozen-limits');
     expect(await axeFindings(page)).toEqual([]);
+  });
+
+  it('shows the watched charts judging against the saved limits at once, and against their own once cleared', async () => {
+    // Issue 12: the watched-charts table kept the limits it had read before a save or a clearing until a reload.
+    const watched = page.getByRole('table', { name: 'Watched charts of this model by station' });
+    const individuals = watched.getByRole('row', { name: /EOL-23.*Individuals/ });
+    await expect
+      .poll(() => individuals.textContent(), { timeout: 15_000 })
+      .toMatch(/Frozen limits \(saved by an engineer\)/);
+    await page
+      .getByLabel('Why (kept with the limits and in the audit log)')
+      .fill('Back to limits from the points shown');
+    await page.getByRole('button', { name: 'Clear: compute limits from the points shown' }).click();
+    await expect.poll(() => individuals.textContent(), { timeout: 15_000 }).not.toMatch(/Frozen limits/);
   });
 
   it('lets an engineer add a subgroup chart with Nelson’s rules to the watched charts', async () => {

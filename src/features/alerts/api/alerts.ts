@@ -1,6 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { AlertView, WatchedChartSettings, WatchedChartView } from '#shared/schemas/alerts';
 import { apiRequest } from '#src/lib/api-client';
+import { watchedChartKeys, watchedChartsQueryOptions } from '#src/lib/queries/watched-charts';
 
 /** Query keys of the chart alerts; nobody writes these inline. */
 export const alertKeys = {
@@ -55,20 +56,8 @@ export function useSetAlertSubscription() {
   });
 }
 
-export const watchedChartKeys = {
-  all: ['watched-charts'] as const,
-  list: (modelId: string) => [...watchedChartKeys.all, modelId] as const,
-};
-
 export function useWatchedCharts(modelId: string | null) {
-  return useQuery({
-    queryKey: watchedChartKeys.list(modelId ?? ''),
-    queryFn: () =>
-      apiRequest<{ charts: WatchedChartView[] }>(
-        `/api/alerts/charts?modelId=${encodeURIComponent(modelId!)}`,
-      ).then((b) => b.charts),
-    enabled: !!modelId,
-  });
+  return useQuery(watchedChartsQueryOptions(modelId));
 }
 
 export function useSetWatchedChart() {

@@ -1,9 +1,19 @@
 import { useState } from 'react';
-import { RULE_SET_SIZE, type WatchedChartView } from '#shared/schemas/alerts';
+import { useForm, useWatch } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import type { z } from 'zod';
+import {
+  RULE_SET_SIZE,
+  watchedChartSettingsSchema,
+  type WatchedChartSettings,
+  type WatchedChartView,
+} from '#shared/schemas/alerts';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { CheckboxField, SelectField, TextField } from '#src/components/ui/field';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
+import { QueryState } from '#src/components/ui/query-state';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useSetWatchedChart, useWatchedCharts } from '../api/alerts';
 
 const KINDS = {
@@ -31,25 +41,12 @@ function settingsText(c: WatchedChartView) {
  */
 export function WatchedCharts({ modelId, canChange }: { modelId: string; canChange: boolean }) {
   const charts = useWatchedCharts(modelId);
-  const save = useSetWatchedChart();
   const list = charts.data ?? [];
   const stations = [...new Map(list.map((c) => [c.stationId, c.station])).entries()];
   const [stationId, setStationId] = useState('');
   const [kind, setKind] = useState<Kind>('imr');
   const station = stationId || stations[0]?.[0] || '';
   const current = list.find((c) => c.stationId === station && c.kind === kind);
-  const [draft, setDraft] = useState<Record<string, string | boolean | number[]>>({});
-  const value = <T,>(key: string, fallback: T): T => (key in draft ? (draft[key] as T) : fallback);
-  const ruleSet = value<'western-electric' | 'nelson'>('ruleSet', current?.ruleSet ?? 'western-electric');
-  const rules = value<number[]>(
-    'rules',
-    current && current.kind !== 'ewma' ? current.rules : [1, 2, 3, 4],
-  ).filter((r) => r <= RULE_SET_SIZE[ruleSet]);
-  const pick = (s: string, k: Kind) => {
-    setStationId(s);
-    setKind(k);
-    setDraft({});
-  };
 
   return (
     <section aria-labelledby="watched-title" className="flex flex-col gap-3 border-2 border-graphite-700 p-4">
@@ -60,169 +57,237 @@ export function WatchedCharts({ modelId, canChange }: { modelId: string; canChan
         Each station’s offset charts are judged as every unit is calibrated; a broken rule opens an alert. By
         default each station watches an individuals chart with Western Electric rules 1–4 and an EWMA.
       </p>
-      {charts.error ? <Alert tone="fault">{charts.error.message}</Alert> : null}
-      {list.length === 0 && charts.data ? (
-        <p className="text-graphite-300">No station has calibrated this model yet, so no chart is watched.</p>
-      ) : null}
-      {list.length ? (
-        <TableFrame caption="Watched charts of this model by station">
-          <thead>
-            <tr>
-              <Th>Station</Th>
-              <Th>Chart</Th>
-              <Th>Watched</Th>
-              <Th>Rules or weights</Th>
-              <Th>Limits</Th>
-              <Th>Settings by</Th>
-            </tr>
-          </thead>
-          <tbody>
-            {list.map((c) => (
-              <tr key={c.id}>
-                <Td>{c.station}</Td>
-                <Td>{KINDS[c.kind]}</Td>
-                <Td>{c.watched ? 'Yes' : 'No (stopped)'}</Td>
-                <Td>{settingsText(c)}</Td>
-                <Td>{LIMITS[c.limits]}</Td>
-                <Td>
-                  {c.changedBy
-                    ? `${c.changedBy}, ${new Date(c.changedAt!).toLocaleString()}`
-                    : 'Product default'}
-                </Td>
+      <QueryState
+        query={charts}
+        pending="Reading the watched charts…"
+        failed="The watched charts could not be read"
+        isEmpty={(rows) => rows.length === 0}
+        empty={
+          <p className="text-graphite-300">
+            No station has calibrated this model yet, so no chart is watched.
+          </p>
+        }
+      >
+        {(rows) => (
+          <TableFrame caption="Watched charts of this model by station">
+            <thead>
+              <tr>
+                <Th>Station</Th>
+                <Th>Chart</Th>
+                <Th>Watched</Th>
+                <Th>Rules or weights</Th>
+                <Th>Limits</Th>
+                <Th>Settings by</Th>
               </tr>
-            ))}
-          </tbody>
-        </TableFrame>
-      ) : null}
+            </thead>
+            <tbody>
+              {rows.map((c) => (
+                <tr key={c.id}>
+                  <Td>{c.station}</Td>
+                  <Td>{KINDS[c.kind]}</Td>
+                  <Td>{c.watched ? 'Yes' : 'No (stopped)'}</Td>
+                  <Td>{settingsText(c)}</Td>
+                  <Td>{LIMITS[c.limits]}</Td>
+                  <Td>
+                    {c.changedBy
+                      ? `${c.changedBy}, ${new Date(c.changedAt!).toLocaleString()}`
+                      : 'Product default'}
+                  </Td>
+                </tr>
+              ))}
+            </tbody>
+          </TableFrame>
+        )}
+      </QueryState>
       {canChange && stations.length ? (
-        <form
-          aria-label="Change a watched chart"
-          className="grid grid-cols-1 gap-4 sm:grid-cols-2 lg:grid-cols-4"
-          onSubmit={(e) => {
-            e.preventDefault();
-            save.mutate(
-              {
-                stationId: station,
-                modelId,
-                kind,
-                watched: value('watched', current?.watched ?? true),
-                ruleSet,
-                rules: kind === 'ewma' ? undefined : rules,
-                lambda: Number(value('lambda', String(current?.lambda ?? 0.2))),
-                limitWidth: Number(value('limitWidth', String(current?.limitWidth ?? 3))),
-                subgroupSize: Number(value('subgroupSize', String(current?.subgroupSize ?? 5))),
-              },
-              { onSuccess: () => setDraft({}) },
-            );
+        <WatchedChartForm
+          // A new station or chart starts from that chart's own settings.
+          key={`${station}|${kind}`}
+          modelId={modelId}
+          stations={stations}
+          stationId={station}
+          kind={kind}
+          current={current}
+          onPick={(s, k) => {
+            setStationId(s);
+            setKind(k);
           }}
-        >
-          <SelectField
-            label="Station"
-            value={station}
-            onChange={(e) => pick(e.target.value, kind)}
-            options={stations.map(([id, name]) => ({ value: id, label: name }))}
-          />
-          <SelectField
-            label="Chart to watch"
-            value={kind}
-            onChange={(e) => pick(station, e.target.value as Kind)}
-            options={Object.entries(KINDS).map(([v, label]) => ({ value: v, label }))}
-          />
-          <CheckboxField
-            label="Watch this chart"
-            checked={value('watched', current?.watched ?? true)}
-            onChange={(e) => setDraft({ ...draft, watched: e.target.checked })}
-          />
-          {kind === 'ewma' ? (
-            <>
-              <TextField
-                label="Weight λ (0 to 1)"
-                type="number"
-                step={0.05}
-                min={0.05}
-                max={1}
-                value={value('lambda', String(current?.lambda ?? 0.2))}
-                onChange={(e) => setDraft({ ...draft, lambda: e.target.value })}
-              />
-              <TextField
-                label="Limit width L (σ)"
-                type="number"
-                step={0.1}
-                min={1}
-                max={6}
-                value={value('limitWidth', String(current?.limitWidth ?? 3))}
-                onChange={(e) => setDraft({ ...draft, limitWidth: e.target.value })}
-              />
-            </>
-          ) : (
-            <>
-              <SelectField
-                label="Run rules"
-                value={ruleSet}
-                onChange={(e) =>
-                  setDraft({
-                    ...draft,
-                    ruleSet: e.target.value,
-                    rules: Array.from({ length: RULE_SET_SIZE[e.target.value as 'nelson'] }, (_, i) => i + 1),
-                  })
-                }
-                options={Object.entries(RULE_SETS).map(([v, label]) => ({
-                  value: v,
-                  label: `${label} 1–${RULE_SET_SIZE[v as 'nelson']}`,
-                }))}
-              />
-              <fieldset className="flex flex-wrap gap-x-4 sm:col-span-2">
-                <legend className="text-graphite-200">Rules judged</legend>
-                {Array.from({ length: RULE_SET_SIZE[ruleSet] }, (_, i) => i + 1).map((r) => (
-                  <CheckboxField
-                    key={r}
-                    label={`Rule ${r}`}
-                    checked={rules.includes(r)}
-                    onChange={(e) =>
-                      setDraft({
-                        ...draft,
-                        rules: e.target.checked
-                          ? [...rules, r].sort((a, b) => a - b)
-                          : rules.filter((x) => x !== r),
-                      })
-                    }
-                  />
-                ))}
-              </fieldset>
-              {kind === 'xbar-r' ? (
-                <TextField
-                  label="Units per subgroup"
-                  type="number"
-                  min={2}
-                  max={25}
-                  value={value('subgroupSize', String(current?.subgroupSize ?? 5))}
-                  onChange={(e) => setDraft({ ...draft, subgroupSize: e.target.value })}
-                />
-              ) : null}
-            </>
-          )}
-          <div className="flex items-end">
-            <Button
-              type="submit"
-              variant="primary"
-              busy={save.isPending}
-              disabled={kind !== 'ewma' && !rules.length}
-            >
-              Save this chart
-            </Button>
-          </div>
-          {save.error ? (
-            <div className="sm:col-span-2 lg:col-span-4">
-              <Alert tone="fault">{save.error.message}</Alert>
-            </div>
-          ) : null}
-          {save.isSuccess ? (
-            <p role="status" className="text-graphite-200 sm:col-span-2 lg:col-span-4">
-              Saved. The chart judges the calibrations from now on.
-            </p>
-          ) : null}
-        </form>
+        />
       ) : null}
     </section>
+  );
+}
+
+const FIELDS = [
+  'stationId',
+  'kind',
+  'watched',
+  'ruleSet',
+  'rules',
+  'lambda',
+  'limitWidth',
+  'subgroupSize',
+] as const;
+const allRules = (set: keyof typeof RULE_SET_SIZE) =>
+  Array.from({ length: RULE_SET_SIZE[set] }, (_, i) => i + 1);
+
+/** One chart's settings, checked by the server's own schema before they are sent. */
+function WatchedChartForm({
+  modelId,
+  stations,
+  stationId,
+  kind,
+  current,
+  onPick,
+}: {
+  modelId: string;
+  stations: [string, string][];
+  stationId: string;
+  kind: Kind;
+  current: WatchedChartView | undefined;
+  onPick: (stationId: string, kind: Kind) => void;
+}) {
+  const save = useSetWatchedChart();
+  const [banner, setBanner] = useState<string | null>(null);
+  const [saved, setSaved] = useState(false);
+  const form = useForm<z.input<typeof watchedChartSettingsSchema>, unknown, WatchedChartSettings>({
+    resolver: zodResolver(watchedChartSettingsSchema),
+    defaultValues: {
+      stationId,
+      modelId,
+      kind,
+      watched: current?.watched ?? true,
+      ruleSet: current?.ruleSet ?? 'western-electric',
+      rules: current && current.kind !== 'ewma' ? current.rules : [1, 2, 3, 4],
+      lambda: current?.lambda ?? 0.2,
+      limitWidth: current?.limitWidth ?? 3,
+      subgroupSize: current?.subgroupSize ?? 5,
+    },
+  });
+  const { errors } = form.formState;
+  const ruleSet = useWatch({ control: form.control, name: 'ruleSet' }) ?? 'western-electric';
+  const rules = useWatch({ control: form.control, name: 'rules' }) ?? [];
+  const submit = form.handleSubmit(async (settings) => {
+    setBanner(null);
+    setSaved(false);
+    try {
+      await save.mutateAsync(kind === 'ewma' ? { ...settings, rules: undefined } : settings);
+      setSaved(true);
+    } catch (error) {
+      setBanner(applyServerErrors(error, form.setError, FIELDS));
+    }
+  });
+  const number = { valueAsNumber: true } as const;
+
+  return (
+    <form
+      aria-label="Change a watched chart"
+      noValidate
+      className="grid grid-cols-1 gap-4 sm:grid-cols-2 lg:grid-cols-4"
+      onSubmit={submit}
+    >
+      <SelectField
+        label="Station"
+        value={stationId}
+        error={errors.stationId?.message}
+        onChange={(e) => onPick(e.target.value, kind)}
+        options={stations.map(([id, name]) => ({ value: id, label: name }))}
+      />
+      <SelectField
+        label="Chart to watch"
+        value={kind}
+        error={errors.kind?.message}
+        onChange={(e) => onPick(stationId, e.target.value as Kind)}
+        options={Object.entries(KINDS).map(([v, label]) => ({ value: v, label }))}
+      />
+      <CheckboxField label="Watch this chart" {...form.register('watched')} />
+      {kind === 'ewma' ? (
+        <>
+          <TextField
+            label="Weight λ (0 to 1)"
+            type="number"
+            step={0.05}
+            min={0.05}
+            max={1}
+            error={errors.lambda?.message}
+            {...form.register('lambda', number)}
+          />
+          <TextField
+            label="Limit width L (σ)"
+            type="number"
+            step={0.1}
+            min={1}
+            max={6}
+            error={errors.limitWidth?.message}
+            {...form.register('limitWidth', number)}
+          />
+        </>
+      ) : (
+        <>
+          <SelectField
+            label="Run rules"
+            error={errors.ruleSet?.message}
+            {...form.register('ruleSet', {
+              onChange: (e: { target: { value: keyof typeof RULE_SET_SIZE } }) =>
+                form.setValue('rules', allRules(e.target.value)),
+            })}
+            options={Object.entries(RULE_SETS).map(([v, label]) => ({
+              value: v,
+              label: `${label} 1–${RULE_SET_SIZE[v as 'nelson']}`,
+            }))}
+          />
+          <fieldset
+            className="flex flex-wrap gap-x-4 sm:col-span-2"
+            aria-describedby={errors.rules ? 'rules-error' : undefined}
+          >
+            <legend className="text-graphite-200">Rules judged</legend>
+            {allRules(ruleSet).map((r) => (
+              <CheckboxField
+                key={r}
+                label={`Rule ${r}`}
+                checked={rules.includes(r)}
+                onChange={(e) =>
+                  form.setValue(
+                    'rules',
+                    e.target.checked ? [...rules, r].sort((a, b) => a - b) : rules.filter((x) => x !== r),
+                    { shouldValidate: form.formState.isSubmitted },
+                  )
+                }
+              />
+            ))}
+            {errors.rules ? (
+              <p id="rules-error" role="alert" className="w-full text-sm font-medium text-fault">
+                {errors.rules.message}
+              </p>
+            ) : null}
+          </fieldset>
+          {kind === 'xbar-r' ? (
+            <TextField
+              label="Units per subgroup"
+              type="number"
+              min={2}
+              max={25}
+              error={errors.subgroupSize?.message}
+              {...form.register('subgroupSize', number)}
+            />
+          ) : null}
+        </>
+      )}
+      <div className="flex items-end">
+        <Button type="submit" variant="primary" busy={save.isPending}>
+          Save this chart
+        </Button>
+      </div>
+      {banner ? (
+        <div className="sm:col-span-2 lg:col-span-4">
+          <Alert tone="fault">{banner}</Alert>
+        </div>
+      ) : null}
+      {saved ? (
+        <p role="status" className="text-graphite-200 sm:col-span-2 lg:col-span-4">
+          Saved. The chart judges the calibrations from now on.
+        </p>
+      ) : null}
+    </form>
   );
 }

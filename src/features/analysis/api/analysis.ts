@@ -9,6 +9,7 @@ import type {
   LineHealthView,
 } from '#shared/schemas/analysis';
 import { apiRequest } from '#src/lib/api-client';
+import { watchedChartKeys } from '#src/lib/queries/watched-charts';
 import { analysisKeys } from './analysis-keys';
 
 export type AnalysisModel = { id: string; code: string; name: string };
@@ -82,6 +83,11 @@ export function useSaveLimits() {
           body: input.body,
         },
       ),
-    onSuccess: () => queryClient.invalidateQueries({ queryKey: analysisKeys.all }),
+    // The watched charts judge against the same limits (station's own, else the model's): read them again too.
+    onSuccess: () =>
+      Promise.all([
+        queryClient.invalidateQueries({ queryKey: analysisKeys.all }),
+        queryClient.invalidateQueries({ queryKey: watchedChartKeys.all }),
+      ]),
   });
 }

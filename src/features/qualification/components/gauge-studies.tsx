@@ -6,6 +6,7 @@ import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { CheckboxField, SelectField, TextAreaField, TextField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
+import { QueryState } from '#src/components/ui/query-state';
 import { StatusChip } from '#src/components/ui/status-chip';
 import {
   useCreateStudy,
@@ -136,9 +137,14 @@ function StudyResults({ study }: { study: GaugeStudyDetail }) {
 
 function StudyDetail({ id }: { id: string }) {
   const q = useStudy(id);
-  if (q.isPending) return <Loading />;
-  if (q.isError) return <Alert tone="fault">{q.error.message}</Alert>;
-  const s = q.data;
+  return (
+    <QueryState query={q} pending="Reading the study…" failed="The study could not be read">
+      {(s) => <StudyView s={s} />}
+    </QueryState>
+  );
+}
+
+function StudyView({ s }: { s: GaugeStudyDetail }) {
   return (
     <Panel title={s.name} titleId="study-title">
       <p className="mb-4 text-graphite-200" data-testid="study-design">
@@ -299,40 +305,50 @@ export function GaugeStudies({ stations, canEdit }: { stations: StationChoice[];
   return (
     <div className="flex flex-col gap-5">
       <Panel title="Studies" titleId="studies-title">
-        {list.isPending ? <Loading /> : null}
-        {list.data?.length === 0 ? <p className="text-graphite-300">No studies yet.</p> : null}
-        {list.data?.length ? (
-          <TableFrame caption="Gauge studies, newest first">
-            <thead>
-              <tr>
-                <Th>Study</Th>
-                <Th>Design</Th>
-                <Th>State</Th>
-              </tr>
-            </thead>
-            <tbody>
-              {list.data.map((s) => (
-                <tr key={s.id}>
-                  <Td>
-                    <Button variant="quiet" onClick={() => setSelected(s.id)} aria-pressed={s.id === current}>
-                      {s.name}
-                    </Button>
-                  </Td>
-                  <Td>
-                    {s.parts} parts × {s.appraisers}{' '}
-                    {s.appraiserKind === 'station' ? 'stations' : 'operators'} × {s.trials} trials, tolerance{' '}
-                    {s.toleranceDeg}°
-                  </Td>
-                  <Td>
-                    <StatusChip tone={s.status === 'finished' ? 'ok' : 'accent'}>
-                      {s.status === 'finished' ? 'Finished' : 'Running'}
-                    </StatusChip>
-                  </Td>
+        <QueryState
+          query={list}
+          pending="Reading the studies…"
+          failed="The studies could not be read"
+          isEmpty={(studies) => studies.length === 0}
+          empty={<p className="text-graphite-300">No studies yet.</p>}
+        >
+          {(studies) => (
+            <TableFrame caption="Gauge studies, newest first">
+              <thead>
+                <tr>
+                  <Th>Study</Th>
+                  <Th>Design</Th>
+                  <Th>State</Th>
                 </tr>
-              ))}
-            </tbody>
-          </TableFrame>
-        ) : null}
+              </thead>
+              <tbody>
+                {studies.map((s) => (
+                  <tr key={s.id}>
+                    <Td>
+                      <Button
+                        variant="quiet"
+                        onClick={() => setSelected(s.id)}
+                        aria-pressed={s.id === current}
+                      >
+                        {s.name}
+                      </Button>
+                    </Td>
+                    <Td>
+                      {s.parts} parts × {s.appraisers}{' '}
+                      {s.appraiserKind === 'station' ? 'stations' : 'operators'} × {s.trials} trials,
+                      tolerance {s.toleranceDeg}°
+                    </Td>
+                    <Td>
+                      <StatusChip tone={s.status === 'finished' ? 'ok' : 'accent'}>
+                        {s.status === 'finished' ? 'Finished' : 'Running'}
+                      </StatusChip>
+                    </Td>
+                  </tr>
+                ))}
+              </tbody>
+            </TableFrame>
+          )}
+        </QueryState>
       </Panel>
       {current ? <StudyDetail key={current} id={current} /> : null}
       {canEdit ? (

@@ -1,10 +1,11 @@
 import { useState, type FormEvent } from 'react';
 import { plantShiftsSchema, type PlantShifts } from '#shared/schemas/qualification';
-import { Alert, Loading } from '#src/components/ui/alert';
+import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { TextField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
+import { QueryState } from '#src/components/ui/query-state';
 import { isApiError } from '#src/lib/api-client';
 import { useSetShifts, useShifts } from '../api/qualification';
 
@@ -135,13 +136,19 @@ function ShiftForm({ initial, timeZone }: { initial: PlantShifts; timeZone: stri
  */
 export function ShiftsEditor({ canEdit }: { canEdit: boolean }) {
   const shifts = useShifts();
-  if (shifts.isPending) return <Loading label="Reading the shifts…" />;
-  if (shifts.isError) return <Alert tone="fault">{shifts.error.message}</Alert>;
-  const { timeZone } = shifts.data;
+  return (
+    <QueryState query={shifts} pending="Reading the shifts…" failed="The shifts could not be read">
+      {(data) => <ShiftsView data={data} canEdit={canEdit} />}
+    </QueryState>
+  );
+}
+
+function ShiftsView({ data, canEdit }: { data: PlantShifts & { timeZone: string }; canEdit: boolean }) {
+  const { timeZone } = data;
   return (
     <div className="flex flex-col gap-5">
       <Panel title="Shifts now" titleId="shifts-now-title">
-        {shifts.data.shifts.length ? (
+        {data.shifts.length ? (
           <TableFrame caption={`Plant shifts, by start (plant time, ${timeZone})`}>
             <thead>
               <tr>
@@ -150,7 +157,7 @@ export function ShiftsEditor({ canEdit }: { canEdit: boolean }) {
               </tr>
             </thead>
             <tbody data-testid="shift-rows">
-              {shifts.data.shifts.map((s) => (
+              {data.shifts.map((s) => (
                 <tr key={`${s.name}-${s.startsAt}`}>
                   <Td className="font-semibold">{s.name}</Td>
                   <Td>{s.startsAt}</Td>
@@ -166,7 +173,7 @@ export function ShiftsEditor({ canEdit }: { canEdit: boolean }) {
       </Panel>
       {canEdit ? (
         <Panel>
-          <ShiftForm key={JSON.stringify(shifts.data.shifts)} initial={shifts.data} timeZone={timeZone} />
+          <ShiftForm key={JSON.stringify(data.shifts)} initial={data} timeZone={timeZone} />
         </Panel>
       ) : (
         <p className="text-graphite-300">Engineers change the shifts.</p>

@@ -7,17 +7,13 @@ import {
   useTable,
   type SortingState,
 } from '@tanstack/react-table';
-import {
-  UNIT_SEARCH_FILTER_KEYS,
-  type BulkHoldResult,
-  type UnitSearchRow,
-} from '#shared/schemas/quality';
+import { UNIT_SEARCH_FILTER_KEYS, type BulkHoldResult, type UnitSearchRow } from '#shared/schemas/quality';
 import { unitStatusSchema } from '#shared/schemas/units';
 import { Alert, Loading } from '#src/components/ui/alert';
 import { Button, buttonClass } from '#src/components/ui/button';
 import { SortableTableContent, TableFrame } from '#src/components/ui/data-table';
 import { SelectField, TextField } from '#src/components/ui/field';
-import { formatDateTime } from '#src/lib/format';
+import { formatDateTime, localToInstant } from '#src/lib/format';
 import {
   searchParams,
   useSearchChoices,
@@ -54,11 +50,6 @@ const TIME_KEYS = ['builtFrom', 'builtTo', 'measuredFrom', 'measuredTo'];
 
 const PAGE_SIZE = 50;
 
-/** datetime-local gives local wall time without a zone; the API wants an instant. */
-function toInstant(local: string): string {
-  return local ? new Date(local).toISOString() : '';
-}
-
 /** An instant as the local wall time a datetime-local field shows (minutes). */
 function toLocalInput(instant: string): string {
   const d = new Date(instant);
@@ -69,7 +60,7 @@ function toLocalInput(instant: string): string {
 
 function filtersOf(form: SearchForm): SearchForm {
   const out: SearchForm = { ...form };
-  for (const k of TIME_KEYS) out[k] = toInstant(form[k] ?? '');
+  for (const k of TIME_KEYS) out[k] = localToInstant(form[k] ?? '');
   return out;
 }
 

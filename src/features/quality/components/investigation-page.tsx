@@ -1,11 +1,21 @@
 import { useState } from 'react';
 import { Link } from 'react-router';
-import type { InvestigationDetail, InvestigationUpdate } from '#shared/schemas/quality';
-import { Alert, Loading } from '#src/components/ui/alert';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import type { z } from 'zod';
+import {
+  commentSchema,
+  investigationUpdateSchema,
+  type InvestigationDetail,
+  type InvestigationUpdate,
+} from '#shared/schemas/quality';
+import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TextAreaField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
+import { QueryState } from '#src/components/ui/query-state';
 import { StatusChip } from '#src/components/ui/status-chip';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { formatDateTime } from '#src/lib/format';
 import { useAddComment, useInvestigation, useUpdateInvestigation } from '../api/quality';
 import { InvestigationAttachments } from './investigation-attachments';
@@ -22,37 +32,45 @@ const TEXT_FIELDS = [
 
 const NEXT_STATUS = { open: 'contained', contained: 'closed', closed: null } as const;
 
+const CASE_FIELDS = TEXT_FIELDS.map(([k]) => k);
+
 function CaseFields({ inv }: { inv: InvestigationDetail }) {
   const update = useUpdateInvestigation(inv.id);
-  const [draft, setDraft] = useState<Record<string, string>>(() =>
-    Object.fromEntries(TEXT_FIELDS.map(([k]) => [k, inv[k] ?? ''])),
-  );
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<z.input<typeof investigationUpdateSchema>, unknown, InvestigationUpdate>({
+    resolver: zodResolver(investigationUpdateSchema),
+    defaultValues: Object.fromEntries(TEXT_FIELDS.map(([k]) => [k, inv[k] ?? ''])),
+  });
+  const { errors, dirtyFields, isDirty } = form.formState;
   const closed = inv.status === 'closed';
   const next = NEXT_STATUS[inv.status];
-  const changed = TEXT_FIELDS.filter(([k]) => (inv[k] ?? '') !== draft[k]);
-  const save = (extra: InvestigationUpdate = {}) =>
-    update.mutate({ ...Object.fromEntries(changed.map(([k]) => [k, draft[k]])), ...extra });
+  // Only the fields changed here are sent, so a colleague's edit of another field is not overwritten.
+  const save = (extra: InvestigationUpdate) =>
+    form.handleSubmit(async (values) => {
+      setBanner(null);
+      const changed = CASE_FIELDS.filter((k) => dirtyFields[k]);
+      try {
+        await update.mutateAsync({ ...Object.fromEntries(changed.map((k) => [k, values[k]])), ...extra });
+        form.reset(form.getValues());
+      } catch (error) {
+        setBanner(applyServerErrors(error, form.setError, CASE_FIELDS));
+      }
+    });
   return (
     <Panel title="Case" titleId="case-title">
-      <form
-        className="flex flex-col gap-4"
-        onSubmit={(event) => {
-          event.preventDefault();
-          save();
-        }}
-      >
+      <form className="flex flex-col gap-4" onSubmit={save({})} noValidate>
         {TEXT_FIELDS.map(([k, label]) => (
           <TextAreaField
             key={k}
             label={label}
-            value={draft[k]}
             readOnly={closed}
-            onChange={(e) => setDraft((d) => ({ ...d, [k]: e.target.value }))}
+            error={errors[k]?.message}
+            {...form.register(k)}
           />
         ))}
-        {update.isError ? (
+        {banner ? (
           <Alert tone="fault" title="Not saved">
-            {update.error.message}
+            {banner}
           </Alert>
         ) : null}
         {closed ? (
@@ -61,11 +79,11 @@ function CaseFields({ inv }: { inv: InvestigationDetail }) {
           </p>
         ) : (
           <div className="flex flex-wrap gap-3">
-            <Button type="submit" busy={update.isPending} disabled={changed.length === 0}>
+            <Button type="submit" busy={update.isPending} disabled={!isDirty}>
               Save changes
             </Button>
             {next ? (
-              <Button variant="primary" busy={update.isPending} onClick={() => save({ status: next })}>
+              <Button variant="primary" busy={update.isPending} onClick={save({ status: next })}>
                 {next === 'contained' ? 'Mark contained' : 'Close the case'}
               </Button>
             ) : null}
@@ -78,7 +96,20 @@ function CaseFields({ inv }: { inv: InvestigationDetail }) {
 
 function Comments({ inv }: { inv: InvestigationDetail }) {
   const add = useAddComment(inv.id);
-  const [body, setBody] = useState('');
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<z.input<typeof commentSchema>, unknown, z.output<typeof commentSchema>>({
+    resolver: zodResolver(commentSchema),
+    defaultValues: { body: '' },
+  });
+  const submit = form.handleSubmit(async ({ body }) => {
+    setBanner(null);
+    try {
+      await add.mutateAsync(body);
+      form.reset({ body: '' });
+    } catch (error) {
+      setBanner(applyServerErrors(error, form.setError, ['body']));
+    }
+  });
   return (
     <Panel title="Comments" titleId="comments-title">
       {inv.comments.length === 0 ? <p className="mb-4 text-graphite-300">No comment yet.</p> : null}
@@ -92,21 +123,19 @@ function Comments({ inv }: { inv: InvestigationDetail }) {
           </li>
         ))}
       </ol>
-      <form
-        className="flex flex-col gap-3"
-        onSubmit={(event) => {
-          event.preventDefault();
-          add.mutate(body, { onSuccess: () => setBody('') });
-        }}
-      >
-        <TextAreaField label="Add a comment" value={body} onChange={(e) => setBody(e.target.value)} />
-        {add.isError ? (
+      <form className="flex flex-col gap-3" onSubmit={submit} noValidate>
+        <TextAreaField
+          label="Add a comment"
+          error={form.formState.errors.body?.message}
+          {...form.register('body')}
+        />
+        {banner ? (
           <Alert tone="fault" title="Not added">
-            {add.error.message}
+            {banner}
           </Alert>
         ) : null}
         <div>
-          <Button type="submit" busy={add.isPending} disabled={!body.trim()}>
+          <Button type="submit" busy={add.isPending}>
             Add comment
           </Button>
         </div>
@@ -118,14 +147,14 @@ function Comments({ inv }: { inv: InvestigationDetail }) {
 /** One return or complaint: its fields, status, attachments, linked units and comment thread. */
 export function InvestigationPage({ id }: { id: string }) {
   const inv = useInvestigation(id);
-  if (inv.isPending) return <Loading label="Reading the investigation…" />;
-  if (inv.isError)
-    return (
-      <Alert tone="fault" title="The investigation could not be read">
-        {inv.error.message}
-      </Alert>
-    );
-  const d = inv.data;
+  return (
+    <QueryState query={inv} pending="Reading the investigation…" failed="The investigation could not be read">
+      {(d) => <InvestigationView d={d} />}
+    </QueryState>
+  );
+}
+
+function InvestigationView({ d }: { d: InvestigationDetail }) {
   return (
     <div className="flex flex-col gap-6">
       <div className="flex flex-wrap items-center gap-4">

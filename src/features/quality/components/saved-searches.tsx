@@ -1,9 +1,16 @@
-import { useState, type FormEvent } from 'react';
+import { useState } from 'react';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { newSavedSearchSchema } from '#shared/schemas/quality';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TextField } from '#src/components/ui/field';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { formatDateTime } from '#src/lib/format';
 import { useDeleteSavedSearch, useSaveSearch, useSavedSearches, type SearchForm } from '../api/quality';
+
+/** The form checks the name; the filter is the search shown now, which the server's schema checks too. */
+const nameSchema = newSavedSearchSchema.pick({ name: true });
 
 function nonEmpty(f: SearchForm): SearchForm {
   return Object.fromEntries(Object.entries(f).filter(([, v]) => v !== ''));
@@ -23,35 +30,45 @@ export function SavedSearches({
   const list = useSavedSearches();
   const save = useSaveSearch();
   const remove = useDeleteSavedSearch();
-  const [name, setName] = useState('');
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<{ name: string }>({ resolver: zodResolver(nameSchema), defaultValues: { name: '' } });
   const filter = current ? nonEmpty(current) : {};
   const canSave = Object.keys(filter).length > 0;
 
-  const submit = (event: FormEvent) => {
-    event.preventDefault();
-    save.mutate({ name, filter }, { onSuccess: () => setName('') });
-  };
+  const submit = form.handleSubmit(async ({ name }) => {
+    setBanner(null);
+    try {
+      await save.mutateAsync({ name, filter });
+      form.reset({ name: '' });
+    } catch (error) {
+      setBanner(applyServerErrors(error, form.setError, ['name']));
+    }
+  });
 
   return (
     <section aria-labelledby="saved-searches-heading" className="flex flex-col gap-3">
       <h2 id="saved-searches-heading" className="text-xl font-semibold">
         Saved searches
       </h2>
-      <form onSubmit={submit} className="flex flex-wrap items-end gap-3" aria-label="Save this search">
+      <form
+        onSubmit={submit}
+        noValidate
+        className="flex flex-wrap items-end gap-3"
+        aria-label="Save this search"
+      >
         <div className="min-w-64 flex-1">
           <TextField
             label="Name for this search"
-            value={name}
-            onChange={(e) => setName(e.target.value)}
             hint={
               canSave
                 ? 'Saves the filters of the search shown below, for the whole quality team.'
                 : 'Run a search with at least one filter first.'
             }
-            error={save.error?.message}
+            error={form.formState.errors.name?.message ?? banner ?? undefined}
+            {...form.register('name')}
           />
         </div>
-        <Button type="submit" disabled={!canSave || name.trim().length < 2 || save.isPending}>
+        <Button type="submit" disabled={!canSave} busy={save.isPending}>
           Save this search
         </Button>
       </form>

@@ -1,5 +1,8 @@
 import { useState } from 'react';
 import { useMutation, useQuery } from '@tanstack/react-query';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { recomputeSchema } from '#shared/schemas/calibrations';
 import type { UnitDetail } from '#shared/schemas/units';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
@@ -7,12 +10,15 @@ import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { SelectField, TextField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
 import { StatusChip } from '#src/components/ui/status-chip';
-import { apiRequest, isApiError } from '#src/lib/api-client';
+import { apiRequest } from '#src/lib/api-client';
+import { showServerErrorOn } from '#src/lib/form-errors';
 import { formatDateTime } from '#src/lib/format';
 import { recipesKeys, useModel } from '../api/recipes';
 import { formatOffsetDeg } from '#shared/wording';
 
 const deg = formatOffsetDeg;
+/** The reason is typed; the measurement and the version are chosen from lists the server gave. */
+const reasonFields = recomputeSchema.pick({ reason: true });
 
 /**
  * An engineer recomputes one of the unit's stored measurements with another released version of its
@@ -33,8 +39,10 @@ export function RecomputePanel({ serial }: { serial: string }) {
   );
   const [measurementId, setMeasurementId] = useState('');
   const [recipeId, setRecipeId] = useState('');
-  const [reason, setReason] = useState('');
-  const [error, setError] = useState<string | null>(null);
+  const form = useForm<{ reason: string }>({
+    resolver: zodResolver(reasonFields),
+    defaultValues: { reason: '' },
+  });
   const ask = useMutation({
     mutationFn: (input: { measurementId: string; recipeId: string; reason: string }) =>
       apiRequest<{ status: 'queued' | 'computed' }>(
@@ -53,60 +61,55 @@ export function RecomputePanel({ serial }: { serial: string }) {
     recomputed.some((c) => c.measurementId === waiting.measurementId && c.recipe.id === waiting.recipeId)
   )
     setWaiting(null);
-  const go = async () => {
-    setError(null);
-    if (reason.trim().length < 3) return setError('Give a reason (at least 3 characters).');
+  const go = form.handleSubmit(async ({ reason }) => {
     try {
-      await ask.mutateAsync({
-        measurementId: chosenMeasurement,
-        recipeId: chosenRecipe,
-        reason: reason.trim(),
-      });
+      await ask.mutateAsync({ measurementId: chosenMeasurement, recipeId: chosenRecipe, reason });
       setWaiting({ measurementId: chosenMeasurement, recipeId: chosenRecipe });
       await detail.refetch();
     } catch (e) {
-      setError(isApiError(e) ? e.message : 'Something went wrong. Try again.');
+      showServerErrorOn(e, form.setError, 'reason');
     }
-  };
+  });
   return (
     <Panel title="Recompute with another recipe version" titleId="recompute-title">
       <Alert tone="info" title="Analysis only">
         A recomputation is recorded beside the station&apos;s result. It does not change the unit, its status,
         its attempts, what was programmed or its traveler.
       </Alert>
-      <div className="mt-4 grid gap-4 md:grid-cols-3">
-        <SelectField
-          label="Measurement"
-          value={chosenMeasurement}
-          onChange={(e) => setMeasurementId(e.target.value)}
-          options={station.map((c) => ({
-            value: c.measurementId,
-            label: `${formatDateTime(c.computedAt)}: ${c.verdict} at ${deg(c.offsetDeg)} (version ${c.recipe.version})`,
-          }))}
-        />
-        <SelectField
-          label="Recipe version"
-          value={chosenRecipe}
-          onChange={(e) => setRecipeId(e.target.value)}
-          options={versions.map((v) => ({
-            value: v.id,
-            label: `Version ${v.version} (${v.status === 'released' ? 'in force' : 'retired'})`,
-          }))}
-        />
-        <TextField
-          label="Reason"
-          required
-          value={reason}
-          error={error ?? undefined}
-          onChange={(e) => setReason(e.target.value)}
-        />
-      </div>
-      <div className="mt-4 flex items-center gap-3">
-        <Button variant="primary" busy={ask.isPending || !!waiting} onClick={() => void go()}>
-          Recompute
-        </Button>
-        {waiting ? <span role="status">Computing…</span> : null}
-      </div>
+      <form onSubmit={go} noValidate>
+        <div className="mt-4 grid gap-4 md:grid-cols-3">
+          <SelectField
+            label="Measurement"
+            value={chosenMeasurement}
+            onChange={(e) => setMeasurementId(e.target.value)}
+            options={station.map((c) => ({
+              value: c.measurementId,
+              label: `${formatDateTime(c.computedAt)}: ${c.verdict} at ${deg(c.offsetDeg)} (version ${c.recipe.version})`,
+            }))}
+          />
+          <SelectField
+            label="Recipe version"
+            value={chosenRecipe}
+            onChange={(e) => setRecipeId(e.target.value)}
+            options={versions.map((v) => ({
+              value: v.id,
+              label: `Version ${v.version} (${v.status === 'released' ? 'in force' : 'retired'})`,
+            }))}
+          />
+          <TextField
+            label="Reason"
+            required
+            error={form.formState.errors.reason?.message}
+            {...form.register('reason')}
+          />
+        </div>
+        <div className="mt-4 flex items-center gap-3">
+          <Button type="submit" variant="primary" busy={ask.isPending || !!waiting}>
+            Recompute
+          </Button>
+          {waiting ? <span role="status">Computing…</span> : null}
+        </div>
+      </form>
       {recomputed.length ? (
         <div className="mt-6">
           <TableFrame caption="Recomputations beside the station's result">

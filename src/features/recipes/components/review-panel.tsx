@@ -1,13 +1,19 @@
-import { useState } from 'react';
-import type { RecipeVersionView } from '#shared/schemas/recipes';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { z } from 'zod';
+import {
+  approveSchema,
+  discardDraftSchema,
+  sendBackSchema,
+  submitDraftSchema,
+  type RecipeVersionView,
+} from '#shared/schemas/recipes';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TextAreaField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
-import { isApiError } from '#src/lib/api-client';
+import { showServerErrorOn } from '#src/lib/form-errors';
 import { useApprove, useDiscardDraft, useRecipeSettings, useSendBack, useSubmitDraft } from '../api/recipes';
-
-const messageOf = (e: unknown) => (isApiError(e) ? e.message : 'Something went wrong. Try again.');
 
 /**
  * The controlled-change steps: the author submits a saved draft with a reason; a second engineer
@@ -38,37 +44,44 @@ export function ReviewPanel({
   return null;
 }
 
+const submitFields = submitDraftSchema.pick({ reason: true });
+const discardFields = discardDraftSchema.pick({ reason: true });
+/** Approving or sending back: the comment is checked by the schema of the chosen decision. */
+const decisionSchema = z.discriminatedUnion('decision', [
+  approveSchema.extend({ decision: z.literal('approve') }),
+  sendBackSchema.extend({ decision: z.literal('send-back') }),
+]);
+
 function SubmitForm({ version, unsaved }: { version: RecipeVersionView; unsaved: boolean }) {
   const submit = useSubmitDraft(version.id);
-  const [reason, setReason] = useState('');
-  const [error, setError] = useState<string | null>(null);
-  const go = async () => {
-    setError(null);
-    if (reason.trim().length < 3) return setError('Give the reason for this change (at least 3 characters).');
+  const form = useForm<{ reason: string }>({
+    resolver: zodResolver(submitFields),
+    defaultValues: { reason: '' },
+  });
+  const go = form.handleSubmit(async ({ reason }) => {
     try {
-      await submit.mutateAsync({ reason: reason.trim(), revision: version.revision });
+      await submit.mutateAsync({ reason, revision: version.revision });
     } catch (e) {
-      setError(messageOf(e));
+      showServerErrorOn(e, form.setError, 'reason');
     }
-  };
+  });
   return (
     <Panel title="Submit for review" titleId="submit-title">
-      <div className="flex max-w-2xl flex-col gap-4">
+      <form className="flex max-w-2xl flex-col gap-4" onSubmit={go} noValidate>
         <TextAreaField
           label="Reason for the change"
           required
           hint="The reviewer and the audit log see this. Say what changes and why."
-          value={reason}
-          error={error ?? undefined}
-          onChange={(e) => setReason(e.target.value)}
+          error={form.formState.errors.reason?.message}
+          {...form.register('reason')}
         />
         <div className="flex flex-wrap items-center gap-3">
-          <Button variant="primary" busy={submit.isPending} disabled={unsaved} onClick={() => void go()}>
+          <Button type="submit" variant="primary" busy={submit.isPending} disabled={unsaved}>
             Submit for review
           </Button>
           {unsaved ? <span className="text-warn-bright">Save your changes first.</span> : null}
         </div>
-      </div>
+      </form>
     </Panel>
   );
 }
@@ -77,20 +90,23 @@ function DecideForm({ version, meId }: { version: RecipeVersionView; meId: strin
   const settings = useRecipeSettings();
   const approve = useApprove(version.id);
   const sendBack = useSendBack(version.id);
-  const [comment, setComment] = useState('');
-  const [error, setError] = useState<string | null>(null);
+  const form = useForm<z.input<typeof decisionSchema>, unknown, z.output<typeof decisionSchema>>({
+    resolver: zodResolver(decisionSchema),
+    defaultValues: { decision: 'approve', comment: '' },
+  });
   const isAuthor = version.createdBy?.id === meId || version.submittedBy?.id === meId;
   const mayDecide = !isAuthor || settings.data?.singlePersonRelease === true;
-  const run = async (what: 'approve' | 'send-back') => {
-    setError(null);
-    if (what === 'send-back' && comment.trim().length < 3)
-      return setError('Tell the author what to change (at least 3 characters).');
+  const decide = form.handleSubmit(async (d) => {
     try {
-      if (what === 'approve') await approve.mutateAsync({ comment: comment.trim() || undefined });
-      else await sendBack.mutateAsync({ comment: comment.trim() });
+      if (d.decision === 'approve') await approve.mutateAsync({ comment: d.comment || undefined });
+      else await sendBack.mutateAsync({ comment: d.comment });
     } catch (e) {
-      setError(messageOf(e));
+      showServerErrorOn(e, form.setError, 'comment');
     }
+  });
+  const run = (decision: 'approve' | 'send-back') => {
+    form.setValue('decision', decision);
+    void decide();
   };
   return (
     <Panel title="Your decision" titleId="decide-title">
@@ -99,7 +115,7 @@ function DecideForm({ version, meId }: { version: RecipeVersionView; meId: strin
           You wrote or submitted this version. Another process engineer must approve it or send it back.
         </Alert>
       ) : (
-        <div className="flex max-w-2xl flex-col gap-4">
+        <form className="flex max-w-2xl flex-col gap-4" onSubmit={(e) => e.preventDefault()} noValidate>
           <p className="text-graphite-200">
             Approving releases version {version.version} at once: every measurement that arrives afterwards is
             judged by it, and the version in force now is retired for new measurements.
@@ -107,19 +123,18 @@ function DecideForm({ version, meId }: { version: RecipeVersionView; meId: strin
           <TextAreaField
             label="Comment"
             hint="Required when sending back; optional when approving."
-            value={comment}
-            error={error ?? undefined}
-            onChange={(e) => setComment(e.target.value)}
+            error={form.formState.errors.comment?.message}
+            {...form.register('comment')}
           />
           <div className="flex flex-wrap gap-3">
-            <Button variant="primary" busy={approve.isPending} onClick={() => void run('approve')}>
+            <Button variant="primary" busy={approve.isPending} onClick={() => run('approve')}>
               Approve and release
             </Button>
-            <Button busy={sendBack.isPending} onClick={() => void run('send-back')}>
+            <Button busy={sendBack.isPending} onClick={() => run('send-back')}>
               Send back to draft
             </Button>
           </div>
-        </div>
+        </form>
       )}
     </Panel>
   );
@@ -129,23 +144,29 @@ function DecideForm({ version, meId }: { version: RecipeVersionView; meId: strin
  * Any engineer (the author or another) may discard a draft that is not going anywhere. The record stays,
  * with who, when and why; it leaves the model's list of versions.
  */
-export function DiscardPanel({ version, onDiscarded }: { version: RecipeVersionView; onDiscarded: () => void }) {
+export function DiscardPanel({
+  version,
+  onDiscarded,
+}: {
+  version: RecipeVersionView;
+  onDiscarded: () => void;
+}) {
   const discard = useDiscardDraft(version.id);
-  const [reason, setReason] = useState('');
-  const [error, setError] = useState<string | null>(null);
-  const go = async () => {
-    setError(null);
-    if (reason.trim().length < 3) return setError('Say why this draft is discarded (at least 3 characters).');
+  const form = useForm<{ reason: string }>({
+    resolver: zodResolver(discardFields),
+    defaultValues: { reason: '' },
+  });
+  const go = form.handleSubmit(async ({ reason }) => {
     try {
-      await discard.mutateAsync({ reason: reason.trim(), revision: version.revision });
+      await discard.mutateAsync({ reason, revision: version.revision });
       onDiscarded();
     } catch (e) {
-      setError(messageOf(e));
+      showServerErrorOn(e, form.setError, 'reason');
     }
-  };
+  });
   return (
     <Panel title="Discard this draft" titleId="discard-title">
-      <div className="flex max-w-2xl flex-col gap-4">
+      <form className="flex max-w-2xl flex-col gap-4" onSubmit={go} noValidate>
         <p className="text-graphite-200">
           Discarding keeps the draft on record (who, when and why, in the audit log) but takes it off the list
           of versions. It can no longer be edited or submitted; copy it into a new draft to start again.
@@ -153,16 +174,15 @@ export function DiscardPanel({ version, onDiscarded }: { version: RecipeVersionV
         <TextAreaField
           label="Reason for discarding"
           required
-          value={reason}
-          error={error ?? undefined}
-          onChange={(e) => setReason(e.target.value)}
+          error={form.formState.errors.reason?.message}
+          {...form.register('reason')}
         />
         <div>
-          <Button busy={discard.isPending} onClick={() => void go()}>
+          <Button type="submit" busy={discard.isPending}>
             Discard draft {version.version}
           </Button>
         </div>
-      </div>
+      </form>
     </Panel>
   );
 }

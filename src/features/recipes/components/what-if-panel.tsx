@@ -1,9 +1,12 @@
 import { useState } from 'react';
+import { useForm, useWatch, type Resolver } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
 import { Link } from 'react-router';
 import {
   COMPONENT_LOT_LABELS,
   whatIfFiltersSchema,
   type ComponentLotKind,
+  type WhatIfFilters,
   type WhatIfLotGroup,
   type WhatIfRunView,
 } from '#shared/schemas/recipes';
@@ -13,8 +16,8 @@ import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { CheckboxField, TextField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
 import { StatusChip } from '#src/components/ui/status-chip';
-import { isApiError } from '#src/lib/api-client';
-import { formatDateTime } from '#src/lib/format';
+import { applyServerErrors } from '#src/lib/form-errors';
+import { formatDateTime, localToInstant } from '#src/lib/format';
 import { useCancelWhatIf, useStartWhatIf, useWhatIfProgress, useWhatIfRuns } from '../api/what-if';
 import { OffsetHistogramChart } from './offset-histogram';
 import { formatOffsetDeg } from '#shared/wording';
@@ -97,6 +100,22 @@ export function WhatIfPanel({
   );
 }
 
+type WhatIfForm = { lastUnits: string; from: string; to: string; stationIds: string[] };
+
+/** The form's text becomes the filters the server's schema reads: a number, instants, stations or none. */
+const filtersResolver = zodResolver(whatIfFiltersSchema);
+const whatIfResolver: Resolver<WhatIfForm, unknown, WhatIfFilters> = (values, context, options) =>
+  filtersResolver(
+    {
+      lastUnits: values.lastUnits === '' ? undefined : Number(values.lastUnits),
+      from: localToInstant(values.from) || undefined,
+      to: localToInstant(values.to) || undefined,
+      stationIds: values.stationIds.length ? values.stationIds : undefined,
+    },
+    context,
+    options as never,
+  ) as ReturnType<Resolver<WhatIfForm, unknown, WhatIfFilters>>;
+
 function WhatIfForm({
   recipeId,
   stations,
@@ -107,39 +126,24 @@ function WhatIfForm({
   busy: boolean;
 }) {
   const start = useStartWhatIf(recipeId);
-  const [lastUnits, setLastUnits] = useState('1000');
-  const [from, setFrom] = useState('');
-  const [to, setTo] = useState('');
-  const [picked, setPicked] = useState<string[]>([]);
-  const [errors, setErrors] = useState<Record<string, string>>({});
-  const go = async () => {
-    const parsed = whatIfFiltersSchema.safeParse({
-      lastUnits: lastUnits === '' ? undefined : Number(lastUnits),
-      from: from ? new Date(from).toISOString() : undefined,
-      to: to ? new Date(to).toISOString() : undefined,
-      stationIds: picked.length ? picked : undefined,
-    });
-    if (!parsed.success) {
-      setErrors(
-        Object.fromEntries(
-          parsed.error.issues.map((i) => [
-            String(i.path[0]),
-            i.path[0] === 'lastUnits' ? 'Enter a whole number from 1 to 100,000.' : i.message,
-          ]),
-        ),
-      );
-      return;
-    }
-    setErrors({});
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<WhatIfForm, unknown, WhatIfFilters>({
+    resolver: whatIfResolver,
+    defaultValues: { lastUnits: '1000', from: '', to: '', stationIds: [] },
+  });
+  const { errors } = form.formState;
+  const picked = useWatch({ control: form.control, name: 'stationIds' });
+  const go = form.handleSubmit(async (filters) => {
+    setBanner(null);
     try {
-      await start.mutateAsync(parsed.data);
+      await start.mutateAsync(filters);
     } catch (e) {
-      setErrors({ form: isApiError(e) ? e.message : 'Something went wrong. Try again.' });
+      setBanner(applyServerErrors(e, form.setError, ['lastUnits', 'from', 'to', 'stationIds']));
     }
-  };
+  });
   return (
-    <div className="mb-6 flex flex-col gap-4">
-      {errors.form ? <Alert tone="fault">{errors.form}</Alert> : null}
+    <form className="mb-6 flex flex-col gap-4" onSubmit={go} noValidate>
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
       <div className="grid gap-4 md:grid-cols-3">
         <TextField
           label={
@@ -150,25 +154,22 @@ function WhatIfForm({
           type="number"
           inputMode="numeric"
           hint="Each unit's latest measurement in the range is replayed."
-          value={lastUnits}
-          error={errors.lastUnits}
-          onChange={(e) => setLastUnits(e.target.value)}
+          error={errors.lastUnits?.message}
+          {...form.register('lastUnits')}
         />
         <TextField
           label="Measured from"
           type="datetime-local"
           hint="Optional; your local time."
-          value={from}
-          error={errors.from}
-          onChange={(e) => setFrom(e.target.value)}
+          error={errors.from?.message}
+          {...form.register('from')}
         />
         <TextField
           label="Measured until"
           type="datetime-local"
           hint="Optional; your local time."
-          value={to}
-          error={errors.to}
-          onChange={(e) => setTo(e.target.value)}
+          error={errors.to?.message}
+          {...form.register('to')}
         />
       </div>
       {stations.length > 1 ? (
@@ -182,18 +183,21 @@ function WhatIfForm({
               label={s.name}
               checked={picked.includes(s.id)}
               onChange={(e) =>
-                setPicked((p) => (e.target.checked ? [...p, s.id] : p.filter((x) => x !== s.id)))
+                form.setValue(
+                  'stationIds',
+                  e.target.checked ? [...picked, s.id] : picked.filter((x) => x !== s.id),
+                )
               }
             />
           ))}
         </fieldset>
       ) : null}
       <div>
-        <Button variant="primary" busy={start.isPending} disabled={busy} onClick={() => void go()}>
+        <Button type="submit" variant="primary" busy={start.isPending} disabled={busy}>
           Run what-if
         </Button>
       </div>
-    </div>
+    </form>
   );
 }
 
