@@ -62,7 +62,16 @@ describe('the recipe desk on the demo line', () => {
       await rosa.page.goto(`/recipes/versions/${recipeId}/review`);
       await rosa.page.getByTestId('what-if-summary').waitFor();
       await rosa.page.getByRole('button', { name: 'Approve and release' }).click();
-      await rosa.page.getByText('In force', { exact: true }).first().waitFor();
+      // The review page itself has an "In force" column (the what-if table), so wait on the version's
+      // state, with the page still open while its request is on the way.
+      await expect
+        .poll(
+          async () => (await engineer.call<RecipeVersionView>('GET', `/api/recipes/${recipeId}`)).status,
+          {
+            timeout: 15_000,
+          },
+        )
+        .toBe('released');
       await rosa.context.close();
       const released = await engineer.call<RecipeVersionView>('GET', `/api/recipes/${recipeId}`);
       expect(released.status).toBe('released');
