@@ -12,7 +12,7 @@ export function LinkifiedText({ text }: { text: string }) {
     // A sentence's full stop or comma is not part of the address.
     const url = match[0].replace(/[.,;:!?]+$/, '');
     parts.push(
-      <a key={start} href={url} className="break-all" target="_blank" rel="noreferrer">
+      <a key={start} href={url} className="break-all underline underline-offset-2" target="_blank" rel="noreferrer">
         {url}
       </a>,
     );
