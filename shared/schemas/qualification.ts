@@ -11,11 +11,11 @@ export const GAUGE_APPRAISER_KINDS = ['station', 'operator'] as const;
 export const GAUGE_STUDY_STATUSES = ['open', 'finished'] as const;
 
 const offsetDeg = z
-  .number()
+  .number('Enter the offset in degrees, e.g. 1.25.')
   .min(-180, 'An offset is between −180° and 180°.')
   .max(180, 'An offset is between −180° and 180°.');
 const toleranceDeg = z
-  .number()
+  .number('Enter the tolerance in degrees, e.g. 0.3.')
   .gt(0, 'The tolerance must be more than 0°.')
   .max(10, 'A tolerance above ± 10° would not qualify anything.');
 

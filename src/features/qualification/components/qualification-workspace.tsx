@@ -2,11 +2,15 @@
 // readings); each moves to its own file once the qualification work in flight has merged.
 import { formatSignedDeg } from '#shared/wording';
 import { useState, type FormEvent } from 'react';
+import { useForm, type Resolver } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { createReferenceUnitSchema, type CreateReferenceUnit } from '#shared/schemas/qualification';
 import { Alert, Loading } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { CheckboxField, SelectField, TextField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
+import { applyServerErrors } from '#src/lib/form-errors';
 import {
   useCreateReferenceUnit,
   useShifts,
@@ -162,23 +166,48 @@ function PolicyForm({ stationId }: { stationId: string }) {
   );
 }
 
+/** The reference-unit form's fields as typed; numbers are text until the resolver reads them. */
+type ReferenceUnitForm = { serial: string; certifiedOffsetDeg: string; toleranceDeg: string };
+const REFERENCE_UNIT_FIELDS = ['serial', 'certifiedOffsetDeg', 'toleranceDeg'] as const;
+const checkReferenceUnit = zodResolver(createReferenceUnitSchema);
+/** Typed text becomes the numbers the shared schema reads (an empty offset: certify from readings later). */
+const referenceUnitResolver: Resolver<ReferenceUnitForm, unknown, CreateReferenceUnit> = (
+  values,
+  context,
+  options,
+) =>
+  checkReferenceUnit(
+    {
+      serial: values.serial,
+      certifiedOffsetDeg:
+        values.certifiedOffsetDeg.trim() === '' ? undefined : Number(values.certifiedOffsetDeg),
+      toleranceDeg: values.toleranceDeg.trim() === '' ? Number.NaN : Number(values.toleranceDeg),
+    },
+    context,
+    options as never,
+  ) as ReturnType<Resolver<ReferenceUnitForm, unknown, CreateReferenceUnit>>;
+
 function ReferenceUnits({ canEdit, stations }: { canEdit: boolean; stations: StationChoice[] }) {
   const refs = useReferenceUnits();
   const [certifying, setCertifying] = useState<string | null>(null);
   const [certified, setCertifiedNote] = useState<string | null>(null);
   const tz = useShiftsTimeZone();
   const create = useCreateReferenceUnit();
-  const [serial, setSerial] = useState('');
-  const [certifiedInput, setCertified] = useState('');
-  const [tolerance, setTolerance] = useState('0.3');
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    create.mutate({
-      serial,
-      certifiedOffsetDeg: certifiedInput.trim() === '' ? undefined : Number(certifiedInput),
-      toleranceDeg: Number(tolerance),
-    });
-  };
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<ReferenceUnitForm, unknown, CreateReferenceUnit>({
+    resolver: referenceUnitResolver,
+    defaultValues: { serial: '', certifiedOffsetDeg: '', toleranceDeg: '0.3' },
+  });
+  const { errors } = form.formState;
+  const submit = form.handleSubmit(async (values) => {
+    setBanner(null);
+    try {
+      await create.mutateAsync(values);
+      form.reset();
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, REFERENCE_UNIT_FIELDS));
+    }
+  });
   return (
     <Panel title="Reference units" titleId="refs-title">
       {refs.isPending ? <Loading /> : null}
@@ -249,39 +278,40 @@ function ReferenceUnits({ canEdit, stations }: { canEdit: boolean; stations: Sta
       {canEdit ? (
         <form
           onSubmit={submit}
-          className="mt-4 grid gap-3 sm:grid-cols-4 sm:items-end"
+          noValidate
+          className="mt-4 grid gap-3 sm:grid-cols-4 sm:items-start"
           aria-label="Add a reference unit"
         >
           <TextField
             label="Serial of a registered unit"
-            value={serial}
-            onChange={(e) => setSerial(e.target.value)}
             required
+            error={errors.serial?.message}
+            {...form.register('serial')}
           />
           <TextField
             label="Certified offset (°, empty: certify from readings)"
             type="number"
             step="0.001"
-            value={certifiedInput}
-            onChange={(e) => setCertified(e.target.value)}
+            error={errors.certifiedOffsetDeg?.message}
+            {...form.register('certifiedOffsetDeg')}
           />
           <TextField
             label="Tolerance (± °)"
             type="number"
             step="0.01"
             min="0.01"
-            value={tolerance}
-            onChange={(e) => setTolerance(e.target.value)}
             required
+            error={errors.toleranceDeg?.message}
+            {...form.register('toleranceDeg')}
           />
-          <div>
+          <div className="sm:pt-7">
             <Button type="submit" variant="primary" busy={create.isPending}>
               Add reference unit
             </Button>
           </div>
-          {create.error ? (
+          {banner ? (
             <div className="sm:col-span-4">
-              <Alert tone="fault">{create.error.message}</Alert>
+              <Alert tone="fault">{banner}</Alert>
             </div>
           ) : null}
         </form>
