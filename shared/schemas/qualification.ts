@@ -90,12 +90,18 @@ export type ReferenceUnitView = z.infer<typeof referenceUnitViewSchema>;
 export const qualificationPolicySchema = z
   .object({
     atShiftStart: z.boolean(),
-    everyHours: z.number().gt(0, 'Hours must be more than 0.').max(168, 'At most a week (168 h).').nullable(),
-    everyUnits: z.number().int().min(1, 'At least 1 unit.').max(100000).nullable(),
+    everyHours: z.number('Enter the hours as a number, e.g. 8.').gt(0, 'Hours must be more than 0.').max(168, 'At most a week (168 h).').nullable(),
+    everyUnits: z
+      .number('Enter a whole number of units, e.g. 500.')
+      .int('Enter a whole number of units, e.g. 500.')
+      .min(1, 'At least 1 unit.')
+      .max(100000, 'At most 100,000 units.')
+      .nullable(),
     referenceUnitIds: z.array(z.uuid()).min(1, 'Choose at least one reference unit.'),
   })
   .refine((p) => p.atShiftStart || p.everyHours !== null || p.everyUnits !== null, {
     message: 'Say when the station must be qualified: at shift start, every N hours or every N units.',
+    path: ['atShiftStart'],
   });
 export type QualificationPolicy = z.infer<typeof qualificationPolicySchema>;
 

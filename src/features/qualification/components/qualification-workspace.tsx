@@ -2,9 +2,16 @@
 // readings); each moves to its own file once the qualification work in flight has merged.
 import { formatSignedDeg } from '#shared/wording';
 import { useState, type FormEvent } from 'react';
-import { useForm, type Resolver } from 'react-hook-form';
+import { useForm, useWatch, type Resolver } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import { createReferenceUnitSchema, type CreateReferenceUnit } from '#shared/schemas/qualification';
+import {
+  createReferenceUnitSchema,
+  qualificationPolicySchema,
+  type CreateReferenceUnit,
+  type QualificationPolicy,
+  type ReferenceUnitView,
+} from '#shared/schemas/qualification';
+import { QueryState } from '#src/components/ui/query-state';
 import { Alert, Loading } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
@@ -80,85 +87,147 @@ function LiftLockForm({ stationId }: { stationId: string }) {
   );
 }
 
+/** The policy form's fields as typed; hours and units are text until the resolver reads them. */
+type PolicyFormValues = {
+  atShiftStart: boolean;
+  everyHours: string;
+  everyUnits: string;
+  referenceUnitIds: string[];
+};
+const POLICY_FIELDS = ['atShiftStart', 'everyHours', 'everyUnits', 'referenceUnitIds'] as const;
+const checkPolicy = zodResolver(qualificationPolicySchema);
+/** An empty count means "no such limit" (null), as the shared schema reads it. */
+const optionalNumber = (text: string) => (text.trim() === '' ? null : Number(text));
+const policyResolver: Resolver<PolicyFormValues, unknown, QualificationPolicy> = (values, context, options) =>
+  checkPolicy(
+    {
+      ...values,
+      everyHours: optionalNumber(values.everyHours),
+      everyUnits: optionalNumber(values.everyUnits),
+    },
+    context,
+    options as never,
+  ) as ReturnType<Resolver<PolicyFormValues, unknown, QualificationPolicy>>;
+
 function PolicyForm({ stationId }: { stationId: string }) {
   const policy = useStationPolicy(stationId);
   const refs = useReferenceUnits();
-  const save = useSetPolicy();
-  const [draft, setDraft] = useState<{ shift: boolean; hours: string; units: string; refs: string[] } | null>(
-    null,
-  );
-  if (policy.isPending || refs.isPending) return <Loading />;
-  const p = policy.data;
-  const d = draft ?? {
-    shift: p?.atShiftStart ?? true,
-    hours: p?.everyHours == null ? '' : String(p.everyHours),
-    units: p?.everyUnits == null ? '' : String(p.everyUnits),
-    refs: p?.referenceUnitIds ?? [],
-  };
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    save.mutate({
-      stationId,
-      policy: {
-        atShiftStart: d.shift,
-        everyHours: d.hours.trim() === '' ? null : Number(d.hours),
-        everyUnits: d.units.trim() === '' ? null : Number(d.units),
-        referenceUnitIds: d.refs,
-      },
-    });
-  };
   return (
-    <form onSubmit={submit} className="flex flex-col gap-3" aria-labelledby="policy-title">
+    <QueryState query={policy} pending="Reading the policy…" failed="The policy could not be read">
+      {(p) => (
+        <QueryState
+          query={refs}
+          pending="Reading the reference units…"
+          failed="The reference units could not be read"
+        >
+          {(units) => (
+            <PolicyFields
+              key={`${stationId}-${JSON.stringify(p)}`}
+              stationId={stationId}
+              policy={p}
+              units={units}
+            />
+          )}
+        </QueryState>
+      )}
+    </QueryState>
+  );
+}
+
+function PolicyFields({
+  stationId,
+  policy: p,
+  units,
+}: {
+  stationId: string;
+  policy: QualificationPolicy | null;
+  units: ReferenceUnitView[];
+}) {
+  const save = useSetPolicy();
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<PolicyFormValues, unknown, QualificationPolicy>({
+    resolver: policyResolver,
+    defaultValues: {
+      atShiftStart: p?.atShiftStart ?? true,
+      everyHours: p?.everyHours == null ? '' : String(p.everyHours),
+      everyUnits: p?.everyUnits == null ? '' : String(p.everyUnits),
+      referenceUnitIds: p?.referenceUnitIds ?? [],
+    },
+  });
+  const { errors } = form.formState;
+  const chosen = useWatch({ control: form.control, name: 'referenceUnitIds' });
+  const submit = form.handleSubmit(async (policy) => {
+    setBanner(null);
+    try {
+      await save.mutateAsync({ stationId, policy });
+      form.reset(form.getValues());
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, POLICY_FIELDS));
+    }
+  });
+  return (
+    <form onSubmit={submit} noValidate className="flex flex-col gap-3" aria-labelledby="policy-title">
       <h3 id="policy-title" className="text-lg font-semibold text-graphite-100">
         When this station must be qualified
       </h3>
       {p === null ? <p className="text-graphite-300">No policy yet: the station is never locked.</p> : null}
-      <CheckboxField
-        label="At every plant shift start"
-        checked={d.shift}
-        onChange={(e) => setDraft({ ...d, shift: e.target.checked })}
-      />
+      <CheckboxField label="At every plant shift start" {...form.register('atShiftStart')} />
+      {errors.atShiftStart ? (
+        <p role="alert" className="text-sm font-medium text-fault">
+          {errors.atShiftStart.message}
+        </p>
+      ) : null}
       <div className="grid gap-3 sm:grid-cols-2">
         <TextField
           label="Every … hours (empty: no time limit)"
           type="number"
           min="0.5"
           step="0.5"
-          value={d.hours}
-          onChange={(e) => setDraft({ ...d, hours: e.target.value })}
+          error={errors.everyHours?.message}
+          {...form.register('everyHours')}
         />
         <TextField
           label="Every … production units (empty: no count)"
           type="number"
           min="1"
-          value={d.units}
-          onChange={(e) => setDraft({ ...d, units: e.target.value })}
+          error={errors.everyUnits?.message}
+          {...form.register('everyUnits')}
         />
       </div>
-      <fieldset className="flex flex-col gap-1">
+      <fieldset
+        className="flex flex-col gap-1"
+        aria-invalid={errors.referenceUnitIds ? true : undefined}
+        aria-describedby={errors.referenceUnitIds ? `${stationId}-refs-error` : undefined}
+      >
         <legend className="mb-1 font-semibold text-graphite-100">
           Reference units that qualify it (any one will do)
         </legend>
         <div className="flex flex-wrap gap-4">
-          {(refs.data ?? []).map((r) => (
+          {units.map((r) => (
             <CheckboxField
               key={r.id}
               label={`${r.serial} (${r.modelCode})`}
-              checked={d.refs.includes(r.id)}
+              checked={chosen.includes(r.id)}
               onChange={(e) =>
-                setDraft({
-                  ...d,
-                  refs: e.target.checked ? [...d.refs, r.id] : d.refs.filter((x) => x !== r.id),
-                })
+                form.setValue(
+                  'referenceUnitIds',
+                  e.target.checked ? [...chosen, r.id] : chosen.filter((x) => x !== r.id),
+                  { shouldDirty: true, shouldValidate: form.formState.isSubmitted },
+                )
               }
             />
           ))}
         </div>
+        {errors.referenceUnitIds ? (
+          <p id={`${stationId}-refs-error`} role="alert" className="text-sm font-medium text-fault">
+            {errors.referenceUnitIds.message}
+          </p>
+        ) : null}
       </fieldset>
-      {save.error ? <Alert tone="fault">{save.error.message}</Alert> : null}
-      {save.isSuccess && !draft ? <Alert tone="ok">Policy saved.</Alert> : null}
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
+      {save.isSuccess && !form.formState.isDirty ? <Alert tone="ok">Policy saved.</Alert> : null}
       <div>
-        <Button type="submit" variant="primary" busy={save.isPending} onClick={() => setDraft(null)}>
+        <Button type="submit" variant="primary" busy={save.isPending}>
           Save the policy
         </Button>
       </div>
