@@ -205,9 +205,7 @@ export function CertifyPanel({
       </div>
       {errors.root?.readings ? <Alert tone="fault">{errors.root.readings.message}</Alert> : null}
       {reasonErrors ? (
-        <Alert tone="fault">
-          Give a reason for each reading left out ({reasonErrors} without one).
-        </Alert>
+        <Alert tone="fault">Give a reason for each reading left out ({reasonErrors} without one).</Alert>
       ) : null}
       {banner ? <Alert tone="fault">{banner}</Alert> : null}
       <div className="flex flex-wrap gap-3">
