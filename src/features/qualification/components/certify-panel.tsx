@@ -8,7 +8,8 @@ import {
   type ReferenceUnitView,
 } from '#shared/schemas/qualification';
 import { formatSignedDeg } from '#shared/wording';
-import { Alert, Loading } from '#src/components/ui/alert';
+import { Alert } from '#src/components/ui/alert';
+import { QueryState } from '#src/components/ui/query-state';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { SelectField, TextField } from '#src/components/ui/field';
@@ -141,57 +142,61 @@ export function CertifyPanel({
           options={stations.map((s) => ({ value: s.id, label: s.name }))}
         />
       </div>
-      {readings.isPending ? <Loading label="Reading the readings…" /> : null}
-      {readings.data && !rows.length ? (
-        <Alert>No readings of {reference.serial} at this station yet: measure it there first.</Alert>
-      ) : null}
-      {rows.length ? (
-        <TableFrame caption={`Readings of ${reference.serial} at this station, newest first`}>
-          <thead>
-            <tr>
-              <Th>When</Th>
-              <Th>Reading</Th>
-              <Th>Judged then</Th>
-              <Th>Use it?</Th>
-              <Th>Reason for leaving it out</Th>
-            </tr>
-          </thead>
-          <tbody>
-            {rows.map((r) => {
-              const c = choiceOf(r);
-              return (
-                <tr key={r.id}>
-                  <Td>{when(r.measuredAt)}</Td>
-                  <Td className="font-mono">{r.offsetDeg.toFixed(3)}°</Td>
-                  <Td>
-                    {r.verdict === 'recorded'
-                      ? 'Taken while certifying'
-                      : `${r.verdict === 'pass' ? 'Passed' : 'Failed'} (${formatSignedDeg(r.deviationDeg ?? 0, 3)})`}
-                  </Td>
-                  <Td>
-                    <SelectField
-                      label={`Use the reading of ${when(r.measuredAt)}`}
-                      value={c}
-                      onChange={(e) => setChoice({ ...choice, [r.id]: e.target.value as Choice })}
-                      options={CHOICES}
-                    />
-                  </Td>
-                  <Td>
-                    {c === 'leave-out' ? (
-                      <TextField
-                        label={`Why leave out ${when(r.measuredAt)}`}
-                        required
-                        error={errors.reasons?.[r.id]?.message}
-                        {...form.register(`reasons.${r.id}`)}
+      <QueryState
+        query={readings}
+        pending="Reading the readings…"
+        failed="The readings could not be read"
+        isEmpty={(data) => data.length === 0}
+        empty={<Alert>No readings of {reference.serial} at this station yet: measure it there first.</Alert>}
+      >
+        {() => (
+          <TableFrame caption={`Readings of ${reference.serial} at this station, newest first`}>
+            <thead>
+              <tr>
+                <Th>When</Th>
+                <Th>Reading</Th>
+                <Th>Judged then</Th>
+                <Th>Use it?</Th>
+                <Th>Reason for leaving it out</Th>
+              </tr>
+            </thead>
+            <tbody>
+              {rows.map((r) => {
+                const c = choiceOf(r);
+                return (
+                  <tr key={r.id}>
+                    <Td>{when(r.measuredAt)}</Td>
+                    <Td className="font-mono">{r.offsetDeg.toFixed(3)}°</Td>
+                    <Td>
+                      {r.verdict === 'recorded'
+                        ? 'Taken while certifying'
+                        : `${r.verdict === 'pass' ? 'Passed' : 'Failed'} (${formatSignedDeg(r.deviationDeg ?? 0, 3)})`}
+                    </Td>
+                    <Td>
+                      <SelectField
+                        label={`Use the reading of ${when(r.measuredAt)}`}
+                        value={c}
+                        onChange={(e) => setChoice({ ...choice, [r.id]: e.target.value as Choice })}
+                        options={CHOICES}
                       />
-                    ) : null}
-                  </Td>
-                </tr>
-              );
-            })}
-          </tbody>
-        </TableFrame>
-      ) : null}
+                    </Td>
+                    <Td>
+                      {c === 'leave-out' ? (
+                        <TextField
+                          label={`Why leave out ${when(r.measuredAt)}`}
+                          required
+                          error={errors.reasons?.[r.id]?.message}
+                          {...form.register(`reasons.${r.id}`)}
+                        />
+                      ) : null}
+                    </Td>
+                  </tr>
+                );
+              })}
+            </tbody>
+          </TableFrame>
+        )}
+      </QueryState>
       <div data-testid="certify-figures" className="text-lg text-graphite-50" aria-live="polite">
         {figures ? (
           <>

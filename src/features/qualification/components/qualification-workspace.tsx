@@ -12,7 +12,7 @@ import {
   type ReferenceUnitView,
 } from '#shared/schemas/qualification';
 import { QueryState } from '#src/components/ui/query-state';
-import { Alert, Loading } from '#src/components/ui/alert';
+import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { CheckboxField, SelectField, TextField } from '#src/components/ui/field';
@@ -279,54 +279,61 @@ function ReferenceUnits({ canEdit, stations }: { canEdit: boolean; stations: Sta
   });
   return (
     <Panel title="Reference units" titleId="refs-title">
-      {refs.isPending ? <Loading /> : null}
-      {refs.data ? (
-        <TableFrame caption="Reference units">
-          <thead>
-            <tr>
-              <Th>Serial</Th>
-              <Th>Model</Th>
-              <Th>Certified offset</Th>
-              <Th>Tolerance</Th>
-              <Th>Certified from</Th>
-              {canEdit ? <Th>Certify</Th> : null}
-            </tr>
-          </thead>
-          <tbody>
-            {refs.data.map((r) => (
-              <tr key={r.id}>
-                <Td className="font-semibold">{r.serial}</Td>
-                <Td>{r.modelCode}</Td>
-                <Td>
-                  {r.certifiedOffsetDeg === null ? 'being certified' : `${r.certifiedOffsetDeg.toFixed(3)}°`}
-                </Td>
-                <Td>± {r.toleranceDeg.toFixed(2)}°</Td>
-                <Td>
-                  {r.certifiedFrom
-                    ? `${r.certifiedFrom.n} readings${r.certifiedFrom.excluded?.length ? ` (${r.certifiedFrom.excluded.length} left out)` : ''}, U = ± ${r.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° (k = 2)`
-                    : r.certifiedOffsetDeg === null
-                      ? 'not yet'
-                      : 'entered by an engineer'}
-                </Td>
-                {canEdit ? (
-                  <Td>
-                    <Button
-                      variant="quiet"
-                      aria-pressed={certifying === r.id}
-                      onClick={() => {
-                        setCertifiedNote(null);
-                        setCertifying(certifying === r.id ? null : r.id);
-                      }}
-                    >
-                      From readings…
-                    </Button>
-                  </Td>
-                ) : null}
+      <QueryState
+        query={refs}
+        pending="Reading the reference units…"
+        failed="The reference units could not be read"
+      >
+        {(units) => (
+          <TableFrame caption="Reference units">
+            <thead>
+              <tr>
+                <Th>Serial</Th>
+                <Th>Model</Th>
+                <Th>Certified offset</Th>
+                <Th>Tolerance</Th>
+                <Th>Certified from</Th>
+                {canEdit ? <Th>Certify</Th> : null}
               </tr>
-            ))}
-          </tbody>
-        </TableFrame>
-      ) : null}
+            </thead>
+            <tbody>
+              {units.map((r) => (
+                <tr key={r.id}>
+                  <Td className="font-semibold">{r.serial}</Td>
+                  <Td>{r.modelCode}</Td>
+                  <Td>
+                    {r.certifiedOffsetDeg === null
+                      ? 'being certified'
+                      : `${r.certifiedOffsetDeg.toFixed(3)}°`}
+                  </Td>
+                  <Td>± {r.toleranceDeg.toFixed(2)}°</Td>
+                  <Td>
+                    {r.certifiedFrom
+                      ? `${r.certifiedFrom.n} readings${r.certifiedFrom.excluded?.length ? ` (${r.certifiedFrom.excluded.length} left out)` : ''}, U = ± ${r.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° (k = 2)`
+                      : r.certifiedOffsetDeg === null
+                        ? 'not yet'
+                        : 'entered by an engineer'}
+                  </Td>
+                  {canEdit ? (
+                    <Td>
+                      <Button
+                        variant="quiet"
+                        aria-pressed={certifying === r.id}
+                        onClick={() => {
+                          setCertifiedNote(null);
+                          setCertifying(certifying === r.id ? null : r.id);
+                        }}
+                      >
+                        From readings…
+                      </Button>
+                    </Td>
+                  ) : null}
+                </tr>
+              ))}
+            </tbody>
+          </TableFrame>
+        )}
+      </QueryState>
       {certified ? <Alert tone="ok">{certified}</Alert> : null}
       {canEdit && certifying && refs.data?.find((r) => r.id === certifying) ? (
         <CertifyPanel
@@ -400,8 +407,13 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
       ) : null}
       <QualificationBanner stationId={stationId} />
       <Panel title="Bias of this station" titleId="bias-title">
-        {readings.isPending ? <Loading /> : null}
-        {readings.data ? <BiasChart readings={readings.data} timeZone={tz} /> : null}
+        <QueryState
+          query={readings}
+          pending="Reading the reference readings…"
+          failed="The readings could not be read"
+        >
+          {(data) => <BiasChart readings={data} timeZone={tz} />}
+        </QueryState>
       </Panel>
       {readings.data?.length ? (
         <Panel title="Reference readings" titleId="readings-title">
