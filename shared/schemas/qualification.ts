@@ -11,11 +11,11 @@ export const GAUGE_APPRAISER_KINDS = ['station', 'operator'] as const;
 export const GAUGE_STUDY_STATUSES = ['open', 'finished'] as const;
 
 const offsetDeg = z
-  .number()
+  .number('Enter the offset in degrees, e.g. 1.25.')
   .min(-180, 'An offset is between −180° and 180°.')
   .max(180, 'An offset is between −180° and 180°.');
 const toleranceDeg = z
-  .number()
+  .number('Enter the tolerance in degrees, e.g. 0.3.')
   .gt(0, 'The tolerance must be more than 0°.')
   .max(10, 'A tolerance above ± 10° would not qualify anything.');
 
@@ -90,12 +90,22 @@ export type ReferenceUnitView = z.infer<typeof referenceUnitViewSchema>;
 export const qualificationPolicySchema = z
   .object({
     atShiftStart: z.boolean(),
-    everyHours: z.number().gt(0, 'Hours must be more than 0.').max(168, 'At most a week (168 h).').nullable(),
-    everyUnits: z.number().int().min(1, 'At least 1 unit.').max(100000).nullable(),
+    everyHours: z
+      .number('Enter the hours as a number, e.g. 8.')
+      .gt(0, 'Hours must be more than 0.')
+      .max(168, 'At most a week (168 h).')
+      .nullable(),
+    everyUnits: z
+      .number('Enter a whole number of units, e.g. 500.')
+      .int('Enter a whole number of units, e.g. 500.')
+      .min(1, 'At least 1 unit.')
+      .max(100000, 'At most 100,000 units.')
+      .nullable(),
     referenceUnitIds: z.array(z.uuid()).min(1, 'Choose at least one reference unit.'),
   })
   .refine((p) => p.atShiftStart || p.everyHours !== null || p.everyUnits !== null, {
     message: 'Say when the station must be qualified: at shift start, every N hours or every N units.',
+    path: ['atShiftStart'],
   });
 export type QualificationPolicy = z.infer<typeof qualificationPolicySchema>;
 
@@ -193,8 +203,16 @@ export const gaugeStudyCreateSchema = z.object({
   /** The station where operators measure (appraiserKind operator). */
   stationId: z.uuid().optional(),
   partSerials: z.array(serialSchema).min(2, 'A study needs at least 2 parts.').max(25, 'At most 25 parts.'),
-  trials: z.number().int().min(2, 'At least 2 trials.').max(10).default(3),
-  toleranceDeg: z.number().gt(0, 'The tolerance must be more than 0°.').max(360),
+  trials: z
+    .number('Enter a whole number of trials from 2 to 10.')
+    .int('Enter a whole number of trials from 2 to 10.')
+    .min(2, 'At least 2 trials.')
+    .max(10, 'At most 10 trials.')
+    .default(3),
+  toleranceDeg: z
+    .number('Enter the tolerance in degrees, e.g. 2.')
+    .gt(0, 'The tolerance must be more than 0°.')
+    .max(360, 'A tolerance is at most 360°.'),
   /** Seed of the randomised run order (so a study can be planned again identically); random when absent. */
   seed: z.number().int().optional(),
 });

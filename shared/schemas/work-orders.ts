@@ -23,3 +23,17 @@ export const importReportSchema = z.object({
   errors: z.array(importRowErrorSchema),
 });
 export type ImportReport = z.infer<typeof importReportSchema>;
+
+/** The largest work-order CSV the server reads (the upload is refused past it). */
+export const WORK_ORDER_LIMIT_BYTES = 5 * 1024 * 1024;
+
+/** The upload form: one CSV within the limit. */
+export const workOrderUploadSchema = z.object({
+  file: z
+    .file('Choose a work-order CSV to import')
+    .max(
+      WORK_ORDER_LIMIT_BYTES,
+      `Too large: a work-order file may be at most ${WORK_ORDER_LIMIT_BYTES / (1024 * 1024)} MB.`,
+    ),
+});
+export type WorkOrderUpload = z.infer<typeof workOrderUploadSchema>;

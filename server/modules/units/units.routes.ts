@@ -4,16 +4,15 @@ import { serialSchema } from '#shared/schemas/serial';
 import type { AppDeps } from '#server/deps';
 import { unitErrors } from './units.errors';
 import { defineRoute } from '#server/lib/http';
-import { importReportSchema } from '#shared/schemas/work-orders';
+import { WORK_ORDER_LIMIT_BYTES, importReportSchema } from '#shared/schemas/work-orders';
 import { registerUnitSchema, unitDetailSchema, unitViewSchema } from '#shared/schemas/units';
 import { importUnits, registerUnit, unitDetail } from './units.service';
 
 const serialParams = z.object({ serial: serialSchema });
 /** Work-order CSVs up to 5 MB (about 80,000 rows). */
-export const IMPORT_LIMIT_BYTES = 5 * 1024 * 1024;
 const upload = multer({
   storage: multer.memoryStorage(),
-  limits: { fileSize: IMPORT_LIMIT_BYTES, files: 1 },
+  limits: { fileSize: WORK_ORDER_LIMIT_BYTES, files: 1 },
 });
 
 export function unitsRoutes(deps: AppDeps) {

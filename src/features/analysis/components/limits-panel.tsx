@@ -1,12 +1,19 @@
 import { useState } from 'react';
 import { useSearchParams } from 'react-router';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import { clearLimitsSchema } from '#shared/schemas/analysis';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TextField } from '#src/components/ui/field';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { useLimitHistory, useSaveLimits } from '../api/analysis';
 import { FILTER_KEYS } from '../api/filter-state';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { fmt } from './stat-format';
+
+/** The reason is typed; scope, window and chart come from the filter (the URL). */
+const reasonFields = clearLimitsSchema.pick({ reason: true });
 
 const BASIS = { imr: 'moving ranges', 'xbar-r': 'subgroup ranges', 'xbar-s': 'subgroup standard deviations' };
 
@@ -22,7 +29,11 @@ export function LimitsPanel({ canSet, unit }: { canSet: boolean; unit: string })
   const figure = params.get('figure') ?? 'offsetDeg';
   const history = useLimitHistory(model, station, figure);
   const save = useSaveLimits();
-  const [reason, setReason] = useState('');
+  const form = useForm<{ reason: string }>({
+    resolver: zodResolver(reasonFields),
+    defaultValues: { reason: '' },
+  });
+  const [banner, setBanner] = useState<string | null>(null);
   const baselineFrom = params.get('baselineFrom');
   const baselineTo = params.get('baselineTo');
   const chart = params.get('chart') ?? 'imr';
@@ -46,6 +57,34 @@ export function LimitsPanel({ canSet, unit }: { canSet: boolean; unit: string })
     if (station) body.stations = [station];
     return body;
   };
+
+  const send = (action: 'freeze' | 'clear') =>
+    form.handleSubmit(async ({ reason }) => {
+      setBanner(null);
+      try {
+        await save.mutateAsync(
+          action === 'freeze'
+            ? {
+                action,
+                body: {
+                  ...filterBody(),
+                  chart: chart === 'ewma' ? 'imr' : chart,
+                  subgroupSize: Number(params.get('subgroupSize') ?? 5),
+                  baselineFrom,
+                  baselineTo,
+                  reason,
+                },
+              }
+            : { action, body: { model, ...(station ? { station } : {}), figure, reason } },
+        );
+        form.reset({ reason: '' });
+      } catch (e) {
+        // the reason's refusals under the field; the window's or the scope's above the table
+        setBanner(applyServerErrors(e, form.setError, ['reason']));
+      }
+    })();
+  const freeze = () => send('freeze');
+  const clear = () => send('clear');
 
   const inForce = history.data?.inForce;
   return (
@@ -73,56 +112,34 @@ export function LimitsPanel({ canSet, unit }: { canSet: boolean; unit: string })
         <div className="flex flex-col gap-3">
           <TextField
             label="Why (kept with the limits and in the audit log)"
-            value={reason}
             maxLength={500}
-            onChange={(e) => setReason(e.target.value)}
+            error={form.formState.errors.reason?.message}
+            {...form.register('reason')}
           />
           <div className="flex flex-wrap gap-3">
             <Button
               variant="primary"
               busy={save.isPending}
-              disabled={!baselineFrom || !baselineTo || reason.trim().length < 3}
-              onClick={() =>
-                save.mutate(
-                  {
-                    action: 'freeze',
-                    body: {
-                      ...filterBody(),
-                      chart: chart === 'ewma' ? 'imr' : chart,
-                      subgroupSize: Number(params.get('subgroupSize') ?? 5),
-                      baselineFrom,
-                      baselineTo,
-                      reason,
-                    },
-                  },
-                  { onSuccess: () => setReason('') },
-                )
-              }
+              disabled={!baselineFrom || !baselineTo}
+              onClick={() => void freeze()}
             >
               Save limits from the baseline window
             </Button>
             <Button
               busy={save.isPending}
-              disabled={
-                !history.data?.versions[0] || history.data.versions[0].cleared || reason.trim().length < 3
-              }
-              onClick={() =>
-                save.mutate(
-                  { action: 'clear', body: { model, ...(station ? { station } : {}), figure, reason } },
-                  { onSuccess: () => setReason('') },
-                )
-              }
+              disabled={!history.data?.versions[0] || history.data.versions[0].cleared}
+              onClick={() => void clear()}
             >
               Clear: compute limits from the points shown
             </Button>
           </div>
+          {banner ? <Alert tone="fault">{banner}</Alert> : null}
           {!baselineFrom || !baselineTo ? (
             <p className="text-sm text-graphite-400">
               To save limits, choose the baseline window above (“Limits from” and “Limits until”): the chart
               shows them first, then save.
             </p>
           ) : null}
-          {save.error ? <Alert tone="fault">{save.error.message}</Alert> : null}
         </div>
       ) : null}
       {history.data?.versions.length ? (

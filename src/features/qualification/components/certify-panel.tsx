@@ -1,14 +1,63 @@
-import { useState, type FormEvent } from 'react';
+import { useState } from 'react';
+import { useForm, type FieldErrors, type Resolver } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
 import { certifiedValue } from '#shared/statistics/gauge-study';
-import type { ReferenceUnitView } from '#shared/schemas/qualification';
+import {
+  certifyReferenceUnitSchema,
+  type CertifyReferenceUnit,
+  type ReferenceUnitView,
+} from '#shared/schemas/qualification';
 import { formatSignedDeg } from '#shared/wording';
-import { Alert, Loading } from '#src/components/ui/alert';
+import { Alert } from '#src/components/ui/alert';
+import { QueryState } from '#src/components/ui/query-state';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { SelectField, TextField } from '#src/components/ui/field';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useCertifyReference, useReferenceReadings } from '../api/qualification';
 
 type Choice = 'use' | 'leave-out' | 'skip';
+/** What is typed: a reason per reading left out (by reading id). The choices are selects held beside. */
+type CertifyFields = { reasons: Record<string, string> };
+const checkCertify = zodResolver(certifyReferenceUnitSchema);
+
+/**
+ * Builds the request from the chosen readings and the typed reasons and checks it with the shared schema;
+ * its refusals come back onto the reason of the reading they name, or as the form's own (`root.readings`).
+ */
+function certifyResolver(
+  stationId: string,
+  used: { id: string }[],
+  leftOut: { id: string }[],
+): Resolver<CertifyFields> {
+  return async (values, context, options) => {
+    const input: CertifyReferenceUnit = {
+      stationId,
+      readingIds: used.map((r) => r.id),
+      excluded: leftOut.map((r) => ({ readingId: r.id, reason: values.reasons[r.id] ?? '' })),
+    };
+    const checked = await checkCertify(input, context, {
+      ...options,
+      fields: {},
+      names: [],
+    } as unknown as Parameters<typeof checkCertify>[2]);
+    if (!Object.keys(checked.errors).length) return { values, errors: {} };
+    const found = checked.errors as FieldErrors<{ readingIds: string[]; excluded: { reason: string }[] }>;
+    const reasons: Record<string, { type: string; message?: string }> = {};
+    leftOut.forEach((r, i) => {
+      const e = found.excluded?.[i]?.reason;
+      if (e) reasons[r.id] = { type: e.type, message: e.message };
+    });
+    const general = found.readingIds?.message ?? found.excluded?.message ?? found.root?.message;
+    return {
+      values: {},
+      errors: {
+        ...(Object.keys(reasons).length ? { reasons } : {}),
+        ...(general ? { root: { readings: { type: 'schema', message: general } } } : {}),
+      } as FieldErrors<CertifyFields>,
+    };
+  };
+}
 const CHOICES = [
   { value: 'use', label: 'Use' },
   { value: 'leave-out', label: 'Leave out (say why)' },
@@ -35,8 +84,7 @@ export function CertifyPanel({
   const readings = useReferenceReadings(reference.id, stationId || null);
   const certify = useCertifyReference();
   const [choice, setChoice] = useState<Record<string, Choice>>({});
-  const [reasons, setReasons] = useState<Record<string, string>>({});
-  const [tried, setTried] = useState(false);
+  const [banner, setBanner] = useState<string | null>(null);
   // Readings taken while certifying (no certified value yet) are proposed; judged ones are not, until chosen.
   const choiceOf = (r: { id: string; verdict: string }): Choice =>
     choice[r.id] ?? (r.verdict === 'recorded' ? 'use' : 'skip');
@@ -44,24 +92,29 @@ export function CertifyPanel({
   const used = rows.filter((r) => choiceOf(r) === 'use');
   const leftOut = rows.filter((r) => choiceOf(r) === 'leave-out');
   const figures = used.length >= 2 ? certifiedValue(used.map((r) => r.offsetDeg)) : null;
-  const missingReasons = leftOut.filter((r) => (reasons[r.id] ?? '').trim().length < 5);
   const when = (iso: string) => new Date(iso).toLocaleString('en-GB', { timeZone });
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    setTried(true);
-    if (!figures || missingReasons.length) return;
-    certify.mutate(
-      {
+  const form = useForm<CertifyFields>({
+    resolver: certifyResolver(stationId, used, leftOut),
+    defaultValues: { reasons: {} },
+  });
+  const errors = form.formState.errors;
+  const reasonErrors = Object.values(errors.reasons ?? {}).filter(Boolean).length;
+  const submit = form.handleSubmit(async ({ reasons }) => {
+    setBanner(null);
+    try {
+      const saved = await certify.mutateAsync({
         refId: reference.id,
         input: {
           stationId,
           readingIds: used.map((r) => r.id),
-          excluded: leftOut.map((r) => ({ readingId: r.id, reason: reasons[r.id].trim() })),
+          excluded: leftOut.map((r) => ({ readingId: r.id, reason: (reasons[r.id] ?? '').trim() })),
         },
-      },
-      { onSuccess: (b) => onDone(b.referenceUnit) },
-    );
-  };
+      });
+      onDone(saved.referenceUnit);
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, []));
+    }
+  });
   return (
     <form
       onSubmit={submit}
@@ -84,64 +137,66 @@ export function CertifyPanel({
           onChange={(e) => {
             setStationId(e.target.value);
             setChoice({});
-            setReasons({});
+            form.reset({ reasons: {} });
           }}
           options={stations.map((s) => ({ value: s.id, label: s.name }))}
         />
       </div>
-      {readings.isPending ? <Loading label="Reading the readings…" /> : null}
-      {readings.data && !rows.length ? (
-        <Alert>No readings of {reference.serial} at this station yet: measure it there first.</Alert>
-      ) : null}
-      {rows.length ? (
-        <TableFrame caption={`Readings of ${reference.serial} at this station, newest first`}>
-          <thead>
-            <tr>
-              <Th>When</Th>
-              <Th>Reading</Th>
-              <Th>Judged then</Th>
-              <Th>Use it?</Th>
-              <Th>Reason for leaving it out</Th>
-            </tr>
-          </thead>
-          <tbody>
-            {rows.map((r) => {
-              const c = choiceOf(r);
-              const missing = tried && c === 'leave-out' && (reasons[r.id] ?? '').trim().length < 5;
-              return (
-                <tr key={r.id}>
-                  <Td>{when(r.measuredAt)}</Td>
-                  <Td className="font-mono">{r.offsetDeg.toFixed(3)}°</Td>
-                  <Td>
-                    {r.verdict === 'recorded'
-                      ? 'Taken while certifying'
-                      : `${r.verdict === 'pass' ? 'Passed' : 'Failed'} (${formatSignedDeg(r.deviationDeg ?? 0, 3)})`}
-                  </Td>
-                  <Td>
-                    <SelectField
-                      label={`Use the reading of ${when(r.measuredAt)}`}
-                      value={c}
-                      onChange={(e) => setChoice({ ...choice, [r.id]: e.target.value as Choice })}
-                      options={CHOICES}
-                    />
-                  </Td>
-                  <Td>
-                    {c === 'leave-out' ? (
-                      <TextField
-                        label={`Why leave out ${when(r.measuredAt)}`}
-                        value={reasons[r.id] ?? ''}
-                        onChange={(e) => setReasons({ ...reasons, [r.id]: e.target.value })}
-                        error={missing ? 'Say why (at least 5 characters).' : undefined}
-                        required
+      <QueryState
+        query={readings}
+        pending="Reading the readings…"
+        failed="The readings could not be read"
+        isEmpty={(data) => data.length === 0}
+        empty={<Alert>No readings of {reference.serial} at this station yet: measure it there first.</Alert>}
+      >
+        {() => (
+          <TableFrame caption={`Readings of ${reference.serial} at this station, newest first`}>
+            <thead>
+              <tr>
+                <Th>When</Th>
+                <Th>Reading</Th>
+                <Th>Judged then</Th>
+                <Th>Use it?</Th>
+                <Th>Reason for leaving it out</Th>
+              </tr>
+            </thead>
+            <tbody>
+              {rows.map((r) => {
+                const c = choiceOf(r);
+                return (
+                  <tr key={r.id}>
+                    <Td>{when(r.measuredAt)}</Td>
+                    <Td className="font-mono">{r.offsetDeg.toFixed(3)}°</Td>
+                    <Td>
+                      {r.verdict === 'recorded'
+                        ? 'Taken while certifying'
+                        : `${r.verdict === 'pass' ? 'Passed' : 'Failed'} (${formatSignedDeg(r.deviationDeg ?? 0, 3)})`}
+                    </Td>
+                    <Td>
+                      <SelectField
+                        label={`Use the reading of ${when(r.measuredAt)}`}
+                        value={c}
+                        onChange={(e) => setChoice({ ...choice, [r.id]: e.target.value as Choice })}
+                        options={CHOICES}
                       />
-                    ) : null}
-                  </Td>
-                </tr>
-              );
-            })}
-          </tbody>
-        </TableFrame>
-      ) : null}
+                    </Td>
+                    <Td>
+                      {c === 'leave-out' ? (
+                        <TextField
+                          label={`Why leave out ${when(r.measuredAt)}`}
+                          required
+                          error={errors.reasons?.[r.id]?.message}
+                          {...form.register(`reasons.${r.id}`)}
+                        />
+                      ) : null}
+                    </Td>
+                  </tr>
+                );
+              })}
+            </tbody>
+          </TableFrame>
+        )}
+      </QueryState>
       <div data-testid="certify-figures" className="text-lg text-graphite-50" aria-live="polite">
         {figures ? (
           <>
@@ -153,13 +208,11 @@ export function CertifyPanel({
           'Choose at least 2 readings.'
         )}
       </div>
-      {tried && !figures ? <Alert tone="fault">Choose at least 2 readings to certify from.</Alert> : null}
-      {tried && missingReasons.length ? (
-        <Alert tone="fault">
-          Give a reason for each reading left out ({missingReasons.length} without one).
-        </Alert>
+      {errors.root?.readings ? <Alert tone="fault">{errors.root.readings.message}</Alert> : null}
+      {reasonErrors ? (
+        <Alert tone="fault">Give a reason for each reading left out ({reasonErrors} without one).</Alert>
       ) : null}
-      {certify.error ? <Alert tone="fault">{certify.error.message}</Alert> : null}
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
       <div className="flex flex-wrap gap-3">
         <Button type="submit" variant="primary" busy={certify.isPending}>
           Certify with these readings

@@ -1,6 +1,12 @@
-import { useState, type FormEvent } from 'react';
+import { useState } from 'react';
+import { useForm, useWatch, type Resolver } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
 import type { GaugeFigures } from '#shared/statistics/gauge-study';
-import type { GaugeStudyDetail } from '#shared/schemas/qualification';
+import {
+  gaugeStudyCreateSchema,
+  type GaugeStudyCreate,
+  type GaugeStudyDetail,
+} from '#shared/schemas/qualification';
 import { Alert, Loading } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
@@ -8,6 +14,7 @@ import { CheckboxField, SelectField, TextAreaField, TextField } from '#src/compo
 import { Panel } from '#src/components/ui/panel';
 import { QueryState } from '#src/components/ui/query-state';
 import { StatusChip } from '#src/components/ui/status-chip';
+import { applyServerErrors } from '#src/lib/form-errors';
 import {
   useCreateStudy,
   useModelChoices,
@@ -175,42 +182,105 @@ function StudyView({ s }: { s: GaugeStudyDetail }) {
   );
 }
 
+/** The design form's fields as typed: serials as one text, numbers as text, until the resolver reads them. */
+type DesignFields = {
+  name: string;
+  modelId: string;
+  appraiserKind: 'station' | 'operator';
+  appraiserIds: string[];
+  stationId: string;
+  partSerials: string;
+  trials: string;
+  toleranceDeg: string;
+};
+const DESIGN_FIELDS = [
+  'name',
+  'modelId',
+  'appraiserIds',
+  'stationId',
+  'partSerials',
+  'trials',
+  'toleranceDeg',
+];
+const checkDesign = zodResolver(gaugeStudyCreateSchema);
+
+/** The request as the shared schema reads it; an unchosen model or station is the one the select shows. */
+function designResolver(
+  firstModel: string,
+  firstStation: string,
+): Resolver<DesignFields, unknown, GaugeStudyCreate> {
+  return (values, context, options) =>
+    checkDesign(
+      {
+        name: values.name,
+        modelId: values.modelId || firstModel,
+        appraiserKind: values.appraiserKind,
+        appraiserIds: values.appraiserIds,
+        ...(values.appraiserKind === 'operator' ? { stationId: values.stationId || firstStation } : {}),
+        partSerials: values.partSerials.split(/[\s,]+/).filter(Boolean),
+        trials: values.trials.trim() === '' ? Number.NaN : Number(values.trials),
+        toleranceDeg: values.toleranceDeg.trim() === '' ? Number.NaN : Number(values.toleranceDeg),
+      },
+      context,
+      options as never,
+    ) as ReturnType<Resolver<DesignFields, unknown, GaugeStudyCreate>>;
+}
+
+/** The first message of a field whose schema is a list (one serial of several refused, or the list itself). */
+function firstMessage(error: unknown): string | undefined {
+  if (!error || typeof error !== 'object') return undefined;
+  if ('message' in error && typeof error.message === 'string' && error.message) return error.message;
+  if (Array.isArray(error))
+    for (const item of error as unknown[]) if (firstMessage(item)) return firstMessage(item);
+  return undefined;
+}
+
 function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCreated: (id: string) => void }) {
   const models = useModelChoices();
   const create = useCreateStudy();
-  const [name, setName] = useState('');
-  const [modelId, setModelId] = useState('');
-  const [kind, setKind] = useState<'station' | 'operator'>('station');
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<DesignFields, unknown, GaugeStudyCreate>({
+    resolver: designResolver(models.data?.[0]?.id ?? '', stations[0]?.id ?? ''),
+    defaultValues: {
+      name: '',
+      modelId: '',
+      appraiserKind: 'station',
+      appraiserIds: [],
+      stationId: '',
+      partSerials: '',
+      trials: '3',
+      toleranceDeg: '2',
+    },
+  });
+  const { errors } = form.formState;
+  const [kind, chosen, modelId, studyStation] = useWatch({
+    control: form.control,
+    name: ['appraiserKind', 'appraiserIds', 'modelId', 'stationId'],
+  });
   const operators = useOperatorChoices(kind === 'operator');
-  const [chosen, setChosen] = useState<string[]>([]);
-  const [studyStation, setStudyStation] = useState('');
-  const [parts, setParts] = useState('');
-  const [trials, setTrials] = useState('3');
-  const [tolerance, setTolerance] = useState('2');
   const choices: StationChoice[] = kind === 'station' ? stations : (operators.data ?? []);
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    create.mutate(
-      {
-        name,
-        modelId: modelId || models.data?.[0]?.id || '',
-        appraiserKind: kind,
-        appraiserIds: chosen,
-        ...(kind === 'operator' ? { stationId: studyStation || stations[0]?.id } : {}),
-        partSerials: parts.split(/[\s,]+/).filter(Boolean),
-        trials: Number(trials),
-        toleranceDeg: Number(tolerance),
-      },
-      { onSuccess: (s) => onCreated(s.id) },
-    );
-  };
+  const appraisersError = firstMessage(errors.appraiserIds);
+  const submit = form.handleSubmit(async (design) => {
+    setBanner(null);
+    try {
+      onCreated((await create.mutateAsync(design)).id);
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, DESIGN_FIELDS));
+    }
+  });
   return (
-    <form onSubmit={submit} className="grid gap-3 md:grid-cols-2" aria-label="Design a gauge study">
-      <TextField label="Name" value={name} onChange={(e) => setName(e.target.value)} required minLength={3} />
+    <form
+      onSubmit={submit}
+      noValidate
+      className="grid gap-3 md:grid-cols-2"
+      aria-label="Design a gauge study"
+    >
+      <TextField label="Name" required error={errors.name?.message} {...form.register('name')} />
       <SelectField
         label="Model"
         value={modelId || models.data?.[0]?.id || ''}
-        onChange={(e) => setModelId(e.target.value)}
+        error={errors.modelId?.message}
+        onChange={(e) => form.setValue('modelId', e.target.value)}
         options={(models.data ?? []).map((m) => ({ value: m.id, label: m.code }))}
       />
       <SelectField
@@ -218,8 +288,8 @@ function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCrea
         hint="Stations: how much the rigs differ. Operators: how much the people using one rig differ."
         value={kind}
         onChange={(e) => {
-          setKind(e.target.value as 'station' | 'operator');
-          setChosen([]);
+          form.setValue('appraiserKind', e.target.value as 'station' | 'operator');
+          form.setValue('appraiserIds', []);
         }}
         options={[
           { value: 'station', label: 'Stations (each measures every part)' },
@@ -231,13 +301,18 @@ function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCrea
           label="Station where the operators measure"
           hint="Each operator signs in at this station in turn; its screen shows whose trials are next."
           value={studyStation || stations[0]?.id || ''}
-          onChange={(e) => setStudyStation(e.target.value)}
+          error={errors.stationId?.message}
+          onChange={(e) => form.setValue('stationId', e.target.value)}
           options={stations.map((s) => ({ value: s.id, label: s.name }))}
         />
       ) : (
         <div />
       )}
-      <fieldset className="flex flex-col gap-1 md:col-span-2">
+      <fieldset
+        className="flex flex-col gap-1 md:col-span-2"
+        aria-invalid={appraisersError ? true : undefined}
+        aria-describedby={appraisersError ? 'design-appraisers-error' : undefined}
+      >
         <legend className="mb-1 font-semibold text-graphite-100">
           Appraisers ({kind === 'station' ? 'stations' : 'operators'}; 3 is usual)
         </legend>
@@ -252,19 +327,28 @@ function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCrea
               label={s.name}
               checked={chosen.includes(s.id)}
               onChange={(e) =>
-                setChosen(e.target.checked ? [...chosen, s.id] : chosen.filter((c) => c !== s.id))
+                form.setValue(
+                  'appraiserIds',
+                  e.target.checked ? [...chosen, s.id] : chosen.filter((c) => c !== s.id),
+                  { shouldValidate: form.formState.isSubmitted },
+                )
               }
             />
           ))}
         </div>
+        {appraisersError ? (
+          <p id="design-appraisers-error" role="alert" className="text-sm font-medium text-fault">
+            {appraisersError}
+          </p>
+        ) : null}
       </fieldset>
       <div className="md:col-span-2">
         <TextAreaField
           label="Part serials (10 is usual; spread over the process), separated by spaces or new lines"
-          value={parts}
-          onChange={(e) => setParts(e.target.value)}
           rows={3}
           required
+          error={firstMessage(errors.partSerials)}
+          {...form.register('partSerials')}
         />
       </div>
       <TextField
@@ -272,20 +356,20 @@ function DesignForm({ stations, onCreated }: { stations: StationChoice[]; onCrea
         type="number"
         min={2}
         max={10}
-        value={trials}
-        onChange={(e) => setTrials(e.target.value)}
+        error={errors.trials?.message}
+        {...form.register('trials')}
       />
       <TextField
         label="Tolerance, upper minus lower limit (°)"
         type="number"
         step="0.01"
         min="0.01"
-        value={tolerance}
-        onChange={(e) => setTolerance(e.target.value)}
+        error={errors.toleranceDeg?.message}
+        {...form.register('toleranceDeg')}
       />
-      {create.error ? (
+      {banner ? (
         <div className="md:col-span-2">
-          <Alert tone="fault">{create.error.message}</Alert>
+          <Alert tone="fault">{banner}</Alert>
         </div>
       ) : null}
       <div>

@@ -2,11 +2,22 @@
 // readings); each moves to its own file once the qualification work in flight has merged.
 import { formatSignedDeg } from '#shared/wording';
 import { useState, type FormEvent } from 'react';
-import { Alert, Loading } from '#src/components/ui/alert';
+import { useForm, useWatch, type Resolver } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import {
+  createReferenceUnitSchema,
+  qualificationPolicySchema,
+  type CreateReferenceUnit,
+  type QualificationPolicy,
+  type ReferenceUnitView,
+} from '#shared/schemas/qualification';
+import { QueryState } from '#src/components/ui/query-state';
+import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { CheckboxField, SelectField, TextField } from '#src/components/ui/field';
 import { Panel } from '#src/components/ui/panel';
+import { applyServerErrors } from '#src/lib/form-errors';
 import {
   useCreateReferenceUnit,
   useShifts,
@@ -76,85 +87,147 @@ function LiftLockForm({ stationId }: { stationId: string }) {
   );
 }
 
+/** The policy form's fields as typed; hours and units are text until the resolver reads them. */
+type PolicyFormValues = {
+  atShiftStart: boolean;
+  everyHours: string;
+  everyUnits: string;
+  referenceUnitIds: string[];
+};
+const POLICY_FIELDS = ['atShiftStart', 'everyHours', 'everyUnits', 'referenceUnitIds'] as const;
+const checkPolicy = zodResolver(qualificationPolicySchema);
+/** An empty count means "no such limit" (null), as the shared schema reads it. */
+const optionalNumber = (text: string) => (text.trim() === '' ? null : Number(text));
+const policyResolver: Resolver<PolicyFormValues, unknown, QualificationPolicy> = (values, context, options) =>
+  checkPolicy(
+    {
+      ...values,
+      everyHours: optionalNumber(values.everyHours),
+      everyUnits: optionalNumber(values.everyUnits),
+    },
+    context,
+    options as never,
+  ) as ReturnType<Resolver<PolicyFormValues, unknown, QualificationPolicy>>;
+
 function PolicyForm({ stationId }: { stationId: string }) {
   const policy = useStationPolicy(stationId);
   const refs = useReferenceUnits();
-  const save = useSetPolicy();
-  const [draft, setDraft] = useState<{ shift: boolean; hours: string; units: string; refs: string[] } | null>(
-    null,
-  );
-  if (policy.isPending || refs.isPending) return <Loading />;
-  const p = policy.data;
-  const d = draft ?? {
-    shift: p?.atShiftStart ?? true,
-    hours: p?.everyHours == null ? '' : String(p.everyHours),
-    units: p?.everyUnits == null ? '' : String(p.everyUnits),
-    refs: p?.referenceUnitIds ?? [],
-  };
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    save.mutate({
-      stationId,
-      policy: {
-        atShiftStart: d.shift,
-        everyHours: d.hours.trim() === '' ? null : Number(d.hours),
-        everyUnits: d.units.trim() === '' ? null : Number(d.units),
-        referenceUnitIds: d.refs,
-      },
-    });
-  };
   return (
-    <form onSubmit={submit} className="flex flex-col gap-3" aria-labelledby="policy-title">
+    <QueryState query={policy} pending="Reading the policy…" failed="The policy could not be read">
+      {(p) => (
+        <QueryState
+          query={refs}
+          pending="Reading the reference units…"
+          failed="The reference units could not be read"
+        >
+          {(units) => (
+            <PolicyFields
+              key={`${stationId}-${JSON.stringify(p)}`}
+              stationId={stationId}
+              policy={p}
+              units={units}
+            />
+          )}
+        </QueryState>
+      )}
+    </QueryState>
+  );
+}
+
+function PolicyFields({
+  stationId,
+  policy: p,
+  units,
+}: {
+  stationId: string;
+  policy: QualificationPolicy | null;
+  units: ReferenceUnitView[];
+}) {
+  const save = useSetPolicy();
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<PolicyFormValues, unknown, QualificationPolicy>({
+    resolver: policyResolver,
+    defaultValues: {
+      atShiftStart: p?.atShiftStart ?? true,
+      everyHours: p?.everyHours == null ? '' : String(p.everyHours),
+      everyUnits: p?.everyUnits == null ? '' : String(p.everyUnits),
+      referenceUnitIds: p?.referenceUnitIds ?? [],
+    },
+  });
+  const { errors } = form.formState;
+  const chosen = useWatch({ control: form.control, name: 'referenceUnitIds' });
+  const submit = form.handleSubmit(async (policy) => {
+    setBanner(null);
+    try {
+      await save.mutateAsync({ stationId, policy });
+      form.reset(form.getValues());
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, POLICY_FIELDS));
+    }
+  });
+  return (
+    <form onSubmit={submit} noValidate className="flex flex-col gap-3" aria-labelledby="policy-title">
       <h3 id="policy-title" className="text-lg font-semibold text-graphite-100">
         When this station must be qualified
       </h3>
       {p === null ? <p className="text-graphite-300">No policy yet: the station is never locked.</p> : null}
-      <CheckboxField
-        label="At every plant shift start"
-        checked={d.shift}
-        onChange={(e) => setDraft({ ...d, shift: e.target.checked })}
-      />
+      <CheckboxField label="At every plant shift start" {...form.register('atShiftStart')} />
+      {errors.atShiftStart ? (
+        <p role="alert" className="text-sm font-medium text-fault">
+          {errors.atShiftStart.message}
+        </p>
+      ) : null}
       <div className="grid gap-3 sm:grid-cols-2">
         <TextField
           label="Every … hours (empty: no time limit)"
           type="number"
           min="0.5"
           step="0.5"
-          value={d.hours}
-          onChange={(e) => setDraft({ ...d, hours: e.target.value })}
+          error={errors.everyHours?.message}
+          {...form.register('everyHours')}
         />
         <TextField
           label="Every … production units (empty: no count)"
           type="number"
           min="1"
-          value={d.units}
-          onChange={(e) => setDraft({ ...d, units: e.target.value })}
+          error={errors.everyUnits?.message}
+          {...form.register('everyUnits')}
         />
       </div>
-      <fieldset className="flex flex-col gap-1">
+      <fieldset
+        className="flex flex-col gap-1"
+        aria-invalid={errors.referenceUnitIds ? true : undefined}
+        aria-describedby={errors.referenceUnitIds ? `${stationId}-refs-error` : undefined}
+      >
         <legend className="mb-1 font-semibold text-graphite-100">
           Reference units that qualify it (any one will do)
         </legend>
         <div className="flex flex-wrap gap-4">
-          {(refs.data ?? []).map((r) => (
+          {units.map((r) => (
             <CheckboxField
               key={r.id}
               label={`${r.serial} (${r.modelCode})`}
-              checked={d.refs.includes(r.id)}
+              checked={chosen.includes(r.id)}
               onChange={(e) =>
-                setDraft({
-                  ...d,
-                  refs: e.target.checked ? [...d.refs, r.id] : d.refs.filter((x) => x !== r.id),
-                })
+                form.setValue(
+                  'referenceUnitIds',
+                  e.target.checked ? [...chosen, r.id] : chosen.filter((x) => x !== r.id),
+                  { shouldDirty: true, shouldValidate: form.formState.isSubmitted },
+                )
               }
             />
           ))}
         </div>
+        {errors.referenceUnitIds ? (
+          <p id={`${stationId}-refs-error`} role="alert" className="text-sm font-medium text-fault">
+            {errors.referenceUnitIds.message}
+          </p>
+        ) : null}
       </fieldset>
-      {save.error ? <Alert tone="fault">{save.error.message}</Alert> : null}
-      {save.isSuccess && !draft ? <Alert tone="ok">Policy saved.</Alert> : null}
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
+      {save.isSuccess && !form.formState.isDirty ? <Alert tone="ok">Policy saved.</Alert> : null}
       <div>
-        <Button type="submit" variant="primary" busy={save.isPending} onClick={() => setDraft(null)}>
+        <Button type="submit" variant="primary" busy={save.isPending}>
           Save the policy
         </Button>
       </div>
@@ -162,73 +235,105 @@ function PolicyForm({ stationId }: { stationId: string }) {
   );
 }
 
+/** The reference-unit form's fields as typed; numbers are text until the resolver reads them. */
+type ReferenceUnitForm = { serial: string; certifiedOffsetDeg: string; toleranceDeg: string };
+const REFERENCE_UNIT_FIELDS = ['serial', 'certifiedOffsetDeg', 'toleranceDeg'] as const;
+const checkReferenceUnit = zodResolver(createReferenceUnitSchema);
+/** Typed text becomes the numbers the shared schema reads (an empty offset: certify from readings later). */
+const referenceUnitResolver: Resolver<ReferenceUnitForm, unknown, CreateReferenceUnit> = (
+  values,
+  context,
+  options,
+) =>
+  checkReferenceUnit(
+    {
+      serial: values.serial,
+      certifiedOffsetDeg:
+        values.certifiedOffsetDeg.trim() === '' ? undefined : Number(values.certifiedOffsetDeg),
+      toleranceDeg: values.toleranceDeg.trim() === '' ? Number.NaN : Number(values.toleranceDeg),
+    },
+    context,
+    options as never,
+  ) as ReturnType<Resolver<ReferenceUnitForm, unknown, CreateReferenceUnit>>;
+
 function ReferenceUnits({ canEdit, stations }: { canEdit: boolean; stations: StationChoice[] }) {
   const refs = useReferenceUnits();
   const [certifying, setCertifying] = useState<string | null>(null);
   const [certified, setCertifiedNote] = useState<string | null>(null);
   const tz = useShiftsTimeZone();
   const create = useCreateReferenceUnit();
-  const [serial, setSerial] = useState('');
-  const [certifiedInput, setCertified] = useState('');
-  const [tolerance, setTolerance] = useState('0.3');
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    create.mutate({
-      serial,
-      certifiedOffsetDeg: certifiedInput.trim() === '' ? undefined : Number(certifiedInput),
-      toleranceDeg: Number(tolerance),
-    });
-  };
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<ReferenceUnitForm, unknown, CreateReferenceUnit>({
+    resolver: referenceUnitResolver,
+    defaultValues: { serial: '', certifiedOffsetDeg: '', toleranceDeg: '0.3' },
+  });
+  const { errors } = form.formState;
+  const submit = form.handleSubmit(async (values) => {
+    setBanner(null);
+    try {
+      await create.mutateAsync(values);
+      form.reset();
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, REFERENCE_UNIT_FIELDS));
+    }
+  });
   return (
     <Panel title="Reference units" titleId="refs-title">
-      {refs.isPending ? <Loading /> : null}
-      {refs.data ? (
-        <TableFrame caption="Reference units">
-          <thead>
-            <tr>
-              <Th>Serial</Th>
-              <Th>Model</Th>
-              <Th>Certified offset</Th>
-              <Th>Tolerance</Th>
-              <Th>Certified from</Th>
-              {canEdit ? <Th>Certify</Th> : null}
-            </tr>
-          </thead>
-          <tbody>
-            {refs.data.map((r) => (
-              <tr key={r.id}>
-                <Td className="font-semibold">{r.serial}</Td>
-                <Td>{r.modelCode}</Td>
-                <Td>
-                  {r.certifiedOffsetDeg === null ? 'being certified' : `${r.certifiedOffsetDeg.toFixed(3)}°`}
-                </Td>
-                <Td>± {r.toleranceDeg.toFixed(2)}°</Td>
-                <Td>
-                  {r.certifiedFrom
-                    ? `${r.certifiedFrom.n} readings${r.certifiedFrom.excluded?.length ? ` (${r.certifiedFrom.excluded.length} left out)` : ''}, U = ± ${r.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° (k = 2)`
-                    : r.certifiedOffsetDeg === null
-                      ? 'not yet'
-                      : 'entered by an engineer'}
-                </Td>
-                {canEdit ? (
-                  <Td>
-                    <Button
-                      variant="quiet"
-                      aria-pressed={certifying === r.id}
-                      onClick={() => {
-                        setCertifiedNote(null);
-                        setCertifying(certifying === r.id ? null : r.id);
-                      }}
-                    >
-                      From readings…
-                    </Button>
-                  </Td>
-                ) : null}
+      <QueryState
+        query={refs}
+        pending="Reading the reference units…"
+        failed="The reference units could not be read"
+      >
+        {(units) => (
+          <TableFrame caption="Reference units">
+            <thead>
+              <tr>
+                <Th>Serial</Th>
+                <Th>Model</Th>
+                <Th>Certified offset</Th>
+                <Th>Tolerance</Th>
+                <Th>Certified from</Th>
+                {canEdit ? <Th>Certify</Th> : null}
               </tr>
-            ))}
-          </tbody>
-        </TableFrame>
-      ) : null}
+            </thead>
+            <tbody>
+              {units.map((r) => (
+                <tr key={r.id}>
+                  <Td className="font-semibold">{r.serial}</Td>
+                  <Td>{r.modelCode}</Td>
+                  <Td>
+                    {r.certifiedOffsetDeg === null
+                      ? 'being certified'
+                      : `${r.certifiedOffsetDeg.toFixed(3)}°`}
+                  </Td>
+                  <Td>± {r.toleranceDeg.toFixed(2)}°</Td>
+                  <Td>
+                    {r.certifiedFrom
+                      ? `${r.certifiedFrom.n} readings${r.certifiedFrom.excluded?.length ? ` (${r.certifiedFrom.excluded.length} left out)` : ''}, U = ± ${r.certifiedFrom.expandedUncertaintyDeg.toFixed(3)}° (k = 2)`
+                      : r.certifiedOffsetDeg === null
+                        ? 'not yet'
+                        : 'entered by an engineer'}
+                  </Td>
+                  {canEdit ? (
+                    <Td>
+                      <Button
+                        variant="quiet"
+                        aria-pressed={certifying === r.id}
+                        onClick={() => {
+                          setCertifiedNote(null);
+                          setCertifying(certifying === r.id ? null : r.id);
+                        }}
+                      >
+                        From readings…
+                      </Button>
+                    </Td>
+                  ) : null}
+                </tr>
+              ))}
+            </tbody>
+          </TableFrame>
+        )}
+      </QueryState>
       {certified ? <Alert tone="ok">{certified}</Alert> : null}
       {canEdit && certifying && refs.data?.find((r) => r.id === certifying) ? (
         <CertifyPanel
@@ -249,39 +354,40 @@ function ReferenceUnits({ canEdit, stations }: { canEdit: boolean; stations: Sta
       {canEdit ? (
         <form
           onSubmit={submit}
-          className="mt-4 grid gap-3 sm:grid-cols-4 sm:items-end"
+          noValidate
+          className="mt-4 grid gap-3 sm:grid-cols-4 sm:items-start"
           aria-label="Add a reference unit"
         >
           <TextField
             label="Serial of a registered unit"
-            value={serial}
-            onChange={(e) => setSerial(e.target.value)}
             required
+            error={errors.serial?.message}
+            {...form.register('serial')}
           />
           <TextField
             label="Certified offset (°, empty: certify from readings)"
             type="number"
             step="0.001"
-            value={certifiedInput}
-            onChange={(e) => setCertified(e.target.value)}
+            error={errors.certifiedOffsetDeg?.message}
+            {...form.register('certifiedOffsetDeg')}
           />
           <TextField
             label="Tolerance (± °)"
             type="number"
             step="0.01"
             min="0.01"
-            value={tolerance}
-            onChange={(e) => setTolerance(e.target.value)}
             required
+            error={errors.toleranceDeg?.message}
+            {...form.register('toleranceDeg')}
           />
-          <div>
+          <div className="sm:pt-7">
             <Button type="submit" variant="primary" busy={create.isPending}>
               Add reference unit
             </Button>
           </div>
-          {create.error ? (
+          {banner ? (
             <div className="sm:col-span-4">
-              <Alert tone="fault">{create.error.message}</Alert>
+              <Alert tone="fault">{banner}</Alert>
             </div>
           ) : null}
         </form>
@@ -301,8 +407,13 @@ function StationPart({ stationId, canEdit }: { stationId: string; canEdit: boole
       ) : null}
       <QualificationBanner stationId={stationId} />
       <Panel title="Bias of this station" titleId="bias-title">
-        {readings.isPending ? <Loading /> : null}
-        {readings.data ? <BiasChart readings={readings.data} timeZone={tz} /> : null}
+        <QueryState
+          query={readings}
+          pending="Reading the reference readings…"
+          failed="The readings could not be read"
+        >
+          {(data) => <BiasChart readings={data} timeZone={tz} />}
+        </QueryState>
       </Panel>
       {readings.data?.length ? (
         <Panel title="Reference readings" titleId="readings-title">

@@ -1,4 +1,6 @@
-import { useState, type FormEvent } from 'react';
+import { useState } from 'react';
+import { useFieldArray, useForm, useWatch, type Path } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
 import { plantShiftsSchema, type PlantShifts } from '#shared/schemas/qualification';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
@@ -9,52 +11,42 @@ import { QueryState } from '#src/components/ui/query-state';
 import { isApiError } from '#src/lib/api-client';
 import { useSetShifts, useShifts } from '../api/qualification';
 
-type Row = { key: number; name: string; startsAt: string };
-
-/** Field errors by "index.field" from the schema's (or the server's) issues, e.g. "1.startsAt". */
-function errorsByField(issues: { path: string; message: string }[]): Map<string, string> {
-  const out = new Map<string, string>();
-  for (const i of issues) {
-    const key = i.path.replace(/^shifts\./, '');
-    if (!out.has(key)) out.set(key, i.message);
+/**
+ * The server's issues onto the rows' fields ("shifts.1.startsAt"); returns the message to show above the
+ * list when an issue names no field of a row.
+ */
+function placeServerErrors(error: unknown, setError: (path: Path<PlantShifts>, message: string) => void) {
+  if (!isApiError(error)) return 'Something went wrong. Try again.';
+  let unplaced = error.issues.length === 0;
+  for (const issue of error.issues) {
+    if (/^shifts\.\d+\.(name|startsAt)$/.test(issue.path))
+      setError(issue.path as Path<PlantShifts>, issue.message);
+    else unplaced = true;
   }
-  return out;
+  return unplaced ? error.message : null;
 }
 
 function ShiftForm({ initial, timeZone }: { initial: PlantShifts; timeZone: string }) {
   const save = useSetShifts();
-  const [nextKey, setNextKey] = useState(initial.shifts.length);
-  const [rows, setRows] = useState<Row[]>(initial.shifts.map((s, i) => ({ key: i, ...s })));
-  const [issues, setIssues] = useState<{ path: string; message: string }[]>([]);
-  const [dirty, setDirty] = useState(false);
-  const change = (key: number, patch: Partial<Row>) => {
-    setRows(rows.map((r) => (r.key === key ? { ...r, ...patch } : r)));
-    setDirty(true);
-  };
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    const input = { shifts: rows.map((r) => ({ name: r.name, startsAt: r.startsAt })) };
-    const checked = plantShiftsSchema.safeParse(input);
-    if (!checked.success) {
-      setIssues(
-        checked.error.issues.map((i) => ({
-          path: ['shifts', ...i.path.slice(1)].join('.'),
-          message: i.message,
-        })),
-      );
-      return;
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<PlantShifts>({
+    resolver: zodResolver(plantShiftsSchema),
+    defaultValues: { shifts: initial.shifts },
+  });
+  const rows = useFieldArray({ control: form.control, name: 'shifts' });
+  const typed = useWatch({ control: form.control, name: 'shifts' });
+  const errors = form.formState.errors.shifts;
+  const fieldErrorCount = Array.isArray(errors) ? errors.filter((e) => e?.name || e?.startsAt).length : 0;
+  const listError = errors?.message ?? errors?.root?.message;
+  const submit = form.handleSubmit(async (values) => {
+    setBanner(null);
+    try {
+      const saved = await save.mutateAsync(values);
+      form.reset({ shifts: saved.shifts });
+    } catch (e) {
+      setBanner(placeServerErrors(e, (path, message) => form.setError(path, { type: 'server', message })));
     }
-    setIssues([]);
-    save.mutate(checked.data, {
-      onSuccess: (saved) => {
-        setRows(saved.shifts.map((s, i) => ({ key: nextKey + i, ...s })));
-        setNextKey(nextKey + saved.shifts.length);
-        setDirty(false);
-      },
-      onError: (err) => setIssues(isApiError(err) ? err.issues : []),
-    });
-  };
-  const fieldErrors = errorsByField(issues);
+  });
   return (
     <form onSubmit={submit} noValidate className="flex flex-col gap-4" aria-labelledby="shifts-form-title">
       <h3 id="shifts-form-title" className="text-lg font-semibold text-graphite-100">
@@ -64,38 +56,33 @@ function ShiftForm({ initial, timeZone }: { initial: PlantShifts; timeZone: stri
         Times are plant time ({timeZone}), 24-hour clock. Stations whose policy asks for it must read a
         reference unit after each start. An empty list means no shift starts.
       </p>
-      {issues.length ? (
+      {fieldErrorCount ? (
         <Alert tone="fault" title="The shifts were not saved">
-          Fix the {issues.length === 1 ? 'field' : `${issues.length} fields`} marked below.
+          Fix the {fieldErrorCount === 1 ? 'field' : `${fieldErrorCount} fields`} marked below.
         </Alert>
       ) : null}
       <ol className="flex flex-col gap-3">
-        {rows.map((r, i) => (
-          <li key={r.key} className="grid items-start gap-3 sm:grid-cols-[1fr_12rem_auto]">
+        {rows.fields.map((r, i) => (
+          <li key={r.id} className="grid items-start gap-3 sm:grid-cols-[1fr_12rem_auto]">
             <TextField
               label={`Shift ${i + 1} name`}
-              value={r.name}
               maxLength={40}
               required
-              error={fieldErrors.get(`${i}.name`)}
-              onChange={(e) => change(r.key, { name: e.target.value })}
+              error={errors?.[i]?.name?.message}
+              {...form.register(`shifts.${i}.name`)}
             />
             <TextField
               label={`Shift ${i + 1} starts at`}
               type="time"
-              value={r.startsAt}
               required
-              error={fieldErrors.get(`${i}.startsAt`)}
-              onChange={(e) => change(r.key, { startsAt: e.target.value })}
+              error={errors?.[i]?.startsAt?.message}
+              {...form.register(`shifts.${i}.startsAt`)}
             />
             <div className="sm:pt-7">
               <Button
                 variant="quiet"
-                aria-label={`Remove shift ${i + 1}${r.name ? ` (${r.name})` : ''}`}
-                onClick={() => {
-                  setRows(rows.filter((x) => x.key !== r.key));
-                  setDirty(true);
-                }}
+                aria-label={`Remove shift ${i + 1}${typed[i]?.name ? ` (${typed[i].name})` : ''}`}
+                onClick={() => rows.remove(i)}
               >
                 Remove
               </Button>
@@ -103,27 +90,17 @@ function ShiftForm({ initial, timeZone }: { initial: PlantShifts; timeZone: stri
           </li>
         ))}
       </ol>
-      {fieldErrors.get('') ? <Alert tone="fault">{fieldErrors.get('')}</Alert> : null}
+      {listError ? <Alert tone="fault">{listError}</Alert> : null}
       <div className="flex flex-wrap gap-3">
-        <Button
-          disabled={rows.length >= 12}
-          onClick={() => {
-            setRows([...rows, { key: nextKey, name: '', startsAt: '' }]);
-            setNextKey(nextKey + 1);
-            setDirty(true);
-          }}
-        >
+        <Button disabled={rows.fields.length >= 12} onClick={() => rows.append({ name: '', startsAt: '' })}>
           Add a shift
         </Button>
         <Button type="submit" variant="primary" busy={save.isPending}>
           Save the shifts
         </Button>
       </div>
-      {save.error && !isApiError(save.error) ? <Alert tone="fault">{save.error.message}</Alert> : null}
-      {save.error && isApiError(save.error) && !save.error.issues.length ? (
-        <Alert tone="fault">{save.error.message}</Alert>
-      ) : null}
-      {save.isSuccess && !dirty ? (
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
+      {save.isSuccess && !form.formState.isDirty ? (
         <Alert tone="ok">Shifts saved; the change is in the audit log.</Alert>
       ) : null}
     </form>

@@ -44,7 +44,9 @@ export function ReleaseDialog({
     setBanner(null);
     try {
       const r = await release.mutateAsync(body);
-      onDone(`${r.released} unit${r.released === 1 ? '' : 's'} released: ${DISPOSITION_LABELS[r.disposition]}.`);
+      onDone(
+        `${r.released} unit${r.released === 1 ? '' : 's'} released: ${DISPOSITION_LABELS[r.disposition]}.`,
+      );
       form.reset();
       onClose();
     } catch (error) {
@@ -103,7 +105,11 @@ export function ReleaseDialog({
         ) : null}
         <div className="flex justify-end gap-3">
           <Button onClick={close}>Cancel</Button>
-          <Button type="submit" variant={disposition === 'scrap' ? 'danger' : 'primary'} busy={release.isPending}>
+          <Button
+            type="submit"
+            variant={disposition === 'scrap' ? 'danger' : 'primary'}
+            busy={release.isPending}
+          >
             {disposition === 'scrap' ? 'Scrap for good' : 'Release'}
           </Button>
         </div>

@@ -1,10 +1,6 @@
 import { useEffect } from 'react';
 import { useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import {
-  whatIfProgressSchema,
-  type WhatIfFilters,
-  type WhatIfRunView,
-} from '#shared/schemas/recipes';
+import { whatIfProgressSchema, type WhatIfFilters, type WhatIfRunView } from '#shared/schemas/recipes';
 import { apiRequest } from '#src/lib/api-client';
 import { recipesKeys } from './recipes';
 

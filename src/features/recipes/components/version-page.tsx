@@ -36,7 +36,9 @@ function History({ v }: { v: RecipeVersionView }) {
     ['Reviewer comment', v.reviewComment],
     [
       'Discarded by',
-      v.discardedBy && v.discardedAt ? `${v.discardedBy.displayName}, ${formatDateTime(v.discardedAt)}` : null,
+      v.discardedBy && v.discardedAt
+        ? `${v.discardedBy.displayName}, ${formatDateTime(v.discardedAt)}`
+        : null,
     ],
     ['Why discarded', v.discardReason],
   ];

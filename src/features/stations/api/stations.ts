@@ -1,11 +1,6 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { CalibrationView } from '#shared/schemas/calibrations';
-import type {
-  CreateStation,
-  StationHealth,
-  StationKeyCreated,
-  StationView,
-} from '#shared/schemas/stations';
+import type { CreateStation, StationHealth, StationKeyCreated, StationView } from '#shared/schemas/stations';
 import { apiRequest } from '#src/lib/api-client';
 import { stationKeys } from './station-keys';
 

@@ -2,11 +2,7 @@ import { useState } from 'react';
 import { useForm, useWatch } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import type { ModelView } from '#shared/schemas/models';
-import {
-  createStationSchema,
-  type CreateStation,
-  type StationView,
-} from '#shared/schemas/stations';
+import { createStationSchema, type CreateStation, type StationView } from '#shared/schemas/stations';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { Dialog } from '#src/components/ui/dialog';

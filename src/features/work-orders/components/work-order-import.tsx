@@ -1,9 +1,17 @@
-import { useState } from 'react';
-import { WORK_ORDER_COLUMNS, type ImportReport } from '#shared/schemas/work-orders';
+import { useId, useState } from 'react';
+import { useForm } from 'react-hook-form';
+import { zodResolver } from '@hookform/resolvers/zod';
+import {
+  WORK_ORDER_COLUMNS,
+  workOrderUploadSchema,
+  type ImportReport,
+  type WorkOrderUpload,
+} from '#shared/schemas/work-orders';
 import { Alert } from '#src/components/ui/alert';
 import { Button } from '#src/components/ui/button';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
 import { Panel } from '#src/components/ui/panel';
+import { applyServerErrors } from '#src/lib/form-errors';
 import { useImportWorkOrder } from '../api/import';
 
 const TEMPLATE = `${WORK_ORDER_COLUMNS.join(',')}\nSN-0001,CV-57B,WO-1001,HB-0001-A,MR-0001-A,ST-0001-A\n`;
@@ -22,22 +30,25 @@ export function plainImportMessage(message: string): string {
 /** Work-order import: all rows or none; each refused row is named with the reason. */
 export function WorkOrderImport() {
   const upload = useImportWorkOrder();
-  const [file, setFile] = useState<File | null>(null);
   const [report, setReport] = useState<ImportReport | null>(null);
+  const [banner, setBanner] = useState<string | null>(null);
+  const errorId = useId();
   const templateHref = `data:text/csv;charset=utf-8,${encodeURIComponent(TEMPLATE)}`;
-  const go = async () => {
-    if (!file) return;
+  const form = useForm<WorkOrderUpload>({ resolver: zodResolver(workOrderUploadSchema) });
+  const error = form.formState.errors.file?.message;
+  const go = form.handleSubmit(async ({ file }) => {
     setReport(null);
+    setBanner(null);
     try {
       setReport(await upload.mutateAsync(file));
-    } catch {
-      // shown from upload.error
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, ['file']));
     }
-  };
+  });
   return (
     <div className="flex flex-col gap-6">
       <Panel title="Upload a work order">
-        <div className="flex max-w-2xl flex-col gap-4">
+        <form className="flex max-w-2xl flex-col gap-4" onSubmit={go} noValidate>
           <p className="text-graphite-300">
             A CSV with a header row and the columns{' '}
             <span className="font-mono">{WORK_ORDER_COLUMNS.join(', ')}</span>. Serial and model code are
@@ -57,18 +68,31 @@ export function WorkOrderImport() {
             <input
               type="file"
               accept=".csv,text/csv"
+              aria-invalid={error ? true : undefined}
+              aria-describedby={error ? errorId : undefined}
               className="min-h-target text-graphite-100 file:mr-3 file:min-h-target file:border-0 file:bg-graphite-800 file:px-4 file:text-graphite-50"
-              onChange={(e) => setFile(e.target.files?.[0] ?? null)}
+              onChange={(e) => {
+                setBanner(null);
+                // No file chosen leaves the value empty, which the schema refuses in its own words.
+                form.setValue('file', e.target.files?.[0] as File, {
+                  shouldValidate: form.formState.isSubmitted,
+                });
+              }}
             />
           </label>
+          {error ? (
+            <p id={errorId} role="alert" className="text-sm font-medium text-fault">
+              {error}
+            </p>
+          ) : null}
           <div>
-            <Button variant="primary" disabled={!file} busy={upload.isPending} onClick={() => void go()}>
+            <Button type="submit" variant="primary" busy={upload.isPending}>
               Import
             </Button>
           </div>
-        </div>
+        </form>
       </Panel>
-      {upload.isError ? <Alert tone="fault">{upload.error.message}</Alert> : null}
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
       {report && report.errors.length === 0 ? (
         <Alert tone="ok" title="Imported">
           All {report.imported} units of the file were registered.
