@@ -142,7 +142,11 @@ export type PlantShifts = z.infer<typeof plantShiftsSchema>;
 
 export const overrideSchema = z.object({
   reason: z.string().trim().min(5, 'Give a reason of at least 5 characters.').max(500),
-  minutes: z.number().int().min(5, 'At least 5 minutes.').max(480, 'At most 8 hours (480 minutes).'),
+  minutes: z
+    .number({ error: 'Enter the minutes, from 5 to 480.' })
+    .int('Enter whole minutes.')
+    .min(5, 'At least 5 minutes.')
+    .max(480, 'At most 8 hours (480 minutes).'),
 });
 
 export const qualificationKindSchema = z.enum([

@@ -1,11 +1,13 @@
 // Over 350 lines on purpose for now: four small panels of one station (lock, policy, reference units,
 // readings); each moves to its own file once the qualification work in flight has merged.
 import { formatSignedDeg } from '#shared/wording';
-import { useState, type FormEvent } from 'react';
+import { useState } from 'react';
+import type { z } from 'zod';
 import { useForm, useWatch, type Resolver } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import {
   createReferenceUnitSchema,
+  overrideSchema,
   qualificationPolicySchema,
   type CreateReferenceUnit,
   type QualificationPolicy,
@@ -39,16 +41,36 @@ function useShiftsTimeZone(): string {
   return useShifts().data?.timeZone ?? 'UTC';
 }
 
+/** The lift form's fields as typed; the minutes are text until the resolver reads them. */
+type LiftFormValues = { reason: string; minutes: string };
+type LiftLock = z.infer<typeof overrideSchema>;
+const LIFT_FIELDS = ['reason', 'minutes'] as const;
+const checkLift = zodResolver(overrideSchema);
+const liftResolver: Resolver<LiftFormValues, unknown, LiftLock> = (values, context, options) =>
+  checkLift(
+    { reason: values.reason, minutes: values.minutes.trim() === '' ? Number.NaN : Number(values.minutes) },
+    context,
+    options as never,
+  ) as ReturnType<Resolver<LiftFormValues, unknown, LiftLock>>;
+
 function LiftLockForm({ stationId }: { stationId: string }) {
   const lift = useLiftLock();
-  const [reason, setReason] = useState('');
-  const [minutes, setMinutes] = useState('60');
-  const submit = (e: FormEvent) => {
-    e.preventDefault();
-    lift.mutate({ stationId, reason, minutes: Number(minutes) });
-  };
+  const [banner, setBanner] = useState<string | null>(null);
+  const form = useForm<LiftFormValues, unknown, LiftLock>({
+    resolver: liftResolver,
+    defaultValues: { reason: '', minutes: '60' },
+  });
+  const { errors } = form.formState;
+  const submit = form.handleSubmit(async (values) => {
+    setBanner(null);
+    try {
+      await lift.mutateAsync({ stationId, ...values });
+    } catch (e) {
+      setBanner(applyServerErrors(e, form.setError, LIFT_FIELDS));
+    }
+  });
   return (
-    <form onSubmit={submit} className="flex flex-col gap-3" aria-labelledby="lift-title">
+    <form onSubmit={submit} noValidate className="flex flex-col gap-3" aria-labelledby="lift-title">
       <h3 id="lift-title" className="text-lg font-semibold text-graphite-100">
         Lift the lock for a while
       </h3>
@@ -56,23 +78,16 @@ function LiftLockForm({ stationId }: { stationId: string }) {
         Production is accepted until the time runs out; the reason is kept in the audit log. Measure a
         reference unit as soon as you can.
       </p>
-      <TextField
-        label="Reason"
-        value={reason}
-        onChange={(e) => setReason(e.target.value)}
-        required
-        minLength={5}
-      />
+      <TextField label="Reason" required error={errors.reason?.message} {...form.register('reason')} />
       <TextField
         label="For how long (minutes, 5 to 480)"
         type="number"
-        min={5}
-        max={480}
-        value={minutes}
-        onChange={(e) => setMinutes(e.target.value)}
+        inputMode="numeric"
         required
+        error={errors.minutes?.message}
+        {...form.register('minutes')}
       />
-      {lift.error ? <Alert tone="fault">{lift.error.message}</Alert> : null}
+      {banner ? <Alert tone="fault">{banner}</Alert> : null}
       {lift.data ? (
         <Alert tone="ok">
           Lock lifted until {new Date(lift.data.override.expiresAt).toLocaleTimeString()}.
