@@ -1,3 +1,5 @@
+// Over ~350 lines on purpose: the whole-model aggregates (distribution, comparison, rank sums, newest points)
+// share one selection over calibration_stats (`statsSelection`); apart, the filter would leave its users.
 import { and, eq, gte, inArray, lt, sql, type SQL } from 'drizzle-orm';
 import type { DbOrTx } from '#server/db/client';
 import { stations } from '../stations/stations.table';
