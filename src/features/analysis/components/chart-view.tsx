@@ -11,7 +11,9 @@ const MAX_LISTED = 40;
 export function ChartSettings() {
   const [params, setParams] = useSearchParams();
   const set = (key: string, value: string, fallback: string) => {
-    const next = new URLSearchParams(params);
+    // From the address as it is now, not as this render saw it: two changes in one moment (two fields
+    // filled one after the other) must both stay.
+    const next = new URLSearchParams(window.location.search);
     if (value === fallback || value === '') next.delete(key);
     else next.set(key, value);
     setParams(next);

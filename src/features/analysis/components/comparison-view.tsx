@@ -9,7 +9,9 @@ import { SvgExport } from './chart-export';
 export function ComparisonSettings({ unit }: { unit: string }) {
   const [params, setParams] = useSearchParams();
   const set = (key: string, value: string, fallback: string) => {
-    const next = new URLSearchParams(params);
+    // From the address as it is now, not as this render saw it: two changes in one moment (two fields
+    // filled one after the other) must both stay.
+    const next = new URLSearchParams(window.location.search);
     if (value === fallback || value === '') next.delete(key);
     else next.set(key, value);
     setParams(next);

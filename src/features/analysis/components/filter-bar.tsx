@@ -33,7 +33,9 @@ export function FilterBar() {
   const o = options.data;
 
   const set = (changes: Record<string, string | null>) => {
-    const next = new URLSearchParams(params);
+    // From the address as it is now, not as this render saw it: two changes in one moment (two fields
+    // filled one after the other) must both stay.
+    const next = new URLSearchParams(window.location.search);
     for (const [k, v] of Object.entries(changes)) {
       if (v === null || v === '') next.delete(k);
       else next.set(k, v);
