@@ -10,6 +10,7 @@ import { startJobQueue } from '#jobs/queue-client';
 import type { AppDeps } from './deps';
 import { createEventHub } from './modules/events/event-hub';
 import { createObjectStore, storageSettingsOf } from './modules/storage/object-store';
+import { useCalibrationStore } from './modules/read-models/calibration-store';
 
 /**
  * The API + client server. Wires real dependencies, applies migrations, optionally seeds the demo,
@@ -45,6 +46,7 @@ export async function startServer(source?: NodeJS.ProcessEnv) {
     .catch((err: unknown) =>
       logger.warn({ err, endpoint: env.STORAGE_ENDPOINT }, 'object storage not reachable yet'),
     );
+  useCalibrationStore(env.STATISTICS_IN_MEMORY);
   const deps: AppDeps = {
     events,
     env,

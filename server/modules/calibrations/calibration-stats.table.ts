@@ -1,5 +1,11 @@
-import { doublePrecision, index, integer, pgTable, text, timestamp, uuid } from 'drizzle-orm/pg-core';
+import { sql } from 'drizzle-orm';
+import { customType, doublePrecision, index, integer, pgTable, text, timestamp, uuid } from 'drizzle-orm/pg-core';
 import { calibrationPurposeEnum, calibrationVerdictEnum } from './calibrations.table';
+
+/** PostgreSQL's 64-bit transaction id (xid8), read as text. */
+const xid8 = customType<{ data: string; driverData: string }>({
+  dataType: () => 'xid8',
+});
 
 /**
  * One narrow row per calibration for the line statistics: what their filters name (model, station, lots,
@@ -34,6 +40,11 @@ export const calibrationStats = pgTable(
     hallBoardLot: text(),
     magnetRingLot: text(),
     statorLot: text(),
+    // The transaction that wrote this version of the row (its insert, or a lot corrected later): readers
+    // that keep the rows in memory fetch only what changed since their snapshot (migration 0023).
+    changedXid: xid8()
+      .notNull()
+      .default(sql`pg_current_xact_id()`),
   },
   (t) => [
     // A model's calibrations in production order: whole-model views (moving ranges need that order) and
@@ -49,5 +60,7 @@ export const calibrationStats = pgTable(
     ),
     // The unit trigger finds a unit's rows.
     index('calibration_stats_unit_idx').on(t.unitId),
+    // What changed since a snapshot: the rows written by transactions from its xmin on.
+    index('calibration_stats_changed_idx').on(t.changedXid),
   ],
 );

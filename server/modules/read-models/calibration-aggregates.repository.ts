@@ -6,6 +6,14 @@ import { stations } from '../stations/stations.table';
 import { users } from '../users/users.table';
 import type { AnalysisFigure, AnalysisFilter, CompareBy } from '#shared/schemas/analysis';
 import { calibrationStats } from '../calibrations/calibration-stats.table';
+import { calibrationStoreOf, selectRows, type CalibrationStore, type Selection } from './calibration-store';
+import {
+  distributionOf,
+  groupOf,
+  groupValues,
+  rankSumsOf,
+  selectedValues,
+} from './calibration-store.figures';
 
 /**
  * Line statistics aggregated inside PostgreSQL: the views read sums, quantiles and counts instead of every
@@ -16,6 +24,10 @@ import { calibrationStats } from '../calibrations/calibration-stats.table';
  * shared/statistics compute it from the values (the tests hold both paths equal on the same data, the values
  * read from the calibrations themselves); what needs every value in order (the Anderson–Darling test) gets a
  * bounded sample of the newest values, with its size.
+ *
+ * Read through a connection pool, each function answers from the rows kept in memory instead
+ * (calibration-store.ts, decision 62): the same figures by the same rules, without reading, sorting and
+ * windowing every row again for every request. Inside a transaction, the SQL answers.
  */
 
 /** The newest values handed to the normality test: above this, the test sees only these. */
@@ -119,6 +131,8 @@ export async function distributionAggregate(
   filter: AnalysisFilter,
   extent: { lsl: number | null; usl: number | null } | null,
 ): Promise<DistributionAggregate> {
+  const store = calibrationStoreOf(db);
+  if (store) return distributionOf(selectedValues(await selectRows(store, filter)), extent, NORMALITY_SAMPLE);
   const { value, from } = statsSelection(filter);
   const useExtent = extent !== null;
   const lsl = extent?.lsl ?? null;
@@ -247,6 +261,15 @@ export async function comparisonAggregate(
   filter: AnalysisFilter,
   by: CompareBy,
 ): Promise<GroupAggregate[]> {
+  const store = calibrationStoreOf(db);
+  if (store) {
+    const groups = groupValuesOf(store, await selectRows(store, filter), by);
+    const labels = await groupLabels(db, by, [...groups.keys()]);
+    return [...groups].map(([key, values]) => {
+      const g = groupOf(key, values, GROUP_NORMALITY_SAMPLE, MAX_OUTLIERS);
+      return { ...g, key: key === '' ? null : key, label: labels.get(key) ?? null };
+    });
+  }
   const group = groupSql(by);
   const { value, from } = statsSelection(filter);
   const res = await inSortRoom(
@@ -315,6 +338,8 @@ export async function groupRankSums(
   filter: AnalysisFilter,
   by: CompareBy,
 ): Promise<{ rankSums: Map<string, number>; ties: number }> {
+  const store = calibrationStoreOf(db);
+  if (store) return rankSumsOf(groupValuesOf(store, await selectRows(store, filter), by));
   const group = groupSql(by);
   const { value, from } = statsSelection(filter);
   const res = await inSortRoom(
@@ -375,7 +400,7 @@ export async function newestFigures(
     limit ${opts.limit}`);
   const [res, total] = await Promise.all([
     rowsQuery,
-    opts.withTotal === false ? Promise.resolve(-1) : countCalibrationFigures(db, filter),
+    opts.withTotal === false ? Promise.resolve(-1) : countOf(db, filter),
   ]);
   const found = res.rows;
   const rows = new Array<ChartRow>(found.length);
@@ -390,4 +415,69 @@ export async function newestFigures(
     };
   }
   return { rows, total };
+}
+
+/** The grouping key of a row kept in memory, as the SQL path writes it ('' where not recorded). */
+function groupKeyOf(store: CalibrationStore, sel: Selection, by: CompareBy): (row: number) => string {
+  const p = sel.part;
+  if (by === 'recipeVersion') {
+    const names = new Map<number, string>();
+    return (i) => {
+      const v = p.recipeVersion[i];
+      let name = names.get(v);
+      if (name === undefined) names.set(v, (name = String(v)));
+      return name;
+    };
+  }
+  const [column, dictionary] =
+    by === 'station'
+      ? [p.station, store.stations]
+      : by === 'operator'
+        ? [p.operator, store.operators]
+        : by === 'hallBoardLot'
+          ? [p.hall, store.lots]
+          : by === 'magnetRingLot'
+            ? [p.magnet, store.lots]
+            : [p.stator, store.lots];
+  return (i) => (column[i] < 0 ? '' : dictionary.values[column[i]]);
+}
+
+/** The labels of a comparison's groups (station names, operators' names), as the SQL path reads them. */
+async function groupLabels(db: DbOrTx, by: CompareBy, keys: string[]): Promise<Map<string, string | null>> {
+  const ids = keys.filter((k) => k !== '');
+  if (by === 'station' || by === 'operator') {
+    const found =
+      ids.length === 0
+        ? []
+        : by === 'station'
+          ? await db
+              .select({ key: stations.id, label: stations.name })
+              .from(stations)
+              .where(inArray(stations.id, ids))
+          : await db
+              .select({ key: users.id, label: users.displayName })
+              .from(users)
+              .where(inArray(users.id, ids));
+    return new Map(found.map((r) => [r.key, r.label]));
+  }
+  if (by === 'recipeVersion') return new Map(ids.map((k) => [k, `Recipe version ${k}`]));
+  return new Map(ids.map((k) => [k, k]));
+}
+
+/**
+ * How many calibrations the filter selects: counted in the rows kept in memory when there are (the newest rows
+ * themselves come from the time index, which stops at the limit and carries the serials the points link to).
+ */
+async function countOf(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
+  const store = calibrationStoreOf(db);
+  return store ? (await selectRows(store, filter)).n : countCalibrationFigures(db, filter);
+}
+
+/** A selection's groups, computed once per selection (the comparison and its rank test share them). */
+function groupValuesOf(store: CalibrationStore, sel: Selection, by: CompareBy) {
+  let byKind = store.groupings.get(sel);
+  if (!byKind) store.groupings.set(sel, (byKind = new Map()));
+  let groups = byKind.get(by);
+  if (!groups) byKind.set(by, (groups = groupValues(sel, groupKeyOf(store, sel, by))));
+  return groups;
 }

@@ -1,0 +1,296 @@
+import type { Selection } from './calibration-store';
+
+/**
+ * The whole-model figures of the line statistics computed from the rows kept in memory (calibration-store.ts):
+ * the same figures, by the same rules, as the SQL statements of calibration-aggregates.repository.ts compute
+ * inside PostgreSQL (quartiles as percentile_cont, histogram bins, sums about the mean, moving ranges in
+ * production order, tie-averaged ranks). Pure: a selection in, numbers out. The tests hold both paths and
+ * the pure functions of shared/statistics equal on the same data.
+ */
+
+/** The values of a selection in production order. */
+export function selectedValues(sel: Selection): Float64Array {
+  const out = new Float64Array(sel.n);
+  for (let k = 0; k < sel.n; k++) out[k] = sel.values[sel.at[k]];
+  return out;
+}
+
+/** Puts the k-th smallest of a[lo..hi] at a[k] (smaller before it, larger after): Hoare's selection. */
+function selectInPlace(a: Float64Array, k: number, lo: number, hi: number): number {
+  while (hi > lo) {
+    const pivot = a[(lo + hi) >>> 1];
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        const x = a[i];
+        a[i] = a[j];
+        a[j] = x;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else break;
+  }
+  return a[k];
+}
+
+/**
+ * Quantiles as PostgreSQL's percentile_cont computes them (linear between the neighbouring order
+ * statistics at p·(n − 1)), for ascending p, by selection (no full sort). Reorders `work`.
+ */
+export function quantilesInPlace(work: Float64Array, ps: readonly number[]): number[] {
+  const n = work.length;
+  const out: number[] = [];
+  let from = 0;
+  for (const p of ps) {
+    const pos = p * (n - 1);
+    const k = Math.floor(pos);
+    const lower = selectInPlace(work, k, from, n - 1);
+    let upper = lower;
+    if (pos > k) {
+      upper = Infinity;
+      for (let i = k + 1; i < n; i++) if (work[i] < upper) upper = work[i];
+    }
+    out.push(lower + (pos - k) * (upper - lower));
+    from = k;
+  }
+  return out;
+}
+
+/** Quantiles of sorted values as percentile_cont computes them. */
+export function quantileSorted(sorted: Float64Array, p: number): number {
+  const pos = p * (sorted.length - 1);
+  const k = Math.floor(pos);
+  return k + 1 < sorted.length ? sorted[k] + (pos - k) * (sorted[k + 1] - sorted[k]) : sorted[k];
+}
+
+export interface MemoryDistribution {
+  n: number;
+  mean: number | null;
+  ss2: number | null;
+  ss3: number | null;
+  min: number | null;
+  max: number | null;
+  q1: number | null;
+  median: number | null;
+  q3: number | null;
+  movingRangeSum: number | null;
+  histogram: { lo: number; step: number; counts: number[] } | null;
+  newest: number[];
+}
+
+/**
+ * The distribution figures of a selection's values in production order (see distributionAggregate for what
+ * each means). Reorders `values` (the quartiles are found by selection in place).
+ */
+export function distributionOf(
+  values: Float64Array,
+  extent: { lsl: number | null; usl: number | null } | null,
+  newestCount: number,
+): MemoryDistribution {
+  const n = values.length;
+  if (n === 0)
+    return {
+      n: 0,
+      mean: null,
+      ss2: null,
+      ss3: null,
+      min: null,
+      max: null,
+      q1: null,
+      median: null,
+      q3: null,
+      movingRangeSum: null,
+      histogram: null,
+      newest: [],
+    };
+  let sum = 0;
+  let mn = Infinity;
+  let mx = -Infinity;
+  let mr = 0;
+  for (let i = 0; i < n; i++) {
+    const v = values[i];
+    sum += v;
+    if (v < mn) mn = v;
+    if (v > mx) mx = v;
+    if (i > 0) mr += Math.abs(v - values[i - 1]);
+  }
+  const mean = sum / n;
+  const newest: number[] = [];
+  for (let i = n - 1; i >= Math.max(0, n - newestCount); i--) newest.push(values[i]);
+  const [q1, median, q3] = quantilesInPlace(values, [0.25, 0.5, 0.75]);
+  const lo = extent ? Math.min(extent.lsl ?? mn, mn) : mn;
+  const hi = extent ? Math.max(extent.usl ?? mx, mx) : mx;
+  const width = q3 - q1 > 0 ? (2 * (q3 - q1)) / Math.cbrt(n) : (hi - lo) / 10;
+  const bins = hi === lo ? 1 : Math.max(5, Math.min(80, Math.ceil((hi - lo) / width)));
+  const counts = new Array<number>(bins).fill(0);
+  const step = hi === lo ? 0 : (hi - lo) / bins;
+  let ss2 = 0;
+  let ss3 = 0;
+  for (let i = 0; i < n; i++) {
+    const v = values[i];
+    const d = v - mean;
+    ss2 += d * d;
+    ss3 += d * d * d;
+    counts[hi > lo ? Math.min(bins - 1, Math.floor((v - lo) / step)) : 0] += 1;
+  }
+  return {
+    n,
+    mean,
+    ss2,
+    ss3,
+    min: mn,
+    max: mx,
+    q1,
+    median,
+    q3,
+    movingRangeSum: n > 1 ? mr : null,
+    histogram: { lo, step, counts },
+    newest,
+  };
+}
+
+export interface MemoryGroup {
+  key: string;
+  n: number;
+  mean: number;
+  sd: number | null;
+  q1: number;
+  median: number;
+  q3: number;
+  inLow: number | null;
+  inHigh: number | null;
+  outliers: number[];
+  newest: number[];
+}
+
+/** Splits a selection by a key per row: each group's values in production order. */
+export function groupValues(sel: Selection, keyOf: (row: number) => string): Map<string, Float64Array> {
+  const codes = new Map<string, number>();
+  const rowGroup = new Int32Array(sel.n);
+  const sizes: number[] = [];
+  for (let k = 0; k < sel.n; k++) {
+    const key = keyOf(sel.at[k]);
+    let g = codes.get(key);
+    if (g === undefined) {
+      codes.set(key, (g = sizes.length));
+      sizes.push(0);
+    }
+    rowGroup[k] = g;
+    sizes[g] += 1;
+  }
+  const arrays = sizes.map((size) => new Float64Array(size));
+  const fill = new Int32Array(sizes.length);
+  for (let k = 0; k < sel.n; k++) {
+    const g = rowGroup[k];
+    arrays[g][fill[g]++] = sel.values[sel.at[k]];
+  }
+  return new Map([...codes].map(([key, g]) => [key, arrays[g]]));
+}
+
+/** One group's figures (see comparisonAggregate). */
+export function groupOf(
+  key: string,
+  values: Float64Array,
+  newestCount: number,
+  maxOutliers: number,
+): MemoryGroup {
+  const n = values.length;
+  let sum = 0;
+  for (let i = 0; i < n; i++) sum += values[i];
+  const mean = sum / n;
+  let ss = 0;
+  for (let i = 0; i < n; i++) ss += (values[i] - mean) ** 2;
+  const sorted = Float64Array.from(values).sort();
+  const q1 = quantileSorted(sorted, 0.25);
+  const median = quantileSorted(sorted, 0.5);
+  const q3 = quantileSorted(sorted, 0.75);
+  const fenceLow = q1 - 1.5 * (q3 - q1);
+  const fenceHigh = q3 + 1.5 * (q3 - q1);
+  let inLow: number | null = null;
+  let inHigh: number | null = null;
+  const outliers: number[] = [];
+  for (let i = 0; i < n; i++) {
+    const v = sorted[i];
+    if (v >= fenceLow && v <= fenceHigh) {
+      inLow ??= v;
+      inHigh = v;
+    } else if (outliers.length < maxOutliers) outliers.push(v);
+  }
+  const newest = Array.from(values.subarray(Math.max(0, n - newestCount)));
+  return {
+    key,
+    n,
+    mean,
+    sd: n > 1 ? Math.sqrt(ss / (n - 1)) : null,
+    q1,
+    median,
+    q3,
+    inLow,
+    inHigh,
+    outliers,
+    newest,
+  };
+}
+
+/**
+ * Sums of the tie-averaged ranks of each group's values among all values, and Σ (t³ − t) over tied values
+ * (Kruskal–Wallis). All values sorted once; a value's ranks run from the count of smaller values + 1 to the
+ * count of values not larger, and it takes their average.
+ */
+export function rankSumsOf(groups: Map<string, Float64Array>): {
+  rankSums: Map<string, number>;
+  ties: number;
+} {
+  let total = 0;
+  for (const values of groups.values()) total += values.length;
+  const all = new Float64Array(total);
+  let at = 0;
+  for (const values of groups.values()) {
+    all.set(values, at);
+    at += values.length;
+  }
+  all.sort();
+  let ties = 0;
+  for (let i = 0; i < total;) {
+    let j = i + 1;
+    while (j < total && all[j] === all[i]) j++;
+    const t = j - i;
+    ties += t * t * t - t;
+    i = j;
+  }
+  // The first place in all[from, total) whose value is above (or, strict = false, at least) v.
+  const boundary = (v: number, from: number, above: boolean) => {
+    let lo = from;
+    let hi = total;
+    while (lo < hi) {
+      const mid = (lo + hi) >>> 1;
+      if (above ? all[mid] <= v : all[mid] < v) lo = mid + 1;
+      else hi = mid;
+    }
+    return lo;
+  };
+  const rankSums = new Map<string, number>();
+  for (const [key, values] of groups) {
+    const sorted = Float64Array.from(values).sort();
+    let sum = 0;
+    let from = 0;
+    for (let i = 0; i < sorted.length;) {
+      const v = sorted[i];
+      let j = i + 1;
+      while (j < sorted.length && sorted[j] === v) j++;
+      const below = boundary(v, from, false);
+      const upTo = boundary(v, below, true);
+      sum += (j - i) * ((below + 1 + upTo) / 2);
+      from = upTo;
+      i = j;
+    }
+    rankSums.set(key, sum);
+  }
+  return { rankSums, ties };
+}

@@ -1,0 +1,237 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestApp, type TestApp } from '#tests/harness/test-app';
+import { seedDemoLine } from '../demo/demo-line.seed';
+import { OFF_HALL_BOARD_LOT } from '../demo/demo-line.scenario';
+import { analysisFilterSchema, type AnalysisFilter, type CompareBy } from '#shared/schemas/analysis';
+import {
+  comparisonAggregate,
+  distributionAggregate,
+  groupRankSums,
+  newestFigures,
+} from './calibration-aggregates.repository';
+import { quantileSorted, quantilesInPlace, rankSumsOf } from './calibration-store.figures';
+
+// The views answer from the rows kept in memory when they read through the pool, and from one SQL statement
+// inside a transaction: two implementations of the same figures. These tests hold them equal on the demo
+// line (to 1e-9 relative: sums are added in another order), and check that the memory catches up with
+// every kind of change the table sees.
+
+const NOW = new Date('2026-11-19T09:30:00Z');
+let t: TestApp;
+let modelId: string;
+
+beforeAll(async () => {
+  t = await createTestApp();
+  await seedDemoLine(t.deps, { units: 300, now: NOW });
+  const { rows } = await t.deps.pool.query<{ id: string }>(`select id from models where code = 'CV-57B'`);
+  modelId = rows[0].id;
+}, 120_000);
+
+afterAll(async () => {
+  await t?.close();
+});
+
+function closeDeep(actual: unknown, expected: unknown, path = ''): void {
+  if (typeof expected === 'number') {
+    expect(typeof actual, path).toBe('number');
+    expect(Math.abs((actual as number) - expected), path).toBeLessThanOrEqual(
+      1e-9 * Math.max(1, Math.abs(expected)),
+    );
+    return;
+  }
+  if (expected === null || typeof expected !== 'object') {
+    expect(actual, path).toEqual(expected);
+    return;
+  }
+  if (Array.isArray(expected)) {
+    expect((actual as unknown[]).length, path).toBe(expected.length);
+    expected.forEach((e, i) => closeDeep((actual as unknown[])[i], e, `${path}[${i}]`));
+    return;
+  }
+  for (const [k, v] of Object.entries(expected))
+    closeDeep((actual as Record<string, unknown>)[k], v, `${path}.${k}`);
+}
+
+const filter = (extra: Record<string, unknown> = {}): AnalysisFilter =>
+  analysisFilterSchema.parse({ model: modelId, ...extra });
+/** The SQL path: the same call inside a transaction. */
+const inSql = <T>(read: (db: typeof t.deps.db) => Promise<T>) =>
+  t.deps.db.transaction((tx) => read(tx as unknown as typeof t.deps.db));
+
+describe('the rows kept in memory give the figures the SQL statements give', () => {
+  const filters: Record<string, unknown>[] = [
+    {},
+    { hallBoardLots: OFF_HALL_BOARD_LOT },
+    { attempts: 'first', verdict: 'pass' },
+    { figure: 'lagDeg' },
+    { figure: 'placementCDeg', verdict: 'fail' },
+    { from: '2026-11-10T00:00:00Z', to: '2026-11-12T06:00:00Z' },
+  ];
+  for (const extra of filters)
+    it(`distribution when the filter is ${JSON.stringify(extra)}`, async () => {
+      const f = filter(extra);
+      const extent = { lsl: -10, usl: 10 };
+      const memory = await distributionAggregate(t.deps.db, f, extent);
+      const sql = await inSql((db) => distributionAggregate(db, f, extent));
+      expect(memory.n).toBeGreaterThan(0);
+      closeDeep(memory, sql);
+    });
+
+  const bys: CompareBy[] = [
+    'station',
+    'hallBoardLot',
+    'magnetRingLot',
+    'statorLot',
+    'operator',
+    'recipeVersion',
+  ];
+  for (const by of bys)
+    it(`comparison and rank sums by ${by}`, async () => {
+      const f = filter();
+      const byKey = <G extends { key: string | null; newest: number[] }>(gs: G[]) =>
+        [...gs]
+          .sort((a, b) => (a.key ?? '').localeCompare(b.key ?? ''))
+          // The SQL path hands each group's newest values in no particular order.
+          .map((g) => ({ ...g, newest: [...g.newest].sort((x, y) => x - y) }));
+      const memory = byKey(await comparisonAggregate(t.deps.db, f, by));
+      const sql = byKey(await inSql((db) => comparisonAggregate(db, f, by)));
+      expect(memory.length).toBeGreaterThan(0);
+      closeDeep(memory, sql);
+      const ranksMemory = await groupRankSums(t.deps.db, f, by);
+      const ranksSql = await inSql((db) => groupRankSums(db, f, by));
+      closeDeep(Object.fromEntries(ranksMemory.rankSums), Object.fromEntries(ranksSql.rankSums));
+      closeDeep(ranksMemory.ties, ranksSql.ties);
+    });
+
+  it('the newest points of one station, within a window, and the count of all', async () => {
+    const { rows } = await t.deps.pool.query<{ id: string }>(`select id from stations order by name limit 1`);
+    const f = filter({ stations: rows[0].id });
+    const opts = { limit: 40, from: new Date('2026-11-06T00:00:00Z'), to: new Date('2026-11-15T00:00:00Z') };
+    const memory = await newestFigures(t.deps.db, f, opts);
+    const sql = await inSql((db) => newestFigures(db, f, opts));
+    expect(memory.rows.length).toBe(40);
+    expect(memory.total).toBe(sql.total);
+    expect(memory.rows).toEqual(sql.rows);
+  });
+});
+
+/** Copies `count` station calibrations of the model as recomputations under a new engine version. */
+async function recompute(
+  client: { query: (q: string, v: unknown[]) => Promise<unknown> },
+  tag: string,
+  count: number,
+) {
+  await client.query(
+    `insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict, purpose,
+                               offset_deg, offset_counts, attempt, result, compute_ms)
+     select c.measurement_pk, c.recipe_id, c.unit_id, c.station_id, $1, c.verdict, 'recompute', c.offset_deg,
+            c.offset_counts, null, c.result, 1
+     from calibrations c join units u on u.id = c.unit_id
+     where c.purpose = 'station' and c.verdict in ('pass', 'fail') and u.model_id = $2
+     order by c.computed_at limit $3`,
+    [tag, modelId, count],
+  );
+}
+
+describe('the memory catches up with what changed since it last looked', () => {
+  const recomputed = () => filter({ purpose: 'recompute' });
+
+  it('calibrations committed since then are in the next view', async () => {
+    const before = (await distributionAggregate(t.deps.db, recomputed(), null)).n;
+    await recompute(t.deps.pool, 'store-a', 25);
+    const after = await distributionAggregate(t.deps.db, recomputed(), null);
+    expect(after.n).toBe(before + 25);
+    closeDeep(after, await inSql((db) => distributionAggregate(db, recomputed(), null)));
+  });
+
+  it('a transaction still open when it last looked is seen once it commits', async () => {
+    const open = await t.deps.pool.connect();
+    try {
+      const before = (await distributionAggregate(t.deps.db, recomputed(), null)).n;
+      await open.query('begin');
+      await recompute(open, 'store-b', 7);
+      // The store looks while the insert is in flight: not there yet.
+      expect((await distributionAggregate(t.deps.db, recomputed(), null)).n).toBe(before);
+      // A later transaction commits first and is seen.
+      await recompute(t.deps.pool, 'store-c', 3);
+      expect((await distributionAggregate(t.deps.db, recomputed(), null)).n).toBe(before + 3);
+      await open.query('commit');
+      expect((await distributionAggregate(t.deps.db, recomputed(), null)).n).toBe(before + 10);
+    } finally {
+      open.release();
+    }
+  });
+
+  it("a corrected lot moves the unit's calibrations to the corrected lot's group", async () => {
+    const { rows } = await t.deps.pool.query<{ id: string; lot: string }>(
+      `select u.id, u.hall_board_lot as lot from units u join calibrations c on c.unit_id = u.id
+       where u.model_id = $1 and c.purpose = 'station' and c.verdict in ('pass', 'fail')
+       order by u.serial limit 1`,
+      [modelId],
+    );
+    const lotsBefore = await comparisonAggregate(t.deps.db, filter(), 'hallBoardLot');
+    expect(lotsBefore.some((g) => g.key === 'HB-CORRECTED')).toBe(false);
+    await t.database
+      .ownerPool()
+      .query(`update units set hall_board_lot = 'HB-CORRECTED' where id = $1`, [rows[0].id]);
+    const lotsAfter = await comparisonAggregate(t.deps.db, filter(), 'hallBoardLot');
+    const moved = lotsAfter.find((g) => g.key === 'HB-CORRECTED');
+    expect(moved?.n).toBeGreaterThan(0);
+    const was = (lots: typeof lotsAfter) => lots.find((g) => g.key === rows[0].lot)?.n ?? 0;
+    expect(was(lotsAfter)).toBe(was(lotsBefore) - moved!.n);
+    closeDeep(
+      Object.fromEntries(lotsAfter.map((g) => [g.key, g.n])),
+      Object.fromEntries(
+        (await inSql((db) => comparisonAggregate(db, filter(), 'hallBoardLot'))).map((g) => [g.key, g.n]),
+      ),
+    );
+  });
+
+  it("a unit moved to another model takes its calibrations out of the first model's figures", async () => {
+    const { rows } = await t.deps.pool.query<{ id: string; other: string }>(
+      `select u.id, (select id from models where id <> $1 order by code limit 1) as other
+       from units u join calibrations c on c.unit_id = u.id
+       where u.model_id = $1 and c.purpose = 'station' and c.verdict in ('pass', 'fail')
+       order by u.serial desc limit 1`,
+      [modelId],
+    );
+    const before = (await distributionAggregate(t.deps.db, filter(), null)).n;
+    const { rows: counted } = await t.deps.pool.query<{ n: number }>(
+      `select count(*)::int as n from calibration_stats
+       where unit_id = $1 and purpose = 'station' and verdict in ('pass', 'fail') and offset_deg is not null`,
+      [rows[0].id],
+    );
+    expect(counted[0].n).toBeGreaterThan(0);
+    await t.database
+      .ownerPool()
+      .query(`update units set model_id = $2 where id = $1`, [rows[0].id, rows[0].other]);
+    const after = (await distributionAggregate(t.deps.db, filter(), null)).n;
+    expect(after).toBe(before - counted[0].n);
+    expect(after).toBe((await inSql((db) => distributionAggregate(db, filter(), null))).n);
+  });
+});
+
+describe('order statistics without a full sort', () => {
+  it('quantiles by selection equal those of the sorted values, ties and all', () => {
+    // Common practice, no source: percentile_cont's rule, checked against a plain sort.
+    const values = Float64Array.from({ length: 1001 }, (_, i) => Math.round(Math.sin(i * 7.3) * 20) / 4);
+    const sorted = Float64Array.from(values).sort();
+    const ps = [0.25, 0.5, 0.75];
+    expect(quantilesInPlace(Float64Array.from(values), ps)).toEqual(ps.map((p) => quantileSorted(sorted, p)));
+    expect(quantilesInPlace(Float64Array.of(3, 1, 2, 4), ps)).toEqual([1.75, 2.5, 3.25]);
+  });
+
+  it('tie-averaged rank sums follow the textbook example', () => {
+    // Common practice, no source (the definition worked by hand): a = [1, 3, 5], b = [2, 3, 6]; the two 3s
+    // share ranks 3 and 4, so a ranks 1, 3.5, 5 and b 2, 3.5, 6; one tie of two values → Σ(t³ − t) = 6.
+    const { rankSums, ties } = rankSumsOf(
+      new Map([
+        ['a', Float64Array.of(5, 1, 3)],
+        ['b', Float64Array.of(3, 6, 2)],
+      ]),
+    );
+    expect(rankSums.get('a')).toBe(9.5);
+    expect(rankSums.get('b')).toBe(11.5);
+    expect(ties).toBe(6);
+  });
+});
