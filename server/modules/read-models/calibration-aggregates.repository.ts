@@ -264,9 +264,9 @@ export async function comparisonAggregate(
   const store = calibrationStoreOf(db);
   if (store) {
     const groups = groupValuesOf(store, await selectRows(store, filter), by);
-    const labels = await groupLabels(db, by, [...groups.keys()]);
-    return [...groups].map(([key, values]) => {
-      const g = groupOf(key, values, GROUP_NORMALITY_SAMPLE, MAX_OUTLIERS);
+    const labels = await groupLabels(db, by, [...groups.inOrder.keys()]);
+    return [...groups.inOrder].map(([key, values]) => {
+      const g = groupOf(key, values, groups.sorted.get(key)!, GROUP_NORMALITY_SAMPLE, MAX_OUTLIERS);
       return { ...g, key: key === '' ? null : key, label: labels.get(key) ?? null };
     });
   }
@@ -339,7 +339,7 @@ export async function groupRankSums(
   by: CompareBy,
 ): Promise<{ rankSums: Map<string, number>; ties: number }> {
   const store = calibrationStoreOf(db);
-  if (store) return rankSumsOf(groupValuesOf(store, await selectRows(store, filter), by));
+  if (store) return rankSumsOf(groupValuesOf(store, await selectRows(store, filter), by).sorted);
   const group = groupSql(by);
   const { value, from } = statsSelection(filter);
   const res = await inSortRoom(
@@ -473,11 +473,18 @@ async function countOf(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
   return store ? (await selectRows(store, filter)).n : countCalibrationFigures(db, filter);
 }
 
-/** A selection's groups, computed once per selection (the comparison and its rank test share them). */
+/**
+ * A selection's groups, each in production order and sorted, computed once per selection (the comparison
+ * and its rank test share them).
+ */
 function groupValuesOf(store: CalibrationStore, sel: Selection, by: CompareBy) {
   let byKind = store.groupings.get(sel);
   if (!byKind) store.groupings.set(sel, (byKind = new Map()));
   let groups = byKind.get(by);
-  if (!groups) byKind.set(by, (groups = groupValues(sel, groupKeyOf(store, sel, by))));
+  if (!groups) {
+    const inOrder = groupValues(sel, groupKeyOf(store, sel, by));
+    const sorted = new Map([...inOrder].map(([k, v]) => [k, Float64Array.from(v).sort()]));
+    byKind.set(by, (groups = { inOrder, sorted }));
+  }
   return groups;
 }

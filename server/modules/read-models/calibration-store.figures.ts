@@ -193,10 +193,11 @@ export function groupValues(sel: Selection, keyOf: (row: number) => string): Map
   return new Map([...codes].map(([key, g]) => [key, arrays[g]]));
 }
 
-/** One group's figures (see comparisonAggregate). */
+/** One group's figures (see comparisonAggregate): its values in production order and sorted. */
 export function groupOf(
   key: string,
   values: Float64Array,
+  sorted: Float64Array,
   newestCount: number,
   maxOutliers: number,
 ): MemoryGroup {
@@ -206,7 +207,6 @@ export function groupOf(
   const mean = sum / n;
   let ss = 0;
   for (let i = 0; i < n; i++) ss += (values[i] - mean) ** 2;
-  const sorted = Float64Array.from(values).sort();
   const q1 = quantileSorted(sorted, 0.25);
   const median = quantileSorted(sorted, 0.5);
   const q3 = quantileSorted(sorted, 0.75);
@@ -240,57 +240,71 @@ export function groupOf(
 
 /**
  * Sums of the tie-averaged ranks of each group's values among all values, and Σ (t³ − t) over tied values
- * (Kruskal–Wallis). All values sorted once; a value's ranks run from the count of smaller values + 1 to the
- * count of values not larger, and it takes their average.
+ * (Kruskal–Wallis), by merging the groups' sorted values (a heap of the groups by their next value): each
+ * run of equal values, from whichever groups, shares the average of the ranks it spans.
  */
-export function rankSumsOf(groups: Map<string, Float64Array>): {
+export function rankSumsOf(sortedGroups: Map<string, Float64Array>): {
   rankSums: Map<string, number>;
   ties: number;
 } {
-  let total = 0;
-  for (const values of groups.values()) total += values.length;
-  const all = new Float64Array(total);
-  let at = 0;
-  for (const values of groups.values()) {
-    all.set(values, at);
-    at += values.length;
-  }
-  all.sort();
-  let ties = 0;
-  for (let i = 0; i < total;) {
-    let j = i + 1;
-    while (j < total && all[j] === all[i]) j++;
-    const t = j - i;
-    ties += t * t * t - t;
-    i = j;
-  }
-  // The first place in all[from, total) whose value is above (or, strict = false, at least) v.
-  const boundary = (v: number, from: number, above: boolean) => {
-    let lo = from;
-    let hi = total;
-    while (lo < hi) {
-      const mid = (lo + hi) >>> 1;
-      if (above ? all[mid] <= v : all[mid] < v) lo = mid + 1;
-      else hi = mid;
+  const keys = [...sortedGroups.keys()];
+  const lists = keys.map((k) => sortedGroups.get(k)!);
+  const count = lists.length;
+  const next = new Int32Array(count);
+  const head = new Float64Array(count);
+  const heap = new Int32Array(count);
+  const sums = new Float64Array(count);
+  const inRun = new Float64Array(count);
+  const touched = new Int32Array(count);
+  let size = 0;
+  const siftDown = (from: number) => {
+    let i = from;
+    for (;;) {
+      const l = 2 * i + 1;
+      if (l >= size) return;
+      const r = l + 1;
+      const c = r < size && head[heap[r]] < head[heap[l]] ? r : l;
+      if (!(head[heap[c]] < head[heap[i]])) return;
+      const x = heap[i];
+      heap[i] = heap[c];
+      heap[c] = x;
+      i = c;
     }
-    return lo;
   };
-  const rankSums = new Map<string, number>();
-  for (const [key, values] of groups) {
-    const sorted = Float64Array.from(values).sort();
-    let sum = 0;
-    let from = 0;
-    for (let i = 0; i < sorted.length;) {
-      const v = sorted[i];
-      let j = i + 1;
-      while (j < sorted.length && sorted[j] === v) j++;
-      const below = boundary(v, from, false);
-      const upTo = boundary(v, below, true);
-      sum += (j - i) * ((below + 1 + upTo) / 2);
-      from = upTo;
-      i = j;
+  for (let g = 0; g < count; g++)
+    if (lists[g].length > 0) {
+      head[g] = lists[g][0];
+      heap[size++] = g;
     }
-    rankSums.set(key, sum);
+  for (let i = (size >> 1) - 1; i >= 0; i--) siftDown(i);
+  let ranked = 0;
+  let ties = 0;
+  while (size > 0) {
+    const v = head[heap[0]];
+    let t = 0;
+    let nTouched = 0;
+    while (size > 0 && head[heap[0]] === v) {
+      const g = heap[0];
+      const list = lists[g];
+      let p = next[g];
+      const start = p;
+      while (p < list.length && list[p] === v) p++;
+      next[g] = p;
+      inRun[g] += p - start;
+      touched[nTouched++] = g;
+      t += p - start;
+      if (p < list.length) head[g] = list[p];
+      else heap[0] = heap[--size];
+      siftDown(0);
+    }
+    const average = ranked + 1 + (t - 1) / 2;
+    for (let k = 0; k < nTouched; k++) {
+      const g = touched[k];
+      sums[g] += inRun[g] * average;
+      inRun[g] = 0;
+    }
+    ties += t * t * t - t;
+    ranked += t;
   }
-  return { rankSums, ties };
+  return { rankSums: new Map(keys.map((k, g) => [k, sums[g]])), ties };
 }

@@ -221,13 +221,26 @@ describe('order statistics without a full sort', () => {
     expect(quantilesInPlace(Float64Array.of(3, 1, 2, 4), ps)).toEqual([1.75, 2.5, 3.25]);
   });
 
+  it('rank sums of one group holding a tie of three, among others, average the ranks the tie spans', () => {
+    // Common practice, no source (worked by hand): a = [1, 2, 2, 2], b = [2, 4]: the four 2s span ranks 2–5
+    // (average 3.5), so a = 1 + 3 × 3.5 = 11.5 and b = 3.5 + 6 = 9.5; Σ(t³ − t) = 64 − 4 = 60.
+    const { rankSums, ties } = rankSumsOf(
+      new Map([
+        ['a', Float64Array.of(1, 2, 2, 2)],
+        ['b', Float64Array.of(2, 4)],
+      ]),
+    );
+    expect(Object.fromEntries(rankSums)).toEqual({ a: 11.5, b: 9.5 });
+    expect(ties).toBe(60);
+  });
+
   it('tie-averaged rank sums follow the textbook example', () => {
     // Common practice, no source (the definition worked by hand): a = [1, 3, 5], b = [2, 3, 6]; the two 3s
     // share ranks 3 and 4, so a ranks 1, 3.5, 5 and b 2, 3.5, 6; one tie of two values → Σ(t³ − t) = 6.
     const { rankSums, ties } = rankSumsOf(
       new Map([
-        ['a', Float64Array.of(5, 1, 3)],
-        ['b', Float64Array.of(3, 6, 2)],
+        ['a', Float64Array.of(1, 3, 5)],
+        ['b', Float64Array.of(2, 3, 6)],
       ]),
     );
     expect(rankSums.get('a')).toBe(9.5);

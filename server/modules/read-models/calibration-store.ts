@@ -351,7 +351,10 @@ export class CalibrationStore {
   readonly selections = new Map<string, Selection>();
   /** Room for the positions a selection finds, reused (a copy of the found part is kept). */
   scratch = new Int32Array(0);
-  readonly groupings = new WeakMap<Selection, Map<string, Map<string, Float64Array>>>();
+  readonly groupings = new WeakMap<
+    Selection,
+    Map<string, { inOrder: Map<string, Float64Array>; sorted: Map<string, Float64Array> }>
+  >();
   private queue: Promise<unknown> = Promise.resolve();
 
   constructor(private readonly pool: pg.Pool) {}
