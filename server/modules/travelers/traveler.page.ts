@@ -1,4 +1,5 @@
 import type { BarlowFace } from './fonts';
+import { lineWidth, writeLine } from './pdf-text';
 import type { TravelerCheck, TravelerData } from './traveler.types';
 import {
   formatCheckLimit as limitText,
@@ -90,19 +91,26 @@ const FRAGMENT_OPTIONS = Object.freeze({
 });
 
 /**
- * Draws one line of text exactly as doc.text(str, x, y, { lineBreak: false }) does, without measuring
- * it twice more (pdfkit measures a line for links and underlines, then to advance its cursor): a third of
- * a traveler's text output. The drawing kit always gives x and y, so pdfkit's cursor is not needed.
+ * Draws one line of text exactly as doc.text(str, x, y, { lineBreak: false }) does. Usually written from
+ * runs shaped once per process (pdf-text.ts); otherwise through the method doc.text() ends in, without
+ * measuring the line twice more as doc.text() would (for links and underlines, then to advance its
+ * cursor). The drawing kit always gives x and y, so pdfkit's cursor is not needed.
  */
 function drawLine(doc: Doc, str: string, x: number, y: number): void {
+  doc.x = x;
+  doc.y = y;
+  if (writeLine(doc, str, x, y)) return;
   const fragment = (doc as unknown as LineDrawer)._fragment;
   if (typeof fragment !== 'function') {
     doc.text(str, x, y, { lineBreak: false });
     return;
   }
-  doc.x = x;
-  doc.y = y;
   fragment.call(doc, str, x, y, FRAGMENT_OPTIONS);
+}
+
+/** doc.widthOfString(str) in the current font and size, from the same remembered runs as drawLine. */
+function widthOf(doc: Doc, str: string): number {
+  return lineWidth(doc, str) ?? doc.widthOfString(str);
 }
 
 export const INK = '#000000';
@@ -145,11 +153,11 @@ export class Page<D extends Pick<TravelerData, 'serial'> = TravelerData> {
     const width = options.width;
     // No Barlow glyph is wider than 1 em, so short left-aligned text needs no measuring.
     if (width !== undefined && ((options.align ?? 'left') !== 'left' || str.length * size > width)) {
-      let measured = doc.widthOfString(line);
+      let measured = widthOf(doc, line);
       if (measured > width) {
-        while (line.length > 1 && doc.widthOfString(`${line}…`) > width) line = line.slice(0, -1).trimEnd();
+        while (line.length > 1 && widthOf(doc, `${line}…`) > width) line = line.slice(0, -1).trimEnd();
         line = `${line}…`;
-        measured = doc.widthOfString(line);
+        measured = widthOf(doc, line);
       }
       if (options.align === 'right') x += width - measured;
       else if (options.align === 'center') x += (width - measured) / 2;
@@ -170,7 +178,7 @@ export class Page<D extends Pick<TravelerData, 'serial'> = TravelerData> {
   ): void {
     let s = size;
     this.doc.font(face);
-    while (s > minSize && this.doc.fontSize(s).widthOfString(str) > width) s -= 0.5;
+    while (s > minSize && widthOf(this.doc.fontSize(s), str) > width) s -= 0.5;
     this.text(face, s, str, x, y + (size - s) * 0.7, { width, color });
   }
 
