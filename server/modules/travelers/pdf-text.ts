@@ -86,7 +86,11 @@ function lineOf(font: EmbeddedFont, text: string): Line {
   }
   if (typeof width !== 'number') width = font.layout(text, undefined, true).advanceWidth;
   line = placed
-    ? { glyphs: glyphs.map(({ id, advanceWidth, codePoints }) => ({ id, advanceWidth, codePoints })), gaps, width }
+    ? {
+        glyphs: glyphs.map(({ id, advanceWidth, codePoints }) => ({ id, advanceWidth, codePoints })),
+        gaps,
+        width,
+      }
     : { width };
   if (memo.size >= LINE_MEMO_LIMIT) memo.clear();
   memo.set(text, line);
@@ -111,11 +115,20 @@ export function lineWidth(doc: Doc, text: string): number | undefined {
  * when pdfkit must draw it.
  */
 export function writeLine(doc: Doc, text: string, x: number, y: number): boolean {
+  const font = (doc as unknown as Internals)._font;
+  if (!usable(font) || !writable(font, text)) return false;
+  emit(doc, font, lineOf(font, text), x, y);
+  return true;
+}
+
+// A text pdfkit draws as one line of glyphs on the baseline: what emit() can write.
+function writable(font: EmbeddedFont, text: string): boolean {
+  return text.length > 0 && !text.includes('\n') && lineOf(font, text).glyphs !== undefined;
+}
+
+function emit(doc: Doc, font: EmbeddedFont, line: Line, x: number, y: number): void {
+  const { glyphs = [], gaps = [] } = line;
   const d = doc as unknown as Internals;
-  const font = d._font;
-  if (!usable(font) || text.includes('\n') || text.length === 0) return false;
-  const { glyphs, gaps } = lineOf(font, text);
-  if (!glyphs || !gaps) return false;
   const size = d._fontSize;
   const { page } = d;
   let tj = '';
@@ -138,5 +151,82 @@ export function writeLine(doc: Doc, text: string, x: number, y: number): boolean
     `q\n1 0 0 -1 0 ${number(page.height)} cm\nBT\n1 0 0 1 ${number(x)} ${number(baseline)} Tm\n` +
       `/${font.id} ${number(size)} Tf\n[${tj}] TJ\nET\nQ`,
   );
-  return true;
+}
+
+// ---- Paragraphs wrapped to a width ---------------------------------------------------------------------
+//
+// pdfkit wraps a paragraph (doc.text with a width, doc.heightOfString) by finding every break opportunity
+// (Unicode line breaking) and measuring every word, each time. The traveler's paragraphs (check sentences,
+// limits, cautions) are the same from unit to unit, so each face remembers, per size, width and text, the
+// lines pdfkit's own wrapper made of it; the lines are then written as above, one below the other, as
+// pdfkit's line callback places them. A paragraph that would reach the bottom margin (where pdfkit would
+// open a page) is left to pdfkit.
+
+interface ParagraphInternals {
+  _text?: (text: string, x: number, y: number, options: object, onLine: (line: string) => void) => unknown;
+  _lineGap?: number;
+}
+
+const PARAGRAPH_MEMO_LIMIT = 2000;
+const paragraphMemos = new WeakMap<object, Map<string, readonly string[]>>();
+
+function linesOf(doc: Doc, font: EmbeddedFont, text: string, width: number): readonly string[] | undefined {
+  const wrapText = (doc as unknown as ParagraphInternals)._text;
+  if (typeof wrapText !== 'function') return undefined;
+  let memo = paragraphMemos.get(font.font);
+  if (!memo) paragraphMemos.set(font.font, (memo = new Map()));
+  const key = `${(doc as unknown as Internals)._fontSize}|${width}|${text}`;
+  let lines = memo.get(key);
+  if (lines) return lines;
+  const { x, y } = doc;
+  const found: string[] = [];
+  // As doc.heightOfString does it: no page is opened, only the lines are collected.
+  wrapText.call(doc, text, x, y, { width, height: Infinity }, (line) => found.push(line));
+  doc.x = x;
+  doc.y = y;
+  lines = Object.freeze(found);
+  if (memo.size >= PARAGRAPH_MEMO_LIMIT) memo.clear();
+  memo.set(key, lines);
+  return lines;
+}
+
+// The distance pdfkit's line callback moves down after each line.
+function lineStep(doc: Doc): number {
+  return doc.currentLineHeight(true) + ((doc as unknown as ParagraphInternals)._lineGap || 0);
+}
+
+/** doc.heightOfString(text, { width }) in the current font and size, the same number. */
+export function paragraphHeight(doc: Doc, text: string, width: number): number {
+  const font = (doc as unknown as Internals)._font;
+  const lines = usable(font) ? linesOf(doc, font, text, width) : undefined;
+  if (!lines) return doc.heightOfString(text, { width });
+  // Summed from the cursor, step by step, as pdfkit does (the float result depends on where it starts).
+  const step = lineStep(doc);
+  let y = doc.y;
+  for (let i = 0; i < lines.length; i += 1) y += step;
+  return y - doc.y;
+}
+
+/**
+ * doc.text(text, x, y, { width }): the paragraph wrapped to `width`, its first line's top at y, the cursor
+ * left where pdfkit leaves it (x, below the last line).
+ */
+export function writeParagraph(doc: Doc, text: string, x: number, y: number, width: number): void {
+  const font = (doc as unknown as Internals)._font;
+  const lines = usable(font) ? linesOf(doc, font, text, width) : undefined;
+  const step = lineStep(doc);
+  const maxY = doc.page.height - doc.page.margins.bottom;
+  // Room for every line and one more, so pdfkit would not have opened a page anywhere in between.
+  const fits = lines !== undefined && y + lines.length * step + step < maxY;
+  if (!usable(font) || !lines || !fits || !lines.every((line) => writable(font, line))) {
+    doc.text(text, x, y, { width });
+    return;
+  }
+  let at = y;
+  for (const line of lines) {
+    emit(doc, font, lineOf(font, line), x, at);
+    at += step;
+  }
+  doc.x = x;
+  doc.y = at;
 }
