@@ -139,17 +139,47 @@ function sharedLayoutCache(font: object): Record<string, unknown> {
   return cache.words;
 }
 
+// Each face's ToUnicode map (which characters each glyph of the subset stands for, for copying and search)
+// is a text pdfkit writes and deflates at the end of every document; for the same glyph list it is the
+// same text, so its deflated bytes are remembered too, keyed by the text itself.
+const CMAP_MEMO_LIMIT = 200;
+const deflatedCmaps = new Map<string, Buffer>();
+
 // What this code expects of pdfkit's internals; when they differ, nothing is changed (only slower).
 interface PdfRef {
   data: Record<string, unknown>;
   buffer: unknown[];
   compress: boolean;
+  end?: (chunk?: unknown) => void;
 }
 interface EmbeddedFace {
   font: object;
   layoutCache?: Record<string, unknown>;
   encode(text: string): unknown;
   subset: { glyphs: number[]; encode(): Uint8Array };
+  toUnicodeCmap?: () => unknown;
+}
+
+// pdfkit ends the map's object with its text: deflate it as pdfkit would (default level, the text's low
+// bytes and a '\n'), once per distinct text.
+function endWithRememberedCmap(file: PdfRef): void {
+  const end = file.end?.bind(file);
+  if (!end) return;
+  file.end = (chunk?: unknown) => {
+    const fresh = file.buffer.length === 0 && file.compress;
+    if (typeof chunk !== 'string' || !fresh) return end(chunk);
+    let deflated = deflatedCmaps.get(chunk);
+    if (!deflated) {
+      deflated = deflateSync(Buffer.from(`${chunk}\n`, 'latin1'));
+      if (deflatedCmaps.size >= CMAP_MEMO_LIMIT) deflatedCmaps.clear();
+      deflatedCmaps.set(chunk, deflated);
+    }
+    file.compress = false;
+    // Its dictionary keys in pdfkit's order: Length (set on the first write), then Filter.
+    file.data.Length ??= 0;
+    file.data.Filter = 'FlateDecode';
+    return end(deflated);
+  };
 }
 
 /**
@@ -162,12 +192,27 @@ export function prepareDocumentFonts(doc: PDFKit.PDFDocument): void {
   // pdfkit creates the font file's object, then asks the subset for its bytes: remember the newest object.
   const ref = d.ref.bind(doc);
   let newest: PdfRef | undefined;
-  d.ref = (data?: object) => (newest = ref(data));
+  let writingCmap = false;
+  d.ref = (data?: object) => {
+    newest = ref(data);
+    if (writingCmap) endWithRememberedCmap(newest);
+    return newest;
+  };
   for (const face of Object.keys(BARLOW_FACES)) {
     doc.font(face);
     const font = d._font;
     if (typeof font?.encode !== 'function' || typeof font.subset?.encode !== 'function') return;
     if (font.layoutCache) font.layoutCache = sharedLayoutCache(font.font);
+    const toUnicodeCmap = font.toUnicodeCmap?.bind(font);
+    if (toUnicodeCmap)
+      font.toUnicodeCmap = () => {
+        writingCmap = true;
+        try {
+          return toUnicodeCmap();
+        } finally {
+          writingCmap = false;
+        }
+      };
     for (const ch of SUBSET_SEED_TEXT) font.encode(ch);
     let files = fontFiles.get(font.font);
     if (!files) fontFiles.set(font.font, (files = new Map()));

@@ -20,7 +20,6 @@ interface ContentRef {
 }
 interface Internals {
   page?: { content?: Partial<ContentRef> };
-  _security?: unknown;
   _write?: (data: unknown) => void;
   _offset?: number;
   push(chunk: unknown): boolean;
@@ -30,15 +29,15 @@ interface Internals {
 // a third of the time for a stream about 1.5 KiB larger. Any level is read back alike (RFC 1950/1951).
 export const CONTENT_DEFLATE = { level: 1, memLevel: 9 } as const;
 
-function deflateContent(doc: Doc, content: Partial<ContentRef>): void {
+function deflateContent(content: Partial<ContentRef>): void {
   const { buffer, data } = content;
-  const unencrypted = (doc as unknown as Internals)._security == null;
-  if (content.compress !== true || !unencrypted || !Array.isArray(buffer) || buffer.length === 0) return;
+  if (content.compress !== true || !Array.isArray(buffer) || buffer.length === 0) return;
   if (typeof data !== 'object' || data === null) return;
   const deflated = deflateSync(Buffer.concat(buffer), CONTENT_DEFLATE);
   // Already deflated: pdfkit writes it as it is, under the filter that says how to read it.
   content.compress = false;
   data.Filter = 'FlateDecode';
+  // pdfkit encrypts the stream after this, when the document is encrypted.
   content.buffer = [deflated];
 }
 
@@ -63,7 +62,7 @@ function batchPageContent(doc: Doc): void {
   };
   content.finalize = () => {
     flush();
-    deflateContent(doc, content);
+    deflateContent(content);
     finalize();
   };
 }
