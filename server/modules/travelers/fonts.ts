@@ -237,20 +237,70 @@ export function prepareDocumentFonts(doc: PDFKit.PDFDocument): void {
   }
 }
 
+// ---- Words that change from unit to unit ------------------------------------------------------------------
+//
+// Serials, times, offsets and counts differ on every traveler, so each would be shaped afresh (a tenth of
+// a render). Barlow places these characters by pairs only: a digit's advance depends on the character that
+// follows it (kerning, "11" closer than "1" then "1"), never on one further away, and no two of them
+// become one glyph. So a word is cut between any two of them, each piece is shaped together with the first
+// character of the next piece (which gives the piece's last advance its kerning) and that character is
+// dropped again: the pieces ("CM5", "57", "7-", "-2", …) repeat from unit to unit. fonts.test.ts checks,
+// face by face, that this gives exactly the glyphs and positions of shaping the whole word. A piece whose
+// follower does not come back as its own single glyph makes the word be shaped whole.
+const CUT_BETWEEN = new Set('0123456789.,:-+−/°');
+
+interface Shaped {
+  glyphs: ShapedGlyph[];
+  positions: Position[];
+}
+
 function memoiseShaping(font: ParsedFont): ParsedFont {
-  const memo = new Map<string, { glyphs: ShapedGlyph[]; positions: Position[] }>();
+  const memo = new Map<string, Shaped>();
+  const remember = (text: string, shaped: Shaped): Shaped => {
+    if (memo.size >= SHAPING_MEMO_LIMIT) memo.clear();
+    memo.set(text, shaped);
+    return shaped;
+  };
+  const shapedWhole = (text: string): Shaped => {
+    const known = memo.get(text);
+    if (known) return known;
+    const run = font.layout(text);
+    return remember(text, { glyphs: run.glyphs, positions: run.positions.map((p) => ({ ...p })) });
+  };
+  const shapedInPieces = (text: string): Shaped | undefined => {
+    const glyphs: ShapedGlyph[] = [];
+    const positions: Position[] = [];
+    let start = 0;
+    for (let i = 1; i < text.length; i += 1) {
+      if (!CUT_BETWEEN.has(text[i - 1]) || !CUT_BETWEEN.has(text[i])) continue;
+      const next = text[i];
+      const withNext = shapedWhole(text.slice(start, i) + next);
+      const last = withNext.glyphs[withNext.glyphs.length - 1];
+      if (last?.codePoints.length !== 1 || last.codePoints[0] !== next.charCodeAt(0)) return undefined;
+      for (let k = 0; k < withNext.glyphs.length - 1; k += 1) {
+        glyphs.push(withNext.glyphs[k]);
+        positions.push(withNext.positions[k]);
+      }
+      start = i;
+    }
+    if (start === 0) return undefined;
+    const rest = shapedWhole(text.slice(start));
+    glyphs.push(...rest.glyphs);
+    positions.push(...rest.positions);
+    return { glyphs, positions };
+  };
+  const shaped = (text: string): Shaped => {
+    const known = memo.get(text);
+    if (known) return known;
+    const pieces = shapedInPieces(text);
+    return pieces ? remember(text, pieces) : shapedWhole(text);
+  };
   const layout = (text: string, features?: unknown): GlyphRun => {
     if (features !== undefined) return font.layout(text, features);
-    let shaped = memo.get(text);
-    if (!shaped) {
-      const run = font.layout(text);
-      shaped = { glyphs: run.glyphs, positions: run.positions.map((p) => ({ ...p })) };
-      if (memo.size >= SHAPING_MEMO_LIMIT) memo.clear();
-      memo.set(text, shaped);
-    }
+    const run = shaped(text);
     return new CopiedRun(
-      shaped.glyphs,
-      shaped.positions.map((p) => ({ ...p })),
+      run.glyphs,
+      run.positions.map((p) => ({ ...p })),
     );
   };
   const getGlyph = (id: number, codePoints?: number[]): unknown => {
