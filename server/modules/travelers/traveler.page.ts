@@ -319,20 +319,11 @@ export function drawPageFooters(doc: Doc, caption: string): void {
     const bottomMargin = doc.page.margins.bottom;
     doc.page.margins.bottom = 0;
     doc.save().moveTo(left, y).lineTo(right, y).lineWidth(0.75).strokeColor(INK).stroke().restore();
-    doc
-      .font('regular')
-      .fontSize(7)
-      .fillColor(SOFT)
-      .text(caption, left, y + 4, { lineBreak: false });
-    doc
-      .font('semiBold')
-      .fontSize(7)
-      .fillColor(INK)
-      .text(`Page ${i - range.start + 1} of ${range.count}`, right - 80, y + 4, {
-        width: 80,
-        align: 'right',
-        lineBreak: false,
-      });
+    drawLine(doc.font('regular').fontSize(7).fillColor(SOFT), caption, left, y + 4);
+    // Right-aligned in the last 80 pt, as doc.text(…, { width: 80, align: 'right' }) places it.
+    const numbering = `Page ${i - range.start + 1} of ${range.count}`;
+    doc.font('semiBold').fontSize(7).fillColor(INK);
+    drawLine(doc, numbering, right - 80 + (80 - widthOf(doc, numbering)), y + 4);
     doc.page.margins.bottom = bottomMargin;
   }
 }
