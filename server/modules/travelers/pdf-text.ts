@@ -9,6 +9,7 @@
 // writes for doc.text(text, x, y, { lineBreak: false }) (q, flip, BT, Tm, Tf, TJ, ET, Q); the flip's save and
 // restore leave pdfkit's transform as it was, so it is not touched. A text whose glyphs pdfkit would place
 // off the line (mark offsets) is left to pdfkit, as is a document whose internals differ from these.
+// pdf-text.test.ts compares the bytes with pdfkit's own for lines and paragraphs.
 
 type Doc = PDFKit.PDFDocument;
 
