@@ -139,17 +139,47 @@ function sharedLayoutCache(font: object): Record<string, unknown> {
   return cache.words;
 }
 
+// Each face's ToUnicode map (which characters each glyph of the subset stands for, for copying and search)
+// is a text pdfkit writes and deflates at the end of every document; for the same glyph list it is the
+// same text, so its deflated bytes are remembered too, keyed by the text itself.
+const CMAP_MEMO_LIMIT = 200;
+const deflatedCmaps = new Map<string, Buffer>();
+
 // What this code expects of pdfkit's internals; when they differ, nothing is changed (only slower).
 interface PdfRef {
   data: Record<string, unknown>;
   buffer: unknown[];
   compress: boolean;
+  end?: (chunk?: unknown) => void;
 }
 interface EmbeddedFace {
   font: object;
   layoutCache?: Record<string, unknown>;
   encode(text: string): unknown;
   subset: { glyphs: number[]; encode(): Uint8Array };
+  toUnicodeCmap?: () => unknown;
+}
+
+// pdfkit ends the map's object with its text: deflate it as pdfkit would (default level, the text's low
+// bytes and a '\n'), once per distinct text.
+function endWithRememberedCmap(file: PdfRef): void {
+  const end = file.end?.bind(file);
+  if (!end) return;
+  file.end = (chunk?: unknown) => {
+    const fresh = file.buffer.length === 0 && file.compress;
+    if (typeof chunk !== 'string' || !fresh) return end(chunk);
+    let deflated = deflatedCmaps.get(chunk);
+    if (!deflated) {
+      deflated = deflateSync(Buffer.from(`${chunk}\n`, 'latin1'));
+      if (deflatedCmaps.size >= CMAP_MEMO_LIMIT) deflatedCmaps.clear();
+      deflatedCmaps.set(chunk, deflated);
+    }
+    file.compress = false;
+    // Its dictionary keys in pdfkit's order: Length (set on the first write), then Filter.
+    file.data.Length ??= 0;
+    file.data.Filter = 'FlateDecode';
+    return end(deflated);
+  };
 }
 
 /**
@@ -162,12 +192,27 @@ export function prepareDocumentFonts(doc: PDFKit.PDFDocument): void {
   // pdfkit creates the font file's object, then asks the subset for its bytes: remember the newest object.
   const ref = d.ref.bind(doc);
   let newest: PdfRef | undefined;
-  d.ref = (data?: object) => (newest = ref(data));
+  let writingCmap = false;
+  d.ref = (data?: object) => {
+    newest = ref(data);
+    if (writingCmap) endWithRememberedCmap(newest);
+    return newest;
+  };
   for (const face of Object.keys(BARLOW_FACES)) {
     doc.font(face);
     const font = d._font;
     if (typeof font?.encode !== 'function' || typeof font.subset?.encode !== 'function') return;
     if (font.layoutCache) font.layoutCache = sharedLayoutCache(font.font);
+    const toUnicodeCmap = font.toUnicodeCmap?.bind(font);
+    if (toUnicodeCmap)
+      font.toUnicodeCmap = () => {
+        writingCmap = true;
+        try {
+          return toUnicodeCmap();
+        } finally {
+          writingCmap = false;
+        }
+      };
     for (const ch of SUBSET_SEED_TEXT) font.encode(ch);
     let files = fontFiles.get(font.font);
     if (!files) fontFiles.set(font.font, (files = new Map()));
@@ -192,20 +237,70 @@ export function prepareDocumentFonts(doc: PDFKit.PDFDocument): void {
   }
 }
 
+// ---- Words that change from unit to unit ------------------------------------------------------------------
+//
+// Serials, times, offsets and counts differ on every traveler, so each would be shaped afresh (a tenth of
+// a render). Barlow places these characters by pairs only: a digit's advance depends on the character that
+// follows it (kerning, "11" closer than "1" then "1"), never on one further away, and no two of them
+// become one glyph. So a word is cut between any two of them, each piece is shaped together with the first
+// character of the next piece (which gives the piece's last advance its kerning) and that character is
+// dropped again: the pieces ("CM5", "57", "7-", "-2", …) repeat from unit to unit. fonts.test.ts checks,
+// face by face, that this gives exactly the glyphs and positions of shaping the whole word. A piece whose
+// follower does not come back as its own single glyph makes the word be shaped whole.
+const CUT_BETWEEN = new Set('0123456789.,:-+−/°');
+
+interface Shaped {
+  glyphs: ShapedGlyph[];
+  positions: Position[];
+}
+
 function memoiseShaping(font: ParsedFont): ParsedFont {
-  const memo = new Map<string, { glyphs: ShapedGlyph[]; positions: Position[] }>();
+  const memo = new Map<string, Shaped>();
+  const remember = (text: string, shaped: Shaped): Shaped => {
+    if (memo.size >= SHAPING_MEMO_LIMIT) memo.clear();
+    memo.set(text, shaped);
+    return shaped;
+  };
+  const shapedWhole = (text: string): Shaped => {
+    const known = memo.get(text);
+    if (known) return known;
+    const run = font.layout(text);
+    return remember(text, { glyphs: run.glyphs, positions: run.positions.map((p) => ({ ...p })) });
+  };
+  const shapedInPieces = (text: string): Shaped | undefined => {
+    const glyphs: ShapedGlyph[] = [];
+    const positions: Position[] = [];
+    let start = 0;
+    for (let i = 1; i < text.length; i += 1) {
+      if (!CUT_BETWEEN.has(text[i - 1]) || !CUT_BETWEEN.has(text[i])) continue;
+      const next = text[i];
+      const withNext = shapedWhole(text.slice(start, i) + next);
+      const last = withNext.glyphs[withNext.glyphs.length - 1];
+      if (last?.codePoints.length !== 1 || last.codePoints[0] !== next.charCodeAt(0)) return undefined;
+      for (let k = 0; k < withNext.glyphs.length - 1; k += 1) {
+        glyphs.push(withNext.glyphs[k]);
+        positions.push(withNext.positions[k]);
+      }
+      start = i;
+    }
+    if (start === 0) return undefined;
+    const rest = shapedWhole(text.slice(start));
+    glyphs.push(...rest.glyphs);
+    positions.push(...rest.positions);
+    return { glyphs, positions };
+  };
+  const shaped = (text: string): Shaped => {
+    const known = memo.get(text);
+    if (known) return known;
+    const pieces = shapedInPieces(text);
+    return pieces ? remember(text, pieces) : shapedWhole(text);
+  };
   const layout = (text: string, features?: unknown): GlyphRun => {
     if (features !== undefined) return font.layout(text, features);
-    let shaped = memo.get(text);
-    if (!shaped) {
-      const run = font.layout(text);
-      shaped = { glyphs: run.glyphs, positions: run.positions.map((p) => ({ ...p })) };
-      if (memo.size >= SHAPING_MEMO_LIMIT) memo.clear();
-      memo.set(text, shaped);
-    }
+    const run = shaped(text);
     return new CopiedRun(
-      shaped.glyphs,
-      shaped.positions.map((p) => ({ ...p })),
+      run.glyphs,
+      run.positions.map((p) => ({ ...p })),
     );
   };
   const getGlyph = (id: number, codePoints?: number[]): unknown => {

@@ -6,18 +6,39 @@
 // rest of the file in one piece when the document ends. When pdfkit's internals differ from what this
 // expects, nothing is changed (only slower).
 
+import { deflateSync } from 'node:zlib';
+
 type Doc = PDFKit.PDFDocument;
 
 // What this code expects of pdfkit (0.20): the page content stream object and the document's writer.
 interface ContentRef {
   write(chunk: unknown): void;
   finalize(): void;
+  compress: boolean;
+  buffer: Uint8Array[];
+  data: Record<string, unknown>;
 }
 interface Internals {
   page?: { content?: Partial<ContentRef> };
   _write?: (data: unknown) => void;
   _offset?: number;
   push(chunk: unknown): boolean;
+}
+
+// The page content (about 40 KiB of operators) is deflated at zlib's fastest level rather than its default:
+// a third of the time for a stream about 1.5 KiB larger. Any level is read back alike (RFC 1950/1951).
+export const CONTENT_DEFLATE = { level: 1, memLevel: 9 } as const;
+
+function deflateContent(content: Partial<ContentRef>): void {
+  const { buffer, data } = content;
+  if (content.compress !== true || !Array.isArray(buffer) || buffer.length === 0) return;
+  if (typeof data !== 'object' || data === null) return;
+  const deflated = deflateSync(Buffer.concat(buffer), CONTENT_DEFLATE);
+  // Already deflated: pdfkit writes it as it is, under the filter that says how to read it.
+  content.compress = false;
+  data.Filter = 'FlateDecode';
+  // pdfkit encrypts the stream after this, when the document is encrypted.
+  content.buffer = [deflated];
 }
 
 function batchPageContent(doc: Doc): void {
@@ -28,10 +49,10 @@ function batchPageContent(doc: Doc): void {
   let pending: string[] = [];
   const flush = () => {
     if (pending.length === 0) return;
-    // One string, its lines joined as pdfkit would have ended each of them, and its '\n' added by write().
-    const text = pending.join('\n');
+    // One string, its lines joined and ended as pdfkit would have ended each of them, as its low bytes.
+    const text = `${pending.join('\n')}\n`;
     pending = [];
-    write(text);
+    write(Buffer.from(text, 'latin1'));
   };
   content.write = (chunk: unknown) => {
     if (chunk instanceof Uint8Array) {
@@ -41,6 +62,7 @@ function batchPageContent(doc: Doc): void {
   };
   content.finalize = () => {
     flush();
+    deflateContent(content);
     finalize();
   };
 }

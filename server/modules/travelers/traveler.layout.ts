@@ -29,6 +29,7 @@ import {
   type Face,
   drawPageFooters,
 } from './traveler.page';
+import { paragraphHeight, writeParagraph } from './pdf-text';
 import { checkName } from '#shared/calibration/check-guide';
 import { formatOffsetDeg, SAFETY_CAUTIONS, SAFETY_TITLE } from '#shared/wording';
 
@@ -333,11 +334,8 @@ function drawChecks(page: Page): void {
   for (const check of data.checks) {
     const face: Face = check.passed ? 'regular' : 'semiBold';
     const limit = formatCheckLimit(check);
-    const limitH = doc
-      .font('regular')
-      .fontSize(8)
-      .heightOfString(limit, { width: CHECK_COLS.limit - 4 });
-    const textH = doc.font(face).fontSize(SENTENCE_PT).heightOfString(check.sentence, { width: sentenceW });
+    const limitH = paragraphHeight(doc.font('regular').fontSize(8), limit, CHECK_COLS.limit - 4);
+    const textH = paragraphHeight(doc.font(face).fontSize(SENTENCE_PT), check.sentence, sentenceW);
     const rowH = Math.max(17, textH + 3.5, limitH + 3.5);
     if (y + rowH > page.bottom) {
       page.y = y;
@@ -359,16 +357,20 @@ function drawChecks(page: Page): void {
     page.text('regular', 5.5, check.code, x.code, y + 11, { width: CHECK_COLS.code - 6, color: SOFT });
     page.fitText(face, 8, formatCheckValue(check), x.value, y + 2.5, CHECK_COLS.value - 10, 6);
     // A limit can be a list (the valid hall states): it wraps in its cell rather than being cut.
-    doc
-      .font('regular')
-      .fontSize(8)
-      .fillColor(INK)
-      .text(limit, x.limit, y + 2.5, { width: CHECK_COLS.limit - 4 });
-    doc
-      .font(face)
-      .fontSize(SENTENCE_PT)
-      .fillColor(INK)
-      .text(check.sentence, x.sentence, y + 2.5, { width: sentenceW });
+    writeParagraph(
+      doc.font('regular').fontSize(8).fillColor(INK),
+      limit,
+      x.limit,
+      y + 2.5,
+      CHECK_COLS.limit - 4,
+    );
+    writeParagraph(
+      doc.font(face).fontSize(SENTENCE_PT).fillColor(INK),
+      check.sentence,
+      x.sentence,
+      y + 2.5,
+      sentenceW,
+    );
     y += rowH;
     page.rule(y, 0.25);
   }
@@ -427,7 +429,7 @@ export function drawSafety(page: Page<Pick<TravelerData, 'serial'>>): void {
   const textX = left + 40;
   const textW = right - pad - textX;
   doc.font('regular').fontSize(8);
-  const lines = SAFETY_CAUTIONS.map((c) => doc.heightOfString(c, { width: textW - 8 }));
+  const lines = SAFETY_CAUTIONS.map((c) => paragraphHeight(doc, c, textW - 8));
   const h = pad + 12 + lines.reduce((a, b) => a + b + 1, 0) + pad - 1;
   page.ensure(h + 6);
   const y = page.y;
@@ -447,11 +449,7 @@ export function drawSafety(page: Page<Pick<TravelerData, 'serial'>>): void {
       .rect(textX, ly + 4, 3, 3)
       .fill(INK)
       .restore();
-    doc
-      .font('regular')
-      .fontSize(8)
-      .fillColor(INK)
-      .text(caution, textX + 8, ly, { width: textW - 8 });
+    writeParagraph(doc.font('regular').fontSize(8).fillColor(INK), caution, textX + 8, ly, textW - 8);
     ly += lines[i] + 1;
   });
   page.y = y + h + 4;

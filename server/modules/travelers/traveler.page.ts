@@ -1,4 +1,5 @@
 import type { BarlowFace } from './fonts';
+import { lineWidth, writeLine } from './pdf-text';
 import type { TravelerCheck, TravelerData } from './traveler.types';
 import {
   formatCheckLimit as limitText,
@@ -37,8 +38,23 @@ function dateFormat(timeZone: string): Intl.DateTimeFormat {
   return format;
 }
 
+const two = (n: number): string => (n < 10 ? `0${n}` : `${n}`);
+
 // "2026-12-02 14:03:11 UTC" or "2026-12-02 15:03:11 UTC+01:00": date first, 24-hour clock, offset stated.
 export function formatTime(iso: string, timeZone: string): string {
+  // UTC, the usual zone, is read off the date itself: formatToParts costs more than a tenth of a millisecond.
+  // Same text as the formatter gives (traveler.page.test.ts checks it), for four-digit years.
+  if (timeZone === 'UTC') {
+    const t = new Date(iso);
+    const year = t.getUTCFullYear();
+    if (year >= 1000 && year <= 9999)
+      return `${year}-${two(t.getUTCMonth() + 1)}-${two(t.getUTCDate())} ${two(t.getUTCHours())}:${two(t.getUTCMinutes())}:${two(t.getUTCSeconds())} UTC`;
+  }
+  return formatTimeInZone(iso, timeZone);
+}
+
+/** formatTime through the zone's formatter, whatever the zone (exported for its test). */
+export function formatTimeInZone(iso: string, timeZone: string): string {
   const parts: Record<string, string> = {};
   for (const p of dateFormat(timeZone).formatToParts(new Date(iso))) parts[p.type] = p.value;
   const name = parts.timeZoneName ?? 'GMT';
@@ -90,19 +106,26 @@ const FRAGMENT_OPTIONS = Object.freeze({
 });
 
 /**
- * Draws one line of text exactly as doc.text(str, x, y, { lineBreak: false }) does, without measuring
- * it twice more (pdfkit measures a line for links and underlines, then to advance its cursor): a third of
- * a traveler's text output. The drawing kit always gives x and y, so pdfkit's cursor is not needed.
+ * Draws one line of text exactly as doc.text(str, x, y, { lineBreak: false }) does. Usually written from
+ * runs shaped once per process (pdf-text.ts); otherwise through the method doc.text() ends in, without
+ * measuring the line twice more as doc.text() would (for links and underlines, then to advance its
+ * cursor). The drawing kit always gives x and y, so pdfkit's cursor is not needed.
  */
 function drawLine(doc: Doc, str: string, x: number, y: number): void {
+  doc.x = x;
+  doc.y = y;
+  if (writeLine(doc, str, x, y)) return;
   const fragment = (doc as unknown as LineDrawer)._fragment;
   if (typeof fragment !== 'function') {
     doc.text(str, x, y, { lineBreak: false });
     return;
   }
-  doc.x = x;
-  doc.y = y;
   fragment.call(doc, str, x, y, FRAGMENT_OPTIONS);
+}
+
+/** doc.widthOfString(str) in the current font and size, from the same remembered runs as drawLine. */
+function widthOf(doc: Doc, str: string): number {
+  return lineWidth(doc, str) ?? doc.widthOfString(str);
 }
 
 export const INK = '#000000';
@@ -145,11 +168,11 @@ export class Page<D extends Pick<TravelerData, 'serial'> = TravelerData> {
     const width = options.width;
     // No Barlow glyph is wider than 1 em, so short left-aligned text needs no measuring.
     if (width !== undefined && ((options.align ?? 'left') !== 'left' || str.length * size > width)) {
-      let measured = doc.widthOfString(line);
+      let measured = widthOf(doc, line);
       if (measured > width) {
-        while (line.length > 1 && doc.widthOfString(`${line}…`) > width) line = line.slice(0, -1).trimEnd();
+        while (line.length > 1 && widthOf(doc, `${line}…`) > width) line = line.slice(0, -1).trimEnd();
         line = `${line}…`;
-        measured = doc.widthOfString(line);
+        measured = widthOf(doc, line);
       }
       if (options.align === 'right') x += width - measured;
       else if (options.align === 'center') x += (width - measured) / 2;
@@ -170,7 +193,7 @@ export class Page<D extends Pick<TravelerData, 'serial'> = TravelerData> {
   ): void {
     let s = size;
     this.doc.font(face);
-    while (s > minSize && this.doc.fontSize(s).widthOfString(str) > width) s -= 0.5;
+    while (s > minSize && widthOf(this.doc.fontSize(s), str) > width) s -= 0.5;
     this.text(face, s, str, x, y + (size - s) * 0.7, { width, color });
   }
 
@@ -296,20 +319,11 @@ export function drawPageFooters(doc: Doc, caption: string): void {
     const bottomMargin = doc.page.margins.bottom;
     doc.page.margins.bottom = 0;
     doc.save().moveTo(left, y).lineTo(right, y).lineWidth(0.75).strokeColor(INK).stroke().restore();
-    doc
-      .font('regular')
-      .fontSize(7)
-      .fillColor(SOFT)
-      .text(caption, left, y + 4, { lineBreak: false });
-    doc
-      .font('semiBold')
-      .fontSize(7)
-      .fillColor(INK)
-      .text(`Page ${i - range.start + 1} of ${range.count}`, right - 80, y + 4, {
-        width: 80,
-        align: 'right',
-        lineBreak: false,
-      });
+    drawLine(doc.font('regular').fontSize(7).fillColor(SOFT), caption, left, y + 4);
+    // Right-aligned in the last 80 pt, as doc.text(…, { width: 80, align: 'right' }) places it.
+    const numbering = `Page ${i - range.start + 1} of ${range.count}`;
+    doc.font('semiBold').fontSize(7).fillColor(INK);
+    drawLine(doc, numbering, right - 80 + (80 - widthOf(doc, numbering)), y + 4);
     doc.page.margins.bottom = bottomMargin;
   }
 }
