@@ -33,11 +33,19 @@ interface Plotted {
 function pointsOf(line: ChartLine, plotted: Plotted[], hits: RuleHit[]) {
   const rulesAt = new Map<number, number[]>();
   for (const h of hits) rulesAt.set(h.index, [...(rulesAt.get(h.index) ?? []), h.rule]);
-  return line.values.map((value, i) => ({
-    ...plotted[i],
-    value,
-    rules: [...new Set(rulesAt.get(i) ?? [])].sort((a, b) => a - b),
-  }));
+  // Thousands of points, few of them with hits: no set or spread for the others.
+  return line.values.map((value, i) => {
+    const p = plotted[i];
+    const at = rulesAt.get(i);
+    const point = {
+      serial: p.serial,
+      unitIds: p.unitIds,
+      computedAt: p.computedAt,
+      value,
+      rules: at ? [...new Set(at)].sort((a, b) => a - b) : [],
+    };
+    return p.period === undefined ? point : { ...point, period: p.period };
+  });
 }
 
 /** Rule 1 on a spread chart (or an EWMA): a point outside its limits, whatever their symmetry. */
