@@ -298,6 +298,35 @@ describe('results', () => {
     expect(await count('units', `serial = 'SN-TWICE' and attempts = 1`)).toBe(1);
   });
 
+  it('numbers two attempts of one unit computed at the same moment 1 and 2, and counts both', async () => {
+    // Offset 18° is just outside the test recipe's ±15° window: two failed attempts, no hold yet.
+    const first = simulatedMeasurement(recipe, 'SN-RACE', { offsetDeg: 18, seed: 201 });
+    const second = simulatedMeasurement(recipe, 'SN-RACE', { offsetDeg: 18, seed: 202 });
+    expect((await post(line.key, first)).status).toBe(202);
+    expect((await post(line.key, second)).status).toBe(202);
+    // Both jobs read the unit before either commits (a third connection holds the unit's row until both
+    // wait on it); the second commit must not reuse attempt 1.
+    const blocker = await t.database.pool.connect();
+    await blocker.query('begin');
+    await blocker.query(`select 1 from units where serial = 'SN-RACE' for update`);
+    const both = Promise.all([computeQueued(first.measurementId), computeQueued(second.measurementId)]);
+    for (let waiting = 0; waiting < 2; ) {
+      await new Promise((r) => setTimeout(r, 20));
+      const { rows } = await blocker.query(
+        `select count(*)::int as n from pg_stat_activity where datname = current_database() and wait_event_type = 'Lock'`,
+      );
+      waiting = rows[0].n;
+    }
+    await blocker.query('rollback');
+    blocker.release();
+    await both;
+    const { rows } = await t.database.pool.query(
+      `select c.attempt from calibrations c join units u on u.id = c.unit_id where u.serial = 'SN-RACE' order by c.attempt`,
+    );
+    expect(rows.map((r) => r.attempt)).toEqual([1, 2]);
+    expect(await count('units', `serial = 'SN-RACE' and attempts = 2 and status = 'failed'`)).toBe(1);
+  });
+
   it('flags the unit when the value read back differs from the one computed', async () => {
     const m = simulatedMeasurement(recipe, 'SN-PROGRAM');
     await post(line.key, m);
