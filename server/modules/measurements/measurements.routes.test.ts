@@ -5,6 +5,7 @@ import { createLineFixture } from '#tests/harness/line-fixtures';
 import { simulatedMeasurement } from '#tests/harness/measurements';
 import type { Recipe } from '#shared/schemas/recipe';
 import { computeCalibration, type MeasurementsContext } from './measurements.service';
+import { forgetCachedStationKeys } from '../stations/stations.service';
 import { simulateCapture } from '#shared/simulation/capture-sim';
 import { createRng } from '#shared/simulation/rng';
 
@@ -203,6 +204,35 @@ describe('posting a measurement', () => {
     expect(after.body.error.code).toBe('station.key_invalid');
     // The station's other key still works during the rotation.
     expect((await post(line.key, simulatedMeasurement(recipe, 'SN-KEY-4'))).status).toBe(202);
+  });
+
+  it('marks the station seen and the key used when a key is presented, and a revoked key neither', async () => {
+    const pool = t.database.ownerPool();
+    await pool.query(`update stations set last_seen_at = null where id = $1`, [other.station.id]);
+    await pool.query(`update station_keys set last_used_at = null where station_id = $1`, [other.station.id]);
+    forgetCachedStationKeys();
+    const beat = await request(t.app).post('/api/station/heartbeat').set('X-Station-Key', other.key);
+    expect(beat.status).toBe(200);
+    const seen = await pool.query(
+      `select s.last_seen_at is not null as seen, k.last_used_at is not null as used
+         from stations s join station_keys k on k.station_id = s.id where s.id = $1`,
+      [other.station.id],
+    );
+    expect(seen.rows).toEqual([{ seen: true, used: true }]);
+    await pool.query(`update stations set last_seen_at = null where id = $1`, [other.station.id]);
+    await pool.query(`update station_keys set last_used_at = null, revoked_at = now() where station_id = $1`, [
+      other.station.id,
+    ]);
+    forgetCachedStationKeys();
+    expect((await request(t.app).post('/api/station/heartbeat').set('X-Station-Key', other.key)).status).toBe(401);
+    const unseen = await pool.query(
+      `select s.last_seen_at is null as unseen, k.last_used_at is null as unused
+         from stations s join station_keys k on k.station_id = s.id where s.id = $1`,
+      [other.station.id],
+    );
+    expect(unseen.rows).toEqual([{ unseen: true, unused: true }]);
+    await pool.query(`update station_keys set revoked_at = null where station_id = $1`, [other.station.id]);
+    forgetCachedStationKeys();
   });
 });
 
