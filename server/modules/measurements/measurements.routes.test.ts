@@ -357,6 +357,52 @@ describe('results', () => {
     expect(await count('units', `serial = 'SN-RACE' and attempts = 2 and status = 'failed'`)).toBe(1);
   });
 
+  it('records a confirmation that matches the computed counts once, with its event, and shows it confirmed', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-PROGRAM-OK');
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    const events: string[] = [];
+    const stop = t.deps.events.subscribe((e) => {
+      if (e.type === 'programming.confirmed') events.push(JSON.stringify(e));
+    });
+    try {
+      const res = await request(t.app)
+        .get(`/api/station/measurements/${m.measurementId}/result`)
+        .set('X-Station-Key', line.key);
+      const counts = res.body.calibration.offsetCounts as number;
+      const ok = await request(t.app)
+        .post(`/api/station/measurements/${m.measurementId}/programming`)
+        .set('X-Station-Key', line.key)
+        .send({ writtenCounts: counts, readBackCounts: counts, checksum: 'C3D4' });
+      expect(ok.status).toBe(200);
+      expect(ok.body).toMatchObject({ matches: true, expectedCounts: counts });
+      const rows = await t.database.pool.query(
+        `select p.matches, p.expected_counts, p.checksum from programming_confirmations p
+           join calibrations c on c.id = p.calibration_id join measurements m on m.id = c.measurement_pk
+          where m.measurement_id = $1`,
+        [m.measurementId],
+      );
+      expect(rows.rows).toEqual([{ matches: true, expected_counts: counts, checksum: 'C3D4' }]);
+      const after = await request(t.app)
+        .get(`/api/station/measurements/${m.measurementId}/result`)
+        .set('X-Station-Key', line.key);
+      expect(after.body.calibration.programming.status).toBe('confirmed');
+      // The event comes back through the database's NOTIFY.
+      for (let i = 0; i < 50 && !events.length; i++) await new Promise((r) => setTimeout(r, 20));
+      expect(events.map((e) => JSON.parse(e))).toEqual([
+        expect.objectContaining({ type: 'programming.confirmed', serial: 'SN-PROGRAM-OK', matches: true }),
+      ]);
+    } finally {
+      stop();
+    }
+    // Another station cannot confirm it.
+    const foreign = await request(t.app)
+      .post(`/api/station/measurements/${m.measurementId}/programming`)
+      .set('X-Station-Key', other.key)
+      .send({ writtenCounts: 1, readBackCounts: 1 });
+    expect(foreign.status).toBe(404);
+  });
+
   it('flags the unit when the value read back differs from the one computed', async () => {
     const m = simulatedMeasurement(recipe, 'SN-PROGRAM');
     await post(line.key, m);
