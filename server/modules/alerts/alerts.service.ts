@@ -14,7 +14,7 @@ import {
   type AlertPoint,
   type WatchedChartRecord,
 } from './alerts.table';
-import { alreadySeen, initialWatchState, watchStep, type WatchHit } from './alerts.watch';
+import { alreadySeen, initialWatchState, watchStep, type WatchHit, type WatchState } from './alerts.watch';
 
 /** Points kept on one alert (the first ones and the latest ones matter; the count says how many more). */
 const MAX_ALERT_POINTS = 50;
@@ -117,6 +117,7 @@ export async function watchStationModel(
         limits && limits.center !== null && limits.sigma !== null
           ? { id: limits.id, center: limits.center, sigma: limits.sigma }
           : null;
+      const changed: { id: string; state: WatchState }[] = [];
       for (const chart of charts) {
         let state = chart.state;
         for (const r of rows) {
@@ -154,11 +155,14 @@ export async function watchStationModel(
             if (id) raised.push({ alertId: id, chart, hit });
           }
         }
-        if (state === chart.state) continue;
-        await tx
-          .update(watchedCharts)
-          .set({ state, updatedAt: deps.clock() })
-          .where(eq(watchedCharts.id, chart.id));
+        if (state !== chart.state) changed.push({ id: chart.id, state });
+      }
+      // Every chart whose state moved, in one statement.
+      if (changed.length) {
+        await tx.execute(sql`
+          update ${watchedCharts} set state = v.state, updated_at = ${deps.clock()}
+            from jsonb_to_recordset(${JSON.stringify(changed)}::jsonb) as v(id uuid, state jsonb)
+           where ${watchedCharts.id} = v.id`);
       }
       return rows.length;
     });
