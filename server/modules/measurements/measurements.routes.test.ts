@@ -340,9 +340,10 @@ describe('results', () => {
     await blocker.query('begin');
     await blocker.query(`select 1 from units where serial = 'SN-RACE' for update`);
     const both = Promise.all([computeQueued(first.measurementId), computeQueued(second.measurementId)]);
+    // Asked outside the blocker's transaction, which would keep seeing its first snapshot of the activity.
     for (let waiting = 0; waiting < 2; ) {
       await new Promise((r) => setTimeout(r, 20));
-      const { rows } = await blocker.query(
+      const { rows } = await t.database.pool.query(
         `select count(*)::int as n from pg_stat_activity where datname = current_database() and wait_event_type = 'Lock'`,
       );
       waiting = rows[0].n;
