@@ -1,6 +1,5 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import path from 'node:path';
-import pg from 'pg';
 import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '#tests/harness/test-app';
@@ -62,11 +61,12 @@ describe('the calibration job survives a worker killed mid-job', () => {
       .send(m);
     expect(posted.status).toBe(202);
 
-    // Hold the unit's row so the worker's transaction stops half-way (after reading, before committing).
-    const blocker = new pg.Client({ connectionString: t.database.url });
-    await blocker.connect();
+    // Hold the calibrations table so the worker stops half-way: its job fetched and active, its first
+    // read waiting, nothing committed. (The usual calibration commits in one statement, so a worker killed
+    // once that statement is sent leaves a committed calibration, which the retry then finds.)
+    const blocker = await t.database.ownerPool().connect();
     await blocker.query('begin');
-    await blocker.query(`select * from units where serial = 'SN-CRASH' for update`);
+    await blocker.query('lock table calibrations in access exclusive mode');
 
     const first = startWorkerProcess(t.database.url);
     await until('the worker to start the job', async () => {
@@ -75,7 +75,7 @@ describe('the calibration job survives a worker killed mid-job', () => {
       );
       return rows.length > 0;
     });
-    await until('the worker to wait on the unit row', async () => {
+    await until('the worker to wait on the calibrations table', async () => {
       const { rows } = await t.database.pool.query(
         `select 1 from pg_stat_activity where application_name = 'phasewright-worker' and wait_event_type = 'Lock'`,
       );
@@ -84,7 +84,7 @@ describe('the calibration job survives a worker killed mid-job', () => {
     process.kill(-first.pid!, 'SIGKILL');
     await new Promise((r) => first.once('exit', r));
     await blocker.query('rollback');
-    await blocker.end();
+    blocker.release();
     expect((await t.database.pool.query('select count(*)::int as n from calibrations')).rows[0].n).toBe(0);
 
     const second = startWorkerProcess(t.database.url);

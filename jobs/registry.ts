@@ -14,6 +14,12 @@ export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
   /** Jobs fetched per poll, and parallel fetch loops in one worker process. */
   batchSize: number;
   concurrency: number;
+  /**
+   * Jobs of one batch with equal payloads do one run between them: true only for a handler that takes in
+   * everything new for its payload whenever it runs (the chart watch), so one run serves every job that
+   * was queued before the batch was fetched. If that run throws, each of its jobs fails (and is retried).
+   */
+  coalesce?: boolean;
   handler: (deps: WorkerDeps, payload: z.infer<(typeof queues)[K]['payload']>) => Promise<unknown>;
 }
 
@@ -27,6 +33,6 @@ export const jobRegistry: JobDef[] = [
   job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
   job({ queue: 'travelerRender', batchSize: 8, concurrency: 2, handler: runTravelerRender }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
-  job({ queue: 'chartWatch', batchSize: 20, concurrency: 1, handler: runChartWatch }),
+  job({ queue: 'chartWatch', batchSize: 100, concurrency: 1, coalesce: true, handler: runChartWatch }),
   job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];

@@ -9,9 +9,25 @@ import { jobRegistry } from './registry';
 import type { WorkerDeps } from './worker-deps';
 
 /**
+ * The runs a fetched batch makes, in order: one a job, or with `coalesce` one for each distinct payload
+ * (its jobs together, the first job's place deciding the order).
+ */
+export function runsOf<J extends { data?: unknown }>(jobs: J[], coalesce: boolean): J[][] {
+  if (!coalesce) return jobs.map((j) => [j]);
+  const runs = new Map<string, J[]>();
+  for (const j of jobs) {
+    const key = JSON.stringify(j.data ?? {});
+    const run = runs.get(key);
+    if (run) run.push(j);
+    else runs.set(key, [j]);
+  }
+  return [...runs.values()];
+}
+
+/**
  * The worker process: serves every queue in the registry. Each job's payload is validated against
- * its queue schema; a job that throws is failed alone (the rest of its batch completes) and pg-boss
- * retries it with the registry's policy. Producers NOTIFY on JOBS_WAKE_CHANNEL at commit, and the
+ * its queue schema; a job that throws is failed alone (the rest of its batch completes; the jobs of a
+ * coalesced run fail together) and pg-boss retries it with the registry's policy. Producers NOTIFY on JOBS_WAKE_CHANNEL at commit, and the
  * worker wakes the matching fetch loops at once instead of waiting for the next poll.
  */
 export async function startWorker(opts: {
@@ -53,13 +69,15 @@ export async function startWorker(opts: {
         def.name,
         { pollingIntervalSeconds: 2, batchSize: job.batchSize },
         async (jobs) => {
-          for (const j of jobs) {
+          for (const run of runsOf(jobs, job.coalesce ?? false)) {
             try {
-              const payload = def.payload.parse(j.data ?? {});
+              const payload = def.payload.parse(run[0].data ?? {});
               await job.handler(deps, payload as never);
             } catch (err) {
-              logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
-              await queue.boss.fail(def.name, j.id, { message: (err as Error).message ?? String(err) });
+              for (const j of run) {
+                logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
+                await queue.boss.fail(def.name, j.id, { message: (err as Error).message ?? String(err) });
+              }
             }
           }
           // A full batch means more may be waiting (a backlog): fetch again at once. pg-boss 10 would

@@ -161,6 +161,26 @@ function postmasterPid(dataDir: string): number | undefined {
   }
 }
 
+/**
+ * Transactions the bench database has ended so far (commits and rollbacks). Nearly every statement on
+ * the line's path is a transaction of its own, so the count per unit follows its round trips. A backend
+ * reports its counts within a second while busy and within ten seconds once idle (PostgreSQL 15), so the
+ * count is read after waiting that long.
+ */
+async function transactionCount(url: string): Promise<number> {
+  await new Promise((r) => setTimeout(r, 11_000));
+  const c = new pg.Client({ connectionString: url });
+  await c.connect();
+  try {
+    const { rows } = await c.query<{ n: string }>(
+      'select xact_commit + xact_rollback as n from pg_stat_database where datname = current_database()',
+    );
+    return Number(rows[0].n);
+  } finally {
+    await c.end();
+  }
+}
+
 const services: Service[] = [];
 const started: { pg: Awaited<ReturnType<typeof ensurePostgres>> | null } = { pg: null };
 
@@ -396,6 +416,7 @@ async function main(): Promise<number> {
     stations: process.cpuUsage().user / 1e6 + process.cpuUsage().system / 1e6,
   });
   const cpuBefore = cpuNow();
+  const xactsBefore = await transactionCount(ownerUrl.toString());
   const watch = await watchTravelers(databaseUrl);
   watch.start();
   const closed = await closedLoop(stations, CLOSED_POSTS, 'LOAD');
@@ -417,6 +438,8 @@ async function main(): Promise<number> {
   );
 
   const cpuAfter = cpuNow();
+  const xactsPerUnit =
+    ((await transactionCount(ownerUrl.toString())) - xactsBefore) / Math.max(1, closed.results);
   const cpuPerUnitMs = Object.fromEntries(
     Object.entries(cpuAfter).map(([k, v]) => [
       k,
@@ -430,6 +453,10 @@ async function main(): Promise<number> {
       `compute worker ${cpuPerUnitMs.worker} ms, renderer ${cpuPerUnitMs.renderer} ms, PostgreSQL ${cpuPerUnitMs.postgres} ms ` +
       `→ ${productMs.toFixed(1)} ms a unit, ${(1000 / productMs).toFixed(0)} units a second per core of this machine` +
       ` (the simulated stations in this process: ${cpuPerUnitMs.stations} ms); load average ${load()}`,
+  );
+  log(
+    `transactions per unit over the same span (PostgreSQL's commits and rollbacks in the bench database, ` +
+      `pg-boss's polling and the traveler backlog included): ${xactsPerUnit.toFixed(1)}`,
   );
 
   const sizes = await storageSizes(ownerUrl.toString());
@@ -470,6 +497,7 @@ async function main(): Promise<number> {
       },
       bytesPerUnit: sizes,
       cpuPerUnitMs,
+      transactionsPerUnit: Math.round(xactsPerUnit * 10) / 10,
       loadAverage: loadavg(),
       openLoop: {
         ratePerSecond: OPEN_RATE,

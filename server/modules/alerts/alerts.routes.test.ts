@@ -72,8 +72,16 @@ describe('watched charts on the demo line', () => {
     expect(new Set(keys).size).toBe(keys.length);
   });
 
-  it('takes nothing twice when the watch runs again', async () => {
-    expect(await watchAll()).toBe(0);
+  it('takes nothing twice when the watch runs again, and writes nothing then', async () => {
+    const before = await t.database.pool.query(`select id, updated_at, state from watched_charts order by id`);
+    t.setNow(new Date(NOW.getTime() + 60_000));
+    try {
+      expect(await watchAll()).toBe(0);
+    } finally {
+      t.setNow(NOW);
+    }
+    const after = await t.database.pool.query(`select id, updated_at, state from watched_charts order by id`);
+    expect(after.rows).toEqual(before.rows);
   });
 
   it('mails subscribed engineers about new alerts', () => {

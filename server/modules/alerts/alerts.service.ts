@@ -14,7 +14,7 @@ import {
   type AlertPoint,
   type WatchedChartRecord,
 } from './alerts.table';
-import { alreadySeen, initialWatchState, watchStep, type WatchHit } from './alerts.watch';
+import { alreadySeen, initialWatchState, watchStep, type WatchHit, type WatchState } from './alerts.watch';
 
 /** Points kept on one alert (the first ones and the latest ones matter; the count says how many more). */
 const MAX_ALERT_POINTS = 50;
@@ -74,31 +74,31 @@ export async function watchStationModel(
   deps: WatchDeps,
   key: { stationId: string; modelId: string },
 ): Promise<{ taken: number; raised: number }> {
-  await ensureDefaultCharts(deps.db, key.stationId, key.modelId, deps.clock());
   let taken = 0;
   const raised: RaisedAlert[] = [];
+  const pairCharts = (tx: DbOrTx) =>
+    tx
+      .select()
+      .from(watchedCharts)
+      .where(
+        and(
+          eq(watchedCharts.stationId, key.stationId),
+          eq(watchedCharts.modelId, key.modelId),
+          ne(watchedCharts.kind, 'qualification'),
+        ),
+      )
+      .orderBy(watchedCharts.kind)
+      .for('update');
   for (;;) {
     const batch = await deps.db.transaction(async (tx) => {
-      const charts = await tx
-        .select()
-        .from(watchedCharts)
-        .where(
-          and(
-            eq(watchedCharts.stationId, key.stationId),
-            eq(watchedCharts.modelId, key.modelId),
-            ne(watchedCharts.kind, 'qualification'),
-            eq(watchedCharts.watched, true),
-          ),
-        )
-        .orderBy(watchedCharts.kind)
-        .for('update');
+      let all = await pairCharts(tx);
+      // The default charts are made the first time a pair is watched (and again if one went missing).
+      if (DEFAULT_CHARTS.some((d) => !all.some((c) => c.kind === d.kind))) {
+        await ensureDefaultCharts(tx, key.stationId, key.modelId, deps.clock());
+        all = await pairCharts(tx);
+      }
+      const charts = all.filter((c) => c.watched);
       if (!charts.length) return 0;
-      // Frozen offset limits of the station (else of the model) replace each chart's own limits while in force.
-      const limits = await limitsInForce(tx, { ...key, figure: 'offsetDeg' });
-      const frozen =
-        limits && limits.center !== null && limits.sigma !== null
-          ? { id: limits.id, center: limits.center, sigma: limits.sigma }
-          : null;
       // Every chart of the pair moves together; the oldest cursor decides where to read from.
       const cursors = charts.map((c) => c.state.cursor);
       const oldest = cursors.some((c) => c === null)
@@ -109,6 +109,15 @@ export async function watchStationModel(
         after: oldest ? { at: new Date(oldest.at), id: oldest.id } : null,
         limit: BATCH,
       });
+      // Nothing new (a run whose calibrations an earlier run took in already): nothing to write.
+      if (!rows.length) return 0;
+      // Frozen offset limits of the station (else of the model) replace each chart's own limits while in force.
+      const limits = await limitsInForce(tx, { ...key, figure: 'offsetDeg' });
+      const frozen =
+        limits && limits.center !== null && limits.sigma !== null
+          ? { id: limits.id, center: limits.center, sigma: limits.sigma }
+          : null;
+      const changed: { id: string; state: WatchState }[] = [];
       for (const chart of charts) {
         let state = chart.state;
         for (const r of rows) {
@@ -146,10 +155,14 @@ export async function watchStationModel(
             if (id) raised.push({ alertId: id, chart, hit });
           }
         }
-        await tx
-          .update(watchedCharts)
-          .set({ state, updatedAt: deps.clock() })
-          .where(eq(watchedCharts.id, chart.id));
+        if (state !== chart.state) changed.push({ id: chart.id, state });
+      }
+      // Every chart whose state moved, in one statement.
+      if (changed.length) {
+        await tx.execute(sql`
+          update ${watchedCharts} set state = v.state, updated_at = ${deps.clock()}
+            from jsonb_to_recordset(${JSON.stringify(changed)}::jsonb) as v(id uuid, state jsonb)
+           where ${watchedCharts.id} = v.id`);
       }
       return rows.length;
     });

@@ -1,4 +1,4 @@
-import { and, desc, eq, sql } from 'drizzle-orm';
+import { and, desc, eq, inArray, sql } from 'drizzle-orm';
 import type { DbOrTx } from '#server/db/client';
 import { controlLimitSets, type ControlLimitSetRecord } from './analysis.table';
 
@@ -39,6 +39,30 @@ export async function newestLimitVersion(db: DbOrTx, s: LimitScope): Promise<Con
       ),
     )
     .orderBy(desc(controlLimitSets.version))
+    .limit(1);
+  return row ?? null;
+}
+
+/**
+ * The station's newest version if it has any, else the model's newest (null when neither was ever saved),
+ * in one query: the station's own scope sorts first.
+ */
+export async function newestStationOrModelVersion(
+  db: DbOrTx,
+  s: LimitScope,
+): Promise<ControlLimitSetRecord | null> {
+  const scopes = s.stationId ? [scopeKey(s.stationId), scopeKey(null)] : [scopeKey(null)];
+  const [row] = await db
+    .select()
+    .from(controlLimitSets)
+    .where(
+      and(
+        eq(controlLimitSets.modelId, s.modelId),
+        inArray(controlLimitSets.scope, scopes),
+        eq(controlLimitSets.figure, s.figure),
+      ),
+    )
+    .orderBy(sql`${controlLimitSets.scope} = ${scopeKey(null)}`, desc(controlLimitSets.version))
     .limit(1);
   return row ?? null;
 }

@@ -16,7 +16,12 @@ import type {
 } from '#shared/schemas/analysis';
 import type { ControlLimitSetRecord } from './analysis.table';
 import { analysisErrors, limitErrors } from './analysis.errors';
-import { appendLimitVersion, limitVersions, newestLimitVersion } from './control-limits.repository';
+import {
+  appendLimitVersion,
+  limitVersions,
+  newestLimitVersion,
+  newestStationOrModelVersion,
+} from './control-limits.repository';
 
 /** Values read from a baseline window at most (newest first); a longer window is cut to its newest. */
 const BASELINE_MAX_POINTS = 50_000;
@@ -75,12 +80,8 @@ export async function limitsInForce(
   db: DbOrTx,
   s: { modelId: string; stationId: string | null; figure: string },
 ): Promise<ControlLimitSetRecord | null> {
-  if (s.stationId) {
-    const own = await newestLimitVersion(db, s);
-    if (own) return own.cleared ? null : own;
-  }
-  const model = await newestLimitVersion(db, { ...s, stationId: null });
-  return model && !model.cleared ? model : null;
+  const newest = await newestStationOrModelVersion(db, s);
+  return newest && !newest.cleared ? newest : null;
 }
 
 /** Frozen limits as a chart's baseline, or null. */

@@ -5,6 +5,7 @@ import { createLineFixture } from '#tests/harness/line-fixtures';
 import { simulatedMeasurement } from '#tests/harness/measurements';
 import type { Recipe } from '#shared/schemas/recipe';
 import { computeCalibration, type MeasurementsContext } from './measurements.service';
+import { forgetCachedStationKeys } from '../stations/stations.service';
 import { simulateCapture } from '#shared/simulation/capture-sim';
 import { createRng } from '#shared/simulation/rng';
 
@@ -204,6 +205,35 @@ describe('posting a measurement', () => {
     // The station's other key still works during the rotation.
     expect((await post(line.key, simulatedMeasurement(recipe, 'SN-KEY-4'))).status).toBe(202);
   });
+
+  it('marks the station seen and the key used when a key is presented, and a revoked key neither', async () => {
+    const pool = t.database.ownerPool();
+    await pool.query(`update stations set last_seen_at = null where id = $1`, [other.station.id]);
+    await pool.query(`update station_keys set last_used_at = null where station_id = $1`, [other.station.id]);
+    forgetCachedStationKeys();
+    const beat = await request(t.app).post('/api/station/heartbeat').set('X-Station-Key', other.key);
+    expect(beat.status).toBe(200);
+    const seen = await pool.query(
+      `select s.last_seen_at is not null as seen, k.last_used_at is not null as used
+         from stations s join station_keys k on k.station_id = s.id where s.id = $1`,
+      [other.station.id],
+    );
+    expect(seen.rows).toEqual([{ seen: true, used: true }]);
+    await pool.query(`update stations set last_seen_at = null where id = $1`, [other.station.id]);
+    await pool.query(`update station_keys set last_used_at = null, revoked_at = now() where station_id = $1`, [
+      other.station.id,
+    ]);
+    forgetCachedStationKeys();
+    expect((await request(t.app).post('/api/station/heartbeat').set('X-Station-Key', other.key)).status).toBe(401);
+    const unseen = await pool.query(
+      `select s.last_seen_at is null as unseen, k.last_used_at is null as unused
+         from stations s join station_keys k on k.station_id = s.id where s.id = $1`,
+      [other.station.id],
+    );
+    expect(unseen.rows).toEqual([{ unseen: true, unused: true }]);
+    await pool.query(`update station_keys set revoked_at = null where station_id = $1`, [other.station.id]);
+    forgetCachedStationKeys();
+  });
 });
 
 describe('stations stay in their own lane', () => {
@@ -296,6 +326,82 @@ describe('results', () => {
       ]),
     ).toBe(1);
     expect(await count('units', `serial = 'SN-TWICE' and attempts = 1`)).toBe(1);
+  });
+
+  it('numbers two attempts of one unit computed at the same moment 1 and 2, and counts both', async () => {
+    // Offset 18° is just outside the test recipe's ±15° window: two failed attempts, no hold yet.
+    const first = simulatedMeasurement(recipe, 'SN-RACE', { offsetDeg: 18, seed: 201 });
+    const second = simulatedMeasurement(recipe, 'SN-RACE', { offsetDeg: 18, seed: 202 });
+    expect((await post(line.key, first)).status).toBe(202);
+    expect((await post(line.key, second)).status).toBe(202);
+    // Both jobs read the unit before either commits (a third connection holds the unit's row until both
+    // wait on it); the second commit must not reuse attempt 1.
+    const blocker = await t.database.pool.connect();
+    await blocker.query('begin');
+    await blocker.query(`select 1 from units where serial = 'SN-RACE' for update`);
+    const both = Promise.all([computeQueued(first.measurementId), computeQueued(second.measurementId)]);
+    // Asked outside the blocker's transaction, which would keep seeing its first snapshot of the activity.
+    for (let waiting = 0; waiting < 2; ) {
+      await new Promise((r) => setTimeout(r, 20));
+      const { rows } = await t.database.pool.query(
+        `select count(*)::int as n from pg_stat_activity where datname = current_database() and wait_event_type = 'Lock'`,
+      );
+      waiting = rows[0].n;
+    }
+    await blocker.query('rollback');
+    blocker.release();
+    await both;
+    const { rows } = await t.database.pool.query(
+      `select c.attempt from calibrations c join units u on u.id = c.unit_id where u.serial = 'SN-RACE' order by c.attempt`,
+    );
+    expect(rows.map((r) => r.attempt)).toEqual([1, 2]);
+    expect(await count('units', `serial = 'SN-RACE' and attempts = 2 and status = 'failed'`)).toBe(1);
+  });
+
+  it('records a confirmation that matches the computed counts once, with its event, and shows it confirmed', async () => {
+    const m = simulatedMeasurement(recipe, 'SN-PROGRAM-OK');
+    await post(line.key, m);
+    await computeQueued(m.measurementId);
+    const events: string[] = [];
+    const stop = t.deps.events.subscribe((e) => {
+      if (e.type === 'programming.confirmed') events.push(JSON.stringify(e));
+    });
+    try {
+      const res = await request(t.app)
+        .get(`/api/station/measurements/${m.measurementId}/result`)
+        .set('X-Station-Key', line.key);
+      const counts = res.body.calibration.offsetCounts as number;
+      const ok = await request(t.app)
+        .post(`/api/station/measurements/${m.measurementId}/programming`)
+        .set('X-Station-Key', line.key)
+        .send({ writtenCounts: counts, readBackCounts: counts, checksum: 'C3D4' });
+      expect(ok.status).toBe(200);
+      expect(ok.body).toMatchObject({ matches: true, expectedCounts: counts });
+      const rows = await t.database.pool.query(
+        `select p.matches, p.expected_counts, p.checksum from programming_confirmations p
+           join calibrations c on c.id = p.calibration_id join measurements m on m.id = c.measurement_pk
+          where m.measurement_id = $1`,
+        [m.measurementId],
+      );
+      expect(rows.rows).toEqual([{ matches: true, expected_counts: counts, checksum: 'C3D4' }]);
+      const after = await request(t.app)
+        .get(`/api/station/measurements/${m.measurementId}/result`)
+        .set('X-Station-Key', line.key);
+      expect(after.body.calibration.programming.status).toBe('confirmed');
+      // The event comes back through the database's NOTIFY.
+      for (let i = 0; i < 50 && !events.length; i++) await new Promise((r) => setTimeout(r, 20));
+      expect(events.map((e) => JSON.parse(e))).toEqual([
+        expect.objectContaining({ type: 'programming.confirmed', serial: 'SN-PROGRAM-OK', matches: true }),
+      ]);
+    } finally {
+      stop();
+    }
+    // Another station cannot confirm it.
+    const foreign = await request(t.app)
+      .post(`/api/station/measurements/${m.measurementId}/programming`)
+      .set('X-Station-Key', other.key)
+      .send({ writtenCounts: 1, readBackCounts: 1 });
+    expect(foreign.status).toBe(404);
   });
 
   it('flags the unit when the value read back differs from the one computed', async () => {

@@ -10,7 +10,10 @@ import { programmingConfirmationSchema, recomputeSchema } from '#shared/schemas/
 import { measurementIdSchema, measurementSchema } from '#shared/schemas/measurement';
 import { serialSchema } from '#shared/schemas/serial';
 import { recordHeartbeat } from '../stations/stations.service';
-import { assertProductionAllowed } from '../qualification/qualification.service';
+import {
+  assertProductionAllowed,
+  assertProductionAllowedGiven,
+} from '../qualification/qualification.service';
 import { measurementIdTaken } from './measurements.repository';
 import { notifyLineEvent } from '../events/event-hub';
 import multer from 'multer';
@@ -81,8 +84,15 @@ export function measurementsRoutes(deps: AppDeps) {
         200: { description: 'A repeat of a computed measurement', schema: measurementAcceptedSchema },
       },
       handle: async ({ caller }, res, req) => {
-        await gateNew(caller.station.stationId, req.body?.measurementId, req.body?.serial);
-        const accepted = await acceptMeasurement(ctx, caller.station, req.body, { raw: req.rawBody });
+        const stationId = caller.station.stationId;
+        // The gate's facts come with the intake's first statement (a repeat skips the gate there).
+        const accepted = await acceptMeasurement(ctx, caller.station, req.body, {
+          raw: req.rawBody,
+          gate: {
+            judge: (facts, serial) => assertProductionAllowedGiven(gate, stationId, serial, facts),
+            beforeRefusingBody: () => gateNew(stationId, req.body?.measurementId, req.body?.serial),
+          },
+        });
         res
           .status(accepted.repeated && accepted.status === 'computed' ? 200 : 202)
           .location(accepted.resultUrl)

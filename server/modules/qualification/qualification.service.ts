@@ -214,13 +214,39 @@ export async function assertProductionAllowed(
   serial: string | undefined,
 ): Promise<void> {
   // One cheap statement answers the common case (no policy, not a reference unit).
-  const { rows } = await deps.pool.query<{ has_policy: boolean; reference: boolean }>(
-    `select exists (select 1 from qualification_policies where station_id = $1) as has_policy,
-            exists (select 1 from reference_units where serial = $2 and retired_at is null) as reference`,
+  const { rows } = await deps.pool.query<ProductionFacts>(
+    `select ${productionFactsSql('$1', '$2')}`,
     [stationId, serial ?? ''],
   );
-  if (rows[0].reference) throw qualificationErrors.referenceAtProduction(serial!);
-  if (!rows[0].has_policy) return;
+  await assertProductionAllowedGiven(deps, stationId, serial, rows[0]);
+}
+
+/** What the production gate needs to know first, as `productionFactsSql` selects it. */
+export interface ProductionFacts {
+  has_policy: boolean;
+  reference_unit: boolean;
+}
+
+/**
+ * The gate's facts as two select-list columns (`has_policy`, `reference_unit`), for a statement that
+ * gathers them beside its own (the station intake's first statement): the gate then costs no round trip
+ * of its own in the common case. The arguments are SQL (placeholders) giving the station's id and the
+ * normalised serial.
+ */
+export function productionFactsSql(stationIdSql: string, serialSql: string): string {
+  return `exists (select 1 from qualification_policies where station_id = ${stationIdSql}) as has_policy,
+          exists (select 1 from reference_units where serial = ${serialSql} and retired_at is null) as reference_unit`;
+}
+
+/** The gate (see `assertProductionAllowed`) from facts read already; reads more only under a policy. */
+export async function assertProductionAllowedGiven(
+  deps: Pick<QualificationDeps, 'db' | 'pool' | 'clock' | 'timeZone'>,
+  stationId: string,
+  serial: string | undefined,
+  facts: ProductionFacts,
+): Promise<void> {
+  if (facts.reference_unit) throw qualificationErrors.referenceAtProduction(serial!);
+  if (!facts.has_policy) return;
   const state = await stationQualification(deps, stationId);
   if (state.decision.locked) {
     throw qualificationErrors.locked(state.kind === 'failed' ? 'failed' : 'overdue', state.sentence);

@@ -29,7 +29,14 @@ export function forgetCachedStationKeys(): void {
   keyCache.clear();
 }
 
-/** Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the station seen. */
+/** How often a busy station's "last seen" (and its key's "last used") is written at most. */
+const SEEN_WRITE_MS = 5000;
+
+/**
+ * Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the station seen.
+ * Each costs one statement when it costs any: the lookup of a key not cached writes "last seen" with it,
+ * and a cached key's station and key rows are written together, at most every SEEN_WRITE_MS.
+ */
 export async function authenticateStationKey(
   db: Db,
   key: string,
@@ -39,23 +46,31 @@ export async function authenticateStationKey(
   const t = now.getTime();
   let entry = keyCache.get(hash);
   if (!entry || t - entry.fetchedAt > KEY_CACHE_MS || t < entry.fetchedAt) {
-    const [row] = await db
-      .select({ keyId: stationKeys.id, stationId: stations.id, stationName: stations.name })
-      .from(stationKeys)
-      .innerJoin(stations, eq(stations.id, stationKeys.stationId))
-      .where(and(eq(stationKeys.keyHash, hash), isNull(stationKeys.revokedAt)));
+    const { rows } = await db.execute<{ keyId: string; stationId: string; stationName: string }>(sql`
+      with k as (
+        update ${stationKeys} set last_used_at = ${now}
+         where key_hash = ${hash} and revoked_at is null
+         returning id, station_id
+      ), s as (
+        update ${stations} set last_seen_at = ${now} from k where ${stations.id} = k.station_id
+        returning ${stations.id}, ${stations.name}
+      )
+      select k.id as "keyId", s.id as "stationId", s.name as "stationName" from k join s on s.id = k.station_id`);
+    const row = rows[0];
     if (!row) {
       keyCache.delete(hash);
       return null;
     }
-    entry = { principal: row, fetchedAt: t, seenWrittenAt: entry?.seenWrittenAt ?? 0 };
+    entry = { principal: { ...row }, fetchedAt: t, seenWrittenAt: t };
     keyCache.set(hash, entry);
+    return entry.principal;
   }
   // "Last seen" is written at most every 5 s per key, so busy stations do not write on every call.
-  if (t - entry.seenWrittenAt > 5000 || t < entry.seenWrittenAt) {
+  if (t - entry.seenWrittenAt > SEEN_WRITE_MS || t < entry.seenWrittenAt) {
     entry.seenWrittenAt = t;
-    await db.update(stations).set({ lastSeenAt: now }).where(eq(stations.id, entry.principal.stationId));
-    await db.update(stationKeys).set({ lastUsedAt: now }).where(eq(stationKeys.id, entry.principal.keyId));
+    await db.execute(sql`
+      with s as (update ${stations} set last_seen_at = ${now} where ${stations.id} = ${entry.principal.stationId})
+      update ${stationKeys} set last_used_at = ${now} where ${stationKeys.id} = ${entry.principal.keyId}`);
   }
   return entry.principal;
 }

@@ -23,9 +23,15 @@ export interface MeasurementToCompute {
   payload_raw: string | null;
   /** The calibration of this (measurement, recipe, engine) when the job ran before. */
   done_id: string | null;
+  /** The unit's attempts and serial as the claim read them (unlocked: the commit checks they still hold). */
+  unit_attempts: number;
+  unit_serial: string;
 }
 
-/** The measurement, whether this job already ran, and the "computing" event, in one statement. */
+/**
+ * The measurement, its unit's attempts so far, whether this job already ran, and the "computing" event,
+ * in one statement.
+ */
 const claimStatement = namedStatement<{
   measurementPk: string;
   recipeId: string;
@@ -36,11 +42,11 @@ const claimStatement = namedStatement<{
   `with d as (select id from calibrations where measurement_pk = $measurementPk and recipe_id = $recipeId and engine_version = $engineVersion)
      select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source, m.payload,
             case when m.source = 'capture' then m.payload_raw end as payload_raw,
-            (select id from d) as done_id,
+            (select id from d) as done_id, u.attempts as unit_attempts, u.serial as unit_serial,
             case when not exists (select 1 from d) then pg_notify($eventsChannel, json_build_object(
               'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
               'serial', m.serial, 'measurementId', m.measurement_id, 'at', $atText::text)::text) end as notified
-       from measurements m where m.id = $measurementPk`,
+       from measurements m join units u on u.id = m.unit_id where m.id = $measurementPk`,
 );
 
 export async function claimMeasurement(
@@ -99,18 +105,32 @@ export interface StationCalibrationCommit {
   modelId: string;
   /** false for a queue that sends nothing (the demo seed). */
   sendsJobs: boolean;
+  /**
+   * The unit's attempts the new state was worked out from, when the statement runs on its own (no
+   * transaction holding the unit's lock): nothing is written unless the unit still has them. null when
+   * the caller's transaction has locked the unit already.
+   */
+  expectedAttempts: number | null;
 }
 
 /**
- * The calibration, the unit's status and the commit event in one statement; nothing changes if this
- * (measurement, recipe) pair was computed meanwhile (no row comes back).
+ * The calibration, the unit's status and the commit event in one statement; nothing changes (no row comes
+ * back) if this (measurement, recipe) pair was computed meanwhile, or if the unit no longer has
+ * `expectedAttempts` (another calibration of it committed since they were read). The unit's row is locked
+ * first (`g`): a concurrent calibration of the same unit waits for this one's commit, and then finds the
+ * attempts it expected gone (PostgreSQL re-checks a locked row's condition against its newest version).
  */
 const commitStatement = namedStatement<StationCalibrationCommit>(
-  `with c as (
+  `with g as (
+         select id from units
+          where id = $unitId and ($expectedAttempts::int is null or attempts = $expectedAttempts::int)
+          for update
+       ), c as (
          insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict,
                                    offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
-         values ($measurementPk, $recipeId, $unitId, $stationId, $engineVersion, $verdict,
-                 $offsetDeg, $offsetCounts, $attempt, $resultJson, $computeMs, $computedAt)
+         select $measurementPk, $recipeId, $unitId, $stationId, $engineVersion, $verdict,
+                $offsetDeg, $offsetCounts, $attempt, $resultJson, $computeMs, $computedAt
+          where exists (select 1 from g)
          on conflict do nothing returning id
        ), u as (
          update units set
@@ -143,9 +163,12 @@ const commitStatement = namedStatement<StationCalibrationCommit>(
          from c left join u on true`,
 );
 
-/** Commits a station calibration (see `StationCalibrationCommit`); its id, or undefined if it existed. */
+/**
+ * Commits a station calibration (see `StationCalibrationCommit`): on a pool it is a transaction of its
+ * own, on a client it joins that client's transaction. Its id, or undefined if nothing was written.
+ */
 export async function commitStationCalibration(
-  client: pg.PoolClient,
+  client: pg.Pool | pg.PoolClient,
   values: StationCalibrationCommit,
 ): Promise<{ id: string } | undefined> {
   const { rows } = await client.query<{ id: string }>(commitStatement(values));

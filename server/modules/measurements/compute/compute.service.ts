@@ -7,14 +7,20 @@ import { nextUnitState, placeAutomaticHold } from '#server/modules/quality/quali
 import { calibrationOfKey } from '#server/modules/calibrations/calibrations.repository';
 import type { MeasurementsContext } from '../measurements.context';
 import { recomputeCalibration, type RecomputeRequest } from '../recompute/recompute.service';
-import { claimMeasurement, commitStationCalibration, lockUnitForCalibration } from './compute.repository';
+import {
+  claimMeasurement,
+  commitStationCalibration,
+  lockUnitForCalibration,
+  type StationCalibrationCommit,
+} from './compute.repository';
 import { runEngine } from './run-engine';
 
 /**
  * Computes one measurement with one recipe version and commits the calibration, the unit's new
  * status, the follow-on traveler job and the event in one transaction. Safe to run twice: a second
  * run finds the calibration (unique per measurement and recipe version) and does nothing.
- * Round trips are kept few on purpose (each costs more than the computation itself).
+ * Round trips are kept few on purpose (each costs more than the computation itself): the usual
+ * calibration is two statements, the claim and the commit.
  */
 export async function computeCalibration(
   ctx: MeasurementsContext,
@@ -43,44 +49,66 @@ export async function computeCalibration(
     recipe,
   );
   const verdict = result?.verdict ?? 'unusable';
+  const counts = verdict !== 'unusable';
   const now = ctx.clock();
+  const stateAfter = (attemptsBefore: number) =>
+    counts ? nextUnitState(verdict as 'pass' | 'fail', attemptsBefore, recipe, result?.checks ?? []) : null;
+  const commitValues = (
+    unit: { attempts: number; serial: string },
+    next: ReturnType<typeof stateAfter>,
+    expectedAttempts: number | null,
+  ): StationCalibrationCommit => ({
+    measurementPk: measurement.id,
+    recipeId: recipe.id,
+    unitId: measurement.unit_id,
+    stationId: measurement.station_id,
+    engineVersion: ENGINE_VERSION,
+    verdict,
+    offsetDeg: result?.offsetDeg ?? null,
+    offsetCounts: result?.offsetCounts ?? null,
+    attempt: counts ? unit.attempts + 1 : null,
+    resultJson: JSON.stringify(stored),
+    computeMs,
+    computedAt: now,
+    unitAttempts: next?.attempts ?? 0,
+    unitStatus: next?.status ?? 'new',
+    holdReason: next?.holdReason ?? null,
+    passed: verdict === 'pass',
+    counts,
+    eventsChannel: EVENTS_CHANNEL,
+    serial: unit.serial,
+    measurementId: measurement.measurement_id,
+    computedAtText: now.toISOString(),
+    wakeChannel: JOBS_WAKE_CHANNEL,
+    travelerQueue: queues.travelerRender.name,
+    travelerPriority: travelerRenderPriority(now),
+    chartQueue: queues.chartWatch.name,
+    modelId: recipe.modelId,
+    sendsJobs: !ctx.queue.silent,
+    expectedAttempts,
+  });
+
+  // The usual case in one statement, its own transaction: the unit's next state is worked out from the
+  // attempts the claim read, and the statement writes only if the unit still has them. A hold (whose
+  // record and audit row go with it), a concurrent calibration of the same unit, or a second run of this
+  // job takes the transaction below, which locks the unit before reading it.
+  const guessed = stateAfter(measurement.unit_attempts);
+  if (guessed?.status !== 'on_hold') {
+    const committed = await commitStationCalibration(
+      ctx.pool,
+      commitValues(
+        { attempts: measurement.unit_attempts, serial: measurement.unit_serial },
+        guessed,
+        measurement.unit_attempts,
+      ),
+    );
+    if (committed) return { calibrationId: committed.id, created: true };
+  }
 
   const calibrationId = await withTransaction(ctx.pool, async ({ client, tx, discard }) => {
     const unit = await lockUnitForCalibration(client, measurement.unit_id);
-    const counts = verdict !== 'unusable';
-    const attempt = counts ? unit.attempts + 1 : null;
-    const next = counts
-      ? nextUnitState(verdict as 'pass' | 'fail', unit.attempts, recipe, result?.checks ?? [])
-      : null;
-    const inserted = await commitStationCalibration(client, {
-      measurementPk: measurement.id,
-      recipeId: recipe.id,
-      unitId: measurement.unit_id,
-      stationId: measurement.station_id,
-      engineVersion: ENGINE_VERSION,
-      verdict,
-      offsetDeg: result?.offsetDeg ?? null,
-      offsetCounts: result?.offsetCounts ?? null,
-      attempt,
-      resultJson: JSON.stringify(stored),
-      computeMs,
-      computedAt: now,
-      unitAttempts: next?.attempts ?? 0,
-      unitStatus: next?.status ?? 'new',
-      holdReason: next?.holdReason ?? null,
-      passed: verdict === 'pass',
-      counts,
-      eventsChannel: EVENTS_CHANNEL,
-      serial: unit.serial,
-      measurementId: measurement.measurement_id,
-      computedAtText: now.toISOString(),
-      wakeChannel: JOBS_WAKE_CHANNEL,
-      travelerQueue: queues.travelerRender.name,
-      travelerPriority: travelerRenderPriority(now),
-      chartQueue: queues.chartWatch.name,
-      modelId: recipe.modelId,
-      sendsJobs: !ctx.queue.silent,
-    });
+    const next = stateAfter(unit.attempts);
+    const inserted = await commitStationCalibration(client, commitValues(unit, next, null));
     if (!inserted) {
       // Computed meanwhile by another run of this job: keep nothing, answer with the winner below.
       discard();

@@ -2,6 +2,7 @@ import type pg from 'pg';
 import { namedStatement } from '#server/db/statement';
 import { jobInsertSql } from '#jobs/queue-client';
 import type { UnitRecord } from '#server/modules/units/units.table';
+import { productionFactsSql, type ProductionFacts } from '#server/modules/qualification/qualification.service';
 
 /**
  * The station intake's statements. They read and write the units, stations and models beside the
@@ -9,8 +10,8 @@ import type { UnitRecord } from '#server/modules/units/units.table';
  * round trip costs more than the work. Nothing else in the product builds SQL on those tables.
  */
 
-/** Everything the intake rules need about one post, gathered in one statement. */
-export interface IntakeContext {
+/** Everything the intake rules (and the qualification gate in front of them) need about one post, gathered in one statement. */
+export interface IntakeContext extends ProductionFacts {
   station_name: string;
   allowed_model_ids: string[];
   attended_by: string | null;
@@ -29,14 +30,18 @@ export interface IntakeContext {
   ex_computed: boolean | null;
 }
 
-/** A repeat of this id, the station, the unit (if known) and its model (or the station's only model). */
+/**
+ * A repeat of this id, the station, the unit (if known) and its model (or the station's only model), and
+ * the qualification gate's facts (the qualification module's SQL).
+ */
 const intakeContextStatement = namedStatement<{ stationId: string; serialKey: string; measurementId: string }>(
   `select s.name as station_name, s.allowed_model_ids, s.attended_by,
             u.id as unit_id, u.serial as unit_serial, u.status as unit_status, u.hold_reason,
             mo.id as model_id, mo.code as model_code, mo.active_recipe_id,
             ex.id as ex_id, ex.measurement_id as ex_measurement_id, ex.station_id as ex_station_id,
             ex.serial as ex_serial, ex.payload_sha256 as ex_sha256,
-            exists (select 1 from calibrations c where c.measurement_pk = ex.id) as ex_computed
+            exists (select 1 from calibrations c where c.measurement_pk = ex.id) as ex_computed,
+            ${productionFactsSql('$stationId', '$serialKey')}
        from stations s
        left join units u on upper(u.serial) = $serialKey
        left join models mo on mo.id = coalesce(u.model_id,

@@ -15,6 +15,7 @@ import { findStation } from '#server/modules/stations/stations.service';
 import { findUnitBySerial } from '#server/modules/units/units.service';
 import { registerSeenUnit } from '#server/modules/units/units.repository';
 import { latestCalibrationOfMeasurement } from '#server/modules/calibrations/calibrations.repository';
+import type { ProductionFacts } from '#server/modules/qualification/qualification.service';
 import { measurementErrors } from '../measurements.errors';
 import { measurementIdentity, type MeasurementIdentity } from '../measurements.repository';
 import type { MeasurementsContext } from '../measurements.context';
@@ -70,17 +71,34 @@ async function repeatedAnswer(
 }
 
 /**
+ * The gate a new measurement meets before the intake's own rules (the station's qualification). A repeat
+ * of a stored measurement skips it: the station lost the first answer, not the right to it.
+ */
+export interface IntakeGate {
+  /** Refuses the post, from the facts the intake's first statement gathered. */
+  judge(facts: ProductionFacts, serial: string): Promise<void>;
+  /** Runs before a body that does not parse is refused, so a locked station says so first. */
+  beforeRefusingBody(): Promise<void>;
+}
+
+/**
  * Accepts a station's measurement: validates it (shape, then usability against the unit's active
  * recipe), and stores it and enqueues its computation in one transaction, so neither can exist
- * without the other. Idempotent on `measurementId`, also under concurrent posts.
+ * without the other. Idempotent on `measurementId`, also under concurrent posts. With `gate`, a new
+ * measurement meets it first (without, the caller has gated the post already).
  */
 export async function acceptMeasurement(
   ctx: MeasurementsContext,
   station: StationPrincipal,
   body: unknown,
-  opts: { source?: 'timings' | 'capture'; raw?: string } = {},
+  opts: { source?: 'timings' | 'capture'; raw?: string; gate?: IntakeGate } = {},
 ): Promise<MeasurementAccepted> {
-  const measurement: Measurement = measurementSchema.parse(body);
+  const parsed = measurementSchema.safeParse(body);
+  if (!parsed.success) {
+    await opts.gate?.beforeRefusingBody();
+    throw parsed.error;
+  }
+  const measurement: Measurement = parsed.data;
   // zod's output has the schema's key order whatever the station's JSON library did, so its text is a
   // canonical form of the body (unknown keys, which the contract ignores, drop out).
   const canonical = JSON.stringify(measurement);
@@ -95,6 +113,7 @@ export async function acceptMeasurement(
     measurementId: measurement.measurementId,
   });
   if (c.ex_id) return repeatedAnswerFrom(c, digest, station);
+  await opts.gate?.judge(c, serialKey);
   if (!c.model_id) throw measurementErrors.unknownSerial(measurement.serial);
   if (!c.allowed_model_ids.includes(c.model_id)) {
     throw measurementErrors.modelNotAllowed(measurement.serial, c.model_code!, c.station_name);

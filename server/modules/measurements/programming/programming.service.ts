@@ -7,7 +7,7 @@ import { mismatchHoldReason, placeAutomaticHold } from '#server/modules/quality/
 import { calibrationErrors } from '#server/modules/calibrations/calibrations.errors';
 import { measurementErrors } from '../measurements.errors';
 import type { MeasurementsContext } from '../measurements.context';
-import { measurementToConfirm, recordProgramming, type ProgrammingRecord } from './programming.repository';
+import { confirmIfMatching, recordProgramming, type ProgrammingRecord } from './programming.repository';
 
 /** Records what the station wrote and read back; a mismatch flags the unit everywhere it is shown. */
 export async function confirmProgramming(
@@ -16,15 +16,27 @@ export async function confirmProgramming(
   measurementId: string,
   body: ProgrammingConfirmation,
 ) {
-  const m = await measurementToConfirm(ctx.pool, measurementId);
+  const now = ctx.clock();
+  // A match (the usual case) is recorded by the statement that reads the measurement: one round trip.
+  const m = await confirmIfMatching(ctx.pool, {
+    measurementId,
+    stationId: station.stationId,
+    writtenCounts: body.writtenCounts,
+    readBackCounts: body.readBackCounts,
+    checksum: body.checksum ?? null,
+    confirmedAt: now,
+    atText: now.toISOString(),
+    eventsChannel: EVENTS_CHANNEL,
+  });
   if (!m || m.station_id !== station.stationId) throw measurementErrors.notFound(measurementId);
   if (!m.cal_id) throw calibrationErrors.notComputed(measurementId);
   if (m.offset_counts === null) throw calibrationErrors.unusableResult(measurementId);
   const calibrationId = m.cal_id;
   const expected = m.offset_counts;
-  const matches = body.writtenCounts === expected && body.readBackCounts === expected;
-  const now = ctx.clock();
-  const reason = `expected ${expected}, written ${body.writtenCounts}, read back ${body.readBackCounts}`;
+  if (m.recorded) return { matches: true, expectedCounts: expected, confirmedAt: now.toISOString() };
+  // Not recorded, yet found and computed with counts: the values differ from the counts. The mismatch is
+  // recorded and puts the unit on hold (quality's containment), in one transaction.
+  const matches = false;
   const record: ProgrammingRecord = {
     calibrationId,
     unitId: m.unit_id!,
@@ -35,7 +47,7 @@ export async function confirmProgramming(
     checksum: body.checksum ?? null,
     matches,
     confirmedAt: now,
-    reason,
+    reason: `expected ${expected}, written ${body.writtenCounts}, read back ${body.readBackCounts}`,
     eventsChannel: EVENTS_CHANNEL,
     eventJson: JSON.stringify({
       type: 'programming.confirmed',
@@ -47,21 +59,15 @@ export async function confirmProgramming(
       at: now.toISOString(),
     } satisfies LineEvent),
   };
-  // A match is the one statement, atomic on its own, so it goes without a transaction (two round trips
-  // fewer); a mismatch also puts the unit on hold (quality's containment), in the same transaction.
-  if (matches) {
-    await recordProgramming(ctx.pool, record);
-  } else {
-    await withTransaction(ctx.pool, async ({ client, tx }) => {
-      await recordProgramming(client, record);
-      await placeAutomaticHold(tx, {
-        unitId: m.unit_id!,
-        reason: mismatchHoldReason(expected, body.writtenCounts, body.readBackCounts),
-        source: 'programming_mismatch',
-        now,
-        setUnit: true,
-      });
+  await withTransaction(ctx.pool, async ({ client, tx }) => {
+    await recordProgramming(client, record);
+    await placeAutomaticHold(tx, {
+      unitId: m.unit_id!,
+      reason: mismatchHoldReason(expected, body.writtenCounts, body.readBackCounts),
+      source: 'programming_mismatch',
+      now,
+      setUnit: true,
     });
-  }
+  });
   return { matches, expectedCounts: expected, confirmedAt: now.toISOString() };
 }
