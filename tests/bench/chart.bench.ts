@@ -16,8 +16,12 @@
 //   BENCH_CHART_CPU_THROTTLE=N  slows chromium's CPU N times (CDP Emulation.setCPUThrottlingRate; default 1)
 //   BENCH_CHART_PROFILE=DIR     writes a CPU profile per scenario (.cpuprofile, open in DevTools) and prints
 //                               the functions with the most self time in it
+//   BENCH_CHART_TRACE=DIR       keeps each run's chromium trace with the timeline's events (what each task did:
+//                               timers, script, layout, paint, GC), to open in DevTools' Performance panel
 //   BENCH_CHART_NO_BUILD=1      serves the client built by an earlier run
 //   BENCH_CHART_SHOT=FILE       keeps a screenshot of the chart view with its 10,000 points
+//   BENCH_CHART_AXE=1           prints axe-core's serious and critical findings on that view (first run, after
+//                               the figures of the load; the context lets the injected checker past the CSP)
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { availableParallelism, loadavg } from 'node:os';
 import { join } from 'node:path';
@@ -29,6 +33,7 @@ import { TSX, freePort, runStep, startService, waitForHttp, type Service } from 
 import { createDatabase } from '#server/db/client';
 import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
 import { createStation } from '#server/modules/stations/stations.service';
+import { seriousAxeFindings } from '#tests/browser/a11y-kit';
 
 process.env.PGPORT_BENCH ??= '55437';
 const POINTS = Number(process.env.BENCH_CHART_POINTS ?? 10_000);
@@ -36,6 +41,8 @@ const RUNS = Number(process.env.BENCH_CHART_RUNS ?? 3);
 const THROTTLE = Number(process.env.BENCH_CHART_CPU_THROTTLE ?? 1);
 const PROFILE_DIR = process.env.BENCH_CHART_PROFILE;
 const SHOT = process.env.BENCH_CHART_SHOT;
+const AXE = process.env.BENCH_CHART_AXE === '1';
+const TRACE_DIR = process.env.BENCH_CHART_TRACE;
 const SETTLE_MS = 1500;
 const DB_NAME = 'phasewright_bench_chart';
 // Not under .data: the server's static files refuse paths through a dot-folder.
@@ -207,9 +214,9 @@ function cpuOfScenarios(trace: { traceEvents: TraceEvent[] }, scenarios: Scenari
       e.name === 'ThreadControllerImpl::RunTask' &&
       e.dur !== undefined,
   );
-  scenarios.forEach((s, i) => {
+  scenarios.forEach((s) => {
     const from = marks.get(s.mark)?.ts;
-    const to = marks.get(scenarios[i + 1]?.mark ?? '')?.ts ?? Infinity;
+    const to = marks.get(`${s.mark}:end`)?.ts ?? Infinity;
     if (from === undefined) return;
     // The document's first tasks start just before its mark is set.
     const inside = tasks.filter((t) => t.ts + t.dur! >= from && t.ts < to);
@@ -268,7 +275,11 @@ async function oneRun(
   ids: { modelId: string; stationId: string },
   run: number,
 ) {
-  const context = await browser.newContext({ baseURL: baseUrl, viewport: { width: 1440, height: 900 } });
+  const context = await browser.newContext({
+    baseURL: baseUrl,
+    viewport: { width: 1440, height: 900 },
+    bypassCSP: AXE,
+  });
   await context.addInitScript(installLongTaskObserver);
   const page = await context.newPage();
   const pageErrors: string[] = [];
@@ -290,7 +301,13 @@ async function oneRun(
       chart: 'imr',
       limit: String(POINTS),
     });
-    await browser.startTracing(page, { categories: ['toplevel', 'blink.user_timing'] });
+    await browser.startTracing(page, {
+      categories: [
+        'toplevel',
+        'blink.user_timing',
+        ...(TRACE_DIR ? ['devtools.timeline', 'disabled-by-default-devtools.timeline', 'v8'] : []),
+      ],
+    });
     // A new document: its observer starts empty and catches every task from the navigation on.
     await profiled(cdp, `run${run}-load`, async () => {
       await page.goto(`/analysis?${query}`, { waitUntil: 'commit' });
@@ -300,6 +317,7 @@ async function oneRun(
       if (!points?.includes(`${POINTS} points`))
         throw new Error(`the chart does not show ${POINTS} points: "${points}"`);
       await settle(page);
+      await page.evaluate(() => performance.mark('bench:document:end'));
       scenarios.push({
         name: 'load (I-MR, 10,000 points)',
         tasks: await longTasksSince(page, 0),
@@ -313,6 +331,12 @@ async function oneRun(
       await page.screenshot({ path: SHOT, fullPage: false });
       log(`screenshot of the chart view: ${SHOT}`);
     }
+    if (run === 1 && AXE) {
+      const findings = await seriousAxeFindings(page);
+      log(
+        `axe-core on the chart view with ${POINTS} points: ${findings.length} serious or critical findings${findings.map((f) => `; ${f.id}: ${f.help} (${f.nodes.length} nodes)`).join('')}`,
+      );
+    }
 
     const step = async (name: string, act: () => Promise<void>, done: () => Promise<void>) =>
       profiled(cdp, `run${run}-${name.replace(/\W+/g, '-').toLowerCase()}`, async () => {
@@ -325,6 +349,7 @@ async function oneRun(
         await done();
         const readyMs = (await page.evaluate(() => performance.now())) - t0;
         await settle(page);
+        await page.evaluate((m) => performance.mark(`${m}:end`), mark);
         scenarios.push({ name, tasks: await longTasksSince(page, t0), readyMs, origin: t0, mark });
       });
 
@@ -356,10 +381,12 @@ async function oneRun(
       () => chart.selectOption('imr').then(() => undefined),
       () => chartsDrawn(page, /^Individuals: /),
     );
-    await page.evaluate(() => performance.mark('bench:end'));
-    scenarios.push({ name: 'end', tasks: [], readyMs: 0, origin: 0, mark: 'bench:end' });
-    cpuOfScenarios(JSON.parse((await browser.stopTracing()).toString('utf8')), scenarios);
-    scenarios.pop();
+    const trace = await browser.stopTracing();
+    if (TRACE_DIR) {
+      mkdirSync(TRACE_DIR, { recursive: true });
+      writeFileSync(join(TRACE_DIR, `run${run}.json`), trace);
+    }
+    cpuOfScenarios(JSON.parse(trace.toString('utf8')), scenarios);
     if (pageErrors.length) log(`page errors: ${pageErrors.join(' | ')}`);
   } finally {
     await context.close();

@@ -61,10 +61,17 @@ export function ControlChartPlot({ id, title, unit, points, center, ucl, lcl, he
         const labels: { cx: number; cy: number; text: string }[] = [];
         // A rule's number is written where it has room: beside the last one written it would be unreadable.
         let freeFrom = -Infinity;
+        // A marker is drawn once per small cell: thousands of flagged points among 10,000 fall on top of
+        // each other, and each one more costs the fill without changing what is seen.
+        const cell = Math.max(1, r / 3);
+        const taken = new Set<number>();
         for (const i of flagged) {
           if (i < i0 || i > i1) continue;
           const cx = u.valToPos(i + 1, 'x', true);
           const cy = u.valToPos(values[i], 'y', true);
+          const key = Math.round(cx / cell) * 1_000_000 + Math.round(cy / cell);
+          if (taken.has(key)) continue;
+          taken.add(key);
           ctx.moveTo(cx, cy - r);
           ctx.lineTo(cx + r, cy);
           ctx.lineTo(cx, cy + r);

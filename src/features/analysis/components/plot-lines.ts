@@ -5,7 +5,10 @@
  */
 export function sparseLine(values: number[]): (number | null)[] {
   const n = values.length;
-  return values.map((v, i) =>
-    i === 0 || i === n - 1 || v !== values[i - 1] || v !== values[i + 1] ? v : null,
-  );
+  const out: (number | null)[] = new Array<number | null>(n).fill(null);
+  for (let i = 0; i < n; i++) {
+    const v = values[i];
+    if (i === 0 || i === n - 1 || v !== values[i - 1] || v !== values[i + 1]) out[i] = v;
+  }
+  return out;
 }
