@@ -31,6 +31,7 @@ export const VIEW_KEYS = {
     'baselineFrom',
     'baselineTo',
     'limits',
+    'limit',
   ],
   comparison: ['by', 'threshold'],
   'line-health': [] as string[],
