@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '#tests/harness/test-app';
+import { closeDeep } from '#tests/harness/close-deep';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { OFF_HALL_BOARD_LOT } from '../demo/demo-line.scenario';
 import {
@@ -40,30 +41,6 @@ beforeAll(async () => {
 afterAll(async () => {
   await t?.close();
 });
-
-function close(actual: number | null | undefined, expected: number | null | undefined) {
-  if (expected === null || expected === undefined) {
-    expect(actual ?? null).toBeNull();
-    return;
-  }
-  expect(actual).not.toBeNull();
-  expect(Math.abs(actual! - expected)).toBeLessThanOrEqual(1e-9 * Math.max(1, Math.abs(expected)));
-}
-
-function closeDeep(actual: unknown, expected: unknown, path = ''): void {
-  if (typeof expected === 'number') return close(actual as number, expected);
-  if (expected === null || typeof expected !== 'object') {
-    expect(actual, path).toEqual(expected);
-    return;
-  }
-  if (Array.isArray(expected)) {
-    expect((actual as unknown[]).length, path).toBe(expected.length);
-    expected.forEach((e, i) => closeDeep((actual as unknown[])[i], e, `${path}[${i}]`));
-    return;
-  }
-  for (const [k, v] of Object.entries(expected))
-    closeDeep((actual as Record<string, unknown>)[k], v, `${path}.${k}`);
-}
 
 async function valuesOf(filter: AnalysisFilter) {
   return (await selectCalibrationFigures(t.deps.db, filter)).rows;

@@ -1,4 +1,5 @@
 import type { Selection } from './calibration-store';
+import type { DistributionAggregate, GroupAggregate } from './calibration-aggregates.repository';
 
 /**
  * The whole-model figures of the line statistics computed from the rows kept in memory (calibration-store.ts):
@@ -69,20 +70,6 @@ export function quantileSorted(sorted: Float64Array, p: number): number {
   return k + 1 < sorted.length ? sorted[k] + (pos - k) * (sorted[k + 1] - sorted[k]) : sorted[k];
 }
 
-export interface MemoryDistribution {
-  n: number;
-  mean: number | null;
-  ss2: number | null;
-  ss3: number | null;
-  min: number | null;
-  max: number | null;
-  q1: number | null;
-  median: number | null;
-  q3: number | null;
-  movingRangeSum: number | null;
-  histogram: { lo: number; step: number; counts: number[] } | null;
-  newest: number[];
-}
 
 /**
  * The distribution figures of a selection's values in production order (see distributionAggregate for what
@@ -92,7 +79,7 @@ export function distributionOf(
   values: Float64Array,
   extent: { lsl: number | null; usl: number | null } | null,
   newestCount: number,
-): MemoryDistribution {
+): DistributionAggregate {
   const n = values.length;
   if (n === 0)
     return {
@@ -155,19 +142,9 @@ export function distributionOf(
   };
 }
 
-export interface MemoryGroup {
-  key: string;
-  n: number;
-  mean: number;
-  sd: number | null;
-  q1: number;
-  median: number;
-  q3: number;
-  inLow: number | null;
-  inHigh: number | null;
-  outliers: number[];
-  newest: number[];
-}
+/** A group's figures as comparisonAggregate returns them, keyed by the grouping value ('' where not recorded). */
+type MemoryGroup = Omit<GroupAggregate, 'key' | 'label'> & { key: string };
+
 
 /** Splits a selection by a key per row: each group's values in production order. */
 export function groupValues(sel: Selection, keyOf: (row: number) => string): Map<string, Float64Array> {

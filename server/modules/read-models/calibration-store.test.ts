@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '#tests/harness/test-app';
+import { closeDeep } from '#tests/harness/close-deep';
 import { seedDemoLine } from '../demo/demo-line.seed';
 import { OFF_HALL_BOARD_LOT } from '../demo/demo-line.scenario';
 import { analysisFilterSchema, type AnalysisFilter, type CompareBy } from '#shared/schemas/analysis';
@@ -30,27 +31,6 @@ beforeAll(async () => {
 afterAll(async () => {
   await t?.close();
 });
-
-function closeDeep(actual: unknown, expected: unknown, path = ''): void {
-  if (typeof expected === 'number') {
-    expect(typeof actual, path).toBe('number');
-    expect(Math.abs((actual as number) - expected), path).toBeLessThanOrEqual(
-      1e-9 * Math.max(1, Math.abs(expected)),
-    );
-    return;
-  }
-  if (expected === null || typeof expected !== 'object') {
-    expect(actual, path).toEqual(expected);
-    return;
-  }
-  if (Array.isArray(expected)) {
-    expect((actual as unknown[]).length, path).toBe(expected.length);
-    expected.forEach((e, i) => closeDeep((actual as unknown[])[i], e, `${path}[${i}]`));
-    return;
-  }
-  for (const [k, v] of Object.entries(expected))
-    closeDeep((actual as Record<string, unknown>)[k], v, `${path}.${k}`);
-}
 
 const filter = (extra: Record<string, unknown> = {}): AnalysisFilter =>
   analysisFilterSchema.parse({ model: modelId, ...extra });
