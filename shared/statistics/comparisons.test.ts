@@ -1,5 +1,12 @@
 import { expect, it } from 'vitest';
-import { groupsBeyondThreshold, kruskalWallis, summarizeGroup, welchAnova, boxFigures } from './comparisons';
+import {
+  groupsBeyondThreshold,
+  groupsBeyondThresholdFromMeans,
+  kruskalWallis,
+  summarizeGroup,
+  welchAnova,
+  boxFigures,
+} from './comparisons';
 
 const A = [10.1, 9.8, 10.3, 10.0, 9.9, 10.2];
 const B = [10.8, 11.2, 10.5, 11.0, 10.9];
@@ -54,4 +61,16 @@ it('singles out the group whose mean is more than the threshold away from the re
   expect(out.map((g) => g.key)).toEqual(['lot 3']);
   expect(out[0].differenceFromRest).toBeCloseTo(4 - 0.1 / 3, 10);
   expect(groupsBeyondThreshold(groups, 5)).toEqual([]);
+});
+
+it('of two groups differing from each other by the same amount but for rounding, the first is singled out', () => {
+  // Common practice, no source: with two groups left, each differs from "the rest" (the other) by the same
+  // amount; in floating point these two are 0.5722753886130079 and 0.5722753886130088 here, and the pick
+  // must not depend on that last digit (nor on the order a mean's sum was added in).
+  const groups = [
+    { key: 'first', n: 7, mean: 5.480170387452592 },
+    { key: 'second', n: 13, mean: 4.907894998839584 },
+  ];
+  expect(groupsBeyondThresholdFromMeans(groups, 0.5).map((g) => g.key)).toEqual(['first']);
+  expect(groupsBeyondThresholdFromMeans([...groups].reverse(), 0.5).map((g) => g.key)).toEqual(['second']);
 });

@@ -209,7 +209,9 @@ export function groupsBeyondThresholdFromMeans(
     let worstD = 0;
     remaining.forEach((g, i) => {
       const d = g.mean - (total - g.mean * g.n) / (count - g.n);
-      if (Math.abs(d) > Math.abs(worstD)) {
+      // Differences equal but for rounding (two groups left differ from each other by the same amount) are a
+      // tie, and the first group keeps it: the pick must not hang on the order the sums were added in.
+      if (Math.abs(d) > Math.abs(worstD) * (1 + 1e-12) + 1e-12) {
         worst = i;
         worstD = d;
       }

@@ -7,6 +7,8 @@
 // STATISTICS_IN_MEMORY=false: the first view's time (reading the model's rows into memory) and the time of a
 // view right after new calibrations (catching up) are printed on their own. Prints figures; asserts nothing.
 import { Writable } from 'node:stream';
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { Session } from 'node:inspector/promises';
 import { cpus, loadavg } from 'node:os';
 import pg from 'pg';
 import { ensurePostgres } from '#server/ops/pg-local.mjs';
@@ -31,10 +33,21 @@ const ROWS = Number(process.env.BENCH_STATS_ROWS ?? 1_000_000);
 const RUNS = Number(process.env.BENCH_STATS_RUNS ?? 5);
 const DB_NAME = 'phasewright_bench_stats';
 const KEEP = process.env.BENCH_STATS_KEEP === '1';
+/** BENCH_STATS_PROFILE=dir writes a CPU profile of each view's timed runs there (open in chromium's DevTools). */
+const PROFILE_DIR = process.env.BENCH_STATS_PROFILE;
 
 let peakRssMb = 0;
+/** The peak since the last look (each stage's own peak is printed beside it). */
+let stagePeakMb = 0;
+function stagePeak() {
+  const peak = stagePeakMb;
+  stagePeakMb = process.memoryUsage().rss / 2 ** 20;
+  return peak.toFixed(0);
+}
 const sampler = setInterval(() => {
-  peakRssMb = Math.max(peakRssMb, process.memoryUsage().rss / 2 ** 20);
+  const rss = process.memoryUsage().rss / 2 ** 20;
+  peakRssMb = Math.max(peakRssMb, rss);
+  stagePeakMb = Math.max(stagePeakMb, rss);
 }, 50);
 
 function quantile(xs: number[], p: number) {
@@ -43,9 +56,21 @@ function quantile(xs: number[], p: number) {
 }
 
 /** Wall time of each run, and this process's CPU time (user + system) of each; `before` runs untimed. */
-async function timed(runs: number, fn: () => Promise<unknown>, before?: () => Promise<unknown>) {
+async function timed(
+  runs: number,
+  fn: () => Promise<unknown>,
+  before?: () => Promise<unknown>,
+  profileAs?: string,
+) {
   const ms: number[] = [];
   const cpu: number[] = [];
+  stagePeak();
+  const session = PROFILE_DIR && profileAs ? new Session() : null;
+  if (session) {
+    session.connect();
+    await session.post('Profiler.enable');
+    await session.post('Profiler.start');
+  }
   for (let i = 0; i < runs; i++) {
     await before?.();
     const c0 = process.cpuUsage();
@@ -55,7 +80,13 @@ async function timed(runs: number, fn: () => Promise<unknown>, before?: () => Pr
     const c = process.cpuUsage(c0);
     cpu.push((c.user + c.system) / 1000);
   }
-  return { p50: quantile(ms, 0.5), p95: quantile(ms, 0.95), cpu50: quantile(cpu, 0.5) };
+  if (session) {
+    const { profile } = await session.post('Profiler.stop');
+    mkdirSync(PROFILE_DIR!, { recursive: true });
+    writeFileSync(`${PROFILE_DIR}/${profileAs}.cpuprofile`, JSON.stringify(profile));
+    session.disconnect();
+  }
+  return { p50: quantile(ms, 0.5), p95: quantile(ms, 0.95), cpu50: quantile(cpu, 0.5), peakMb: stagePeak() };
 }
 
 /**
@@ -217,17 +248,27 @@ async function main() {
     useCalibrationStore(inMemory);
     if (inMemory) {
       const rss0 = process.memoryUsage().rss / 2 ** 20;
+      stagePeak();
       const c0 = performance.now();
       await distributionView(db, filter);
       console.log(
-        `first view since start (reads the model's ${ROWS.toLocaleString('en')} rows into memory): ${((performance.now() - c0) / 1000).toFixed(1)} s, RSS ${rss0.toFixed(0)} → ${(process.memoryUsage().rss / 2 ** 20).toFixed(0)} MB`,
+        `first view since start (reads the model's ${ROWS.toLocaleString('en')} rows into memory): ${((performance.now() - c0) / 1000).toFixed(1)} s, RSS ${rss0.toFixed(0)} → ${(process.memoryUsage().rss / 2 ** 20).toFixed(0)} MB (peak ${stagePeak()} MB)`,
       );
     } else console.log('STATISTICS_IN_MEMORY=false: every view is one SQL statement');
-    const rows: [string, { p50: number; p95: number; cpu50: number }, { p50: number; p95: number }][] = [];
+    const rows: [
+      string,
+      { p50: number; p95: number; cpu50: number; peakMb: string },
+      { p50: number; p95: number },
+    ][] = [];
 
     rows.push([
       'distribution + capability, all rows',
-      await timed(RUNS, () => distributionView(db, filter), () => oneMoreCalibration(pool)),
+      await timed(
+        RUNS,
+        () => distributionView(db, filter),
+        () => oneMoreCalibration(pool),
+        'distribution',
+      ),
       await timed(RUNS, () =>
         pool.query(
           `select count(*), avg(offset_deg), stddev_samp(offset_deg), min(offset_deg), max(offset_deg)
@@ -245,7 +286,12 @@ async function main() {
     });
     rows.push([
       'I-MR, one station, last 10,000, rules',
-      await timed(RUNS, () => controlChartView(db, chartQuery), () => oneMoreCalibration(pool)),
+      await timed(
+        RUNS,
+        () => controlChartView(db, chartQuery),
+        () => oneMoreCalibration(pool),
+        'chart',
+      ),
       await timed(RUNS, () =>
         pool.query(
           `select calibration_id, unit_id, serial, computed_at, offset_deg from calibration_stats
@@ -259,7 +305,12 @@ async function main() {
     const cmp = comparisonQuerySchema.parse({ model: model.id, by: 'hallBoardLot' });
     rows.push([
       'comparison by hall-board lot, all rows',
-      await timed(RUNS, () => comparisonView(db, cmp), () => oneMoreCalibration(pool)),
+      await timed(
+        RUNS,
+        () => comparisonView(db, cmp),
+        () => oneMoreCalibration(pool),
+        'comparison',
+      ),
       await timed(RUNS, () =>
         pool.query(
           `select hall_board_lot, count(*), avg(offset_deg), stddev_samp(offset_deg)
@@ -293,11 +344,11 @@ async function main() {
         .join(' / ');
     console.log(`load average (1 / 5 / 15 min) after the views: ${load()} on ${cpus().length} cores`);
     console.log(
-      'view (a new calibration before each run) | p50 ms | p95 ms | CPU p50 ms (this process) | target p95 | bare SQL p50 ms | bare SQL p95 ms | p95 ratio | target ratio',
+      'view (a new calibration before each run) | p50 ms | p95 ms | CPU p50 ms (this process) | peak RSS MB | target p95 | bare SQL p50 ms | bare SQL p95 ms | p95 ratio | target ratio',
     );
     for (const [name, view, bare] of rows)
       console.log(
-        `${name} | ${view.p50.toFixed(0)} | ${view.p95.toFixed(0)} | ${view.cpu50.toFixed(0)} | ≤ 300 ms ${view.p95 <= 300 ? 'met' : 'MISSED'} | ${bare.p50.toFixed(0)} | ${bare.p95.toFixed(0)} | ${(view.p95 / bare.p95).toFixed(1)}× | ≤ 2× ${view.p95 <= 2 * bare.p95 ? 'met' : 'MISSED'}`,
+        `${name} | ${view.p50.toFixed(0)} | ${view.p95.toFixed(0)} | ${view.cpu50.toFixed(0)} | ${view.peakMb} | ≤ 300 ms ${view.p95 <= 300 ? 'met' : 'MISSED'} | ${bare.p50.toFixed(0)} | ${bare.p95.toFixed(0)} | ${(view.p95 / bare.p95).toFixed(1)}× | ≤ 2× ${view.p95 <= 2 * bare.p95 ? 'met' : 'MISSED'}`,
       );
 
     let bytes = 0;
@@ -307,12 +358,13 @@ async function main() {
         cb();
       },
     });
+    stagePeak();
     const e0 = performance.now();
     const exported = await writeCalibrationsCsv(pool, filter, sink);
     const es = (performance.now() - e0) / 1000;
     const rate = Math.round(exported / es);
     console.log(
-      `CSV export: ${exported.toLocaleString('en')} rows, ${(bytes / 2 ** 20).toFixed(0)} MB in ${es.toFixed(1)} s = ${rate.toLocaleString('en')} rows/s | target ≥ 50,000 rows/s ${rate >= 50_000 ? 'met' : 'MISSED'}`,
+      `CSV export: ${exported.toLocaleString('en')} rows, ${(bytes / 2 ** 20).toFixed(0)} MB in ${es.toFixed(1)} s = ${rate.toLocaleString('en')} rows/s (peak RSS ${stagePeak()} MB) | target ≥ 50,000 rows/s ${rate >= 50_000 ? 'met' : 'MISSED'}`,
     );
     console.log(
       `peak RSS of this process (the services run in it, as in the API process): ${peakRssMb.toFixed(0)} MB | target ≤ 300 MB ${peakRssMb <= 300 ? 'met' : 'MISSED'}`,

@@ -7,13 +7,7 @@ import { users } from '../users/users.table';
 import type { AnalysisFigure, AnalysisFilter, CompareBy } from '#shared/schemas/analysis';
 import { calibrationStats } from '../calibrations/calibration-stats.table';
 import { calibrationStoreOf, selectRows, type CalibrationStore, type Selection } from './calibration-store';
-import {
-  distributionOf,
-  groupOf,
-  groupValues,
-  rankSumsOf,
-  selectedValues,
-} from './calibration-store.figures';
+import { distributionOf, groupOf, groupsOf, sortedOrderOf, type Grouped } from './calibration-store.figures';
 
 /**
  * Line statistics aggregated inside PostgreSQL: the views read sums, quantiles and counts instead of every
@@ -132,7 +126,10 @@ export async function distributionAggregate(
   extent: { lsl: number | null; usl: number | null } | null,
 ): Promise<DistributionAggregate> {
   const store = calibrationStoreOf(db);
-  if (store) return distributionOf(selectedValues(await selectRows(store, filter)), extent, NORMALITY_SAMPLE);
+  if (store) {
+    const sel = await selectRows(store, filter);
+    return distributionOf(sel, sortedOrderOf(sel.part, filter.figure), extent, NORMALITY_SAMPLE);
+  }
   const { value, from } = statsSelection(filter);
   const useExtent = extent !== null;
   const lsl = extent?.lsl ?? null;
@@ -263,12 +260,13 @@ export async function comparisonAggregate(
 ): Promise<GroupAggregate[]> {
   const store = calibrationStoreOf(db);
   if (store) {
-    const groups = groupValuesOf(store, await selectRows(store, filter), by);
-    const labels = await groupLabels(db, by, [...groups.inOrder.keys()]);
-    return [...groups.inOrder].map(([key, values]) => {
-      const g = groupOf(key, values, groups.sorted.get(key)!, GROUP_NORMALITY_SAMPLE, MAX_OUTLIERS);
-      return { ...g, key: key === '' ? null : key, label: labels.get(key) ?? null };
-    });
+    const sel = await selectRows(store, filter);
+    const grouped = groupedOf(store, sel, filter.figure, by);
+    const figures = grouped.keys.map((key, g) =>
+      groupOf(key, grouped.sorted[g], grouped.newest[g], MAX_OUTLIERS),
+    );
+    const labels = await groupLabels(db, by, grouped.keys);
+    return figures.map((g) => ({ ...g, key: g.key === '' ? null : g.key, label: labels.get(g.key) ?? null }));
   }
   const group = groupSql(by);
   const { value, from } = statsSelection(filter);
@@ -339,7 +337,10 @@ export async function groupRankSums(
   by: CompareBy,
 ): Promise<{ rankSums: Map<string, number>; ties: number }> {
   const store = calibrationStoreOf(db);
-  if (store) return rankSumsOf(groupValuesOf(store, await selectRows(store, filter), by).sorted);
+  if (store) {
+    const grouped = groupedOf(store, await selectRows(store, filter), filter.figure, by);
+    return { rankSums: new Map(grouped.keys.map((k, g) => [k, grouped.rankSums[g]])), ties: grouped.ties };
+  }
   const group = groupSql(by);
   const { value, from } = statsSelection(filter);
   const res = await inSortRoom(
@@ -371,7 +372,6 @@ async function countCalibrationFigures(db: DbOrTx, filter: AnalysisFilter): Prom
 }
 
 export interface ChartRow {
-  calibrationId: string;
   unitId: string;
   serial: string;
   computedAt: Date;
@@ -391,10 +391,11 @@ export async function newestFigures(
   if (opts.from) window.push(gte(s.computedAt, opts.from));
   if (opts.to) window.push(lt(s.computedAt, opts.to));
   const { value, from } = statsSelection(filter, window);
-  // Backwards along the station's (or the model's) time index, stopping at the limit.
-  const rowsQuery = db.execute<{ id: string; unit_id: string; serial: string; t: string; v: number }>(sql`
-    select ${s.calibrationId} as id, ${s.unitId} as unit_id, ${s.serial} as serial, ${s.computedAt} as t,
-      ${value} as v
+  // Backwards along the station's (or the model's) time index, stopping at the limit. The time comes as whole
+  // milliseconds (as a timestamp parsed into a Date keeps it), a number to read rather than a text to parse.
+  const rowsQuery = db.execute<{ unit_id: string; serial: string; t: number; v: number }>(sql`
+    select ${s.unitId} as unit_id, ${s.serial} as serial,
+      floor(extract(epoch from ${s.computedAt}) * 1000)::float8 as t, ${value} as v
     ${from}
     order by ${s.computedAt} desc, ${s.calibrationId} desc
     limit ${opts.limit}`);
@@ -406,29 +407,19 @@ export async function newestFigures(
   const rows = new Array<ChartRow>(found.length);
   for (let i = 0, k = found.length - 1; k >= 0; i++, k--) {
     const r = found[k];
-    rows[i] = {
-      calibrationId: r.id,
-      unitId: r.unit_id,
-      serial: r.serial,
-      computedAt: new Date(r.t),
-      value: Number(r.v),
-    };
+    rows[i] = { unitId: r.unit_id, serial: r.serial, computedAt: new Date(Number(r.t)), value: Number(r.v) };
   }
   return { rows, total };
 }
 
-/** The grouping key of a row kept in memory, as the SQL path writes it ('' where not recorded). */
-function groupKeyOf(store: CalibrationStore, sel: Selection, by: CompareBy): (row: number) => string {
+/**
+ * The column of a grouping kept in memory, what turns its value into a small non-negative code, and the
+ * grouping key of each code as the SQL path writes it ('' where not recorded).
+ */
+function groupCodes(store: CalibrationStore, sel: Selection, by: CompareBy) {
   const p = sel.part;
-  if (by === 'recipeVersion') {
-    const names = new Map<number, string>();
-    return (i) => {
-      const v = p.recipeVersion[i];
-      let name = names.get(v);
-      if (name === undefined) names.set(v, (name = String(v)));
-      return name;
-    };
-  }
+  if (by === 'recipeVersion')
+    return { column: p.recipeVersion, plus: 0, keyOf: (code: number) => String(code) };
   const [column, dictionary] =
     by === 'station'
       ? [p.station, store.stations]
@@ -439,7 +430,8 @@ function groupKeyOf(store: CalibrationStore, sel: Selection, by: CompareBy): (ro
           : by === 'magnetRingLot'
             ? [p.magnet, store.lots]
             : [p.stator, store.lots];
-  return (i) => (column[i] < 0 ? '' : dictionary.values[column[i]]);
+  // Codes from -1 (not recorded) on.
+  return { column, plus: 1, keyOf: (code: number) => (code === 0 ? '' : dictionary.values[code - 1]) };
 }
 
 /** The labels of a comparison's groups (station names, operators' names), as the SQL path reads them. */
@@ -473,18 +465,17 @@ async function countOf(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
   return store ? (await selectRows(store, filter)).n : countCalibrationFigures(db, filter);
 }
 
-/**
- * A selection's groups, each in production order and sorted, computed once per selection (the comparison
- * and its rank test share them).
- */
-function groupValuesOf(store: CalibrationStore, sel: Selection, by: CompareBy) {
-  let byKind = store.groupings.get(sel);
-  if (!byKind) store.groupings.set(sel, (byKind = new Map()));
-  let groups = byKind.get(by);
-  if (!groups) {
-    const inOrder = groupValues(sel, groupKeyOf(store, sel, by));
-    const sorted = new Map([...inOrder].map(([k, v]) => [k, Float64Array.from(v).sort()]));
-    byKind.set(by, (groups = { inOrder, sorted }));
+const groupings = new WeakMap<Selection, Map<CompareBy, Grouped & { keys: string[] }>>();
+
+/** A selection's groups, computed once per selection and grouping (the comparison and its rank test share them). */
+function groupedOf(store: CalibrationStore, sel: Selection, figure: AnalysisFigure, by: CompareBy) {
+  let byKind = groupings.get(sel);
+  if (!byKind) groupings.set(sel, (byKind = new Map()));
+  let grouped = byKind.get(by);
+  if (!grouped) {
+    const { column, plus, keyOf } = groupCodes(store, sel, by);
+    const g = groupsOf(sel, sortedOrderOf(sel.part, figure), column, plus, GROUP_NORMALITY_SAMPLE);
+    byKind.set(by, (grouped = { ...g, keys: g.codes.map(keyOf) }));
   }
-  return groups;
+  return grouped;
 }

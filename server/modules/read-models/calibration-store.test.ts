@@ -10,7 +10,14 @@ import {
   groupRankSums,
   newestFigures,
 } from './calibration-aggregates.repository';
-import { quantileSorted, quantilesInPlace, rankSumsOf } from './calibration-store.figures';
+import {
+  groupsOf,
+  orderStatistics,
+  percentiles,
+  quantileSorted,
+  sortedPlaces,
+} from './calibration-store.figures';
+import type { Partition, Selection } from './calibration-store';
 
 // The views answer from the rows kept in memory when they read through the pool, and from one SQL statement
 // inside a transaction: two implementations of the same figures. These tests hold them equal on the demo
@@ -189,42 +196,128 @@ describe('the memory catches up with what changed since it last looked', () => {
     expect(after).toBe(before - counted[0].n);
     expect(after).toBe((await inSql((db) => distributionAggregate(db, filter(), null))).n);
   });
+
+  it('calibrations computed before ones already seen take their place in production order, however many looks a view skipped', async () => {
+    const f = recomputed();
+    const oneStation = async () =>
+      filter({
+        purpose: 'recompute',
+        stations: (await t.deps.pool.query<{ id: string }>(`select id from stations order by name limit 1`))
+          .rows[0].id,
+      });
+    await distributionAggregate(t.deps.db, f, null);
+    await comparisonAggregate(t.deps.db, f, 'station');
+    await newestFigures(t.deps.db, await oneStation(), { limit: 30 });
+    for (let round = 0; round < 3; round++) {
+      // Recomputations stamped a millisecond after station results spread over the fortnight: between rows
+      // the store already holds, with values of their own.
+      await t.deps.pool.query(
+        `insert into calibrations (measurement_pk, recipe_id, unit_id, station_id, engine_version, verdict, purpose,
+                                   offset_deg, offset_counts, attempt, result, compute_ms, computed_at)
+         select c.measurement_pk, c.recipe_id, c.unit_id, c.station_id, $1, c.verdict, 'recompute',
+                c.offset_deg + 0.37 * ($2::int + 1), c.offset_counts, null, c.result, 1,
+                c.computed_at + interval '1 millisecond'
+         from calibrations c join units u on u.id = c.unit_id
+         where c.purpose = 'station' and c.verdict in ('pass', 'fail') and u.model_id = $3
+         order by c.computed_at offset 11 * $2::int limit 9`,
+        [`store-mid-${round}`, round, modelId],
+      );
+      // Only the distribution looks between the rounds; the others take in three changes at once.
+      closeDeep(
+        await distributionAggregate(t.deps.db, f, null),
+        await inSql((db) => distributionAggregate(db, f, null)),
+      );
+    }
+    const byKey = <G extends { key: string | null; newest: number[] }>(gs: G[]) =>
+      [...gs]
+        .sort((a, b) => (a.key ?? '').localeCompare(b.key ?? ''))
+        .map((g) => ({ ...g, newest: [...g.newest].sort((x, y) => x - y) }));
+    closeDeep(
+      byKey(await comparisonAggregate(t.deps.db, f, 'station')),
+      byKey(await inSql((db) => comparisonAggregate(db, f, 'station'))),
+    );
+    const ranks = await groupRankSums(t.deps.db, f, 'hallBoardLot');
+    const ranksSql = await inSql((db) => groupRankSums(db, f, 'hallBoardLot'));
+    closeDeep(Object.fromEntries(ranks.rankSums), Object.fromEntries(ranksSql.rankSums));
+    closeDeep(ranks.ties, ranksSql.ties);
+    const station = await oneStation();
+    const memory = await newestFigures(t.deps.db, station, { limit: 30 });
+    const sql = await inSql((db) => newestFigures(db, station, { limit: 30 }));
+    expect(memory.total).toBe(sql.total);
+    expect(memory.rows).toEqual(sql.rows);
+  });
 });
 
-describe('order statistics without a full sort', () => {
-  it('quantiles by selection equal those of the sorted values, ties and all', () => {
+/** A selection of the given rows of a column of values (a partition of that many rows). */
+const selectionOf = (values: number[], at = values.map((_, i) => i)): Selection => ({
+  part: { length: values.length } as Partition,
+  values: Float64Array.from(values),
+  at: Int32Array.from(at),
+  n: at.length,
+});
+
+describe('order statistics along the sorted order, without sorting each view', () => {
+  it('quantiles along the sorted order equal those of the sorted values, ties, gaps and all', () => {
     // Common practice, no source: percentile_cont's rule, checked against a plain sort.
-    const values = Float64Array.from({ length: 1001 }, (_, i) => Math.round(Math.sin(i * 7.3) * 20) / 4);
-    const sorted = Float64Array.from(values).sort();
+    const values = Float64Array.from({ length: 1001 }, (_, i) =>
+      i % 13 === 5 ? NaN : Math.round(Math.sin(i * 7.3) * 20) / 4,
+    );
+    const sorted = sortedPlaces(values, values.length);
+    const present = values.filter((v) => !Number.isNaN(v));
+    expect(sorted.n).toBe(present.length);
     const ps = [0.25, 0.5, 0.75];
-    expect(quantilesInPlace(Float64Array.from(values), ps)).toEqual(ps.map((p) => quantileSorted(sorted, p)));
-    expect(quantilesInPlace(Float64Array.of(3, 1, 2, 4), ps)).toEqual([1.75, 2.5, 3.25]);
+    const all = Float64Array.from(present).sort();
+    expect(percentiles(all.length, ps, (ks) => orderStatistics(sorted, null, ks))).toEqual(
+      ps.map((p) => quantileSorted(all, p)),
+    );
+    // Every third row selected.
+    const mask = Uint8Array.from(values, (v, i) => (i % 3 === 0 && !Number.isNaN(v) ? 1 : 0));
+    const some = Float64Array.from(values.filter((_, i) => mask[i] === 1)).sort();
+    expect(percentiles(some.length, ps, (ks) => orderStatistics(sorted, mask, ks))).toEqual(
+      ps.map((p) => quantileSorted(some, p)),
+    );
+    const four = Float64Array.of(3, 1, 2, 4);
+    expect(percentiles(4, ps, (ks) => orderStatistics(sortedPlaces(four, 4), null, ks))).toEqual([
+      1.75, 2.5, 3.25,
+    ]);
   });
 
   it('rank sums of one group holding a tie of three, among others, average the ranks the tie spans', () => {
     // Common practice, no source (worked by hand): a = [1, 2, 2, 2], b = [2, 4]: the four 2s span ranks 2–5
     // (average 3.5), so a = 1 + 3 × 3.5 = 11.5 and b = 3.5 + 6 = 9.5; Σ(t³ − t) = 64 − 4 = 60.
-    const { rankSums, ties } = rankSumsOf(
-      new Map([
-        ['a', Float64Array.of(1, 2, 2, 2)],
-        ['b', Float64Array.of(2, 4)],
-      ]),
-    );
-    expect(Object.fromEntries(rankSums)).toEqual({ a: 11.5, b: 9.5 });
-    expect(ties).toBe(60);
+    const values = [2, 1, 4, 2, 2, 2];
+    const group = Int32Array.of(1, 0, 1, 0, 0, 0);
+    const sel = selectionOf(values);
+    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 10);
+    expect(g.codes).toEqual([1, 0]);
+    expect(Array.from(g.rankSums)).toEqual([9.5, 11.5]);
+    expect(g.ties).toBe(60);
+    expect(g.sorted.map((a) => Array.from(a))).toEqual([
+      [2, 4],
+      [1, 2, 2, 2],
+    ]);
   });
 
-  it('tie-averaged rank sums follow the textbook example', () => {
+  it('tie-averaged rank sums follow the textbook example, among the selected rows only', () => {
     // Common practice, no source (the definition worked by hand): a = [1, 3, 5], b = [2, 3, 6]; the two 3s
     // share ranks 3 and 4, so a ranks 1, 3.5, 5 and b 2, 3.5, 6; one tie of two values → Σ(t³ − t) = 6.
-    const { rankSums, ties } = rankSumsOf(
-      new Map([
-        ['a', Float64Array.of(1, 3, 5)],
-        ['b', Float64Array.of(2, 3, 6)],
-      ]),
-    );
-    expect(rankSums.get('a')).toBe(9.5);
-    expect(rankSums.get('b')).toBe(11.5);
-    expect(ties).toBe(6);
+    // Rows 6 and 7 (a 3 and a 0) are not selected and take no rank.
+    const values = [1, 2, 3, 3, 5, 6, 3, 0];
+    const group = Int32Array.of(0, 1, 0, 1, 0, 1, 0, 1);
+    const sel = selectionOf(values, [0, 1, 2, 3, 4, 5]);
+    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 10);
+    expect(Array.from(g.rankSums)).toEqual([9.5, 11.5]);
+    expect(g.ties).toBe(6);
+  });
+
+  it("each group's newest values come oldest first, at most as many as asked", () => {
+    const values = [10, 20, 11, 21, 12, 13, 22];
+    const group = Int32Array.of(0, 1, 0, 1, 0, 0, 1);
+    const sel = selectionOf(values);
+    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 3);
+    expect(g.newest.map((a) => Array.from(a))).toEqual([
+      [11, 12, 13],
+      [20, 21, 22],
+    ]);
   });
 });

@@ -121,9 +121,137 @@ const PG_EPOCH_US = 946_684_800_000_000;
 
 export const fromUnixMs = (ms: number) => ms * 1000 - PG_EPOCH_US;
 
+/**
+ * The rows one catch-up added to a partition, for the selections and sorted orders computed before it: they
+ * take in the new rows instead of starting again. `shifts[k]` is the final place of the k-th new row (in
+ * production order) minus k, so an older row at place j moves to j + (how many shifts are ≤ j).
+ */
+export interface Change {
+  /** The partition's length before the change. */
+  before: number;
+  shifts: Int32Array;
+  /** The new rows' times and ids, to find them again after later changes. */
+  t: Float64Array;
+  ids: Uint32Array;
+}
+
+/** Where a row at place j before the change is after it. */
+export function movedBy(change: Change, j: number): number {
+  const d = change.shifts;
+  if (d.length === 0 || j < d[0]) return j;
+  let lo = 0;
+  let hi = d.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (d[mid] <= j) lo = mid + 1;
+    else hi = mid;
+  }
+  return j + lo;
+}
+
+/** A figure's values' places in ascending order of value (rows without one left out), as of change `seen`. */
+export interface SortedOrder {
+  seen: number;
+  /** Room for more: the first `n` are the order. */
+  order: Int32Array;
+  /** The values in that order (read along it without jumping about memory). */
+  values: Float64Array;
+  n: number;
+}
+
+/** Changes kept per partition (older consumers start again from the rows). */
+const MAX_CHANGES = 256;
+const MAX_CHANGED_ROWS = 200_000;
+
 /** The rows of one model and purpose, in production order, as columns. */
 export class Partition {
   length = 0;
+  /**
+   * Changes in order, the first being number `changesFrom`; null for one that rewrote or removed rows (what
+   * was computed before it cannot be carried over).
+   */
+  private changes: (Change | null)[] = [];
+  private changesFrom = 0;
+  private changedRows = 0;
+  /** What the catch-up under way has done: rows added (time, id), or a rewrite. */
+  private pending: { t: number[]; ids: number[]; rewrote: boolean } | null = null;
+  /** Sorted orders of the figures' values (calibration-store.figures.ts keeps them current). */
+  readonly orders = new Map<AnalysisFigure, SortedOrder>();
+
+  /** The number of the next change: what a consumer saw when it last looked. */
+  get changeCount(): number {
+    return this.changesFrom + this.changes.length;
+  }
+
+  /** The changes after `seen`, or null when the consumer must start again from the rows. */
+  changesSince(seen: number): Change[] | null {
+    if (seen < this.changesFrom || seen > this.changeCount) return null;
+    const out: Change[] = [];
+    for (let k = seen - this.changesFrom; k < this.changes.length; k++) {
+      const c = this.changes[k];
+      if (c === null) return null;
+      out.push(c);
+    }
+    return out;
+  }
+
+  private note(): { t: number[]; ids: number[]; rewrote: boolean } {
+    return (this.pending ??= { t: [], ids: [], rewrote: false });
+  }
+
+  /** Ends a catch-up: what it did becomes one change. */
+  settle(): void {
+    const p = this.pending;
+    this.pending = null;
+    if (!p) return;
+    let change: Change | null = null;
+    if (!p.rewrote) {
+      const m = p.t.length;
+      const places = new Int32Array(m);
+      const id = new Uint32Array(4);
+      for (let k = 0; k < m; k++) {
+        for (let w = 0; w < 4; w++) id[w] = p.ids[4 * k + w];
+        places[k] = this.indexOf(p.t[k], id);
+      }
+      // The new rows in production order, then their places minus their rank among them.
+      const byPlace = Array.from({ length: m }, (_, k) => k).sort((a, b) => places[a] - places[b]);
+      const shifts = new Int32Array(m);
+      const t = new Float64Array(m);
+      const ids = new Uint32Array(4 * m);
+      byPlace.forEach((k, rank) => {
+        shifts[rank] = places[k] - rank;
+        t[rank] = p.t[k];
+        for (let w = 0; w < 4; w++) ids[4 * rank + w] = p.ids[4 * k + w];
+      });
+      change = { before: this.length - m, shifts, t, ids };
+      this.changedRows += m;
+    }
+    this.changes.push(change);
+    while (
+      this.changes.length > MAX_CHANGES ||
+      (this.changedRows > MAX_CHANGED_ROWS && this.changes.length > 1)
+    ) {
+      const dropped = this.changes.shift();
+      this.changedRows -= dropped?.t.length ?? 0;
+      this.changesFrom += 1;
+    }
+  }
+
+  /** Current places of the rows a list of changes added, ascending. */
+  placesOfAdded(changes: Change[]): Int32Array {
+    let m = 0;
+    for (const c of changes) m += c.t.length;
+    const out = new Int32Array(m);
+    const id = new Uint32Array(4);
+    let k = 0;
+    for (const c of changes)
+      for (let r = 0; r < c.t.length; r++) {
+        for (let w = 0; w < 4; w++) id[w] = c.ids[4 * r + w];
+        out[k++] = this.indexOf(c.t[r], id);
+      }
+    return out.sort();
+  }
+
   /** Rows expected (the first read sizes its arrays from a count, with room for a day's growth). */
   constructor(expected = 0) {
     if (expected > 0) this.grow(expected + Math.min(100_000, Math.ceil(expected * 0.02)) + 1024);
@@ -197,11 +325,14 @@ export class Partition {
   /** Writes a row at its place (replacing the row with its id and time, if there is one). */
   put(row: DecodedRow): void {
     const i = this.place(row.t, row.id);
+    const note = this.note();
     if (!(i < this.length && this.compare(i, row.t, row.id) === 0)) {
       this.grow(this.length + 1);
       if (i < this.length) this.shiftUp(i);
       this.length += 1;
-    }
+      note.t.push(row.t);
+      for (let w = 0; w < 4; w++) note.ids.push(row.id[w]);
+    } else note.rewrote = true;
     this.write(i, row);
   }
 
@@ -213,6 +344,7 @@ export class Partition {
   }
 
   remove(i: number): void {
+    this.note().rewrote = true;
     const move = <T extends Float64Array | Int32Array | Uint8Array | Uint32Array>(a: T, per = 1) =>
       a.copyWithin(i * per, (i + 1) * per, this.length * per);
     move(this.ids, 4);
@@ -345,16 +477,11 @@ export class CalibrationStore {
   readonly verdicts = new Dictionary();
   private readonly partitions = new Map<string, Partition>();
   private snapshot: string | null = null;
-  /** Goes up whenever a row or a column changes: what was selected before a change is selected again. */
-  version = 0;
-  /** The newest selections (several views of one page share the same filter) of this version. */
-  readonly selections = new Map<string, Selection>();
-  /** Room for the positions a selection finds, reused (a copy of the found part is kept). */
-  scratch = new Int32Array(0);
-  readonly groupings = new WeakMap<
-    Selection,
-    Map<string, { inOrder: Map<string, Float64Array>; sorted: Map<string, Float64Array> }>
-  >();
+  /**
+   * The newest filters' selections (several views of one page share a filter; the next look takes in only
+   * the rows added since), most recently used last.
+   */
+  readonly selections = new Map<string, SelectionState>();
   private queue: Promise<unknown> = Promise.resolve();
 
   constructor(private readonly pool: pg.Pool) {}
@@ -418,7 +545,6 @@ export class CalibrationStore {
           (buf, s, l) => fresh.append(this.decode(buf, s, l, row, false)),
         );
         this.partitions.set(key, (part = fresh));
-        this.changed();
       }
       if (!part.figures.has(figure)) await this.readFigure(client, part, model, purpose, figure);
       await client.query('commit');
@@ -429,7 +555,7 @@ export class CalibrationStore {
       // A half-applied catch-up leaves nothing to trust: start again from the database next time.
       this.partitions.clear();
       this.snapshot = null;
-      this.changed();
+      this.selections.clear();
       throw err;
     } finally {
       client.release(failed instanceof Error ? failed : undefined);
@@ -454,9 +580,9 @@ export class CalibrationStore {
           if (i >= 0) p.remove(i);
         }
         this.partitions.get(key)?.put(row);
-        this.changed();
       },
     );
+    for (const p of this.partitions.values()) p.settle();
   }
 
   private async readFigure(
@@ -480,12 +606,6 @@ export class CalibrationStore {
     if (i !== part.length)
       throw new Error(`calibration store: ${i} values of ${figure} for ${part.length} rows; reading again`);
     part.setFigure(figure, values);
-    this.changed();
-  }
-
-  private changed() {
-    this.version += 1;
-    this.selections.clear();
   }
 }
 
@@ -511,13 +631,22 @@ export function calibrationStoreOf(db: DbOrTx): CalibrationStore | null {
   return store;
 }
 
-/** What a filter keeps, as lookups by code. */
+/** The rows a filter selects: positions in production order, into the partition's current columns. */
 export interface Selection {
   part: Partition;
   values: Float64Array;
   /** Positions of the selected rows in production order. */
   at: Int32Array;
   n: number;
+}
+
+/** A filter's selection as of a partition's change `seen`, with room to take in more rows. */
+interface SelectionState {
+  part: Partition;
+  seen: number;
+  at: Int32Array;
+  n: number;
+  selection: Selection | null;
 }
 
 function allowed(dict: Dictionary, wanted: readonly string[] | undefined, ids = false): Uint8Array | null {
@@ -530,16 +659,13 @@ function allowed(dict: Dictionary, wanted: readonly string[] | undefined, ids = 
   return out;
 }
 
-/** The rows the filter selects (those with a value of its figure), optionally within [fromMs, toMs). */
-export async function selectRows(
+/** Whether a row passes the filter (has a value of its figure, and every condition), with today's codes. */
+function rowTest(
   store: CalibrationStore,
+  part: Partition,
   f: AnalysisFilter,
-  window: { fromMs?: number; toMs?: number } = {},
-): Promise<Selection> {
-  const part = await store.current(f.model, f.purpose, f.figure);
-  const memoKey = JSON.stringify([f, window]);
-  const memo = store.selections.get(memoKey);
-  if (memo) return memo;
+  window: { fromMs?: number; toMs?: number },
+): (i: number) => boolean {
   const values = part.figures.get(f.figure)!;
   const st = allowed(store.stations, f.stations, true);
   const op = allowed(store.operators, f.operators, true);
@@ -557,26 +683,101 @@ export async function selectRows(
   const fromUs = fromUnixMs(Math.max(...bounds));
   const toUs = fromUnixMs(Math.min(...ends));
   const first = f.attempts === 'first';
-  if (store.scratch.length < part.length) store.scratch = new Int32Array(part.length);
-  const at = store.scratch;
-  let n = 0;
   const { t, station, operator, verdict, attempt, recipeVersion, hall, magnet, stator } = part;
-  for (let i = 0; i < part.length; i++) {
+  return (i) => {
     const v = values[i];
-    if (v !== v) continue; // no value
-    if (verdicts[verdict[i]] !== 1) continue;
-    if (t[i] < fromUs || t[i] >= toUs) continue;
-    if (first && attempt[i] !== 1) continue;
-    if (st && (station[i] < 0 || st[station[i]] !== 1)) continue;
-    if (op && (operator[i] < 0 || op[operator[i]] !== 1)) continue;
-    if (hb && (hall[i] < 0 || hb[hall[i]] !== 1)) continue;
-    if (mr && (magnet[i] < 0 || mr[magnet[i]] !== 1)) continue;
-    if (sl && (stator[i] < 0 || sl[stator[i]] !== 1)) continue;
-    if (versions && !versions.has(recipeVersion[i])) continue;
-    at[n++] = i;
+    if (v !== v) return false; // no value
+    if (verdicts[verdict[i]] !== 1) return false;
+    if (t[i] < fromUs || t[i] >= toUs) return false;
+    if (first && attempt[i] !== 1) return false;
+    if (st && (station[i] < 0 || st[station[i]] !== 1)) return false;
+    if (op && (operator[i] < 0 || op[operator[i]] !== 1)) return false;
+    if (hb && (hall[i] < 0 || hb[hall[i]] !== 1)) return false;
+    if (mr && (magnet[i] < 0 || mr[magnet[i]] !== 1)) return false;
+    if (sl && (stator[i] < 0 || sl[stator[i]] !== 1)) return false;
+    if (versions && !versions.has(recipeVersion[i])) return false;
+    return true;
+  };
+}
+
+/** Selections kept (distinct filters looked at lately). */
+const KEPT_SELECTIONS = 4;
+
+/**
+ * The rows the filter selects (those with a value of its figure), optionally within [fromMs, toMs). A filter
+ * looked at before takes in only the rows added since (moving the older positions past rows added between
+ * them); after a rewrite (a corrected lot) it is selected again from all rows.
+ */
+export async function selectRows(
+  store: CalibrationStore,
+  f: AnalysisFilter,
+  window: { fromMs?: number; toMs?: number } = {},
+): Promise<Selection> {
+  const part = await store.current(f.model, f.purpose, f.figure);
+  const memoKey = JSON.stringify([f, window]);
+  const kept = store.selections.get(memoKey);
+  store.selections.delete(memoKey);
+  const test = rowTest(store, part, f, window);
+  const changes = kept && kept.part === part ? part.changesSince(kept.seen) : null;
+  let state: SelectionState;
+  if (kept && changes) {
+    state = kept;
+    if (changes.length > 0) {
+      takeIn(state, changes, test);
+      state.selection = null;
+    }
+  } else {
+    const at = new Int32Array(Math.max(1024, Math.ceil(part.length * 1.02)));
+    let n = 0;
+    for (let i = 0; i < part.length; i++) if (test(i)) at[n++] = i;
+    state = { part, seen: part.changeCount, at, n, selection: null };
   }
-  const selection = { part, values, at: at.slice(0, n), n };
-  if (store.selections.size >= 4) store.selections.clear();
-  store.selections.set(memoKey, selection);
-  return selection;
+  state.seen = part.changeCount;
+  state.selection ??= {
+    part,
+    values: part.figures.get(f.figure)!,
+    at: state.at.subarray(0, state.n),
+    n: state.n,
+  };
+  store.selections.set(memoKey, state);
+  if (store.selections.size > KEPT_SELECTIONS) store.selections.delete(store.selections.keys().next().value!);
+  return state.selection;
+}
+
+/**
+ * Takes the rows added by `changes` into a selection. Positions handed out before stay valid: a selection
+ * whose rows move is written to a new array; one that only grows at its end is appended to in place.
+ */
+function takeIn(state: SelectionState, changes: Change[], test: (i: number) => boolean) {
+  const { part } = state;
+  let at = state.at;
+  let n = state.n;
+  for (const c of changes) {
+    if (n === 0 || c.shifts.length === 0 || c.shifts[0] > at[n - 1]) continue;
+    const moved = new Int32Array(at.length);
+    for (let k = 0; k < n; k++) moved[k] = movedBy(c, at[k]);
+    at = moved;
+  }
+  const added = part.placesOfAdded(changes).filter(test);
+  const m = added.length;
+  if (m > 0) {
+    if (n + m > at.length || (at === state.at && n > 0 && added[0] < at[n - 1])) {
+      // A new array: room to grow, and the older selection's positions untouched.
+      const grown = new Int32Array(Math.max(n + m + 1024, Math.ceil((n + m) * 1.02)));
+      let i = 0;
+      let j = 0;
+      let w = 0;
+      while (i < n || j < m) grown[w++] = j >= m || (i < n && at[i] < added[j]) ? at[i++] : added[j++];
+      at = grown;
+    } else if (n > 0 && added[0] < at[n - 1]) {
+      // `at` is already a new array: merge from the back in place.
+      let i = n - 1;
+      let j = m - 1;
+      let w = n + m - 1;
+      while (j >= 0) at[w--] = i >= 0 && at[i] > added[j] ? at[i--] : added[j--];
+    } else at.set(added, n);
+    n += m;
+  }
+  state.at = at;
+  state.n = n;
 }
