@@ -7,7 +7,7 @@ import { users } from '../users/users.table';
 import type { AnalysisFigure, AnalysisFilter, CompareBy } from '#shared/schemas/analysis';
 import { calibrationStats } from '../calibrations/calibration-stats.table';
 import { calibrationStoreOf, selectRows, type CalibrationStore, type Selection } from './calibration-store';
-import { distributionOf, groupOf, groupsOf, sortedOrderOf, type Grouped } from './calibration-store.figures';
+import { distributionOf, groupOf, groupsOf, sortedOrderOf } from './calibration-store.figures';
 
 /**
  * Line statistics aggregated inside PostgreSQL: the views read sums, quantiles and counts instead of every
@@ -261,11 +261,12 @@ export async function comparisonAggregate(
   const store = calibrationStoreOf(db);
   if (store) {
     const sel = await selectRows(store, filter);
-    const grouped = groupedOf(store, sel, filter.figure, by);
-    const figures = grouped.keys.map((key, g) =>
-      groupOf(key, grouped.sorted[g], grouped.newest[g], MAX_OUTLIERS),
+    const { figures } = groupedOf(store, sel, filter.figure, by);
+    const labels = await groupLabels(
+      db,
+      by,
+      figures.map((f) => f.key),
     );
-    const labels = await groupLabels(db, by, grouped.keys);
     return figures.map((g) => ({ ...g, key: g.key === '' ? null : g.key, label: labels.get(g.key) ?? null }));
   }
   const group = groupSql(by);
@@ -339,7 +340,10 @@ export async function groupRankSums(
   const store = calibrationStoreOf(db);
   if (store) {
     const grouped = groupedOf(store, await selectRows(store, filter), filter.figure, by);
-    return { rankSums: new Map(grouped.keys.map((k, g) => [k, grouped.rankSums[g]])), ties: grouped.ties };
+    return {
+      rankSums: new Map(grouped.figures.map((f, g) => [f.key, grouped.rankSums[g]])),
+      ties: grouped.ties,
+    };
   }
   const group = groupSql(by);
   const { value, from } = statsSelection(filter);
@@ -465,17 +469,32 @@ async function countOf(db: DbOrTx, filter: AnalysisFilter): Promise<number> {
   return store ? (await selectRows(store, filter)).n : countCalibrationFigures(db, filter);
 }
 
-const groupings = new WeakMap<Selection, Map<CompareBy, Grouped & { keys: string[] }>>();
+const groupings = new WeakMap<
+  Selection,
+  Map<CompareBy, { figures: ReturnType<typeof groupOf>[]; rankSums: Float64Array; ties: number }>
+>();
 
-/** A selection's groups, computed once per selection and grouping (the comparison and its rank test share them). */
+/**
+ * A selection's groups' figures and rank sums, computed once per selection and grouping (the comparison and
+ * its rank test share them).
+ */
 function groupedOf(store: CalibrationStore, sel: Selection, figure: AnalysisFigure, by: CompareBy) {
   let byKind = groupings.get(sel);
   if (!byKind) groupings.set(sel, (byKind = new Map()));
   let grouped = byKind.get(by);
   if (!grouped) {
     const { column, plus, keyOf } = groupCodes(store, sel, by);
-    const g = groupsOf(sel, sortedOrderOf(sel.part, figure), column, plus, GROUP_NORMALITY_SAMPLE);
-    byKind.set(by, (grouped = { ...g, keys: g.codes.map(keyOf) }));
+    const g = groupsOf(
+      sel,
+      sortedOrderOf(sel.part, figure),
+      column,
+      plus,
+      GROUP_NORMALITY_SAMPLE,
+      store.groupScratch,
+    );
+    // The groups' sorted values are scratch room: their figures are taken now.
+    const figures = g.codes.map((code, k) => groupOf(keyOf(code), g.sorted[k], g.newest[k], MAX_OUTLIERS));
+    byKind.set(by, (grouped = { figures, rankSums: g.rankSums, ties: g.ties }));
   }
   return grouped;
 }

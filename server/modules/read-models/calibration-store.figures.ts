@@ -283,8 +283,9 @@ type MemoryGroup = Omit<GroupAggregate, 'key' | 'label'> & { key: string };
 
 /** A selection split into groups: each group's values ascending and newest, and the ranks Kruskal–Wallis needs. */
 export interface Grouped {
-  /** The code of each group (as `codeOf` gave it), in order of first appearance in production order. */
+  /** The code of each group (`column[row] + plus`), in order of first appearance in production order. */
   codes: number[];
+  /** Each group's values ascending: views into the scratch arrays, good until the next call. */
   sorted: Float64Array[];
   /** Each group's newest values (at most newestCount), oldest first. */
   newest: Float64Array[];
@@ -292,6 +293,15 @@ export interface Grouped {
   rankSums: Float64Array;
   /** Σ (t³ − t) over runs of t tied values. */
   ties: number;
+}
+
+/**
+ * Room reused from call to call (kept by the store): a comparison of a million values would otherwise leave
+ * 10 MB behind it each time, for the collector to find later.
+ */
+export interface GroupScratch {
+  values: Float64Array;
+  tag: Uint16Array;
 }
 
 /** Groups a comparison can show (a group's number is kept in 16 bits). */
@@ -309,6 +319,7 @@ export function groupsOf(
   column: Int32Array,
   plus: number,
   newestCount: number,
+  scratch: GroupScratch,
 ): Grouped {
   const { at, n, values } = sel;
   let lookup = new Int32Array(64).fill(-1);
@@ -316,7 +327,9 @@ export function groupsOf(
   let sizes = new Int32Array(64);
   // The group of each selected row, plus one (0: not selected), read at random along the sorted order: 16 bits
   // stay in the processor's cache.
-  const tag = new Uint16Array(sel.part.length);
+  if (scratch.tag.length < sel.part.length) scratch.tag = new Uint16Array(Math.ceil(sel.part.length * 1.02));
+  else scratch.tag.fill(0, 0, sel.part.length);
+  const { tag } = scratch;
   for (let k = 0; k < n; k++) {
     const row = at[k];
     const c = column[row] + plus;
@@ -341,7 +354,10 @@ export function groupsOf(
     tag[row] = g + 1;
   }
   const count = codes.length;
-  const groupSorted = Array.from(sizes.subarray(0, count), (size) => new Float64Array(size));
+  if (scratch.values.length < n) scratch.values = new Float64Array(Math.ceil(n * 1.02));
+  const groupSorted: Float64Array[] = [];
+  for (let g = 0, from = 0; g < count; from += sizes[g++])
+    groupSorted.push(scratch.values.subarray(from, from + sizes[g]));
   const fill = new Int32Array(count);
   const rankSums = new Float64Array(count);
   // Each value first takes the next rank; a run of equal values (rare) is then given the average of the ranks

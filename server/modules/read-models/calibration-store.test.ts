@@ -248,6 +248,8 @@ describe('the memory catches up with what changed since it last looked', () => {
   });
 });
 
+const scratch = () => ({ values: new Float64Array(0), tag: new Uint16Array(0) });
+
 /** A selection of the given rows of a column of values (a partition of that many rows). */
 const selectionOf = (values: number[], at = values.map((_, i) => i)): Selection => ({
   part: { length: values.length } as Partition,
@@ -288,7 +290,7 @@ describe('order statistics along the sorted order, without sorting each view', (
     const values = [2, 1, 4, 2, 2, 2];
     const group = Int32Array.of(1, 0, 1, 0, 0, 0);
     const sel = selectionOf(values);
-    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 10);
+    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 10, scratch());
     expect(g.codes).toEqual([1, 0]);
     expect(Array.from(g.rankSums)).toEqual([9.5, 11.5]);
     expect(g.ties).toBe(60);
@@ -305,7 +307,7 @@ describe('order statistics along the sorted order, without sorting each view', (
     const values = [1, 2, 3, 3, 5, 6, 3, 0];
     const group = Int32Array.of(0, 1, 0, 1, 0, 1, 0, 1);
     const sel = selectionOf(values, [0, 1, 2, 3, 4, 5]);
-    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 10);
+    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 10, scratch());
     expect(Array.from(g.rankSums)).toEqual([9.5, 11.5]);
     expect(g.ties).toBe(6);
   });
@@ -314,7 +316,7 @@ describe('order statistics along the sorted order, without sorting each view', (
     const values = [10, 20, 11, 21, 12, 13, 22];
     const group = Int32Array.of(0, 1, 0, 1, 0, 0, 1);
     const sel = selectionOf(values);
-    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 3);
+    const g = groupsOf(sel, sortedPlaces(sel.values, values.length), group, 0, 3, scratch());
     expect(g.newest.map((a) => Array.from(a))).toEqual([
       [11, 12, 13],
       [20, 21, 22],

@@ -482,6 +482,8 @@ export class CalibrationStore {
    * the rows added since), most recently used last.
    */
   readonly selections = new Map<string, SelectionState>();
+  /** Room the comparisons reuse (calibration-store.figures.ts, groupsOf). */
+  readonly groupScratch = { values: new Float64Array(0), tag: new Uint16Array(0) };
   private queue: Promise<unknown> = Promise.resolve();
 
   constructor(private readonly pool: pg.Pool) {}
@@ -660,6 +662,7 @@ function allowed(dict: Dictionary, wanted: readonly string[] | undefined, ids = 
 }
 
 /** Whether a row passes the filter (has a value of its figure, and every condition), with today's codes. */
+// Reads the fields selectRows keys its selections by: a new condition goes in both.
 function rowTest(
   store: CalibrationStore,
   part: Partition,
@@ -714,7 +717,23 @@ export async function selectRows(
   window: { fromMs?: number; toMs?: number } = {},
 ): Promise<Selection> {
   const part = await store.current(f.model, f.purpose, f.figure);
-  const memoKey = JSON.stringify([f, window]);
+  // Exactly what rowTest reads: views whose queries differ only in their own settings share the selection.
+  const memoKey = JSON.stringify([
+    f.model,
+    f.purpose,
+    f.figure,
+    f.stations,
+    f.operators,
+    f.hallBoardLots,
+    f.magnetRingLots,
+    f.statorLots,
+    f.recipeVersions,
+    f.verdict,
+    f.from,
+    f.to,
+    f.attempts,
+    window,
+  ]);
   const kept = store.selections.get(memoKey);
   store.selections.delete(memoKey);
   const test = rowTest(store, part, f, window);
