@@ -532,9 +532,13 @@ async function main(): Promise<number> {
   const xactsBefore = await transactionCount(ownerUrl.toString());
   const superuserUrl = `postgres://postgres@/${DB_NAME}?host=${encodeURIComponent(pgHandle.socketDir)}&port=${pgHandle.port}`;
   const statements = pgHandle.external ? null : await statementStats(superuserUrl);
+  // The sampler reads from the `postgres` database, so its own queries stay out of the bench database's counts.
   const pgSampler = pgHandle.external
     ? null
-    : await samplePostgresCpu(superuserUrl, postmasterPid(pgHandle.dataDir));
+    : await samplePostgresCpu(
+        superuserUrl.replace(`/${DB_NAME}?`, '/postgres?'),
+        postmasterPid(pgHandle.dataDir),
+      );
   const watch = await watchTravelers(databaseUrl);
   watch.start();
   const closed = await closedLoop(stations, CLOSED_POSTS, 'LOAD');
