@@ -35,11 +35,6 @@ export function forgetCachedStationKeys(): void {
 const SEEN_WRITE_MS = 5000;
 
 /**
- * Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the station seen.
- * Each costs one statement when it costs any: the lookup of a key not cached writes "last seen" with it,
- * and a cached key's station and key rows are written together, at most every SEEN_WRITE_MS.
- */
-/**
  * The key's lookup, which writes "last used" and the station's "last seen" with it, and the write alone
  * for a cached key: named prepared statements, planned once per connection (they run for every station
  * every few seconds, and planning the lookup cost more than running it).
@@ -58,6 +53,11 @@ const seenStatement = namedStatement<{ now: Date; stationId: string; keyId: stri
    update station_keys set last_used_at = $now where station_keys.id = $keyId`,
 );
 
+/**
+ * Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the station seen.
+ * Each costs one statement when it costs any: the lookup of a key not cached writes "last seen" with it,
+ * and a cached key's station and key rows are written together, at most every SEEN_WRITE_MS.
+ */
 export async function authenticateStationKey(
   pool: pg.Pool,
   key: string,
