@@ -91,7 +91,7 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
   app.use(async (req: Request, _res: Response, next: NextFunction) => {
     const key = req.get('x-station-key');
     if (!key) return next();
-    const station = await authenticateStationKey(deps.db, key.trim(), deps.clock());
+    const station = await authenticateStationKey(deps.pool, key.trim(), deps.clock());
     if (!station) return next(stationErrors.keyInvalid());
     req.station = station;
     next();

@@ -181,6 +181,119 @@ async function transactionCount(url: string): Promise<number> {
   }
 }
 
+/**
+ * Where PostgreSQL's CPU goes, by process kind: every second, each server process's CPU ticks from /proc
+ * and its kind from pg_stat_activity (backend type, and for client backends the application name:
+ * `phasewright-server`, `phasewright-worker`, `phasewright-queue`, …). A process that exits (an autovacuum
+ * worker) keeps the ticks of its last sample, so a kind's figure is at most a second short.
+ */
+async function samplePostgresCpu(superuserUrl: string, postmaster: number | undefined) {
+  const c = new pg.Client({ connectionString: superuserUrl, application_name: 'bench-sampler' });
+  await c.connect();
+  const seen = new Map<number, { kind: string; first: number; last: number }>();
+  const ticksOf = (pid: number) => {
+    try {
+      const text = readFileSync(`/proc/${pid}/stat`, 'utf8');
+      const f = text.slice(text.lastIndexOf(')') + 2).split(' ');
+      if (Number(f[1]) !== postmaster) return undefined;
+      return Number(f[11]) + Number(f[12]);
+    } catch {
+      return undefined;
+    }
+  };
+  const sample = async () => {
+    const { rows } = await c.query<{ pid: number; kind: string }>(
+      `select pid, case when backend_type = 'client backend' then coalesce(nullif(application_name, ''), '(none)')
+                        else backend_type end as kind
+         from pg_stat_activity`,
+    );
+    for (const r of rows) {
+      const t = ticksOf(r.pid);
+      if (t === undefined) continue;
+      const s = seen.get(r.pid);
+      if (s) s.last = t;
+      else seen.set(r.pid, { kind: r.kind, first: t, last: t });
+    }
+  };
+  await sample();
+  // A process first seen after the start counts from zero (it was born during the span).
+  const born = new Set<number>();
+  let stopped = false;
+  const loop = (async () => {
+    while (!stopped) {
+      await new Promise((r) => setTimeout(r, 1000));
+      const before = new Set(seen.keys());
+      await sample().catch(() => {});
+      for (const pid of seen.keys()) if (!before.has(pid)) born.add(pid);
+    }
+  })();
+  return {
+    async stop() {
+      stopped = true;
+      await loop;
+      await c.end();
+      const byKind = new Map<string, number>();
+      for (const [pid, s] of seen) {
+        const ticks = s.last - (born.has(pid) ? 0 : s.first);
+        byKind.set(s.kind, (byKind.get(s.kind) ?? 0) + ticks / TICKS_PER_SECOND);
+      }
+      return byKind;
+    },
+  };
+}
+
+/**
+ * With pg_stat_statements loaded on the bench server (shared_preload_libraries; the bench does not
+ * change the server's settings), the statements of the measured span, costliest first.
+ */
+async function statementStats(superuserUrl: string) {
+  const c = new pg.Client({ connectionString: superuserUrl });
+  await c.connect();
+  try {
+    const { rows } = await c.query<{ on: boolean }>(
+      `select current_setting('shared_preload_libraries') like '%pg_stat_statements%' as on`,
+    );
+    if (!rows[0].on) return null;
+    await c.query('create extension if not exists pg_stat_statements');
+    await c.query('select pg_stat_statements_reset()');
+  } finally {
+    await c.end();
+  }
+  return {
+    async report(units: number, top = 15) {
+      const r = new pg.Client({ connectionString: superuserUrl });
+      await r.connect();
+      try {
+        const { rows } = await r.query<{
+          calls: string;
+          exec_ms: number;
+          plan_ms: number;
+          plans: string;
+          query: string;
+        }>(
+          `select calls, total_exec_time as exec_ms, total_plan_time as plan_ms, plans, query
+             from pg_stat_statements where dbid = (select oid from pg_database where datname = $1)
+            order by total_exec_time + total_plan_time desc`,
+          [DB_NAME],
+        );
+        const all = rows.reduce((s, x) => s + x.exec_ms + x.plan_ms, 0);
+        const calls = rows.reduce((s, x) => s + Number(x.calls), 0);
+        log(
+          `pg_stat_statements over the closed loop and its backlog: ${(calls / units).toFixed(1)} statements a unit, ` +
+            `${(all / units).toFixed(2)} ms of execution and planning a unit`,
+        );
+        for (const x of rows.slice(0, top))
+          log(
+            `  ${((x.exec_ms + x.plan_ms) / units).toFixed(3)} ms/unit (plan ${(x.plan_ms / units).toFixed(3)}, ${x.plans} plans), ` +
+              `${(Number(x.calls) / units).toFixed(2)} calls/unit: ${x.query.replace(/\s+/g, ' ').slice(0, 160)}`,
+          );
+      } finally {
+        await r.end();
+      }
+    },
+  };
+}
+
 const services: Service[] = [];
 const started: { pg: Awaited<ReturnType<typeof ensurePostgres>> | null } = { pg: null };
 
@@ -417,6 +530,15 @@ async function main(): Promise<number> {
   });
   const cpuBefore = cpuNow();
   const xactsBefore = await transactionCount(ownerUrl.toString());
+  const superuserUrl = `postgres://postgres@/${DB_NAME}?host=${encodeURIComponent(pgHandle.socketDir)}&port=${pgHandle.port}`;
+  const statements = pgHandle.external ? null : await statementStats(superuserUrl);
+  // The sampler reads from the `postgres` database, so its own queries stay out of the bench database's counts.
+  const pgSampler = pgHandle.external
+    ? null
+    : await samplePostgresCpu(
+        superuserUrl.replace(`/${DB_NAME}?`, '/postgres?'),
+        postmasterPid(pgHandle.dataDir),
+      );
   const watch = await watchTravelers(databaseUrl);
   watch.start();
   const closed = await closedLoop(stations, CLOSED_POSTS, 'LOAD');
@@ -438,6 +560,7 @@ async function main(): Promise<number> {
   );
 
   const cpuAfter = cpuNow();
+  const pgKinds = await pgSampler?.stop();
   const xactsPerUnit =
     ((await transactionCount(ownerUrl.toString())) - xactsBefore) / Math.max(1, closed.results);
   const cpuPerUnitMs = Object.fromEntries(
@@ -458,6 +581,14 @@ async function main(): Promise<number> {
     `transactions per unit over the same span (PostgreSQL's commits and rollbacks in the bench database, ` +
       `pg-boss's polling and the traveler backlog included): ${xactsPerUnit.toFixed(1)}`,
   );
+
+  if (pgKinds) {
+    const parts = [...pgKinds]
+      .sort((a, b) => b[1] - a[1])
+      .map(([kind, seconds]) => `${kind} ${((seconds * 1000) / Math.max(1, closed.results)).toFixed(1)} ms`);
+    log(`PostgreSQL's CPU per unit by process (sampled each second): ${parts.join(', ')}`);
+  }
+  await statements?.report(Math.max(1, closed.results));
 
   const sizes = await storageSizes(ownerUrl.toString());
   log(

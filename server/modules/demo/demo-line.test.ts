@@ -191,7 +191,7 @@ describe('the demo line seed', () => {
     const again = await ensureDemoStationKey(t.deps.db, new Date(), a.key);
     expect(a.stationName).toBe(DEMO_SIM_STATION);
     expect(again).toMatchObject({ key: a.key, kept: true, modelCode: 'CV-57B' });
-    const who = await authenticateStationKey(t.deps.db, a.key, new Date());
+    const who = await authenticateStationKey(t.deps.pool, a.key, new Date());
     expect(who?.stationId).toBe(a.stationId);
   });
 
@@ -200,8 +200,8 @@ describe('the demo line seed', () => {
     const b = await ensureDemoStationKey(t.deps.db, new Date(), 'pwsk_not-a-key-of-this-station');
     expect(b.kept).toBe(false);
     expect(b.key).not.toBe(a.key);
-    expect(await authenticateStationKey(t.deps.db, a.key, new Date())).toBeNull();
-    const who = await authenticateStationKey(t.deps.db, b.key, new Date());
+    expect(await authenticateStationKey(t.deps.pool, a.key, new Date())).toBeNull();
+    const who = await authenticateStationKey(t.deps.pool, b.key, new Date());
     expect(who?.stationId).toBe(b.stationId);
   });
 

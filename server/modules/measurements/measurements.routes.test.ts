@@ -6,6 +6,8 @@ import { simulatedMeasurement } from '#tests/harness/measurements';
 import type { Recipe } from '#shared/schemas/recipe';
 import { computeCalibration, type MeasurementsContext } from './measurements.service';
 import { forgetCachedStationKeys } from '../stations/stations.service';
+import { calibrationViews } from '../read-models/calibration-views';
+import type { CalibrationView } from '#shared/schemas/calibrations';
 import { simulateCapture } from '#shared/simulation/capture-sim';
 import { createRng } from '#shared/simulation/rng';
 
@@ -303,6 +305,40 @@ describe('results', () => {
     expect(res.body.status).toBe('computed');
     expect(elapsed).toBeGreaterThanOrEqual(400);
     expect(elapsed).toBeLessThan(5000);
+  });
+
+  it("answers a station's result exactly as the unit's page shows that calibration: programming, a hold, the last attempt", async () => {
+    const sameAsPage = async (measurementId: string) => {
+      const res = await request(t.app)
+        .get(`/api/station/measurements/${measurementId}/result?waitMs=0`)
+        .set('X-Station-Key', line.key);
+      expect(res.body.status).toBe('computed');
+      const [onPage] = await calibrationViews(t.deps.db, { measurementId, purpose: 'station', limit: 1 });
+      expect(res.body.calibration).toEqual(onPage);
+      return res.body.calibration as CalibrationView;
+    };
+    // A pass, programmed and confirmed.
+    const good = simulatedMeasurement(recipe, 'SN-SAME-VIEW', { offsetDeg: 2, seed: 41 });
+    await post(line.key, good);
+    await computeQueued(good.measurementId);
+    const passed = await sameAsPage(good.measurementId);
+    expect(passed.programming.status).toBe('pending');
+    await request(t.app)
+      .post(`/api/station/measurements/${good.measurementId}/programming`)
+      .set('X-Station-Key', line.key)
+      .send({ writtenCounts: passed.offsetCounts, readBackCounts: passed.offsetCounts, checksum: 'ab12' })
+      .expect(200);
+    expect((await sameAsPage(good.measurementId)).programming.status).toBe('confirmed');
+    // Failed attempts up to the hold: the last one names the hold, an earlier one does not.
+    const fails = [];
+    for (let i = 1; i <= recipe.maxAttempts; i++) {
+      const m = simulatedMeasurement(recipe, 'SN-SAME-HOLD', { offsetDeg: 18, seed: 300 + i });
+      await post(line.key, m);
+      await computeQueued(m.measurementId);
+      fails.push(m.measurementId);
+    }
+    expect((await sameAsPage(fails.at(-1)!)).nextAction).toMatch(/on hold/);
+    expect((await sameAsPage(fails[0])).nextAction).not.toMatch(/on hold/);
   });
 
   it('answers pending when nothing commits within waitMs', async () => {

@@ -217,7 +217,7 @@ export async function waitForResult(
   });
   try {
     const first = await measurementResult(
-      deps.db,
+      deps.pool,
       stationId ? { stationId, stationName: '', keyId: '' } : null,
       measurementId,
     );
@@ -231,7 +231,7 @@ export async function waitForResult(
       }),
     ]);
     clearTimeout(timer);
-    return (await measurementResult(deps.db, null, measurementId)).view;
+    return (await measurementResult(deps.pool, null, measurementId)).view;
   } finally {
     unsubscribe();
   }

@@ -1,8 +1,7 @@
 import type { StationPrincipal } from '#server/lib/auth';
-import type { DbOrTx } from '#server/db/client';
-import { calibrationViews } from '../read-models/calibration-views';
+import type pg from 'pg';
+import { stationResultView } from '../read-models/calibration-views';
 import { measurementErrors } from './measurements.errors';
-import { measurementIdentity } from './measurements.repository';
 
 /**
  * The measurements module's services, one part each: `intake/` (a station's post or capture, stored
@@ -18,15 +17,16 @@ export { confirmProgramming } from './programming/programming.service';
 export type { MeasurementsContext } from './measurements.context';
 
 /**
- * The newest calibration of a station's measurement (null while it is computing). One query when it
- * exists; a second only to tell "not computed yet" from "no such measurement here".
+ * The newest calibration of a station's measurement (null while it is computing), in one statement
+ * either way; a measurement of another station is not found, as one that does not exist.
  */
-export async function measurementResult(db: DbOrTx, station: StationPrincipal | null, measurementId: string) {
-  const [view] = await calibrationViews(db, { measurementId, purpose: 'station', limit: 1 });
-  if (view && (!station || view.stationId === station.stationId)) return { view };
-  if (!view) {
-    const m = await measurementIdentity(db, measurementId);
-    if (m && (!station || m.stationId === station.stationId)) return { view: null };
-  }
+export async function measurementResult(
+  pool: pg.Pool,
+  station: StationPrincipal | null,
+  measurementId: string,
+) {
+  const found = await stationResultView(pool, measurementId);
+  const owner = found?.view?.stationId ?? found?.stationId;
+  if (found && (!station || owner === station.stationId)) return { view: found.view };
   throw measurementErrors.notFound(measurementId);
 }

@@ -1,7 +1,9 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
 import type { z } from 'zod';
+import type pg from 'pg';
 import type { Db, DbOrTx } from '#server/db/client';
+import { namedStatement } from '#server/db/statement';
 import type { SessionUser, StationPrincipal } from '#server/lib/auth';
 import { stationErrors } from './stations.errors';
 import { insertAudit } from '../audit/audit.repository';
@@ -33,12 +35,31 @@ export function forgetCachedStationKeys(): void {
 const SEEN_WRITE_MS = 5000;
 
 /**
+ * The key's lookup, which writes "last used" and the station's "last seen" with it, and the write alone
+ * for a cached key: named prepared statements, planned once per connection (they run for every station
+ * every few seconds, and planning the lookup cost more than running it).
+ */
+const keyLookupStatement = namedStatement<{ now: Date; hash: string }>(
+  `with k as (
+     update station_keys set last_used_at = $now where key_hash = $hash and revoked_at is null
+     returning id, station_id
+   ), s as (
+     update stations set last_seen_at = $now from k where stations.id = k.station_id returning stations.id, stations.name
+   )
+   select k.id as "keyId", s.id as "stationId", s.name as "stationName" from k join s on s.id = k.station_id`,
+);
+const seenStatement = namedStatement<{ now: Date; stationId: string; keyId: string }>(
+  `with s as (update stations set last_seen_at = $now where stations.id = $stationId)
+   update station_keys set last_used_at = $now where station_keys.id = $keyId`,
+);
+
+/**
  * Resolves an X-Station-Key header to its station, or null when no key is valid. Marks the station seen.
  * Each costs one statement when it costs any: the lookup of a key not cached writes "last seen" with it,
  * and a cached key's station and key rows are written together, at most every SEEN_WRITE_MS.
  */
 export async function authenticateStationKey(
-  db: Db,
+  pool: pg.Pool,
   key: string,
   now: Date,
 ): Promise<StationPrincipal | null> {
@@ -46,16 +67,9 @@ export async function authenticateStationKey(
   const t = now.getTime();
   let entry = keyCache.get(hash);
   if (!entry || t - entry.fetchedAt > KEY_CACHE_MS || t < entry.fetchedAt) {
-    const { rows } = await db.execute<{ keyId: string; stationId: string; stationName: string }>(sql`
-      with k as (
-        update ${stationKeys} set last_used_at = ${now}
-         where key_hash = ${hash} and revoked_at is null
-         returning id, station_id
-      ), s as (
-        update ${stations} set last_seen_at = ${now} from k where ${stations.id} = k.station_id
-        returning ${stations.id}, ${stations.name}
-      )
-      select k.id as "keyId", s.id as "stationId", s.name as "stationName" from k join s on s.id = k.station_id`);
+    const { rows } = await pool.query<{ keyId: string; stationId: string; stationName: string }>(
+      keyLookupStatement({ now, hash }),
+    );
     const row = rows[0];
     if (!row) {
       keyCache.delete(hash);
@@ -68,9 +82,9 @@ export async function authenticateStationKey(
   // "Last seen" is written at most every 5 s per key, so busy stations do not write on every call.
   if (t - entry.seenWrittenAt > SEEN_WRITE_MS || t < entry.seenWrittenAt) {
     entry.seenWrittenAt = t;
-    await db.execute(sql`
-      with s as (update ${stations} set last_seen_at = ${now} where ${stations.id} = ${entry.principal.stationId})
-      update ${stationKeys} set last_used_at = ${now} where ${stationKeys.id} = ${entry.principal.keyId}`);
+    await pool.query(
+      seenStatement({ now, stationId: entry.principal.stationId, keyId: entry.principal.keyId }),
+    );
   }
   return entry.principal;
 }
