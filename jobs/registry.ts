@@ -21,6 +21,11 @@ export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
    */
   coalesce?: boolean;
   /**
+   * Seconds between a fetch loop's polls when nobody wakes it (default 2). A queue that coalesces takes in
+   * more per run the longer it waits: each run has a fixed cost in round trips, whatever it takes in.
+   */
+  pollSeconds?: number;
+  /**
    * Milliseconds between a producer's wake-up and the fetch it triggers, so that the jobs committed
    * meanwhile are fetched, and run, together (for a batch handler whose cost is mostly per batch). Absent:
    * fetch at once.
@@ -53,6 +58,6 @@ export const jobRegistry: JobDef[] = [
   job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
   job({ queue: 'travelerRender', batchSize: 16, concurrency: 2, gatherMs: 250, batchHandler: runTravelerRenders }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
-  job({ queue: 'chartWatch', batchSize: 100, concurrency: 1, coalesce: true, handler: runChartWatch }),
+  job({ queue: 'chartWatch', batchSize: 100, concurrency: 1, coalesce: true, pollSeconds: 10, handler: runChartWatch }),
   job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];

@@ -68,7 +68,7 @@ export async function startWorker(opts: {
       let loopId = '';
       loopId = await queue.boss.work(
         def.name,
-        { pollingIntervalSeconds: 2, batchSize: job.batchSize },
+        { pollingIntervalSeconds: job.pollSeconds ?? 2, batchSize: job.batchSize },
         async (jobs) => {
           const fail = async (j: (typeof jobs)[number], err: unknown) => {
             logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
