@@ -58,6 +58,6 @@ export const jobRegistry: JobDef[] = [
   job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
   job({ queue: 'travelerRender', batchSize: 16, concurrency: 2, gatherMs: 250, batchHandler: runTravelerRenders }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
-  job({ queue: 'chartWatch', batchSize: 100, concurrency: 1, coalesce: true, pollSeconds: 10, handler: runChartWatch }),
+  job({ queue: 'chartWatch', batchSize: 1000, concurrency: 1, coalesce: true, pollSeconds: 10, handler: runChartWatch }),
   job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];
