@@ -3,7 +3,7 @@ import type { queues } from './queues';
 import type { WorkerDeps } from './worker-deps';
 import { runHousekeeping } from './housekeeping.job';
 import { runCalibrationCompute } from './calibration-compute.job';
-import { runTravelerRender } from './traveler-render.job';
+import { runTravelerRenders } from './traveler-render.job';
 import { runWhatIfJob } from './what-if-run.job';
 import { runChartWatch } from './chart-watch.job';
 
@@ -20,10 +20,35 @@ export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
    * was queued before the batch was fetched. If that run throws, each of its jobs fails (and is retried).
    */
   coalesce?: boolean;
-  handler: (deps: WorkerDeps, payload: z.infer<(typeof queues)[K]['payload']>) => Promise<unknown>;
+  /**
+   * Seconds between a fetch loop's polls when nobody wakes it (default 2). A queue that coalesces takes in
+   * more per run the longer it waits: each run has a fixed cost in round trips, whatever it takes in.
+   */
+  pollSeconds?: number;
+  /**
+   * Milliseconds between a producer's wake-up and the fetch it triggers, so that the jobs committed
+   * meanwhile are fetched, and run, together (for a batch handler whose cost is mostly per batch). Absent:
+   * fetch at once.
+   */
+  gatherMs?: number;
+  /** Runs one job (or one coalesced run). */
+  handler?: (deps: WorkerDeps, payload: Payload<K>) => Promise<unknown>;
+  /**
+   * Runs a whole fetched batch in one call, instead of `handler`: one outcome a job, in order, an Error
+   * failing that job alone (and pg-boss retrying it). If the call itself throws, every job of the batch fails.
+   */
+  batchHandler?: (deps: WorkerDeps, payloads: Payload<K>[]) => Promise<(Error | undefined)[]>;
 }
 
-function job<K extends keyof typeof queues>(def: JobDef<K>): JobDef {
+type Payload<K extends keyof typeof queues> = z.infer<(typeof queues)[K]['payload']>;
+
+function job<K extends keyof typeof queues>(
+  def: JobDef<K> &
+    (
+      | { handler: JobDef<K>['handler']; batchHandler?: never }
+      | { batchHandler: JobDef<K>['batchHandler']; handler?: never }
+    ),
+): JobDef {
   return def as unknown as JobDef;
 }
 
@@ -31,8 +56,8 @@ function job<K extends keyof typeof queues>(def: JobDef<K>): JobDef {
 // prettier-ignore
 export const jobRegistry: JobDef[] = [
   job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
-  job({ queue: 'travelerRender', batchSize: 8, concurrency: 2, handler: runTravelerRender }),
+  job({ queue: 'travelerRender', batchSize: 16, concurrency: 2, gatherMs: 250, batchHandler: runTravelerRenders }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
-  job({ queue: 'chartWatch', batchSize: 100, concurrency: 1, coalesce: true, handler: runChartWatch }),
+  job({ queue: 'chartWatch', batchSize: 1000, concurrency: 1, coalesce: true, pollSeconds: 10, handler: runChartWatch }),
   job({ queue: 'housekeeping', schedule: '*/10 * * * *', batchSize: 1, concurrency: 1, handler: (deps) => runHousekeeping(deps) }),
 ];

@@ -26,8 +26,9 @@ export function runsOf<J extends { data?: unknown }>(jobs: J[], coalesce: boolea
 
 /**
  * The worker process: serves every queue in the registry. Each job's payload is validated against
- * its queue schema; a job that throws is failed alone (the rest of its batch completes; the jobs of a
- * coalesced run fail together) and pg-boss retries it with the registry's policy. Producers NOTIFY on JOBS_WAKE_CHANNEL at commit, and the
+ * its queue schema; a job that throws (or whose outcome from a batch handler is an error) is failed alone
+ * (the rest of its batch completes; the jobs of a coalesced run fail together) and pg-boss retries it with
+ * the registry's policy. Producers NOTIFY on JOBS_WAKE_CHANNEL at commit, and the
  * worker wakes the matching fetch loops at once instead of waiting for the next poll.
  */
 export async function startWorker(opts: {
@@ -67,16 +68,36 @@ export async function startWorker(opts: {
       let loopId = '';
       loopId = await queue.boss.work(
         def.name,
-        { pollingIntervalSeconds: 2, batchSize: job.batchSize },
+        { pollingIntervalSeconds: job.pollSeconds ?? 2, batchSize: job.batchSize },
         async (jobs) => {
-          for (const run of runsOf(jobs, job.coalesce ?? false)) {
+          const fail = async (j: (typeof jobs)[number], err: unknown) => {
+            logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
+            await queue.boss.fail(def.name, j.id, { message: (err as Error)?.message ?? String(err) });
+          };
+          if (job.batchHandler) {
+            // A payload that does not parse fails its job alone; the rest run together.
+            const valid: { j: (typeof jobs)[number]; payload: unknown }[] = [];
+            for (const j of jobs) {
+              const parsed = def.payload.safeParse(j.data ?? {});
+              if (parsed.success) valid.push({ j, payload: parsed.data });
+              else await fail(j, parsed.error);
+            }
+            let outcomes: unknown[];
             try {
-              const payload = def.payload.parse(run[0].data ?? {});
-              await job.handler(deps, payload as never);
+              outcomes = valid.length
+                ? await job.batchHandler(deps, valid.map((v) => v.payload) as never)
+                : [];
             } catch (err) {
-              for (const j of run) {
-                logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
-                await queue.boss.fail(def.name, j.id, { message: (err as Error).message ?? String(err) });
+              outcomes = valid.map(() => err);
+            }
+            for (const [i, v] of valid.entries()) if (outcomes[i]) await fail(v.j, outcomes[i]);
+          } else {
+            for (const run of runsOf(jobs, job.coalesce ?? false)) {
+              try {
+                const payload = def.payload.parse(run[0].data ?? {});
+                await job.handler!(deps, payload as never);
+              } catch (err) {
+                for (const j of run) await fail(j, err);
               }
             }
           }
@@ -95,6 +116,10 @@ export async function startWorker(opts: {
   // Wake-ups: one LISTEN connection; reconnects if the database restarts.
   let listener: pg.Client | null = null;
   let stopped = false;
+  const gathering = new Map(
+    served.filter((j) => j.gatherMs !== undefined).map((j) => [queues[j.queue].name as string, j.gatherMs!]),
+  );
+  const gatherTimers = new Map<string, NodeJS.Timeout>();
   const listen = async () => {
     if (stopped) return;
     const c = new pg.Client({
@@ -103,13 +128,27 @@ export async function startWorker(opts: {
     });
     // One notification, one job: wake one fetch loop, in turn, rather than all of them (each wake-up
     // is a fetch query). A loop that finds more work than its batch keeps fetching without waiting.
+    // A queue with `gatherMs` is woken once per gathering window, whatever number of jobs arrived in it.
     const turn = new Map<string, number>();
-    c.on('notification', (msg) => {
-      const ids = loops.get(msg.payload ?? '');
-      if (!ids?.length) return;
-      const i = turn.get(msg.payload!) ?? 0;
-      turn.set(msg.payload!, (i + 1) % ids.length);
+    const wake = (name: string, ids: string[]) => {
+      const i = turn.get(name) ?? 0;
+      turn.set(name, (i + 1) % ids.length);
       queue.boss.notifyWorker(ids[i]);
+    };
+    c.on('notification', (msg) => {
+      const name = msg.payload ?? '';
+      const ids = loops.get(name);
+      if (!ids?.length) return;
+      const gatherMs = gathering.get(name);
+      if (gatherMs === undefined) return wake(name, ids);
+      if (gatherTimers.has(name)) return;
+      gatherTimers.set(
+        name,
+        setTimeout(() => {
+          gatherTimers.delete(name);
+          if (!stopped) wake(name, ids);
+        }, gatherMs),
+      );
     });
     // A dying connection can report more than one error: reconnect once per connection.
     let lost = false;
@@ -140,6 +179,7 @@ export async function startWorker(opts: {
     deps,
     async stop() {
       stopped = true;
+      for (const t of gatherTimers.values()) clearTimeout(t);
       await listener?.end().catch(() => {});
       await queue.stop();
       mailer?.close();

@@ -50,7 +50,7 @@ beforeAll(async () => {
   const { rows } = await source.database.pool.query<{ id: string }>(
     `select id from calibrations where purpose = 'station' and verdict in ('pass', 'fail')`,
   );
-  for (const r of rows) await renderFirstTraveler(source.deps.db, r.id, NOW);
+  for (const r of rows) await renderFirstTraveler(source.deps.pool, r.id, NOW);
   dir = mkdtempSync(join(tmpdir(), 'pw-backup-'));
   appRole = decodeURIComponent(new URL(inject('databaseAppUrl')).username);
 }, 120_000);

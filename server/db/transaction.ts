@@ -34,8 +34,15 @@ export async function withTransaction<T>(
       opts.readOnly ? 'read only' : null,
     ].filter(Boolean);
     await client.query(modes.length ? `BEGIN ${modes.join(' ')}` : 'BEGIN');
-    const tx = drizzle(client, { schema, casing: 'snake_case' });
-    const out = await work({ client, tx, discard: () => (discarded = true) });
+    // Drizzle on the connection is made only for work that uses it (building it costs more than a statement).
+    let tx: DbOrTx | undefined;
+    const out = await work({
+      client,
+      get tx() {
+        return (tx ??= drizzle(client, { schema, casing: 'snake_case' }));
+      },
+      discard: () => (discarded = true),
+    });
     await client.query(discarded ? 'ROLLBACK' : 'COMMIT');
     return out;
   } catch (e) {

@@ -35,7 +35,7 @@ async function main() {
         .orderBy(desc(calibrations.computedAt))
         .limit(1);
       for (const size of ['A4', 'LETTER'] as const) {
-        const pdf = await renderTravelerPdf(await travelerData(database.db, latest.id, 1, size, new Date()));
+        const pdf = await renderTravelerPdf(await travelerData(database.pool, latest.id, 1, size, new Date()));
         const base = path.join(outDir, `traveler-${serial}-${size}`);
         writeFileSync(`${base}.pdf`, pdf);
         execFileSync('pdftoppm', ['-r', '80', '-png', `${base}.pdf`, base]);

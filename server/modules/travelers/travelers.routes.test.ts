@@ -30,7 +30,7 @@ async function calibratedUnit(serial: string, offsetDeg = 2.5) {
     measurementPk: rows[0].id,
     recipeId: line.recipe.id,
   });
-  await renderFirstTraveler(t.deps.db, calibrationId, new Date());
+  await renderFirstTraveler(t.deps.pool, calibrationId, new Date());
   return { measurement: m, calibrationId };
 }
 
@@ -128,8 +128,8 @@ describe('unit travelers', () => {
   it('renders print 1 only once when the job runs twice', async () => {
     const { calibrationId } = await calibratedUnit('SN-TRAV-4');
     const [a, b] = await Promise.all([
-      renderFirstTraveler(t.deps.db, calibrationId, new Date()),
-      renderFirstTraveler(t.deps.db, calibrationId, new Date()),
+      renderFirstTraveler(t.deps.pool, calibrationId, new Date()),
+      renderFirstTraveler(t.deps.pool, calibrationId, new Date()),
     ]);
     expect(a).toBe(b);
     const { rows } = await t.database.pool.query(

@@ -48,7 +48,7 @@ export function travelersRoutes(deps: AppDeps) {
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
         await checkStationScope(caller.station?.stationId, unit.id);
-        const doc = await currentTraveler(deps.db, unit.id, deps.clock());
+        const doc = await currentTraveler(deps, unit.id, deps.clock());
         if (!doc) throw travelerErrors.none(unit.serial);
         sendTraveler(res, doc, unit.serial);
       },
@@ -82,7 +82,7 @@ export function travelersRoutes(deps: AppDeps) {
         const { pageSize } = body;
         const unit = await findUnitBySerial(deps.db, serial);
         if (!unit) throw unitErrors.notFound(serial);
-        const doc = await printTraveler(deps.db, caller.user, unit.id, unit.serial, pageSize, deps.clock());
+        const doc = await printTraveler(deps, caller.user, unit.id, unit.serial, pageSize, deps.clock());
         res.status(201).json({
           travelerId: doc.id,
           printNumber: doc.printNumber,

@@ -1,13 +1,16 @@
 import { createHash, randomUUID } from 'node:crypto';
 import { travelerSettings } from '#server/env';
-import { and, desc, eq, sql } from 'drizzle-orm';
-import type { Db, DbOrTx } from '#server/db/client';
+import type pg from 'pg';
+import { and, desc, eq } from 'drizzle-orm';
+import type { Db } from '#server/db/client';
+import { prepared } from '#server/db/prepared';
+import { withTransaction, type Transaction } from '#server/db/transaction';
 import type { SessionUser } from '#server/lib/auth';
 import { travelerErrors } from './travelers.errors';
 import type { CalibrationResult } from '#shared/schemas/calibration-result';
 import { countAuditOf, insertAudit } from '../audit/audit.repository';
 import { latestJudgedCalibrationOfUnit } from '../calibrations/calibrations.repository';
-import { travelerSource, type TravelerSource } from '../read-models/traveler-data.repository';
+import { travelerSources, type TravelerSource } from '../read-models/traveler-data.repository';
 import { EVENTS_CHANNEL } from '../events/event-hub';
 import type { LineEvent } from '#shared/schemas/events';
 import { findUnitBySerial } from '../units/units.service';
@@ -25,13 +28,13 @@ const lotText = (v: string | null) => (v && /^[A-Za-z0-9]/.test(v) ? v : 'n/a');
 
 /** Gathers everything the traveler prints for one calibration. */
 export async function travelerData(
-  db: DbOrTx,
+  client: pg.Pool | pg.PoolClient,
   calibrationId: string,
   printNumber: number,
   pageSize: 'A4' | 'LETTER',
   generatedAt: Date,
 ): Promise<TravelerDataInput> {
-  const row = await travelerSource(db, calibrationId);
+  const row = (await travelerSources(client, [calibrationId])).get(calibrationId);
   if (!row || row.cal.verdict === 'unusable') throw travelerErrors.notPrintable();
   return travelerDataOf(row, printNumber, pageSize, generatedAt);
 }
@@ -62,7 +65,7 @@ function travelerDataOf(
     verdict: row.cal.verdict as 'pass' | 'fail',
     offsetDeg: result.offsetDeg ?? 0,
     offsetCounts: result.offsetCounts ?? 0,
-    countsPerTurn: row.recipe.body.countsPerTurn,
+    countsPerTurn: row.recipe.countsPerTurn,
     lagDeg: result.lagDeg ?? undefined,
     edges: result.edges.map((e) => ({ sensor: e.sensor, edge: e.edge, residualDeg: e.residualDeg ?? 0 })),
     speedRpm: result.speedRpm,
@@ -82,7 +85,7 @@ function travelerDataOf(
     generatedAt: generatedAt.toISOString(),
     timeZone: travelerSettings().TRAVELER_TIME_ZONE,
     recipe: {
-      name: (row.recipe.body.name ?? row.model.code).replace(/[^A-Za-z0-9 ._\-/#+:]/g, '-'),
+      name: (row.recipe.name ?? row.model.code).replace(/[^A-Za-z0-9 ._\-/#+:]/g, '-'),
       version: row.recipe.version,
     },
     engineVersion: row.cal.engineVersion,
@@ -113,7 +116,7 @@ function travelerDataOf(
 }
 
 async function store(
-  db: DbOrTx,
+  t: Transaction,
   calibrationId: string,
   unitId: string,
   printNumber: number,
@@ -122,9 +125,11 @@ async function store(
   now: Date,
 ): Promise<TravelerRecord> {
   const t0 = performance.now();
-  const pdf = await renderTravelerPdf(await travelerData(db, calibrationId, printNumber, pageSize, now));
+  const pdf = await renderTravelerPdf(
+    await travelerData(t.client, calibrationId, printNumber, pageSize, now),
+  );
   const renderMs = Math.round(performance.now() - t0);
-  const [row] = await db
+  const [row] = await t.tx
     .insert(travelers)
     .values({
       unitId,
@@ -142,59 +147,191 @@ async function store(
   return row;
 }
 
-/** A transaction lock on one calibration's travelers: prints of it take turns. */
-async function lockCalibration(tx: DbOrTx, calibrationId: string): Promise<void> {
-  await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`traveler:${calibrationId}`}, 0))`);
+const lockKey = (calibrationId: string) => `traveler:${calibrationId}`;
+
+/**
+ * Transaction locks on calibrations' travelers: prints of one calibration take turns. Several are taken
+ * in one statement, in key order, so two batches that share calibrations cannot deadlock.
+ */
+async function lockCalibrations(client: pg.PoolClient, calibrationIds: readonly string[]): Promise<void> {
+  const keys = [...new Set(calibrationIds.map(lockKey))].sort();
+  await client.query(
+    prepared(
+      `select pg_advisory_xact_lock(hashtextextended(k, 0))
+         from (select k from unnest($1::text[]) as k order by k) keys`,
+      [keys],
+    ),
+  );
+}
+
+/** What the job made of one calibration: print 1's id (null for an unusable one), or why it failed. */
+export type FirstPrintOutcome =
+  | { calibrationId: string; travelerId: string | null; error?: undefined }
+  | { calibrationId: string; error: Error };
+
+interface RenderedFirstPrint {
+  calibrationId: string;
+  id: string;
+  unitId: string;
+  pdf: Buffer;
+  renderMs: number;
+  event: string;
 }
 
 /**
- * The job: print 1 of a committed calibration's traveler, once (a second run finds it and stops). One
- * statement reads everything it prints; the page is rendered outside any transaction; then, under a
- * lock named after the calibration, one statement stores it (unless a concurrent run has) and announces
- * it: five round trips in all.
+ * Stores print 1 of each rendered calibration that has none yet, and announces each one stored, in one
+ * statement; answers each calibration's print 1 (stored now, or found). The caller holds the calibrations'
+ * locks: the statement starts after they were taken, so its snapshot sees any print a concurrent run stored.
  */
+async function storeFirstPrints(
+  client: pg.PoolClient,
+  prints: RenderedFirstPrint[],
+  pageSize: 'A4' | 'LETTER',
+  now: Date,
+): Promise<Map<string, string>> {
+  const values: unknown[] = [pageSize, now.toISOString(), EVENTS_CHANNEL];
+  const rows = prints.map((p) => {
+    const at = values.length;
+    values.push(
+      p.id,
+      p.unitId,
+      p.calibrationId,
+      p.pdf,
+      createHash('sha256').update(p.pdf).digest('hex'),
+      p.pdf.length,
+      p.renderMs,
+      p.event,
+    );
+    const n = (i: number) => `$${at + i}`;
+    return `(${n(1)}::uuid, ${n(2)}::uuid, ${n(3)}::uuid, ${n(4)}::bytea, ${n(5)}::text, ${n(6)}::int, ${n(7)}::int, ${n(8)}::text)`;
+  });
+  // Prepared per batch size: the text differs only in how many rows it lists.
+  const { rows: stored } = await client.query<{ calibration_id: string; id: string }>(
+    prepared(
+      `with v (id, unit_id, calibration_id, pdf, sha256, bytes, render_ms, event) as (values ${rows.join(', ')}),
+       existing as (
+         select distinct on (t.calibration_id) t.calibration_id, t.id
+           from travelers t join v on t.calibration_id = v.calibration_id
+          where t.print_number = 1 order by t.calibration_id, t.created_at
+       ), ins as (
+         insert into travelers (id, unit_id, calibration_id, print_number, page_size, pdf, sha256, bytes, render_ms, created_at)
+         select v.id, v.unit_id, v.calibration_id, 1, $1::page_size, v.pdf, v.sha256, v.bytes, v.render_ms, $2::timestamptz
+           from v where not exists (select 1 from existing e where e.calibration_id = v.calibration_id)
+         returning id, calibration_id
+       )
+       select ins.calibration_id, ins.id, pg_notify($3, v.event) from ins join v on v.id = ins.id
+       union all select calibration_id, id, null from existing`,
+      values,
+    ),
+  );
+  return new Map(stored.map((r) => [r.calibration_id, r.id]));
+}
+
+/**
+ * The job, for a batch of calibrations: print 1 of each committed calibration's traveler, once (a second
+ * run finds it and stops). One statement reads everything the batch prints; each page is rendered outside
+ * any transaction; then, under locks named after the calibrations, one statement stores every new print
+ * and announces it: five round trips for the whole batch. A calibration that cannot be rendered or stored
+ * fails alone: the others' prints are stored (when storing them together fails, each is stored on its own).
+ */
+export async function renderFirstTravelers(
+  pool: pg.Pool,
+  calibrationIds: readonly string[],
+  now: Date,
+  pageSize: 'A4' | 'LETTER' = 'A4',
+): Promise<FirstPrintOutcome[]> {
+  const ids = [...new Set(calibrationIds)];
+  const sources = await travelerSources(pool, ids);
+  const outcomes = new Map<string, FirstPrintOutcome>();
+  const rendered: RenderedFirstPrint[] = [];
+  for (const calibrationId of ids) {
+    const row = sources.get(calibrationId);
+    if (!row) {
+      outcomes.set(calibrationId, {
+        calibrationId,
+        error: new Error(`calibration ${calibrationId} does not exist`),
+      });
+      continue;
+    }
+    if (row.cal.verdict === 'unusable' || row.firstPrintId) {
+      outcomes.set(calibrationId, { calibrationId, travelerId: row.firstPrintId });
+      continue;
+    }
+    try {
+      const t0 = performance.now();
+      const pdf = await renderTravelerPdf(travelerDataOf(row, 1, pageSize, now));
+      const id = randomUUID();
+      const event: LineEvent = {
+        type: 'traveler.ready',
+        stationId: row.cal.stationId,
+        unitId: row.cal.unitId,
+        serial: row.unit.serial,
+        calibrationId,
+        travelerId: id,
+        at: now.toISOString(),
+      };
+      rendered.push({
+        calibrationId,
+        id,
+        unitId: row.cal.unitId,
+        pdf,
+        renderMs: Math.round(performance.now() - t0),
+        event: JSON.stringify(event),
+      });
+    } catch (err) {
+      outcomes.set(calibrationId, { calibrationId, error: err as Error });
+    }
+  }
+  const storeAll = (prints: RenderedFirstPrint[]) =>
+    withTransaction(pool, async ({ client }) => {
+      await lockCalibrations(
+        client,
+        prints.map((p) => p.calibrationId),
+      );
+      return storeFirstPrints(client, prints, pageSize, now);
+    });
+  const record = (prints: RenderedFirstPrint[], stored: Map<string, string>) => {
+    for (const p of prints) {
+      const travelerId = stored.get(p.calibrationId);
+      outcomes.set(
+        p.calibrationId,
+        travelerId
+          ? { calibrationId: p.calibrationId, travelerId }
+          : {
+              calibrationId: p.calibrationId,
+              error: new Error(`print 1 of ${p.calibrationId} was not stored`),
+            },
+      );
+    }
+  };
+  if (rendered.length) {
+    try {
+      record(rendered, await storeAll(rendered));
+    } catch (err) {
+      // One bad print must not keep the others: store each on its own.
+      for (const p of rendered) {
+        try {
+          if (rendered.length === 1) throw err;
+          record([p], await storeAll([p]));
+        } catch (e) {
+          outcomes.set(p.calibrationId, { calibrationId: p.calibrationId, error: e as Error });
+        }
+      }
+    }
+  }
+  return calibrationIds.map((id) => outcomes.get(id)!);
+}
+
+/** Print 1 of one calibration (see renderFirstTravelers): its id, or null for an unusable calibration. */
 export async function renderFirstTraveler(
-  db: Db,
+  pool: pg.Pool,
   calibrationId: string,
   now: Date,
   pageSize: 'A4' | 'LETTER' = 'A4',
-) {
-  const row = await travelerSource(db, calibrationId);
-  if (!row) throw new Error(`calibration ${calibrationId} does not exist`);
-  if (row.cal.verdict === 'unusable') return null;
-  if (row.firstPrintId) return row.firstPrintId;
-  const t0 = performance.now();
-  const pdf = await renderTravelerPdf(travelerDataOf(row, 1, pageSize, now));
-  const renderMs = Math.round(performance.now() - t0);
-  const id = randomUUID();
-  const event: LineEvent = {
-    type: 'traveler.ready',
-    stationId: row.cal.stationId,
-    unitId: row.cal.unitId,
-    serial: row.unit.serial,
-    calibrationId,
-    travelerId: id,
-    at: now.toISOString(),
-  };
-  return db.transaction(async (tx) => {
-    // Serialise concurrent runs of the same job on a lock named after the calibration (a row lock
-    // would need UPDATE on calibrations, which the app role does not have: the table is append-only).
-    // The insert is a statement of its own after the lock, so its snapshot sees a concurrent run's print.
-    await lockCalibration(tx, calibrationId);
-    const { rows } = await tx.execute<{ id: string }>(sql`
-      with existing as (
-        select id from ${travelers} where calibration_id = ${calibrationId}::uuid and print_number = 1 limit 1
-      ), ins as (
-        insert into ${travelers} (id, unit_id, calibration_id, print_number, page_size, pdf, sha256, bytes, render_ms, created_at)
-        select ${id}::uuid, ${row.cal.unitId}::uuid, ${calibrationId}::uuid, 1, ${pageSize}::page_size, ${pdf}::bytea,
-          ${createHash('sha256').update(pdf).digest('hex')}, ${pdf.length}::int, ${renderMs}::int, ${now.toISOString()}::timestamptz
-        where not exists (select 1 from existing)
-        returning id
-      )
-      select id, (select pg_notify(${EVENTS_CHANNEL}, ${JSON.stringify(event)})) as notified from ins
-      union all select id, null from existing`);
-    return rows[0].id;
-  });
+): Promise<string | null> {
+  const [outcome] = await renderFirstTravelers(pool, [calibrationId], now, pageSize);
+  if (outcome.error) throw outcome.error;
+  return outcome.travelerId;
 }
 
 /**
@@ -203,10 +340,11 @@ export async function renderFirstTraveler(
  * in thousands of jobs at start) gets it rendered now, once.
  */
 export async function currentTraveler(
-  db: Db,
+  deps: { db: Db; pool: pg.Pool },
   unitId: string,
   now: Date,
 ): Promise<TravelerRecord | undefined> {
+  const { db } = deps;
   const latest = await latestJudgedCalibrationOfUnit(db, unitId);
   if (!latest) return undefined;
   const newest = () =>
@@ -218,7 +356,7 @@ export async function currentTraveler(
       .limit(1);
   const [doc] = await newest();
   if (doc) return doc;
-  await renderFirstTraveler(db, latest.id, now);
+  await renderFirstTraveler(deps.pool, latest.id, now);
   return (await newest())[0];
 }
 
@@ -227,17 +365,18 @@ export async function currentTraveler(
  * every later one renders a reprint marked with its number. Every print is audited.
  */
 export async function printTraveler(
-  db: Db,
+  deps: { db: Db; pool: pg.Pool },
   actor: SessionUser,
   unitId: string,
   serial: string,
   pageSize: 'A4' | 'LETTER',
   now: Date,
 ): Promise<TravelerRecord> {
-  const latest = await latestJudgedCalibrationOfUnit(db, unitId);
+  const latest = await latestJudgedCalibrationOfUnit(deps.db, unitId);
   if (!latest) throw travelerErrors.none(serial);
-  return db.transaction(async (tx) => {
-    await lockCalibration(tx, latest.id);
+  return withTransaction(deps.pool, async (t) => {
+    const { tx } = t;
+    await lockCalibrations(t.client, [latest.id]);
     const n = await countAuditOf(tx, {
       subjectType: 'calibration',
       subjectId: latest.id,
@@ -259,7 +398,7 @@ export async function printTraveler(
           ),
         );
     }
-    doc ??= await store(tx, latest.id, unitId, printNumber, pageSize, actor.id, now);
+    doc ??= await store(t, latest.id, unitId, printNumber, pageSize, actor.id, now);
     await insertAudit(tx, {
       actorId: actor.id,
       actorName: actor.displayName,

@@ -125,8 +125,8 @@ export async function computeCalibration(
       });
     }
     // The traveler render (newest first) and the watched charts' update were queued by the statement
-    // above, with the calibration (picked up at the chart worker's next poll, within 2 s: alerts need
-    // no millisecond wake-up).
+    // above, with the calibration (picked up at the chart worker's next poll, within 10 s, jobs/registry.ts:
+    // alerts need no second-by-second wake-up, and a longer wait takes in more calibrations per run).
     return inserted.id;
   });
   if (calibrationId) return { calibrationId, created: true };
