@@ -6,8 +6,9 @@ import type { DistributionAggregate, GroupAggregate } from './calibration-aggreg
  * The whole-model figures of the line statistics computed from the rows kept in memory (calibration-store.ts):
  * the same figures, by the same rules, as the SQL statements of calibration-aggregates.repository.ts compute
  * inside PostgreSQL (quartiles as percentile_cont, histogram bins, sums about the mean, moving ranges in
- * production order, tie-averaged ranks). Pure: a selection in, numbers out. The tests hold both paths and
- * the pure functions of shared/statistics equal on the same data.
+ * production order, tie-averaged ranks). Pure (a selection in, numbers out), except sortedOrderOf, which keeps
+ * each figure's sorted order on its partition and brings it up to date. The tests hold both paths and the
+ * pure functions of shared/statistics equal on the same data.
  */
 
 /** Quantiles of sorted values as percentile_cont computes them. */
