@@ -1,9 +1,8 @@
-import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestApp, type TestApp } from '#tests/harness/test-app';
 import { createLineFixture } from '#tests/harness/line-fixtures';
 import { simulatedMeasurement } from '#tests/harness/measurements';
-import { computeCalibration } from '#server/modules/measurements/measurements.service';
+import { postAndCompute } from '#tests/harness/station-post';
 import { EVENTS_CHANNEL } from '#server/modules/events/event-hub';
 import { runTravelerRenders } from './traveler-render.job';
 import type { WorkerDeps } from './worker-deps';
@@ -14,23 +13,8 @@ let bad: Awaited<ReturnType<typeof createLineFixture>>;
 let deps: WorkerDeps;
 
 /** Posts a measurement at the fixture's station and computes it, as the station and the worker would. */
-async function calibration(line: typeof good, serial: string) {
-  const m = simulatedMeasurement(line.recipe.body, serial);
-  const posted = await request(t.app)
-    .post('/api/station/measurements')
-    .set('X-Station-Key', line.key)
-    .send(m);
-  expect(posted.status).toBe(202);
-  const { rows } = await t.database.pool.query('select id from measurements where measurement_id = $1', [
-    m.measurementId,
-  ]);
-  const ctx = { db: t.deps.db, pool: t.deps.pool, queue: t.deps.queue, clock: t.deps.clock };
-  const { calibrationId } = await computeCalibration(ctx, {
-    measurementPk: rows[0].id,
-    recipeId: line.recipe.id,
-  });
-  return calibrationId;
-}
+const calibration = (line: typeof good, serial: string) =>
+  postAndCompute(t, line, simulatedMeasurement(line.recipe.body, serial));
 
 const printsOf = async (ids: string[]) => {
   const { rows } = await t.database.pool.query<{ calibration_id: string; n: number }>(

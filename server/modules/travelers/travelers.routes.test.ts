@@ -4,7 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TEST_ORIGIN, createTestApp, sessionCookie, type TestApp } from '#tests/harness/test-app';
 import { createLineFixture } from '#tests/harness/line-fixtures';
 import { simulatedMeasurement } from '#tests/harness/measurements';
-import { computeCalibration } from '../measurements/measurements.service';
+import { postAndCompute } from '#tests/harness/station-post';
 import { renderFirstTraveler } from './travelers.service';
 
 let t: TestApp;
@@ -17,19 +17,7 @@ const cookieOf = (username: string, password: string) => sessionCookie(t.app, us
 /** Posts a measurement, computes it and renders print 1, as the station and the worker would. */
 async function calibratedUnit(serial: string, offsetDeg = 2.5) {
   const m = simulatedMeasurement(line.recipe.body, serial, { offsetDeg });
-  const posted = await request(t.app)
-    .post('/api/station/measurements')
-    .set('X-Station-Key', line.key)
-    .send(m);
-  expect(posted.status).toBe(202);
-  const { rows } = await t.database.pool.query('select id from measurements where measurement_id = $1', [
-    m.measurementId,
-  ]);
-  const ctx = { db: t.deps.db, pool: t.deps.pool, queue: t.deps.queue, clock: t.deps.clock };
-  const { calibrationId } = await computeCalibration(ctx, {
-    measurementPk: rows[0].id,
-    recipeId: line.recipe.id,
-  });
+  const calibrationId = await postAndCompute(t, line, m);
   await renderFirstTraveler(t.deps.pool, calibrationId, new Date());
   return { measurement: m, calibrationId };
 }
