@@ -64,62 +64,77 @@ export function createRuleState(): RuleState {
   return { recent: [] };
 }
 
-function lastN(points: readonly RulePoint[], n: number): RulePoint[] | null {
-  return points.length >= n ? points.slice(points.length - n) : null;
+// The checks read the last n points in place and build a list only when a rule fires (a 10,000-point chart runs
+// every check at every point: slicing a window each time made most of its garbage).
+
+/** Where the last n points start, or -1 when there are fewer. */
+function windowStart(points: readonly RulePoint[], n: number): number {
+  return points.length >= n ? points.length - n : -1;
 }
 
-function beyond(p: RulePoint, k: number, side: 1 | -1): boolean {
+function beyond(p: RulePoint, k: number, side: number): boolean {
   return side * p.z > k;
 }
 
+const SIDES = [1, -1] as const;
+
 function kOfM(points: readonly RulePoint[], k: number, m: number, sigmas: number): RulePoint[] | null {
-  const win = lastN(points, m);
-  if (!win) return null;
-  const current = win[m - 1];
-  for (const side of [1, -1] as const) {
+  const from = windowStart(points, m);
+  if (from < 0) return null;
+  const current = points[points.length - 1];
+  for (let s = 0; s < SIDES.length; s++) {
+    const side = SIDES[s];
     if (!beyond(current, sigmas, side)) continue;
-    const hits = win.filter((p) => beyond(p, sigmas, side));
-    if (hits.length >= k) return hits;
+    let count = 0;
+    for (let i = from; i < points.length; i++) if (beyond(points[i], sigmas, side)) count += 1;
+    if (count >= k) return points.slice(from).filter((p) => beyond(p, sigmas, side));
   }
   return null;
 }
 
 function sameSide(points: readonly RulePoint[], n: number): RulePoint[] | null {
-  const win = lastN(points, n);
-  if (!win) return null;
-  if (win.every((p) => p.z > 0) || win.every((p) => p.z < 0)) return win;
-  return null;
+  const from = windowStart(points, n);
+  if (from < 0) return null;
+  let above = true;
+  let below = true;
+  for (let i = from; i < points.length; i++) {
+    if (!(points[i].z > 0)) above = false;
+    if (!(points[i].z < 0)) below = false;
+  }
+  return above || below ? points.slice(from) : null;
 }
 
 function trend(points: readonly RulePoint[], n: number): RulePoint[] | null {
-  const win = lastN(points, n);
-  if (!win) return null;
+  const from = windowStart(points, n);
+  if (from < 0) return null;
   let up = true;
   let down = true;
-  for (let i = 1; i < n; i++) {
-    if (!(win[i].value > win[i - 1].value)) up = false;
-    if (!(win[i].value < win[i - 1].value)) down = false;
+  for (let i = from + 1; i < points.length; i++) {
+    if (!(points[i].value > points[i - 1].value)) up = false;
+    if (!(points[i].value < points[i - 1].value)) down = false;
   }
-  return up || down ? win : null;
+  return up || down ? points.slice(from) : null;
 }
 
 function alternating(points: readonly RulePoint[], n: number): RulePoint[] | null {
-  const win = lastN(points, n);
-  if (!win) return null;
-  for (let i = 1; i < n; i++) {
-    const d = win[i].value - win[i - 1].value;
+  const from = windowStart(points, n);
+  if (from < 0) return null;
+  for (let i = from + 1; i < points.length; i++) {
+    const d = points[i].value - points[i - 1].value;
     if (d === 0) return null;
-    if (i >= 2) {
-      const prev = win[i - 1].value - win[i - 2].value;
+    if (i >= from + 2) {
+      const prev = points[i - 1].value - points[i - 2].value;
       if (Math.sign(d) === Math.sign(prev)) return null;
     }
   }
-  return win;
+  return points.slice(from);
 }
 
 function all(points: readonly RulePoint[], n: number, test: (p: RulePoint) => boolean): RulePoint[] | null {
-  const win = lastN(points, n);
-  return win && win.every(test) ? win : null;
+  const from = windowStart(points, n);
+  if (from < 0) return null;
+  for (let i = from; i < points.length; i++) if (!test(points[i])) return null;
+  return points.slice(from);
 }
 
 type RuleCheck = (points: readonly RulePoint[]) => RulePoint[] | null;
@@ -128,6 +143,9 @@ const beyond3: RuleCheck = (pts) => {
   const p = pts[pts.length - 1];
   return Math.abs(p.z) > 3 ? [p] : null;
 };
+
+const within1 = (q: RulePoint) => Math.abs(q.z) < 1;
+const outside1 = (q: RulePoint) => Math.abs(q.z) > 1;
 
 const CHECKS: Record<RuleSet, readonly RuleCheck[]> = {
   'western-electric': [beyond3, (p) => kOfM(p, 2, 3, 2), (p) => kOfM(p, 4, 5, 1), (p) => sameSide(p, 8)],
@@ -138,28 +156,35 @@ const CHECKS: Record<RuleSet, readonly RuleCheck[]> = {
     (p) => alternating(p, 14),
     (p) => kOfM(p, 2, 3, 2),
     (p) => kOfM(p, 4, 5, 1),
-    (p) => all(p, 15, (q) => Math.abs(q.z) < 1),
-    (p) => all(p, 8, (q) => Math.abs(q.z) > 1),
+    (p) => all(p, 15, within1),
+    (p) => all(p, 8, outside1),
   ],
 };
 
-/** Adds one point to the state and returns the rules it completes. The state is updated in place. */
+const NO_HITS: readonly RuleHit[] = Object.freeze([]);
+
+/**
+ * Adds one point to the state and returns the rules it completes. The state is updated in place. The list
+ * returned when nothing fires is shared and frozen: add to a list of your own.
+ */
 export function pushRulePoint(
   state: RuleState,
   point: RulePoint,
   ruleSet: RuleSet,
   rules: readonly number[] = allRules(ruleSet),
-): RuleHit[] {
+): readonly RuleHit[] {
   state.recent.push(point);
-  if (state.recent.length > WINDOW) state.recent.splice(0, state.recent.length - WINDOW);
-  const hits: RuleHit[] = [];
-  for (const rule of rules) {
-    const check = CHECKS[ruleSet][rule - 1];
+  while (state.recent.length > WINDOW) state.recent.shift();
+  let hits: RuleHit[] | null = null;
+  const checks = CHECKS[ruleSet];
+  for (let r = 0; r < rules.length; r++) {
+    const rule = rules[r];
+    const check = checks[rule - 1];
     if (!check) continue;
     const involved = check(state.recent);
-    if (involved) hits.push({ rule, index: point.index, involved: involved.map((p) => p.index) });
+    if (involved) (hits ??= []).push({ rule, index: point.index, involved: involved.map((p) => p.index) });
   }
-  return hits;
+  return hits ?? NO_HITS;
 }
 
 export function allRules(ruleSet: RuleSet): number[] {
@@ -174,6 +199,9 @@ export function evaluateRules(
 ): RuleHit[] {
   const state = createRuleState();
   const hits: RuleHit[] = [];
-  for (const p of points) hits.push(...pushRulePoint(state, p, ruleSet, rules));
+  for (let i = 0; i < points.length; i++) {
+    const found = pushRulePoint(state, points[i], ruleSet, rules);
+    for (let k = 0; k < found.length; k++) hits.push(found[k]);
+  }
   return hits;
 }

@@ -30,22 +30,43 @@ interface Plotted {
   period?: string;
 }
 
-function pointsOf(line: ChartLine, plotted: Plotted[], hits: RuleHit[]) {
+type Point = ControlChartView['location']['points'][number];
+
+/** The rules of a point without hits: one frozen list shared by every such point (most of a chart's points). */
+const NO_RULES: number[] = Object.freeze([]) as unknown as number[];
+
+/**
+ * The points of a line. The location line's points are its plotted records themselves, completed in place
+ * (`own`); a second line over the same units (the spread) gets points of its own. Thousands of points, few with
+ * hits: a 10,000-point chart made most of its garbage here before.
+ */
+function pointsOf(line: ChartLine, plotted: Plotted[], hits: readonly RuleHit[], own = false): Point[] {
   const rulesAt = new Map<number, number[]>();
   for (const h of hits) rulesAt.set(h.index, [...(rulesAt.get(h.index) ?? []), h.rule]);
-  // Thousands of points, few of them with hits: no set or spread for the others.
-  return line.values.map((value, i) => {
+  const points = new Array<Point>(line.values.length);
+  for (let i = 0; i < points.length; i++) {
     const p = plotted[i];
     const at = rulesAt.get(i);
-    const point = {
-      serial: p.serial,
-      unitIds: p.unitIds,
-      computedAt: p.computedAt,
-      value,
-      rules: at ? [...new Set(at)].sort((a, b) => a - b) : [],
-    };
-    return p.period === undefined ? point : { ...point, period: p.period };
-  });
+    const rules = at ? [...new Set(at)].sort((a, b) => a - b) : NO_RULES;
+    if (own) {
+      const point = p as Point;
+      point.value = line.values[i];
+      point.rules = rules;
+      points[i] = point;
+    } else
+      points[i] =
+        p.period === undefined
+          ? { serial: p.serial, unitIds: p.unitIds, computedAt: p.computedAt, value: line.values[i], rules }
+          : {
+              serial: p.serial,
+              unitIds: p.unitIds,
+              computedAt: p.computedAt,
+              value: line.values[i],
+              rules,
+              period: p.period,
+            };
+  }
+  return points;
 }
 
 /** Rule 1 on a spread chart (or an EWMA): a point outside its limits, whatever their symmetry. */
@@ -62,12 +83,12 @@ function plottedOf(rows: ChartRow[], size: number): Plotted[] {
     return rows.map((r) => ({
       serial: r.serial,
       unitIds: [r.unitId],
-      computedAt: r.computedAt.toISOString(),
+      computedAt: r.computedAt,
     }));
   return consecutiveSubgroups(rows, size).map((g) => ({
     serial: g[g.length - 1].serial,
     unitIds: g.map((r) => r.unitId),
-    computedAt: g[g.length - 1].computedAt.toISOString(),
+    computedAt: g[g.length - 1].computedAt,
   }));
 }
 
@@ -80,7 +101,7 @@ function periodSubgroups(rows: ChartRow[], size: number, by: 'hour' | 'shift', t
   const groups: { period: string; rows: ChartRow[] }[] = [];
   let current: { period: string; rows: ChartRow[] } | null = null;
   for (const r of rows) {
-    const period = keyOf(r.computedAt);
+    const period = keyOf(new Date(r.computedAt));
     if (!current || current.period !== period) {
       current = { period, rows: [] };
       groups.push(current);
@@ -137,7 +158,7 @@ export async function controlChartView(
     ? periods.map((g) => ({
         serial: g.rows[g.rows.length - 1].serial,
         unitIds: g.rows.map((r) => r.unitId),
-        computedAt: g.rows[g.rows.length - 1].computedAt.toISOString(),
+        computedAt: g.rows[g.rows.length - 1].computedAt,
         period: g.period,
       }))
     : plottedOf(rows, size);
@@ -160,7 +181,7 @@ export async function controlChartView(
     locationHits = outsideLimits(c.line);
     location = {
       title: `EWMA of ${figureLabel} (λ ${q.lambda}, L ${q.L})`,
-      points: pointsOf(c.line, plotted, locationHits),
+      points: pointsOf(c.line, plotted, locationHits, true),
       center: c.line.center,
       ucl: c.line.ucl,
       lcl: c.line.lcl,
@@ -195,7 +216,7 @@ export async function controlChartView(
           : periods
             ? `Subgroup means (up to ${size} units per ${byPeriod}, plant time): ${figureLabel}`
             : `Subgroup means (${size} units): ${figureLabel}`,
-      points: pointsOf(loc, plotted, locationHits),
+      points: pointsOf(loc, plotted, locationHits, true),
       center: loc.center,
       ucl: loc.ucl,
       lcl: loc.lcl,

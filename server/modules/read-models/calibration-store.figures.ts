@@ -1,4 +1,4 @@
-import { movedBy, type Partition, type Selection, type SortedOrder } from './calibration-store';
+import { movedBy, type Codes, type Partition, type Selection, type SortedOrder } from './calibration-store';
 import type { AnalysisFigure } from '#shared/schemas/analysis';
 import type { DistributionAggregate, GroupAggregate } from './calibration-aggregates.repository';
 
@@ -317,7 +317,7 @@ export const MAX_GROUPS = 65_535;
 export function groupsOf(
   sel: Selection,
   sorted: { order: Int32Array; values: Float64Array; n: number },
-  column: Int32Array,
+  column: Codes,
   plus: number,
   newestCount: number,
   scratch: GroupScratch,

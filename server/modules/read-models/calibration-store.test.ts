@@ -17,7 +17,7 @@ import {
   quantileSorted,
   sortedPlaces,
 } from './calibration-store.figures';
-import type { Partition, Selection } from './calibration-store';
+import { fitted, Partition as PartitionClass, type Partition, type Selection } from './calibration-store';
 
 // The views answer from the rows kept in memory when they read through the pool, and from one SQL statement
 // inside a transaction: two implementations of the same figures. These tests hold them equal on the demo
@@ -321,5 +321,50 @@ describe('order statistics along the sorted order, without sorting each view', (
       [11, 12, 13],
       [20, 21, 22],
     ]);
+  });
+});
+
+describe('codes are kept in 16 bits until one needs more', () => {
+  const row = (t: number, lot: number, recipeVersion: number) =>
+    ({
+      id: Uint32Array.of(0, 0, 0, t),
+      t,
+      model: '',
+      purpose: '',
+      station: 3,
+      operator: -1,
+      verdict: 1,
+      attempt: 1,
+      recipeVersion,
+      hall: lot,
+      magnet: -1,
+      stator: 7,
+      figures: null,
+    }) as Parameters<Partition['append']>[0];
+
+  it('a lot code past 32,767 widens its column to 32 bits and keeps every earlier code', () => {
+    const part = new PartitionClass(4);
+    part.append(row(1, 5, 2));
+    part.append(row(2, -1, 2));
+    expect(part.hall).toBeInstanceOf(Int16Array);
+    part.append(row(3, 40_000, 70_000));
+    expect(part.hall).toBeInstanceOf(Int32Array);
+    expect(part.recipeVersion).toBeInstanceOf(Int32Array);
+    expect(part.station).toBeInstanceOf(Int16Array);
+    expect(Array.from(part.hall.subarray(0, 3))).toEqual([5, -1, 40_000]);
+    expect(Array.from(part.recipeVersion.subarray(0, 3))).toEqual([2, 2, 70_000]);
+    // Growing past the first capacity keeps the wider column's type.
+    for (let k = 4; k < 2_000; k++) part.append(row(k, k, 2));
+    expect(part.hall).toBeInstanceOf(Int32Array);
+    expect(part.hall[2]).toBe(40_000);
+    expect(part.length).toBe(1_999);
+    expect(part.stator[1_998]).toBe(7);
+  });
+
+  it('a code that fits leaves the column as it is', () => {
+    const column = new Int16Array(4);
+    expect(fitted(column, 32_767)).toBe(column);
+    expect(fitted(column, -1)).toBe(column);
+    expect(fitted(column, 32_768)).toBeInstanceOf(Int32Array);
   });
 });

@@ -164,6 +164,15 @@ const MAX_CHANGES = 256;
 const MAX_CHANGED_ROWS = 200_000;
 
 /** The rows of one model and purpose, in production order, as columns. */
+/** A column of codes: 16 bits until a code needs more. */
+export type Codes = Int16Array | Int32Array;
+
+/** The column itself, or a 32-bit copy of it when `code` does not fit in 16 bits. */
+export function fitted(column: Codes, code: number): Codes {
+  if (column instanceof Int32Array || (code >= -32768 && code <= 32767)) return column;
+  return Int32Array.from(column);
+}
+
 export class Partition {
   length = 0;
   /**
@@ -259,21 +268,24 @@ export class Partition {
   private capacity = 0;
   ids = new Uint32Array(0);
   t = new Float64Array(0);
-  station = new Int32Array(0);
-  operator = new Int32Array(0);
+  // Codes (dictionary codes, -1 where not recorded; attempt and recipe version as numbers) in 16 bits: a model's
+  // stations, operators and lots number in the hundreds or thousands, not tens of thousands. A column whose code
+  // outgrows 16 bits is widened to 32 on the spot (`write`).
+  station: Codes = new Int16Array(0);
+  operator: Codes = new Int16Array(0);
   verdict = new Uint8Array(0);
-  attempt = new Int32Array(0);
-  recipeVersion = new Int32Array(0);
-  hall = new Int32Array(0);
-  magnet = new Int32Array(0);
-  stator = new Int32Array(0);
+  attempt: Codes = new Int16Array(0);
+  recipeVersion: Codes = new Int16Array(0);
+  hall: Codes = new Int16Array(0);
+  magnet: Codes = new Int16Array(0);
+  stator: Codes = new Int16Array(0);
   /** The figures read so far (a column per figure, NaN where the calibration has none). */
   readonly figures = new Map<AnalysisFigure, Float64Array>();
 
   private grow(min: number) {
     if (min <= this.capacity) return;
     const cap = Math.max(min, Math.ceil(this.capacity * 1.5), 1024);
-    const widen = <T extends Float64Array | Int32Array | Uint8Array | Uint32Array>(a: T, per = 1): T => {
+    const widen = <T extends Float64Array | Codes | Uint8Array | Uint32Array>(a: T, per = 1): T => {
       const b = new (a.constructor as new (n: number) => T)(cap * per);
       b.set(a.subarray(0, this.length * per));
       return b;
@@ -345,7 +357,7 @@ export class Partition {
 
   remove(i: number): void {
     this.note().rewrote = true;
-    const move = <T extends Float64Array | Int32Array | Uint8Array | Uint32Array>(a: T, per = 1) =>
+    const move = <T extends Float64Array | Codes | Uint8Array | Uint32Array>(a: T, per = 1) =>
       a.copyWithin(i * per, (i + 1) * per, this.length * per);
     move(this.ids, 4);
     for (const a of this.columns()) move(a);
@@ -368,7 +380,7 @@ export class Partition {
   }
 
   private shiftUp(i: number) {
-    const move = <T extends Float64Array | Int32Array | Uint8Array | Uint32Array>(a: T, per = 1) =>
+    const move = <T extends Float64Array | Codes | Uint8Array | Uint32Array>(a: T, per = 1) =>
       a.copyWithin((i + 1) * per, i * per, this.length * per);
     move(this.ids, 4);
     for (const a of this.columns()) move(a);
@@ -378,13 +390,20 @@ export class Partition {
   private write(i: number, r: DecodedRow) {
     this.ids.set(r.id, i * 4);
     this.t[i] = r.t;
+    this.station = fitted(this.station, r.station);
     this.station[i] = r.station;
+    this.operator = fitted(this.operator, r.operator);
     this.operator[i] = r.operator;
     this.verdict[i] = r.verdict;
+    this.attempt = fitted(this.attempt, r.attempt);
     this.attempt[i] = r.attempt;
+    this.recipeVersion = fitted(this.recipeVersion, r.recipeVersion);
     this.recipeVersion[i] = r.recipeVersion;
+    this.hall = fitted(this.hall, r.hall);
     this.hall[i] = r.hall;
+    this.magnet = fitted(this.magnet, r.magnet);
     this.magnet[i] = r.magnet;
+    this.stator = fitted(this.stator, r.stator);
     this.stator[i] = r.stator;
     if (r.figures)
       for (let k = 0; k < FIGURES.length; k++) {
