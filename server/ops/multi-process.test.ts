@@ -6,7 +6,7 @@ import { parseEnv } from '../env';
 import { createLineFixture } from '#tests/harness/line-fixtures';
 import { simulatedMeasurement } from '#tests/harness/measurements';
 import { StationHttp, StationHttpError } from '../modules/demo/station-client';
-import { TSX, startService, waitForHttp, type Service } from './services.mjs';
+import { API_NODE_FLAGS, TSX, startService, waitForHttp, type Service } from './services.mjs';
 
 /**
  * Two API processes, two compute workers and two renderers against one database, as real processes.
@@ -92,7 +92,7 @@ describe('two API processes, two compute workers and two renderers on one databa
     { timeout: 420_000 },
     async () => {
       const ports = [BASE_PORT, BASE_PORT + 1];
-      const apis = ports.map((port, i) => start(`api-${i + 1}`, ['server/main.ts'], port));
+      const apis = ports.map((port, i) => start(`api-${i + 1}`, [...API_NODE_FLAGS, 'server/main.ts'], port));
       await Promise.all(apis.map((api, i) => waitForHttp(`http://127.0.0.1:${ports[i]}/api/health`, api)));
       const computeQueues = 'calibration-compute,chart-watch,housekeeping';
       const workers = [1, 2].map((i) => start(`worker-${i}`, ['jobs/worker.ts'], ports[0], computeQueues));

@@ -11,7 +11,7 @@ import { join, relative } from 'node:path';
 import { ensureDeps } from './ensure-deps.mjs';
 import { ensurePostgres, ensureReplica, postmasterAlive } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
-import { TSX, portInUse, runStep, waitForHttp } from './services.mjs';
+import { API_NODE_FLAGS, TSX, portInUse, runStep, waitForHttp } from './services.mjs';
 import { superviseService } from './supervise.mjs';
 
 const log = prefixedLog('start');
@@ -234,17 +234,22 @@ try {
     env.STORAGE_ENDPOINT = `http://127.0.0.1:${storagePort}`;
   }
 
-  const server = supervise('server', TSX, dev ? ['watch', 'server/main.ts'] : ['server/main.ts'], {
-    env,
-    ready: (service) => waitForHttp(`http://127.0.0.1:${port}/api/health`, service),
-  });
+  const server = supervise(
+    'server',
+    TSX,
+    dev ? ['watch', ...API_NODE_FLAGS, 'server/main.ts'] : [...API_NODE_FLAGS, 'server/main.ts'],
+    {
+      env,
+      ready: (service) => waitForHttp(`http://127.0.0.1:${port}/api/health`, service),
+    },
+  );
   await server.firstStart;
   // Further API processes on the next ports (PORT+1, …): a reverse proxy in front spreads clients over them.
   for (let i = 2; i <= scale.api; i++) {
     const extraPort = port + i - 1;
     if (await portInUse(extraPort))
       throw new Error(`Port ${extraPort} (API process ${i}) is already in use.`);
-    const extra = supervise(`server-${i}`, TSX, ['server/main.ts'], {
+    const extra = supervise(`server-${i}`, TSX, [...API_NODE_FLAGS, 'server/main.ts'], {
       env: { ...env, PORT: String(extraPort), SEED_DEMO: 'false' },
       ready: (service) => waitForHttp(`http://127.0.0.1:${extraPort}/api/health`, service),
     });

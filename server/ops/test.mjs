@@ -8,7 +8,7 @@ import { ensureChromium } from './ensure-chromium.mjs';
 import { ensureDeps } from './ensure-deps.mjs';
 import { ensurePostgres, stopPostgres } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
-import { TSX, freePort, runStep, startService, waitForHttp } from './services.mjs';
+import { API_NODE_FLAGS, TSX, freePort, runStep, startService, waitForHttp } from './services.mjs';
 import { checkMigrationsMatchSchema } from './db-check.mjs';
 
 const log = prefixedLog('test');
@@ -88,7 +88,7 @@ async function browserSuite(pg, chromiumPath) {
     const objects = startService('objects', TSX, ['server/cli/fake-storage.ts'], { env, quiet: true });
     services.push(objects);
     await waitForHttp(`http://127.0.0.1:${storagePort}/_health`, objects, 30_000);
-    const server = startService('server', TSX, ['server/main.ts'], { env, quiet: true });
+    const server = startService('server', TSX, [...API_NODE_FLAGS, 'server/main.ts'], { env, quiet: true });
     services.push(server);
     await waitForHttp(`http://127.0.0.1:${port}/api/health`, server);
     services.push(startService('worker', TSX, ['jobs/worker.ts'], { env, quiet: true }));

@@ -29,7 +29,7 @@ import pg from 'pg';
 import { chromium, type Browser, type CDPSession, type Page } from 'playwright-core';
 import { ensurePostgres } from '#server/ops/pg-local.mjs';
 import { prefixedLog, repoRoot } from '#server/ops/proc.mjs';
-import { TSX, freePort, runStep, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
+import { API_NODE_FLAGS, TSX, freePort, runStep, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
 import { createDatabase } from '#server/db/client';
 import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
 import { createStation } from '#server/modules/stations/stations.service';
@@ -426,7 +426,7 @@ async function main(): Promise<number> {
   if ((await build) !== 0) throw new Error('the client build failed (output above)');
 
   const port = await freePort();
-  const server = startService('server', TSX, ['server/main.ts'], {
+  const server = startService('server', TSX, [...API_NODE_FLAGS, 'server/main.ts'], {
     env: {
       ...process.env,
       NODE_ENV: 'test',

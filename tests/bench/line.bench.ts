@@ -16,7 +16,7 @@ import { join } from 'node:path';
 import pg from 'pg';
 import { ensurePostgres } from '#server/ops/pg-local.mjs';
 import { prefixedLog } from '#server/ops/proc.mjs';
-import { TSX, freePort, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
+import { API_NODE_FLAGS, TSX, freePort, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
 import { createDatabase } from '#server/db/client';
 import { createStation, createStationKey } from '#server/modules/stations/stations.service';
 import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
@@ -54,10 +54,10 @@ const TRAVELER_DRAIN_LIMIT_MS = 120_000;
 // BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
 // (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
 const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
-const node = (script: string): [string, string[]] =>
+const node = (script: string, flags: readonly string[] = []): [string, string[]] =>
   PROFILE_DIR
-    ? [process.execPath, ['--cpu-prof', '--cpu-prof-dir', PROFILE_DIR, '--import', 'tsx', script]]
-    : [TSX, [script]];
+    ? [process.execPath, [...flags, '--cpu-prof', '--cpu-prof-dir', PROFILE_DIR, '--import', 'tsx', script]]
+    : [TSX, [...flags, script]];
 
 const log = prefixedLog('bench:line');
 const verdict = (ok: boolean) => (ok ? 'met' : 'NOT met');
@@ -474,7 +474,7 @@ async function main(): Promise<number> {
     SMTP_URL: `smtp://127.0.0.1:${await freePort()}`,
     MAILBOX_URL: '',
   };
-  const server = startService('server', ...node('server/main.ts'), {
+  const server = startService('server', ...node('server/main.ts', API_NODE_FLAGS), {
     env,
     quiet: !process.env.BENCH_LINE_VERBOSE,
   });
