@@ -1,6 +1,6 @@
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { createTestApp, type TestApp } from '#tests/harness/test-app';
-import { jobInsertSql } from './queue-client';
+import { BOSS_SCHEMA, createBoss, hotQueueTexts, jobInsertSql } from './queue-client';
 import { queues } from './queues';
 
 let t: TestApp;
@@ -44,5 +44,34 @@ describe('a job queued inside a producer statement', () => {
       if (job) fetched.add(job.id);
     }
     expect(fetched).toEqual(new Set([viaLibrary, rows[0].id]));
+  });
+});
+
+describe('the job queue on the line', () => {
+  it("fetches and completes jobs through prepared statements of pg-boss's own texts", async () => {
+    const hot = hotQueueTexts(BOSS_SCHEMA);
+    expect(hot.size).toBe(6);
+    const { boss, db } = createBoss(t.database.url, { max: 2 });
+    const sent = vi.spyOn(db, 'executeSql');
+    await boss.start();
+    try {
+      const name = queues.chartWatch.name;
+      const id = await boss.send(name, { stationId: crypto.randomUUID(), modelId: crypto.randomUUID() });
+      // Twice each: the second call runs the statement prepared by the first on the same connection.
+      const ids: string[] = [];
+      for (let i = 0; i < 2; i += 1)
+        ids.push(...((await boss.fetch(name, { batchSize: 5 })) ?? []).map((j) => j.id));
+      expect(ids).toEqual([id]);
+      await boss.complete(name, id!);
+      await boss.complete(name, id!);
+      const hotCalls = sent.mock.calls.filter(([text]) => hot.has(text));
+      // Two fetches and two completions went the prepared way: pg-boss sends exactly the texts named hot.
+      expect(hotCalls).toHaveLength(4);
+      const { rows } = await t.database.pool.query('select state::text from pgboss.job where id = $1', [id]);
+      expect(rows[0].state).toBe('completed');
+    } finally {
+      await boss.stop({ graceful: false, wait: true });
+      await db.close();
+    }
   });
 });

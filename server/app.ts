@@ -62,8 +62,13 @@ export function createApp(deps: AppDeps, opts: { routes?: RouteDef[] } = {}) {
   app.use(
     express.json({
       limit: JSON_BODY_LIMIT,
-      verify: (req, _res, buf) => {
-        (req as Request).rawBody = buf.toString('utf8');
+      verify: (req, _res, buf, encoding) => {
+        const text = buf.toString('utf8');
+        (req as Request).rawBody = text;
+        // Read as UTF-8, JSON text can put a NUL or a lone surrogate into a string only as a \u escape
+        // (JSON.parse refuses a raw control character, and decoding UTF-8 never yields a lone surrogate):
+        // without one, the input guard need not walk the parsed body (a measurement's thousands of values).
+        (req as Request).bodyTextPlain = encoding === 'utf-8' && !text.includes('\\u');
       },
     }),
   );

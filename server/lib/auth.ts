@@ -30,6 +30,8 @@ declare module 'express-serve-static-core' {
     sessionProblem?: 'expired' | 'revoked' | 'invalid';
     /** The body's text as received (JSON routes), kept for records that must store it verbatim. */
     rawBody?: string;
+    /** The JSON body was UTF-8 without a single \u escape, so none of its strings can hold NUL or a lone surrogate. */
+    bodyTextPlain?: boolean;
   }
 }
 

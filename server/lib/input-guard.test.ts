@@ -63,6 +63,14 @@ describe('text no request can carry', () => {
     }
     const key = JSON.stringify(m).replace('"serial"', '"\\u0000serial"');
     expect((await postRaw(key, { 'Content-Type': 'application/json' })).status).toBe(400);
+    // A lone surrogate as a character, not an escape: only a UTF-16 body can carry one.
+    const utf16 = Buffer.from(
+      JSON.stringify({ ...m, segments: m.segments.map((s) => ({ ...s, label: 'a\ud800b' })) }),
+      'utf16le',
+    );
+    const wide = await postRaw(utf16, { 'Content-Type': 'application/json; charset=utf-16le' });
+    expect(wide.status).toBe(400);
+    expect(wide.body.error.code).toBe('request.bad_characters');
   });
 
   it('never answers 500 to any path parameter or query text of any GET route (fuzzed, NUL and control characters included)', async () => {

@@ -76,7 +76,7 @@ export function inputGuard(req: Request, _res: Response, next: NextFunction): vo
       }
     }
   }
-  const inBody = bodyProblem(req.body);
+  const inBody = req.bodyTextPlain ? null : bodyProblem(req.body);
   if (inBody) return next(refuse('body', inBody));
   next();
 }

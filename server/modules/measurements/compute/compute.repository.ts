@@ -30,7 +30,10 @@ export interface MeasurementToCompute {
 
 /**
  * The measurement, its unit's attempts so far, whether this job already ran, and the "computing" event,
- * in one statement.
+ * in one statement. Posted timings come as their posted text when that text is the canonical one (its
+ * SHA-256 is the stored hash of the canonical text, which the JSONB `payload` holds parsed): PostgreSQL then
+ * only decompresses the text instead of writing the JSONB out as text again, number by number (about five
+ * times the CPU). Any other body comes as `payload`, as before.
  */
 const claimStatement = namedStatement<{
   measurementPk: string;
@@ -40,21 +43,33 @@ const claimStatement = namedStatement<{
   atText: string;
 }>(
   `with d as (select id from calibrations where measurement_pk = $measurementPk and recipe_id = $recipeId and engine_version = $engineVersion)
-     select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source, m.payload,
-            case when m.source = 'capture' then m.payload_raw end as payload_raw,
+     select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source,
+            case when not k.canonical then m.payload end as payload,
+            case when m.source = 'capture' or k.canonical then m.payload_raw end as payload_raw,
+            k.canonical as raw_is_canonical,
             (select id from d) as done_id, u.attempts as unit_attempts, u.serial as unit_serial,
             case when not exists (select 1 from d) then pg_notify($eventsChannel, json_build_object(
               'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
               'serial', m.serial, 'measurementId', m.measurement_id, 'at', $atText::text)::text) end as notified
-       from measurements m join units u on u.id = m.unit_id where m.id = $measurementPk`,
+       from measurements m join units u on u.id = m.unit_id
+            cross join lateral (select m.source = 'timings'
+              and encode(sha256(convert_to(m.payload_raw, 'UTF8')), 'hex') = m.payload_sha256 as canonical) k
+      where m.id = $measurementPk`,
 );
 
 export async function claimMeasurement(
   pool: pg.Pool,
   values: Parameters<typeof claimStatement>[0],
 ): Promise<MeasurementToCompute | undefined> {
-  const { rows } = await pool.query<MeasurementToCompute>(claimStatement(values));
-  return rows[0];
+  const { rows } = await pool.query<
+    Omit<MeasurementToCompute, 'payload'> & { payload: Measurement | null; raw_is_canonical: boolean }
+  >(claimStatement(values));
+  const r = rows[0];
+  if (!r) return undefined;
+  const { raw_is_canonical, payload, ...rest } = r;
+  return raw_is_canonical
+    ? { ...rest, payload: JSON.parse(r.payload_raw!) as Measurement, payload_raw: null }
+    : { ...rest, payload: payload! };
 }
 
 /** The unit's counters, locked until the transaction ends (one calibration of a unit at a time). */

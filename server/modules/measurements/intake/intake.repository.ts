@@ -2,7 +2,10 @@ import type pg from 'pg';
 import { namedStatement } from '#server/db/statement';
 import { jobInsertSql } from '#jobs/queue-client';
 import type { UnitRecord } from '#server/modules/units/units.table';
-import { productionFactsSql, type ProductionFacts } from '#server/modules/qualification/qualification.service';
+import {
+  productionFactsSql,
+  type ProductionFacts,
+} from '#server/modules/qualification/qualification.service';
 
 /**
  * The station intake's statements. They read and write the units, stations and models beside the
@@ -34,7 +37,11 @@ export interface IntakeContext extends ProductionFacts {
  * A repeat of this id, the station, the unit (if known) and its model (or the station's only model), and
  * the qualification gate's facts (the qualification module's SQL).
  */
-const intakeContextStatement = namedStatement<{ stationId: string; serialKey: string; measurementId: string }>(
+const intakeContextStatement = namedStatement<{
+  stationId: string;
+  serialKey: string;
+  measurementId: string;
+}>(
   `select s.name as station_name, s.allowed_model_ids, s.attended_by,
             u.id as unit_id, u.serial as unit_serial, u.status as unit_status, u.hold_reason,
             mo.id as model_id, mo.code as model_code, mo.active_recipe_id,
@@ -65,8 +72,11 @@ interface MeasurementRowValues {
   source: 'timings' | 'capture';
   /** The zod-parsed body serialised in the schema's key order (JSONB). */
   canonical: string;
-  /** The body's text exactly as posted. */
-  raw: string;
+  /**
+   * The body's text exactly as posted; null when it is `canonical` itself (the usual case: the text then
+   * travels to PostgreSQL once, not twice).
+   */
+  raw: string | null;
   /** SHA-256 of `canonical`. */
   digest: string;
   operatorId: string | null;
@@ -104,7 +114,7 @@ const storeMeasurementStatement = namedStatement<
        ), m as (
          insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw,
                                    payload_sha256, operator_id, received_at)
-         select $measurementId, $stationId, u.id, u.serial, $source, $canonical, $raw, $digest, $operatorId, $receivedAt from u
+         select $measurementId, $stationId, u.id, u.serial, $source, $canonical::text::jsonb, coalesce($raw::text, $canonical::text), $digest, $operatorId, $receivedAt from u
          on conflict do nothing returning id, measurement_id, unit_id, serial
        ), j as (
          ${jobInsertSql({
@@ -138,7 +148,7 @@ export async function storeMeasurementInOneTrip(
 const insertMeasurementStatement = namedStatement<MeasurementRowValues & { unitId: string; serial: string }>(
   `insert into measurements (measurement_id, station_id, unit_id, serial, source, payload, payload_raw,
                                    payload_sha256, operator_id, received_at)
-         values ($measurementId, $stationId, $unitId, $serial, $source, $canonical, $raw, $digest, $operatorId, $receivedAt)
+         values ($measurementId, $stationId, $unitId, $serial, $source, $canonical::text::jsonb, coalesce($raw::text, $canonical::text), $digest, $operatorId, $receivedAt)
          on conflict do nothing returning id, measurement_id, received_at`,
 );
 

@@ -130,7 +130,7 @@ export async function acceptMeasurement(
     stationId: station.stationId,
     source: opts.source ?? 'timings',
     canonical,
-    raw: opts.raw ?? canonical,
+    raw: opts.raw === undefined || opts.raw === canonical ? null : opts.raw,
     digest,
     operatorId: c.attended_by,
   } as const;
