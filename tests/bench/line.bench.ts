@@ -51,6 +51,7 @@ const TARGETS = {
   travelerLagP95Ms: 2000,
 };
 const TRAVELER_DRAIN_LIMIT_MS = 120_000;
+const RENDER_NICE = process.env.BENCH_LINE_RENDER_NICE ?? '10';
 // BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
 // (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
 const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
@@ -485,8 +486,8 @@ async function main(): Promise<number> {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
-    // Renders yield the CPU to calibrations (nice 10), as under `npm start`.
-    startService('renderer', 'nice', ['-n', '10', ...node('jobs/worker.ts').flat()], {
+    // Renders run at the niceness `npm start` gives them (BENCH_LINE_RENDER_NICE tries another).
+    startService('renderer', 'nice', ['-n', RENDER_NICE, ...node('jobs/worker.ts').flat()], {
       env: { ...env, WORKER_QUEUES: 'traveler-render' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
