@@ -9,6 +9,12 @@ import { repoRoot, sleep } from './proc.mjs';
 export const TSX = join(repoRoot, 'node_modules', '.bin', 'tsx');
 
 /**
+ * Node options of a traveler renderer (`npm start`, bench:line): a render makes megabytes of short-lived
+ * garbage, and a 16 MB young generation (V8's default is a few MB) collects it less often.
+ */
+export const RENDERER_NODE_OPTIONS = '--max-semi-space-size=16';
+
+/**
  * @typedef {object} Service
  * @property {string} name
  * @property {import('node:child_process').ChildProcess} child

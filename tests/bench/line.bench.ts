@@ -16,7 +16,14 @@ import { join } from 'node:path';
 import pg from 'pg';
 import { ensurePostgres } from '#server/ops/pg-local.mjs';
 import { prefixedLog } from '#server/ops/proc.mjs';
-import { TSX, freePort, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
+import {
+  RENDERER_NODE_OPTIONS,
+  TSX,
+  freePort,
+  startService,
+  waitForHttp,
+  type Service,
+} from '#server/ops/services.mjs';
 import { createDatabase } from '#server/db/client';
 import { createStation, createStationKey } from '#server/modules/stations/stations.service';
 import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
@@ -52,6 +59,8 @@ const TARGETS = {
 };
 const TRAVELER_DRAIN_LIMIT_MS = 120_000;
 const RENDER_NICE = process.env.BENCH_LINE_RENDER_NICE ?? '10';
+// The renderer's node options under `npm start`; BENCH_LINE_RENDER_NODE_OPTIONS tries others ('' for none).
+const RENDER_NODE_OPTIONS = process.env.BENCH_LINE_RENDER_NODE_OPTIONS ?? RENDERER_NODE_OPTIONS;
 // BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
 // (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
 const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
@@ -488,7 +497,7 @@ async function main(): Promise<number> {
     }),
     // Renders run at the niceness `npm start` gives them (BENCH_LINE_RENDER_NICE tries another).
     startService('renderer', 'nice', ['-n', RENDER_NICE, ...node('jobs/worker.ts').flat()], {
-      env: { ...env, WORKER_QUEUES: 'traveler-render' },
+      env: { ...env, WORKER_QUEUES: 'traveler-render', NODE_OPTIONS: RENDER_NODE_OPTIONS },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
   );
