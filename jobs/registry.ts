@@ -33,9 +33,9 @@ export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
    */
   gatherMs?: number;
   /**
-   * Back-pressure: a fetched batch first waits (bounded) while more than `pressure.backlog` jobs of `queue`
-   * wait to be fetched and are being worked off, so this queue's producers do not run far ahead of the work
-   * they queue there (calibrations ahead of their travelers). See back-pressure.ts.
+   * Back-pressure: a fetched batch first waits (bounded) while a job of `queue` has waited longer than
+   * `pressure.olderThanMs` to be fetched and that backlog is being worked off, so this queue's producers do
+   * not run far ahead of the work they queue there (calibrations ahead of their travelers). See back-pressure.ts.
    */
   yieldsTo?: { queue: keyof typeof queues; pressure: BackPressureOptions };
   /** Runs one job (or one coalesced run). */
