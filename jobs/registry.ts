@@ -6,6 +6,7 @@ import { runCalibrationCompute } from './calibration-compute.job';
 import { runTravelerRenders } from './traveler-render.job';
 import { runWhatIfJob } from './what-if-run.job';
 import { runChartWatch } from './chart-watch.job';
+import { RENDER_BACK_PRESSURE, type BackPressureOptions } from './back-pressure';
 
 export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
   queue: K;
@@ -31,6 +32,12 @@ export interface JobDef<K extends keyof typeof queues = keyof typeof queues> {
    * fetch at once.
    */
   gatherMs?: number;
+  /**
+   * Back-pressure: a fetched batch first waits (bounded) while a job of `queue` has waited longer than
+   * `pressure.olderThanMs` to be fetched and that backlog is being worked off, so this queue's producers do
+   * not run far ahead of the work they queue there (calibrations ahead of their travelers). See back-pressure.ts.
+   */
+  yieldsTo?: { queue: keyof typeof queues; pressure: BackPressureOptions };
   /** Runs one job (or one coalesced run). */
   handler?: (deps: WorkerDeps, payload: Payload<K>) => Promise<unknown>;
   /**
@@ -55,7 +62,7 @@ function job<K extends keyof typeof queues>(
 /** Every job the worker runs, one line each. */
 // prettier-ignore
 export const jobRegistry: JobDef[] = [
-  job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, handler: runCalibrationCompute }),
+  job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, yieldsTo: { queue: 'travelerRender', pressure: RENDER_BACK_PRESSURE }, handler: runCalibrationCompute }),
   job({ queue: 'travelerRender', batchSize: 16, concurrency: 2, gatherMs: 250, batchHandler: runTravelerRenders }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
   job({ queue: 'chartWatch', batchSize: 1000, concurrency: 1, coalesce: true, pollSeconds: 10, handler: runChartWatch }),

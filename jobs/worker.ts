@@ -1,11 +1,13 @@
 import pg from 'pg';
 import { createDatabase } from '#server/db/client';
+import { prepared } from '#server/db/prepared';
 import { parseEnv, workerSettings } from '#server/env';
 import { createSmtpMailer } from '#server/modules/mail/mail.service';
 import { createLogger, type Logger } from '#server/lib/logger';
-import { startJobQueue, type JobQueue } from './queue-client';
+import { BOSS_SCHEMA, startJobQueue, type JobQueue } from './queue-client';
 import { JOBS_WAKE_CHANNEL, queues } from './queues';
 import { jobRegistry } from './registry';
+import { createBackPressure } from './back-pressure';
 import type { WorkerDeps } from './worker-deps';
 
 /**
@@ -63,6 +65,21 @@ export async function startWorker(opts: {
   const served = jobRegistry.filter((j) => !opts.queues || opts.queues.includes(queues[j.queue].name));
   for (const job of served) {
     const def = queues[job.queue];
+    const other = job.yieldsTo && queues[job.yieldsTo.queue].name;
+    // Jobs waiting to be fetched (created, or due for a retry): pg-boss's fetch index covers exactly these.
+    const pressure =
+      job.yieldsTo &&
+      createBackPressure(async () => {
+        const { rows } = await database.pool.query<{ queued: number; old: number }>(
+          prepared(
+            `select count(*)::int as queued,
+                    (count(*) filter (where created_on < now() - make_interval(secs => $2 / 1000.0)))::int as old
+               from ${BOSS_SCHEMA}.job where name = $1 and state < 'active'`,
+            [other, job.yieldsTo!.pressure.olderThanMs],
+          ),
+        );
+        return rows[0];
+      }, job.yieldsTo.pressure);
     const ids: string[] = [];
     for (let i = 0; i < job.concurrency; i++) {
       let loopId = '';
@@ -70,6 +87,11 @@ export async function startWorker(opts: {
         def.name,
         { pollingIntervalSeconds: job.pollSeconds ?? 2, batchSize: job.batchSize },
         async (jobs) => {
+          if (pressure) {
+            const waited = await pressure.wait();
+            if (waited > 0)
+              logger.debug({ queue: def.name, waitedMs: Math.round(waited), for: other }, 'back-pressure');
+          }
           const fail = async (j: (typeof jobs)[number], err: unknown) => {
             logger.error({ err, queue: def.name, jobId: j.id }, 'job failed');
             await queue.boss.fail(def.name, j.id, { message: (err as Error)?.message ?? String(err) });

@@ -19,6 +19,14 @@ export const TSX = join(repoRoot, 'node_modules', '.bin', 'tsx');
 export const API_NODE_FLAGS = ['--max-semi-space-size=4', '--heap-growing-percent=100'];
 
 /**
+ * Node options of a traveler renderer (`npm start`, bench:line): a render makes megabytes of short-lived
+ * garbage, which a young generation of 2 × 16 MB collects less often. That is V8's own maximum on a machine
+ * like this one (it starts at 1 MB and grows under allocation pressure); the option pins it where V8 would
+ * pick less.
+ */
+export const RENDERER_NODE_OPTIONS = '--max-semi-space-size=16';
+
+/**
  * @typedef {object} Service
  * @property {string} name
  * @property {import('node:child_process').ChildProcess} child

@@ -11,7 +11,7 @@ import { join, relative } from 'node:path';
 import { ensureDeps } from './ensure-deps.mjs';
 import { ensurePostgres, ensureReplica, postmasterAlive } from './pg-local.mjs';
 import { prefixedLog, repoRoot } from './proc.mjs';
-import { API_NODE_FLAGS, TSX, portInUse, runStep, waitForHttp } from './services.mjs';
+import { API_NODE_FLAGS, RENDERER_NODE_OPTIONS, TSX, portInUse, runStep, waitForHttp } from './services.mjs';
 import { superviseService } from './supervise.mjs';
 
 const log = prefixedLog('start');
@@ -264,10 +264,15 @@ try {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
     });
   }
-  // Renders and replays yield the CPU to calibrations (nice 10) and catch up when the line is quieter.
+  // Renders and replays yield the CPU to calibrations (nice 10); calibrations wait for renders that have
+  // waited too long (jobs/back-pressure.ts), so travelers keep up on a saturated line.
   for (let i = 1; i <= scale.renderers; i++) {
     supervise(i === 1 ? 'renderer' : `renderer-${i}`, 'nice', ['-n', '10', TSX, ...workerArgs], {
-      env: { ...env, WORKER_QUEUES: 'traveler-render,what-if-run' },
+      env: {
+        ...env,
+        WORKER_QUEUES: 'traveler-render,what-if-run',
+        NODE_OPTIONS: [env.NODE_OPTIONS, RENDERER_NODE_OPTIONS].filter(Boolean).join(' '),
+      },
     });
   }
 

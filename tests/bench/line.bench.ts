@@ -16,7 +16,15 @@ import { join } from 'node:path';
 import pg from 'pg';
 import { ensurePostgres } from '#server/ops/pg-local.mjs';
 import { prefixedLog } from '#server/ops/proc.mjs';
-import { API_NODE_FLAGS, TSX, freePort, startService, waitForHttp, type Service } from '#server/ops/services.mjs';
+import {
+  API_NODE_FLAGS,
+  RENDERER_NODE_OPTIONS,
+  TSX,
+  freePort,
+  startService,
+  waitForHttp,
+  type Service,
+} from '#server/ops/services.mjs';
 import { createDatabase } from '#server/db/client';
 import { createStation, createStationKey } from '#server/modules/stations/stations.service';
 import { createDemoCatalog } from '#server/modules/demo/demo-line.seed';
@@ -51,6 +59,9 @@ const TARGETS = {
   travelerLagP95Ms: 2000,
 };
 const TRAVELER_DRAIN_LIMIT_MS = 120_000;
+const RENDER_NICE = process.env.BENCH_LINE_RENDER_NICE ?? '10';
+// The renderer's node options under `npm start`; BENCH_LINE_RENDER_NODE_OPTIONS tries others ('' for none).
+const RENDER_NODE_OPTIONS = process.env.BENCH_LINE_RENDER_NODE_OPTIONS ?? RENDERER_NODE_OPTIONS;
 // BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
 // (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
 const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
@@ -485,9 +496,9 @@ async function main(): Promise<number> {
       env: { ...env, WORKER_QUEUES: 'calibration-compute,chart-watch,housekeeping' },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
-    // Renders yield the CPU to calibrations (nice 10), as under `npm start`.
-    startService('renderer', 'nice', ['-n', '10', ...node('jobs/worker.ts').flat()], {
-      env: { ...env, WORKER_QUEUES: 'traveler-render' },
+    // Renders run at the niceness `npm start` gives them (BENCH_LINE_RENDER_NICE tries another).
+    startService('renderer', 'nice', ['-n', RENDER_NICE, ...node('jobs/worker.ts').flat()], {
+      env: { ...env, WORKER_QUEUES: 'traveler-render', NODE_OPTIONS: RENDER_NODE_OPTIONS },
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
   );
