@@ -4,6 +4,7 @@ import './styles.css';
 import '#shared/schemas/plain-messages';
 import { Providers } from './app/providers';
 import { AppRouter } from './app/router';
+import { warmIntlSoon } from './lib/warm-intl';
 
 const container = document.getElementById('root');
 if (!container) throw new Error('index.html must contain <div id="root">');
@@ -15,3 +16,5 @@ createRoot(container).render(
     </Providers>
   </StrictMode>,
 );
+
+warmIntlSoon();

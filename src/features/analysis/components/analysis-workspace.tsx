@@ -1,16 +1,19 @@
-import type { ReactNode } from 'react';
+import { lazy, Suspense, useEffect, type ReactNode } from 'react';
 import { Link, useSearchParams } from 'react-router';
 import { ANALYSIS_FIGURES, type AnalysisFigure } from '#shared/schemas/analysis';
 import { Alert, Loading } from '#src/components/ui/alert';
 import { Panel } from '#src/components/ui/panel';
 import { useAnalysisView } from '../api/analysis';
 import { apiQuery, WORKSPACE_VIEWS, type WorkspaceView } from '../api/filter-state';
-import { ChartSettings, ControlChartPanel } from './chart-view';
+import { ChartSettings, ControlChartPanel, preloadControlChartPlot } from './chart-view';
 import { ComparisonPanel, ComparisonSettings } from './comparison-view';
-import { DistributionPanel } from './distribution-view';
 import { FilterBar } from './filter-bar';
 import { LineHealthPanel } from './health-view';
 import { LimitsPanel } from './limits-panel';
+
+/** The distribution view brings the statistics library (its normal curve): a chunk of its own, like the plot. */
+const preloadDistribution = () => import('./distribution-view');
+const DistributionPanel = lazy(() => preloadDistribution().then((m) => ({ default: m.DistributionPanel })));
 
 function isView(v: string | null): v is WorkspaceView {
   return WORKSPACE_VIEWS.some((w) => w.id === v);
@@ -38,6 +41,11 @@ export function AnalysisWorkspace({
     : 'distribution';
   const hasModel = !!params.get('model');
   const query = apiQuery(params, view);
+  // Each view's heavier code is fetched as soon as the view is chosen, while its figures are computed.
+  useEffect(() => {
+    if (view === 'control-chart') void preloadControlChartPlot();
+    if (view === 'distribution') void preloadDistribution();
+  }, [view]);
   const figure = (params.get('figure') ?? 'offsetDeg') as AnalysisFigure;
   const unit = ANALYSIS_FIGURES[figure]?.unit ?? '';
 
@@ -104,7 +112,9 @@ export function AnalysisWorkspace({
         <Panel title={WORKSPACE_VIEWS.find((w) => w.id === view)!.label} titleId="analysis-view">
           {view === 'distribution' ? (
             distribution.data ? (
-              <DistributionPanel view={distribution.data} />
+              <Suspense fallback={<Loading label="Drawing…" />}>
+                <DistributionPanel view={distribution.data} />
+              </Suspense>
             ) : (
               <ViewState error={distribution.error} pending={distribution.isPending} />
             )

@@ -1,9 +1,27 @@
+import { lazy, Suspense, type ComponentProps } from 'react';
 import { Link, useSearchParams } from 'react-router';
 import type { ControlChartView as View } from '#shared/schemas/analysis';
 import { SelectField, TextField } from '#src/components/ui/field';
 import { TableFrame, Td, Th } from '#src/components/ui/data-table';
-import { ControlChartPlot } from './control-chart-plot';
 import { fmt } from './stat-format';
+
+/**
+ * The plot and its chart library come as a chunk of their own, asked for as soon as the control-chart view
+ * opens (while the server computes the chart) and evaluated in a task of its own: inside the workspace's
+ * chunk they made its evaluation one of the page's longest tasks.
+ */
+export const preloadControlChartPlot = () => import('./control-chart-plot');
+const LazyPlot = lazy(() => preloadControlChartPlot().then((m) => ({ default: m.ControlChartPlot })));
+
+function ControlChartPlot(props: ComponentProps<typeof LazyPlot>) {
+  return (
+    <Suspense
+      fallback={<div aria-busy="true" className="w-full" style={{ minHeight: (props.height ?? 300) + 40 }} />}
+    >
+      <LazyPlot {...props} />
+    </Suspense>
+  );
+}
 
 const MAX_LISTED = 40;
 

@@ -126,7 +126,12 @@ export function ControlChartPlot({ id, title, unit, points, center, ucl, lcl, he
         ],
         hooks: { draw: [drawSignals] },
       };
-      const plot = new uPlot(opts, data, el);
+      // Built in two tasks: the plot's parts now, its scales, paths and first drawing in the next one.
+      let init: number | undefined;
+      const plot = new uPlot(opts, data, (u, start) => {
+        el.appendChild(u.root);
+        init = window.setTimeout(start, 0);
+      });
       const over = plot.over;
       const onClick = () => {
         const idx = plot.cursor.idx;
@@ -134,8 +139,10 @@ export function ControlChartPlot({ id, title, unit, points, center, ucl, lcl, he
       };
       over.addEventListener('click', onClick);
       over.style.cursor = 'pointer';
-      // The observer reports the size it finds at once: redraw only when the width really changed.
-      let width = plot.width;
+      // The observer reports the size it finds at once: redraw only when the width really changed. (From
+      // the options: the plot has no size of its own until its first drawing, and a redraw of 10,000 points
+      // for nothing cost as much as the drawing itself.)
+      let width = opts.width;
       const resize = new ResizeObserver(() => {
         if (el.clientWidth === width) return;
         width = el.clientWidth;
@@ -143,6 +150,7 @@ export function ControlChartPlot({ id, title, unit, points, center, ucl, lcl, he
       });
       resize.observe(el);
       return () => {
+        window.clearTimeout(init);
         resize.disconnect();
         over.removeEventListener('click', onClick);
         plot.destroy();
@@ -156,12 +164,18 @@ export function ControlChartPlot({ id, title, unit, points, center, ucl, lcl, he
     if (!el) return;
     // Built in a task of its own, after React's commit and apart from the other chart of the view: with
     // 10,000 points each build is tens of milliseconds, and together in one task they held the page
-    // (decision log: "a 10,000-point chart in tasks under 100 ms").
+    // (decision log: "a 10,000-point chart in tasks under 100 ms"). And after the browser's next frame: by
+    // then the page is laid out, so reading the host's width costs nothing, where straight after React's
+    // commit it made the browser lay out the whole new page inside the chart's task.
     let teardown: (() => void) | null = null;
-    const timer = setTimeout(() => {
-      teardown = drawChart(el);
-    }, 0);
+    let timer: ReturnType<typeof setTimeout> | undefined;
+    const frame = requestAnimationFrame(() => {
+      timer = setTimeout(() => {
+        teardown = drawChart(el);
+      }, 0);
+    });
     return () => {
+      cancelAnimationFrame(frame);
       clearTimeout(timer);
       teardown?.();
     };
