@@ -10,6 +10,7 @@
 // Every figure is printed beside its target (see TARGETS), with the load average: a shared machine
 // makes the figures noisy, so compare ratios in one run rather than absolutes across runs.
 // Prints figures; exits non-zero only when a post or result failed. Stops everything it started.
+import { createHash } from 'node:crypto';
 import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { availableParallelism, loadavg } from 'node:os';
 import { join } from 'node:path';
@@ -62,6 +63,11 @@ const TRAVELER_DRAIN_LIMIT_MS = 120_000;
 const RENDER_NICE = process.env.BENCH_LINE_RENDER_NICE ?? '10';
 // The renderer's node options under `npm start`; BENCH_LINE_RENDER_NODE_OPTIONS tries others ('' for none).
 const RENDER_NODE_OPTIONS = process.env.BENCH_LINE_RENDER_NODE_OPTIONS ?? RENDERER_NODE_OPTIONS;
+// The API process's V8 flags under `npm start`; BENCH_LINE_API_NODE_FLAGS tries others ('' for none).
+const API_FLAGS =
+  process.env.BENCH_LINE_API_NODE_FLAGS === undefined
+    ? API_NODE_FLAGS
+    : process.env.BENCH_LINE_API_NODE_FLAGS.split(/\s+/).filter(Boolean);
 // BENCH_LINE_PROFILE=DIR writes a CPU profile of the server, the worker and the renderer into DIR
 // (node --cpu-prof; open the .cpuprofile files in Chrome's DevTools or speedscope).
 const PROFILE_DIR = process.env.BENCH_LINE_PROFILE;
@@ -135,6 +141,71 @@ const TICKS_PER_SECOND = 100;
  * Linux only; 0 elsewhere. Wall-clock figures swing with other work on a shared machine; CPU time per
  * unit much less, so it says where a unit's cost goes.
  */
+/**
+ * The whole machine's CPU time from /proc/stat, in seconds: busy (user, nice, system, interrupts), idle
+ * (with I/O wait) and stolen (taken by the hypervisor for other guests). Linux only; zeros elsewhere. The
+ * same work costs visibly more CPU time while the host is busy, so each run says what the machine was doing.
+ */
+function machineCpuSeconds(): { busy: number; idle: number; steal: number } {
+  if (!existsSync('/proc/stat')) return { busy: 0, idle: 0, steal: 0 };
+  const f = readFileSync('/proc/stat', 'utf8').split('\n')[0].trim().split(/\s+/).slice(1).map(Number);
+  const tick = 100; // USER_HZ on Linux
+  return {
+    busy: (f[0] + f[1] + f[2] + f[5] + f[6]) / tick,
+    idle: (f[3] + f[4]) / tick,
+    steal: (f[7] ?? 0) / tick,
+  };
+}
+
+/**
+ * The CPU time this process takes for two fixed pieces of work, the least of three tries each: `compute`
+ * (hashing 16 MB, then a loop in registers) and `memory` (random reads over 64 MB, then JSON round trips of
+ * a measurement-sized object: cache misses and allocation, like a server's work). The same work every run:
+ * when the host gives this machine less (other guests on the same cores or the same memory), the figures
+ * rise, and every CPU-per-unit figure of the run with them. Between runs an hour apart on this machine the
+ * line's CPU per unit has doubled while the compute figure stayed put, hence the memory one.
+ */
+function referenceWorkMs(): { compute: number; memory: number } {
+  const buffer = Buffer.alloc(16 << 20, 7);
+  const table = new Int32Array(16 << 20);
+  for (let i = 0; i < table.length; i++) table[i] = (i * 2654435761) >>> 8;
+  const doc = { timings: Array.from({ length: 400 }, (_, i) => ({ edge: i, t: i * 1.2345e-4, kind: 'hall' })) };
+  const cpuMs = (fn: () => number) => {
+    let best = Infinity;
+    let sink = 0;
+    for (let run = 0; run < 3; run++) {
+      const t0 = process.cpuUsage();
+      sink += fn();
+      const d = process.cpuUsage(t0);
+      best = Math.min(best, (d.user + d.system) / 1000);
+    }
+    return sink === -1 ? -1 : best; // the sink keeps the work from being optimised away
+  };
+  const compute = cpuMs(() => {
+    createHash('sha256').update(buffer).digest();
+    let x = 1;
+    for (let i = 0; i < 20_000_000; i++) {
+      x ^= x << 13;
+      x ^= x >>> 17;
+      x ^= x << 5;
+    }
+    return x;
+  });
+  const memory = cpuMs(() => {
+    let x = 1;
+    let sum = 0;
+    for (let i = 0; i < 4_000_000; i++) {
+      x ^= x << 13;
+      x ^= x >>> 17;
+      x ^= x << 5;
+      sum += table[(x >>> 0) & (table.length - 1)];
+    }
+    for (let i = 0; i < 300; i++) sum += (JSON.parse(JSON.stringify(doc)) as typeof doc).timings.length;
+    return sum;
+  });
+  return { compute, memory };
+}
+
 function treeCpuSeconds(rootPid: number | undefined): number {
   if (!rootPid || !existsSync('/proc')) return 0;
   const stats = new Map<number, { ppid: number; own: number; children: number }>();
@@ -402,6 +473,11 @@ async function closedLoop(stations: BenchStation[], posts: number, tag: string) 
     held: reports.reduce((s, r) => s + r.held, 0),
     errorSamples: errors.slice(0, 5),
     latencies,
+    steps: {
+      post: reports.flatMap((r) => r.stepsMs.post),
+      result: reports.flatMap((r) => r.stepsMs.result),
+      confirm: reports.flatMap((r) => r.stepsMs.confirm),
+    },
   };
 }
 
@@ -422,6 +498,7 @@ async function openLoop(stations: BenchStation[]) {
     });
   }
   const latencies: number[] = [];
+  const postMs: number[] = [];
   const errors: string[] = [];
   const t0 = performance.now();
   const inFlight: Promise<void>[] = [];
@@ -435,6 +512,7 @@ async function openLoop(stations: BenchStation[]) {
         try {
           const start = performance.now();
           const accepted = await station.http.post(m);
+          postMs.push(performance.now() - start);
           const cal = await station.http.result(accepted.resultUrl);
           if (!cal) throw new Error(`${m.serial}: no result within 30 s`);
           latencies.push(performance.now() - start);
@@ -453,7 +531,34 @@ async function openLoop(stations: BenchStation[]) {
   }
   const offeredSeconds = (performance.now() - t0) / 1000;
   await Promise.all(inFlight);
-  return { posted: planned.length, offeredRate: planned.length / offeredSeconds, latencies, errors };
+  return { posted: planned.length, offeredRate: planned.length / offeredSeconds, latencies, postMs, errors };
+}
+
+/**
+ * Where a loop's units waited, from the database's own clock: measurement stored (its intake
+ * transaction's start) → station calibration's transaction started (the queue and the worker's fetch) →
+ * traveler stored.
+ */
+async function loopStages(ownerUrl: string, serialPrefix: string) {
+  const c = new pg.Client({ connectionString: ownerUrl });
+  await c.connect();
+  try {
+    const { rows } = await c.query<{ queued_ms: number; traveler_ms: number | null }>(
+      `select extract(epoch from c.computed_at - m.received_at) * 1000 as queued_ms,
+              extract(epoch from t.created_at - c.computed_at) * 1000 as traveler_ms
+         from measurements m
+         join calibrations c on c.measurement_pk = m.id and c.purpose = 'station'
+         left join travelers t on t.calibration_id = c.id and t.print_number = 1
+        where m.serial like $1 || '-%'`,
+      [serialPrefix],
+    );
+    return {
+      queued: rows.map((r) => Number(r.queued_ms)),
+      traveler: rows.filter((r) => r.traveler_ms !== null).map((r) => Number(r.traveler_ms)),
+    };
+  } finally {
+    await c.end();
+  }
 }
 
 async function main(): Promise<number> {
@@ -485,7 +590,7 @@ async function main(): Promise<number> {
     SMTP_URL: `smtp://127.0.0.1:${await freePort()}`,
     MAILBOX_URL: '',
   };
-  const server = startService('server', ...node('server/main.ts', API_NODE_FLAGS), {
+  const server = startService('server', ...node('server/main.ts', API_FLAGS), {
     env,
     quiet: !process.env.BENCH_LINE_VERBOSE,
   });
@@ -526,6 +631,13 @@ async function main(): Promise<number> {
   // As the owner: the app role may not create tables (the yardstick table is the bench's own).
   const rawRate = await rawInsertRate(ownerUrl.toString());
   log(`raw PostgreSQL single-row INSERT+COMMIT (~1 KB JSONB, 1 connection): ${rawRate.toFixed(0)} rows/s`);
+  const referenceBefore = referenceWorkMs();
+  const refText = (r: { compute: number; memory: number }) =>
+    `compute ${r.compute.toFixed(0)} ms, memory ${r.memory.toFixed(0)} ms`;
+  log(
+    `reference work (fixed, CPU time, least of three): ${refText(referenceBefore)}; ` +
+      `it rises when the host gives this machine less, and every CPU figure below with it`,
+  );
 
   const warm = await closedLoop(stations, 2 * STATIONS, 'WARM');
   log(`warm-up: ${warm.results} results, ${warm.errors} errors`);
@@ -540,6 +652,7 @@ async function main(): Promise<number> {
     stations: process.cpuUsage().user / 1e6 + process.cpuUsage().system / 1e6,
   });
   const cpuBefore = cpuNow();
+  const machineBefore = machineCpuSeconds();
   const xactsBefore = await transactionCount(ownerUrl.toString());
   const superuserUrl = `postgres://postgres@/${DB_NAME}?host=${encodeURIComponent(pgHandle.socketDir)}&port=${pgHandle.port}`;
   const statements = pgHandle.external ? null : await statementStats(superuserUrl);
@@ -561,6 +674,18 @@ async function main(): Promise<number> {
       `post → result p50 ${ms(percentile(closed.latencies, 50))}, p95 ${ms(percentile(closed.latencies, 95))}, p99 ${ms(percentile(closed.latencies, 99))}; ${closed.held} units held for repair (not retested); ${closed.errors} errors; load average ${load()}`,
   );
   const travelers = await watch.drain(TRAVELER_DRAIN_LIMIT_MS);
+  {
+    const st = await loopStages(ownerUrl.toString(), 'LOAD');
+    const p = (xs: number[]) => `p50 ${ms(percentile(xs, 50))}, p95 ${ms(percentile(xs, 95))}`;
+    log(
+      `closed loop by step at the stations: post answered ${p(closed.steps.post)}; then result ${p(closed.steps.result)}; ` +
+        `then confirmation answered ${p(closed.steps.confirm)}; a station's whole cycle ${ms((closed.seconds * 1000 * STATIONS) / Math.max(1, closed.results))} on average`,
+    );
+    log(
+      `closed loop by stage: measurement stored → its calibration started p50 ${ms(percentile(st.queued, 50))}, p95 ${ms(percentile(st.queued, 95))}; ` +
+        `calibration started → traveler stored p50 ${ms(percentile(st.traveler, 50))}, p95 ${ms(percentile(st.traveler, 95))}`,
+    );
+  }
   await watch.close();
   const lagP95 = percentile(travelers.lags, 95);
   log(
@@ -571,6 +696,7 @@ async function main(): Promise<number> {
   );
 
   const cpuAfter = cpuNow();
+  const machineAfter = machineCpuSeconds();
   const pgKinds = await pgSampler?.stop();
   const xactsPerUnit =
     ((await transactionCount(ownerUrl.toString())) - xactsBefore) / Math.max(1, closed.results);
@@ -588,6 +714,19 @@ async function main(): Promise<number> {
       `→ ${productMs.toFixed(1)} ms a unit, ${(1000 / productMs).toFixed(0)} units a second per core of this machine` +
       ` (the simulated stations in this process: ${cpuPerUnitMs.stations} ms); load average ${load()}`,
   );
+  {
+    const busy = machineAfter.busy - machineBefore.busy;
+    const all = busy + machineAfter.idle - machineBefore.idle + machineAfter.steal - machineBefore.steal;
+    const ours = Object.keys(cpuAfter).reduce(
+      (sum, k) => sum + cpuAfter[k as keyof typeof cpuAfter] - cpuBefore[k as keyof typeof cpuBefore],
+      0,
+    );
+    log(
+      `the machine over the same span: ${((100 * busy) / Math.max(all, 1e-9)).toFixed(0)} % busy, ` +
+        `${((100 * (machineAfter.steal - machineBefore.steal)) / Math.max(all, 1e-9)).toFixed(1)} % stolen by the hypervisor; ` +
+        `the bench's processes ${ours.toFixed(1)} of ${busy.toFixed(1)} busy CPU-seconds (the rest is other work on the machine)`,
+    );
+  }
   log(
     `transactions per unit over the same span (PostgreSQL's commits and rollbacks in the bench database, ` +
       `pg-boss's polling and the traveler backlog included): ${xactsPerUnit.toFixed(1)}`,
@@ -617,6 +756,16 @@ async function main(): Promise<number> {
       `(target p95 ≤ ${TARGETS.openLoopP95Ms} ms at ${TARGETS.openLoopRate} posts/s: ${OPEN_RATE === TARGETS.openLoopRate ? verdict(percentile(open.latencies, 95) <= TARGETS.openLoopP95Ms) : 'not judged at this rate'}); load average ${load()}`,
   );
 
+  const stages = await loopStages(ownerUrl.toString(), 'OPEN');
+  log(
+    `open loop by stage: the post answered p50 ${ms(percentile(open.postMs, 50))}, p95 ${ms(percentile(open.postMs, 95))}; ` +
+      `measurement stored → its calibration started p50 ${ms(percentile(stages.queued, 50))}, p95 ${ms(percentile(stages.queued, 95))}; ` +
+      `calibration started → traveler stored p50 ${ms(percentile(stages.traveler, 50))}, p95 ${ms(percentile(stages.traveler, 95))}`,
+  );
+
+  const referenceAfter = referenceWorkMs();
+  log(`reference work at the end: ${refText(referenceAfter)} (at the start: ${refText(referenceBefore)})`);
+
   const ratio = throughput / rawRate;
   log(
     `throughput / raw commit rate = ${throughput.toFixed(0)} / ${rawRate.toFixed(0)} = ${ratio.toFixed(3)} (target ≥ ${TARGETS.ratioToRawCommit}: ${verdict(ratio >= TARGETS.ratioToRawCommit)}); load average ${load()} at the end`,
@@ -624,6 +773,7 @@ async function main(): Promise<number> {
   process.stdout.write(
     `${JSON.stringify({
       rawInsertsPerSecond: Math.round(rawRate),
+      referenceWorkMs: { start: referenceBefore, end: referenceAfter },
       calibrationsPerSecond: Math.round(throughput * 10) / 10,
       ratio: Math.round(ratio * 1000) / 1000,
       closedLatencyMs: {

@@ -217,6 +217,11 @@ export interface StationSimReport {
   errors: number;
   /** Post → result times, ms, in the order they completed. */
   latenciesMs: number[];
+  /**
+   * The same cycles by step, ms: the post answered, then the result arrived, then the confirmation of a
+   * pass answered (benchmarks read where a unit's time goes).
+   */
+  stepsMs: { post: number[]; result: number[]; confirm: number[] };
   /** Reference readings taken because the station was locked (overdue or failed). */
   qualifications: number;
 }
@@ -261,6 +266,7 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
     held: 0,
     errors: 0,
     latenciesMs: [],
+    stepsMs: { post: [], result: [], confirm: [] },
     qualifications: 0,
   };
   const pace = pacer(o.ratePerSecond);
@@ -314,10 +320,14 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
         const t0 = performance.now();
         const accepted = await postUnlocked(m);
         report.posted++;
+        const t1 = performance.now();
+        report.stepsMs.post.push(t1 - t0);
         const waitMs = o.resultTimeoutMs ?? 30_000;
         const cal = await o.http.result(accepted.resultUrl, waitMs);
         if (!cal) throw new StationHttpError(`${serial}: no result within ${waitMs / 1000} s`, null, null);
-        report.latenciesMs.push(performance.now() - t0);
+        const t2 = performance.now();
+        report.latenciesMs.push(t2 - t0);
+        report.stepsMs.result.push(t2 - t1);
         if (cal.verdict === 'unusable') continue;
         gotResult = true;
         if (cal.verdict === 'pass' && cal.offsetCounts !== null) {
@@ -326,6 +336,7 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
             readBackCounts: cal.offsetCounts,
             checksum: calibrationBlockChecksum(serial, cal.offsetCounts),
           });
+          report.stepsMs.confirm.push(performance.now() - t2);
           report.passed++;
           break;
         }
