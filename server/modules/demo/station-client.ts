@@ -256,8 +256,47 @@ function pacer(rate: number) {
   };
 }
 
+/** The first measurement of some of a simulator's units, made ahead (see `prepareStationSim`). */
+interface PreparedRuns {
+  truths: ReturnType<typeof drawUnit>[];
+  first: Map<number, { rng: ReturnType<typeof createRng>; m: Measurement }>;
+}
+
+function unitTruths(o: StationSimOptions) {
+  const unitRng = createRng(o.seed);
+  return Array.from({ length: o.units }, () => drawUnit(o.model, unitRng, { badRate: o.badRate ?? 0.03 }));
+}
+
+const unitRngOf = (o: StationSimOptions, index: number) =>
+  createRng((o.seed * 7919 + index * 104729 + 1) >>> 0);
+const unitSerialOf = (o: StationSimOptions, index: number) =>
+  `${o.serialPrefix}-${String(index + 1).padStart(5, '0')}`;
+
+/**
+ * A simulator whose first `units` units have their first measurement made now, before `run` is called
+ * (the same measurements `runStationSim` would make). For benchmarks: making a measurement costs the
+ * simulator a few milliseconds of CPU, which a real station spends on its own machine, and dozens of
+ * simulators in one process otherwise stall each other's requests while they make them.
+ */
+export function prepareStationSim(o: StationSimOptions, units: number) {
+  const truths = unitTruths(o);
+  const first = new Map<number, { rng: ReturnType<typeof createRng>; m: Measurement }>();
+  for (let index = 0; index < Math.min(units, o.units); index++) {
+    const rng = unitRngOf(o, index);
+    const m = simulateRun(o.model, truths[index], { rig: o.rig, attempt: 1 }, rng, {
+      measurementId: crypto.randomUUID(),
+      serial: unitSerialOf(o, index),
+    });
+    first.set(index, { rng, m });
+  }
+  return { run: () => runStationSim(o, { truths, first }) };
+}
+
 /** Runs one simulated station over `units` units and reports what happened. */
-export async function runStationSim(o: StationSimOptions): Promise<StationSimReport> {
+export async function runStationSim(
+  o: StationSimOptions,
+  prepared?: PreparedRuns,
+): Promise<StationSimReport> {
   const report: StationSimReport = {
     posted: 0,
     calibrated: 0,
@@ -296,15 +335,13 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
       }
     }
   };
-  const unitRng = createRng(o.seed);
-  const truths = Array.from({ length: o.units }, () =>
-    drawUnit(o.model, unitRng, { badRate: o.badRate ?? 0.03 }),
-  );
+  const truths = prepared?.truths ?? unitTruths(o);
   let next = 0;
 
   const runUnit = async (index: number) => {
-    const rng = createRng((o.seed * 7919 + index * 104729 + 1) >>> 0);
-    const serial = `${o.serialPrefix}-${String(index + 1).padStart(5, '0')}`;
+    const made = prepared?.first.get(index);
+    const rng = made?.rng ?? unitRngOf(o, index);
+    const serial = unitSerialOf(o, index);
     let gotResult = false;
     for (let run = 1; run <= o.model.recipe.maxAttempts + 2; run++) {
       if (o.budget) {
@@ -312,10 +349,13 @@ export async function runStationSim(o: StationSimOptions): Promise<StationSimRep
         o.budget.left--;
       }
       await pace();
-      const m = simulateRun(o.model, truths[index], { rig: o.rig, attempt: run }, rng, {
-        measurementId: crypto.randomUUID(),
-        serial,
-      });
+      const m =
+        run === 1 && made
+          ? made.m
+          : simulateRun(o.model, truths[index], { rig: o.rig, attempt: run }, rng, {
+              measurementId: crypto.randomUUID(),
+              serial,
+            });
       try {
         const t0 = performance.now();
         const accepted = await postUnlocked(m);
