@@ -2,6 +2,7 @@ import { randomBytes } from 'node:crypto';
 import pg from 'pg';
 import { inject } from 'vitest';
 import { createDatabase, type Database } from '#server/db/client';
+import { dropDatabaseForce } from './drop-database';
 
 export interface TestDatabase extends Database {
   /** The app role on this database: what the server, the worker and `db`/`pool` here connect as. */
@@ -68,7 +69,7 @@ export function openTestDatabase(name: string): TestDatabase {
       const a = new pg.Client({ connectionString: adminUrl });
       await a.connect();
       try {
-        await a.query(`drop database if exists "${name}" with (force)`);
+        await dropDatabaseForce(a, name);
       } finally {
         await a.end();
       }

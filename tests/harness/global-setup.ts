@@ -2,6 +2,7 @@ import pg from 'pg';
 import type { TestProject } from 'vitest/node';
 import { ensurePostgres, ensureReplica } from '#server/ops/pg-local.mjs';
 import { migrateDatabase } from '#server/db/migrate';
+import { dropDatabaseForce } from './drop-database';
 
 /** Databases of a run are named after the process that ran its global setup. */
 const runTag = `${process.pid}`;
@@ -49,7 +50,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
   );
   for (const r of rows) {
     const pid = Number(/^pw_(?:t|tpl)_(\d+)/.exec(r.datname)?.[1]);
-    if (!alive(pid)) await admin.query(`drop database if exists "${r.datname}" with (force)`);
+    if (!alive(pid)) await dropDatabaseForce(admin, r.datname);
   }
   // The standby is made (or reused) while the server holds only the template databases: seconds.
   let replica: Awaited<ReturnType<typeof ensureReplica>> = null;
@@ -73,7 +74,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
   project.provide('replicaSuperuserUrl', replica?.superuserUrl ?? '');
   project.provide('replicaError', replicaError);
   return async () => {
-    await admin.query(`drop database if exists "${TEMPLATE_DB}" with (force)`);
+    await dropDatabaseForce(admin, TEMPLATE_DB);
     await admin.end();
   };
 }
