@@ -9,8 +9,8 @@
  * loads the control chart became one of the page's longest tasks. Done here, it runs while the page waits for
  * the network after its first render, alone in its task.
  */
-export function warmIntlSoon(schedule: (run: () => void) => void = idle): void {
-  schedule(() => {
+export function warmIntlSoon(): void {
+  idle(() => {
     // The numbers first (the dearer part), then the dates, in a task after it.
     new Intl.NumberFormat(navigator.language).format(1.5);
     setTimeout(() => {

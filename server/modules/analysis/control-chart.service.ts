@@ -53,18 +53,17 @@ function pointsOf(line: ChartLine, plotted: Plotted[], hits: readonly RuleHit[],
       point.value = line.values[i];
       point.rules = rules;
       points[i] = point;
-    } else
-      points[i] =
-        p.period === undefined
-          ? { serial: p.serial, unitIds: p.unitIds, computedAt: p.computedAt, value: line.values[i], rules }
-          : {
-              serial: p.serial,
-              unitIds: p.unitIds,
-              computedAt: p.computedAt,
-              value: line.values[i],
-              rules,
-              period: p.period,
-            };
+    } else {
+      const point: Point = {
+        serial: p.serial,
+        unitIds: p.unitIds,
+        computedAt: p.computedAt,
+        value: line.values[i],
+        rules,
+      };
+      if (p.period !== undefined) point.period = p.period;
+      points[i] = point;
+    }
   }
   return points;
 }

@@ -163,7 +163,6 @@ export interface SortedOrder {
 const MAX_CHANGES = 256;
 const MAX_CHANGED_ROWS = 200_000;
 
-/** The rows of one model and purpose, in production order, as columns. */
 /** A column of codes: 16 bits until a code needs more. */
 export type Codes = Int16Array | Int32Array;
 
@@ -173,6 +172,7 @@ export function fitted(column: Codes, code: number): Codes {
   return Int32Array.from(column);
 }
 
+/** The rows of one model and purpose, in production order, as columns. */
 export class Partition {
   length = 0;
   /**
