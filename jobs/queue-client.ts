@@ -77,6 +77,12 @@ export function hotQueueTexts(schema: string): Set<string> {
  * custom plan prunes the other queues' partitions when it is made, so PostgreSQL would otherwise plan them
  * every time; the generic plan prunes them when it runs). Everything else (maintenance, schedules, queue
  * set-up, multi-statement texts) goes as pg-boss sends it, over the other pool.
+ *
+ * The hot connections also commit without waiting for the WAL flush (`synchronous_commit=off`): a fetch
+ * (job → active), a completion or a failure that a crash of the database loses within its last fraction of
+ * a second leaves the job to be fetched again (or expired and retried), and every job is safe to run twice.
+ * The commits that matter (a measurement, a calibration, a traveler) are the producers' own, and stay
+ * synchronous; any later synchronous commit flushes the WAL written before it, these records included.
  */
 class QueueDb extends EventEmitter {
   readonly opened = true;
@@ -88,7 +94,11 @@ class QueueDb extends EventEmitter {
     super();
     const base = { connectionString: url, application_name: 'phasewright-queue' };
     this.pool = new pg.Pool({ ...base, max: 2 });
-    this.hotPool = new pg.Pool({ ...base, max, options: '-c plan_cache_mode=force_generic_plan' });
+    this.hotPool = new pg.Pool({
+      ...base,
+      max,
+      options: '-c plan_cache_mode=force_generic_plan -c synchronous_commit=off',
+    });
     for (const p of [this.pool, this.hotPool]) p.on('error', (err) => this.emit('error', err));
   }
 
