@@ -1,8 +1,17 @@
-import { computeCalibration } from '#server/modules/measurements/measurements.service';
+import { computeCalibrations } from '#server/modules/measurements/measurements.service';
 import type { QueuePayload } from './queues';
 import type { WorkerDeps } from './worker-deps';
 
-/** Computes one stored measurement with one recipe version; a second run finds the result and stops. */
-export function runCalibrationCompute(deps: WorkerDeps, payload: QueuePayload<'calibrationCompute'>) {
-  return computeCalibration({ db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock }, payload);
+/**
+ * Computes a fetched batch of stored measurements, each with its recipe version (one claim for the batch,
+ * one commit a calibration); a second run of a job finds its result and stops. One outcome a job: an Error
+ * fails that job alone (and pg-boss retries it).
+ */
+export async function runCalibrationComputes(
+  deps: WorkerDeps,
+  payloads: QueuePayload<'calibrationCompute'>[],
+): Promise<(Error | undefined)[]> {
+  const ctx = { db: deps.db, pool: deps.pool, queue: deps.queue, clock: deps.clock };
+  const outcomes = await computeCalibrations(ctx, payloads);
+  return outcomes.map((o) => (o instanceof Error ? o : undefined));
 }

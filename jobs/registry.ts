@@ -2,7 +2,7 @@ import type { z } from 'zod';
 import type { queues } from './queues';
 import type { WorkerDeps } from './worker-deps';
 import { runHousekeeping } from './housekeeping.job';
-import { runCalibrationCompute } from './calibration-compute.job';
+import { runCalibrationComputes } from './calibration-compute.job';
 import { runTravelerRenders } from './traveler-render.job';
 import { runWhatIfJob } from './what-if-run.job';
 import { runChartWatch } from './chart-watch.job';
@@ -62,7 +62,7 @@ function job<K extends keyof typeof queues>(
 /** Every job the worker runs, one line each. */
 // prettier-ignore
 export const jobRegistry: JobDef[] = [
-  job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 4, yieldsTo: { queue: 'travelerRender', pressure: RENDER_BACK_PRESSURE }, handler: runCalibrationCompute }),
+  job({ queue: 'calibrationCompute', batchSize: 8, concurrency: 2, yieldsTo: { queue: 'travelerRender', pressure: RENDER_BACK_PRESSURE }, batchHandler: runCalibrationComputes }),
   job({ queue: 'travelerRender', batchSize: 16, concurrency: 2, gatherMs: 250, batchHandler: runTravelerRenders }),
   job({ queue: 'whatIfRun', batchSize: 1, concurrency: 1, handler: runWhatIfJob }),
   job({ queue: 'chartWatch', batchSize: 1000, concurrency: 1, coalesce: true, pollSeconds: 10, handler: runChartWatch }),

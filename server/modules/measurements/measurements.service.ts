@@ -10,7 +10,7 @@ import { measurementErrors } from './measurements.errors';
  * and the jobs import from here.
  */
 export { acceptMeasurement, measurementFromCapture } from './intake/intake.service';
-export { computeCalibration } from './compute/compute.service';
+export { computeCalibration, computeCalibrations } from './compute/compute.service';
 export { runEngine } from './compute/run-engine';
 export { requestRecompute } from './recompute/recompute.service';
 export { confirmProgramming } from './programming/programming.service';

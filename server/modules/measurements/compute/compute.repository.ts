@@ -29,47 +29,83 @@ export interface MeasurementToCompute {
 }
 
 /**
- * The measurement, its unit's attempts so far, whether this job already ran, and the "computing" event,
- * in one statement. Posted timings come as their posted text when that text is the canonical one (its
- * SHA-256 is the stored hash of the canonical text, which the JSONB `payload` holds parsed): PostgreSQL then
- * only decompresses the text instead of writing the JSONB out as text again, number by number (about five
- * times the CPU). Any other body comes as `payload`, as before.
+ * The measurements of a batch of jobs, each with its unit's attempts so far, whether its job already ran, and
+ * its "computing" event, in one statement (a round trip costs more than the engine). Posted timings come as
+ * their posted text when that text is the canonical one (its SHA-256 is the stored hash of the canonical text,
+ * which the JSONB `payload` holds parsed): PostgreSQL then only decompresses the text instead of writing the
+ * JSONB out as text again, number by number (about five times the CPU). Any other body comes as `payload`.
+ * `at` is the job's place in the batch (from 1); a job whose measurement does not exist has no row.
  */
 const claimStatement = namedStatement<{
-  measurementPk: string;
-  recipeId: string;
+  measurementPks: string[];
+  recipeIds: string[];
   engineVersion: string;
   eventsChannel: string;
   atText: string;
 }>(
-  `with d as (select id from calibrations where measurement_pk = $measurementPk and recipe_id = $recipeId and engine_version = $engineVersion)
-     select m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source,
+  `with j as (select * from unnest($measurementPks::uuid[], $recipeIds::uuid[]) with ordinality as j(pk, recipe_id, at))
+     select j.at::int as at, m.id, m.measurement_id, m.station_id, m.unit_id, m.serial, m.source,
             case when not k.canonical then m.payload end as payload,
             case when m.source = 'capture' or k.canonical then m.payload_raw end as payload_raw,
             k.canonical as raw_is_canonical,
-            (select id from d) as done_id, u.attempts as unit_attempts, u.serial as unit_serial,
-            case when not exists (select 1 from d) then pg_notify($eventsChannel, json_build_object(
+            d.id as done_id, u.attempts as unit_attempts, u.serial as unit_serial,
+            case when d.id is null then pg_notify($eventsChannel, json_build_object(
               'type', 'calibration.computing', 'stationId', m.station_id, 'unitId', m.unit_id,
               'serial', m.serial, 'measurementId', m.measurement_id, 'at', $atText::text)::text) end as notified
-       from measurements m join units u on u.id = m.unit_id
+       from j join measurements m on m.id = j.pk join units u on u.id = m.unit_id
+            left join lateral (select id from calibrations
+                                where measurement_pk = j.pk and recipe_id = j.recipe_id
+                                  and engine_version = $engineVersion limit 1) d on true
             cross join lateral (select m.source = 'timings'
               and encode(sha256(convert_to(m.payload_raw, 'UTF8')), 'hex') = m.payload_sha256 as canonical) k
-      where m.id = $measurementPk`,
+      order by j.at`,
 );
 
+/** One job's measurement to compute (see `claimMeasurements`). */
+export interface ClaimRequest {
+  measurementPk: string;
+  recipeId: string;
+}
+
+/**
+ * Claims the measurements of a batch of jobs in one statement; the answer is in the jobs' order, undefined
+ * for a job whose measurement does not exist.
+ */
+export async function claimMeasurements(
+  pool: pg.Pool,
+  jobs: readonly ClaimRequest[],
+  values: { engineVersion: string; eventsChannel: string; atText: string },
+): Promise<(MeasurementToCompute | undefined)[]> {
+  const { rows } = await pool.query<
+    Omit<MeasurementToCompute, 'payload'> & {
+      at: number;
+      payload: Measurement | null;
+      raw_is_canonical: boolean;
+    }
+  >(
+    claimStatement({
+      ...values,
+      measurementPks: jobs.map((j) => j.measurementPk),
+      recipeIds: jobs.map((j) => j.recipeId),
+    }),
+  );
+  const out: (MeasurementToCompute | undefined)[] = jobs.map(() => undefined);
+  for (const r of rows) {
+    const { raw_is_canonical, payload, at, ...rest } = r;
+    out[at - 1] = raw_is_canonical
+      ? { ...rest, payload: JSON.parse(r.payload_raw!) as Measurement, payload_raw: null }
+      : { ...rest, payload: payload! };
+  }
+  return out;
+}
+
+/** One job's claim (see `claimMeasurements`). */
 export async function claimMeasurement(
   pool: pg.Pool,
-  values: Parameters<typeof claimStatement>[0],
+  values: ClaimRequest & { engineVersion: string; eventsChannel: string; atText: string },
 ): Promise<MeasurementToCompute | undefined> {
-  const { rows } = await pool.query<
-    Omit<MeasurementToCompute, 'payload'> & { payload: Measurement | null; raw_is_canonical: boolean }
-  >(claimStatement(values));
-  const r = rows[0];
-  if (!r) return undefined;
-  const { raw_is_canonical, payload, ...rest } = r;
-  return raw_is_canonical
-    ? { ...rest, payload: JSON.parse(r.payload_raw!) as Measurement, payload_raw: null }
-    : { ...rest, payload: payload! };
+  const { measurementPk, recipeId, ...rest } = values;
+  return (await claimMeasurements(pool, [{ measurementPk, recipeId }], rest))[0];
 }
 
 /** The unit's counters, locked until the transaction ends (one calibration of a unit at a time). */

@@ -8,12 +8,16 @@ import { calibrationOfKey } from '#server/modules/calibrations/calibrations.repo
 import type { MeasurementsContext } from '../measurements.context';
 import { recomputeCalibration, type RecomputeRequest } from '../recompute/recompute.service';
 import {
-  claimMeasurement,
+  claimMeasurements,
   commitStationCalibration,
   lockUnitForCalibration,
+  type MeasurementToCompute,
   type StationCalibrationCommit,
 } from './compute.repository';
 import { runEngine } from './run-engine';
+
+type ComputeJob = { measurementPk: string; recipeId: string; recompute?: RecomputeRequest };
+type Computed = { calibrationId: string; created: boolean };
 
 /**
  * Computes one measurement with one recipe version and commits the calibration, the unit's new
@@ -22,19 +26,50 @@ import { runEngine } from './run-engine';
  * Round trips are kept few on purpose (each costs more than the computation itself): the usual
  * calibration is two statements, the claim and the commit.
  */
-export async function computeCalibration(
+export async function computeCalibration(ctx: MeasurementsContext, job: ComputeJob): Promise<Computed> {
+  const [out] = await computeCalibrations(ctx, [job]);
+  if (out instanceof Error) throw out;
+  return out;
+}
+
+/**
+ * Computes a batch of jobs (a worker's fetch): their measurements are claimed in one statement, then each is
+ * computed and its commit sent without waiting for the one before (the engine's work for the next
+ * measurement overlaps the commits in flight), so a batch costs one round trip, plus one a calibration. One
+ * outcome a job, in order: its calibration, or the Error that failed it alone. A recomputation (an
+ * engineer's) runs on its own, as before.
+ */
+export async function computeCalibrations(
   ctx: MeasurementsContext,
-  job: { measurementPk: string; recipeId: string; recompute?: RecomputeRequest },
-): Promise<{ calibrationId: string; created: boolean }> {
-  if (job.recompute) return recomputeCalibration(ctx, job as Required<typeof job>);
-  const measurement = await claimMeasurement(ctx.pool, {
-    measurementPk: job.measurementPk,
-    recipeId: job.recipeId,
-    engineVersion: ENGINE_VERSION,
-    eventsChannel: EVENTS_CHANNEL,
-    atText: ctx.clock().toISOString(),
-  });
-  if (!measurement) throw new Error(`measurement ${job.measurementPk} does not exist`);
+  jobs: readonly ComputeJob[],
+): Promise<(Computed | Error)[]> {
+  const station = jobs.filter((job) => !job.recompute);
+  const claimed = station.length
+    ? await claimMeasurements(ctx.pool, station, {
+        engineVersion: ENGINE_VERSION,
+        eventsChannel: EVENTS_CHANNEL,
+        atText: ctx.clock().toISOString(),
+      })
+    : [];
+  const claimOf = new Map(station.map((job, k) => [job, claimed[k]]));
+  const settle = (run: () => Promise<Computed>) =>
+    run().catch((e: unknown) => (e instanceof Error ? e : new Error(String(e))));
+  return Promise.all(
+    jobs.map((job) => {
+      if (job.recompute) return settle(() => recomputeCalibration(ctx, job as Required<ComputeJob>));
+      const measurement = claimOf.get(job);
+      if (!measurement) return new Error(`measurement ${job.measurementPk} does not exist`);
+      return settle(() => finishCalibration(ctx, job, measurement));
+    }),
+  );
+}
+
+/** A claimed measurement's computation and commit (see `computeCalibration`). */
+async function finishCalibration(
+  ctx: MeasurementsContext,
+  job: ComputeJob,
+  measurement: MeasurementToCompute,
+): Promise<Computed> {
   if (measurement.done_id) return { calibrationId: measurement.done_id, created: false };
   const recipe = await releasedRecipe(ctx.db, job.recipeId);
 
