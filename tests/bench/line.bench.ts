@@ -62,6 +62,8 @@ const TARGETS = {
 };
 const TRAVELER_DRAIN_LIMIT_MS = 120_000;
 const RENDER_NICE = process.env.BENCH_LINE_RENDER_NICE ?? '10';
+// Renderer processes (`npm start`'s SCALE_RENDERERS); BENCH_LINE_RENDERERS tries another number.
+const RENDERERS = Math.max(1, Number(process.env.BENCH_LINE_RENDERERS ?? 1) || 1);
 // The renderer's node options under `npm start`; BENCH_LINE_RENDER_NODE_OPTIONS tries others ('' for none).
 const RENDER_NODE_OPTIONS = process.env.BENCH_LINE_RENDER_NODE_OPTIONS ?? RENDERER_NODE_OPTIONS;
 // The API process's V8 flags under `npm start`; BENCH_LINE_API_NODE_FLAGS tries others ('' for none).
@@ -170,7 +172,9 @@ function referenceWorkMs(): { compute: number; memory: number } {
   const buffer = Buffer.alloc(16 << 20, 7);
   const table = new Int32Array(16 << 20);
   for (let i = 0; i < table.length; i++) table[i] = (i * 2654435761) >>> 8;
-  const doc = { timings: Array.from({ length: 400 }, (_, i) => ({ edge: i, t: i * 1.2345e-4, kind: 'hall' })) };
+  const doc = {
+    timings: Array.from({ length: 400 }, (_, i) => ({ edge: i, t: i * 1.2345e-4, kind: 'hall' })),
+  };
   const cpuMs = (fn: () => number) => {
     let best = Infinity;
     let sink = 0;
@@ -608,10 +612,17 @@ async function main(): Promise<number> {
       quiet: !process.env.BENCH_LINE_VERBOSE,
     }),
     // Renders run at the niceness `npm start` gives them (BENCH_LINE_RENDER_NICE tries another).
-    startService('renderer', 'nice', ['-n', RENDER_NICE, ...node('jobs/worker.ts').flat()], {
-      env: { ...env, WORKER_QUEUES: 'traveler-render', NODE_OPTIONS: RENDER_NODE_OPTIONS },
-      quiet: !process.env.BENCH_LINE_VERBOSE,
-    }),
+    ...Array.from({ length: RENDERERS }, (_, i) =>
+      startService(
+        i ? `renderer-${i + 1}` : 'renderer',
+        'nice',
+        ['-n', RENDER_NICE, ...node('jobs/worker.ts').flat()],
+        {
+          env: { ...env, WORKER_QUEUES: 'traveler-render', NODE_OPTIONS: RENDER_NODE_OPTIONS },
+          quiet: !process.env.BENCH_LINE_VERBOSE,
+        },
+      ),
+    ),
   );
 
   const database = createDatabase(databaseUrl, { max: 4, applicationName: 'phasewright-bench' });
@@ -649,11 +660,11 @@ async function main(): Promise<number> {
   log(`warm-up: ${warm.results} results, ${warm.errors} errors`);
   for (const e of warm.errorSamples) log(`warm-up error: ${e}`);
 
-  const [serverSvc, workerSvc, rendererSvc] = services;
+  const [serverSvc, workerSvc, ...rendererSvcs] = services;
   const cpuNow = () => ({
     server: treeCpuSeconds(serverSvc.child.pid),
     worker: treeCpuSeconds(workerSvc.child.pid),
-    renderer: treeCpuSeconds(rendererSvc.child.pid),
+    renderer: rendererSvcs.reduce((sum, r) => sum + treeCpuSeconds(r.child.pid), 0),
     postgres: treeCpuSeconds(postmasterPid(pgHandle.dataDir)),
     stations: process.cpuUsage().user / 1e6 + process.cpuUsage().system / 1e6,
   });
