@@ -5,7 +5,7 @@ import { EVENTS_CHANNEL } from '#server/modules/events/event-hub';
 import { createTestApp, type TestApp } from '#tests/harness/test-app';
 import { createLineFixture } from '#tests/harness/line-fixtures';
 import { simulatedMeasurement } from '#tests/harness/measurements';
-import { claimMeasurement } from './compute.repository';
+import { claimMeasurements } from './compute.repository';
 
 let t: TestApp;
 let line: Awaited<ReturnType<typeof createLineFixture>>;
@@ -32,13 +32,11 @@ async function postAndClaim(text: string, measurementId: string) {
   );
   // Stored exactly as posted, however the text travelled to the database.
   expect(rows[0].payload_raw).toBe(text);
-  const claimed = await claimMeasurement(t.deps.pool, {
-    measurementPk: rows[0].id,
-    recipeId: line.recipe.id,
-    engineVersion: ENGINE_VERSION,
-    eventsChannel: EVENTS_CHANNEL,
-    atText: new Date().toISOString(),
-  });
+  const [claimed] = await claimMeasurements(
+    t.deps.pool,
+    [{ measurementPk: rows[0].id, recipeId: line.recipe.id }],
+    { engineVersion: ENGINE_VERSION, eventsChannel: EVENTS_CHANNEL, atText: new Date().toISOString() },
+  );
   return { claimed: claimed!, stored: rows[0].payload };
 }
 

@@ -99,15 +99,6 @@ export async function claimMeasurements(
   return out;
 }
 
-/** One job's claim (see `claimMeasurements`). */
-export async function claimMeasurement(
-  pool: pg.Pool,
-  values: ClaimRequest & { engineVersion: string; eventsChannel: string; atText: string },
-): Promise<MeasurementToCompute | undefined> {
-  const { measurementPk, recipeId, ...rest } = values;
-  return (await claimMeasurements(pool, [{ measurementPk, recipeId }], rest))[0];
-}
-
 /** The unit's counters, locked until the transaction ends (one calibration of a unit at a time). */
 export async function lockUnitForCalibration(
   client: pg.PoolClient,
